@@ -1,0 +1,45 @@
+package backstate.estimation;
+
+import java.util.List;
+import java.util.Set;
+
+/**
+ * A solved back-estimate. Vectors over the unknowns are ordered x0 (n) then offsets (p, when
+ * estimated); matrices are row-major.
+ *
+ * @param unknownNames         name of each unknown in vector order
+ * @param solution             estimated unknowns (x̂0, then offsets)
+ * @param covariance           covariance of the unknowns with the given/assumed σ (q×q)
+ * @param standardErrors       square roots of the covariance diagonal
+ * @param sigmaScale           σ̂ = sqrt(χ²/dof), the factor the residuals suggest for σ (NaN when dof = 0)
+ * @param standardErrorsScaled standard errors scaled by σ̂
+ * @param intervalLower        lower ends of the 95 % confidence intervals
+ * @param intervalUpper        upper ends of the 95 % confidence intervals
+ * @param reference            the state at the options' reference time, or null
+ * @param conditioning         information matrix, eigen-structure and rank
+ * @param channels             residual diagnostics per output channel
+ * @param chiSquare            weighted residual sum of squares (prior misfit included)
+ * @param degreesOfFreedom     equations (data plus prior) minus unknowns
+ * @param chiSquareP           upper-tail p-value of χ² (NaN when dof = 0)
+ * @param flags                conditions for dashboards
+ * @param series               fitted and residual series, or null when not kept
+ */
+public record Estimate(List<String> unknownNames, double[] solution, double[] covariance, double[] standardErrors,
+                       double sigmaScale, double[] standardErrorsScaled, double[] intervalLower,
+                       double[] intervalUpper, ReferenceState reference, Conditioning conditioning,
+                       List<ChannelDiagnostics> channels, double chiSquare, int degreesOfFreedom,
+                       double chiSquareP, Set<Flag> flags, Series series) implements EstimationResult {
+
+    /** The state at a chosen time t: x(t) = Φ(t) x0 + forced response, with covariance Φ P Φᵀ. */
+    public record ReferenceState(double time, double[] state, double[] covariance, double[] standardErrors) {
+    }
+
+    /** Fitted outputs and residuals per sample, row-major N×p; NaN residual where y was missing. */
+    public record Series(double[] times, double[] fitted, double[] residuals, int outputCount) {
+    }
+
+    /** The estimated initial state x̂0 (first n unknowns). */
+    public double[] initialState(int states) {
+        return java.util.Arrays.copyOf(solution, states);
+    }
+}

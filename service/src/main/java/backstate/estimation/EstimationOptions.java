@@ -1,0 +1,41 @@
+package backstate.estimation;
+
+/**
+ * Options of one solve.
+ *
+ * @param formulation     sampled (default) or continuous weighting
+ * @param prior           Gaussian prior on x0, or null
+ * @param estimateOffsets also estimate one constant sensor offset per output channel
+ * @param referenceTime   also report the state at this time inside the window, or null
+ * @param keepSeries      return the fitted and residual series (N×p each)
+ * @param mismatchLevel   significance level of the χ² and whiteness tests behind the mismatch flag
+ */
+public record EstimationOptions(Formulation formulation, Prior prior, boolean estimateOffsets,
+                                Double referenceTime, boolean keepSeries, double mismatchLevel) {
+    /** Default test level for the model-mismatch flag: 0.1 %, strict enough that a long good trace rarely trips it. */
+    public static final double DEFAULT_MISMATCH_LEVEL = 1e-3;
+
+    public static EstimationOptions defaults() {
+        return new EstimationOptions(Formulation.SAMPLED, null, false, null, true, DEFAULT_MISMATCH_LEVEL);
+    }
+
+    public EstimationOptions withPrior(Prior p) {
+        return new EstimationOptions(formulation, p, estimateOffsets, referenceTime, keepSeries, mismatchLevel);
+    }
+
+    public EstimationOptions withFormulation(Formulation f) {
+        return new EstimationOptions(f, prior, estimateOffsets, referenceTime, keepSeries, mismatchLevel);
+    }
+
+    public EstimationOptions withOffsets(boolean on) {
+        return new EstimationOptions(formulation, prior, on, referenceTime, keepSeries, mismatchLevel);
+    }
+
+    public EstimationOptions withReferenceTime(Double t) {
+        return new EstimationOptions(formulation, prior, estimateOffsets, t, keepSeries, mismatchLevel);
+    }
+
+    public EstimationOptions withKeepSeries(boolean on) {
+        return new EstimationOptions(formulation, prior, estimateOffsets, referenceTime, on, mismatchLevel);
+    }
+}

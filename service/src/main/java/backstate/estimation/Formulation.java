@@ -1,0 +1,9 @@
+package backstate.estimation;
+
+/** How samples are weighted in the least-squares cost. */
+public enum Formulation {
+    /** Each present sample is one equation weighted by 1/σ²: right for independent sample noise. */
+    SAMPLED,
+    /** The L2 norm over the window, approximated by trapezoid weights on the samples. */
+    CONTINUOUS
+}

@@ -1,0 +1,169 @@
+package backstate.estimation;
+
+import java.util.EnumSet;
+import java.util.List;
+import java.util.Set;
+import org.apache.commons.math3.distribution.NormalDistribution;
+import org.apache.commons.math3.distribution.TDistribution;
+
+/**
+ * Weighted least-squares back-estimate of a unit's initial state x0 (and optional constant sensor
+ * offsets) from one output trace, after removing the known-input forced response.
+ *
+ * <p>Method: sequential Householder QR in square-root information form (Lawson &amp; Hanson 1974,
+ * ch. 27; Bierman 1977, Factorization Methods for Discrete Sequential Estimation, ch. V), so the
+ * information matrix W (the weighted observability Gramian) is neither formed to be inverted nor
+ * backed by the stacked N×q matrix. The estimate solves R θ = z; its covariance is R⁻¹R⁻ᵀ.
+ */
+public final class InitialStateEstimator {
+    /** Two-sided confidence level of the reported intervals. */
+    public static final double CONFIDENCE = 0.95;
+
+    private InitialStateEstimator() {
+    }
+
+    /** Solves one trace; shape errors throw {@link ModelException}, unobservability is returned as a value. */
+    public static EstimationResult solve(StateSpaceModel model, Trace trace, EstimationOptions options) {
+        requireCompatible(model, trace, options);
+        SolveContext ctx = new SolveContext(model, trace, options);
+        EquationPass.Result pass = EquationPass.run(ctx);
+        SquareRootInformation dataInfo = pass.information();
+        ConditioningAnalysis dataOnly = new ConditioningAnalysis(dataInfo.factorR(), ctx.q, dataInfo.equations());
+        if (options.prior() == null) {
+            return dataOnly.rank() < ctx.q ? unobservable(ctx, dataOnly) : finish(ctx, pass, dataInfo, dataOnly, dataOnly);
+        }
+        SquareRootInformation withPrior = dataInfo.copy();
+        PriorEquations.add(withPrior, options.prior(), ctx.n);
+        ConditioningAnalysis full = new ConditioningAnalysis(withPrior.factorR(), ctx.q, withPrior.equations());
+        return full.rank() < ctx.q ? unobservable(ctx, full) : finish(ctx, pass, withPrior, full, dataOnly);
+    }
+
+    private static Unobservable unobservable(SolveContext ctx, ConditioningAnalysis analysis) {
+        return new Unobservable(analysis.nullDirections(), analysis.singularValues(), analysis.tolerance(),
+                ctx.unknownNames());
+    }
+
+    private static Estimate finish(SolveContext ctx, EquationPass.Result pass, SquareRootInformation info,
+                                   ConditioningAnalysis analysis, ConditioningAnalysis dataOnly) {
+        int q = ctx.q;
+        double[] r = info.factorR();
+        double[] solution = Triangular.solveUpper(r, info.rhs(), q);
+        double[] covariance = Triangular.timesOwnTranspose(Triangular.invertUpper(r, q), q);
+        double chiSquare = info.residualSquares();
+        int dof = (int) (info.equations() - q);
+        double sigmaScale = dof > 0 ? Math.sqrt(chiSquare / dof) : Double.NaN;
+        double[] se = diagonalRoots(covariance, q, 1.0);
+        double[] seScaled = diagonalRoots(covariance, q, sigmaScale);
+        ResidualPass.Result residuals = ResidualPass.run(ctx, solution, pass.presentCounts());
+        double chiSquareP = LjungBox.chiSquareUpperTail(chiSquare, dof);
+        Conditioning conditioning = analysis.summary(r, dataOnly.rank());
+        Set<Flag> flags = flags(ctx, conditioning, residuals.channels(), chiSquareP, dof);
+        double[][] interval = intervals(ctx, solution, se, seScaled, dof);
+        return new Estimate(ctx.unknownNames(), solution, covariance, se, sigmaScale, seScaled,
+                interval[0], interval[1], reference(ctx, residuals.referenceState(), covariance), conditioning,
+                residuals.channels(), chiSquare, dof, chiSquareP, flags, residuals.series());
+    }
+
+    private static double[] diagonalRoots(double[] covariance, int q, double scale) {
+        double[] out = new double[q];
+        for (int i = 0; i < q; i++) {
+            out[i] = scale * Math.sqrt(covariance[i * q + i]);
+        }
+        return out;
+    }
+
+    /** Normal quantiles when every σ was given; Student-t with dof when σ is estimated from the residuals. */
+    private static double[][] intervals(SolveContext ctx, double[] x, double[] se, double[] seScaled, int dof) {
+        double tail = 0.5 + CONFIDENCE / 2.0;
+        boolean estimated = !ctx.noise.allGiven();
+        double factor;
+        double[] width;
+        if (estimated && dof > 0) {
+            factor = new TDistribution(null, dof).inverseCumulativeProbability(tail);
+            width = seScaled;
+        } else {
+            factor = new NormalDistribution(null, 0.0, 1.0).inverseCumulativeProbability(tail);
+            width = se;
+        }
+        double[][] out = new double[2][x.length];
+        for (int i = 0; i < x.length; i++) {
+            out[0][i] = x[i] - factor * width[i];
+            out[1][i] = x[i] + factor * width[i];
+        }
+        return out;
+    }
+
+    private static Estimate.ReferenceState reference(SolveContext ctx, double[] state, double[] covariance) {
+        if (state == null) {
+            return null;
+        }
+        double time = ctx.options.referenceTime();
+        int n = ctx.n;
+        long units = ctx.steps.unitsFromStart(time, "referenceTime");
+        double[] phi = units == 0 ? Matrices.identity(n) : ctx.transitions.over(units).transition();
+        double[] pxx = Matrices.block(covariance, ctx.q, 0, 0, n, n);
+        double[] cov = Matrices.multiply(Matrices.multiply(phi, pxx, n, n, n), Matrices.transpose(phi, n, n), n, n, n);
+        for (int i = 0; i < n; i++) {
+            for (int j = i + 1; j < n; j++) {
+                double mean = 0.5 * (cov[i * n + j] + cov[j * n + i]);
+                cov[i * n + j] = mean;
+                cov[j * n + i] = mean;
+            }
+        }
+        return new Estimate.ReferenceState(time, state, cov, diagonalRoots(cov, n, 1.0));
+    }
+
+    private static Set<Flag> flags(SolveContext ctx, Conditioning conditioning, List<ChannelDiagnostics> channels,
+                                   double chiSquareP, int dof) {
+        Set<Flag> flags = EnumSet.noneOf(Flag.class);
+        if (conditioning.dataRank() < ctx.q) {
+            flags.add(Flag.UNOBSERVABLE);
+        }
+        if (conditioning.conditionNumber() > Conditioning.ILL_CONDITIONED_LIMIT) {
+            flags.add(Flag.ILL_CONDITIONED);
+        }
+        if (dof < Conditioning.FEW_SAMPLES_DOF) {
+            flags.add(Flag.FEW_SAMPLES);
+        }
+        if (mismatch(ctx, channels, chiSquareP)) {
+            flags.add(Flag.MODEL_MISMATCH);
+        }
+        return flags;
+    }
+
+    /** χ² test when every σ is known, plus each channel's whiteness test at level/p (Bonferroni). */
+    private static boolean mismatch(SolveContext ctx, List<ChannelDiagnostics> channels, double chiSquareP) {
+        double level = ctx.options.mismatchLevel();
+        if (ctx.noise.allGiven() && chiSquareP < level) {
+            return true;
+        }
+        for (ChannelDiagnostics channel : channels) {
+            if (channel.ljungBoxP() < level / channels.size()) {
+                return true;
+            }
+        }
+        return false;
+    }
+
+    private static void requireCompatible(StateSpaceModel model, Trace trace, EstimationOptions options) {
+        if (trace.outputCount() != model.outputs()) {
+            throw new ModelException("outputs", "got " + trace.outputCount() + " channels, expected "
+                    + model.outputs() + " (the model's outputs)");
+        }
+        if (trace.inputCount() != model.inputs()) {
+            throw new ModelException("inputs", "got " + trace.inputCount() + " channels, expected "
+                    + model.inputs() + " (the model's inputs)");
+        }
+        if (!(options.mismatchLevel() > 0.0 && options.mismatchLevel() < 1.0)) {
+            throw new ModelException("mismatchLevel", "got " + options.mismatchLevel() + ", expected 0 < level < 1");
+        }
+        Double t = options.referenceTime();
+        if (t != null && !(t >= trace.time(0) && t <= trace.time(trace.samples() - 1))) {
+            throw new ModelException("referenceTime", "got " + t + ", expected a time inside the window ["
+                    + trace.time(0) + ", " + trace.time(trace.samples() - 1) + "]");
+        }
+        if (options.prior() != null) {
+            PriorEquations.validate(options.prior(), model.states());
+        }
+    }
+}

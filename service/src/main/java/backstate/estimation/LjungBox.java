@@ -1,0 +1,94 @@
+package backstate.estimation;
+
+import org.apache.commons.math3.special.Gamma;
+
+/**
+ * Streaming Ljung–Box portmanteau statistic Q = N(N+2) Σ_{k=1}^{h} ρ̂_k² / (N − k) of a residual
+ * sequence (Ljung &amp; Box 1978, Biometrika 65(2):297–303), with ρ̂_k the lag-k autocorrelation about
+ * the sample mean. One pass, O(h) memory: lagged products plus the first and last h values,
+ * which give the partial sums needed to centre each lag exactly.
+ */
+final class LjungBox {
+    /** At most 10 lags, and no more than N/5: a common rule for non-seasonal series (from memory; Hyndman &amp; Athanasopoulos, Forecasting: Principles and Practice). */
+    static final int MAX_LAGS = 10;
+    static final int SAMPLES_PER_LAG = 5;
+
+    private final int lags;
+    private final double[] recent;
+    private final double[] first;
+    private final double[] lagProducts;
+    private long count;
+    private double sum;
+    private double sumSquares;
+
+    /** @param expectedCount number of values that will be added (fixes the number of lags) */
+    LjungBox(long expectedCount) {
+        this.lags = lagsFor(expectedCount);
+        this.recent = new double[Math.max(lags, 1)];
+        this.first = new double[Math.max(lags, 1)];
+        this.lagProducts = new double[lags + 1];
+    }
+
+    /** Lags used for a series of this length: min(10, floor(N/5)). */
+    static int lagsFor(long count) {
+        return (int) Math.min(MAX_LAGS, count / SAMPLES_PER_LAG);
+    }
+
+    void add(double r) {
+        for (int k = 1; k <= lags && k <= count; k++) {
+            lagProducts[k] += r * recent[(int) ((count - k) % lags)];
+        }
+        if (count < lags) {
+            first[(int) count] = r;
+        }
+        if (lags > 0) {
+            recent[(int) (count % lags)] = r;
+        }
+        count++;
+        sum += r;
+        sumSquares += r * r;
+    }
+
+    int lags() {
+        return lags;
+    }
+
+    /** Q, or NaN when there are no lags or the series is constant. */
+    double statistic() {
+        if (lags == 0) {
+            return Double.NaN;
+        }
+        double mean = sum / count;
+        double denominator = sumSquares - count * mean * mean;
+        if (!(denominator > 0.0)) {
+            return Double.NaN;
+        }
+        double q = 0.0;
+        double headSum = 0.0;
+        double tailSum = 0.0;
+        for (int k = 1; k <= lags; k++) {
+            headSum += first[k - 1];
+            tailSum += recent[(int) ((count - k) % lags)];
+            double leading = sum - headSum;
+            double lagged = sum - tailSum;
+            double centred = lagProducts[k] - mean * (leading + lagged) + (count - k) * mean * mean;
+            double rho = centred / denominator;
+            q += rho * rho / (count - k);
+        }
+        return count * (count + 2.0) * q;
+    }
+
+    /** Upper-tail χ²(h) probability of Q via the regularised incomplete gamma function (Abramowitz &amp; Stegun 26.4.19). */
+    double pValue() {
+        double q = statistic();
+        return Double.isNaN(q) ? Double.NaN : chiSquareUpperTail(q, lags);
+    }
+
+    /** P(χ²_dof &gt; x) = Q(dof/2, x/2), the regularised upper incomplete gamma (Abramowitz &amp; Stegun 26.4.19). */
+    static double chiSquareUpperTail(double x, double dof) {
+        if (dof <= 0) {
+            return Double.NaN;
+        }
+        return x <= 0.0 ? 1.0 : Gamma.regularizedGammaQ(dof / 2.0, x / 2.0);
+    }
+}
