@@ -18,13 +18,15 @@ import org.apache.commons.math3.distribution.TDistribution;
 public final class InitialStateEstimator {
     /** Two-sided confidence level of the reported intervals. */
     public static final double CONFIDENCE = 0.95;
+    /** Accuracy of the Student-t quantile; Commons Math's default 1e-9 would show in the interval's 10th digit. */
+    static final double INVERSE_ACCURACY = 1e-14;
 
     private InitialStateEstimator() {
     }
 
     /** Solves one trace; shape errors throw {@link ModelException}, unobservability is returned as a value. */
     public static EstimationResult solve(StateSpaceModel model, Trace trace, EstimationOptions options) {
-        requireCompatible(model, trace, options);
+        validate(model, trace, options);
         SolveContext ctx = new SolveContext(model, trace, options);
         EquationPass.Result pass = EquationPass.run(ctx);
         SquareRootInformation dataInfo = pass.information();
@@ -36,6 +38,21 @@ public final class InitialStateEstimator {
         PriorEquations.add(withPrior, options.prior(), ctx.n);
         ConditioningAnalysis full = new ConditioningAnalysis(withPrior.factorR(), ctx.q, withPrior.equations());
         return full.rank() < ctx.q ? unobservable(ctx, full) : finish(ctx, pass, withPrior, full, dataOnly);
+    }
+
+    /** Checks that a model, trace and options fit together, throwing {@link ModelException} before any work. */
+    public static void validate(StateSpaceModel model, Trace trace, EstimationOptions options) {
+        requireCompatible(model, trace, options);
+        SampleSteps steps = new SampleSteps(model, trace.time(0));
+        long previous = -1;
+        for (int k = 0; k < trace.samples(); k++) {
+            long units = steps.unitsFromStart(trace.time(k), "time[" + k + "]");
+            if (model.isDiscrete() && units == previous) {
+                throw new ModelException("time[" + k + "]", "got a second sample on grid step " + units
+                        + ", expected one sample per sample period at most");
+            }
+            previous = units;
+        }
     }
 
     private static Unobservable unobservable(SolveContext ctx, ConditioningAnalysis analysis) {
@@ -79,7 +96,7 @@ public final class InitialStateEstimator {
         double factor;
         double[] width;
         if (estimated && dof > 0) {
-            factor = new TDistribution(null, dof).inverseCumulativeProbability(tail);
+            factor = new TDistribution(null, dof, INVERSE_ACCURACY).inverseCumulativeProbability(tail);
             width = seScaled;
         } else {
             factor = new NormalDistribution(null, 0.0, 1.0).inverseCumulativeProbability(tail);

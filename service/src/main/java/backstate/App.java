@@ -1,0 +1,85 @@
+package backstate;
+
+import backstate.api.ApiServer;
+import backstate.cli.DemoLoader;
+import backstate.cli.SolveCommand;
+import backstate.config.Settings;
+import backstate.formats.Json;
+import backstate.formats.Limits;
+import backstate.jobs.EstimateJobHandler;
+import backstate.jobs.WorkerPool;
+import backstate.store.SqliteStore;
+import com.fasterxml.jackson.databind.ObjectMapper;
+import io.micrometer.prometheusmetrics.PrometheusConfig;
+import io.micrometer.prometheusmetrics.PrometheusMeterRegistry;
+import java.nio.file.Path;
+import java.time.Clock;
+import java.time.Duration;
+import java.util.Arrays;
+import org.slf4j.Logger;
+import org.slf4j.LoggerFactory;
+
+/** Wiring only: config → database → migrations → queue → workers → HTTP. */
+public final class App implements AutoCloseable {
+    private static final Logger LOG = LoggerFactory.getLogger(App.class);
+    /** How often an idle worker looks for jobs that arrived without a wake-up (e.g. after a restart). */
+    static final Duration IDLE_POLL = Duration.ofMillis(500);
+
+    private final SqliteStore store;
+    private final WorkerPool workers;
+    private final ApiServer api;
+
+    public App(Settings settings, Clock clock) {
+        Limits limits = new Limits(settings.maxSamples(), Limits.DEFAULTS.maxNameLength(), Limits.DEFAULTS.maxJsonDepth());
+        ObjectMapper mapper = Json.mapper(limits);
+        PrometheusMeterRegistry registry = new PrometheusMeterRegistry(PrometheusConfig.DEFAULT);
+        this.store = new SqliteStore(settings.database(), clock);
+        this.workers = new WorkerPool(store, new EstimateJobHandler(store, mapper, limits, registry), settings.workers(),
+                clock, IDLE_POLL, registry);
+        this.api = new ApiServer(new ApiServer.Wiring(store, mapper, clock, registry, limits, settings.maxBodyBytes(),
+                settings.maxQueued(), store::queuedCount, workers::wake));
+    }
+
+    public App start(Settings settings) {
+        workers.start();
+        api.start(settings.host(), settings.port());
+        return this;
+    }
+
+    public int port() {
+        return api.port();
+    }
+
+    /** Graceful stop: no new requests, running jobs finish or are left for rescue, database closed. */
+    @Override
+    public void close() {
+        api.close();
+        workers.close();
+        store.close();
+    }
+
+    public static void main(String[] args) throws Exception {
+        String command = args.length == 0 ? "serve" : args[0];
+        String[] rest = args.length == 0 ? args : Arrays.copyOfRange(args, 1, args.length);
+        switch (command) {
+            case "serve" -> serve(Settings.from(rest, System.getenv()), false);
+            case "demo" -> serve(Settings.from(rest, System.getenv()), true);
+            case "solve" -> System.exit(SolveCommand.run(rest, System.out, System.err));
+            default -> {
+                System.err.println("usage: backstate serve|demo [--port N --database FILE ...] | solve --model FILE --trace FILE [options]");
+                System.exit(2);
+            }
+        }
+    }
+
+    private static void serve(Settings settings, boolean demo) throws Exception {
+        LOG.info("settings: {}", settings.describe());
+        App app = new App(settings, Clock.systemUTC()).start(settings);
+        Runtime.getRuntime().addShutdownHook(new Thread(app::close, "backstate-shutdown"));
+        String base = "http://localhost:" + app.port();
+        LOG.info("backstate listening on {} (API under {}/v1, spec at {}/openapi.yaml)", base, base, base);
+        if (demo) {
+            new DemoLoader(base, Path.of(System.getProperty("backstate.demo", "test-data/demo"))).load();
+        }
+    }
+}

@@ -1,0 +1,62 @@
+package backstate.api;
+
+import java.util.List;
+
+/** An answer other than success, thrown by handlers and turned into problem+json in one place. */
+public final class ApiProblem extends RuntimeException {
+    /** Seconds a client should wait before retrying when the service is busy. */
+    public static final int RETRY_AFTER_SECONDS = 5;
+
+    private final int status;
+    private final String slug;
+    private final String title;
+    private final List<Problem.FieldError> errors;
+
+    private ApiProblem(int status, String slug, String title, String detail, List<Problem.FieldError> errors) {
+        super(detail);
+        this.status = status;
+        this.slug = slug;
+        this.title = title;
+        this.errors = errors;
+    }
+
+    public static ApiProblem notFound(String what) {
+        return new ApiProblem(404, "not-found", "Not found", what + " does not exist", null);
+    }
+
+    public static ApiProblem conflict(String detail) {
+        return new ApiProblem(409, "conflict", "Conflict with the current state", detail, null);
+    }
+
+    public static ApiProblem invalid(String field, String detail) {
+        return new ApiProblem(400, "invalid-input", "Invalid input", field + ": " + detail,
+                List.of(new Problem.FieldError(field, detail)));
+    }
+
+    public static ApiProblem unprocessable(String field, String detail) {
+        return new ApiProblem(422, "inconsistent-input", "Input inconsistent with the model", field + ": " + detail,
+                List.of(new Problem.FieldError(field, detail)));
+    }
+
+    public static ApiProblem tooLarge(long limit) {
+        return new ApiProblem(413, "payload-too-large", "Payload too large",
+                "the body exceeds " + limit + " bytes (after decompression)", null);
+    }
+
+    public static ApiProblem unsupportedMediaType(String got) {
+        return new ApiProblem(415, "unsupported-media-type", "Unsupported media type",
+                "got " + got + ", expected application/json or text/csv", List.of(new Problem.FieldError("Content-Type", "unsupported")));
+    }
+
+    public static ApiProblem busy(String detail) {
+        return new ApiProblem(503, "service-busy", "Service busy, retry later", detail, null);
+    }
+
+    public int status() {
+        return status;
+    }
+
+    public Problem toProblem() {
+        return new Problem(ProblemTypes.uri(slug), title, status, getMessage(), errors);
+    }
+}

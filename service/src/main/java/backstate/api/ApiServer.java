@@ -1,0 +1,94 @@
+package backstate.api;
+
+import backstate.formats.Limits;
+import backstate.store.Store;
+import com.fasterxml.jackson.databind.ObjectMapper;
+import io.javalin.Javalin;
+import io.javalin.http.HandlerType;
+import io.javalin.json.JavalinJackson;
+import io.micrometer.core.instrument.Timer;
+import io.micrometer.prometheusmetrics.PrometheusMeterRegistry;
+import java.time.Clock;
+import java.util.List;
+import java.util.concurrent.TimeUnit;
+import java.util.function.IntSupplier;
+
+/** The HTTP edge: every route in one table, one error mapper, JSON by Jackson, latency by Micrometer. */
+public final class ApiServer implements AutoCloseable {
+    private final Javalin app;
+    private final List<Route> routes;
+
+    /** What the routes need; wired by hand in App. */
+    public record Wiring(Store store, ObjectMapper mapper, Clock clock, PrometheusMeterRegistry registry, Limits limits,
+                         long maxBodyBytes, int maxQueued, IntSupplier queued, Runnable wakeWorkers) {
+    }
+
+    public ApiServer(Wiring w) {
+        this.routes = routes(w);
+        ProblemMapper problems = new ProblemMapper(w.mapper());
+        this.app = Javalin.create(config -> {
+            config.startup.showJavalinBanner = false;
+            config.jsonMapper(new JavalinJackson(w.mapper(), false));
+            config.http.maxRequestSize = w.maxBodyBytes();
+            config.requestLogger.http((ctx, ms) -> Timer.builder("backstate.http.latency")
+                    .tag("method", ctx.method().name())
+                    .tag("route", ctx.endpoint() == null ? "unmatched" : ctx.endpoint().path)
+                    .tag("status", Integer.toString(ctx.statusCode()))
+                    .register(w.registry()).record((long) (ms * 1_000_000L), TimeUnit.NANOSECONDS));
+            problems.register(config.routes);
+            for (Route r : routes) {
+                config.routes.addEndpoint(new io.javalin.router.Endpoint(r.method(), r.path(), r.handler(), java.util.Set.of()));
+            }
+        });
+    }
+
+    /** The route table: a reader sees the whole API here. */
+    static List<Route> routes(Wiring w) {
+        ModelRoutes models = new ModelRoutes(w.store(), w.mapper(), w.clock(), w.limits(), w.maxBodyBytes());
+        TraceRoutes traces = new TraceRoutes(w.store(), w.mapper(), w.clock(), w.limits(), w.maxBodyBytes(),
+                w.maxQueued(), w.wakeWorkers());
+        JobRoutes jobs = new JobRoutes(w.store(), w.clock());
+        EstimateRoutes estimates = new EstimateRoutes(w.store(), w.mapper());
+        ServiceRoutes service = new ServiceRoutes(w.store(), w.registry(), w.queued(), w.maxQueued());
+        HandlerType get = HandlerType.GET;
+        HandlerType post = HandlerType.POST;
+        return List.of(
+                new Route(get, "/healthz", service::health),
+                new Route(get, "/readyz", service::ready),
+                new Route(get, "/metrics", service::metrics),
+                new Route(get, "/openapi.yaml", service::openapi),
+                new Route(post, "/v1/models", models::createFamily),
+                new Route(get, "/v1/models", models::listFamilies),
+                new Route(get, "/v1/models/{family}", models::getFamily),
+                new Route(post, "/v1/models/{family}/versions", models::publishVersion),
+                new Route(get, "/v1/models/{family}/versions", models::listVersions),
+                new Route(get, "/v1/models/{family}/versions/{version}", models::getVersion),
+                new Route(post, "/v1/models/{family}/versions/{version}/retire", models::retireVersion),
+                new Route(post, "/v1/units/{unitId}/traces", traces::submit),
+                new Route(get, "/v1/units/{unitId}/estimates", estimates::history),
+                new Route(get, "/v1/units/{unitId}/estimates/latest", estimates::latest),
+                new Route(get, "/v1/jobs/{jobId}", jobs::get),
+                new Route(post, "/v1/jobs/{jobId}/cancel", jobs::cancel),
+                new Route(get, "/v1/estimates/{estimateId}", estimates::get),
+                new Route(get, "/v1/estimates/{estimateId}/series", estimates::series));
+    }
+
+    /** Method and path of every route, e.g. "GET /v1/jobs/{jobId}". */
+    public List<String> routeKeys() {
+        return routes.stream().map(r -> r.method().name() + " " + r.path()).toList();
+    }
+
+    public ApiServer start(String host, int port) {
+        app.start(host, port);
+        return this;
+    }
+
+    public int port() {
+        return app.port();
+    }
+
+    @Override
+    public void close() {
+        app.stop();
+    }
+}

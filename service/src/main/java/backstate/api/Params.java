@@ -1,0 +1,96 @@
+package backstate.api;
+
+import io.javalin.http.Context;
+import java.time.Instant;
+import java.time.format.DateTimeParseException;
+import java.util.regex.Pattern;
+
+/** Reads and checks path and query parameters; a bad one is a 400 naming it. */
+final class Params {
+    /** Unit IDs and family names: 1–64 of letters, digits, '_', '-', '.', starting with a letter or digit. */
+    static final Pattern IDENTIFIER = Pattern.compile("[A-Za-z0-9][A-Za-z0-9_.\\-]{0,63}");
+
+    private Params() {
+    }
+
+    static String identifier(Context ctx, String name) {
+        return identifier(name, ctx.pathParam(name));
+    }
+
+    static String identifier(String name, String value) {
+        if (value == null || !IDENTIFIER.matcher(value).matches()) {
+            throw ApiProblem.invalid(name, "expected 1-64 characters: letters, digits, _ - . (starting with a letter or digit)");
+        }
+        return value;
+    }
+
+    static int positiveInt(String name, String value) {
+        if (value == null || !value.matches("\\d{1,9}") || Integer.parseInt(value) < 1) {
+            throw ApiProblem.invalid(name, "got " + quoted(value) + ", expected a whole number >= 1");
+        }
+        return Integer.parseInt(value);
+    }
+
+    static int pathVersion(Context ctx) {
+        return positiveInt("version", ctx.pathParam("version"));
+    }
+
+    static Integer optionalInt(Context ctx, String name) {
+        String v = ctx.queryParam(name);
+        return v == null ? null : positiveInt(name, v);
+    }
+
+    static int intOrDefault(Context ctx, String name, int fallback, int max) {
+        Integer v = optionalInt(ctx, name);
+        if (v != null && v > max) {
+            throw ApiProblem.invalid(name, "got " + v + ", expected at most " + max);
+        }
+        return v == null ? fallback : v;
+    }
+
+    static Instant optionalInstant(Context ctx, String name) {
+        String v = ctx.queryParam(name);
+        if (v == null) {
+            return null;
+        }
+        try {
+            return Instant.parse(v);
+        } catch (DateTimeParseException e) {
+            throw ApiProblem.invalid(name, "got " + quoted(v) + ", expected an RFC 3339 UTC time such as 2026-12-01T00:00:00Z");
+        }
+    }
+
+    static Double optionalDouble(Context ctx, String name) {
+        String v = ctx.queryParam(name);
+        if (v == null) {
+            return null;
+        }
+        try {
+            double d = Double.parseDouble(v);
+            if (Double.isFinite(d) && v.matches("[-+]?[0-9.eE+\\-]+")) {
+                return d;
+            }
+        } catch (NumberFormatException ignored) {
+            // answered below
+        }
+        throw ApiProblem.invalid(name, "got " + quoted(v) + ", expected a finite decimal number");
+    }
+
+    static Boolean optionalBoolean(Context ctx, String name) {
+        String v = ctx.queryParam(name);
+        if (v == null) {
+            return null;
+        }
+        if (v.equals("true") || v.equals("false")) {
+            return Boolean.valueOf(v);
+        }
+        throw ApiProblem.invalid(name, "got " + quoted(v) + ", expected true or false");
+    }
+
+    static String quoted(String v) {
+        if (v == null) {
+            return "nothing";
+        }
+        return "\"" + (v.length() > 40 ? v.substring(0, 40) + "…" : v) + "\"";
+    }
+}

@@ -1,0 +1,85 @@
+package backstate.api;
+
+import backstate.estimation.ModelException;
+import backstate.formats.InputException;
+import backstate.formats.JsonPaths;
+import backstate.store.InvalidCursorException;
+import backstate.store.QueueFullException;
+import backstate.store.StoreUnavailableException;
+import com.fasterxml.jackson.core.JsonProcessingException;
+import com.fasterxml.jackson.databind.JsonMappingException;
+import com.fasterxml.jackson.databind.ObjectMapper;
+import io.javalin.config.RoutesConfig;
+import io.javalin.http.Context;
+import io.javalin.http.HttpResponseException;
+import java.util.List;
+import java.util.UUID;
+import org.slf4j.Logger;
+import org.slf4j.LoggerFactory;
+
+/**
+ * The one place where exceptions become answers: every 4xx/5xx leaves as RFC 9457 problem+json.
+ * Messages come from our own exceptions only; SQL text and stack traces never reach a client.
+ */
+final class ProblemMapper {
+    private static final Logger LOG = LoggerFactory.getLogger(ProblemMapper.class);
+
+    private final ObjectMapper mapper;
+
+    ProblemMapper(ObjectMapper mapper) {
+        this.mapper = mapper;
+    }
+
+    void register(RoutesConfig routes) {
+        routes.exception(ApiProblem.class, (e, ctx) -> write(ctx, e.toProblem()));
+        routes.exception(InputException.class, (e, ctx) -> write(ctx, ApiProblem.invalid(e.field(), detail(e)).toProblem()));
+        routes.exception(ModelException.class, (e, ctx) -> write(ctx, ApiProblem.unprocessable(e.field(), detail(e)).toProblem()));
+        routes.exception(InvalidCursorException.class, (e, ctx) -> write(ctx, ApiProblem.invalid("cursor", "not a cursor from this API").toProblem()));
+        routes.exception(JsonMappingException.class, (e, ctx) -> write(ctx, ApiProblem.invalid("body" + JsonPaths.of(e), e.getOriginalMessage()).toProblem()));
+        routes.exception(JsonProcessingException.class, (e, ctx) -> write(ctx, ApiProblem.invalid("body", "malformed JSON: " + e.getOriginalMessage()).toProblem()));
+        routes.exception(QueueFullException.class, (e, ctx) -> busy(ctx, "the job queue is full; retry later"));
+        routes.exception(StoreUnavailableException.class, (e, ctx) -> {
+            LOG.warn("database unavailable: {}", e.getMessage());
+            busy(ctx, "the database is unavailable right now; retry later");
+        });
+        routes.exception(HttpResponseException.class, (e, ctx) -> write(ctx, fromStatus(e.getStatus(), e.getMessage())));
+        routes.exception(Exception.class, (e, ctx) -> {
+            String reference = UUID.randomUUID().toString();
+            LOG.error("unhandled error, reference {}", reference, e);
+            write(ctx, new Problem(ProblemTypes.uri("internal-error"), "Internal error", 500,
+                    "an internal error occurred (a bug); reference " + reference, null));
+        });
+        routes.error(404, "*", ctx -> {
+            String written = ctx.res().getContentType();
+            if (written == null || !written.startsWith(Problem.MEDIA_TYPE)) {
+                write(ctx, ApiProblem.notFound("route " + ctx.method() + " " + ctx.path()).toProblem());
+            }
+        });
+        routes.error(405, "*", ctx -> write(ctx, fromStatus(405, "method " + ctx.method() + " is not allowed here")));
+    }
+
+    private void busy(Context ctx, String detail) {
+        ctx.header("Retry-After", Integer.toString(ApiProblem.RETRY_AFTER_SECONDS));
+        write(ctx, ApiProblem.busy(detail).toProblem());
+    }
+
+    private static Problem fromStatus(int status, String detail) {
+        String slug = status == 405 ? "method-not-allowed" : status == 404 ? "not-found" : "http-" + status;
+        return new Problem(ProblemTypes.uri(slug), "HTTP " + status, status, detail, null);
+    }
+
+    private static String detail(RuntimeException e) {
+        String message = e.getMessage();
+        int colon = message.indexOf(": ");
+        return colon >= 0 ? message.substring(colon + 2) : message;
+    }
+
+    private void write(Context ctx, Problem problem) {
+        try {
+            ctx.status(problem.status()).contentType(Problem.MEDIA_TYPE).result(mapper.writeValueAsString(problem));
+        } catch (JsonProcessingException e) {
+            throw new IllegalStateException("problem document could not be written", e);
+        }
+    }
+
+}

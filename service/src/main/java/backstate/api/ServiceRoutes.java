@@ -1,0 +1,65 @@
+package backstate.api;
+
+import backstate.store.Store;
+import io.javalin.http.Context;
+import io.micrometer.prometheusmetrics.PrometheusMeterRegistry;
+import java.io.IOException;
+import java.io.InputStream;
+import java.io.UncheckedIOException;
+import java.util.Map;
+import java.util.function.IntSupplier;
+
+/** Liveness, readiness, metrics and the OpenAPI document. */
+final class ServiceRoutes {
+    /** The OpenAPI document on the class path (copied from openapi/ at build time). */
+    static final String SPEC_RESOURCE = "/openapi/backstate.yaml";
+
+    private final Store store;
+    private final PrometheusMeterRegistry registry;
+    private final IntSupplier queued;
+    private final int jammedAt;
+    private final byte[] spec;
+
+    ServiceRoutes(Store store, PrometheusMeterRegistry registry, IntSupplier queued, int jammedAt) {
+        this.store = store;
+        this.registry = registry;
+        this.queued = queued;
+        this.jammedAt = jammedAt;
+        this.spec = loadSpec();
+    }
+
+    void health(Context ctx) {
+        ctx.json(Map.of("status", "alive"));
+    }
+
+    /** Ready when the database answers and the queue is below its limit. */
+    void ready(Context ctx) {
+        if (!store.isReachable()) {
+            throw ApiProblem.busy("the database is not reachable");
+        }
+        int depth = queued.getAsInt();
+        if (depth >= jammedAt) {
+            throw ApiProblem.busy("the job queue is full (" + depth + " queued)");
+        }
+        ctx.json(Map.of("status", "ready", "queued", depth));
+    }
+
+    void metrics(Context ctx) {
+        ctx.contentType("text/plain; version=0.0.4; charset=utf-8").result(registry.scrape());
+    }
+
+    void openapi(Context ctx) {
+        ctx.contentType("application/yaml").result(spec);
+    }
+
+    static byte[] loadSpec() {
+        try (InputStream in = ServiceRoutes.class.getResourceAsStream(SPEC_RESOURCE)) {
+            if (in == null) {
+                throw new IllegalStateException("OpenAPI document " + SPEC_RESOURCE + " missing from the class path");
+            }
+            return in.readAllBytes();
+        } catch (IOException e) {
+            throw new UncheckedIOException(e);
+        }
+    }
+}

@@ -1,0 +1,121 @@
+package backstate.api;
+
+import backstate.estimation.InitialStateEstimator;
+import backstate.estimation.StateSpaceModel;
+import backstate.estimation.Trace;
+import backstate.formats.Limits;
+import backstate.formats.ModelDocument;
+import backstate.formats.ParsedTrace;
+import backstate.formats.TraceCodec;
+import backstate.formats.TraceOptions;
+import backstate.formats.TraceReader;
+import backstate.store.ModelVersionRow;
+import backstate.store.NewTrace;
+import backstate.store.Store;
+import backstate.store.Submission;
+import com.fasterxml.jackson.databind.ObjectMapper;
+import io.javalin.http.Context;
+import java.io.InputStream;
+import java.time.Clock;
+import java.util.Locale;
+import java.util.Map;
+
+/** Trace ingest: store the trace and queue its solve in one transaction, answer 202 with the job. */
+final class TraceRoutes {
+    /** Longest Idempotency-Key accepted. */
+    static final int MAX_IDEMPOTENCY_KEY = 128;
+
+    private final Store store;
+    private final ObjectMapper mapper;
+    private final TraceReader reader;
+    private final TraceCodec codec;
+    private final Clock clock;
+    private final Limits limits;
+    private final long maxBodyBytes;
+    private final int maxQueued;
+    private final Runnable wakeWorkers;
+
+    TraceRoutes(Store store, ObjectMapper mapper, Clock clock, Limits limits, long maxBodyBytes, int maxQueued,
+                Runnable wakeWorkers) {
+        this.store = store;
+        this.mapper = mapper;
+        this.reader = new TraceReader(limits);
+        this.codec = new TraceCodec(mapper);
+        this.clock = clock;
+        this.limits = limits;
+        this.maxBodyBytes = maxBodyBytes;
+        this.maxQueued = maxQueued;
+        this.wakeWorkers = wakeWorkers;
+    }
+
+    void submit(Context ctx) throws Exception {
+        String unitId = Params.identifier(ctx, "unitId");
+        String key = idempotencyKey(ctx);
+        ModelVersionRow version = activeVersion(ctx);
+        ModelDocument model = mapper.readValue(version.documentJson(), ModelDocument.class);
+        ParsedTrace parsed = parse(ctx, model);
+        StateSpaceModel engineModel = model.toModel(limits);
+        InitialStateEstimator.validate(engineModel, parsed.trace(),
+                parsed.options().toEstimationOptions(engineModel.states(), false));
+        Trace t = parsed.trace();
+        NewTrace trace = new NewTrace(unitId, version.family(), version.version(), t.samples(), t.time(0),
+                t.time(t.samples() - 1), codec.encode(parsed));
+        Submission submission = store.submitTrace(trace, key, maxQueued, clock.instant());
+        wakeWorkers.run();
+        if (submission.replayed()) {
+            ctx.header("Idempotent-Replayed", "true");
+        }
+        ctx.status(202).header("Location", "/v1/jobs/" + submission.jobId())
+                .json(new Views.Accepted(submission.jobId(), submission.traceId(), unitId, "queued",
+                        Map.of("job", "/v1/jobs/" + submission.jobId(),
+                                "latestEstimate", "/v1/units/" + unitId + "/estimates/latest")));
+    }
+
+    private ModelVersionRow activeVersion(Context ctx) {
+        String family = Params.identifier("model", ctx.queryParam("model"));
+        int number = Params.positiveInt("version", ctx.queryParam("version"));
+        ModelVersionRow version = store.findVersion(family, number)
+                .orElseThrow(() -> ApiProblem.unprocessable("version", "model version " + family + "/" + number + " does not exist"));
+        if (!"active".equals(version.status())) {
+            throw ApiProblem.conflict("model version " + family + "/" + number + " is retired and takes no new traces");
+        }
+        return version;
+    }
+
+    private ParsedTrace parse(Context ctx, ModelDocument model) throws Exception {
+        String type = ctx.contentType() == null ? "" : ctx.contentType().toLowerCase(Locale.ROOT);
+        try (InputStream body = BodyLimit.open(ctx, maxBodyBytes)) {
+            if (type.startsWith("application/json")) {
+                if (hasQueryOptions(ctx)) {
+                    throw ApiProblem.invalid("formulation", "with a JSON body, put options in its \"options\" object, not the query");
+                }
+                return reader.readJson(body, model);
+            }
+            if (type.startsWith("text/csv")) {
+                return reader.readCsv(body, model, queryOptions(ctx));
+            }
+        }
+        throw ApiProblem.unsupportedMediaType(type.isEmpty() ? "no Content-Type" : type);
+    }
+
+    private static boolean hasQueryOptions(Context ctx) {
+        return ctx.queryParam("formulation") != null || ctx.queryParam("estimateOffsets") != null
+                || ctx.queryParam("referenceTime") != null;
+    }
+
+    private static TraceOptions queryOptions(Context ctx) {
+        return new TraceOptions(ctx.queryParam("formulation"), Params.optionalBoolean(ctx, "estimateOffsets"),
+                Params.optionalDouble(ctx, "referenceTime"), null);
+    }
+
+    private static String idempotencyKey(Context ctx) {
+        String key = ctx.header("Idempotency-Key");
+        if (key == null) {
+            return null;
+        }
+        if (key.isEmpty() || key.length() > MAX_IDEMPOTENCY_KEY || !key.chars().allMatch(c -> c > 32 && c < 127)) {
+            throw ApiProblem.invalid("Idempotency-Key", "expected 1-" + MAX_IDEMPOTENCY_KEY + " visible ASCII characters");
+        }
+        return key;
+    }
+}

@@ -1,0 +1,95 @@
+package backstate.api;
+
+import backstate.estimation.ObservabilityRank;
+import backstate.formats.EstimateDocument;
+import backstate.store.EstimateRow;
+import backstate.store.FamilyRow;
+import backstate.store.JobRow;
+import backstate.store.ModelVersionRow;
+import com.fasterxml.jackson.annotation.JsonInclude;
+import com.fasterxml.jackson.annotation.JsonRawValue;
+import java.util.List;
+import java.util.Map;
+
+/** Response bodies: records named after what they show, built from store rows. */
+final class Views {
+    private Views() {
+    }
+
+    record Page<T>(List<T> items, String nextCursor) {
+    }
+
+    record Family(String name, String description, String createdAt) {
+        static Family of(FamilyRow row) {
+            return new Family(row.name(), row.description(), row.createdAt().toString());
+        }
+    }
+
+    record Observability(boolean observable, int rank, int states, List<Double> singularValues, Double rankTolerance,
+                         List<List<Double>> unobservableDirections) {
+        static Observability of(ObservabilityRank.Report r) {
+            return new Observability(r.observable(), r.rank(), r.states(), EstimateDocument.list(r.singularValues()),
+                    EstimateDocument.num(r.tolerance()), r.unobservable().stream().map(EstimateDocument::list).toList());
+        }
+    }
+
+    record Version(String family, int version, String status, String timeDomain, int states, int outputs, int inputs,
+                   String createdAt, @JsonRawValue String observability, @JsonRawValue String document) {
+        static Version of(ModelVersionRow row) {
+            return new Version(row.family(), row.version(), row.status(), row.timeDomain(), row.states(), row.outputs(),
+                    row.inputs(), row.createdAt().toString(), row.observabilityJson(), row.documentJson());
+        }
+    }
+
+    @JsonInclude(JsonInclude.Include.NON_NULL)
+    record Accepted(String jobId, String traceId, String unitId, String state, Map<String, String> links) {
+    }
+
+    @JsonInclude(JsonInclude.Include.NON_NULL)
+    record Job(String id, String kind, String state, String traceId, int attempt, String createdAt, String startedAt,
+               String finishedAt, List<String> errors, Progress progress, String estimateId,
+               @JsonRawValue String result) {
+        static Job of(JobRow row, String estimateId) {
+            return new Job(row.id(), row.kind(), row.state(), row.traceId(), row.attempt(), text(row.createdAt()),
+                    text(row.startedAt()), text(row.finishedAt()), row.errors(),
+                    row.progressTotal() > 0 ? new Progress(row.progressDone(), row.progressTotal()) : null,
+                    estimateId, row.resultJson());
+        }
+    }
+
+    record Progress(int done, int total) {
+    }
+
+    @JsonInclude(JsonInclude.Include.NON_NULL)
+    record EstimateSummary(String id, String unitId, String family, int version, String jobId, String traceId,
+                           String createdAt, double windowStart, double windowEnd, Double chiSquarePerDof,
+                           List<String> flags) {
+        static EstimateSummary of(EstimateRow row) {
+            return new EstimateSummary(row.id(), row.unitId(), row.family(), row.version(), row.jobId(), row.traceId(),
+                    row.createdAt().toString(), row.windowStart(), row.windowEnd(), row.chi2PerDof(), row.flags());
+        }
+    }
+
+    @JsonInclude(JsonInclude.Include.NON_NULL)
+    record Estimate(String id, String unitId, String family, int version, String jobId, String traceId,
+                    String createdAt, double windowStart, double windowEnd, Double chiSquarePerDof,
+                    List<String> flags, @JsonRawValue String result, String caution) {
+        static Estimate of(EstimateRow row) {
+            return new Estimate(row.id(), row.unitId(), row.family(), row.version(), row.jobId(), row.traceId(),
+                    row.createdAt().toString(), row.windowStart(), row.windowEnd(), row.chi2PerDof(), row.flags(),
+                    row.summaryJson(), CAUTION);
+        }
+    }
+
+    record Series(List<String> outputs, int points, List<Double> time, Map<String, List<Double>> fitted,
+                  Map<String, List<Double>> residual) {
+    }
+
+    /** Shown with every estimate: what an estimate may and may not be used for. */
+    static final String CAUTION = "Estimates support, and never replace, calibrated measurements, local food-safety "
+            + "and other codes, and licensed professional practice.";
+
+    private static String text(java.time.Instant t) {
+        return t == null ? null : t.toString();
+    }
+}

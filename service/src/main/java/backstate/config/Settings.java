@@ -1,0 +1,61 @@
+package backstate.config;
+
+import java.nio.file.Path;
+import java.util.LinkedHashMap;
+import java.util.Map;
+
+/**
+ * Service settings from command-line flags ({@code --port 8080}) over environment variables
+ * ({@code BACKSTATE_PORT}) over defaults, validated once at start.
+ */
+public record Settings(String host, int port, Path database, int workers, long maxBodyBytes, int maxQueued,
+                       int maxSamples) {
+    /** Default body limit: 256 MiB holds a 10⁶-sample, 5-channel CSV with room to spare. */
+    public static final long DEFAULT_MAX_BODY = 256L * 1024 * 1024;
+
+    /** Reads flags and environment; a bad value throws naming the setting. */
+    public static Settings from(String[] flags, Map<String, String> env) {
+        Map<String, String> values = new LinkedHashMap<>();
+        values.put("host", env.getOrDefault("BACKSTATE_HOST", "0.0.0.0"));
+        values.put("port", env.getOrDefault("BACKSTATE_PORT", "8080"));
+        values.put("database", env.getOrDefault("BACKSTATE_DATABASE", "backstate.db"));
+        values.put("workers", env.getOrDefault("BACKSTATE_WORKERS", Integer.toString(Runtime.getRuntime().availableProcessors())));
+        values.put("max-body-bytes", env.getOrDefault("BACKSTATE_MAX_BODY_BYTES", Long.toString(DEFAULT_MAX_BODY)));
+        values.put("max-queued", env.getOrDefault("BACKSTATE_MAX_QUEUED", "10000"));
+        values.put("max-samples", env.getOrDefault("BACKSTATE_MAX_SAMPLES", "2000000"));
+        for (int i = 0; i < flags.length; i++) {
+            String flag = flags[i];
+            if (!flag.startsWith("--") || !values.containsKey(flag.substring(2)) || i + 1 == flags.length) {
+                throw new IllegalArgumentException("got flag " + flag + ", expected one of --" + String.join(" VALUE, --", values.keySet()) + " VALUE");
+            }
+            values.put(flag.substring(2), flags[++i]);
+        }
+        return new Settings(values.get("host"), range("port", values, 0, 65535), Path.of(values.get("database")),
+                range("workers", values, 1, 256), longRange("max-body-bytes", values, 1024, Long.MAX_VALUE),
+                range("max-queued", values, 1, 10_000_000), range("max-samples", values, 2, 100_000_000));
+    }
+
+    /** One line per setting, for the start-up log. */
+    public String describe() {
+        return "host=" + host + " port=" + port + " database=" + database.toAbsolutePath() + " workers=" + workers
+                + " max-body-bytes=" + maxBodyBytes + " max-queued=" + maxQueued + " max-samples=" + maxSamples;
+    }
+
+    private static int range(String name, Map<String, String> values, int min, int max) {
+        long v = longRange(name, values, min, max);
+        return (int) v;
+    }
+
+    private static long longRange(String name, Map<String, String> values, long min, long max) {
+        String text = values.get(name);
+        try {
+            long v = Long.parseLong(text.trim());
+            if (v >= min && v <= max) {
+                return v;
+            }
+        } catch (NumberFormatException ignored) {
+            // answered below
+        }
+        throw new IllegalArgumentException("setting " + name + ": got " + text + ", expected a whole number in [" + min + ", " + max + "]");
+    }
+}

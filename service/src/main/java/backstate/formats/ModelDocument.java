@@ -1,0 +1,113 @@
+package backstate.formats;
+
+import backstate.estimation.ModelException;
+import backstate.estimation.StateSpaceModel;
+import com.fasterxml.jackson.annotation.JsonIgnore;
+import com.fasterxml.jackson.annotation.JsonInclude;
+import java.util.HashSet;
+import java.util.List;
+import java.util.Set;
+import java.util.regex.Pattern;
+
+/**
+ * A model version as users write it (the body of a publish request and the CLI's model file):
+ * time domain, named states/outputs/inputs with units, and the matrices A, B, C, D.
+ */
+@JsonInclude(JsonInclude.Include.NON_NULL)
+public record ModelDocument(String description, String timeDomain, Double samplePeriod, List<Quantity> states,
+                            List<Quantity> outputs, List<Quantity> inputs, double[][] a, double[][] b,
+                            double[][] c, double[][] d) {
+    /** Names: a letter, then letters, digits, '_', '-', '.'; they become CSV headers and JSON keys. */
+    private static final Pattern NAME = Pattern.compile("[A-Za-z][A-Za-z0-9_.\\-]*");
+
+    /** Validates names and shapes and builds the engine's model; errors name the field. */
+    public StateSpaceModel toModel(Limits limits) {
+        requireNames("states", states, limits, true);
+        requireNames("outputs", outputs, limits, true);
+        requireNames("inputs", inputs, limits, false);
+        StateSpaceModel model = build();
+        requireCount("states", states, model.states(), "rows of a");
+        requireCount("outputs", outputs, model.outputs(), "rows of c");
+        requireCount("inputs", inputs, model.inputs(), "columns of b");
+        return model;
+    }
+
+    @JsonIgnore
+    public boolean isDiscrete() {
+        return "discrete".equals(timeDomain);
+    }
+
+    @JsonIgnore
+    public List<Quantity> inputsOrEmpty() {
+        return inputs == null ? List.of() : inputs;
+    }
+
+    private StateSpaceModel build() {
+        double[] sigma = noiseSigma();
+        if ("continuous".equals(timeDomain)) {
+            if (samplePeriod != null) {
+                throw new InputException("samplePeriod", "got " + samplePeriod + ", expected none for a continuous model");
+            }
+            return StateSpaceModel.continuous(a, b, c, d, sigma);
+        }
+        if ("discrete".equals(timeDomain)) {
+            if (samplePeriod == null) {
+                throw new InputException("samplePeriod", "got nothing, expected seconds per step for a discrete model");
+            }
+            return StateSpaceModel.discrete(a, b, c, d, samplePeriod, sigma);
+        }
+        throw new InputException("timeDomain", "got " + timeDomain + ", expected \"continuous\" or \"discrete\"");
+    }
+
+    private double[] noiseSigma() {
+        if (outputs == null || outputs.stream().allMatch(o -> o.noiseSigma() == null)) {
+            return null;
+        }
+        double[] sigma = new double[outputs.size()];
+        for (int j = 0; j < sigma.length; j++) {
+            Double s = outputs.get(j).noiseSigma();
+            if (s == null) {
+                throw new InputException("outputs[" + j + "].noiseSigma", "got nothing, expected a σ for every output or for none");
+            }
+            sigma[j] = s;
+        }
+        return sigma;
+    }
+
+    private static void requireNames(String field, List<Quantity> list, Limits limits, boolean required) {
+        if (list == null || list.isEmpty()) {
+            if (required) {
+                throw new InputException(field, "got nothing, expected a list of named quantities");
+            }
+            return;
+        }
+        Set<String> seen = new HashSet<>();
+        for (int i = 0; i < list.size(); i++) {
+            Quantity item = list.get(i);
+            String name = item == null ? null : item.name();
+            requireName(field + "[" + i + "].name", name, limits);
+            if (!seen.add(name)) {
+                throw new InputException(field + "[" + i + "].name", "got " + name + " twice, expected unique names");
+            }
+        }
+    }
+
+    /** A name of 1..maxNameLength characters matching {@link #NAME}. */
+    static void requireName(String field, String name, Limits limits) {
+        if (name == null || name.isEmpty() || name.length() > limits.maxNameLength() || !NAME.matcher(name).matches()) {
+            throw new InputException(field, "got " + (name == null ? "nothing" : "\"" + truncate(name) + "\"")
+                    + ", expected 1-" + limits.maxNameLength() + " characters: a letter, then letters, digits, _ - .");
+        }
+    }
+
+    private static String truncate(String s) {
+        return s.length() > 40 ? s.substring(0, 40) + "…" : s;
+    }
+
+    private static void requireCount(String field, List<Quantity> list, int expected, String what) {
+        int got = list == null ? 0 : list.size();
+        if (got != expected) {
+            throw new ModelException(field, "got " + got + " names, expected " + expected + " (the " + what + ")");
+        }
+    }
+}

@@ -1,0 +1,123 @@
+package backstate.formats;
+
+import backstate.estimation.Trace;
+import java.util.LinkedHashMap;
+import java.util.List;
+import java.util.Map;
+
+/**
+ * Columns of a trace keyed by channel name while it is being read, assembled into the engine's
+ * {@link Trace} in the model's channel order. An output channel the trace lacks is all missing;
+ * every input must be present because the forced response depends on it.
+ */
+final class TraceColumns {
+    private final ModelDocument model;
+    private final Limits limits;
+    private final DoubleColumn time;
+    private final Map<String, DoubleColumn> outputs = new LinkedHashMap<>();
+    private final Map<String, DoubleColumn> inputs = new LinkedHashMap<>();
+    private final Map<String, Double> noiseSigma = new LinkedHashMap<>();
+
+    TraceColumns(ModelDocument model, Limits limits) {
+        this.model = model;
+        this.limits = limits;
+        this.time = new DoubleColumn("time", limits.maxSamples());
+    }
+
+    DoubleColumn time() {
+        return time;
+    }
+
+    /** The column for an output channel named in a body; unknown and repeated names are rejected. */
+    DoubleColumn output(String name, String field) {
+        return claim(outputs, model.outputs(), name, field, "outputs");
+    }
+
+    DoubleColumn input(String name, String field) {
+        return claim(inputs, model.inputsOrEmpty(), name, field, "inputs");
+    }
+
+    boolean isOutput(String name) {
+        return model.outputs().stream().anyMatch(q -> q.name().equals(name));
+    }
+
+    boolean isInput(String name) {
+        return model.inputsOrEmpty().stream().anyMatch(q -> q.name().equals(name));
+    }
+
+    void noiseSigma(String name, double sigma, String field) {
+        if (!isOutput(name)) {
+            throw new InputException(field, "got unknown output \"" + name + "\", expected one of " + names(model.outputs()));
+        }
+        noiseSigma.put(name, sigma);
+    }
+
+    Trace assemble() {
+        int n = time.size();
+        List<Quantity> outs = model.outputs();
+        List<Quantity> ins = model.inputsOrEmpty();
+        double[] y = new double[n * outs.size()];
+        for (int j = 0; j < outs.size(); j++) {
+            DoubleColumn column = outputs.get(outs.get(j).name());
+            requireLength(column, n);
+            for (int k = 0; k < n; k++) {
+                y[k * outs.size() + j] = column == null ? Double.NaN : column.get(k);
+            }
+        }
+        double[] u = new double[n * ins.size()];
+        for (int i = 0; i < ins.size(); i++) {
+            DoubleColumn column = inputs.get(ins.get(i).name());
+            if (column == null) {
+                throw new InputException("inputs." + ins.get(i).name(), "got nothing, expected the known input's values");
+            }
+            requireLength(column, n);
+            for (int k = 0; k < n; k++) {
+                u[k * ins.size() + i] = column.get(k);
+            }
+        }
+        return new Trace(time.size() == 0 ? new double[0] : copy(time), y, u, outs.size(), ins.size(), sigmaArray(outs));
+    }
+
+    private double[] sigmaArray(List<Quantity> outs) {
+        if (noiseSigma.isEmpty()) {
+            return null;
+        }
+        double[] sigma = new double[outs.size()];
+        for (int j = 0; j < sigma.length; j++) {
+            sigma[j] = noiseSigma.getOrDefault(outs.get(j).name(), Double.NaN);
+        }
+        return sigma;
+    }
+
+    private DoubleColumn claim(Map<String, DoubleColumn> columns, List<Quantity> allowed, String name, String field,
+                               String kind) {
+        ModelDocument.requireName(field, name, limits);
+        if (allowed.stream().noneMatch(q -> q.name().equals(name))) {
+            throw new InputException(field, "got unknown " + kind + " channel \"" + name + "\", expected one of " + names(allowed));
+        }
+        if (columns.containsKey(name)) {
+            throw new InputException(field, "got channel \"" + name + "\" twice, expected it once");
+        }
+        DoubleColumn column = new DoubleColumn(field, limits.maxSamples());
+        columns.put(name, column);
+        return column;
+    }
+
+    private void requireLength(DoubleColumn column, int n) {
+        if (column != null && column.size() != n) {
+            throw new InputException(column.field(), "got " + column.size() + " values, expected " + n + " (one per time)");
+        }
+    }
+
+    private static double[] copy(DoubleColumn column) {
+        double[] out = new double[column.size()];
+        for (int k = 0; k < out.length; k++) {
+            out[k] = column.get(k);
+        }
+        return out;
+    }
+
+    private static List<String> names(List<Quantity> list) {
+        return list.stream().map(Quantity::name).toList();
+    }
+}

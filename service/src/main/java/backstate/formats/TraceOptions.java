@@ -1,0 +1,63 @@
+package backstate.formats;
+
+import backstate.estimation.EstimationOptions;
+import backstate.estimation.Formulation;
+import backstate.estimation.Prior;
+import com.fasterxml.jackson.annotation.JsonInclude;
+
+/**
+ * Per-trace solve options as users write them (a trace body's {@code options} or query parameters).
+ *
+ * @param formulation     "sampled" (default) or "continuous"
+ * @param estimateOffsets estimate a constant offset per output channel
+ * @param referenceTime   also report the state at this time (seconds, inside the window)
+ * @param prior           Gaussian prior on x0
+ */
+@JsonInclude(JsonInclude.Include.NON_NULL)
+public record TraceOptions(String formulation, Boolean estimateOffsets, Double referenceTime, PriorDocument prior) {
+    public static final TraceOptions NONE = new TraceOptions(null, null, null, null);
+
+    /** Prior mean (n) and covariance (n×n rows). */
+    public record PriorDocument(double[] mean, double[][] covariance) {
+    }
+
+    /** The engine's options; the prior's shape is checked against n. */
+    public EstimationOptions toEstimationOptions(int states, boolean keepSeries) {
+        EstimationOptions options = EstimationOptions.defaults().withKeepSeries(keepSeries)
+                .withFormulation(parsedFormulation())
+                .withOffsets(Boolean.TRUE.equals(estimateOffsets))
+                .withReferenceTime(referenceTime);
+        if (prior != null) {
+            options = options.withPrior(toPrior(states));
+        }
+        return options;
+    }
+
+    private Formulation parsedFormulation() {
+        if (formulation == null || formulation.equals("sampled")) {
+            return Formulation.SAMPLED;
+        }
+        if (formulation.equals("continuous")) {
+            return Formulation.CONTINUOUS;
+        }
+        throw new InputException("options.formulation", "got \"" + formulation + "\", expected \"sampled\" or \"continuous\"");
+    }
+
+    private Prior toPrior(int states) {
+        if (prior.mean() == null || prior.covariance() == null) {
+            throw new InputException("options.prior", "got an incomplete prior, expected mean and covariance");
+        }
+        double[][] cov = prior.covariance();
+        if (cov.length != states) {
+            throw new InputException("options.prior.covariance", "got " + cov.length + " rows, expected " + states);
+        }
+        double[] flat = new double[states * states];
+        for (int i = 0; i < states; i++) {
+            if (cov[i] == null || cov[i].length != states) {
+                throw new InputException("options.prior.covariance[" + i + "]", "expected " + states + " columns");
+            }
+            System.arraycopy(cov[i], 0, flat, i * states, states);
+        }
+        return new Prior(prior.mean().clone(), flat);
+    }
+}
