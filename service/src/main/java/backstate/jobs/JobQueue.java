@@ -1,0 +1,42 @@
+package backstate.jobs;
+
+import backstate.store.NewEstimate;
+import java.time.Instant;
+import java.util.List;
+
+/**
+ * A durable queue of jobs. A claimed job is changed only by the holder of its current attempt:
+ * every "...IfRunning" call returns false, writing nothing, when the job is no longer running
+ * at that attempt (it was rescued, cancelled, or finished by a later attempt).
+ */
+public interface JobQueue {
+
+    /** Claims up to {@code limit} queued jobs, oldest first, in one statement; each gets attempt + 1. */
+    List<ClaimedJob> claimNext(int limit, Instant now);
+
+    /** Marks the job succeeded and, in the same transaction, writes its estimate if given. */
+    boolean completeIfRunning(String jobId, int attempt, NewEstimate estimateOrNull, String resultJsonOrNull,
+                              Instant now);
+
+    /** Marks the job failed for good, appending the error to its errors. */
+    boolean failIfRunning(String jobId, int attempt, String error, Instant now);
+
+    /**
+     * Appends the error and puts the job back in the queue while it has attempts left, otherwise
+     * marks it failed.
+     */
+    boolean retryIfRunning(String jobId, int attempt, String error, Instant now);
+
+    boolean reportProgress(String jobId, int attempt, int done, int total);
+
+    /**
+     * Returns jobs running since before {@code startedBefore} to the queue (or fails those out of
+     * attempts), appending an error that says so; returns how many jobs left 'running'.
+     */
+    int rescueStuck(Instant startedBefore);
+
+    int queuedCount();
+
+    /** Enqueues a job of kind 'estimate' (trace required) or 'regression'; returns its id. */
+    String enqueue(String kind, String traceIdOrNull, String paramsJsonOrNull, Instant now);
+}

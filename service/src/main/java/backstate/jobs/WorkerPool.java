@@ -1,0 +1,224 @@
+package backstate.jobs;
+
+import io.micrometer.core.instrument.MeterRegistry;
+import java.time.Clock;
+import java.time.Duration;
+import java.time.Instant;
+import java.util.List;
+import java.util.concurrent.ExecutorService;
+import java.util.concurrent.Executors;
+import java.util.concurrent.RejectedExecutionException;
+import java.util.concurrent.Semaphore;
+import java.util.concurrent.ThreadFactory;
+import java.util.concurrent.TimeUnit;
+import java.util.concurrent.atomic.AtomicBoolean;
+import java.util.concurrent.atomic.AtomicInteger;
+import java.util.concurrent.locks.LockSupport;
+import org.slf4j.Logger;
+import org.slf4j.LoggerFactory;
+
+/**
+ * Runs queued jobs on a fixed number of worker threads.
+ *
+ * <p>One dispatcher thread claims as many jobs as there are free workers, in one
+ * {@link JobQueue#claimNext} call, and hands them to the workers. It sleeps for {@code idlePoll}
+ * when the queue is empty or every worker is busy, and wakes early when a worker finishes or
+ * {@link #wake()} is called after an enqueue. Every {@code stuckAfter / 4} it also rescues jobs
+ * running longer than {@code stuckAfter} (a hung handler): their late results are refused by the
+ * attempt check, so rescue never lets a job complete twice.
+ *
+ * <p>What a job's outcome does to it is {@link JobRunner}'s concern.
+ */
+public final class WorkerPool implements AutoCloseable {
+
+    /** Fits inside the 30 s a container is usually given to stop, leaving time for the HTTP side. */
+    public static final Duration DEFAULT_SHUTDOWN_GRACE = Duration.ofSeconds(20);
+    /** Far longer than any estimation should run: a job running this long is taken to be hung. */
+    public static final Duration DEFAULT_STUCK_AFTER = Duration.ofHours(1);
+    /** A hung job is rescued at most a quarter of stuckAfter late. */
+    private static final int RESCUE_CHECKS_PER_STUCK_WINDOW = 4;
+
+    private static final Logger LOG = LoggerFactory.getLogger(WorkerPool.class);
+
+    private final JobQueue queue;
+    private final JobRunner runner;
+    private final Clock clock;
+    private final Duration idlePoll;
+    private final Duration shutdownGrace;
+    private final Duration stuckAfter;
+    private final Duration rescueInterval;
+    private final JobMetrics metrics;
+    private final Semaphore freeWorkers;
+    private final ExecutorService workers;
+    private final Thread dispatcher;
+    private final AtomicBoolean started = new AtomicBoolean();
+    private final AtomicBoolean closed = new AtomicBoolean();
+    private volatile boolean stopping;
+    private volatile boolean abandoned;
+
+    public WorkerPool(JobQueue q, JobHandler h, int workers, Clock clock, Duration idlePoll, MeterRegistry registry) {
+        this(q, h, workers, clock, idlePoll, registry, DEFAULT_SHUTDOWN_GRACE, DEFAULT_STUCK_AFTER);
+    }
+
+    public WorkerPool(JobQueue q, JobHandler h, int workers, Clock clock, Duration idlePoll, MeterRegistry registry,
+                      Duration shutdownGrace, Duration stuckAfter) {
+        requireNonNull("queue", q);
+        requireNonNull("handler", h);
+        requireNonNull("clock", clock);
+        requireNonNull("registry", registry);
+        if (workers < 1) {
+            throw new IllegalArgumentException("got workers " + workers + ", expected >= 1");
+        }
+        requirePositive("idlePoll", idlePoll);
+        requirePositive("shutdownGrace", shutdownGrace);
+        requirePositive("stuckAfter", stuckAfter);
+        this.queue = q;
+        this.clock = clock;
+        this.idlePoll = idlePoll;
+        this.shutdownGrace = shutdownGrace;
+        this.stuckAfter = stuckAfter;
+        this.rescueInterval = stuckAfter.dividedBy(RESCUE_CHECKS_PER_STUCK_WINDOW);
+        this.freeWorkers = new Semaphore(workers);
+        this.workers = Executors.newFixedThreadPool(workers, namedDaemons("backstate-worker-"));
+        this.dispatcher = namedDaemons("backstate-dispatcher-").newThread(this::dispatchUntilStopped);
+        this.metrics = new JobMetrics(registry, q);
+        this.runner = new JobRunner(q, h, clock, metrics, () -> abandoned);
+    }
+
+    public void start() {
+        if (!started.compareAndSet(false, true)) {
+            throw new IllegalStateException("got a second start(), expected one");
+        }
+        dispatcher.start();
+    }
+
+    /** Lets an idle pool claim at once, instead of at its next poll; call it after an enqueue. */
+    public void wake() {
+        LockSupport.unpark(dispatcher);
+    }
+
+    /**
+     * Stops claiming, waits up to the shutdown grace for running jobs to finish, then leaves the
+     * rest running in the database for the next start's rescue (their threads are interrupted,
+     * and a failure they then report is not recorded).
+     */
+    @Override
+    public void close() {
+        if (!closed.compareAndSet(false, true)) {
+            return;
+        }
+        stopping = true;
+        wake();
+        awaitDispatcher();
+        workers.shutdown();
+        if (!awaitWorkers()) {
+            abandoned = true;
+            LOG.warn("jobs still running after {}; leaving them for rescue at next start", shutdownGrace);
+            workers.shutdownNow();
+        }
+        metrics.close();
+    }
+
+    private void dispatchUntilStopped() {
+        Instant nextRescue = clock.instant().plus(rescueInterval);
+        while (!stopping) {
+            if (!clock.instant().isBefore(nextRescue)) {
+                rescueStuckJobs();
+                nextRescue = clock.instant().plus(rescueInterval);
+            }
+            if (claimAndDispatch() == 0) {
+                LockSupport.parkNanos(this, idlePoll.toNanos());
+            }
+        }
+    }
+
+    /** Claims up to one job per free worker; returns how many were claimed. */
+    private int claimAndDispatch() {
+        int free = freeWorkers.availablePermits(); // only this thread takes permits, so they stay free
+        if (free == 0) {
+            return 0;
+        }
+        List<ClaimedJob> claimed = claimOrNothing(free);
+        for (ClaimedJob job : claimed) {
+            freeWorkers.acquireUninterruptibly();
+            dispatch(job);
+        }
+        return claimed.size();
+    }
+
+    private List<ClaimedJob> claimOrNothing(int limit) {
+        try {
+            return queue.claimNext(limit, clock.instant());
+        } catch (RuntimeException e) {
+            LOG.warn("claiming jobs failed; retrying after {}", idlePoll, e);
+            return List.of();
+        }
+    }
+
+    private void dispatch(ClaimedJob job) {
+        try {
+            workers.execute(() -> runAndFreeWorker(job));
+        } catch (RejectedExecutionException e) {
+            freeWorkers.release();
+            LOG.warn("job {} claimed while shutting down; left running for rescue", job.id());
+        }
+    }
+
+    private void rescueStuckJobs() {
+        try {
+            int rescued = queue.rescueStuck(clock.instant().minus(stuckAfter));
+            if (rescued > 0) {
+                LOG.warn("rescued {} jobs running for more than {}", rescued, stuckAfter);
+            }
+        } catch (RuntimeException e) {
+            LOG.warn("rescuing stuck jobs failed; trying again in {}", rescueInterval, e);
+        }
+    }
+
+    private void runAndFreeWorker(ClaimedJob job) {
+        try {
+            runner.run(job);
+        } finally {
+            freeWorkers.release();
+            wake();
+        }
+    }
+
+    private void awaitDispatcher() {
+        try {
+            dispatcher.join(shutdownGrace.toMillis());
+        } catch (InterruptedException e) {
+            Thread.currentThread().interrupt();
+        }
+    }
+
+    private boolean awaitWorkers() {
+        try {
+            return workers.awaitTermination(shutdownGrace.toMillis(), TimeUnit.MILLISECONDS);
+        } catch (InterruptedException e) {
+            Thread.currentThread().interrupt();
+            return false;
+        }
+    }
+
+    private static ThreadFactory namedDaemons(String prefix) {
+        AtomicInteger count = new AtomicInteger();
+        return runnable -> {
+            Thread thread = new Thread(runnable, prefix + count.incrementAndGet());
+            thread.setDaemon(true);
+            return thread;
+        };
+    }
+
+    private static void requireNonNull(String name, Object value) {
+        if (value == null) {
+            throw new IllegalArgumentException("got null " + name + ", expected a value");
+        }
+    }
+
+    private static void requirePositive(String name, Duration value) {
+        if (value == null || value.isZero() || value.isNegative()) {
+            throw new IllegalArgumentException("got " + name + " " + value + ", expected a positive duration");
+        }
+    }
+}

@@ -1,0 +1,17 @@
+package backstate.store;
+
+import java.time.Instant;
+import java.util.List;
+
+/**
+ * A job as stored. {@code errors} holds every error recorded against the job, oldest first,
+ * each prefixed with the attempt it belongs to ("attempt 2: ...").
+ */
+public record JobRow(String id, String kind, String state, String traceId, String paramsJson, String resultJson,
+                     int attempt, Instant createdAt, Instant startedAt, Instant finishedAt, List<String> errors,
+                     int progressDone, int progressTotal) {
+
+    public JobRow {
+        errors = List.copyOf(errors);
+    }
+}

@@ -1,0 +1,79 @@
+package backstate.store;
+
+import java.sql.PreparedStatement;
+import java.sql.ResultSet;
+import java.sql.SQLException;
+import java.time.Instant;
+import java.util.ArrayList;
+import java.util.Arrays;
+import java.util.List;
+import java.util.UUID;
+
+/** Small JDBC helpers shared by the SQLite statement classes. */
+final class Sql {
+
+    private Sql() {
+    }
+
+    /** Maps the current row of a result set. */
+    @FunctionalInterface
+    interface RowMapper<T> {
+        T map(ResultSet rs) throws SQLException;
+    }
+
+    /** Binds values to parameters 1..n; a null binds SQL NULL. */
+    static PreparedStatement bind(PreparedStatement ps, Object... values) throws SQLException {
+        for (int i = 0; i < values.length; i++) {
+            ps.setObject(i + 1, values[i]);
+        }
+        return ps;
+    }
+
+    static <T> List<T> list(PreparedStatement ps, RowMapper<T> mapper) throws SQLException {
+        List<T> rows = new ArrayList<>();
+        try (ResultSet rs = ps.executeQuery()) {
+            while (rs.next()) {
+                rows.add(mapper.map(rs));
+            }
+        }
+        return rows;
+    }
+
+    /** The first row, or null when there is none. */
+    static <T> T firstOrNull(PreparedStatement ps, RowMapper<T> mapper) throws SQLException {
+        try (ResultSet rs = ps.executeQuery()) {
+            return rs.next() ? mapper.map(rs) : null;
+        }
+    }
+
+    static String newId() {
+        return UUID.randomUUID().toString();
+    }
+
+    /** Timestamps are stored as epoch milliseconds UTC; sub-millisecond precision is dropped. */
+    static long millis(Instant instant) {
+        return instant.toEpochMilli();
+    }
+
+    static Long millisOrNull(Instant instant) {
+        return instant == null ? null : instant.toEpochMilli();
+    }
+
+    static Instant instant(ResultSet rs, String column) throws SQLException {
+        long millis = rs.getLong(column);
+        return rs.wasNull() ? null : Instant.ofEpochMilli(millis);
+    }
+
+    static Double doubleOrNull(ResultSet rs, String column) throws SQLException {
+        double value = rs.getDouble(column);
+        return rs.wasNull() ? null : value;
+    }
+
+    static String joinFlags(List<String> flags) {
+        return String.join(",", flags);
+    }
+
+    static List<String> splitFlags(String flags) {
+        return flags.isEmpty() ? List.of() : Arrays.asList(flags.split(","));
+    }
+}

@@ -1,0 +1,111 @@
+package backstate.store;
+
+import java.sql.Connection;
+import java.sql.PreparedStatement;
+import java.sql.ResultSet;
+import java.sql.SQLException;
+import java.time.Instant;
+import java.util.List;
+import java.util.Optional;
+
+/** Estimates: written with their job's completion, read newest first per unit. */
+final class SqliteEstimates {
+
+    private static final String ESTIMATE_COLUMNS = "id, job_id, trace_id, unit_id, family, version, created_at,"
+            + " window_start, window_end, chi2_per_dof, flags, summary_json, series";
+
+    private static final String INSERT_ESTIMATE = "INSERT INTO estimates (" + ESTIMATE_COLUMNS + ")"
+            + " VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)";
+    private static final String FIND_ESTIMATE = "SELECT " + ESTIMATE_COLUMNS + " FROM estimates WHERE id = ?";
+    private static final String FIND_ESTIMATE_FOR_JOB =
+            "SELECT " + ESTIMATE_COLUMNS + " FROM estimates WHERE job_id = ?";
+    private static final String FIND_LATEST_ESTIMATE = "SELECT " + ESTIMATE_COLUMNS
+            + " FROM estimates WHERE unit_id = ? ORDER BY created_at DESC, id DESC LIMIT 1";
+    // One statement for every combination of filters: each "? IS NULL OR ..." pair is bound
+    // twice with the same value. PostgreSQL cannot infer a type for a bare "? IS NULL", so there
+    // each first placeholder needs a cast (CAST(? AS text), CAST(? AS bigint)); and instr is
+    // spelled strpos. The keyset condition uses row values, which both support.
+    private static final String LIST_ESTIMATE_HISTORY = "SELECT " + ESTIMATE_COLUMNS + " FROM estimates"
+            + " WHERE unit_id = ?"
+            + " AND (? IS NULL OR family = ?)"
+            + " AND (? IS NULL OR version = ?)"
+            + " AND (? IS NULL OR created_at >= ?)"
+            + " AND (? IS NULL OR created_at < ?)"
+            + " AND (? IS NULL OR instr(',' || flags || ',', ',' || ? || ',') > 0)"
+            + " AND (? IS NULL OR (created_at, id) < (?, ?))"
+            + " ORDER BY created_at DESC, id DESC LIMIT ?";
+
+    private final SqliteConnections db;
+
+    SqliteEstimates(SqliteConnections db) {
+        this.db = db;
+    }
+
+    Optional<EstimateRow> findEstimate(String id) {
+        return findOne(FIND_ESTIMATE, id);
+    }
+
+    Optional<EstimateRow> findEstimateForJob(String jobId) {
+        return findOne(FIND_ESTIMATE_FOR_JOB, jobId);
+    }
+
+    Optional<EstimateRow> latestEstimate(String unitId) {
+        return findOne(FIND_LATEST_ESTIMATE, unitId);
+    }
+
+    EstimatePage estimateHistory(String unitId, EstimateFilter filter, String cursorOrNull, int limit) {
+        Expect.notBlank("unitId", unitId);
+        Expect.notNull("filter", filter);
+        Expect.atLeast("limit", limit, 1);
+        EstimateCursor after = cursorOrNull == null ? null : EstimateCursor.decode(cursorOrNull);
+        // One row more than asked tells whether another page follows.
+        List<EstimateRow> rows = db.read(c -> listHistory(c, unitId, filter, after, limit + 1));
+        if (rows.size() <= limit) {
+            return new EstimatePage(rows, null);
+        }
+        List<EstimateRow> page = rows.subList(0, limit);
+        EstimateRow last = page.get(limit - 1);
+        return new EstimatePage(page, new EstimateCursor(Sql.millis(last.createdAt()), last.id()).encode());
+    }
+
+    private Optional<EstimateRow> findOne(String sql, String key) {
+        return db.read(c -> {
+            try (PreparedStatement ps = Sql.bind(c.prepareStatement(sql), key)) {
+                return Optional.ofNullable(Sql.firstOrNull(ps, SqliteEstimates::estimateRow));
+            }
+        });
+    }
+
+    static void insertEstimate(Connection c, String jobId, NewEstimate e, Instant now) throws SQLException {
+        try (PreparedStatement ps = Sql.bind(c.prepareStatement(INSERT_ESTIMATE), Sql.newId(), jobId,
+                e.traceId(), e.unitId(), e.family(), e.version(), Sql.millis(now), e.windowStart(), e.windowEnd(),
+                e.chi2PerDof(), Sql.joinFlags(e.flags()), e.summaryJson(), e.seriesOrNull())) {
+            ps.executeUpdate();
+        }
+    }
+
+    private static List<EstimateRow> listHistory(Connection c, String unitId, EstimateFilter f,
+                                                 EstimateCursor after, int rows) throws SQLException {
+        Long from = Sql.millisOrNull(f.fromOrNull());
+        Long to = Sql.millisOrNull(f.toOrNull());
+        Long afterMillis = after == null ? null : after.createdAtMillis();
+        String afterId = after == null ? null : after.id();
+        try (PreparedStatement ps = Sql.bind(c.prepareStatement(LIST_ESTIMATE_HISTORY), unitId,
+                f.familyOrNull(), f.familyOrNull(),
+                f.versionOrNull(), f.versionOrNull(),
+                from, from,
+                to, to,
+                f.flagOrNull(), f.flagOrNull(),
+                afterMillis, afterMillis, afterId,
+                rows)) {
+            return Sql.list(ps, SqliteEstimates::estimateRow);
+        }
+    }
+
+    private static EstimateRow estimateRow(ResultSet rs) throws SQLException {
+        return new EstimateRow(rs.getString("id"), rs.getString("job_id"), rs.getString("trace_id"),
+                rs.getString("unit_id"), rs.getString("family"), rs.getInt("version"), Sql.instant(rs, "created_at"),
+                rs.getDouble("window_start"), rs.getDouble("window_end"), Sql.doubleOrNull(rs, "chi2_per_dof"),
+                Sql.splitFlags(rs.getString("flags")), rs.getString("summary_json"), rs.getBytes("series"));
+    }
+}

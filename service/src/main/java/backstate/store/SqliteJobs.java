@@ -1,0 +1,211 @@
+package backstate.store;
+
+import backstate.jobs.ClaimedJob;
+import com.fasterxml.jackson.core.JsonProcessingException;
+import com.fasterxml.jackson.core.type.TypeReference;
+import com.fasterxml.jackson.databind.ObjectMapper;
+import java.sql.Connection;
+import java.sql.PreparedStatement;
+import java.sql.ResultSet;
+import java.sql.SQLException;
+import java.time.Clock;
+import java.time.Instant;
+import java.util.List;
+import java.util.Optional;
+import java.util.Set;
+
+/**
+ * The job queue's named statements, after River: claim in one statement, and change a claimed
+ * job only {@code WHERE state = 'running' AND attempt = ?}, so zero rows means the job was
+ * taken from the caller (rescued, or finished by another attempt) and nothing is overwritten.
+ */
+final class SqliteJobs {
+
+    static final String KIND_ESTIMATE = "estimate";
+    static final Set<String> KINDS = Set.of(KIND_ESTIMATE, "regression");
+
+    private static final String JOB_COLUMNS = "id, kind, state, trace_id, params_json, result_json, attempt,"
+            + " created_at, started_at, finished_at, errors, progress_done, progress_total";
+    // Appends "attempt N: <message>" to the JSON array of errors. json_insert with '$[#]' is
+    // SQLite's JSON1; on PostgreSQL the column is JSONB and the same append reads
+    // COALESCE(errors, '[]'::jsonb) || to_jsonb('attempt ' || attempt || ': ' || ?::text).
+    private static final String APPEND_ERROR =
+            "json_insert(COALESCE(errors, '[]'), '$[#]', 'attempt ' || attempt || ': ' || ?)";
+    // Back to the queue while attempts remain, otherwise failed for good; bound as
+    // (maxAttempts, maxAttempts, now).
+    private static final String REQUEUE_OR_FAIL = "state = CASE WHEN attempt < ? THEN 'queued' ELSE 'failed' END,"
+            + " finished_at = CASE WHEN attempt < ? THEN NULL ELSE ? END";
+    private static final String RESCUE_MESSAGE = "rescued: left running by a worker that crashed, stopped or hung";
+
+    private static final String COUNT_QUEUED = "SELECT COUNT(*) FROM jobs WHERE state = 'queued'";
+    private static final String INSERT_JOB = "INSERT INTO jobs (id, kind, state, trace_id, params_json, attempt,"
+            + " created_at, progress_done, progress_total) VALUES (?, ?, 'queued', ?, ?, 0, ?, 0, 0)";
+    private static final String FIND_JOB = "SELECT " + JOB_COLUMNS + " FROM jobs WHERE id = ?";
+    private static final String CANCEL_IF_QUEUED =
+            "UPDATE jobs SET state = 'cancelled', finished_at = ? WHERE id = ? AND state = 'queued'";
+    // SQLite has one writer, so the inner SELECT cannot race another claimer. PostgreSQL needs
+    // "... ORDER BY created_at LIMIT ? FOR UPDATE SKIP LOCKED" in the inner SELECT instead.
+    // RETURNING gives rows in no particular order on either.
+    private static final String CLAIM_NEXT = """
+            UPDATE jobs SET state = 'running', attempt = attempt + 1, started_at = ?
+            WHERE id IN (SELECT id FROM jobs WHERE state = 'queued' ORDER BY created_at, id LIMIT ?)
+            RETURNING id, kind, trace_id, params_json, attempt""";
+    private static final String COMPLETE_IF_RUNNING = "UPDATE jobs SET state = 'succeeded', finished_at = ?,"
+            + " result_json = ? WHERE id = ? AND state = 'running' AND attempt = ?";
+    private static final String FAIL_IF_RUNNING = "UPDATE jobs SET state = 'failed', finished_at = ?, errors = "
+            + APPEND_ERROR + " WHERE id = ? AND state = 'running' AND attempt = ?";
+    private static final String RETRY_IF_RUNNING = "UPDATE jobs SET " + REQUEUE_OR_FAIL + ", errors = "
+            + APPEND_ERROR + " WHERE id = ? AND state = 'running' AND attempt = ?";
+    private static final String REPORT_PROGRESS = "UPDATE jobs SET progress_done = ?, progress_total = ?"
+            + " WHERE id = ? AND state = 'running' AND attempt = ?";
+    private static final String RESCUE_STUCK = "UPDATE jobs SET " + REQUEUE_OR_FAIL + ", errors = "
+            + APPEND_ERROR + " WHERE state = 'running' AND started_at < ?";
+
+    private static final TypeReference<List<String>> STRING_LIST = new TypeReference<>() {
+    };
+
+    private final SqliteConnections db;
+    private final Clock clock;
+    private final int maxAttempts;
+    private final ObjectMapper json = new ObjectMapper();
+
+    SqliteJobs(SqliteConnections db, Clock clock, int maxAttempts) {
+        this.db = db;
+        this.clock = clock;
+        this.maxAttempts = maxAttempts;
+    }
+
+    String enqueue(String kind, String traceIdOrNull, String paramsJsonOrNull, Instant now) {
+        if (!KINDS.contains(kind)) {
+            throw new IllegalArgumentException("got kind '" + kind + "', expected one of " + KINDS);
+        }
+        if (KIND_ESTIMATE.equals(kind)) {
+            Expect.notBlank("traceId of an estimate job", traceIdOrNull);
+        }
+        return db.write(c -> insertJob(c, kind, traceIdOrNull, paramsJsonOrNull, now));
+    }
+
+    Optional<JobRow> findJob(String id) {
+        return db.read(c -> {
+            try (PreparedStatement ps = Sql.bind(c.prepareStatement(FIND_JOB), id)) {
+                return Optional.ofNullable(Sql.firstOrNull(ps, this::jobRow));
+            }
+        });
+    }
+
+    int queuedCount() {
+        return db.read(SqliteJobs::countQueued);
+    }
+
+    boolean cancelIfQueued(String jobId, Instant now) {
+        return updatedOne(CANCEL_IF_QUEUED, Sql.millis(now), jobId);
+    }
+
+    List<ClaimedJob> claimNext(int limit, Instant now) {
+        Expect.atLeast("limit", limit, 1);
+        return db.write(c -> {
+            try (PreparedStatement ps = Sql.bind(c.prepareStatement(CLAIM_NEXT), Sql.millis(now), limit)) {
+                return Sql.list(ps, SqliteJobs::claimedJob);
+            }
+        });
+    }
+
+    boolean completeIfRunning(String jobId, int attempt, NewEstimate estimateOrNull, String resultJsonOrNull,
+                              Instant now) {
+        return db.write(c -> {
+            if (!updatedOne(c, COMPLETE_IF_RUNNING, Sql.millis(now), resultJsonOrNull, jobId, attempt)) {
+                return false;
+            }
+            if (estimateOrNull != null) {
+                SqliteEstimates.insertEstimate(c, jobId, estimateOrNull, now);
+            }
+            return true;
+        });
+    }
+
+    boolean failIfRunning(String jobId, int attempt, String error, Instant now) {
+        Expect.notNull("error", error);
+        return updatedOne(FAIL_IF_RUNNING, Sql.millis(now), error, jobId, attempt);
+    }
+
+    boolean retryIfRunning(String jobId, int attempt, String error, Instant now) {
+        Expect.notNull("error", error);
+        return updatedOne(RETRY_IF_RUNNING, maxAttempts, maxAttempts, Sql.millis(now), error, jobId, attempt);
+    }
+
+    boolean reportProgress(String jobId, int attempt, int done, int total) {
+        if (done < 0 || done > total) {
+            throw new IllegalArgumentException("got progress " + done + "/" + total + ", expected 0 <= done <= total");
+        }
+        return updatedOne(REPORT_PROGRESS, done, total, jobId, attempt);
+    }
+
+    int rescueStuck(Instant startedBefore) {
+        return rescueStartedBefore(Sql.millis(startedBefore));
+    }
+
+    /** At start-up every running job was left so by a process that is gone. */
+    int rescueAllRunning() {
+        return rescueStartedBefore(Long.MAX_VALUE);
+    }
+
+    static int countQueued(Connection c) throws SQLException {
+        try (PreparedStatement ps = c.prepareStatement(COUNT_QUEUED)) {
+            return Sql.firstOrNull(ps, rs -> rs.getInt(1));
+        }
+    }
+
+    static String insertJob(Connection c, String kind, String traceIdOrNull, String paramsJsonOrNull, Instant now)
+            throws SQLException {
+        String id = Sql.newId();
+        try (PreparedStatement ps = Sql.bind(c.prepareStatement(INSERT_JOB),
+                id, kind, traceIdOrNull, paramsJsonOrNull, Sql.millis(now))) {
+            ps.executeUpdate();
+        }
+        return id;
+    }
+
+    private int rescueStartedBefore(long startedBeforeMillis) {
+        long now = Sql.millis(clock.instant());
+        return db.write(c -> {
+            try (PreparedStatement ps = Sql.bind(c.prepareStatement(RESCUE_STUCK),
+                    maxAttempts, maxAttempts, now, RESCUE_MESSAGE, startedBeforeMillis)) {
+                return ps.executeUpdate();
+            }
+        });
+    }
+
+    private boolean updatedOne(String sql, Object... values) {
+        return db.write(c -> updatedOne(c, sql, values));
+    }
+
+    private static boolean updatedOne(Connection c, String sql, Object... values) throws SQLException {
+        try (PreparedStatement ps = Sql.bind(c.prepareStatement(sql), values)) {
+            return ps.executeUpdate() == 1;
+        }
+    }
+
+    private static ClaimedJob claimedJob(ResultSet rs) throws SQLException {
+        return new ClaimedJob(rs.getString("id"), rs.getString("kind"), rs.getString("trace_id"),
+                rs.getString("params_json"), rs.getInt("attempt"));
+    }
+
+    private JobRow jobRow(ResultSet rs) throws SQLException {
+        return new JobRow(rs.getString("id"), rs.getString("kind"), rs.getString("state"),
+                rs.getString("trace_id"), rs.getString("params_json"), rs.getString("result_json"),
+                rs.getInt("attempt"), Sql.instant(rs, "created_at"), Sql.instant(rs, "started_at"),
+                Sql.instant(rs, "finished_at"), errors(rs.getString("errors")),
+                rs.getInt("progress_done"), rs.getInt("progress_total"));
+    }
+
+    private List<String> errors(String errorsJsonOrNull) {
+        if (errorsJsonOrNull == null) {
+            return List.of();
+        }
+        try {
+            return json.readValue(errorsJsonOrNull, STRING_LIST);
+        } catch (JsonProcessingException e) {
+            throw new StoreException("jobs.errors is not a JSON array of strings: " + errorsJsonOrNull, e);
+        }
+    }
+}

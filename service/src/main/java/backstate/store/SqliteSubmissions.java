@@ -1,0 +1,119 @@
+package backstate.store;
+
+import java.sql.Connection;
+import java.sql.PreparedStatement;
+import java.sql.ResultSet;
+import java.sql.SQLException;
+import java.time.Instant;
+import java.util.Optional;
+
+/** Trace submission: the trace, its queued estimate job and its idempotency key, written together. */
+final class SqliteSubmissions {
+
+    private static final String FIND_IDEMPOTENCY_KEY =
+            "SELECT trace_id, job_id FROM idempotency_keys WHERE unit_id = ? AND key = ?";
+    private static final String INSERT_TRACE = "INSERT INTO traces"
+            + " (id, unit_id, family, version, received_at, samples, window_start, window_end, payload)"
+            + " VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?)";
+    private static final String INSERT_IDEMPOTENCY_KEY =
+            "INSERT INTO idempotency_keys (unit_id, key, trace_id, job_id, created_at) VALUES (?, ?, ?, ?, ?)";
+    private static final String FIND_TRACE = "SELECT id, unit_id, family, version, received_at, samples,"
+            + " window_start, window_end, payload FROM traces WHERE id = ?";
+
+    private final SqliteConnections db;
+
+    SqliteSubmissions(SqliteConnections db) {
+        this.db = db;
+    }
+
+    Submission submitTrace(NewTrace trace, String keyOrNull, int maxQueued, Instant now) throws QueueFullException {
+        Expect.notNull("trace", trace);
+        if (keyOrNull != null) {
+            Expect.notBlank("idempotency key", keyOrNull);
+        }
+        Expect.atLeast("maxQueued", maxQueued, 0);
+        Outcome outcome = db.write(c -> submitInTransaction(c, trace, keyOrNull, maxQueued, now));
+        if (outcome instanceof Refused refused) {
+            throw new QueueFullException(refused.queued(), maxQueued);
+        }
+        return ((Accepted) outcome).submission();
+    }
+
+    Optional<TraceRow> findTrace(String id) {
+        return db.read(c -> {
+            try (PreparedStatement ps = Sql.bind(c.prepareStatement(FIND_TRACE), id)) {
+                return Optional.ofNullable(Sql.firstOrNull(ps, SqliteSubmissions::traceRow));
+            }
+        });
+    }
+
+    /**
+     * What the transaction decided. A refusal travels out as a value, having written nothing,
+     * because the checked QueueFullException cannot cross the transaction's lambda.
+     */
+    private sealed interface Outcome permits Accepted, Refused {
+    }
+
+    private record Accepted(Submission submission) implements Outcome {
+    }
+
+    private record Refused(int queued) implements Outcome {
+    }
+
+    private static Outcome submitInTransaction(Connection c, NewTrace trace, String keyOrNull, int maxQueued,
+                                              Instant now) throws SQLException {
+        if (keyOrNull != null) {
+            Submission first = findByKey(c, trace.unitId(), keyOrNull);
+            if (first != null) {
+                return new Accepted(first);
+            }
+        }
+        int queued = SqliteJobs.countQueued(c);
+        if (queued >= maxQueued) {
+            return new Refused(queued);
+        }
+        requirePublishedVersion(c, trace);
+        String traceId = insertTrace(c, trace, now);
+        String jobId = SqliteJobs.insertJob(c, SqliteJobs.KIND_ESTIMATE, traceId, null, now);
+        if (keyOrNull != null) {
+            insertKey(c, trace.unitId(), keyOrNull, traceId, jobId, now);
+        }
+        return new Accepted(new Submission(traceId, jobId, false));
+    }
+
+    private static Submission findByKey(Connection c, String unitId, String key) throws SQLException {
+        try (PreparedStatement ps = Sql.bind(c.prepareStatement(FIND_IDEMPOTENCY_KEY), unitId, key)) {
+            return Sql.firstOrNull(ps, rs -> new Submission(rs.getString("trace_id"), rs.getString("job_id"), true));
+        }
+    }
+
+    private static void requirePublishedVersion(Connection c, NewTrace trace) throws SQLException {
+        if (SqliteModels.findVersion(c, trace.family(), trace.version()) == null) {
+            throw new IllegalArgumentException("got model " + trace.family() + " version " + trace.version()
+                    + ", expected a published version");
+        }
+    }
+
+    private static String insertTrace(Connection c, NewTrace t, Instant now) throws SQLException {
+        String id = Sql.newId();
+        try (PreparedStatement ps = Sql.bind(c.prepareStatement(INSERT_TRACE), id, t.unitId(), t.family(),
+                t.version(), Sql.millis(now), t.samples(), t.windowStart(), t.windowEnd(), t.payload())) {
+            ps.executeUpdate();
+        }
+        return id;
+    }
+
+    private static void insertKey(Connection c, String unitId, String key, String traceId, String jobId,
+                                  Instant now) throws SQLException {
+        try (PreparedStatement ps = Sql.bind(c.prepareStatement(INSERT_IDEMPOTENCY_KEY),
+                unitId, key, traceId, jobId, Sql.millis(now))) {
+            ps.executeUpdate();
+        }
+    }
+
+    private static TraceRow traceRow(ResultSet rs) throws SQLException {
+        return new TraceRow(rs.getString("id"), rs.getString("unit_id"), rs.getString("family"),
+                rs.getInt("version"), Sql.instant(rs, "received_at"), rs.getInt("samples"),
+                rs.getDouble("window_start"), rs.getDouble("window_end"), rs.getBytes("payload"));
+    }
+}

@@ -1,0 +1,238 @@
+package backstate.jobs;
+
+import static java.util.concurrent.TimeUnit.SECONDS;
+import static org.junit.jupiter.api.Assertions.assertEquals;
+import static org.junit.jupiter.api.Assertions.assertTrue;
+
+import backstate.store.JobRow;
+import backstate.store.NewEstimate;
+import backstate.store.SqliteStore;
+import backstate.store.StoreFixture;
+import backstate.store.Submission;
+import backstate.store.TraceRow;
+import io.micrometer.core.instrument.simple.SimpleMeterRegistry;
+import java.nio.file.Path;
+import java.time.Duration;
+import java.util.ArrayList;
+import java.util.List;
+import java.util.Map;
+import java.util.concurrent.ConcurrentHashMap;
+import java.util.concurrent.CountDownLatch;
+import java.util.concurrent.CyclicBarrier;
+import java.util.concurrent.atomic.AtomicInteger;
+import org.junit.jupiter.api.AfterEach;
+import org.junit.jupiter.api.BeforeEach;
+import org.junit.jupiter.api.Test;
+import org.junit.jupiter.api.io.TempDir;
+
+class WorkerPoolTest {
+
+    /**
+     * Waits below are guards against a hang, not timing assertions: every one is expected to
+     * return almost at once, and only a bug makes one run out.
+     */
+    private static final long HANG_GUARD_SECONDS = 60;
+    private static final Duration IDLE_POLL = Duration.ofMillis(20);
+    private static final Duration SHORT_GRACE = Duration.ofMillis(200);
+    private static final Duration STUCK_AFTER = Duration.ofHours(1);
+    private static final int ROOMY = 1000;
+
+    @TempDir
+    Path dir;
+    StoreFixture fx;
+    SqliteStore store;
+    SimpleMeterRegistry registry = new SimpleMeterRegistry();
+
+    @BeforeEach
+    void open() {
+        fx = new StoreFixture(dir);
+        store = fx.store;
+    }
+
+    @AfterEach
+    void close() {
+        fx.close();
+    }
+
+    @Test
+    void every_job_runs_to_succeeded_exactly_once_with_three_workers() throws Exception {
+        int submitters = 2;
+        int jobsEach = 20;
+        int jobs = submitters * jobsEach;
+        Map<String, AtomicInteger> runs = new ConcurrentHashMap<>();
+        CountDownLatch allRun = new CountDownLatch(jobs);
+        CyclicBarrier firstTwoTogether = new CyclicBarrier(2);
+        AtomicInteger started = new AtomicInteger();
+        JobHandler handler = job -> {
+            if (started.incrementAndGet() <= 2) {
+                firstTwoTogether.await(HANG_GUARD_SECONDS, SECONDS); // proves two workers run at once
+            }
+            runs.computeIfAbsent(job.id(), id -> new AtomicInteger()).incrementAndGet();
+            allRun.countDown();
+            return new JobOutcome.Succeeded(estimateFor(store.findTrace(job.traceId()).orElseThrow()), "{\"ok\":true}");
+        };
+
+        try (WorkerPool pool = pool(handler, 3, WorkerPool.DEFAULT_SHUTDOWN_GRACE)) {
+            pool.start();
+            List<Thread> threads = new ArrayList<>();
+            for (int t = 0; t < submitters; t++) {
+                String unit = "unit-" + t;
+                threads.add(new Thread(() -> submitAndWake(pool, unit, jobsEach)));
+            }
+            threads.forEach(Thread::start);
+            for (Thread thread : threads) {
+                thread.join(SECONDS.toMillis(HANG_GUARD_SECONDS));
+            }
+            assertTrue(allRun.await(HANG_GUARD_SECONDS, SECONDS), "handlers still pending: " + allRun.getCount());
+        }
+
+        assertEquals(jobs, runs.size());
+        assertTrue(runs.values().stream().allMatch(n -> n.get() == 1), runs.toString());
+        assertEquals(jobs, fx.count("SELECT COUNT(*) FROM jobs WHERE state = 'succeeded' AND attempt = 1"));
+        assertEquals(jobs, fx.count("SELECT COUNT(DISTINCT job_id) FROM estimates"));
+        assertEquals(jobs, fx.rows("estimates"));
+        assertEquals(jobs, timerCount("estimate", JobMetrics.SUCCEEDED));
+        fx.close();
+        assertEquals("ok", fx.integrityCheck());
+    }
+
+    @Test
+    void a_job_that_keeps_throwing_is_retried_then_failed_with_every_error() throws Exception {
+        Submission s = submit("unit-1");
+        CountDownLatch threeRuns = new CountDownLatch(3);
+        JobHandler handler = job -> {
+            threeRuns.countDown();
+            throw new IllegalStateException("boom");
+        };
+
+        try (WorkerPool pool = pool(handler, 2, WorkerPool.DEFAULT_SHUTDOWN_GRACE)) {
+            pool.start();
+            assertTrue(threeRuns.await(HANG_GUARD_SECONDS, SECONDS));
+        }
+
+        JobRow row = store.findJob(s.jobId()).orElseThrow();
+        assertEquals(List.of("failed", 3), List.of(row.state(), row.attempt()));
+        assertEquals(List.of("attempt 1: java.lang.IllegalStateException: boom",
+                "attempt 2: java.lang.IllegalStateException: boom",
+                "attempt 3: java.lang.IllegalStateException: boom"), row.errors());
+        assertEquals(3, timerCount("estimate", JobMetrics.ERRORED));
+    }
+
+    @Test
+    void a_failed_outcome_fails_the_job_at_once_without_retry() throws Exception {
+        Submission s = submit("unit-1");
+        CountDownLatch ran = new CountDownLatch(1);
+        JobHandler handler = job -> {
+            ran.countDown();
+            return new JobOutcome.Failed("no convergence");
+        };
+
+        try (WorkerPool pool = pool(handler, 2, WorkerPool.DEFAULT_SHUTDOWN_GRACE)) {
+            pool.start();
+            assertTrue(ran.await(HANG_GUARD_SECONDS, SECONDS));
+        }
+
+        JobRow row = store.findJob(s.jobId()).orElseThrow();
+        assertEquals(List.of("failed", 1, List.of("attempt 1: no convergence"), fx.clock.instant()),
+                List.of(row.state(), row.attempt(), row.errors(), row.finishedAt()));
+        assertEquals(0, fx.rows("estimates"));
+        assertEquals(1, timerCount("estimate", JobMetrics.FAILED));
+    }
+
+    @Test
+    void close_leaves_a_job_that_outlives_the_grace_running_for_the_next_start() throws Exception {
+        Submission s = submit("unit-1");
+        CountDownLatch started = new CountDownLatch(1);
+        CountDownLatch never = new CountDownLatch(1);
+        JobHandler handler = job -> {
+            started.countDown();
+            never.await(); // interrupted by close once the grace runs out
+            return new JobOutcome.Succeeded(null, null);
+        };
+
+        WorkerPool pool = pool(handler, 1, SHORT_GRACE);
+        pool.start();
+        assertTrue(started.await(HANG_GUARD_SECONDS, SECONDS));
+        pool.close();
+
+        assertEquals("running", store.findJob(s.jobId()).orElseThrow().state());
+        fx.close();
+        try (SqliteStore reopened = new SqliteStore(fx.file, fx.clock)) {
+            JobRow row = reopened.findJob(s.jobId()).orElseThrow();
+            assertEquals(List.of("queued", 1), List.of(row.state(), row.attempt()));
+            assertEquals(List.of("attempt 1: rescued: left running by a worker that crashed, stopped or hung"),
+                    row.errors());
+        }
+    }
+
+    @Test
+    void a_hung_job_is_rescued_on_the_timer_and_its_late_result_is_refused() throws Exception {
+        Submission s = submit("unit-1");
+        TraceRow trace = store.findTrace(s.traceId()).orElseThrow();
+        CountDownLatch firstStarted = new CountDownLatch(1);
+        CountDownLatch releaseFirst = new CountDownLatch(1);
+        CountDownLatch secondDone = new CountDownLatch(1);
+        JobHandler handler = job -> {
+            if (job.attempt() == 1) {
+                firstStarted.countDown();
+                releaseFirst.await(HANG_GUARD_SECONDS, SECONDS);
+                return new JobOutcome.Succeeded(estimateFor(trace), "{\"attempt\":1}");
+            }
+            secondDone.countDown();
+            return new JobOutcome.Succeeded(estimateFor(trace), "{\"attempt\":2}");
+        };
+
+        try (WorkerPool pool = pool(handler, 2, WorkerPool.DEFAULT_SHUTDOWN_GRACE)) {
+            pool.start();
+            assertTrue(firstStarted.await(HANG_GUARD_SECONDS, SECONDS));
+            fx.clock.advance(STUCK_AFTER.plusMinutes(1));
+            pool.wake();
+            assertTrue(secondDone.await(HANG_GUARD_SECONDS, SECONDS));
+            releaseFirst.countDown();
+        }
+
+        JobRow row = store.findJob(s.jobId()).orElseThrow();
+        assertEquals(List.of("succeeded", 2, "{\"attempt\":2}"), List.of(row.state(), row.attempt(), row.resultJson()));
+        assertEquals(1, fx.rows("estimates"));
+        assertEquals(1, timerCount("estimate", JobMetrics.SUCCEEDED));
+        assertEquals(1, timerCount("estimate", JobMetrics.LOST));
+    }
+
+    @Test
+    void the_queue_depth_gauge_reads_the_queued_jobs_until_the_pool_closes() throws Exception {
+        submit("unit-1");
+        submit("unit-2");
+        WorkerPool pool = pool(job -> new JobOutcome.Succeeded(null, null), 1, WorkerPool.DEFAULT_SHUTDOWN_GRACE);
+
+        assertEquals(2.0, registry.get(JobMetrics.QUEUE_DEPTH).gauge().value());
+        pool.close();
+        assertEquals(List.of(), registry.find(JobMetrics.QUEUE_DEPTH).gauges().stream().toList());
+    }
+
+    private WorkerPool pool(JobHandler handler, int workers, Duration grace) {
+        return new WorkerPool(store, handler, workers, fx.clock, IDLE_POLL, registry, grace, STUCK_AFTER);
+    }
+
+    private Submission submit(String unit) throws Exception {
+        return store.submitTrace(StoreFixture.trace(unit), null, ROOMY, fx.clock.instant());
+    }
+
+    private void submitAndWake(WorkerPool pool, String unit, int count) {
+        try {
+            for (int i = 0; i < count; i++) {
+                submit(unit);
+                pool.wake();
+            }
+        } catch (Exception e) {
+            throw new AssertionError("submission failed", e);
+        }
+    }
+
+    private long timerCount(String kind, String outcome) {
+        return registry.get(JobMetrics.JOB_DURATION).tag("kind", kind).tag("outcome", outcome).timer().count();
+    }
+
+    private static NewEstimate estimateFor(TraceRow trace) {
+        return StoreFixture.estimate(trace.id(), trace.unitId(), trace.family(), trace.version(), List.of(), "{}");
+    }
+}

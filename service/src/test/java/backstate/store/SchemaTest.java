@@ -1,0 +1,159 @@
+package backstate.store;
+
+import static org.junit.jupiter.api.Assertions.assertEquals;
+import static org.junit.jupiter.api.Assertions.assertThrows;
+import static org.junit.jupiter.api.Assertions.assertTrue;
+
+import java.nio.file.Path;
+import java.sql.Connection;
+import java.sql.ResultSet;
+import java.sql.SQLException;
+import java.sql.Statement;
+import java.util.ArrayList;
+import java.util.List;
+import org.junit.jupiter.api.AfterEach;
+import org.junit.jupiter.api.BeforeEach;
+import org.junit.jupiter.api.Test;
+import org.junit.jupiter.api.io.TempDir;
+
+class SchemaTest {
+
+    @TempDir
+    Path dir;
+    StoreFixture fx;
+
+    @BeforeEach
+    void open() {
+        fx = new StoreFixture(dir);
+    }
+
+    @AfterEach
+    void close() {
+        fx.close();
+    }
+
+    @Test
+    void migrations_create_every_table_and_index() throws SQLException {
+        List<String> names = strings("SELECT name FROM sqlite_schema WHERE type IN ('table', 'index', 'trigger')"
+                + " AND name NOT LIKE 'sqlite_%' AND name NOT LIKE 'flyway_%' ORDER BY name");
+        assertEquals(List.of("estimates", "estimates_by_model", "estimates_by_unit_newest", "idempotency_keys",
+                "jobs", "jobs_by_state_and_age", "model_families", "model_versions",
+                "model_versions_are_immutable", "model_versions_stay_retired", "traces"), names);
+    }
+
+    @Test
+    void store_connections_use_wal_full_sync_and_foreign_keys() throws SQLException {
+        // journal_mode belongs to the file; the others are per connection, so ask a store's own.
+        assertEquals(List.of("wal"), strings("PRAGMA journal_mode"));
+        Connection[] writer = new Connection[1];
+        try (SqliteStore second = new SqliteStore(fx.file, fx.clock, SqliteSettings.defaults(), c -> writer[0] = c)) {
+            assertEquals("2", pragma(writer[0], "synchronous")); // 2 = FULL
+            assertEquals("1", pragma(writer[0], "foreign_keys"));
+            assertEquals(String.valueOf(SqliteSettings.DEFAULT_BUSY_TIMEOUT.toMillis()),
+                    pragma(writer[0], "busy_timeout"));
+        }
+    }
+
+    private static String pragma(Connection c, String name) throws SQLException {
+        try (Statement s = c.createStatement(); ResultSet rs = s.executeQuery("PRAGMA " + name)) {
+            rs.next();
+            return rs.getString(1);
+        }
+    }
+
+    @Test
+    void reopening_keeps_rows_and_does_not_migrate_again() throws SQLException {
+        fx.close();
+        try (SqliteStore reopened = new SqliteStore(fx.file, fx.clock)) {
+            assertEquals(1, reopened.listVersions(StoreFixture.FAMILY).size());
+        }
+        assertEquals(1, fx.count("SELECT COUNT(*) FROM flyway_schema_history WHERE success = 1"));
+    }
+
+    @Test
+    void finished_at_on_a_queued_job_is_rejected() {
+        assertRejected("INSERT INTO jobs (id, kind, state, attempt, created_at, finished_at)"
+                + " VALUES ('j', 'regression', 'queued', 0, 1, 2)");
+    }
+
+    @Test
+    void a_succeeded_job_without_finished_at_is_rejected() {
+        assertRejected("INSERT INTO jobs (id, kind, state, attempt, created_at, started_at)"
+                + " VALUES ('j', 'regression', 'succeeded', 1, 1, 2)");
+    }
+
+    @Test
+    void a_running_job_without_started_at_is_rejected() {
+        assertRejected("INSERT INTO jobs (id, kind, state, attempt, created_at)"
+                + " VALUES ('j', 'regression', 'running', 1, 1)");
+    }
+
+    @Test
+    void an_unknown_job_state_or_kind_is_rejected() {
+        assertRejected("INSERT INTO jobs (id, kind, state, attempt, created_at) VALUES ('j', 'regression', 'paused', 0, 1)");
+        assertRejected("INSERT INTO jobs (id, kind, state, attempt, created_at) VALUES ('j', 'train', 'queued', 0, 1)");
+    }
+
+    @Test
+    void an_estimate_job_without_a_trace_is_rejected() {
+        assertRejected("INSERT INTO jobs (id, kind, state, attempt, created_at) VALUES ('j', 'estimate', 'queued', 0, 1)");
+    }
+
+    @Test
+    void progress_beyond_its_total_is_rejected() {
+        assertRejected("INSERT INTO jobs (id, kind, state, attempt, created_at, progress_done, progress_total)"
+                + " VALUES ('j', 'regression', 'queued', 0, 1, 5, 4)");
+    }
+
+    @Test
+    void errors_that_are_not_a_json_array_are_rejected() {
+        assertRejected("INSERT INTO jobs (id, kind, state, attempt, created_at, errors)"
+                + " VALUES ('j', 'regression', 'queued', 0, 1, '\"boom\"')");
+    }
+
+    @Test
+    void a_text_where_an_integer_belongs_is_rejected() {
+        assertRejected("INSERT INTO jobs (id, kind, state, attempt, created_at)"
+                + " VALUES ('j', 'regression', 'queued', 'zero', 1)");
+    }
+
+    @Test
+    void a_published_version_cannot_be_edited_or_unretired() throws SQLException {
+        assertRejected("UPDATE model_versions SET states = 3 WHERE family = 'pump'");
+        assertTrue(fx.store.retireVersion(StoreFixture.FAMILY, StoreFixture.VERSION));
+        assertRejected("UPDATE model_versions SET status = 'active' WHERE family = 'pump'");
+    }
+
+    @Test
+    void a_second_estimate_for_one_job_is_rejected() throws SQLException {
+        try (Connection c = fx.raw(); Statement s = c.createStatement()) {
+            s.execute("INSERT INTO jobs (id, kind, state, attempt, created_at) VALUES ('j', 'regression', 'queued', 0, 1)");
+            s.execute("INSERT INTO traces VALUES ('t', 'u', 'pump', 1, 1, 3, 0.0, 1.0, x'00')");
+            s.execute(estimateInsert("e1"));
+        }
+        assertRejected(estimateInsert("e2"));
+    }
+
+    private static String estimateInsert(String id) {
+        return "INSERT INTO estimates (id, job_id, trace_id, unit_id, family, version, created_at, window_start,"
+                + " window_end, flags, summary_json) VALUES ('" + id + "', 'j', 't', 'u', 'pump', 1, 1, 0.0, 1.0, '', '{}')";
+    }
+
+    private void assertRejected(String sql) {
+        assertThrows(SQLException.class, () -> {
+            try (Connection c = fx.raw(); Statement s = c.createStatement()) {
+                s.execute(sql);
+            }
+        }, sql);
+    }
+
+    private List<String> strings(String sql) throws SQLException {
+        List<String> out = new ArrayList<>();
+        try (Connection c = fx.raw(); Statement s = c.createStatement(); ResultSet rs = s.executeQuery(sql)) {
+            while (rs.next()) {
+                out.add(rs.getString(1));
+            }
+        }
+        return out;
+    }
+}

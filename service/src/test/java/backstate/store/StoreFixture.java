@@ -1,0 +1,93 @@
+package backstate.store;
+
+import java.nio.charset.StandardCharsets;
+import java.nio.file.Path;
+import java.sql.Connection;
+import java.sql.DriverManager;
+import java.sql.PreparedStatement;
+import java.sql.ResultSet;
+import java.sql.SQLException;
+import java.sql.Statement;
+import java.time.Instant;
+import java.util.List;
+
+/**
+ * A store on a fresh file with one published model ("pump" version 1), a test clock, and raw
+ * JDBC access to the same file for counting rows and checking integrity behind the store's back.
+ */
+public final class StoreFixture implements AutoCloseable {
+
+    public static final Instant T0 = Instant.parse("2025-03-01T12:00:00Z");
+    public static final String FAMILY = "pump";
+    public static final int VERSION = 1;
+
+    public final Path file;
+    public final TestClock clock = new TestClock(T0);
+    public final SqliteStore store;
+
+    public StoreFixture(Path dir) {
+        this(dir, SqliteSettings.defaults());
+    }
+
+    public StoreFixture(Path dir, SqliteSettings settings) {
+        this.file = dir.resolve("backstate.db");
+        this.store = new SqliteStore(file, clock, settings);
+        publishPump(store);
+    }
+
+    public static void publishPump(Store store) {
+        store.createFamily(FAMILY, "test pumps", T0);
+        store.publishVersion(pumpVersion(), T0);
+    }
+
+    public static NewModelVersion pumpVersion() {
+        return new NewModelVersion(FAMILY, "discrete", 2, 1, 1, "{\"a\":[[1,0],[0,1]]}", "{\"rank\":2}");
+    }
+
+    public static NewTrace trace(String unitId) {
+        return new NewTrace(unitId, FAMILY, VERSION, 3, 0.0, 2.0, unitId.getBytes(StandardCharsets.UTF_8));
+    }
+
+    public static NewEstimate estimate(String traceId, String unitId, String family, int version,
+                                       List<String> flags, String summaryJson) {
+        return new NewEstimate(traceId, unitId, family, version, 0.0, 2.0, 1.25, flags, summaryJson, new byte[] {7});
+    }
+
+    public Connection raw() throws SQLException {
+        return DriverManager.getConnection("jdbc:sqlite:" + file.toAbsolutePath());
+    }
+
+    public long count(String sql, Object... params) throws SQLException {
+        try (Connection c = raw(); PreparedStatement ps = c.prepareStatement(sql)) {
+            for (int i = 0; i < params.length; i++) {
+                ps.setObject(i + 1, params[i]);
+            }
+            try (ResultSet rs = ps.executeQuery()) {
+                rs.next();
+                return rs.getLong(1);
+            }
+        }
+    }
+
+    public long rows(String table) throws SQLException {
+        return count("SELECT COUNT(*) FROM " + table);
+    }
+
+    public String integrityCheck() throws SQLException {
+        return integrityCheck(file);
+    }
+
+    public static String integrityCheck(Path file) throws SQLException {
+        try (Connection c = DriverManager.getConnection("jdbc:sqlite:" + file.toAbsolutePath());
+             Statement s = c.createStatement();
+             ResultSet rs = s.executeQuery("PRAGMA integrity_check")) {
+            rs.next();
+            return rs.getString(1);
+        }
+    }
+
+    @Override
+    public void close() {
+        store.close();
+    }
+}
