@@ -16,6 +16,7 @@ final class CsvRecords {
     private final Reader reader;
     private final int maxFields;
     private long line = 1;
+    private long recordLine = 1;
     private int peeked = -2;
 
     CsvRecords(Reader reader, int maxFields) {
@@ -25,7 +26,7 @@ final class CsvRecords {
 
     /** Line number where the record last returned started. */
     long line() {
-        return line;
+        return recordLine;
     }
 
     /** The next record, or null at the end of input. A blank line ends nothing and is skipped. */
@@ -40,6 +41,7 @@ final class CsvRecords {
                 continue;
             }
             unread(c);
+            recordLine = line;
             return record();
         }
     }
