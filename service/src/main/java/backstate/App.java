@@ -7,6 +7,8 @@ import backstate.config.Settings;
 import backstate.formats.Json;
 import backstate.formats.Limits;
 import backstate.jobs.EstimateJobHandler;
+import backstate.jobs.HandlersByKind;
+import backstate.jobs.JobHandler;
 import backstate.jobs.WorkerPool;
 import backstate.store.SqliteStore;
 import com.fasterxml.jackson.databind.ObjectMapper;
@@ -16,6 +18,7 @@ import java.nio.file.Path;
 import java.time.Clock;
 import java.time.Duration;
 import java.util.Arrays;
+import java.util.Map;
 import org.slf4j.Logger;
 import org.slf4j.LoggerFactory;
 
@@ -34,8 +37,9 @@ public final class App implements AutoCloseable {
         ObjectMapper mapper = Json.mapper(limits);
         PrometheusMeterRegistry registry = new PrometheusMeterRegistry(PrometheusConfig.DEFAULT);
         this.store = new SqliteStore(settings.database(), clock);
-        this.workers = new WorkerPool(store, new EstimateJobHandler(store, mapper, limits, registry), settings.workers(),
-                clock, IDLE_POLL, registry);
+        JobHandler handlers = new HandlersByKind(Map.of(
+                "estimate", new EstimateJobHandler(store, mapper, limits, registry)));
+        this.workers = new WorkerPool(store, handlers, settings.workers(), clock, IDLE_POLL, registry);
         this.api = new ApiServer(new ApiServer.Wiring(store, mapper, clock, registry, limits, settings.maxBodyBytes(),
                 settings.maxQueued(), store::queuedCount, workers::wake));
     }

@@ -53,24 +53,24 @@ public final class ApiServer implements AutoCloseable {
         HandlerType get = HandlerType.GET;
         HandlerType post = HandlerType.POST;
         return List.of(
-                new Route(get, "/healthz", service::health),
-                new Route(get, "/readyz", service::ready),
-                new Route(get, "/metrics", service::metrics),
-                new Route(get, "/openapi.yaml", service::openapi),
-                new Route(post, "/v1/models", models::createFamily),
-                new Route(get, "/v1/models", models::listFamilies),
-                new Route(get, "/v1/models/{family}", models::getFamily),
-                new Route(post, "/v1/models/{family}/versions", models::publishVersion),
-                new Route(get, "/v1/models/{family}/versions", models::listVersions),
-                new Route(get, "/v1/models/{family}/versions/{version}", models::getVersion),
-                new Route(post, "/v1/models/{family}/versions/{version}/retire", models::retireVersion),
-                new Route(post, "/v1/units/{unitId}/traces", traces::submit),
-                new Route(get, "/v1/units/{unitId}/estimates", estimates::history),
-                new Route(get, "/v1/units/{unitId}/estimates/latest", estimates::latest),
-                new Route(get, "/v1/jobs/{jobId}", jobs::get),
-                new Route(post, "/v1/jobs/{jobId}/cancel", jobs::cancel),
-                new Route(get, "/v1/estimates/{estimateId}", estimates::get),
-                new Route(get, "/v1/estimates/{estimateId}/series", estimates::series));
+                new Route(get, "/healthz", Access.PUBLIC, service::health),
+                new Route(get, "/readyz", Access.PUBLIC, service::ready),
+                new Route(get, "/metrics", Access.PUBLIC, service::metrics),
+                new Route(get, "/openapi.yaml", Access.PUBLIC, service::openapi),
+                new Route(post, "/v1/models", Access.ADMIN, models::createFamily),
+                new Route(get, "/v1/models", Access.ANY_KEY, models::listFamilies),
+                new Route(get, "/v1/models/{family}", Access.ANY_KEY, models::getFamily),
+                new Route(post, "/v1/models/{family}/versions", Access.ADMIN, models::publishVersion),
+                new Route(get, "/v1/models/{family}/versions", Access.ANY_KEY, models::listVersions),
+                new Route(get, "/v1/models/{family}/versions/{version}", Access.ANY_KEY, models::getVersion),
+                new Route(post, "/v1/models/{family}/versions/{version}/retire", Access.ADMIN, models::retireVersion),
+                new Route(post, "/v1/units/{unitId}/traces", Access.GATEWAY_FOR_UNIT, traces::submit),
+                new Route(get, "/v1/units/{unitId}/estimates", Access.READER, estimates::history),
+                new Route(get, "/v1/units/{unitId}/estimates/latest", Access.READER, estimates::latest),
+                new Route(get, "/v1/jobs/{jobId}", Access.JOB_OF_UNIT, jobs::get),
+                new Route(post, "/v1/jobs/{jobId}/cancel", Access.JOB_OF_UNIT, jobs::cancel),
+                new Route(get, "/v1/estimates/{estimateId}", Access.READER, estimates::get),
+                new Route(get, "/v1/estimates/{estimateId}/series", Access.READER, estimates::series));
     }
 
     /** Method and path of every route, e.g. "GET /v1/jobs/{jobId}". */
