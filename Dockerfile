@@ -1,0 +1,22 @@
+# Build stage: compile and package the shaded jar (tests run in CI, not in the image build).
+FROM maven:3.9-eclipse-temurin-17 AS build
+WORKDIR /src
+COPY pom.xml .
+COPY service/pom.xml service/pom.xml
+COPY service/src service/src
+COPY openapi openapi
+RUN mvn -B -q -pl service -am package -DskipTests
+
+# Runtime stage: JRE only, non-root, database on a volume.
+FROM eclipse-temurin:17-jre
+RUN useradd --system --uid 10001 --home-dir /var/lib/backstate backstate \
+ && mkdir -p /var/lib/backstate && chown backstate /var/lib/backstate \
+ && apt-get update && apt-get install -y --no-install-recommends curl && rm -rf /var/lib/apt/lists/*
+COPY --from=build /src/service/target/backstate.jar /opt/backstate/backstate.jar
+USER backstate
+VOLUME ["/var/lib/backstate"]
+ENV BACKSTATE_DATABASE=/var/lib/backstate/backstate.db BACKSTATE_PORT=8080
+EXPOSE 8080
+HEALTHCHECK --interval=30s --timeout=3s --start-period=20s CMD curl -fsS http://localhost:8080/readyz || exit 1
+ENTRYPOINT ["java", "-XX:MaxRAMPercentage=75", "-jar", "/opt/backstate/backstate.jar"]
+CMD ["serve"]
