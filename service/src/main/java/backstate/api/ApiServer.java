@@ -1,5 +1,6 @@
 package backstate.api;
 
+import backstate.auth.ApiKeys;
 import backstate.formats.Limits;
 import backstate.store.Store;
 import com.fasterxml.jackson.databind.ObjectMapper;
@@ -8,6 +9,7 @@ import io.javalin.http.HandlerType;
 import io.javalin.json.JavalinJackson;
 import io.micrometer.core.instrument.Timer;
 import io.micrometer.prometheusmetrics.PrometheusMeterRegistry;
+import java.security.SecureRandom;
 import java.time.Clock;
 import java.util.List;
 import java.util.concurrent.TimeUnit;
@@ -20,26 +22,43 @@ public final class ApiServer implements AutoCloseable {
 
     /** What the routes need; wired by hand in App. */
     public record Wiring(Store store, ObjectMapper mapper, Clock clock, PrometheusMeterRegistry registry, Limits limits,
-                         long maxBodyBytes, int maxQueued, IntSupplier queued, Runnable wakeWorkers) {
+                         long maxBodyBytes, int maxQueued, IntSupplier queued, Runnable wakeWorkers,
+                         ApiKeys keys, boolean auth) {
+
+        /** Access control off (tests that drive the API directly); key management still works on the store. */
+        public Wiring(Store store, ObjectMapper mapper, Clock clock, PrometheusMeterRegistry registry, Limits limits,
+                      long maxBodyBytes, int maxQueued, IntSupplier queued, Runnable wakeWorkers) {
+            this(store, mapper, clock, registry, limits, maxBodyBytes, maxQueued, queued, wakeWorkers,
+                    new ApiKeys(store, clock, new SecureRandom()), false);
+        }
     }
 
     public ApiServer(Wiring w) {
         this.routes = routes(w);
         ProblemMapper problems = new ProblemMapper(w.mapper());
+        AccessGuard guard = new AccessGuard(w.keys(), w.store(), w.auth());
         this.app = Javalin.create(config -> {
             config.startup.showJavalinBanner = false;
             config.jsonMapper(new JavalinJackson(w.mapper(), false));
             config.http.maxRequestSize = w.maxBodyBytes();
+            config.http.prefer405over404 = true;
+            config.jetty.modifyServer(server -> server.setErrorHandler(new ProtocolErrors(w.mapper())));
             config.requestLogger.http((ctx, ms) -> Timer.builder("backstate.http.latency")
                     .tag("method", ctx.method().name())
-                    .tag("route", ctx.endpoint() == null ? "unmatched" : ctx.endpoint().path)
+                    .tag("route", matchedPath(ctx))
                     .tag("status", Integer.toString(ctx.statusCode()))
                     .register(w.registry()).record((long) (ms * 1_000_000L), TimeUnit.NANOSECONDS));
             problems.register(config.routes);
             for (Route r : routes) {
-                config.routes.addEndpoint(new io.javalin.router.Endpoint(r.method(), r.path(), r.handler(), java.util.Set.of()));
+                config.routes.addEndpoint(new io.javalin.router.Endpoint(r.method(), r.path(), guard.wrap(r), java.util.Set.of()));
             }
         });
+    }
+
+    /** The route template that served a request, or "unmatched" (Javalin 7's ctx.endpoint() throws when none matched). */
+    private static String matchedPath(io.javalin.http.Context ctx) {
+        List<io.javalin.router.Endpoint> visited = ctx.endpoints().list();
+        return visited.isEmpty() ? "unmatched" : visited.get(visited.size() - 1).path;
     }
 
     /** The route table: a reader sees the whole API here. */
@@ -50,6 +69,11 @@ public final class ApiServer implements AutoCloseable {
         JobRoutes jobs = new JobRoutes(w.store(), w.clock());
         EstimateRoutes estimates = new EstimateRoutes(w.store(), w.mapper());
         ServiceRoutes service = new ServiceRoutes(w.store(), w.registry(), w.queued(), w.maxQueued());
+        KeyRoutes keys = new KeyRoutes(w.keys(), w.mapper());
+        RegressionRoutes regressions = new RegressionRoutes(w.store(), w.mapper(), w.clock(), w.maxBodyBytes(),
+                w.maxQueued(), w.wakeWorkers());
+        FleetRoutes fleet = new FleetRoutes(w.store(), w.mapper(), w.clock());
+        PlanRoutes plans = new PlanRoutes(w.store(), w.mapper(), w.limits());
         HandlerType get = HandlerType.GET;
         HandlerType post = HandlerType.POST;
         return List.of(
@@ -57,6 +81,9 @@ public final class ApiServer implements AutoCloseable {
                 new Route(get, "/readyz", Access.PUBLIC, service::ready),
                 new Route(get, "/metrics", Access.PUBLIC, service::metrics),
                 new Route(get, "/openapi.yaml", Access.PUBLIC, service::openapi),
+                new Route(post, "/v1/keys", Access.ADMIN, keys::create),
+                new Route(get, "/v1/keys", Access.ADMIN, keys::list),
+                new Route(post, "/v1/keys/{keyId}/revoke", Access.ADMIN, keys::revoke),
                 new Route(post, "/v1/models", Access.ADMIN, models::createFamily),
                 new Route(get, "/v1/models", Access.ANY_KEY, models::listFamilies),
                 new Route(get, "/v1/models/{family}", Access.ANY_KEY, models::getFamily),
@@ -70,12 +97,25 @@ public final class ApiServer implements AutoCloseable {
                 new Route(get, "/v1/jobs/{jobId}", Access.JOB_OF_UNIT, jobs::get),
                 new Route(post, "/v1/jobs/{jobId}/cancel", Access.JOB_OF_UNIT, jobs::cancel),
                 new Route(get, "/v1/estimates/{estimateId}", Access.READER, estimates::get),
-                new Route(get, "/v1/estimates/{estimateId}/series", Access.READER, estimates::series));
+                new Route(get, "/v1/estimates/{estimateId}/series", Access.READER, estimates::series),
+                new Route(post, "/v1/regressions", Access.ADMIN, regressions::create),
+                new Route(get, "/v1/regressions", Access.READER, regressions::list),
+                new Route(get, "/v1/regressions/{regressionId}", Access.READER, regressions::get),
+                new Route(post, "/v1/regressions/{regressionId}/cancel", Access.ADMIN, regressions::cancel),
+                new Route(get, "/v1/fleet/{family}/summary", Access.READER, fleet::summary),
+                new Route(get, "/v1/fleet/{family}/units", Access.READER, fleet::units),
+                new Route(get, "/v1/units/{unitId}/trend", Access.READER, fleet::trend),
+                new Route(post, "/v1/models/{family}/versions/{version}/plans", Access.READER, plans::plan));
     }
 
     /** Method and path of every route, e.g. "GET /v1/jobs/{jobId}". */
     public List<String> routeKeys() {
         return routes.stream().map(r -> r.method().name() + " " + r.path()).toList();
+    }
+
+    /** The route table as registered, access rules included (the access matrix test walks it). */
+    List<Route> routes() {
+        return routes;
     }
 
     public ApiServer start(String host, int port) {

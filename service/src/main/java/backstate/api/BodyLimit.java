@@ -12,6 +12,10 @@ import java.util.zip.GZIPInputStream;
  * caught as early as a large plain body).
  */
 final class BodyLimit {
+    /** A body that ends before its Content-Length or final chunk: the client's fault, not ours. */
+    private static final String TRUNCATED_BODY = "the body ended before its declared length (truncated upload or broken chunked encoding)";
+    private static final String CORRUPT_GZIP = "the gzip stream is corrupt or truncated";
+
     private BodyLimit() {
     }
 
@@ -20,29 +24,31 @@ final class BodyLimit {
         if (length != null && length.matches("\\d{1,19}") && Long.parseLong(length) > maxBytes) {
             throw ApiProblem.tooLarge(maxBytes);
         }
-        InputStream raw = new Capped(ctx.bodyInputStream(), maxBytes);
+        InputStream raw = new Capped(ctx.bodyInputStream(), maxBytes, TRUNCATED_BODY);
         String encoding = ctx.header("Content-Encoding");
         if (encoding == null || encoding.isBlank() || encoding.equalsIgnoreCase("identity")) {
             return raw;
         }
         if (encoding.equalsIgnoreCase("gzip")) {
             try {
-                return new Capped(new GZIPInputStream(raw), maxBytes);
-            } catch (java.util.zip.ZipException e) {
+                return new Capped(new GZIPInputStream(raw), maxBytes, CORRUPT_GZIP);
+            } catch (java.util.zip.ZipException | java.io.EOFException e) { // not gzip, or too short for its header
                 throw ApiProblem.invalid("Content-Encoding", "the body is not valid gzip");
             }
         }
         throw ApiProblem.invalid("Content-Encoding", "got " + encoding + ", expected gzip or identity");
     }
 
-    /** Counts bytes read and fails with 413 past the cap; a corrupt gzip stream becomes a 400. */
+    /** Counts bytes read and fails with 413 past the cap; a truncated or corrupt stream becomes a 400. */
     private static final class Capped extends FilterInputStream {
         private final long cap;
+        private final String brokenStream;
         private long count;
 
-        Capped(InputStream in, long cap) {
+        Capped(InputStream in, long cap, String brokenStream) {
             super(in);
             this.cap = cap;
+            this.brokenStream = brokenStream;
         }
 
         @Override
@@ -58,7 +64,7 @@ final class BodyLimit {
             try {
                 n = super.read(buf, off, len);
             } catch (java.util.zip.ZipException | java.io.EOFException e) {
-                throw ApiProblem.invalid("body", "the gzip stream is corrupt or truncated");
+                throw ApiProblem.invalid("body", brokenStream);
             }
             if (n > 0) {
                 add(n);

@@ -42,8 +42,10 @@ final class EstimateRoutes {
         if (flag != null && !FLAGS.contains(flag)) {
             throw ApiProblem.invalid("flag", "got " + Params.quoted(flag) + ", expected one of " + FLAGS);
         }
-        EstimateFilter filter = new EstimateFilter(family, Params.optionalInt(ctx, "version"),
-                Params.optionalInstant(ctx, "from"), Params.optionalInstant(ctx, "to"), flag);
+        java.time.Instant from = Params.optionalInstant(ctx, "from");
+        java.time.Instant to = Params.optionalInstant(ctx, "to");
+        Params.requireOrdered(from, to);
+        EstimateFilter filter = new EstimateFilter(family, Params.optionalInt(ctx, "version"), from, to, flag);
         String cursor = ctx.queryParam("cursor");
         if (cursor != null && (cursor.isEmpty() || cursor.length() > 512)) {
             throw ApiProblem.invalid("cursor", "not a cursor from this API");

@@ -17,6 +17,12 @@ import java.time.Clock;
 final class ModelRoutes {
     /** Longest family description accepted. */
     static final int MAX_DESCRIPTION = 2000;
+    /**
+     * Largest model body read, whatever the trace limit: the largest model (64 states, 32 outputs,
+     * 32 inputs) is under 1 MiB even pretty-printed, and a bigger body could only be arrays that
+     * expand into gigabytes of parsed doubles.
+     */
+    static final long MAX_MODEL_BODY_BYTES = 4L << 20;
 
     private final Store store;
     private final ObjectMapper mapper;
@@ -41,7 +47,8 @@ final class ModelRoutes {
         if (body.description() != null && body.description().length() > MAX_DESCRIPTION) {
             throw ApiProblem.invalid("description", "expected at most " + MAX_DESCRIPTION + " characters");
         }
-        if (!store.createFamily(name, body.description(), clock.instant())) {
+        String description = body.description() == null ? "" : body.description();
+        if (!store.createFamily(name, description, clock.instant())) {
             throw ApiProblem.conflict("model family " + name + " exists already");
         }
         ctx.status(201).header("Location", "/v1/models/" + name).json(Views.Family.of(store.findFamily(name).orElseThrow()));
@@ -96,7 +103,7 @@ final class ModelRoutes {
 
     private <T> T read(Context ctx, Class<T> type) throws Exception {
         requireJson(ctx);
-        try (InputStream body = BodyLimit.open(ctx, maxBodyBytes)) {
+        try (InputStream body = BodyLimit.open(ctx, Math.min(maxBodyBytes, MAX_MODEL_BODY_BYTES))) {
             T value = mapper.readerFor(type).with(DeserializationFeature.FAIL_ON_UNKNOWN_PROPERTIES).readValue(body);
             if (value == null) {
                 throw ApiProblem.invalid("body", "got nothing, expected a JSON object");

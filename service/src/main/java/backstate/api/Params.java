@@ -10,6 +10,10 @@ final class Params {
     /** Unit IDs and family names: 1–64 of letters, digits, '_', '-', '.', starting with a letter or digit. */
     static final Pattern IDENTIFIER = Pattern.compile("[A-Za-z0-9][A-Za-z0-9_.\\-]{0,63}");
 
+    /** Times outside these years cannot be stored as epoch milliseconds or are surely typos. */
+    static final Instant EARLIEST = Instant.parse("1970-01-01T00:00:00Z");
+    static final Instant LATEST = Instant.parse("9999-12-31T23:59:59Z");
+
     private Params() {
     }
 
@@ -54,9 +58,20 @@ final class Params {
             return null;
         }
         try {
-            return Instant.parse(v);
+            Instant t = Instant.parse(v);
+            if (t.isBefore(EARLIEST) || t.isAfter(LATEST)) {
+                throw ApiProblem.invalid(name, "got " + quoted(v) + ", expected a time between " + EARLIEST + " and " + LATEST);
+            }
+            return t;
         } catch (DateTimeParseException e) {
             throw ApiProblem.invalid(name, "got " + quoted(v) + ", expected an RFC 3339 UTC time such as 2026-12-01T00:00:00Z");
+        }
+    }
+
+    /** Checks that an optional [from, to) range is not reversed. */
+    static void requireOrdered(Instant from, Instant to) {
+        if (from != null && to != null && !from.isBefore(to)) {
+            throw ApiProblem.invalid("from", "got " + from + " not before to=" + to + ", expected from < to");
         }
     }
 

@@ -32,6 +32,10 @@ final class ProblemMapper {
 
     void register(RoutesConfig routes) {
         routes.exception(ApiProblem.class, (e, ctx) -> write(ctx, e.toProblem()));
+        routes.exception(AccessDenied.class, (e, ctx) -> {
+            e.challenge().ifPresent(challenge -> ctx.header("WWW-Authenticate", challenge));
+            write(ctx, e.toProblem());
+        });
         routes.exception(InputException.class, (e, ctx) -> write(ctx, ApiProblem.invalid(e.field(), detail(e)).toProblem()));
         routes.exception(ModelException.class, (e, ctx) -> write(ctx, ApiProblem.unprocessable(e.field(), detail(e)).toProblem()));
         routes.exception(InvalidCursorException.class, (e, ctx) -> write(ctx, ApiProblem.invalid("cursor", "not a cursor from this API").toProblem()));
@@ -76,7 +80,9 @@ final class ProblemMapper {
 
     private void write(Context ctx, Problem problem) {
         try {
-            ctx.status(problem.status()).contentType(Problem.MEDIA_TYPE).result(mapper.writeValueAsString(problem));
+            // Bytes, not a String: Jetty would encode a String as ISO-8859-1 for this media type,
+            // and JSON is UTF-8 (a detail quoting the client's non-ASCII input broke it).
+            ctx.status(problem.status()).contentType(Problem.MEDIA_TYPE).result(mapper.writeValueAsBytes(problem));
         } catch (JsonProcessingException e) {
             throw new IllegalStateException("problem document could not be written", e);
         }

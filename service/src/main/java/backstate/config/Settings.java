@@ -3,13 +3,14 @@ package backstate.config;
 import java.nio.file.Path;
 import java.util.LinkedHashMap;
 import java.util.Map;
+import java.util.Optional;
 
 /**
  * Service settings from command-line flags ({@code --port 8080}) over environment variables
  * ({@code BACKSTATE_PORT}) over defaults, validated once at start.
  */
 public record Settings(String host, int port, Path database, int workers, long maxBodyBytes, int maxQueued,
-                       int maxSamples) {
+                       int maxSamples, boolean auth, Optional<Secret> adminKey) {
     /** Default body limit: 256 MiB holds a 10⁶-sample, 5-channel CSV with room to spare. */
     public static final long DEFAULT_MAX_BODY = 256L * 1024 * 1024;
 
@@ -23,6 +24,7 @@ public record Settings(String host, int port, Path database, int workers, long m
         values.put("max-body-bytes", env.getOrDefault("BACKSTATE_MAX_BODY_BYTES", Long.toString(DEFAULT_MAX_BODY)));
         values.put("max-queued", env.getOrDefault("BACKSTATE_MAX_QUEUED", "10000"));
         values.put("max-samples", env.getOrDefault("BACKSTATE_MAX_SAMPLES", "2000000"));
+        values.put("auth", env.getOrDefault("BACKSTATE_AUTH", "on"));
         for (int i = 0; i < flags.length; i++) {
             String flag = flags[i];
             if (!flag.startsWith("--") || !values.containsKey(flag.substring(2)) || i + 1 == flags.length) {
@@ -32,13 +34,29 @@ public record Settings(String host, int port, Path database, int workers, long m
         }
         return new Settings(values.get("host"), range("port", values, 0, 65535), Path.of(values.get("database")),
                 range("workers", values, 1, 256), longRange("max-body-bytes", values, 1024, Long.MAX_VALUE),
-                range("max-queued", values, 1, 10_000_000), range("max-samples", values, 2, 100_000_000));
+                range("max-queued", values, 1, 10_000_000), range("max-samples", values, 2, 100_000_000),
+                onOff("auth", values), adminKey(env));
     }
 
     /** One line per setting, for the start-up log. */
     public String describe() {
         return "host=" + host + " port=" + port + " database=" + database.toAbsolutePath() + " workers=" + workers
-                + " max-body-bytes=" + maxBodyBytes + " max-queued=" + maxQueued + " max-samples=" + maxSamples;
+                + " max-body-bytes=" + maxBodyBytes + " max-queued=" + maxQueued + " max-samples=" + maxSamples
+                + " auth=" + (auth ? "on" : "off") + " admin-key=" + (adminKey.isPresent() ? "set" : "unset");
+    }
+
+    /** Access control on or off; the admin key comes from the environment only, never a flag (flags show in ps). */
+    private static boolean onOff(String name, Map<String, String> values) {
+        String text = values.get(name).trim();
+        if (text.equals("on") || text.equals("off")) {
+            return text.equals("on");
+        }
+        throw new IllegalArgumentException("setting " + name + ": got " + text + ", expected on or off");
+    }
+
+    private static Optional<Secret> adminKey(Map<String, String> env) {
+        String key = env.get("BACKSTATE_ADMIN_KEY");
+        return key == null || key.isBlank() ? Optional.empty() : Optional.of(new Secret(key.trim()));
     }
 
     private static int range(String name, Map<String, String> values, int min, int max) {

@@ -20,6 +20,9 @@ final class ModelShapeCheck {
         outputs = c.length;
         requireAtMost("c", outputs, maxOutputs, "outputs");
         requireMatrix("c", c, outputs, states);
+        if (b != null && b.length > 0 && b[0] == null) {
+            throw new ModelException("b[0]", "got null, expected a row of numbers");
+        }
         inputs = b == null || b.length == 0 ? 0 : b[0].length;
         requireAtMost("b", inputs, maxInputs, "inputs");
         if (inputs > 0) {

@@ -19,9 +19,14 @@ public record ModelDocument(String description, String timeDomain, Double sample
                             double[][] c, double[][] d) {
     /** Names: a letter, then letters, digits, '_', '-', '.'; they become CSV headers and JSON keys. */
     private static final Pattern NAME = Pattern.compile("[A-Za-z][A-Za-z0-9_.\\-]*");
+    /** Longest description accepted (as for a family's); it is a label, not a document. */
+    static final int MAX_DESCRIPTION = 2000;
+    /** Longest unit of measure accepted ("degC", "kJ/(kg K)"); a longer one is hostile input. */
+    static final int MAX_UNIT = 32;
 
     /** Validates names and shapes and builds the engine's model; errors name the field. */
     public StateSpaceModel toModel(Limits limits) {
+        requireLength("description", description, MAX_DESCRIPTION);
         requireNames("states", states, limits, true);
         requireNames("outputs", outputs, limits, true);
         requireNames("inputs", inputs, limits, false);
@@ -86,6 +91,7 @@ public record ModelDocument(String description, String timeDomain, Double sample
             Quantity item = list.get(i);
             String name = item == null ? null : item.name();
             requireName(field + "[" + i + "].name", name, limits);
+            requireLength(field + "[" + i + "].unit", item.unit(), MAX_UNIT);
             if (!seen.add(name)) {
                 throw new InputException(field + "[" + i + "].name", "got " + name + " twice, expected unique names");
             }
@@ -97,6 +103,12 @@ public record ModelDocument(String description, String timeDomain, Double sample
         if (name == null || name.isEmpty() || name.length() > limits.maxNameLength() || !NAME.matcher(name).matches()) {
             throw new InputException(field, "got " + (name == null ? "nothing" : "\"" + truncate(name) + "\"")
                     + ", expected 1-" + limits.maxNameLength() + " characters: a letter, then letters, digits, _ - .");
+        }
+    }
+
+    private static void requireLength(String field, String text, int max) {
+        if (text != null && text.length() > max) {
+            throw new InputException(field, "got " + text.length() + " characters, expected at most " + max);
         }
     }
 

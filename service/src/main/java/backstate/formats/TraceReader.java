@@ -36,6 +36,7 @@ public final class TraceReader {
                         .maxNestingDepth(limits.maxJsonDepth())
                         .maxNumberLength(MAX_NUMBER_LENGTH)
                         .maxStringLength(CsvRecords.MAX_FIELD_LENGTH * 16)
+                        .maxNameLength(CsvRecords.MAX_FIELD_LENGTH)
                         .build())
                 .build();
         this.mapper = new ObjectMapper(factory);

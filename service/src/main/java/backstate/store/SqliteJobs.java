@@ -118,6 +118,7 @@ final class SqliteJobs {
             }
             if (estimateOrNull != null) {
                 SqliteEstimates.insertEstimate(c, jobId, estimateOrNull, now);
+                SqliteFleet.recordEstimate(c, jobId); // the fleet views' rows, in the same transaction
             }
             return true;
         });

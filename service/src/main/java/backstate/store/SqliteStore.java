@@ -200,4 +200,90 @@ public final class SqliteStore implements Store, JobQueue {
     public String enqueue(String kind, String traceIdOrNull, String paramsJsonOrNull, Instant now) {
         return jobs.enqueue(kind, traceIdOrNull, paramsJsonOrNull, now);
     }
+
+    // ---- Store: API keys
+
+    @Override
+    public boolean insertApiKey(NewApiKey key, Instant now) {
+        return SqliteApiKeys.insertApiKey(db, key, now);
+    }
+
+    @Override
+    public Optional<ApiKeyRow> findApiKey(String id) {
+        return SqliteApiKeys.findApiKey(db, id);
+    }
+
+    @Override
+    public List<ApiKeyRow> listApiKeys() {
+        return SqliteApiKeys.listApiKeys(db);
+    }
+
+    @Override
+    public KeyRevocation revokeApiKey(String id, Instant now) {
+        return SqliteApiKeys.revokeApiKey(db, id, now);
+    }
+
+    @Override
+    public boolean hasActiveAdminKey() {
+        return SqliteApiKeys.hasActiveAdminKey(db);
+    }
+
+    @Override
+    public Optional<String> unitOfJob(String jobId) {
+        return SqliteApiKeys.unitOfJob(db, jobId);
+    }
+
+    // ---- Store: regression runs
+
+    @Override
+    public List<TraceRef> selectTraces(TraceSelection selection) {
+        return SqliteRegressions.selectTraces(db, selection);
+    }
+
+    @Override
+    public String createRegression(NewRegression regression, int maxQueued, Instant now) throws QueueFullException {
+        return SqliteRegressions.createRegression(db, regression, maxQueued, now);
+    }
+
+    @Override
+    public Optional<RegressionRow> findRegression(String id) {
+        return SqliteRegressions.findRegression(db, id);
+    }
+
+    @Override
+    public RegressionPage listRegressions(String familyOrNull, String cursorOrNull, int limit) {
+        return SqliteRegressions.listRegressions(db, familyOrNull, cursorOrNull, limit);
+    }
+
+    @Override
+    public boolean requestRegressionCancel(String id, Instant now) {
+        return SqliteRegressions.requestCancel(db, id, now);
+    }
+
+    @Override
+    public boolean regressionCancelRequested(String id) {
+        return SqliteRegressions.cancelRequested(db, id);
+    }
+
+    @Override
+    public boolean cancelRegressionIfRunning(String id, int attempt, String resultJsonOrNull, Instant now) {
+        return SqliteRegressions.cancelIfRunning(db, id, attempt, resultJsonOrNull, now);
+    }
+
+    // ---- Store: fleet views
+
+    @Override
+    public FleetSummary fleetSummary(FleetSummaryQuery query) {
+        return SqliteFleet.summary(db, query);
+    }
+
+    @Override
+    public UnitPage fleetUnits(UnitFilter filter, UnitSort sort, String cursorOrNull, int limit) {
+        return SqliteFleet.units(db, filter, sort, cursorOrNull, limit);
+    }
+
+    @Override
+    public List<StatePoint> stateTrend(String unitId, String state, String family, Integer versionOrNull, int limit) {
+        return SqliteFleet.stateTrend(db, unitId, state, family, versionOrNull, limit);
+    }
 }

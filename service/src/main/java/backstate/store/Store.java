@@ -76,4 +76,86 @@ public interface Store extends AutoCloseable {
 
     @Override
     void close();
+
+    // ---- API keys (access control). Only a key's ID and salted hash are stored, never the key.
+
+    /** Stores a new key; returns false, changing nothing, if a key with that ID exists. */
+    boolean insertApiKey(NewApiKey key, Instant now);
+
+    Optional<ApiKeyRow> findApiKey(String id);
+
+    /** All keys, revoked ones included, oldest first. */
+    List<ApiKeyRow> listApiKeys();
+
+    /**
+     * In one write transaction: revokes the key, unless it is already revoked (nothing changes)
+     * or it is the last valid admin key (refused).
+     */
+    KeyRevocation revokeApiKey(String id, Instant now);
+
+    /** True when at least one admin key is not revoked. */
+    boolean hasActiveAdminKey();
+
+    /** The unit of the trace a job solves; empty for an unknown job or one without a trace. */
+    Optional<String> unitOfJob(String jobId);
+
+    // ---- regression runs (model version against model version over stored traces)
+
+    /**
+     * The stored traces of a family the selection matches, by unit then received time, at most
+     * {@code selection.maxRows()} of them; payloads are not read.
+     */
+    List<TraceRef> selectTraces(TraceSelection selection);
+
+    /**
+     * In one write transaction: refuses when the queue holds {@code maxQueued} jobs or more,
+     * otherwise stores a queued 'regression' job with the run's row; returns the job's ID.
+     */
+    String createRegression(NewRegression regression, int maxQueued, Instant now) throws QueueFullException;
+
+    /** A regression run by its job ID; empty for an unknown ID or a job of another kind. */
+    Optional<RegressionRow> findRegression(String id);
+
+    /**
+     * One page of regression runs, newest first, optionally of one family only; the cursor is the
+     * keyset (created_at, id) of the last row returned.
+     *
+     * @throws InvalidCursorException if the cursor did not come from this method
+     */
+    RegressionPage listRegressions(String familyOrNull, String cursorOrNull, int limit);
+
+    /**
+     * Records a cancel request for a queued or running regression run (the first request's time
+     * is kept); false, changing nothing, if the run is finished or unknown.
+     */
+    boolean requestRegressionCancel(String id, Instant now);
+
+    /** True once a cancel was requested for the run; its worker polls this between traces. */
+    boolean regressionCancelRequested(String id);
+
+    /**
+     * Finishes a running regression job as cancelled, with its partial result, only while it is
+     * running at {@code attempt}; false, writing nothing, otherwise.
+     */
+    boolean cancelRegressionIfRunning(String id, int attempt, String resultJsonOrNull, Instant now);
+
+    // ---- fleet views (dashboards): read from tables derived from each estimate as it is written
+
+    /**
+     * Per model version: units, traces and estimates in the window, the distribution of χ²/dof
+     * and of each channel's residual RMS, and the units per flag; plus the stale units. Read in
+     * one snapshot, so the figures agree with each other.
+     */
+    FleetSummary fleetSummary(FleetSummaryQuery query);
+
+    /**
+     * One page of a family's units with their newest estimate, in the given order. The cursor is
+     * the keyset of the last row returned in that order.
+     *
+     * @throws InvalidCursorException if the cursor did not come from this method with the same order
+     */
+    UnitPage fleetUnits(UnitFilter filter, UnitSort sort, String cursorOrNull, int limit);
+
+    /** The unit's newest {@code limit} estimates of one state of a family (of one version, if given), newest first. */
+    List<StatePoint> stateTrend(String unitId, String state, String family, Integer versionOrNull, int limit);
 }

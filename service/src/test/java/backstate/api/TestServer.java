@@ -29,9 +29,11 @@ public final class TestServer implements AutoCloseable {
         this(folder, Map.of());
     }
 
+    /** Access control is off unless {@code env} sets BACKSTATE_AUTH (functional tests need no keys). */
     public TestServer(Path folder, Map<String, String> env) {
         Settings settings = Settings.from(new String[] {"--host", "127.0.0.1", "--port", "0", "--database",
-                folder.resolve("test.db").toString(), "--workers", "2"}, env);
+                folder.resolve("test.db").toString(), "--workers", "2",
+                "--auth", env.getOrDefault("BACKSTATE_AUTH", "off")}, env);
         this.app = new App(settings, Clock.systemUTC()).start(settings);
         this.base = "http://127.0.0.1:" + app.port();
     }

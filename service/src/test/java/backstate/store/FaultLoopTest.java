@@ -78,12 +78,13 @@ class FaultLoopTest {
                 assertFailedCleanly(e);
                 assertEquals("running", store.findJob(job.id()).orElseThrow().state());
                 assertEquals(0, fx.rows("estimates"));
+                assertEquals(0, fx.rows("unit_latest") + fx.rows("unit_version_latest"));
                 failures++;
                 continue;
             }
             break;
         }
-        assertEquals(4, failures, "BEGIN, job update, estimate insert, COMMIT");
+        assertEquals(8, failures, "BEGIN, job update, estimate insert, 4 fleet-view inserts, COMMIT");
         assertEquals("succeeded", store.findJob(job.id()).orElseThrow().state());
         assertEquals(1, fx.rows("estimates"));
     }

@@ -1,0 +1,14 @@
+#!/usr/bin/env bash
+# (c) One 10⁶-sample CSV upload to a server held to -Xmx300m: it must complete, in under twice
+# the offline parse + solve time of the same CSV through the same code (TraceReader +
+# DocumentSolver), measured here in a fresh JVM with the same heap.
+source "$(dirname "$0")/common.sh"
+build
+DRIVER_HEAP=300m driver offline --samples "${SAMPLES:-1000000}"
+start_server 300m
+time DRIVER_HEAP=1g driver upload --samples "${SAMPLES:-1000000}"
+server_metric backstate_solve_duration_seconds
+server_metric backstate_job_duration_seconds
+server_cpu
+echo "load average after: $(cut -d' ' -f1-3 /proc/loadavg)"
+stop_server

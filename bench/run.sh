@@ -1,0 +1,49 @@
+#!/usr/bin/env bash
+# Speed and memory benchmark of the estimation engine against a dense NumPy lstsq on the same trace.
+# Builds the service and bench jars, writes the trace once (bench/out/trace.bin), times both sides,
+# and prints a Markdown table (also saved to bench/out/report.md). See bench/README.md.
+set -euo pipefail
+
+cd "$(dirname "$0")/.."
+OUT=bench/out
+LARGE=1000000
+SMALL=100000
+WARMUPS=${WARMUPS:-3}
+REPEATS=${REPEATS:-7}
+SMALL_HEAP=${SMALL_HEAP:-256m}
+# Timing JVM: a fixed, pre-touched heap, so heap growth (first-touch page faults, slow on this VM)
+# does not land inside timed solves; the second JVM shows the solve also runs in a small heap.
+TIMING_HEAP_OPTS=${TIMING_HEAP_OPTS:--Xms2g -Xmx2g -XX:+AlwaysPreTouch}
+mkdir -p "$OUT"
+# Other work on the machine skews timings: the load average is printed before and after.
+echo "load average at start: $(cut -d' ' -f1-3 /proc/loadavg)"
+if awk '{ exit !($1 > 0.5) }' /proc/loadavg; then
+  echo "WARNING: the machine is busy (1-minute load > 0.5); timings will be skewed, numpy's 2 BLAS threads most"
+fi
+
+echo "== build"
+mvn -q -DskipTests -pl bench -am package
+CLASSPATH_JARS=service/target/backstate.jar:bench/target/backstate-bench.jar
+
+if [[ ! -f $OUT/trace.bin || bench/make_trace.py -nt $OUT/trace.bin || bench/statespace_np.py -nt $OUT/trace.bin ]]; then
+  echo "== trace: N=$LARGE samples"
+  python3 bench/make_trace.py "$OUT/trace.bin" "$LARGE"
+fi
+
+echo "== Java, $TIMING_HEAP_OPTS"
+# shellcheck disable=SC2086 # the options are meant to split
+java $TIMING_HEAP_OPTS -cp "$CLASSPATH_JARS" backstate.bench.EstimatorBench "$OUT/trace.bin" "$OUT/java.tsv" \
+  "$WARMUPS" "$REPEATS" "$SMALL" "$LARGE"
+
+echo "== Java, -Xmx$SMALL_HEAP"
+java "-Xmx$SMALL_HEAP" -cp "$CLASSPATH_JARS" backstate.bench.EstimatorBench "$OUT/trace.bin" \
+  "$OUT/java_small_heap.tsv" "$WARMUPS" "$REPEATS" "$LARGE"
+
+echo "== NumPy (OPENBLAS_CORETYPE and OPENBLAS_L2_SIZE unset for this command only)"
+env -u OPENBLAS_CORETYPE -u OPENBLAS_L2_SIZE python3 bench/numpy_lstsq.py "$OUT/trace.bin" "$OUT/numpy.json" \
+  "$REPEATS" "$SMALL" "$LARGE"
+
+echo
+echo "load average at end: $(cut -d' ' -f1-3 /proc/loadavg)"
+echo "== Results ($(nproc) cores)"
+python3 bench/report.py "$OUT/numpy.json" "$OUT/java.tsv" "$OUT/java_small_heap.tsv" | tee "$OUT/report.md"

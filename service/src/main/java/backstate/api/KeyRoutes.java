@@ -1,0 +1,114 @@
+package backstate.api;
+
+import backstate.auth.ApiKeys;
+import backstate.auth.Caller;
+import backstate.auth.Role;
+import backstate.auth.UnitPattern;
+import backstate.store.ApiKeyRow;
+import backstate.store.KeyRevocation;
+import com.fasterxml.jackson.annotation.JsonInclude;
+import com.fasterxml.jackson.databind.ObjectMapper;
+import io.javalin.http.Context;
+import java.io.InputStream;
+import java.time.Instant;
+import java.util.regex.Pattern;
+
+/** Key management for admins: issue (the key is shown once), list (never secrets), revoke. */
+final class KeyRoutes {
+    /** Longest label accepted; labels name a key's holder in lists and logs. */
+    static final int MAX_LABEL = 100;
+    /** Key management bodies are a few fields. */
+    static final long MAX_BODY = 4096;
+    /** Key IDs as issued: 16 lowercase hex digits. */
+    static final Pattern KEY_ID = Pattern.compile("[0-9a-f]{16}");
+    /** Labels are printable text on one line, so they cannot forge log lines. */
+    private static final Pattern LABEL = Pattern.compile("[^\\p{Cntrl}]{1," + MAX_LABEL + "}");
+
+    private final ApiKeys keys;
+    private final ObjectMapper mapper;
+
+    KeyRoutes(ApiKeys keys, ObjectMapper mapper) {
+        this.keys = keys;
+        this.mapper = mapper;
+    }
+
+    record NewKey(String role, String unitPattern, String label) {
+    }
+
+    /** A key as listed: everything but its secret (which the service does not have). */
+    @JsonInclude(JsonInclude.Include.NON_NULL)
+    record KeyView(String id, String role, String unitPattern, String label, String createdAt, String createdBy,
+                   String revokedAt) {
+        static KeyView of(ApiKeyRow row) {
+            return new KeyView(row.id(), row.role(), row.unitPattern(), row.label(), row.createdAt().toString(),
+                    row.createdBy(), text(row.revokedAt()));
+        }
+    }
+
+    /** The answer to an issue request: the only time the key's text is ever sent. */
+    @JsonInclude(JsonInclude.Include.NON_NULL)
+    record IssuedKey(String key, String id, String role, String unitPattern, String label, String createdAt,
+                     String createdBy) {
+    }
+
+    void create(Context ctx) throws Exception {
+        NewKey body = read(ctx);
+        Role role = Role.parse(body.role()).orElseThrow(() ->
+                ApiProblem.invalid("role", "got " + Params.quoted(body.role()) + ", expected admin, gateway or reader"));
+        UnitPattern scope = scope(role, body.unitPattern());
+        if (body.label() == null || !LABEL.matcher(body.label()).matches() || body.label().isBlank()) {
+            throw ApiProblem.invalid("label", "expected 1-" + MAX_LABEL + " printable characters naming who holds the key");
+        }
+        String by = AccessGuard.caller(ctx).map(Caller::keyId).orElse(null);
+        ApiKeys.Issued issued = keys.issue(role, scope, body.label(), by);
+        ApiKeyRow row = issued.row();
+        ctx.status(201).header("Location", "/v1/keys/" + row.id()).header("Cache-Control", "no-store")
+                .json(new IssuedKey(issued.key(), row.id(), row.role(), row.unitPattern(), row.label(),
+                        row.createdAt().toString(), row.createdBy()));
+    }
+
+    void list(Context ctx) {
+        ctx.json(new Views.Page<>(keys.list().stream().map(KeyView::of).toList(), null));
+    }
+
+    void revoke(Context ctx) {
+        String id = ctx.pathParam("keyId");
+        if (!KEY_ID.matcher(id).matches()) {
+            throw ApiProblem.invalid("keyId", "expected 16 lowercase hex digits (the part after bsk_)");
+        }
+        String by = AccessGuard.caller(ctx).map(Caller::keyId).orElse(null);
+        KeyRevocation outcome = keys.revoke(id, by);
+        switch (outcome) {
+            case NOT_FOUND -> throw ApiProblem.notFound("API key " + id);
+            case LAST_ADMIN -> throw ApiProblem.conflict("key " + id
+                    + " is the last valid admin key; issue another admin key before revoking it");
+            case REVOKED, ALREADY_REVOKED -> ctx.json(KeyView.of(keys.find(id).orElseThrow()));
+        }
+    }
+
+    private static UnitPattern scope(Role role, String glob) {
+        if (role != Role.GATEWAY) {
+            if (glob != null) {
+                throw ApiProblem.invalid("unitPattern", "only gateway keys have a unit pattern");
+            }
+            return null;
+        }
+        return UnitPattern.parse(glob).orElseThrow(() -> ApiProblem.invalid("unitPattern",
+                "got " + Params.quoted(glob) + ", expected 1-64 of letters, digits, _ . - and the wildcards * and ?"));
+    }
+
+    private NewKey read(Context ctx) throws Exception {
+        ModelRoutes.requireJson(ctx);
+        try (InputStream body = BodyLimit.open(ctx, MAX_BODY)) {
+            NewKey value = mapper.readValue(body, NewKey.class);
+            if (value == null) {
+                throw ApiProblem.invalid("body", "got nothing, expected a JSON object");
+            }
+            return value;
+        }
+    }
+
+    private static String text(Instant instant) {
+        return instant == null ? null : instant.toString();
+    }
+}

@@ -1,0 +1,251 @@
+package backstate.cli;
+
+import com.fasterxml.jackson.databind.JsonNode;
+import com.fasterxml.jackson.databind.ObjectMapper;
+import java.io.IOException;
+import java.io.PrintStream;
+import java.net.URI;
+import java.net.http.HttpClient;
+import java.net.http.HttpRequest;
+import java.net.http.HttpResponse;
+import java.time.Duration;
+import java.util.Arrays;
+import java.util.LinkedHashMap;
+import java.util.List;
+import java.util.Locale;
+import java.util.Map;
+import java.util.Set;
+
+/**
+ * {@code regress}: starts a model-version regression run on a server over HTTP, shows its
+ * progress, prints the summary, and exits with the verdict, for CI pipelines.
+ * Exit codes: 0 pass, 1 fail, 2 bad input or server unreachable, 3 no verdict (the run failed
+ * or was cancelled on the server).
+ */
+public final class RegressCommand {
+    static final int PASS = 0;
+    static final int FAIL = 1;
+    static final int BAD_INPUT = 2;
+    static final int NO_VERDICT = 3;
+    /** How often the run's state is read; a progress line is printed when it has changed. */
+    static final Duration POLL = Duration.ofSeconds(1);
+    static final Duration REQUEST_TIMEOUT = Duration.ofSeconds(30);
+    /** The key is taken from here when --api-key is not given, so it need not appear in a process list. */
+    static final String KEY_VARIABLE = "BACKSTATE_API_KEY";
+
+    private static final Set<String> FLAGS = Set.of("server", "family", "baseline", "candidate", "units", "latest",
+            "received-from", "received-to", "tolerance-chi2", "tolerance-share", "tolerance-x0", "api-key");
+    private static final String USAGE = "usage: backstate regress --server URL --family F --baseline N --candidate M"
+            + " [--units A,B,... | --latest K] [--received-from T] [--received-to T] [--tolerance-chi2 X]"
+            + " [--tolerance-share S] [--tolerance-x0 K] [--api-key KEY]";
+
+    private final ObjectMapper mapper = new ObjectMapper();
+    private final HttpClient http = HttpClient.newBuilder().connectTimeout(Duration.ofSeconds(10)).build();
+    private final PrintStream out;
+    private final PrintStream err;
+    private final String server;
+    private final String key;
+
+    private RegressCommand(PrintStream out, PrintStream err, String server, String key) {
+        this.out = out;
+        this.err = err;
+        this.server = server.endsWith("/") ? server.substring(0, server.length() - 1) : server;
+        this.key = key;
+    }
+
+    public static int run(String[] args, PrintStream out, PrintStream err) {
+        Map<String, String> flags;
+        Map<String, Object> request;
+        try {
+            flags = flags(args);
+            request = request(flags);
+        } catch (IllegalArgumentException e) {
+            err.println("backstate regress: " + e.getMessage());
+            err.println(USAGE);
+            return BAD_INPUT;
+        }
+        String key = flags.getOrDefault("api-key", System.getenv(KEY_VARIABLE));
+        RegressCommand command = new RegressCommand(out, err, flags.get("server"), key);
+        try {
+            return command.startAndFollow(request);
+        } catch (IOException | IllegalArgumentException e) {
+            err.println("backstate regress: cannot reach " + flags.get("server") + ": "
+                    + (e.getMessage() == null ? e.getClass().getSimpleName() : e.getMessage()));
+            return BAD_INPUT;
+        } catch (InterruptedException e) {
+            Thread.currentThread().interrupt();
+            err.println("backstate regress: interrupted; the run goes on on the server");
+            return NO_VERDICT;
+        }
+    }
+
+    private int startAndFollow(Map<String, Object> request) throws IOException, InterruptedException {
+        HttpResponse<String> started = send(HttpRequest.newBuilder(uri("/v1/regressions"))
+                .header("Content-Type", "application/json")
+                .POST(HttpRequest.BodyPublishers.ofString(mapper.writeValueAsString(request))));
+        if (started.statusCode() != 202) {
+            printProblem("the server refused the run", started);
+            return BAD_INPUT;
+        }
+        JsonNode run = mapper.readTree(started.body());
+        String id = run.get("id").asText();
+        out.printf(Locale.ROOT, "regression %s: %s version %d -> %d over %d traces%n", id, run.get("family").asText(),
+                run.get("baseline").asInt(), run.get("candidate").asInt(), run.path("progress").path("total").asInt());
+        String shown = "";
+        while (!finished(run)) {
+            Thread.sleep(POLL.toMillis());
+            HttpResponse<String> polled = send(HttpRequest.newBuilder(uri("/v1/regressions/" + id)).GET());
+            if (polled.statusCode() != 200) {
+                printProblem("reading the run failed", polled);
+                return BAD_INPUT;
+            }
+            run = mapper.readTree(polled.body());
+            String progress = run.path("progress").path("done").asInt() + "/" + run.path("progress").path("total").asInt()
+                    + " traces";
+            if (!progress.equals(shown)) {
+                out.println("  " + progress);
+                shown = progress;
+            }
+        }
+        return summarise(run);
+    }
+
+    private static boolean finished(JsonNode run) {
+        String state = run.path("state").asText();
+        return !state.equals("queued") && !state.equals("running");
+    }
+
+    private int summarise(JsonNode run) {
+        String link = server + "/v1/regressions/" + run.get("id").asText();
+        JsonNode result = run.path("result");
+        if (!run.path("state").asText().equals("succeeded") || !result.has("verdict")) {
+            err.println("no verdict: the run ended " + run.path("state").asText() + " " + run.path("errors"));
+            err.println("details: " + link);
+            return NO_VERDICT;
+        }
+        JsonNode verdict = result.get("verdict");
+        JsonNode s = result.get("summary");
+        boolean pass = verdict.get("pass").asBoolean();
+        out.printf(Locale.ROOT, "%s (rule %s): %s%n", pass ? "PASS" : "FAIL", verdict.get("rule").asText(),
+                verdict.get("detail").asText());
+        out.printf(Locale.ROOT, "units: %d compared, %d better, %d worse, %d unchanged, %d not compared%n",
+                s.get("compared").asInt(), s.get("better").asInt(), s.get("worse").asInt(), s.get("unchanged").asInt(),
+                s.get("notCompared").asInt());
+        if (s.has("medianDeltaChi2PerDof")) {
+            out.printf(Locale.ROOT, "delta chi2/dof per unit: median %+.4f, p95 %+.4f%n",
+                    s.get("medianDeltaChi2PerDof").asDouble(), s.get("p95DeltaChi2PerDof").asDouble());
+        }
+        if (!result.get("statesComparable").asBoolean()) {
+            out.println("x0 not compared: " + result.path("statesNote").asText());
+        }
+        if (!result.get("worseBeyondTolerance").isEmpty()) {
+            out.println("worse beyond tolerance:");
+            for (JsonNode f : result.get("worseBeyondTolerance")) {
+                List<String> reasons = mapper.convertValue(f.get("reasons"), mapper.getTypeFactory()
+                        .constructCollectionType(List.class, String.class));
+                out.println("  " + f.get("unitId").asText() + ": " + String.join("; ", reasons));
+            }
+        }
+        out.println("full result: " + link);
+        return pass ? PASS : FAIL;
+    }
+
+    private void printProblem(String what, HttpResponse<String> response) {
+        err.println("backstate regress: " + what + " (HTTP " + response.statusCode() + ")");
+        try {
+            JsonNode problem = mapper.readTree(response.body());
+            if (problem.path("errors").isEmpty()) {
+                err.println("  " + problem.path("detail").asText(response.body()));
+            }
+            for (JsonNode e : problem.path("errors")) {
+                err.println("  " + e.path("field").asText() + ": " + e.path("detail").asText());
+            }
+        } catch (IOException notJson) {
+            err.println("  " + response.body());
+        }
+    }
+
+    private HttpResponse<String> send(HttpRequest.Builder request) throws IOException, InterruptedException {
+        if (key != null && !key.isBlank()) {
+            request.header("Authorization", "Bearer " + key);
+        }
+        return http.send(request.timeout(REQUEST_TIMEOUT).build(), HttpResponse.BodyHandlers.ofString());
+    }
+
+    private URI uri(String path) {
+        return URI.create(server + path);
+    }
+
+    /** The POST /v1/regressions body the flags describe; a malformed flag throws naming it. */
+    static Map<String, Object> request(Map<String, String> flags) {
+        for (String required : List.of("server", "family", "baseline", "candidate")) {
+            if (!flags.containsKey(required)) {
+                throw new IllegalArgumentException("missing --" + required);
+            }
+        }
+        if (flags.containsKey("units") && flags.containsKey("latest")) {
+            throw new IllegalArgumentException("got --units and --latest, expected at most one of them");
+        }
+        Map<String, Object> body = new LinkedHashMap<>();
+        body.put("family", flags.get("family"));
+        body.put("baseline", whole("baseline", flags.get("baseline")));
+        body.put("candidate", whole("candidate", flags.get("candidate")));
+        Map<String, Object> traces = new LinkedHashMap<>();
+        if (flags.containsKey("units")) {
+            traces.put("units", Arrays.stream(flags.get("units").split(",")).map(String::strip)
+                    .filter(u -> !u.isEmpty()).toList());
+        }
+        if (flags.containsKey("latest")) {
+            traces.put("latestPerUnit", whole("latest", flags.get("latest")));
+        }
+        putIfGiven(traces, "receivedFrom", flags.get("received-from"));
+        putIfGiven(traces, "receivedTo", flags.get("received-to"));
+        if (!traces.isEmpty()) {
+            body.put("traces", traces);
+        }
+        Map<String, Object> tolerances = new LinkedHashMap<>();
+        putIfGiven(tolerances, "maxChi2PerDofIncrease", decimal("tolerance-chi2", flags.get("tolerance-chi2")));
+        putIfGiven(tolerances, "maxWorseShare", decimal("tolerance-share", flags.get("tolerance-share")));
+        putIfGiven(tolerances, "maxX0ShiftSe", decimal("tolerance-x0", flags.get("tolerance-x0")));
+        if (!tolerances.isEmpty()) {
+            body.put("tolerances", tolerances);
+        }
+        return body;
+    }
+
+    private static Map<String, String> flags(String[] args) {
+        Map<String, String> flags = new LinkedHashMap<>();
+        for (int i = 0; i < args.length; i++) {
+            String name = args[i].startsWith("--") ? args[i].substring(2) : "";
+            if (!FLAGS.contains(name) || i + 1 == args.length) {
+                throw new IllegalArgumentException("got " + args[i] + (FLAGS.contains(name) ? " without a value" : ""));
+            }
+            flags.put(name, args[++i]);
+        }
+        return flags;
+    }
+
+    private static int whole(String flag, String value) {
+        if (!value.matches("\\d{1,9}")) {
+            throw new IllegalArgumentException("got --" + flag + " " + value + ", expected a whole number");
+        }
+        return Integer.parseInt(value);
+    }
+
+    private static Double decimal(String flag, String value) {
+        if (value == null) {
+            return null;
+        }
+        try {
+            return Double.valueOf(value);
+        } catch (NumberFormatException e) {
+            throw new IllegalArgumentException("got --" + flag + " " + value + ", expected a decimal number");
+        }
+    }
+
+    private static void putIfGiven(Map<String, Object> map, String key, Object value) {
+        if (value != null) {
+            map.put(key, value);
+        }
+    }
+}

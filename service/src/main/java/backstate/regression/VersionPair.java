@@ -1,0 +1,49 @@
+package backstate.regression;
+
+import backstate.estimation.ModelException;
+import backstate.formats.DocumentSolver;
+import backstate.formats.InputException;
+import backstate.formats.Limits;
+import backstate.formats.ModelDocument;
+import backstate.formats.ParsedTrace;
+
+/**
+ * The two versions of a run, solving stored traces through {@link DocumentSolver} (the estimate
+ * jobs' code path) and handing each pair of fits to the report.
+ */
+public final class VersionPair {
+    private final ModelDocument baseline;
+    private final ModelDocument candidate;
+    private final Limits limits;
+
+    public VersionPair(ModelDocument baseline, ModelDocument candidate, Limits limits) {
+        this.baseline = baseline;
+        this.candidate = candidate;
+        this.limits = limits;
+    }
+
+    /**
+     * Solves one stored trace under both versions, its columns put in each version's order, and
+     * adds the comparison to the report.
+     *
+     * @param storedModel the version the trace was posted for, whose column order it is stored in
+     */
+    public void compare(RegressionReport report, String unitId, String traceId, String receivedAt, int storedVersion,
+                        ModelDocument storedModel, ParsedTrace stored) {
+        report.add(unitId, traceId, receivedAt, storedVersion, fit(baseline, storedModel, stored),
+                fit(candidate, storedModel, stored));
+    }
+
+    /**
+     * A trace that does not fit a version (its stored prior has another size, a discrete version
+     * meets an irregular clock) is that version's result for the trace, not a failed run.
+     */
+    private Fit fit(ModelDocument model, ModelDocument storedModel, ParsedTrace stored) {
+        try {
+            ParsedTrace trace = ChannelMap.reorder(stored, storedModel, model);
+            return Fit.of(DocumentSolver.solve(model, trace, false, limits), model);
+        } catch (InputException | ModelException e) {
+            return Fit.notSolved(Fit.Status.INVALID, e.getMessage());
+        }
+    }
+}

@@ -1,0 +1,301 @@
+package backstate.store;
+
+import backstate.estimation.SampleQuantiles;
+import java.sql.Connection;
+import java.sql.PreparedStatement;
+import java.sql.ResultSet;
+import java.sql.SQLException;
+import java.time.Instant;
+import java.util.ArrayList;
+import java.util.Arrays;
+import java.util.EnumMap;
+import java.util.HashSet;
+import java.util.LinkedHashMap;
+import java.util.List;
+import java.util.Map;
+import java.util.Set;
+import java.util.TreeMap;
+import java.util.TreeSet;
+
+/**
+ * The fleet views' named statements: the derived rows written with each estimate (tables of
+ * V2__fleet_views.sql), the summary of a model version's window, the unit list and a unit's
+ * trend of one state.
+ *
+ * <p>Percentiles are computed here in Java over one column read through a covering index
+ * (χ²/dof from estimates_by_model_window, RMS from estimate_channels' key), so the scan is
+ * bounded by the window and costs 8 bytes per value; SQLite has no percentile aggregate, and
+ * its ORDER BY … OFFSET route sorts in a temporary B-tree, which FleetQueryBench measures as
+ * slower (see docs/fleet-and-planning.md).
+ */
+final class SqliteFleet {
+
+    /** The window bounds bound when a side is open: no stored millisecond time reaches them. */
+    private static final long OPEN_START = Long.MIN_VALUE;
+    private static final long OPEN_END = Long.MAX_VALUE;
+    /** Quantiles reported by a summary: the median and the 95th percentile. */
+    private static final double MEDIAN = 0.5;
+    private static final double P95 = 0.95;
+    /** First capacity of a column read; it doubles as needed. */
+    private static final int FIRST_CAPACITY = 1024;
+
+    // Written with every estimate, in the completing job's transaction. Keep in step with the
+    // backfill at the end of V2__fleet_views.sql, which runs the same SELECTs for every estimate.
+    private static final String RECORD_STATES = "INSERT INTO estimate_states"
+            + " (estimate_id, state, value, standard_error, lower, upper)"
+            + " SELECT estimate_id, state, value, standard_error, lower, upper FROM estimate_document_states"
+            + " WHERE job_id = ? ON CONFLICT DO NOTHING";
+    private static final String RECORD_CHANNELS = "INSERT INTO estimate_channels"
+            + " (family, version, channel, created_at, estimate_id, rms)"
+            + " SELECT family, version, channel, created_at, estimate_id, rms FROM estimate_document_channels"
+            + " WHERE job_id = ? ON CONFLICT DO NOTHING";
+    // An older estimate written late (a retried job) must not replace a newer one: the update
+    // applies only when the incoming (created_at, id) is greater. Same syntax on PostgreSQL.
+    private static final String RECORD_UNIT_LATEST = "INSERT INTO unit_latest"
+            + " (family, unit_id, version, estimate_id, created_at, chi2_per_dof, flags)"
+            + " SELECT family, unit_id, version, id, created_at, chi2_per_dof, flags FROM estimates WHERE job_id = ?"
+            + " ON CONFLICT (family, unit_id) DO UPDATE SET version = excluded.version,"
+            + " estimate_id = excluded.estimate_id, created_at = excluded.created_at,"
+            + " chi2_per_dof = excluded.chi2_per_dof, flags = excluded.flags"
+            + " WHERE (excluded.created_at, excluded.estimate_id) > (unit_latest.created_at, unit_latest.estimate_id)";
+    private static final String RECORD_UNIT_VERSION_LATEST = "INSERT INTO unit_version_latest"
+            + " (family, version, unit_id, estimate_id, created_at, chi2_per_dof, flags)"
+            + " SELECT family, version, unit_id, id, created_at, chi2_per_dof, flags FROM estimates WHERE job_id = ?"
+            + " ON CONFLICT (family, version, unit_id) DO UPDATE SET"
+            + " estimate_id = excluded.estimate_id, created_at = excluded.created_at,"
+            + " chi2_per_dof = excluded.chi2_per_dof, flags = excluded.flags"
+            + " WHERE (excluded.created_at, excluded.estimate_id)"
+            + " > (unit_version_latest.created_at, unit_version_latest.estimate_id)";
+
+    // A version's window [from, to). Both bounds are always bound (open sides as the extreme
+    // longs) so the planner sees one index range; "? IS NULL OR" would hide it.
+    private static final String WINDOW = " WHERE family = ? AND version = ? AND created_at >= ? AND created_at < ?";
+    private static final String COUNT_ESTIMATES = "SELECT count(*), count(DISTINCT unit_id) FROM estimates" + WINDOW;
+    private static final String LIST_CHI2 = "SELECT chi2_per_dof FROM estimates" + WINDOW
+            + " AND chi2_per_dof IS NOT NULL";
+    private static final String LIST_FLAGGED = "SELECT unit_id, flags FROM estimates" + WINDOW + " AND flags <> ''";
+    private static final String LIST_CHANNEL_RMS = "SELECT rms FROM estimate_channels"
+            + " WHERE family = ? AND version = ? AND channel = ? AND created_at >= ? AND created_at < ?"
+            + " AND rms IS NOT NULL";
+    private static final String COUNT_TRACES = "SELECT count(*) FROM traces"
+            + " WHERE family = ? AND version = ? AND received_at >= ? AND received_at < ?";
+
+    private static final String LATEST_COLUMNS = "unit_id, family, version, estimate_id, created_at, chi2_per_dof, flags";
+    private static final String COUNT_STALE = "SELECT count(*) FROM unit_latest WHERE family = ? AND created_at < ?";
+    private static final String LIST_STALE = "SELECT " + LATEST_COLUMNS + " FROM unit_latest"
+            + " WHERE family = ? AND created_at < ? ORDER BY created_at, unit_id LIMIT ?";
+    private static final String COUNT_STALE_OF_VERSION = "SELECT count(*) FROM unit_version_latest"
+            + " WHERE family = ? AND version = ? AND created_at < ?";
+    private static final String LIST_STALE_OF_VERSION = "SELECT " + LATEST_COLUMNS + " FROM unit_version_latest"
+            + " WHERE family = ? AND version = ? AND created_at < ? ORDER BY created_at, unit_id LIMIT ?";
+
+    // The unit list: one statement per order and table. The sort tuple has no index (it holds
+    // expressions), so each page sorts the family's rows: one per unit, not per estimate.
+    private static final Map<UnitSort, String> LIST_UNITS = unitListStatements("unit_latest", "");
+    private static final Map<UnitSort, String> LIST_UNITS_OF_VERSION =
+            unitListStatements("unit_version_latest", " AND version = ?");
+
+    // A unit's trend walks estimates_by_unit_newest and looks each estimate's state up by key.
+    private static final String LIST_STATE_TREND = "SELECT e.id, e.created_at, e.version, e.window_start,"
+            + " e.window_end, s.value, s.standard_error, s.lower, s.upper"
+            + " FROM estimates e JOIN estimate_states s ON s.estimate_id = e.id AND s.state = ?"
+            + " WHERE e.unit_id = ? AND e.family = ? AND (? IS NULL OR e.version = ?)"
+            + " ORDER BY e.created_at DESC, e.id DESC LIMIT ?";
+
+    private SqliteFleet() {
+    }
+
+    private static Map<UnitSort, String> unitListStatements(String table, String versionCondition) {
+        Map<UnitSort, String> statements = new EnumMap<>(UnitSort.class);
+        for (UnitSort sort : UnitSort.values()) {
+            statements.put(sort, "SELECT " + LATEST_COLUMNS + " FROM " + table
+                    + " WHERE family = ?" + versionCondition
+                    + " AND (? IS NULL OR instr(',' || flags || ',', ',' || ? || ',') > 0)"
+                    + " AND (? IS NULL OR " + sort.after() + ")"
+                    + " ORDER BY " + sort.orderBy() + " LIMIT ?");
+        }
+        return statements;
+    }
+
+    /** Writes the derived rows of the estimate the job just wrote; call in the same transaction. */
+    static void recordEstimate(Connection c, String jobId) throws SQLException {
+        for (String sql : List.of(RECORD_STATES, RECORD_CHANNELS, RECORD_UNIT_LATEST, RECORD_UNIT_VERSION_LATEST)) {
+            try (PreparedStatement ps = Sql.bind(c.prepareStatement(sql), jobId)) {
+                ps.executeUpdate();
+            }
+        }
+    }
+
+    static FleetSummary summary(SqliteConnections db, FleetSummaryQuery q) {
+        return db.read(c -> inOneSnapshot(c, () -> {
+            List<FleetSummary.VersionActivity> versions = new ArrayList<>();
+            for (Map.Entry<Integer, List<String>> v : q.channelsByVersion().entrySet()) {
+                versions.add(versionActivity(c, q, v.getKey(), v.getValue()));
+            }
+            return new FleetSummary(versions, stale(c, q));
+        }));
+    }
+
+    static UnitPage units(SqliteConnections db, UnitFilter filter, UnitSort sort, String cursorOrNull, int limit) {
+        Expect.notNull("filter", filter);
+        Expect.notNull("sort", sort);
+        Expect.atLeast("limit", limit, 1);
+        UnitCursor after = cursorOrNull == null ? null : UnitCursor.decode(cursorOrNull, sort);
+        List<Object> values = new ArrayList<>();
+        values.add(filter.family());
+        if (filter.versionOrNull() != null) {
+            values.add(filter.versionOrNull());
+        }
+        values.add(filter.flagOrNull());
+        values.add(filter.flagOrNull());
+        values.add(after == null ? null : 1);
+        for (int i = 0; i < sort.terms.size(); i++) {
+            values.add(after == null ? null : after.key().get(i));
+        }
+        values.add(limit + 1); // one row more than asked tells whether another page follows
+        String sql = (filter.versionOrNull() == null ? LIST_UNITS : LIST_UNITS_OF_VERSION).get(sort);
+        List<UnitLatestRow> rows = db.read(c -> {
+            try (PreparedStatement ps = Sql.bind(c.prepareStatement(sql), values.toArray())) {
+                return Sql.list(ps, SqliteFleet::latestRow);
+            }
+        });
+        if (rows.size() <= limit) {
+            return new UnitPage(rows, null);
+        }
+        List<UnitLatestRow> page = rows.subList(0, limit);
+        return new UnitPage(page, new UnitCursor(sort, sort.keyOf(page.get(limit - 1))).encode());
+    }
+
+    /** The newest {@code limit} estimates of one state, newest first. */
+    static List<StatePoint> stateTrend(SqliteConnections db, String unitId, String state, String family,
+                                       Integer versionOrNull, int limit) {
+        Expect.notBlank("unitId", unitId);
+        Expect.notBlank("state", state);
+        Expect.notBlank("family", family);
+        Expect.atLeast("limit", limit, 1);
+        return db.read(c -> {
+            try (PreparedStatement ps = Sql.bind(c.prepareStatement(LIST_STATE_TREND), state, unitId, family,
+                    versionOrNull, versionOrNull, limit)) {
+                return Sql.list(ps, SqliteFleet::statePoint);
+            }
+        });
+    }
+
+    private static FleetSummary.VersionActivity versionActivity(Connection c, FleetSummaryQuery q, int version,
+                                                                List<String> channels) throws SQLException {
+        long from = q.fromOrNull() == null ? OPEN_START : Sql.millis(q.fromOrNull());
+        long to = q.toOrNull() == null ? OPEN_END : Sql.millis(q.toOrNull());
+        long[] counts;
+        try (PreparedStatement ps = Sql.bind(c.prepareStatement(COUNT_ESTIMATES), q.family(), version, from, to)) {
+            counts = Sql.firstOrNull(ps, rs -> new long[] {rs.getLong(1), rs.getLong(2)});
+        }
+        long traces;
+        try (PreparedStatement ps = Sql.bind(c.prepareStatement(COUNT_TRACES), q.family(), version, from, to)) {
+            traces = Sql.firstOrNull(ps, rs -> rs.getLong(1));
+        }
+        FleetSummary.Distribution chi2;
+        try (PreparedStatement ps = Sql.bind(c.prepareStatement(LIST_CHI2), q.family(), version, from, to)) {
+            chi2 = distribution(ps);
+        }
+        Map<String, FleetSummary.Distribution> rms = new LinkedHashMap<>();
+        for (String channel : channels) {
+            try (PreparedStatement ps = Sql.bind(c.prepareStatement(LIST_CHANNEL_RMS), q.family(), version, channel,
+                    from, to)) {
+                rms.put(channel, distribution(ps));
+            }
+        }
+        Map<String, FleetSummary.FlaggedUnits> flags;
+        try (PreparedStatement ps = Sql.bind(c.prepareStatement(LIST_FLAGGED), q.family(), version, from, to)) {
+            flags = flagged(ps, q.listLimit());
+        }
+        return new FleetSummary.VersionActivity(version, counts[1], traces, counts[0], chi2, rms, flags);
+    }
+
+    /** Reads one REAL column into a primitive array and summarises it; no boxing per value. */
+    private static FleetSummary.Distribution distribution(PreparedStatement ps) throws SQLException {
+        double[] values = new double[FIRST_CAPACITY];
+        int count = 0;
+        try (ResultSet rs = ps.executeQuery()) {
+            while (rs.next()) {
+                if (count == values.length) {
+                    values = Arrays.copyOf(values, 2 * count);
+                }
+                values[count++] = rs.getDouble(1);
+            }
+        }
+        if (count == 0) {
+            return new FleetSummary.Distribution(0, null, null, null);
+        }
+        double[] q = SampleQuantiles.sortAndCompute(values, count, MEDIAN, P95, 1.0);
+        return new FleetSummary.Distribution(count, q[0], q[1], q[2]);
+    }
+
+    /** One pass over the window's flagged estimates: per flag, estimates, distinct units and the first units by ID. */
+    private static Map<String, FleetSummary.FlaggedUnits> flagged(PreparedStatement ps, int listLimit)
+            throws SQLException {
+        Map<String, long[]> estimates = new TreeMap<>();
+        Map<String, Set<String>> units = new TreeMap<>();
+        try (ResultSet rs = ps.executeQuery()) {
+            while (rs.next()) {
+                String unit = rs.getString(1);
+                for (String flag : Sql.splitFlags(rs.getString(2))) {
+                    estimates.computeIfAbsent(flag, f -> new long[1])[0]++;
+                    units.computeIfAbsent(flag, f -> new HashSet<>()).add(unit);
+                }
+            }
+        }
+        Map<String, FleetSummary.FlaggedUnits> out = new LinkedHashMap<>();
+        for (Map.Entry<String, long[]> e : estimates.entrySet()) {
+            Set<String> all = units.get(e.getKey());
+            List<String> first = new TreeSet<>(all).stream().limit(listLimit).toList();
+            out.put(e.getKey(), new FleetSummary.FlaggedUnits(e.getValue()[0], all.size(), first));
+        }
+        return out;
+    }
+
+    private static FleetSummary.StaleUnits stale(Connection c, FleetSummaryQuery q) throws SQLException {
+        long before = Sql.millis(q.staleBefore());
+        Integer version = q.staleVersionOrNull();
+        Object[] key = version == null ? new Object[] {q.family(), before} : new Object[] {q.family(), version, before};
+        long count;
+        try (PreparedStatement ps = Sql.bind(c.prepareStatement(version == null ? COUNT_STALE : COUNT_STALE_OF_VERSION), key)) {
+            count = Sql.firstOrNull(ps, rs -> rs.getLong(1));
+        }
+        Object[] listKey = Arrays.copyOf(key, key.length + 1);
+        listKey[key.length] = q.listLimit();
+        try (PreparedStatement ps = Sql.bind(c.prepareStatement(version == null ? LIST_STALE : LIST_STALE_OF_VERSION),
+                listKey)) {
+            return new FleetSummary.StaleUnits(count, Sql.list(ps, SqliteFleet::latestRow));
+        }
+    }
+
+    /** Work that needs one consistent view over several statements: a read transaction on the connection. */
+    private static <T> T inOneSnapshot(Connection c, SnapshotWork<T> work) throws SQLException {
+        // In WAL mode a read transaction sees the database as of its first read, so counts and
+        // distributions agree even while estimates are being written. PostgreSQL: REPEATABLE READ.
+        c.setAutoCommit(false);
+        try {
+            return work.run();
+        } finally {
+            c.rollback();
+            c.setAutoCommit(true);
+        }
+    }
+
+    @FunctionalInterface
+    private interface SnapshotWork<T> {
+        T run() throws SQLException;
+    }
+
+    private static UnitLatestRow latestRow(ResultSet rs) throws SQLException {
+        return new UnitLatestRow(rs.getString("unit_id"), rs.getString("family"), rs.getInt("version"),
+                rs.getString("estimate_id"), Sql.instant(rs, "created_at"), Sql.doubleOrNull(rs, "chi2_per_dof"),
+                Sql.splitFlags(rs.getString("flags")));
+    }
+
+    private static StatePoint statePoint(ResultSet rs) throws SQLException {
+        return new StatePoint(rs.getString("id"), Sql.instant(rs, "created_at"), rs.getInt("version"),
+                rs.getDouble("window_start"), rs.getDouble("window_end"), Sql.doubleOrNull(rs, "value"),
+                Sql.doubleOrNull(rs, "standard_error"), Sql.doubleOrNull(rs, "lower"), Sql.doubleOrNull(rs, "upper"));
+    }
+}

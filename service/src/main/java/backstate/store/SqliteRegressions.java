@@ -1,0 +1,174 @@
+package backstate.store;
+
+import com.fasterxml.jackson.core.io.JsonStringEncoder;
+import java.sql.Connection;
+import java.sql.PreparedStatement;
+import java.sql.ResultSet;
+import java.sql.SQLException;
+import java.time.Instant;
+import java.util.List;
+import java.util.Optional;
+
+/**
+ * Regression runs: the trace selection they run over, the run row beside its 'regression' job,
+ * the cancel request a running job polls, and finishing a running job as cancelled. Stateless:
+ * every call names the connections it uses.
+ */
+final class SqliteRegressions {
+
+    private static final String KIND_REGRESSION = "regression";
+
+    // ROW_NUMBER ranks each unit's traces newest first; both SQLite (3.25+) and PostgreSQL have
+    // it. The unit list is bound as one JSON array and opened with SQLite's json_each; on
+    // PostgreSQL bind a text[] and write "unit_id = ANY(?)" instead. Each "? IS NULL OR ..." pair
+    // is bound twice with the same value (PostgreSQL needs casts on the first, as in estimates).
+    private static final String SELECT_TRACES = """
+            SELECT id, unit_id, family, version, received_at FROM (
+                SELECT id, unit_id, family, version, received_at,
+                       ROW_NUMBER() OVER (PARTITION BY unit_id ORDER BY received_at DESC, id DESC) AS recency
+                FROM traces
+                WHERE family = ?
+                  AND (? IS NULL OR unit_id IN (SELECT value FROM json_each(?)))
+                  AND (? IS NULL OR received_at >= ?)
+                  AND (? IS NULL OR received_at < ?))
+            WHERE (? IS NULL OR recency <= ?)
+            ORDER BY unit_id, received_at, id
+            LIMIT ?""";
+    private static final String INSERT_REGRESSION = "INSERT INTO regressions"
+            + " (job_id, family, baseline, candidate, created_at) VALUES (?, ?, ?, ?, ?)";
+    // json_extract is SQLite's JSON1 (0/1/NULL for a JSON boolean); PostgreSQL reads the JSONB
+    // column as (result_json -> 'verdict' ->> 'pass')::boolean.
+    private static final String REGRESSION_COLUMNS = "r.job_id, r.family, r.baseline, r.candidate, r.created_at,"
+            + " r.cancel_requested_at, j.state, j.progress_done, j.progress_total, j.finished_at,"
+            + " json_extract(j.result_json, '$.verdict.pass') AS pass";
+    private static final String FIND_REGRESSION = "SELECT " + REGRESSION_COLUMNS
+            + " FROM regressions r JOIN jobs j ON j.id = r.job_id WHERE r.job_id = ?";
+    private static final String LIST_REGRESSIONS = "SELECT " + REGRESSION_COLUMNS
+            + " FROM regressions r JOIN jobs j ON j.id = r.job_id"
+            + " WHERE (? IS NULL OR r.family = ?)"
+            + " AND (? IS NULL OR (r.created_at, r.job_id) < (?, ?))"
+            + " ORDER BY r.created_at DESC, r.job_id DESC LIMIT ?";
+    // The first request's time is kept; a request for a finished run changes nothing.
+    private static final String REQUEST_CANCEL = "UPDATE regressions"
+            + " SET cancel_requested_at = COALESCE(cancel_requested_at, ?)"
+            + " WHERE job_id = ? AND EXISTS (SELECT 1 FROM jobs WHERE id = ? AND state IN ('queued', 'running'))";
+    private static final String CANCEL_REQUESTED =
+            "SELECT cancel_requested_at IS NOT NULL FROM regressions WHERE job_id = ?";
+    private static final String CANCEL_IF_RUNNING = "UPDATE jobs SET state = 'cancelled', finished_at = ?,"
+            + " result_json = ? WHERE id = ? AND kind = 'regression' AND state = 'running' AND attempt = ?";
+
+    private SqliteRegressions() {
+    }
+
+    static List<TraceRef> selectTraces(SqliteConnections db, TraceSelection s) {
+        Expect.notNull("selection", s);
+        String units = s.unitsOrNull() == null ? null : jsonArray(s.unitsOrNull());
+        Long from = Sql.millisOrNull(s.receivedFromOrNull());
+        Long to = Sql.millisOrNull(s.receivedToOrNull());
+        Integer latest = s.latestPerUnitOrNull();
+        return db.read(c -> {
+            try (PreparedStatement ps = Sql.bind(c.prepareStatement(SELECT_TRACES), s.family(), units, units,
+                    from, from, to, to, latest, latest, s.maxRows())) {
+                return Sql.list(ps, rs -> new TraceRef(rs.getString("id"), rs.getString("unit_id"),
+                        rs.getString("family"), rs.getInt("version"), Sql.instant(rs, "received_at")));
+            }
+        });
+    }
+
+    static String createRegression(SqliteConnections db, NewRegression r, int maxQueued, Instant now)
+            throws QueueFullException {
+        Expect.notNull("regression", r);
+        Expect.atLeast("maxQueued", maxQueued, 0);
+        // A refusal leaves the transaction as null, having written nothing (the checked
+        // exception cannot cross the lambda).
+        Integer[] queuedWhenRefused = new Integer[1];
+        String id = db.write(c -> {
+            int queued = SqliteJobs.countQueued(c);
+            if (queued >= maxQueued) {
+                queuedWhenRefused[0] = queued;
+                return null;
+            }
+            String jobId = SqliteJobs.insertJob(c, KIND_REGRESSION, null, r.paramsJson(), now);
+            try (PreparedStatement ps = Sql.bind(c.prepareStatement(INSERT_REGRESSION), jobId, r.family(),
+                    r.baseline(), r.candidate(), Sql.millis(now))) {
+                ps.executeUpdate();
+            }
+            return jobId;
+        });
+        if (id == null) {
+            throw new QueueFullException(queuedWhenRefused[0], maxQueued);
+        }
+        return id;
+    }
+
+    static Optional<RegressionRow> findRegression(SqliteConnections db, String id) {
+        return db.read(c -> {
+            try (PreparedStatement ps = Sql.bind(c.prepareStatement(FIND_REGRESSION), id)) {
+                return Optional.ofNullable(Sql.firstOrNull(ps, SqliteRegressions::regressionRow));
+            }
+        });
+    }
+
+    static RegressionPage listRegressions(SqliteConnections db, String familyOrNull, String cursorOrNull,
+                                          int limit) {
+        Expect.atLeast("limit", limit, 1);
+        // Same keyset shape as estimate history: (created_at, id) of the last row returned.
+        EstimateCursor after = cursorOrNull == null ? null : EstimateCursor.decode(cursorOrNull);
+        Long afterMillis = after == null ? null : after.createdAtMillis();
+        String afterId = after == null ? null : after.id();
+        List<RegressionRow> rows = db.read(c -> {
+            try (PreparedStatement ps = Sql.bind(c.prepareStatement(LIST_REGRESSIONS), familyOrNull, familyOrNull,
+                    afterMillis, afterMillis, afterId, limit + 1)) {
+                return Sql.list(ps, SqliteRegressions::regressionRow);
+            }
+        });
+        if (rows.size() <= limit) {
+            return new RegressionPage(rows, null);
+        }
+        List<RegressionRow> page = rows.subList(0, limit);
+        RegressionRow last = page.get(limit - 1);
+        return new RegressionPage(page, new EstimateCursor(Sql.millis(last.createdAt()), last.id()).encode());
+    }
+
+    static boolean requestCancel(SqliteConnections db, String id, Instant now) {
+        return db.write(c -> updatedOne(c, REQUEST_CANCEL, Sql.millis(now), id, id));
+    }
+
+    static boolean cancelRequested(SqliteConnections db, String id) {
+        return db.read(c -> {
+            try (PreparedStatement ps = Sql.bind(c.prepareStatement(CANCEL_REQUESTED), id)) {
+                Boolean requested = Sql.firstOrNull(ps, rs -> rs.getBoolean(1));
+                return Boolean.TRUE.equals(requested);
+            }
+        });
+    }
+
+    static boolean cancelIfRunning(SqliteConnections db, String id, int attempt, String resultJsonOrNull,
+                                   Instant now) {
+        return db.write(c -> updatedOne(c, CANCEL_IF_RUNNING, Sql.millis(now), resultJsonOrNull, id, attempt));
+    }
+
+    private static boolean updatedOne(Connection c, String sql, Object... values) throws SQLException {
+        try (PreparedStatement ps = Sql.bind(c.prepareStatement(sql), values)) {
+            return ps.executeUpdate() == 1;
+        }
+    }
+
+    /** A JSON array of strings, for json_each. */
+    private static String jsonArray(List<String> values) {
+        StringBuilder array = new StringBuilder("[");
+        for (String v : values) {
+            array.append(array.length() > 1 ? ",\"" : "\"").append(JsonStringEncoder.getInstance().quoteAsString(v)).append('"');
+        }
+        return array.append(']').toString();
+    }
+
+    private static RegressionRow regressionRow(ResultSet rs) throws SQLException {
+        int pass = rs.getInt("pass");
+        Boolean passOrNull = rs.wasNull() ? null : pass == 1;
+        return new RegressionRow(rs.getString("job_id"), rs.getString("family"), rs.getInt("baseline"),
+                rs.getInt("candidate"), Sql.instant(rs, "created_at"), Sql.instant(rs, "cancel_requested_at"),
+                rs.getString("state"), rs.getInt("progress_done"), rs.getInt("progress_total"),
+                Sql.instant(rs, "finished_at"), passOrNull);
+    }
+}

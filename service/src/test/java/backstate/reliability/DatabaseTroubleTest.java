@@ -1,0 +1,172 @@
+package backstate.reliability;
+
+import static org.junit.jupiter.api.Assertions.assertEquals;
+import static org.junit.jupiter.api.Assertions.assertTrue;
+import static org.junit.jupiter.api.Assumptions.assumeTrue;
+
+import backstate.api.TestServer;
+import java.io.IOException;
+import java.io.OutputStream;
+import java.nio.file.Files;
+import java.nio.file.Path;
+import java.sql.Connection;
+import java.sql.DriverManager;
+import java.sql.Statement;
+import java.util.concurrent.TimeUnit;
+import org.junit.jupiter.api.Test;
+import org.junit.jupiter.api.io.TempDir;
+
+/**
+ * When the database cannot take a write (another process holds the write lock; the disk is
+ * full) a trace post gets 503 problem+json with Retry-After, the reason is in the server's log,
+ * nothing half-written is left (integrity_check, unchanged signature), and the same post
+ * succeeds once the trouble is gone. The service runs as its own process so its log can be read.
+ */
+class DatabaseTroubleTest {
+    /** Traces big enough that their write cannot fit in WAL space freed by earlier checkpoints. */
+    static final int BIG_SAMPLES = 20_000;
+    /** Room on the small filesystem for the schema, the model and one small trace. */
+    static final String TMPFS_SIZE = "8m";
+
+    @TempDir
+    Path dir;
+
+    @Test
+    void a_write_lock_held_by_another_process_gets_503_with_retry_after_then_the_retry_succeeds() throws Exception {
+        ServerDb db = new ServerDb(dir.resolve("busy.db"));
+        byte[] csv = new ReeferTraces(TestServer.TEST_DATA).csv(360, 1);
+        try (ServerProcess server = ServerProcess.start(db.file(), dir.resolve("server.log"))) {
+            Http http = new Http(server.base());
+            http.publishDemoModel(TestServer.TEST_DATA);
+            String before = db.signature();
+            Http.Reply refused;
+            try (Connection other = DriverManager.getConnection("jdbc:sqlite:" + db.file());
+                 Statement s = other.createStatement()) {
+                s.execute("BEGIN EXCLUSIVE"); // held past the server's 5 s busy timeout
+                refused = http.postTrace("RCX-40001", csv, "busy-1");
+                s.execute("ROLLBACK");
+            }
+            assertServiceBusy(refused);
+            assertTrue(server.logText().contains("database unavailable: store unavailable: database busy"), server.logText());
+            assertEquals(before, db.signature());
+            assertEquals("ok", db.integrityCheck());
+
+            Http.Reply retried = http.postTrace("RCX-40001", csv, "busy-1");
+            assertEquals(202, retried.status(), retried.body());
+            KilledServerTest.awaitDrained(db);
+            assertEquals(1, db.count("SELECT COUNT(*) FROM estimates"));
+        }
+    }
+
+    @Test
+    void a_full_disk_gets_503_with_retry_after_and_leaves_the_file_intact() throws Exception {
+        Path mount = dir.resolve("small-disk");
+        Files.createDirectories(mount);
+        assumeTrue(run("mount", "-t", "tmpfs", "-o", "size=" + TMPFS_SIZE, "tmpfs", mount.toString()),
+                "needs root with CAP_SYS_ADMIN to mount a small tmpfs; skipped");
+        try {
+            ServerDb db = new ServerDb(mount.resolve("full.db"));
+            ReeferTraces reefer = new ReeferTraces(TestServer.TEST_DATA);
+            try (ServerProcess server = ServerProcess.start(db.file(), dir.resolve("server.log"))) {
+                Http http = new Http(server.base());
+                http.publishDemoModel(TestServer.TEST_DATA);
+                assertEquals(202, http.postTrace("RCX-40002", reefer.csv(360, 2), null).status());
+                KilledServerTest.awaitDrained(db);
+                Path filler = mount.resolve("filler");
+                fill(filler);
+                String before = db.signature();
+
+                byte[] big = reefer.csv(BIG_SAMPLES, 3);
+                Http.Reply refused = http.postTrace("RCX-40002", big, "full-1");
+                assertServiceBusy(refused);
+                assertTrue(server.logText().contains("database unavailable: store unavailable: disk full"), server.logText());
+                assertEquals(before, db.signature());
+                assertEquals("ok", db.integrityCheck());
+
+                Files.delete(filler);
+                Http.Reply retried = http.postTrace("RCX-40002", big, "full-1");
+                assertEquals(202, retried.status(), retried.body());
+                KilledServerTest.awaitDrained(db);
+                assertEquals(2, db.count("SELECT COUNT(*) FROM estimates"));
+                assertEquals("ok", db.integrityCheck());
+                assertTrue(server.terminate(GracefulStopTest.EXIT_BOUND) != null, "server did not stop");
+            }
+        } finally {
+            if (!run("umount", mount.toString())) {
+                run("umount", "-l", mount.toString());
+            }
+        }
+    }
+
+    @Test
+    void a_database_on_a_read_only_filesystem_stops_the_start_with_the_reason_logged() throws Exception {
+        // A running server's file cannot be made read-only from outside (as root chmod does not
+        // stop writes, and remounting read-only fails while the file is open for writing), so
+        // this is the read-only case that can happen: the service is started on one.
+        Path mount = dir.resolve("read-only");
+        Files.createDirectories(mount);
+        assumeTrue(run("mount", "-t", "tmpfs", "-o", "size=" + TMPFS_SIZE, "tmpfs", mount.toString()),
+                "needs root with CAP_SYS_ADMIN to mount a small tmpfs; skipped");
+        try {
+            ServerDb db = new ServerDb(mount.resolve("ro.db"));
+            Path log = dir.resolve("server.log");
+            try (ServerProcess server = ServerProcess.start(db.file(), log)) {
+                new Http(server.base()).publishDemoModel(TestServer.TEST_DATA);
+                assertTrue(server.terminate(GracefulStopTest.EXIT_BOUND) != null, "server did not stop");
+            }
+            String signature = db.signature();
+            assertTrue(run("mount", "-o", "remount,ro", mount.toString()), "remount read-only failed");
+
+            Integer exit = ServerProcess.failedStart(db.file(), log, ServerProcess.START_TIMEOUT);
+            assertTrue(exit != null && exit != 0, "started on a read-only file: exit " + exit);
+            String text = Files.readString(log);
+            assertTrue(text.contains("Unable to open the database file"), text);
+            assertTrue(run("mount", "-o", "remount,rw", mount.toString()), "remount read-write failed");
+            assertEquals(signature, db.signature());
+            assertEquals("ok", db.integrityCheck());
+        } finally {
+            if (!run("umount", mount.toString())) {
+                run("umount", "-l", mount.toString());
+            }
+        }
+    }
+
+    private static void assertServiceBusy(Http.Reply reply) {
+        assertEquals(503, reply.status(), reply.body());
+        assertEquals("application/problem+json", reply.header("Content-Type"));
+        assertEquals("5", reply.header("Retry-After"));
+        assertEquals("/problems/service-busy", reply.json().path("type").asText());
+    }
+
+    /** Writes zeros until the filesystem refuses more. */
+    private static void fill(Path filler) throws IOException {
+        byte[] block = new byte[64 * 1024];
+        try (OutputStream out = Files.newOutputStream(filler)) {
+            while (true) {
+                out.write(block);
+            }
+        } catch (IOException full) {
+            // "No space left on device": the point
+        }
+        try (OutputStream out = Files.newOutputStream(filler, java.nio.file.StandardOpenOption.APPEND)) {
+            while (true) {
+                out.write(0);
+                out.flush();
+            }
+        } catch (IOException full) {
+            // the last partial block, too
+        }
+    }
+
+    private static boolean run(String... command) {
+        try {
+            Process p = new ProcessBuilder(command).redirectErrorStream(true).redirectOutput(ProcessBuilder.Redirect.DISCARD).start();
+            return p.waitFor(30, TimeUnit.SECONDS) && p.exitValue() == 0;
+        } catch (IOException e) {
+            return false;
+        } catch (InterruptedException e) {
+            Thread.currentThread().interrupt();
+            return false;
+        }
+    }
+}

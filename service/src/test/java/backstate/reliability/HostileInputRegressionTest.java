@@ -1,0 +1,96 @@
+package backstate.reliability;
+
+import static org.junit.jupiter.api.Assertions.assertEquals;
+import static org.junit.jupiter.api.Assertions.assertTrue;
+
+import backstate.api.TestServer;
+import java.io.IOException;
+import java.nio.charset.StandardCharsets;
+import java.nio.file.Files;
+import java.nio.file.Path;
+import java.util.Map;
+import java.util.stream.Stream;
+import org.junit.jupiter.api.AfterAll;
+import org.junit.jupiter.api.BeforeAll;
+import org.junit.jupiter.api.TestInstance;
+import org.junit.jupiter.api.io.TempDir;
+import org.junit.jupiter.params.ParameterizedTest;
+import org.junit.jupiter.params.provider.Arguments;
+import org.junit.jupiter.params.provider.MethodSource;
+
+/**
+ * Every input that once broke something at the HTTP edge, kept as a regression case (after
+ * SQLite's harness): what it broke is in the case's name. Each must now get the stated 4xx as
+ * problem+json naming the field, store nothing, and leave the server up.
+ */
+@TestInstance(TestInstance.Lifecycle.PER_CLASS)
+class HostileInputRegressionTest {
+    static final String TRACES = HostileRequests.TRACES;
+    static final String CSV = "text/csv";
+
+    TestServer server;
+    ServerDb db;
+
+    @BeforeAll
+    void start(@TempDir Path dir) throws Exception {
+        server = new TestServer(dir, Map.of("BACKSTATE_MAX_BODY_BYTES", Integer.toString(HostileRequests.MAX_BODY)));
+        db = new ServerDb(dir.resolve("test.db"));
+        server.publishDemoModels();
+    }
+
+    @AfterAll
+    void stop() {
+        server.close();
+    }
+
+    static Stream<Arguments> onceBroken() throws IOException {
+        byte[] csv = HostileRequests.validCsv(0);
+        byte[] model = Files.readAllBytes(ReeferTraces.modelFile(TestServer.TEST_DATA));
+        return Stream.of(
+                // was a 400 blaming gzip on a body that was never gzip
+                broke("body shorter than its Content-Length", 400, "body",
+                        Raw.post(TRACES, Raw.headers("Content-Type", CSV, "Content-Length", Integer.toString(csv.length + 100)), csv)),
+                // the next five were answered by Jetty's HTML error page, not problem+json
+                broke("Content-Length not a number", 400, "Content-Length",
+                        Raw.post(TRACES, Raw.headers("Content-Type", CSV, "Content-Length", "abc"), csv)),
+                broke("two Content-Length headers", 400, "Content-Length",
+                        Raw.request("POST", TRACES, Raw.headers("Content-Type", CSV, "Content-Length", "5", "content-length", "6"), csv)),
+                broke("headers over Jetty's 8 KiB", 431, "headers",
+                        Raw.post(TRACES, Raw.headers("Content-Type", CSV, "X-Padding", "p".repeat(9000)), csv)),
+                broke("request line without a target", 400, null, bytes("GARBAGE\r\n\r\n")),
+                broke("request target with a raw 0xFF byte", 400, null,
+                        Raw.request("GET", "/v1/units/\u00ff/estimates", Map.of(), new byte[0])),
+                // echoed a 300-character field name back in the problem
+                broke("JSON field name of 300 characters", 400, "body",
+                        Raw.post(TRACES, Raw.headers("Content-Type", "application/json"), bytes("{\"" + "k".repeat(300) + "\":[]}"))),
+                // EOFException from an empty gzip stream escaped as a 500
+                broke("Content-Encoding gzip on an empty body", 400, "Content-Encoding",
+                        Raw.post(TRACES, Raw.headers("Content-Type", CSV, "Content-Encoding", "gzip"), new byte[0])),
+                // a null row in B reached the shape check as a NullPointerException (500)
+                broke("model with a null row in b", 422, "b[0]",
+                        Raw.post("/v1/models/reefer-40/versions", Raw.headers("Content-Type", "application/json"),
+                                new String(model, StandardCharsets.UTF_8).replaceFirst("\"b\"\\s*:\\s*\\[\\s*\\[[^\\]]*\\]", "\"b\": [null")
+                                        .getBytes(StandardCharsets.UTF_8))));
+    }
+
+    @ParameterizedTest(name = "{0}")
+    @MethodSource("onceBroken")
+    void an_input_that_once_broke_the_edge_gets_a_problem_and_stores_nothing(String input, int status, String field,
+                                                                            byte[] request) {
+        String before = db.signature();
+        Raw.Reply reply = Raw.exchange(server.app().port(), request);
+        assertEquals(status, reply.status(), reply.toString());
+        assertTrue(reply.isProblem(), reply.toString());
+        assertEquals(field, reply.field(), reply.toString());
+        assertEquals(before, db.signature());
+        assertEquals(200, Raw.exchange(server.app().port(), Raw.request("GET", "/healthz", Map.of(), new byte[0])).status());
+    }
+
+    private static Arguments broke(String input, int status, String field, byte[] request) {
+        return Arguments.of(input, status, field, request);
+    }
+
+    private static byte[] bytes(String s) {
+        return s.getBytes(StandardCharsets.ISO_8859_1);
+    }
+}

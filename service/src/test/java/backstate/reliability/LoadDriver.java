@@ -1,0 +1,370 @@
+package backstate.reliability;
+
+import backstate.formats.DocumentSolver;
+import backstate.formats.Json;
+import backstate.formats.Limits;
+import backstate.formats.ModelDocument;
+import backstate.formats.ParsedTrace;
+import backstate.formats.TraceOptions;
+import backstate.formats.TraceReader;
+import java.io.ByteArrayInputStream;
+import java.io.IOException;
+import java.net.URI;
+import java.nio.file.Files;
+import java.nio.file.Path;
+import java.time.Duration;
+import java.util.ArrayList;
+import java.util.Arrays;
+import java.util.LinkedHashMap;
+import java.util.List;
+import java.util.Locale;
+import java.util.Map;
+import java.util.Set;
+import java.util.concurrent.ConcurrentLinkedQueue;
+import java.util.concurrent.ExecutorService;
+import java.util.concurrent.Executors;
+import java.util.concurrent.ThreadLocalRandom;
+import java.util.concurrent.TimeUnit;
+import java.util.concurrent.atomic.AtomicInteger;
+import java.util.concurrent.atomic.AtomicLong;
+
+/**
+ * Load against a service on loopback, printing figures (run by bench/load/*.sh, never by the
+ * test suite). Every run is bounded in count and time and stops by itself; a base URL off the
+ * loopback interface is refused.
+ *
+ * <pre>
+ * LoadDriver ingest --base URL --db FILE [--clients 32] [--traces 6000] [--samples 1000] [--rate R]
+ * LoadDriver mixed  --base URL --db FILE [--clients 32] [--seconds 60] [--samples 1000] [--units 64]
+ * LoadDriver upload --base URL --db FILE [--samples 1000000]
+ * LoadDriver offline [--samples 1000000]      parse + solve of the same CSV in this JVM, no server
+ * </pre>
+ *
+ * <p>"Solved" is read from the server's own database file (read-only, WAL lets it read beside
+ * the server): a run ends when no job is queued or running, and its end-to-end time runs from
+ * the first post to the last job's {@code finished_at}.
+ */
+public final class LoadDriver {
+    /** Hard ceilings, whatever the flags say: a run cannot become a flood. */
+    static final int MAX_TRACES = 100_000;
+    static final int MAX_SECONDS = 600;
+    static final int MAX_CLIENTS = 256;
+    /** How long the queue may take to drain after the last post before the run is called failed. */
+    static final Duration DRAIN_BOUND = Duration.ofMinutes(10);
+    /** Distinct synthetic traces cycled through by the clients. */
+    static final int BODY_POOL = 64;
+    static final Path TEST_DATA = Path.of(System.getProperty("backstate.testData", "test-data"));
+    /** A single 10⁶-sample upload may take a while on a small heap; a hang still ends. */
+    static final Duration UPLOAD_TIMEOUT = Duration.ofMinutes(5);
+
+    private final Map<String, String> flags;
+    private final Http http;
+    private final ServerDb db;
+
+    private LoadDriver(Map<String, String> flags) {
+        this.flags = flags;
+        String base = flags.getOrDefault("base", "http://127.0.0.1:8080");
+        requireLoopback(base);
+        this.http = new Http(base, UPLOAD_TIMEOUT);
+        this.db = flags.containsKey("db") ? new ServerDb(Path.of(flags.get("db"))) : null;
+    }
+
+    public static void main(String[] args) throws Exception {
+        if (args.length == 0) {
+            System.err.println("usage: LoadDriver ingest|mixed|upload|offline [--flag value ...]");
+            System.exit(2);
+        }
+        Map<String, String> flags = new LinkedHashMap<>();
+        for (int i = 1; i + 1 < args.length; i += 2) {
+            flags.put(args[i].replaceFirst("^--", ""), args[i + 1]);
+        }
+        LoadDriver driver = new LoadDriver(flags);
+        boolean ok = switch (args[0]) {
+            case "ingest" -> driver.ingest();
+            case "mixed" -> driver.mixed();
+            case "upload" -> driver.upload();
+            case "offline" -> driver.offline();
+            default -> throw new IllegalArgumentException("got mode " + args[0] + ", expected ingest, mixed, upload or offline");
+        };
+        System.exit(ok ? 0 : 1);
+    }
+
+    // ---- (a) ingest: N traces by C clients, end to end
+
+    private boolean ingest() throws Exception {
+        int clients = bounded("clients", 32, MAX_CLIENTS);
+        int traces = bounded("traces", 6000, MAX_TRACES);
+        int samples = bounded("samples", 1000, 2_000_000);
+        // --rate R: open loop, post i is due at start + i/R and its latency counts from then, so a
+        // slow server cannot hide its queueing by slowing the clients down. 0 (default): as fast as taken.
+        int rate = flags.containsKey("rate") ? bounded("rate", 1, 100_000) : 0;
+        List<byte[]> bodies = bodies(samples);
+        long[] latency = new long[traces];
+        AtomicInteger next = new AtomicInteger();
+        AtomicInteger errors = new AtomicInteger();
+        ConcurrentLinkedQueue<String> jobs = new ConcurrentLinkedQueue<>();
+        long jobsBefore = db.count("SELECT COUNT(*) FROM jobs");
+        long startMillis = System.currentTimeMillis();
+        long start = System.nanoTime();
+        runClients(clients, Duration.ofSeconds(MAX_SECONDS), () -> {
+            int i = next.getAndIncrement();
+            if (i >= traces) {
+                return false;
+            }
+            long due = rate == 0 ? System.nanoTime() : start + (long) (i * 1e9 / rate);
+            long wait = due - System.nanoTime();
+            if (wait > 0) {
+                TimeUnit.NANOSECONDS.sleep(wait);
+            }
+            try {
+                Http.Reply r = http.postTrace(unit(i), bodies.get(i % bodies.size()), null);
+                latency[i] = System.nanoTime() - due;
+                if (r.status() == 202) {
+                    jobs.add(r.json().path("jobId").asText());
+                } else {
+                    errors.incrementAndGet();
+                    System.err.println("post " + i + ": " + r.status() + " " + r.body());
+                }
+            } catch (IOException e) {
+                latency[i] = System.nanoTime() - due;
+                errors.incrementAndGet();
+                System.err.println("post " + i + ": " + e);
+            }
+            return true;
+        });
+        double enqueueSeconds = (System.nanoTime() - start) / 1e9;
+        awaitDrained();
+        double endToEndSeconds = (lastFinishedMillis() - startMillis) / 1000.0;
+        long succeeded = succeeded(jobs);
+        System.out.printf(Locale.ROOT, "ingest: %d traces x %d samples, %d clients, %s%n", traces, samples, clients,
+                rate == 0 ? "unpaced (as fast as taken)" : "paced at " + rate + " traces/s offered");
+        System.out.printf(Locale.ROOT, "  enqueue: %.1f s, %.0f traces/s; latency p50 %.1f ms, p99 %.1f ms, max %.1f ms%n",
+                enqueueSeconds, traces / enqueueSeconds, percentile(latency, 50), percentile(latency, 99), percentile(latency, 100));
+        System.out.printf(Locale.ROOT, "  stored and solved: %.1f s end to end, %.0f traces/s sustained%n",
+                endToEndSeconds, traces / endToEndSeconds);
+        System.out.printf(Locale.ROOT, "  errors %d, jobs succeeded %d of %d accepted (%d jobs in the database before)%n",
+                errors.get(), succeeded, jobs.size(), jobsBefore);
+        return errors.get() == 0 && succeeded == traces;
+    }
+
+    // ---- (b) mixed: posts and reads for a fixed time
+
+    private boolean mixed() throws Exception {
+        int clients = bounded("clients", 32, MAX_CLIENTS);
+        int seconds = bounded("seconds", 60, MAX_SECONDS);
+        int samples = bounded("samples", 1000, 2_000_000);
+        int units = bounded("units", 64, 10_000);
+        List<byte[]> bodies = bodies(samples);
+        // Seed: one solved trace per unit, so every "latest estimate" read has an answer.
+        List<String> seeded = new ArrayList<>();
+        for (int u = 0; u < units; u++) {
+            Http.Reply r = http.postTrace(unit(u), bodies.get(u % bodies.size()), null);
+            if (r.status() != 202) {
+                throw new IllegalStateException("seed post: " + r.status() + " " + r.body());
+            }
+            seeded.add(r.json().path("jobId").asText());
+        }
+        awaitDrained();
+        ConcurrentLinkedQueue<String[]> acked = new ConcurrentLinkedQueue<>(); // traceId, jobId
+        ConcurrentLinkedQueue<Long> postLatency = new ConcurrentLinkedQueue<>();
+        ConcurrentLinkedQueue<Long> readLatency = new ConcurrentLinkedQueue<>();
+        AtomicInteger errors = new AtomicInteger();
+        AtomicInteger throttled = new AtomicInteger();
+        AtomicLong posts = new AtomicLong();
+        long deadline = System.nanoTime() + Duration.ofSeconds(seconds).toNanos();
+        long start = System.nanoTime();
+        runClients(clients, Duration.ofSeconds(seconds + 60L), () -> {
+            if (System.nanoTime() > deadline) {
+                return false;
+            }
+            ThreadLocalRandom random = ThreadLocalRandom.current();
+            int u = random.nextInt(units);
+            long t0 = System.nanoTime();
+            try {
+                if (random.nextBoolean()) {
+                    // As a gateway does: a 503 (queue full, database busy) is retried after its
+                    // Retry-After with the same Idempotency-Key; it is counted, not an error.
+                    String key = "mixed-" + posts.incrementAndGet();
+                    byte[] body = bodies.get(random.nextInt(bodies.size()));
+                    Http.Reply r = http.postTrace(unit(u), body, key);
+                    postLatency.add(System.nanoTime() - t0);
+                    while (r.status() == 503 && System.nanoTime() < deadline) {
+                        throttled.incrementAndGet();
+                        long pause = Math.min(TimeUnit.SECONDS.toNanos(Long.parseLong(r.header("Retry-After"))),
+                                deadline - System.nanoTime());
+                        TimeUnit.NANOSECONDS.sleep(Math.max(0, pause));
+                        long t1 = System.nanoTime();
+                        r = http.postTrace(unit(u), body, key);
+                        postLatency.add(System.nanoTime() - t1);
+                    }
+                    if (r.status() == 202) {
+                        acked.add(new String[] {r.json().path("traceId").asText(), r.json().path("jobId").asText()});
+                    } else if (r.status() != 503) {
+                        errors.incrementAndGet();
+                        System.err.println("post: " + r.status() + " " + r.body());
+                    }
+                } else {
+                    String path = switch (random.nextInt(3)) {
+                        case 0 -> "/v1/units/" + unit(u) + "/estimates/latest";
+                        case 1 -> "/v1/units/" + unit(u) + "/estimates?limit=10";
+                        default -> "/v1/jobs/" + seeded.get(u);
+                    };
+                    Http.Reply r = http.get(path);
+                    readLatency.add(System.nanoTime() - t0);
+                    if (r.status() != 200) {
+                        errors.incrementAndGet();
+                        System.err.println("GET " + path + ": " + r.status() + " " + r.body());
+                    }
+                }
+            } catch (IOException e) {
+                errors.incrementAndGet();
+                System.err.println("request: " + e);
+            }
+            return true;
+        });
+        double runSeconds = (System.nanoTime() - start) / 1e9;
+        awaitDrained();
+        List<String> jobIds = acked.stream().map(a -> a[1]).toList();
+        Set<String> stored = Set.copyOf(db.strings("SELECT id FROM traces"));
+        long lost = acked.stream().filter(a -> !stored.contains(a[0])).count();
+        long succeeded = succeeded(jobIds);
+        long[] p = postLatency.stream().mapToLong(Long::longValue).toArray();
+        long[] r = readLatency.stream().mapToLong(Long::longValue).toArray();
+        System.out.printf(Locale.ROOT, "mixed: %d clients, %.0f s, traces of %d samples, %d units%n", clients, runSeconds, samples, units);
+        System.out.printf(Locale.ROOT, "  %d requests, %.0f/s: %d posts (%.0f/s, %d accepted), %d reads (%.0f/s)%n",
+                p.length + r.length, (p.length + r.length) / runSeconds, p.length, p.length / runSeconds, acked.size(),
+                r.length, r.length / runSeconds);
+        System.out.printf(Locale.ROOT, "  post latency p50 %.1f ms, p99 %.1f ms; read latency p50 %.1f ms, p99 %.1f ms%n",
+                percentile(p, 50), percentile(p, 99), percentile(r, 50), percentile(r, 99));
+        System.out.printf(Locale.ROOT, "  errors %d, 503s retried after Retry-After %d, lost traces %d, jobs succeeded %d of %d accepted%n",
+                errors.get(), throttled.get(), lost, succeeded, acked.size());
+        return errors.get() == 0 && lost == 0 && succeeded == acked.size();
+    }
+
+    // ---- (c) one large upload, and the same parse + solve offline
+
+    private boolean upload() throws Exception {
+        int samples = bounded("samples", 1_000_000, 2_000_000);
+        byte[] csv = new ReeferTraces(TEST_DATA).csv(samples, 42);
+        long t0 = System.nanoTime();
+        Http.Reply r = http.postTrace(unit(0), csv, null);
+        double postSeconds = (System.nanoTime() - t0) / 1e9;
+        if (r.status() != 202) {
+            System.out.println("upload: " + r.status() + " " + r.body());
+            return false;
+        }
+        String jobId = r.json().path("jobId").asText();
+        awaitDrained();
+        double totalSeconds = (System.nanoTime() - t0) / 1e9;
+        String state = db.strings("SELECT state FROM jobs WHERE id = '" + jobId + "'").get(0);
+        System.out.printf(Locale.ROOT, "upload: %d samples, %.1f MB CSV%n", samples, csv.length / 1e6);
+        System.out.printf(Locale.ROOT, "  202 after %.2f s (upload, parse, check, store); job %s after %.2f s in all%n",
+                postSeconds, state, totalSeconds);
+        return state.equals("succeeded");
+    }
+
+    private boolean offline() throws Exception {
+        int samples = bounded("samples", 1_000_000, 2_000_000);
+        byte[] csv = new ReeferTraces(TEST_DATA).csv(samples, 42);
+        ModelDocument model = Json.mapper(Limits.DEFAULTS).readValue(Files.readAllBytes(ReeferTraces.modelFile(TEST_DATA)),
+                ModelDocument.class);
+        for (int run = 1; run <= 2; run++) {
+            long t0 = System.nanoTime();
+            ParsedTrace parsed = new TraceReader(Limits.DEFAULTS).readCsv(new ByteArrayInputStream(csv), model, TraceOptions.NONE);
+            long t1 = System.nanoTime();
+            DocumentSolver.Outcome outcome = DocumentSolver.solve(model, parsed, true, Limits.DEFAULTS);
+            long t2 = System.nanoTime();
+            System.out.printf(Locale.ROOT, "offline run %d: %d samples, parse %.2f s, solve %.2f s, parse + solve %.2f s (%s)%n",
+                    run, samples, (t1 - t0) / 1e9, (t2 - t1) / 1e9, (t2 - t0) / 1e9, outcome.getClass().getSimpleName());
+        }
+        return true;
+    }
+
+    // ---- shared
+
+    private interface Step {
+        /** One request; false when the client is done. */
+        boolean run() throws Exception;
+    }
+
+    private static void runClients(int clients, Duration bound, Step step) throws InterruptedException {
+        ExecutorService pool = Executors.newFixedThreadPool(clients);
+        for (int c = 0; c < clients; c++) {
+            pool.execute(() -> {
+                try {
+                    while (step.run()) {
+                        // next request
+                    }
+                } catch (Exception e) {
+                    throw new IllegalStateException(e);
+                }
+            });
+        }
+        pool.shutdown();
+        if (!pool.awaitTermination(bound.toSeconds(), TimeUnit.SECONDS)) {
+            pool.shutdownNow();
+            throw new IllegalStateException("clients still running after " + bound);
+        }
+    }
+
+    private List<byte[]> bodies(int samples) {
+        ReeferTraces reefer = new ReeferTraces(TEST_DATA);
+        List<byte[]> bodies = new ArrayList<>();
+        for (int i = 0; i < BODY_POOL; i++) {
+            bodies.add(reefer.csv(samples, i));
+        }
+        return bodies;
+    }
+
+    private static String unit(int i) {
+        return String.format(Locale.ROOT, "RCX-%05d", 20_000 + i % 1000);
+    }
+
+    private void awaitDrained() throws InterruptedException {
+        long deadline = System.nanoTime() + DRAIN_BOUND.toNanos();
+        while (db.count("SELECT COUNT(*) FROM jobs WHERE state IN ('queued', 'running')") > 0) {
+            if (System.nanoTime() > deadline) {
+                throw new IllegalStateException("queue not drained within " + DRAIN_BOUND);
+            }
+            Thread.sleep(20);
+        }
+    }
+
+    private long lastFinishedMillis() {
+        return db.count("SELECT MAX(finished_at) FROM jobs");
+    }
+
+    private long succeeded(Iterable<String> jobIds) {
+        Set<String> ok = Set.copyOf(db.strings("SELECT id FROM jobs WHERE state = 'succeeded'"));
+        long n = 0;
+        for (String id : jobIds) {
+            n += ok.contains(id) ? 1 : 0;
+        }
+        return n;
+    }
+
+    private int bounded(String name, int fallback, int max) {
+        int v = Integer.parseInt(flags.getOrDefault(name, Integer.toString(fallback)));
+        if (v < 1 || v > max) {
+            throw new IllegalArgumentException("got --" + name + " " + v + ", expected 1.." + max);
+        }
+        return v;
+    }
+
+    private static double percentile(long[] nanos, int p) {
+        if (nanos.length == 0) {
+            return Double.NaN;
+        }
+        long[] sorted = nanos.clone();
+        Arrays.sort(sorted);
+        int index = (int) Math.ceil(p / 100.0 * sorted.length) - 1;
+        return sorted[Math.max(0, Math.min(sorted.length - 1, index))] / 1e6;
+    }
+
+    private static void requireLoopback(String base) {
+        String host = URI.create(base).getHost();
+        if (!Set.of("127.0.0.1", "localhost", "[::1]", "::1").contains(host)) {
+            throw new IllegalArgumentException("got base " + base + ", expected a loopback address (127.0.0.1): load goes nowhere else");
+        }
+    }
+}

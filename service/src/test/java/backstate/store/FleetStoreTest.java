@@ -1,0 +1,232 @@
+package backstate.store;
+
+import static org.junit.jupiter.api.Assertions.assertEquals;
+import static org.junit.jupiter.api.Assertions.assertFalse;
+import static org.junit.jupiter.api.Assertions.assertThrows;
+import static org.junit.jupiter.api.Assertions.assertTrue;
+
+import backstate.jobs.ClaimedJob;
+import java.nio.file.Path;
+import java.sql.Connection;
+import java.sql.DriverManager;
+import java.sql.PreparedStatement;
+import java.sql.ResultSet;
+import java.sql.SQLException;
+import java.time.Instant;
+import java.util.ArrayList;
+import java.util.Comparator;
+import java.util.List;
+import java.util.Map;
+import java.util.Random;
+import org.flywaydb.core.Flyway;
+import org.junit.jupiter.api.AfterEach;
+import org.junit.jupiter.api.BeforeEach;
+import org.junit.jupiter.api.Test;
+import org.junit.jupiter.api.io.TempDir;
+
+/**
+ * The fleet views' derived rows: written with the estimate in its transaction and only then,
+ * newest-wins under late writes, filled for estimates older than the migration, and the unit
+ * list's keyset paging in every order.
+ */
+class FleetStoreTest {
+
+    /** An estimate document as EstimateDocument writes it (only the fields the fleet views read matter). */
+    static final String DOCUMENT = """
+            {"formulation":"sampled","states":[
+             {"name":"x","unit":"m","estimate":1.25,"standardError":0.5,"standardErrorScaled":0.6,"lower":0.27,"upper":2.23},
+             {"name":"v","unit":"m/s","standardError":0.1,"lower":-1,"upper":1}],
+             "residuals":{"chiSquare":3.0,"degreesOfFreedom":2,"channels":[
+             {"output":"pos","samples":3,"sigma":1.0,"sigmaSource":"model","rms":0.75,"ljungBoxLags":1,"outliers":0},
+             {"output":"vel","samples":0,"sigma":1.0,"sigmaSource":"model","ljungBoxLags":0,"outliers":0}]},
+             "flags":["few_samples"]}""";
+
+    @TempDir
+    Path dir;
+    StoreFixture fx;
+    SqliteStore store;
+
+    @BeforeEach
+    void open() {
+        fx = new StoreFixture(dir);
+        store = fx.store;
+    }
+
+    @AfterEach
+    void close() {
+        fx.close();
+    }
+
+    @Test
+    void a_completed_job_writes_the_states_channels_and_newest_rows_of_its_estimate() throws Exception {
+        String id = complete("unit-1", StoreFixture.T0, 1.5, List.of("few_samples"), DOCUMENT).id();
+        assertEquals(List.of(List.of("v", "null", "0.1", "-1.0", "1.0"), List.of("x", "1.25", "0.5", "0.27", "2.23")),
+                rows("SELECT state, value, standard_error, lower, upper FROM estimate_states WHERE estimate_id = ?"
+                        + " ORDER BY state", id));
+        // "vel" had no sample, so the document has no rms for it: the row is kept with NULL.
+        assertEquals(List.of(List.of("pump", "1", "pos", String.valueOf(StoreFixture.T0.toEpochMilli()), "0.75"),
+                        List.of("pump", "1", "vel", String.valueOf(StoreFixture.T0.toEpochMilli()), "null")),
+                rows("SELECT family, version, channel, created_at, rms FROM estimate_channels WHERE estimate_id = ?"
+                        + " ORDER BY channel", id));
+        assertEquals(List.of(List.of("unit-1", "1", id, "1.5", "few_samples")),
+                rows("SELECT unit_id, version, estimate_id, chi2_per_dof, flags FROM unit_latest WHERE family = ?", "pump"));
+        assertEquals(1, fx.count("SELECT count(*) FROM unit_version_latest WHERE estimate_id = ?", id));
+    }
+
+    @Test
+    void a_completion_that_lost_its_job_writes_no_derived_rows() throws Exception {
+        Submission s = store.submitTrace(StoreFixture.trace("unit-1"), null, 10, StoreFixture.T0);
+        ClaimedJob job = store.claimNext(1, StoreFixture.T0).get(0);
+        assertFalse(store.completeIfRunning(job.id(), job.attempt() + 1,
+                StoreFixture.estimate(s.traceId(), "unit-1", "pump", 1, List.of(), DOCUMENT), null, StoreFixture.T0));
+        for (String table : List.of("estimate_states", "estimate_channels", "unit_latest", "unit_version_latest")) {
+            assertEquals(0, fx.rows(table), table);
+        }
+    }
+
+    @Test
+    void a_summary_that_is_not_a_document_still_stores_the_estimate_without_states() throws Exception {
+        for (String summary : List.of("not json", "{}", "{\"states\":{\"x\":1}}", "{\"states\":[1,{\"name\":2}]}")) {
+            EstimateRow row = complete("unit-" + summary.length(), StoreFixture.T0, null, List.of(), summary);
+            assertEquals(0, fx.count("SELECT count(*) FROM estimate_states WHERE estimate_id = ?", row.id()), summary);
+            assertEquals(1, fx.count("SELECT count(*) FROM unit_latest WHERE estimate_id = ?", row.id()), summary);
+        }
+    }
+
+    @Test
+    void an_older_estimate_written_later_does_not_replace_the_newest() throws Exception {
+        EstimateRow newer = complete("unit-1", StoreFixture.T0.plusSeconds(60), 2.0, List.of(), DOCUMENT);
+        complete("unit-1", StoreFixture.T0, 9.0, List.of("model_mismatch"), DOCUMENT);
+        UnitLatestRow latest = store.fleetUnits(new UnitFilter("pump", null, null), UnitSort.UNIT_ID, null, 10).items().get(0);
+        assertEquals(List.of(newer.id(), 2.0, List.of()), List.of(latest.estimateId(), latest.chi2PerDof(), latest.flags()));
+        EstimateRow newest = complete("unit-1", StoreFixture.T0.plusSeconds(120), 3.0, List.of(), DOCUMENT);
+        assertEquals(newest.id(), store.fleetUnits(new UnitFilter("pump", 1, null), UnitSort.UNIT_ID, null, 10)
+                .items().get(0).estimateId());
+    }
+
+    @Test
+    void units_page_through_every_order_once_each_at_any_page_size() throws Exception {
+        Random random = new Random(11);
+        List<UnitLatestRow> expected = new ArrayList<>();
+        for (int u = 0; u < 23; u++) {
+            // Ties in χ² and in time, and units without χ², so every tie-break is exercised.
+            Double chi2 = u % 7 == 3 ? null : (double) (random.nextInt(5));
+            Instant at = StoreFixture.T0.plusSeconds(random.nextInt(4));
+            EstimateRow row = complete(String.format("unit-%02d", u), at, chi2, List.of(), DOCUMENT);
+            expected.add(new UnitLatestRow(row.unitId(), "pump", 1, row.id(), row.createdAt(), chi2, List.of()));
+        }
+        Comparator<UnitLatestRow> byId = Comparator.comparing(UnitLatestRow::unitId);
+        Comparator<UnitLatestRow> byTime = Comparator.comparing(UnitLatestRow::createdAt).thenComparing(byId);
+        Comparator<UnitLatestRow> nullsLast = Comparator.comparing(r -> r.chi2PerDof() == null);
+        Map<UnitSort, Comparator<UnitLatestRow>> orders = Map.of(
+                UnitSort.UNIT_ID, byId,
+                UnitSort.UNIT_ID_DESC, byId.reversed(),
+                UnitSort.LATEST, byTime,
+                UnitSort.LATEST_DESC, byTime.reversed(),
+                UnitSort.CHI_SQUARE, nullsLast.thenComparing(r -> r.chi2PerDof() == null ? 0 : r.chi2PerDof()).thenComparing(byId),
+                UnitSort.CHI_SQUARE_DESC, nullsLast.thenComparing(r -> r.chi2PerDof() == null ? 0 : -r.chi2PerDof()).thenComparing(byId));
+        for (Map.Entry<UnitSort, Comparator<UnitLatestRow>> order : orders.entrySet()) {
+            List<String> want = expected.stream().sorted(order.getValue()).map(UnitLatestRow::unitId).toList();
+            for (int limit : new int[] {1, 4, 23, 100}) {
+                assertEquals(want, walk(order.getKey(), limit), order.getKey() + " by " + limit);
+            }
+        }
+    }
+
+    @Test
+    void a_cursor_of_another_order_or_made_up_is_refused() {
+        String other = new UnitCursor(UnitSort.LATEST, List.of(1L, "u")).encode();
+        for (String cursor : List.of(other, "***", "Q0hJX1NRVUFSRQ")) {
+            assertThrows(InvalidCursorException.class, () -> store.fleetUnits(new UnitFilter("pump", null, null),
+                    UnitSort.CHI_SQUARE, cursor, 5), cursor);
+        }
+    }
+
+    @Test
+    void summary_counts_the_window_and_stale_units_in_one_read() throws Exception {
+        complete("unit-1", StoreFixture.T0, 1.0, List.of("model_mismatch"), DOCUMENT);
+        complete("unit-2", StoreFixture.T0.plusSeconds(10), 3.0, List.of("model_mismatch", "few_samples"), DOCUMENT);
+        complete("unit-2", StoreFixture.T0.plusSeconds(20), 5.0, List.of(), DOCUMENT);
+        FleetSummary s = store.fleetSummary(new FleetSummaryQuery("pump", Map.of(1, List.of("pos", "vel")),
+                StoreFixture.T0, StoreFixture.T0.plusSeconds(20), null, StoreFixture.T0.plusSeconds(15), 1));
+        FleetSummary.VersionActivity v = s.versions().get(0);
+        // [T0, T0 + 20 s) holds the first two estimates; the trace of each was received at T0, T0 + 10 s and T0 + 20 s.
+        assertEquals(List.of(2L, 2L, 2L), List.of(v.estimates(), v.units(), v.traces()));
+        assertEquals(new FleetSummary.Distribution(2, 2.0, 2.9, 3.0), v.chiSquarePerDof());
+        assertEquals(new FleetSummary.Distribution(2, 0.75, 0.75, 0.75), v.channelRms().get("pos"));
+        assertEquals(new FleetSummary.Distribution(0, null, null, null), v.channelRms().get("vel"));
+        assertEquals(new FleetSummary.FlaggedUnits(2, 2, List.of("unit-1")), v.flags().get("model_mismatch"));
+        assertEquals(new FleetSummary.FlaggedUnits(1, 1, List.of("unit-2")), v.flags().get("few_samples"));
+        // Newest per unit: unit-1 at T0 (before T0 + 15 s: stale), unit-2 at T0 + 20 s.
+        assertEquals(1, s.stale().count());
+        assertEquals("unit-1", s.stale().oldestFirst().get(0).unitId());
+    }
+
+    @Test
+    void migrating_a_version_1_file_fills_the_derived_rows_of_its_estimates() throws Exception {
+        Path file = dir.resolve("v1.db");
+        Flyway.configure().dataSource("jdbc:sqlite:" + file, null, null).locations(SqliteMigrations.LOCATION)
+                .target("1").load().migrate();
+        long at = StoreFixture.T0.toEpochMilli();
+        try (Connection c = DriverManager.getConnection("jdbc:sqlite:" + file)) {
+            execute(c, "INSERT INTO model_families VALUES ('pump', '', ?)", at);
+            execute(c, "INSERT INTO model_versions VALUES ('pump', 1, 'active', 'continuous', 2, 2, 0, '{}', '{}', ?)", at);
+            for (int i = 0; i < 3; i++) {
+                execute(c, "INSERT INTO traces VALUES (?, 'unit-1', 'pump', 1, ?, 3, 0, 2, x'00')", "t" + i, at);
+                execute(c, "INSERT INTO jobs (id, kind, state, trace_id, attempt, created_at, started_at, finished_at)"
+                        + " VALUES (?, 'estimate', 'succeeded', ?, 1, ?, ?, ?)", "j" + i, "t" + i, at, at, at);
+                execute(c, "INSERT INTO estimates VALUES (?, ?, ?, 'unit-1', 'pump', 1, ?, 0, 2, ?, '', ?, NULL)",
+                        "e" + i, "j" + i, "t" + i, at + i * 1000L, 1.0 + i, DOCUMENT);
+            }
+        }
+        try (SqliteStore migrated = new SqliteStore(file, fx.clock)) {
+            assertEquals(List.of("e2"), migrated.fleetUnits(new UnitFilter("pump", 1, null), UnitSort.UNIT_ID, null, 5)
+                    .items().stream().map(UnitLatestRow::estimateId).toList());
+            assertEquals(List.of("e2", "e1", "e0"), migrated.stateTrend("unit-1", "x", "pump", null, 5).stream()
+                    .map(StatePoint::estimateId).toList());
+            assertEquals(3, migrated.fleetSummary(new FleetSummaryQuery("pump", Map.of(1, List.of("pos")), null, null,
+                    null, StoreFixture.T0, 5)).versions().get(0).channelRms().get("pos").count());
+        }
+    }
+
+    private List<String> walk(UnitSort sort, int limit) {
+        List<String> ids = new ArrayList<>();
+        String cursor = null;
+        do {
+            UnitPage page = store.fleetUnits(new UnitFilter("pump", null, null), sort, cursor, limit);
+            page.items().forEach(r -> ids.add(r.unitId()));
+            cursor = page.nextCursorOrNull();
+        } while (cursor != null);
+        return ids;
+    }
+
+    private EstimateRow complete(String unit, Instant at, Double chi2, List<String> flags, String summary) throws Exception {
+        Submission s = store.submitTrace(new NewTrace(unit, "pump", 1, 3, 0.0, 2.0, new byte[] {1}), null, 100, at);
+        ClaimedJob job = store.claimNext(1, at).get(0);
+        assertTrue(store.completeIfRunning(job.id(), job.attempt(), new NewEstimate(s.traceId(), unit, "pump", 1, 0.0, 2.0,
+                chi2, flags, summary, null), null, at));
+        return store.findEstimateForJob(job.id()).orElseThrow();
+    }
+
+    private List<List<String>> rows(String sql, Object... params) throws SQLException {
+        List<List<String>> out = new ArrayList<>();
+        try (Connection c = fx.raw(); PreparedStatement ps = Sql.bind(c.prepareStatement(sql), params);
+             ResultSet rs = ps.executeQuery()) {
+            int columns = rs.getMetaData().getColumnCount();
+            while (rs.next()) {
+                List<String> row = new ArrayList<>();
+                for (int i = 1; i <= columns; i++) {
+                    row.add(String.valueOf(rs.getObject(i)));
+                }
+                out.add(row);
+            }
+        }
+        return out;
+    }
+
+    private static void execute(Connection c, String sql, Object... params) throws SQLException {
+        try (PreparedStatement ps = Sql.bind(c.prepareStatement(sql), params)) {
+            ps.executeUpdate();
+        }
+    }
+}

@@ -1,0 +1,125 @@
+package backstate.store;
+
+import static org.junit.jupiter.api.Assertions.assertEquals;
+import static org.junit.jupiter.api.Assertions.assertFalse;
+import static org.junit.jupiter.api.Assertions.assertNull;
+import static org.junit.jupiter.api.Assertions.assertThrows;
+import static org.junit.jupiter.api.Assertions.assertTrue;
+
+import backstate.jobs.ClaimedJob;
+import java.nio.file.Path;
+import java.time.Duration;
+import java.time.Instant;
+import java.util.ArrayList;
+import java.util.List;
+import org.junit.jupiter.api.AfterEach;
+import org.junit.jupiter.api.BeforeEach;
+import org.junit.jupiter.api.Test;
+import org.junit.jupiter.api.io.TempDir;
+
+/** The regression statements: trace selection by unit, window and recency; runs, their list, cancel requests. */
+class RegressionStoreTest {
+    static final Instant T1 = StoreFixture.T0.plus(Duration.ofHours(1));
+    static final Instant T2 = StoreFixture.T0.plus(Duration.ofHours(2));
+
+    @TempDir
+    Path dir;
+    StoreFixture fx;
+    String a0;
+    String a1;
+    String a2;
+    String b1;
+
+    @BeforeEach
+    void open() throws Exception {
+        fx = new StoreFixture(dir);
+        fx.store.publishVersion(StoreFixture.pumpVersion(), StoreFixture.T0); // version 2
+        a0 = submit("A", StoreFixture.T0);
+        a1 = submit("A", T1);
+        b1 = submit("B", T1);
+        a2 = submit("A", T2);
+    }
+
+    @AfterEach
+    void close() {
+        fx.close();
+    }
+
+    String submit(String unit, Instant at) throws QueueFullException {
+        return fx.store.submitTrace(StoreFixture.trace(unit), null, 1000, at).traceId();
+    }
+
+    List<String> select(List<String> units, Instant from, Instant to, Integer latest, int maxRows) {
+        return fx.store.selectTraces(new TraceSelection(StoreFixture.FAMILY, units, from, to, latest, maxRows))
+                .stream().map(TraceRef::id).toList();
+    }
+
+    @Test
+    void selection_orders_by_unit_then_received_time() {
+        assertEquals(List.of(a0, a1, a2, b1), select(null, null, null, null, 100));
+        assertEquals(List.of(a0, a1), select(null, null, null, null, 2));
+        assertEquals(List.of(b1), select(List.of("B", "C"), null, null, null, 100));
+        assertEquals(List.of(), fx.store.selectTraces(new TraceSelection("other", null, null, null, null, 100)));
+    }
+
+    @Test
+    void latest_k_per_unit_ranks_within_the_window() {
+        assertEquals(List.of(a1, a2, b1), select(null, null, null, 2, 100));
+        assertEquals(List.of(a2, b1), select(null, null, null, 1, 100));
+        // The window [T0, T2) is applied first: A's latest inside it is a1.
+        assertEquals(List.of(a1, b1), select(null, StoreFixture.T0, T2, 1, 100));
+        assertEquals(List.of(a1, b1), select(null, T1, T2, null, 100));
+    }
+
+    @Test
+    void a_full_queue_refuses_a_run_and_writes_nothing() throws Exception {
+        long jobs = fx.rows("jobs");
+        assertThrows(QueueFullException.class, () -> fx.store.createRegression(run(), 4, T2));
+        assertEquals(jobs, fx.rows("jobs"));
+        assertEquals(0, fx.rows("regressions"));
+    }
+
+    @Test
+    void cancel_request_is_kept_for_queued_and_running_runs_only() throws Exception {
+        String id = fx.store.createRegression(run(), 1000, T2);
+        assertFalse(fx.store.regressionCancelRequested(id));
+        ClaimedJob job = fx.store.claimNext(100, T2).stream().filter(j -> j.id().equals(id)).findFirst().orElseThrow();
+        assertTrue(fx.store.requestRegressionCancel(id, T2));
+        assertTrue(fx.store.regressionCancelRequested(id));
+        assertFalse(fx.store.cancelRegressionIfRunning(id, job.attempt() + 1, "{}", T2), "another attempt's");
+        assertTrue(fx.store.cancelRegressionIfRunning(id, job.attempt(), "{\"complete\":false}", T2));
+        RegressionRow row = fx.store.findRegression(id).orElseThrow();
+        assertEquals("cancelled", row.state());
+        assertEquals(T2, row.cancelRequestedAtOrNull());
+        assertNull(row.passOrNull());
+        assertEquals("{\"complete\":false}", fx.store.findJob(id).orElseThrow().resultJson());
+        assertFalse(fx.store.requestRegressionCancel(id, T2), "a finished run takes no cancel request");
+        assertFalse(fx.store.findRegression(a0).isPresent(), "a trace ID is not a run");
+    }
+
+    @Test
+    void runs_list_newest_first_with_the_verdict_read_from_the_result() throws Exception {
+        String older = fx.store.createRegression(run(), 1000, T1);
+        String newer = fx.store.createRegression(run(), 1000, T2);
+        ClaimedJob job = fx.store.claimNext(100, T2).stream().filter(j -> j.id().equals(older)).findFirst().orElseThrow();
+        assertTrue(fx.store.completeIfRunning(older, job.attempt(), null, "{\"verdict\":{\"pass\":true}}", T2));
+        RegressionPage first = fx.store.listRegressions(StoreFixture.FAMILY, null, 1);
+        assertEquals(List.of(newer), ids(first));
+        RegressionPage second = fx.store.listRegressions(StoreFixture.FAMILY, first.nextCursorOrNull(), 1);
+        assertEquals(List.of(older), ids(second));
+        assertEquals(Boolean.TRUE, second.items().get(0).passOrNull());
+        assertNull(second.nextCursorOrNull());
+        assertEquals(List.of(), ids(fx.store.listRegressions("other", null, 10)));
+        assertThrows(InvalidCursorException.class, () -> fx.store.listRegressions(null, "!!", 10));
+    }
+
+    static NewRegression run() {
+        return new NewRegression(StoreFixture.FAMILY, 1, 2, "{}");
+    }
+
+    static List<String> ids(RegressionPage page) {
+        List<String> ids = new ArrayList<>();
+        page.items().forEach(r -> ids.add(r.id()));
+        return ids;
+    }
+}
