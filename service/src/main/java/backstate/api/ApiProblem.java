@@ -43,9 +43,9 @@ public final class ApiProblem extends RuntimeException {
                 "the body exceeds " + limit + " bytes (after decompression)", null);
     }
 
-    public static ApiProblem unsupportedMediaType(String got) {
+    public static ApiProblem unsupportedMediaType(String got, String expected) {
         return new ApiProblem(415, "unsupported-media-type", "Unsupported media type",
-                "got " + got + ", expected application/json or text/csv", List.of(new Problem.FieldError("Content-Type", "unsupported")));
+                "got " + got + ", expected " + expected, List.of(new Problem.FieldError("Content-Type", "expected " + expected)));
     }
 
     public static ApiProblem busy(String detail) {

@@ -62,7 +62,7 @@ final class KeyRoutes {
         String by = AccessGuard.caller(ctx).map(Caller::keyId).orElse(null);
         ApiKeys.Issued issued = keys.issue(role, scope, body.label(), by);
         ApiKeyRow row = issued.row();
-        ctx.status(201).header("Location", "/v1/keys/" + row.id()).header("Cache-Control", "no-store")
+        ctx.status(201).header("Cache-Control", "no-store")
                 .json(new IssuedKey(issued.key(), row.id(), row.role(), row.unitPattern(), row.label(),
                         row.createdAt().toString(), row.createdBy()));
     }

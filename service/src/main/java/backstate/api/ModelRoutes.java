@@ -115,7 +115,7 @@ final class ModelRoutes {
     static void requireJson(Context ctx) {
         String type = ctx.contentType();
         if (type == null || !type.toLowerCase(java.util.Locale.ROOT).startsWith("application/json")) {
-            throw ApiProblem.unsupportedMediaType(type == null ? "no Content-Type" : type);
+            throw ApiProblem.unsupportedMediaType(type == null ? "no Content-Type" : type, "application/json");
         }
     }
 }

@@ -9,6 +9,7 @@ import backstate.store.StoreUnavailableException;
 import com.fasterxml.jackson.core.JsonProcessingException;
 import com.fasterxml.jackson.databind.JsonMappingException;
 import com.fasterxml.jackson.databind.ObjectMapper;
+import com.fasterxml.jackson.databind.exc.UnrecognizedPropertyException;
 import io.javalin.config.RoutesConfig;
 import io.javalin.http.Context;
 import io.javalin.http.HttpResponseException;
@@ -31,7 +32,12 @@ final class ProblemMapper {
     }
 
     void register(RoutesConfig routes) {
-        routes.exception(ApiProblem.class, (e, ctx) -> write(ctx, e.toProblem()));
+        routes.exception(ApiProblem.class, (e, ctx) -> {
+            if (e.status() == 503) {
+                ctx.header("Retry-After", Integer.toString(ApiProblem.RETRY_AFTER_SECONDS));
+            }
+            write(ctx, e.toProblem());
+        });
         routes.exception(AccessDenied.class, (e, ctx) -> {
             e.challenge().ifPresent(challenge -> ctx.header("WWW-Authenticate", challenge));
             write(ctx, e.toProblem());
@@ -39,7 +45,10 @@ final class ProblemMapper {
         routes.exception(InputException.class, (e, ctx) -> write(ctx, ApiProblem.invalid(e.field(), detail(e)).toProblem()));
         routes.exception(ModelException.class, (e, ctx) -> write(ctx, ApiProblem.unprocessable(e.field(), detail(e)).toProblem()));
         routes.exception(InvalidCursorException.class, (e, ctx) -> write(ctx, ApiProblem.invalid("cursor", "not a cursor from this API").toProblem()));
-        routes.exception(JsonMappingException.class, (e, ctx) -> write(ctx, ApiProblem.invalid("body" + JsonPaths.of(e), e.getOriginalMessage()).toProblem()));
+        routes.exception(UnrecognizedPropertyException.class, (e, ctx) -> write(ctx, ApiProblem.invalid("body" + JsonPaths.of(e),
+                "got an unknown field \"" + e.getPropertyName() + "\", expected one of " + e.getKnownPropertyIds()).toProblem()));
+        routes.exception(JsonMappingException.class, (e, ctx) -> write(ctx, ApiProblem.invalid("body" + JsonPaths.of(e),
+                "got a value of the wrong type or shape").toProblem()));
         routes.exception(JsonProcessingException.class, (e, ctx) -> write(ctx, ApiProblem.invalid("body", "malformed JSON: " + e.getOriginalMessage()).toProblem()));
         routes.exception(QueueFullException.class, (e, ctx) -> busy(ctx, "the job queue is full; retry later"));
         routes.exception(StoreUnavailableException.class, (e, ctx) -> {

@@ -95,7 +95,7 @@ final class TraceRoutes {
                 return reader.readCsv(body, model, queryOptions(ctx));
             }
         }
-        throw ApiProblem.unsupportedMediaType(type.isEmpty() ? "no Content-Type" : type);
+        throw ApiProblem.unsupportedMediaType(type.isEmpty() ? "no Content-Type" : type, "application/json or text/csv");
     }
 
     private static boolean hasQueryOptions(Context ctx) {

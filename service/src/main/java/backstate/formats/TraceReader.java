@@ -190,8 +190,11 @@ public final class TraceReader {
             return mapper.readerFor(TraceOptions.class)
                     .with(com.fasterxml.jackson.databind.DeserializationFeature.FAIL_ON_UNKNOWN_PROPERTIES)
                     .readValue(parser);
+        } catch (com.fasterxml.jackson.databind.exc.UnrecognizedPropertyException e) {
+            throw new InputException("options" + JsonPaths.of(e), "got an unknown field \"" + e.getPropertyName()
+                    + "\", expected one of " + e.getKnownPropertyIds());
         } catch (com.fasterxml.jackson.databind.JsonMappingException e) {
-            throw new InputException("options" + JsonPaths.of(e), "got an invalid value: " + e.getOriginalMessage());
+            throw new InputException("options" + JsonPaths.of(e), "got a value of the wrong type or shape");
         }
     }
 
