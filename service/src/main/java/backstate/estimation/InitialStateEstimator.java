@@ -47,9 +47,10 @@ public final class InitialStateEstimator {
         long previous = -1;
         for (int k = 0; k < trace.samples(); k++) {
             long units = steps.unitsFromStart(trace.time(k), "time[" + k + "]");
-            if (model.isDiscrete() && units == previous) {
-                throw new ModelException("time[" + k + "]", "got a second sample on grid step " + units
-                        + ", expected one sample per sample period at most");
+            if (units == previous) {
+                throw new ModelException("time[" + k + "]", model.isDiscrete()
+                        ? "got a second sample on grid step " + units + ", expected one sample per sample period at most"
+                        : "got a sample less than 1 µs after the previous one, expected times at least 1 µs apart");
             }
             previous = units;
         }
