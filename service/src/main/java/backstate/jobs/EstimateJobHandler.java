@@ -1,7 +1,9 @@
 package backstate.jobs;
 
 import backstate.estimation.Estimate;
+import backstate.estimation.ModelException;
 import backstate.formats.DocumentSolver;
+import backstate.formats.InputException;
 import backstate.formats.EstimateDocument;
 import backstate.formats.Limits;
 import backstate.formats.ModelDocument;
@@ -42,7 +44,13 @@ public final class EstimateJobHandler implements JobHandler {
         ModelVersionRow version = store.findVersion(trace.family(), trace.version()).orElseThrow();
         ModelDocument model = mapper.readValue(version.documentJson(), ModelDocument.class);
         ParsedTrace parsed = codec.decode(trace.payload());
-        DocumentSolver.Outcome outcome = solveTimer.recordCallable(() -> DocumentSolver.solve(model, parsed, true, limits));
+        DocumentSolver.Outcome outcome;
+        try {
+            outcome = solveTimer.recordCallable(() -> DocumentSolver.solve(model, parsed, true, limits));
+        } catch (ModelException | InputException e) {
+            // Deterministic: the same trace fails the same way on every attempt, so do not retry.
+            return new JobOutcome.Failed("the trace does not fit its model version: " + e.getMessage());
+        }
         if (outcome instanceof DocumentSolver.Outcome.NotObservable u) {
             return new JobOutcome.Failed(u.message());
         }
