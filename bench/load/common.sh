@@ -11,6 +11,12 @@ DB="$WORK/load.db"
 LOG="$WORK/server.log"
 SERVER_PID=""
 BASE=""
+# The database and server log go when the script ends; KEEP_WORK=1 keeps them for a look.
+cleanup() {
+  stop_server
+  if [ "${KEEP_WORK:-0}" = 1 ]; then echo "kept $WORK"; else rm -rf "$WORK"; fi
+}
+trap cleanup EXIT
 
 build() {
   if [ "${SKIP_BUILD:-0}" != 1 ]; then
@@ -28,7 +34,6 @@ start_server() {
     grep -q -- "got flag --auth" "$LOG" && launch "$heap" "$@" || { cat "$LOG"; exit 1; }
   fi
   BASE="http://127.0.0.1:$PORT"
-  trap stop_server EXIT
   curl -sf -o /dev/null -X POST "$BASE/v1/models" -H 'Content-Type: application/json' \
     -d '{"name":"reefer-40","description":"load test"}'
   curl -sf -o /dev/null -X POST "$BASE/v1/models/reefer-40/versions" -H 'Content-Type: application/json' \

@@ -27,11 +27,20 @@ final class ProtocolErrors extends ErrorHandler {
     protected void generateResponse(Request request, Response response, int status, String message, Throwable cause,
                                     Callback callback) throws IOException {
         String detail = message == null || message.isBlank() ? HttpStatus.getMessage(status) : message;
-        byte[] body = mapper.writeValueAsBytes(new Problem(ProblemTypes.uri(slug(status)), HttpStatus.getMessage(status),
-                status, detail, fields(status, detail)));
+        byte[] body = mapper.writeValueAsBytes(new Problem(ProblemTypes.uri(slug(status)), title(status), status, detail,
+                fields(status, detail)));
         response.getHeaders().put(HttpHeader.CONTENT_TYPE, Problem.MEDIA_TYPE);
         response.getHeaders().put(HttpHeader.CONTENT_LENGTH, body.length);
         response.write(true, ByteBuffer.wrap(body), callback);
+    }
+
+    /** The same titles ApiProblem and ProblemMapper give these statuses. */
+    private static String title(int status) {
+        return switch (status) {
+            case 400 -> "Invalid input";
+            case 413 -> "Payload too large";
+            default -> "HTTP " + status;
+        };
     }
 
     private static String slug(int status) {

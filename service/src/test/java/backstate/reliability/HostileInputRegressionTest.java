@@ -60,6 +60,10 @@ class HostileInputRegressionTest {
                 broke("request line without a target", 400, null, bytes("GARBAGE\r\n\r\n")),
                 broke("request target with a raw 0xFF byte", 400, null,
                         Raw.request("GET", "/v1/units/\u00ff/estimates", Map.of(), new byte[0])),
+                broke("Transfer-Encoding gzip (chunked not last)", 400, null,
+                        Raw.request("POST", TRACES, Raw.headers("Content-Type", CSV, "Transfer-Encoding", "gzip"), csv)),
+                // 505 is the protocol's own answer to an unknown version; it is kept, as problem+json
+                broke("HTTP/9.9 request line", 505, null, bytes("POST " + TRACES + " HTTP/9.9\r\nHost: x\r\n\r\n")),
                 // echoed a 300-character field name back in the problem
                 broke("JSON field name of 300 characters", 400, "body",
                         Raw.post(TRACES, Raw.headers("Content-Type", "application/json"), bytes("{\"" + "k".repeat(300) + "\":[]}"))),

@@ -4,7 +4,9 @@ import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
 import backstate.api.TestServer;
+import com.fasterxml.jackson.databind.JsonNode;
 import com.fasterxml.jackson.databind.ObjectMapper;
+import com.fasterxml.jackson.databind.node.ArrayNode;
 import com.fasterxml.jackson.databind.node.ObjectNode;
 import java.io.ByteArrayOutputStream;
 import java.io.IOException;
@@ -22,6 +24,7 @@ import java.util.Map;
 import java.util.Set;
 import java.util.regex.Matcher;
 import java.util.regex.Pattern;
+import java.util.function.UnaryOperator;
 import java.util.stream.Stream;
 import java.util.zip.GZIPOutputStream;
 import net.jqwik.api.Arbitraries;
@@ -389,16 +392,16 @@ class HostileTracePostFuzzTest {
 
     private static String dropLastValue(String body, String channel) {
         ObjectNode t = tree(body);
-        com.fasterxml.jackson.databind.node.ArrayNode column = channel.equals("time") ? (com.fasterxml.jackson.databind.node.ArrayNode) t.get("time")
-                : (com.fasterxml.jackson.databind.node.ArrayNode) (t.get("outputs").has(channel) ? t.get("outputs") : t.get("inputs")).get(channel);
+        ArrayNode column = channel.equals("time") ? (ArrayNode) t.get("time")
+                : (ArrayNode) (t.get("outputs").has(channel) ? t.get("outputs") : t.get("inputs")).get(channel);
         column.remove(column.size() - 1);
         return write(t);
     }
 
     private static String swapTimes(String body) {
         ObjectNode t = tree(body);
-        com.fasterxml.jackson.databind.node.ArrayNode time = (com.fasterxml.jackson.databind.node.ArrayNode) t.get("time");
-        com.fasterxml.jackson.databind.JsonNode first = time.get(1);
+        ArrayNode time = (ArrayNode) t.get("time");
+        JsonNode first = time.get(1);
         time.set(1, time.get(2));
         time.set(2, first);
         return write(t);
@@ -451,7 +454,7 @@ class HostileTracePostFuzzTest {
         });
     }
 
-    private static String editLine(String csv, int row, java.util.function.UnaryOperator<String> edit) {
+    private static String editLine(String csv, int row, UnaryOperator<String> edit) {
         List<String> lines = lines(csv);
         lines.set(row, edit.apply(lines.get(row)));
         return String.join("\n", lines);

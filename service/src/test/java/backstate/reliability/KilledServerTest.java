@@ -10,12 +10,13 @@ import java.time.Duration;
 import java.util.ArrayList;
 import java.util.List;
 import java.util.Map;
+import java.util.Queue;
 import java.util.concurrent.ConcurrentHashMap;
+import java.util.concurrent.ConcurrentLinkedQueue;
 import java.util.concurrent.CountDownLatch;
 import java.util.concurrent.ExecutorService;
 import java.util.concurrent.Executors;
 import java.util.concurrent.TimeUnit;
-import java.util.concurrent.atomic.AtomicInteger;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.io.TempDir;
 
@@ -52,6 +53,7 @@ class KilledServerTest {
             bodies.add(reefer.csv(SAMPLES, i));
         }
         Map<Integer, Ack> acked = new ConcurrentHashMap<>();
+        ConcurrentLinkedQueue<String> surprises = new ConcurrentLinkedQueue<>();
 
         try (ServerProcess first = ServerProcess.start(db.file(), log)) {
             new Http(first.base()).publishDemoModel(TestServer.TEST_DATA);
@@ -61,12 +63,13 @@ class KilledServerTest {
             for (int i = 0; i < TRACES; i++) {
                 int n = i;
                 clients.execute(() -> {
-                    if (post(http, n, bodies.get(n), acked)) {
+                    if (post(http, n, bodies.get(n), acked, surprises)) {
                         killPoint.countDown();
                     }
                 });
             }
-            assertTrue(killPoint.await(RUN_BOUND.toSeconds(), TimeUnit.SECONDS), "fewer than " + KILL_AFTER_ACKS + " acks");
+            assertTrue(killPoint.await(RUN_BOUND.toSeconds(), TimeUnit.SECONDS),
+                    "fewer than " + KILL_AFTER_ACKS + " acks; surprises: " + surprises);
             first.kill();
             clients.shutdown();
             assertTrue(clients.awaitTermination(RUN_BOUND.toSeconds(), TimeUnit.SECONDS), "clients hung after the kill");
@@ -86,13 +89,14 @@ class KilledServerTest {
             Http http = new Http(second.base());
             for (int i = 0; i < TRACES; i++) {
                 if (!acked.containsKey(i)) {
-                    assertTrue(post(http, i, bodies.get(i), acked), "retry of post " + i + " after restart failed");
+                    assertTrue(post(http, i, bodies.get(i), acked, surprises), "retry of post " + i + " after restart failed");
                 }
             }
             awaitDrained(db);
             assertTrue(second.isAlive());
         }
 
+        assertEquals(List.of(), List.copyOf(surprises), "answers other than 202");
         assertEquals(TRACES, acked.size());
         assertEquals(TRACES, db.count("SELECT COUNT(*) FROM traces"), "a retried post was stored twice");
         assertEquals(TRACES, db.count("SELECT COUNT(DISTINCT id) FROM traces WHERE id IN (" + quotedIds(acked, true) + ")"));
@@ -108,17 +112,21 @@ class KilledServerTest {
                 db.count("SELECT COUNT(*) FROM jobs WHERE attempt > 1"));
     }
 
-    /** Posts trace n with key crash-n; records and returns true on a 202, false on a transport failure. */
-    private static boolean post(Http http, int n, byte[] body, Map<Integer, Ack> acked) {
+    /**
+     * Posts trace n with key crash-n; records and returns true on a 202, false on a transport
+     * failure; any other answer, or a second acknowledgement with other ids, is a surprise.
+     */
+    private static boolean post(Http http, int n, byte[] body, Map<Integer, Ack> acked, Queue<String> surprises) {
         try {
             Http.Reply reply = http.postTrace("RCX-" + (10_000 + n % 50), body, "crash-" + n);
             if (reply.status() != 202) {
-                throw new AssertionError("post " + n + ": " + reply.status() + " " + reply.body());
+                surprises.add("post " + n + ": " + reply.status() + " " + reply.body());
+                return false;
             }
             Ack ack = new Ack(reply.json().path("traceId").asText(), reply.json().path("jobId").asText());
             Ack earlier = acked.putIfAbsent(n, ack);
             if (earlier != null && !earlier.equals(ack)) {
-                throw new AssertionError("post " + n + " acknowledged twice with different ids: " + earlier + ", " + ack);
+                surprises.add("post " + n + " acknowledged twice with different ids: " + earlier + ", " + ack);
             }
             return true;
         } catch (IOException e) {

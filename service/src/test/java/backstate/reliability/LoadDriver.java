@@ -231,7 +231,7 @@ public final class LoadDriver {
         long[] p = postLatency.stream().mapToLong(Long::longValue).toArray();
         long[] r = readLatency.stream().mapToLong(Long::longValue).toArray();
         System.out.printf(Locale.ROOT, "mixed: %d clients, %.0f s, traces of %d samples, %d units%n", clients, runSeconds, samples, units);
-        System.out.printf(Locale.ROOT, "  %d requests, %.0f/s: %d posts (%.0f/s, %d accepted), %d reads (%.0f/s)%n",
+        System.out.printf(Locale.ROOT, "  %d requests, %.0f/s: %d post attempts (%.0f/s, %d traces accepted), %d reads (%.0f/s)%n",
                 p.length + r.length, (p.length + r.length) / runSeconds, p.length, p.length / runSeconds, acked.size(),
                 r.length, r.length / runSeconds);
         System.out.printf(Locale.ROOT, "  post latency p50 %.1f ms, p99 %.1f ms; read latency p50 %.1f ms, p99 %.1f ms%n",

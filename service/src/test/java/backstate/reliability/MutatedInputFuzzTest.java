@@ -11,6 +11,7 @@ import com.fasterxml.jackson.databind.node.ObjectNode;
 import java.io.ByteArrayOutputStream;
 import java.io.IOException;
 import java.io.UncheckedIOException;
+import java.nio.charset.StandardCharsets;
 import java.nio.file.Files;
 import java.nio.file.Path;
 import java.time.Duration;
@@ -93,7 +94,7 @@ class MutatedInputFuzzTest {
         long versions = db.count("SELECT COUNT(*) FROM model_versions");
         String before = db.signature();
         Raw.Reply reply = Raw.exchange(server.app().port(), Raw.post("/v1/models/reefer-40/versions",
-                Raw.headers("Content-Type", "application/json"), document.getBytes(java.nio.charset.StandardCharsets.UTF_8)));
+                Raw.headers("Content-Type", "application/json"), document.getBytes(StandardCharsets.UTF_8)));
         if (reply.status() == 201) {
             assertEquals(versions + 1, db.count("SELECT COUNT(*) FROM model_versions"));
         } else {
