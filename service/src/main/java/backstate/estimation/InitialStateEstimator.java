@@ -46,7 +46,7 @@ public final class InitialStateEstimator {
         SampleSteps steps = new SampleSteps(model, trace.time(0));
         long previous = -1;
         for (int k = 0; k < trace.samples(); k++) {
-            long units = steps.unitsFromStart(trace.time(k), "time[" + k + "]");
+            long units = steps.unitsOfSample(k, trace.time(k));
             if (units == previous) {
                 throw new ModelException("time[" + k + "]", model.isDiscrete()
                         ? "got a second sample on grid step " + units + ", expected one sample per sample period at most"

@@ -17,6 +17,8 @@ final class LjungBox {
     private final double[] recent;
     private final double[] first;
     private final double[] lagProducts;
+    /** Ring position where the next value goes; recent[next − k (mod lags)] holds the value k back. */
+    private int next;
     private long count;
     private double sum;
     private double sumSquares;
@@ -35,14 +37,17 @@ final class LjungBox {
     }
 
     void add(double r) {
+        int slot = next;
         for (int k = 1; k <= lags && k <= count; k++) {
-            lagProducts[k] += r * recent[(int) ((count - k) % lags)];
+            slot = slot == 0 ? lags - 1 : slot - 1;
+            lagProducts[k] += r * recent[slot];
         }
         if (count < lags) {
             first[(int) count] = r;
         }
         if (lags > 0) {
-            recent[(int) (count % lags)] = r;
+            recent[next] = r;
+            next = next + 1 == lags ? 0 : next + 1;
         }
         count++;
         sum += r;

@@ -31,12 +31,28 @@ final class SampleSteps {
 
     /** Offset of time t from t0 in whole units; for a discrete model, rejects a time off the grid. */
     long unitsFromStart(double t, String field) {
-        double exact = (t - t0) / unitSeconds;
-        long rounded = Math.round(exact);
-        if (discrete && Math.abs(exact - rounded) > GRID_TOLERANCE) {
-            throw new ModelException(field, "got " + t + ", expected t0 + a whole number of sample periods ("
-                    + unitSeconds + " s)");
+        long rounded = Math.round((t - t0) / unitSeconds);
+        if (offGrid(t, rounded)) {
+            throw offGridError(field, t);
         }
         return rounded;
+    }
+
+    /** As {@link #unitsFromStart(double, String)} for sample k, naming {@code time[k]} only when it throws. */
+    long unitsOfSample(int k, double t) {
+        long rounded = Math.round((t - t0) / unitSeconds);
+        if (offGrid(t, rounded)) {
+            throw offGridError("time[" + k + "]", t);
+        }
+        return rounded;
+    }
+
+    private boolean offGrid(double t, long rounded) {
+        return discrete && Math.abs((t - t0) / unitSeconds - rounded) > GRID_TOLERANCE;
+    }
+
+    private ModelException offGridError(String field, double t) {
+        return new ModelException(field, "got " + t + ", expected t0 + a whole number of sample periods ("
+                + unitSeconds + " s)");
     }
 }

@@ -35,7 +35,7 @@ final class SolveContext {
 
     /** Step units of sample k from the first sample (ticks or periods). */
     long units(int k) {
-        return steps.unitsFromStart(trace.time(k), "time[" + k + "]");
+        return steps.unitsOfSample(k, trace.time(k));
     }
 
     /** Names of the unknowns in vector order. */

@@ -27,6 +27,10 @@ final class TransitionCache {
         }
     };
 
+    /** The last step asked for: a uniformly sampled trace asks for the same one every time, without boxing a key. */
+    private long lastUnits = -1;
+    private ZeroOrderHold.Step lastStep;
+
     TransitionCache(StateSpaceModel model, SampleSteps steps) {
         this.model = model;
         this.a = model.a();
@@ -36,7 +40,17 @@ final class TransitionCache {
 
     /** Transition and held-input matrices over {@code units} step units (ticks or periods), units ≥ 1. */
     ZeroOrderHold.Step over(long units) {
-        return cache.computeIfAbsent(units, this::compute);
+        if (units == lastUnits && lastStep != null) {
+            return lastStep;
+        }
+        ZeroOrderHold.Step step = cache.get(units);
+        if (step == null) {
+            step = compute(units);
+            cache.put(units, step);
+        }
+        lastUnits = units;
+        lastStep = step;
+        return step;
     }
 
     private ZeroOrderHold.Step compute(long units) {
