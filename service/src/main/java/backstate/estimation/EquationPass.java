@@ -2,61 +2,122 @@ package backstate.estimation;
 
 /**
  * First pass over a trace: builds each present sample's weighted equation for the unknowns and
- * folds it into a {@link SquareRootInformation}. Per sample it updates G_k = C·Φ(t_k) by
- * G_k = G_{k−1}·Φ(h_k) (transitions of one A commute) and the known-input forced response, so
- * the cost is O(N·p·n²) and memory O(q² + p·n).
+ * folds it into a {@link SquareRootInformation}.
+ *
+ * <p>Per sample it updates G_k = C·Φ(t_k) by G_k = G_{k−1}·Φ(h_k) (transitions of one A commute)
+ * and the known-input forced response: O(p·n²) per sample, memory O(q² + p·n). Stretches of
+ * {@link UniformBlocks#SAMPLES} samples with one step length and no missing value take a faster
+ * route (see {@link UniformBlocks}): O(p·q + n²) per sample. Both routes fold the same equations.
  */
 final class EquationPass {
-    private EquationPass() {
+    private final SolveContext ctx;
+    private final int n;
+    private final int p;
+    private final SquareRootInformation info;
+    private final long[] counts;
+    private final double[] row;
+    private final double[] scratch;
+    private final TrapezoidWeights trapezoid;
+    private final UniformBlocks blocks;
+    private double[] g;
+    private double[] gNext;
+    private final double[] forced;
+    /** Φ(t_k − t0) while on the block route; null when not tracked (the per-sample route never needs it). */
+    private double[] phi;
+
+    private EquationPass(SolveContext ctx) {
+        this.ctx = ctx;
+        this.n = ctx.n;
+        this.p = ctx.p;
+        this.info = new SquareRootInformation(ctx.q);
+        this.counts = new long[p];
+        this.row = new double[ctx.q];
+        this.scratch = new double[n];
+        this.g = ctx.c.clone();
+        this.gNext = new double[p * n];
+        this.forced = new double[n];
+        boolean continuous = ctx.options.formulation() == Formulation.CONTINUOUS;
+        this.trapezoid = continuous ? new TrapezoidWeights(ctx.trace) : null;
+        this.blocks = continuous ? null : new UniformBlocks(ctx);
     }
 
     /** Accumulates every data equation; returns the information factor and per-channel counts. */
     static Result run(SolveContext ctx) {
-        int n = ctx.n;
-        int p = ctx.p;
-        SquareRootInformation info = new SquareRootInformation(ctx.q);
-        double[] g = ctx.c.clone();
-        double[] gNext = new double[p * n];
-        double[] forced = new double[n];
-        double[] scratch = new double[n];
-        double[] row = new double[ctx.q];
-        long[] counts = new long[p];
-        TrapezoidWeights trapezoid = ctx.options.formulation() == Formulation.CONTINUOUS
-                ? new TrapezoidWeights(ctx.trace) : null;
+        return new EquationPass(ctx).walk();
+    }
+
+    private Result walk() {
+        int samples = ctx.trace.samples();
         long previousUnits = 0;
-        for (int k = 0; k < ctx.trace.samples(); k++) {
+        int nextBlockTry = 0;
+        int k = 0;
+        while (k < samples) {
             long units = ctx.units(k);
             if (k > 0) {
-                ZeroOrderHold.Step step = ctx.transitions.over(units - previousUnits);
-                Matrices.multiplyInto(g, step.transition(), p, n, n, gNext);
-                double[] swap = g;
-                g = gNext;
-                gNext = swap;
-                ctx.propagate(forced, k, step, scratch);
+                advance(k, ctx.transitions.over(units - previousUnits));
             }
-            previousUnits = units;
-            for (int j = 0; j < p; j++) {
-                double y = ctx.trace.output(k, j);
-                if (Double.isNaN(y)) {
+            if (blocks != null && k >= nextBlockTry) {
+                int outcome = blocks.check(k);
+                if (outcome == UniformBlocks.UNIFORM) {
+                    k = foldBlock(k, units);
+                    previousUnits = ctx.units(k);
+                    k++;
                     continue;
                 }
-                double weight = 1.0 / ctx.noise.sigma(j);
-                if (trapezoid != null) {
-                    weight *= Math.sqrt(trapezoid.weight(k, j));
-                }
-                fillRow(row, g, j, n, ctx.q, weight);
-                info.add(row, (y - ctx.output(j, forced, k)) * weight);
-                counts[j]++;
+                nextBlockTry = outcome;
             }
+            phi = null;
+            addSample(k);
+            previousUnits = units;
+            k++;
         }
         return new Result(info, counts);
     }
 
-    private static void fillRow(double[] row, double[] g, int j, int n, int q, double weight) {
+    /** Steps G, the forced response and (when tracked) Φ from sample k−1 to k. */
+    private void advance(int k, ZeroOrderHold.Step step) {
+        Matrices.multiplyInto(g, step.transition(), p, n, n, gNext);
+        double[] swap = g;
+        g = gNext;
+        gNext = swap;
+        ctx.propagate(forced, k, step, scratch);
+        if (phi != null) {
+            phi = Matrices.multiply(phi, step.transition(), n, n, n);
+        }
+    }
+
+    /** Folds samples k … k+B−1 as one block; returns the block's last sample, with G and forced there. */
+    private int foldBlock(int k, long unitsAtK) {
+        if (phi == null) {
+            phi = unitsAtK == 0 ? Matrices.identity(n) : ctx.transitions.fresh(unitsAtK).transition();
+        }
+        int last = blocks.fold(k, phi, forced, info, counts);
+        phi = Matrices.multiply(phi, blocks.span(k), n, n, n);
+        Matrices.multiplyInto(ctx.c, phi, p, n, n, g);
+        return last;
+    }
+
+    private void addSample(int k) {
+        for (int j = 0; j < p; j++) {
+            double y = ctx.trace.output(k, j);
+            if (Double.isNaN(y)) {
+                continue;
+            }
+            double weight = 1.0 / ctx.noise.sigma(j);
+            if (trapezoid != null) {
+                weight *= Math.sqrt(trapezoid.weight(k, j));
+            }
+            fillRow(j, weight);
+            info.add(row, (y - ctx.output(j, forced, k)) * weight);
+            counts[j]++;
+        }
+    }
+
+    private void fillRow(int j, double weight) {
         for (int i = 0; i < n; i++) {
             row[i] = g[j * n + i] * weight;
         }
-        for (int i = n; i < q; i++) {
+        for (int i = n; i < ctx.q; i++) {
             row[i] = i - n == j ? weight : 0.0;
         }
     }

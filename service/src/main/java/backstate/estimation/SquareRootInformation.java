@@ -64,6 +64,26 @@ final class SquareRootInformation {
         }
     }
 
+    /**
+     * Adds a block of equations already reduced by an orthogonal transformation: the q rows
+     * (row-major, count×q) and right-hand sides that carry the block's information, the number of
+     * original equations they stand for, and the residual squares the reduction split off.
+     */
+    void addReduced(double[] rows, double[] rhs, int count, long represented, double splitResidualSquares) {
+        for (int r = 0; r < count; r++) {
+            for (int c = 0; c < q; c++) {
+                block[c * BLOCK_ROWS + pending] = rows[r * q + c];
+            }
+            block[q * BLOCK_ROWS + pending] = rhs[r];
+            pending++;
+            if (pending == BLOCK_ROWS) {
+                flush();
+            }
+        }
+        equations += represented;
+        residualSquares += splitResidualSquares;
+    }
+
     /** Number of equations added so far. */
     long equations() {
         return equations;

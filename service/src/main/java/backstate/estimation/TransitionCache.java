@@ -53,6 +53,11 @@ final class TransitionCache {
         return step;
     }
 
+    /** The same matrices computed afresh and not cached: for one-off offsets such as a block's start time. */
+    ZeroOrderHold.Step fresh(long units) {
+        return compute(units);
+    }
+
     private ZeroOrderHold.Step compute(long units) {
         int n = model.states();
         int m = model.inputs();

@@ -1,0 +1,155 @@
+package backstate.estimation;
+
+import java.util.LinkedHashMap;
+import java.util.Map;
+
+/**
+ * The block route for uniformly sampled stretches. With one step h and no missing value, the
+ * weighted equations of samples k … k+B−1 are H·diag(Φ(t_k − t0), I)·θ ≈ b with
+ * H = [C Φ(h)^i / σ, I/σ]_{i&lt;B} the same for every block. H = Q R is factored once per step
+ * length; each block then needs only Qᵀb (Householder reflectors, Golub &amp; Van Loan 2013,
+ * Alg. 5.2.1) and folds the q reduced equations R·diag(Φ, I)·θ ≈ (Qᵀb)_{1..q} into the square-root
+ * information, adding ‖(Qᵀb)_{q+1..}‖² to the residual — the same least-squares problem as folding
+ * the B·p equations one by one (block sequential accumulation, Lawson &amp; Hanson 1974, ch. 27).
+ */
+final class UniformBlocks {
+    /** Samples per block: enough that B·p ≥ q at the size limits and the per-block O(q³ + n³) is amortised. */
+    static final int SAMPLES = 128;
+    /** Returned by {@link #check} when the block starting at k is uniform. */
+    static final int UNIFORM = -1;
+    /** Factored blocks kept per distinct step length. */
+    static final int PLANS = 8;
+
+    private final SolveContext ctx;
+    private final int rows;
+    private final double[] b;
+    private final double[] reduced;
+    private final double[] scratch;
+    private final Map<Long, HouseholderQr> plans = new LinkedHashMap<>(16, 0.75f, true) {
+        @Override
+        protected boolean removeEldestEntry(Map.Entry<Long, HouseholderQr> eldest) {
+            return size() > PLANS;
+        }
+    };
+
+    UniformBlocks(SolveContext ctx) {
+        this.ctx = ctx;
+        this.rows = SAMPLES * ctx.p;
+        this.b = new double[rows];
+        this.reduced = new double[ctx.q * ctx.q];
+        this.scratch = new double[ctx.n];
+    }
+
+    /**
+     * {@link #UNIFORM} when samples k … k+B−1 exist, share one step and have every output present;
+     * otherwise the first sample index at which a block could next start.
+     */
+    int check(int k) {
+        int end = k + SAMPLES;
+        if (end > ctx.trace.samples()) {
+            return Integer.MAX_VALUE;
+        }
+        long step = ctx.units(k + 1) - ctx.units(k);
+        long previous = ctx.units(k);
+        for (int i = k; i < end; i++) {
+            for (int j = 0; j < ctx.p; j++) {
+                if (Double.isNaN(ctx.trace.output(i, j))) {
+                    return i + 1;
+                }
+            }
+            long units = ctx.units(i);
+            if (i > k && units - previous != step) {
+                return i - 1;
+            }
+            previous = units;
+        }
+        return UNIFORM;
+    }
+
+    /** Φ(h)^{B−1}: from a block's first sample to its last. */
+    double[] span(int k) {
+        long step = ctx.units(k + 1) - ctx.units(k);
+        return ctx.transitions.over(step * (SAMPLES - 1)).transition();
+    }
+
+    /**
+     * Folds the uniform block starting at k, where phi = Φ(t_k − t0) and forced is the forced
+     * response at t_k; leaves forced at the block's last sample and returns that sample's index.
+     */
+    int fold(int k, double[] phi, double[] forced, SquareRootInformation info, long[] counts) {
+        long step = ctx.units(k + 1) - ctx.units(k);
+        HouseholderQr plan = plans.computeIfAbsent(step, this::factor);
+        fillRightHandSide(k, step, forced);
+        plan.applyTranspose(b);
+        double split = 0.0;
+        for (int i = ctx.q; i < rows; i++) {
+            split += b[i] * b[i];
+        }
+        reducedRows(plan.r(), phi);
+        info.addReduced(reduced, b, ctx.q, rows, split);
+        for (int j = 0; j < ctx.p; j++) {
+            counts[j] += SAMPLES;
+        }
+        return k + SAMPLES - 1;
+    }
+
+    /** b = (y − C·forced − D·u)/σ per sample and channel, propagating forced through the block. */
+    private void fillRightHandSide(int k, long step, double[] forced) {
+        ZeroOrderHold.Step transition = ctx.transitions.over(step);
+        for (int i = 0; i < SAMPLES; i++) {
+            int sample = k + i;
+            if (i > 0) {
+                ctx.propagate(forced, sample, transition, scratch);
+            }
+            for (int j = 0; j < ctx.p; j++) {
+                b[i * ctx.p + j] = (ctx.trace.output(sample, j) - ctx.output(j, forced, sample)) / ctx.noise.sigma(j);
+            }
+        }
+    }
+
+    /** R·diag(Φ, I), q×q row-major, into {@link #reduced}. */
+    private void reducedRows(double[] r, double[] phi) {
+        int n = ctx.n;
+        int q = ctx.q;
+        for (int i = 0; i < q; i++) {
+            for (int c = 0; c < n; c++) {
+                double s = 0.0;
+                for (int l = i; l < n; l++) {
+                    s += r[i * q + l] * phi[l * n + c];
+                }
+                reduced[i * q + c] = s;
+            }
+            for (int c = n; c < q; c++) {
+                reduced[i * q + c] = r[i * q + c];
+            }
+        }
+    }
+
+    /** Factors H = [C Φ(h)^i / σ, I/σ]_{i&lt;B} (column-major, B·p × q). */
+    private HouseholderQr factor(long step) {
+        int n = ctx.n;
+        int p = ctx.p;
+        int q = ctx.q;
+        double[] h = new double[rows * q];
+        double[] transition = ctx.transitions.over(step).transition();
+        double[] gi = ctx.c.clone();
+        double[] next = new double[p * n];
+        for (int i = 0; i < SAMPLES; i++) {
+            for (int j = 0; j < p; j++) {
+                double weight = 1.0 / ctx.noise.sigma(j);
+                int r = i * p + j;
+                for (int c = 0; c < n; c++) {
+                    h[c * rows + r] = gi[j * n + c] * weight;
+                }
+                if (q > n) {
+                    h[(n + j) * rows + r] = weight;
+                }
+            }
+            Matrices.multiplyInto(gi, transition, p, n, n, next);
+            double[] swap = gi;
+            gi = next;
+            next = swap;
+        }
+        return new HouseholderQr(h, rows, q);
+    }
+}
