@@ -11,6 +11,8 @@ package backstate.estimation;
  */
 final class EquationPass {
     private final SolveContext ctx;
+    private final int start;
+    private final int end;
     private final int n;
     private final int p;
     private final SquareRootInformation info;
@@ -25,8 +27,10 @@ final class EquationPass {
     /** Φ(t_k − t0) while on the block route; null when not tracked (the per-sample route never needs it). */
     private double[] phi;
 
-    private EquationPass(SolveContext ctx) {
+    private EquationPass(SolveContext ctx, int start, int end) {
         this.ctx = ctx;
+        this.start = start;
+        this.end = end;
         this.n = ctx.n;
         this.p = ctx.p;
         this.info = new SquareRootInformation(ctx.q);
@@ -37,29 +41,38 @@ final class EquationPass {
         this.gNext = new double[p * n];
         this.forced = new double[n];
         boolean continuous = ctx.options.formulation() == Formulation.CONTINUOUS;
-        this.trapezoid = continuous ? new TrapezoidWeights(ctx.trace) : null;
-        this.blocks = continuous ? null : new UniformBlocks(ctx);
+        this.trapezoid = continuous ? new TrapezoidWeights(ctx.trace, start) : null;
+        this.blocks = continuous ? null : new UniformBlocks(ctx, end);
     }
 
     /** Accumulates every data equation; returns the information factor and per-channel counts. */
     static Result run(SolveContext ctx) {
-        return new EquationPass(ctx).walk();
+        return run(ctx, 0, ctx.trace.samples());
+    }
+
+    /**
+     * Accumulates the equations of samples start … end−1 in the chunk's own coordinates: the
+     * unknown state is the one at t_start and the forced response starts from zero there, so
+     * chunks can run in parallel and be joined by {@link ChunkedEquations}.
+     */
+    static Result run(SolveContext ctx, int start, int end) {
+        return new EquationPass(ctx, start, end).walk();
     }
 
     private Result walk() {
-        int samples = ctx.trace.samples();
-        long previousUnits = 0;
-        int nextBlockTry = 0;
-        int k = 0;
-        while (k < samples) {
+        long startUnits = ctx.units(start);
+        long previousUnits = startUnits;
+        int nextBlockTry = start;
+        int k = start;
+        while (k < end) {
             long units = ctx.units(k);
-            if (k > 0) {
+            if (k > start) {
                 advance(k, ctx.transitions.over(units - previousUnits));
             }
             if (blocks != null && k >= nextBlockTry) {
                 int outcome = blocks.check(k);
                 if (outcome == UniformBlocks.UNIFORM) {
-                    k = foldBlock(k, units);
+                    k = foldBlock(k, units - startUnits);
                     previousUnits = ctx.units(k);
                     k++;
                     continue;
@@ -71,7 +84,7 @@ final class EquationPass {
             previousUnits = units;
             k++;
         }
-        return new Result(info, counts);
+        return new Result(info, counts, forced.clone());
     }
 
     /** Steps G, the forced response and (when tracked) Φ from sample k−1 to k. */
@@ -87,9 +100,9 @@ final class EquationPass {
     }
 
     /** Folds samples k … k+B−1 as one block; returns the block's last sample, with G and forced there. */
-    private int foldBlock(int k, long unitsAtK) {
+    private int foldBlock(int k, long unitsFromStart) {
         if (phi == null) {
-            phi = unitsAtK == 0 ? Matrices.identity(n) : ctx.transitions.fresh(unitsAtK).transition();
+            phi = unitsFromStart == 0 ? Matrices.identity(n) : ctx.transitions.fresh(unitsFromStart).transition();
         }
         int last = blocks.fold(k, phi, forced, info, counts);
         phi = Matrices.multiply(phi, blocks.span(k), n, n, n);
@@ -122,7 +135,7 @@ final class EquationPass {
         }
     }
 
-    /** The accumulated information and the number of present samples per channel. */
-    record Result(SquareRootInformation information, long[] presentCounts) {
+    /** The accumulated information, the number of present samples per channel, and the forced response at the last sample. */
+    record Result(SquareRootInformation information, long[] presentCounts, double[] forcedAtLast) {
     }
 }

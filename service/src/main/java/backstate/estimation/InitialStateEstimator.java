@@ -28,7 +28,7 @@ public final class InitialStateEstimator {
     public static EstimationResult solve(StateSpaceModel model, Trace trace, EstimationOptions options) {
         validate(model, trace, options);
         SolveContext ctx = new SolveContext(model, trace, options);
-        EquationPass.Result pass = EquationPass.run(ctx);
+        EquationPass.Result pass = ChunkedEquations.run(ctx);
         SquareRootInformation dataInfo = pass.information();
         ConditioningAnalysis dataOnly = new ConditioningAnalysis(dataInfo.factorR(), ctx.q, dataInfo.equations());
         if (options.prior() == null) {

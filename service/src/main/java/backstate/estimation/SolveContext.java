@@ -33,6 +33,11 @@ final class SolveContext {
         this.transitions = new TransitionCache(model, steps);
     }
 
+    /** An independent context over the same inputs, for another thread (the transition cache is not thread-safe). */
+    SolveContext copy() {
+        return new SolveContext(model, trace, options);
+    }
+
     /** Step units of sample k from the first sample (ticks or periods). */
     long units(int k) {
         return steps.unitsOfSample(k, trace.time(k));

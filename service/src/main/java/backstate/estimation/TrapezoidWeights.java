@@ -11,12 +11,21 @@ final class TrapezoidWeights {
     private final double[] previousTime;
     private final int[] nextPresent;
 
-    TrapezoidWeights(Trace trace) {
+    /** Weights for samples from {@code start} on; each channel's last present sample before it is looked up once. */
+    TrapezoidWeights(Trace trace, int start) {
         this.trace = trace;
         this.p = trace.outputCount();
         this.previousTime = new double[p];
         this.nextPresent = new int[p];
         java.util.Arrays.fill(previousTime, Double.NaN);
+        for (int j = 0; j < p; j++) {
+            for (int k = start - 1; k >= 0; k--) {
+                if (!Double.isNaN(trace.output(k, j))) {
+                    previousTime[j] = trace.time(k);
+                    break;
+                }
+            }
+        }
     }
 
     /** Weight of channel j's present sample k; must be called for present samples in increasing k. */

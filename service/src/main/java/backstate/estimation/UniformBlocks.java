@@ -21,6 +21,7 @@ final class UniformBlocks {
     static final int PLANS = 8;
 
     private final SolveContext ctx;
+    private final int end;
     private final int rows;
     private final double[] b;
     private final double[] reduced;
@@ -32,8 +33,10 @@ final class UniformBlocks {
         }
     };
 
-    UniformBlocks(SolveContext ctx) {
+    /** @param end one past the last sample a block may use */
+    UniformBlocks(SolveContext ctx, int end) {
         this.ctx = ctx;
+        this.end = end;
         this.rows = SAMPLES * ctx.p;
         this.b = new double[rows];
         this.reduced = new double[ctx.q * ctx.q];
@@ -45,13 +48,13 @@ final class UniformBlocks {
      * otherwise the first sample index at which a block could next start.
      */
     int check(int k) {
-        int end = k + SAMPLES;
-        if (end > ctx.trace.samples()) {
+        int blockEnd = k + SAMPLES;
+        if (blockEnd > end) {
             return Integer.MAX_VALUE;
         }
         long step = ctx.units(k + 1) - ctx.units(k);
         long previous = ctx.units(k);
-        for (int i = k; i < end; i++) {
+        for (int i = k; i < blockEnd; i++) {
             for (int j = 0; j < ctx.p; j++) {
                 if (Double.isNaN(ctx.trace.output(i, j))) {
                     return i + 1;

@@ -1,0 +1,80 @@
+package backstate.estimation;
+
+import java.util.concurrent.CompletableFuture;
+import java.util.concurrent.CompletionException;
+
+/**
+ * Runs the equation pass of a long trace as two chunks on two cores and joins them exactly.
+ *
+ * <p>The second chunk (samples m … N−1) is accumulated with its own start state s = x(t_m) as the
+ * unknown and its forced response starting from zero, giving R₂ [s; offsets] ≈ z₂. Since
+ * s = Φ(t_m − t0) x0 + f_m, with f_m the first chunk's forced response carried to t_m, the chunk's
+ * information becomes R₂·diag(Φ, I)·θ ≈ z₂ − R₂[:, states]·f_m and is folded into the first chunk's
+ * factor like any reduced block (sequential accumulation, Lawson &amp; Hanson 1974, ch. 27; the same
+ * change of unknowns as a square-root information filter's time update without process noise,
+ * Bierman 1977, ch. VI). Same equations, same least-squares problem.
+ */
+final class ChunkedEquations {
+    /** Below this many samples one core finishes before a second one pays off. */
+    static final int PARALLEL_FROM_SAMPLES = 100_000;
+
+    private ChunkedEquations() {
+    }
+
+    static EquationPass.Result run(SolveContext ctx) {
+        int samples = ctx.trace.samples();
+        if (samples < PARALLEL_FROM_SAMPLES || Runtime.getRuntime().availableProcessors() < 2) {
+            return EquationPass.run(ctx);
+        }
+        int middle = samples / 2;
+        SolveContext own = ctx.copy();
+        CompletableFuture<EquationPass.Result> tail = CompletableFuture.supplyAsync(
+                () -> EquationPass.run(own, middle, samples));
+        EquationPass.Result head = EquationPass.run(ctx, 0, middle);
+        return join(ctx, head, await(tail), middle);
+    }
+
+    private static EquationPass.Result join(SolveContext ctx, EquationPass.Result head, EquationPass.Result tail,
+                                            int middle) {
+        int n = ctx.n;
+        int q = ctx.q;
+        double[] forced = head.forcedAtLast();
+        long unitsAtMiddle = ctx.units(middle);
+        ctx.propagate(forced, middle, ctx.transitions.over(unitsAtMiddle - ctx.units(middle - 1)), new double[n]);
+        double[] phi = ctx.transitions.fresh(unitsAtMiddle).transition();
+        SquareRootInformation tailInfo = tail.information();
+        double[] r = tailInfo.factorR();
+        double[] z = tailInfo.rhs();
+        double[] rows = new double[q * q];
+        for (int i = 0; i < q; i++) {
+            for (int c = 0; c < n; c++) {
+                double s = 0.0;
+                for (int l = 0; l < n; l++) {
+                    s += r[i * q + l] * phi[l * n + c];
+                }
+                rows[i * q + c] = s;
+            }
+            System.arraycopy(r, i * q + n, rows, i * q + n, q - n);
+            for (int l = 0; l < n; l++) {
+                z[i] -= r[i * q + l] * forced[l];
+            }
+        }
+        head.information().addReduced(rows, z, q, tailInfo.equations(), tailInfo.residualSquares());
+        long[] counts = head.presentCounts().clone();
+        for (int j = 0; j < counts.length; j++) {
+            counts[j] += tail.presentCounts()[j];
+        }
+        return new EquationPass.Result(head.information(), counts, null);
+    }
+
+    private static EquationPass.Result await(CompletableFuture<EquationPass.Result> future) {
+        try {
+            return future.join();
+        } catch (CompletionException e) {
+            if (e.getCause() instanceof RuntimeException cause) {
+                throw cause;
+            }
+            throw e;
+        }
+    }
+}
