@@ -46,15 +46,8 @@ final class ChunkedEquations {
         double[] r = tailInfo.factorR();
         double[] z = tailInfo.rhs();
         double[] rows = new double[q * q];
+        UniformBlocks.changeToInitialState(r, phi, n, q, rows);
         for (int i = 0; i < q; i++) {
-            for (int c = 0; c < n; c++) {
-                double s = 0.0;
-                for (int l = 0; l < n; l++) {
-                    s += r[i * q + l] * phi[l * n + c];
-                }
-                rows[i * q + c] = s;
-            }
-            System.arraycopy(r, i * q + n, rows, i * q + n, q - n);
             for (int l = 0; l < n; l++) {
                 z[i] -= r[i * q + l] * forced[l];
             }

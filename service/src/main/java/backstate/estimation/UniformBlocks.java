@@ -88,7 +88,7 @@ final class UniformBlocks {
         for (int i = ctx.q; i < rows; i++) {
             split += b[i] * b[i];
         }
-        reducedRows(plan.r(), phi);
+        changeToInitialState(plan.r(), phi, ctx.n, ctx.q, reduced);
         info.addReduced(reduced, b, ctx.q, rows, split);
         for (int j = 0; j < ctx.p; j++) {
             counts[j] += SAMPLES;
@@ -110,21 +110,17 @@ final class UniformBlocks {
         }
     }
 
-    /** R·diag(Φ, I), q×q row-major, into {@link #reduced}. */
-    private void reducedRows(double[] r, double[] phi) {
-        int n = ctx.n;
-        int q = ctx.q;
+    /** R·diag(Φ, I) for upper-triangular q×q R and n×n Φ, row-major, into out: the change of unknowns to x0. */
+    static void changeToInitialState(double[] r, double[] phi, int n, int q, double[] out) {
         for (int i = 0; i < q; i++) {
             for (int c = 0; c < n; c++) {
                 double s = 0.0;
                 for (int l = i; l < n; l++) {
                     s += r[i * q + l] * phi[l * n + c];
                 }
-                reduced[i * q + c] = s;
+                out[i * q + c] = s;
             }
-            for (int c = n; c < q; c++) {
-                reduced[i * q + c] = r[i * q + c];
-            }
+            System.arraycopy(r, i * q + n, out, i * q + n, q - n);
         }
     }
 
