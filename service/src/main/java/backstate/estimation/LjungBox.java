@@ -7,6 +7,11 @@ import org.apache.commons.math3.special.Gamma;
  * sequence (Ljung &amp; Box 1978, Biometrika 65(2):297–303), with ρ̂_k the lag-k autocorrelation about
  * the sample mean. One pass, O(h) memory: lagged products plus the first and last h values,
  * which give the partial sums needed to centre each lag exactly.
+ *
+ * <p>The same first and last h values let two consecutive stretches of one series be joined
+ * ({@link #append}): the lag-k products that straddle the join pair the later stretch's first k
+ * values with the earlier one's last k, and every other term is a plain sum. So a series split into
+ * chunks and accumulated in parallel gives the statistic of the whole, up to summation order.
  */
 final class LjungBox {
     /** At most 10 lags, and no more than N/5: a common rule for non-seasonal series (from memory; Hyndman &amp; Athanasopoulos, Forecasting: Principles and Practice). */
@@ -58,6 +63,50 @@ final class LjungBox {
         return lags;
     }
 
+    /**
+     * Joins the series that {@code later} accumulated onto the end of this one, as if its values had
+     * been added here one by one: lagged products gain the cross terms r_i·r_{i−k} with r_i among the
+     * later stretch's first k values and r_{i−k} among this one's last k (fewer where a stretch is
+     * shorter than k); the first and last h values are those of the joined series.
+     *
+     * @throws IllegalArgumentException when the two were set up for different numbers of lags
+     */
+    void append(LjungBox later) {
+        if (later.lags != lags) {
+            throw new IllegalArgumentException("later: got " + later.lags + " lags, expected " + lags
+                    + " (both stretches must be set up with the whole series' expected count)");
+        }
+        long total = count + later.count;
+        if (lags > 0) {
+            for (int k = 1; k <= lags; k++) {
+                double cross = 0.0;
+                for (int i = (int) Math.max(0, k - count); i < k && i < later.count; i++) {
+                    cross += later.first[i] * valueBack(k - i);
+                }
+                lagProducts[k] = lagProducts[k] + cross + later.lagProducts[k];
+            }
+            for (int i = 0; count + i < lags && i < later.count; i++) {
+                first[(int) count + i] = later.first[i];
+            }
+            double[] newest = new double[(int) Math.min(lags, total)];
+            for (int j = 1; j <= newest.length; j++) {
+                newest[j - 1] = j <= later.count ? later.valueBack(j) : valueBack(j - (int) later.count);
+            }
+            for (int j = 1; j <= newest.length; j++) {
+                recent[(int) ((total - j) % lags)] = newest[j - 1];
+            }
+            next = (int) (total % lags);
+        }
+        count = total;
+        sum += later.sum;
+        sumSquares += later.sumSquares;
+    }
+
+    /** The value j places back from the newest (j = 1 is the newest), 1 ≤ j ≤ min(count, lags). */
+    private double valueBack(int j) {
+        return recent[(int) ((count - j) % lags)];
+    }
+
     /** Q, or NaN when there are no lags or the series is constant. */
     double statistic() {
         if (lags == 0) {
@@ -73,7 +122,7 @@ final class LjungBox {
         double tailSum = 0.0;
         for (int k = 1; k <= lags; k++) {
             headSum += first[k - 1];
-            tailSum += recent[(int) ((count - k) % lags)];
+            tailSum += valueBack(k);
             double leading = sum - headSum;
             double lagged = sum - tailSum;
             double centred = lagProducts[k] - mean * (leading + lagged) + (count - k) * mean * mean;
