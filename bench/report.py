@@ -47,7 +47,7 @@ def main(numpy_file, java_files):
             x_java = [float(v) for v in row["x0"].split(",")]
             diff = rel_diff(x_java, nr["x0"])
             speedup = nr["total_s"] / java_s
-            by_size.setdefault(samples, java_s)
+            by_size.setdefault(samples, (java_s, float(row["min_s"])))
             verdicts.append((label(samples), row["max_heap_mb"], speedup, diff))
             print(f"| {label(samples)} | {float(row['max_heap_mb']):.0f} MB | {java_s:.3f} | {float(row['min_s']):.3f} "
                   f"| {nr['build_s']:.3f} "
@@ -58,7 +58,8 @@ def main(numpy_file, java_files):
     if len(sizes) >= 2:
         small, large = sizes[0], sizes[-1]
         print(f"Scaling {label(small)} -> {label(large)} (x{large // small} samples): "
-              f"Java time x{by_size[large] / by_size[small]:.2f}, "
+              f"Java time x{by_size[large][0] / by_size[small][0]:.2f} (medians), "
+              f"x{by_size[large][1] / by_size[small][1]:.2f} (mins); "
               f"numpy build+lstsq x{numpy_runs[large]['total_s'] / numpy_runs[small]['total_s']:.2f}")
     for size, heap, speedup, diff in verdicts:
         print(f"N={size} (heap {float(heap):.0f} MB): speed-up {speedup:.2f}x "

@@ -30,16 +30,16 @@ if [[ ! -f $OUT/trace.bin || bench/make_trace.py -nt $OUT/trace.bin || bench/sta
   python3 bench/make_trace.py "$OUT/trace.bin" "$LARGE"
 fi
 
-echo "== Java, $TIMING_HEAP_OPTS"
+echo "== Java, $TIMING_HEAP_OPTS (load $(cut -d" " -f1 /proc/loadavg))"
 # shellcheck disable=SC2086 # the options are meant to split
 java $TIMING_HEAP_OPTS -cp "$CLASSPATH_JARS" backstate.bench.EstimatorBench "$OUT/trace.bin" "$OUT/java.tsv" \
   "$WARMUPS" "$REPEATS" "$SMALL" "$LARGE"
 
-echo "== Java, -Xmx$SMALL_HEAP"
+echo "== Java, -Xmx$SMALL_HEAP (load $(cut -d" " -f1 /proc/loadavg))"
 java "-Xmx$SMALL_HEAP" -cp "$CLASSPATH_JARS" backstate.bench.EstimatorBench "$OUT/trace.bin" \
   "$OUT/java_small_heap.tsv" "$WARMUPS" "$REPEATS" "$LARGE"
 
-echo "== NumPy (OPENBLAS_CORETYPE and OPENBLAS_L2_SIZE unset for this command only)"
+echo "== NumPy, OPENBLAS_CORETYPE and OPENBLAS_L2_SIZE unset for this command only (load $(cut -d" " -f1 /proc/loadavg))"
 env -u OPENBLAS_CORETYPE -u OPENBLAS_L2_SIZE python3 bench/numpy_lstsq.py "$OUT/trace.bin" "$OUT/numpy.json" \
   "$REPEATS" "$SMALL" "$LARGE"
 
