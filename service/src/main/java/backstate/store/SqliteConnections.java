@@ -9,22 +9,22 @@ import java.util.List;
 import java.util.concurrent.ArrayBlockingQueue;
 import java.util.concurrent.BlockingQueue;
 import java.util.concurrent.TimeUnit;
-import java.util.concurrent.locks.ReentrantLock;
 import java.util.function.UnaryOperator;
 import org.sqlite.SQLiteConfig;
 import org.sqlite.SQLiteDataSource;
 
 /**
- * The connections to one SQLite file: a single write connection behind a fair lock, and a fixed
- * set of read connections handed out one caller at a time.
+ * The connections to one SQLite file: a single write connection owned by {@link SqliteWriter},
+ * which commits the writes waiting at any moment together (group commit), and a fixed set of
+ * read connections handed out one caller at a time.
  *
- * <p>sqlite-jdbc connections are not thread-safe and SQLite admits one writer at a time anyway,
- * so writes queue on a Java lock (cheap, fair, and visible in a thread dump) rather than on
- * SQLite's file lock; every write transaction starts with {@code BEGIN IMMEDIATE}, which takes
- * the file's write lock up front so a transaction never fails half-way on a lock upgrade. In WAL
- * mode readers see the last committed snapshot without waiting for the writer. The read set is
- * a plain blocking queue rather than a pool library: local-file connections never go stale, so
- * the validation, eviction and leak hunting a pool offers would have nothing to do.
+ * <p>SQLite admits one writer at a time, so writes queue in Java (cheap, and visible in a thread
+ * dump) rather than on SQLite's file lock; every write transaction starts with
+ * {@code BEGIN IMMEDIATE}, which takes the file's write lock up front so a transaction never
+ * fails half-way on a lock upgrade. In WAL mode readers see the last committed snapshot without
+ * waiting for the writer. The read set is a plain blocking queue rather than a pool library:
+ * local-file connections never go stale, so the validation, eviction and leak hunting a pool
+ * offers would have nothing to do.
  *
  * <p>Every connection is opened with the same pragmas: WAL journal, {@code synchronous=FULL}
  * (a commit survives power loss, not just a crash), foreign keys on, and a busy timeout for
@@ -36,8 +36,7 @@ final class SqliteConnections implements AutoCloseable {
     private static final long CLOSE_WAIT_SECONDS = 5;
 
     private final SQLiteDataSource dataSource;
-    private final ReentrantLock writeLock = new ReentrantLock(true);
-    private final Connection writer;
+    private final SqliteWriter writer;
     private final List<Connection> allReaders = new ArrayList<>();
     private final BlockingQueue<Connection> idleReaders;
     private volatile boolean closed;
@@ -46,17 +45,20 @@ final class SqliteConnections implements AutoCloseable {
         this.dataSource = new SQLiteDataSource(pragmas(settings));
         dataSource.setUrl("jdbc:sqlite:" + file.toAbsolutePath());
         this.idleReaders = new ArrayBlockingQueue<>(settings.readConnections());
+        Connection writerConnection = null;
         try {
-            this.writer = writerDecorator.apply(dataSource.getConnection());
+            writerConnection = writerDecorator.apply(dataSource.getConnection());
             for (int i = 0; i < settings.readConnections(); i++) {
                 Connection reader = openReader();
                 allReaders.add(reader);
                 idleReaders.add(reader);
             }
         } catch (SQLException e) {
-            closeAll();
+            closeQuietly(writerConnection);
+            allReaders.forEach(SqliteConnections::closeQuietly);
             throw SqliteErrors.translate(e);
         }
+        this.writer = new SqliteWriter(writerConnection);
     }
 
     /** Where Flyway and tests open their own connections, with the same pragmas. */
@@ -76,32 +78,31 @@ final class SqliteConnections implements AutoCloseable {
         }
     }
 
-    /** Runs work in one write transaction: committed if it returns, rolled back if it throws. */
+    /**
+     * Runs work in a write transaction, shared with other waiting writes but rolled back alone if
+     * it throws; returns once the transaction has committed.
+     */
     <T> T write(SqlWork<T> work) {
-        writeLock.lock();
-        try {
-            requireOpen();
-            return inImmediateTransaction(work);
-        } catch (SQLException e) {
-            throw SqliteErrors.translate(e);
-        } finally {
-            writeLock.unlock();
-        }
+        return writer.write(work);
+    }
+
+    /**
+     * As {@link #write}, for the job queue's consumers (claim, complete, fail, retry, progress,
+     * rescue): ahead of client writes, so a burst of posts cannot starve the workers.
+     */
+    <T> T writeForWorker(SqlWork<T> work) {
+        return writer.writeForWorker(work);
     }
 
     @Override
-    public void close() {
-        writeLock.lock();
-        try {
-            if (closed) {
-                return;
-            }
-            closed = true;
-            awaitBorrowedReaders();
-            closeAll();
-        } finally {
-            writeLock.unlock();
+    public synchronized void close() {
+        if (closed) {
+            return;
         }
+        closed = true;
+        writer.close();
+        awaitBorrowedReaders();
+        allReaders.forEach(SqliteConnections::closeQuietly);
     }
 
     private static SQLiteConfig pragmas(SqliteSettings settings) {
@@ -119,35 +120,6 @@ final class SqliteConnections implements AutoCloseable {
             s.execute("PRAGMA query_only = ON");
         }
         return reader;
-    }
-
-    private <T> T inImmediateTransaction(SqlWork<T> work) throws SQLException {
-        // BEGIN IMMEDIATE is SQLite's; PostgreSQL's plain BEGIN plus row locks does the same job.
-        execute("BEGIN IMMEDIATE");
-        try {
-            T result = work.run(writer);
-            execute("COMMIT");
-            return result;
-        } catch (SQLException | RuntimeException e) {
-            rollbackAfter(e);
-            throw e;
-        }
-    }
-
-    private void rollbackAfter(Exception failure) {
-        try {
-            execute("ROLLBACK");
-        } catch (SQLException rollbackFailure) {
-            // SQLite rolls back by itself after some errors (SQLITE_FULL among them), and then
-            // ROLLBACK reports that no transaction is active: keep it, but as a footnote.
-            failure.addSuppressed(rollbackFailure);
-        }
-    }
-
-    private void execute(String sql) throws SQLException {
-        try (Statement s = writer.createStatement()) {
-            s.execute(sql);
-        }
     }
 
     private Connection borrowReader() {
@@ -178,17 +150,13 @@ final class SqliteConnections implements AutoCloseable {
         }
     }
 
-    private void closeAll() {
-        List<Connection> all = new ArrayList<>(allReaders);
-        if (writer != null) {
-            all.add(writer);
-        }
-        for (Connection c : all) {
-            try {
+    private static void closeQuietly(Connection c) {
+        try {
+            if (c != null) {
                 c.close();
-            } catch (SQLException ignored) {
-                // Closing is best effort: the data is already committed or rolled back.
             }
+        } catch (SQLException ignored) {
+            // Closing is best effort: the data is already committed or rolled back.
         }
     }
 }

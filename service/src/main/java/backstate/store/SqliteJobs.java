@@ -98,12 +98,12 @@ final class SqliteJobs {
     }
 
     boolean cancelIfQueued(String jobId, Instant now) {
-        return updatedOne(CANCEL_IF_QUEUED, Sql.millis(now), jobId);
+        return db.write(c -> updatedOne(c, CANCEL_IF_QUEUED, Sql.millis(now), jobId));
     }
 
     List<ClaimedJob> claimNext(int limit, Instant now) {
         Expect.atLeast("limit", limit, 1);
-        return db.write(c -> {
+        return db.writeForWorker(c -> {
             try (PreparedStatement ps = Sql.bind(c.prepareStatement(CLAIM_NEXT), Sql.millis(now), limit)) {
                 return Sql.list(ps, SqliteJobs::claimedJob);
             }
@@ -112,7 +112,7 @@ final class SqliteJobs {
 
     boolean completeIfRunning(String jobId, int attempt, NewEstimate estimateOrNull, String resultJsonOrNull,
                               Instant now) {
-        return db.write(c -> {
+        return db.writeForWorker(c -> {
             if (!updatedOne(c, COMPLETE_IF_RUNNING, Sql.millis(now), resultJsonOrNull, jobId, attempt)) {
                 return false;
             }
@@ -126,19 +126,19 @@ final class SqliteJobs {
 
     boolean failIfRunning(String jobId, int attempt, String error, Instant now) {
         Expect.notNull("error", error);
-        return updatedOne(FAIL_IF_RUNNING, Sql.millis(now), error, jobId, attempt);
+        return workerUpdatedOne(FAIL_IF_RUNNING, Sql.millis(now), error, jobId, attempt);
     }
 
     boolean retryIfRunning(String jobId, int attempt, String error, Instant now) {
         Expect.notNull("error", error);
-        return updatedOne(RETRY_IF_RUNNING, maxAttempts, maxAttempts, Sql.millis(now), error, jobId, attempt);
+        return workerUpdatedOne(RETRY_IF_RUNNING, maxAttempts, maxAttempts, Sql.millis(now), error, jobId, attempt);
     }
 
     boolean reportProgress(String jobId, int attempt, int done, int total) {
         if (done < 0 || done > total) {
             throw new IllegalArgumentException("got progress " + done + "/" + total + ", expected 0 <= done <= total");
         }
-        return updatedOne(REPORT_PROGRESS, done, total, jobId, attempt);
+        return workerUpdatedOne(REPORT_PROGRESS, done, total, jobId, attempt);
     }
 
     int rescueStuck(Instant startedBefore) {
@@ -168,7 +168,7 @@ final class SqliteJobs {
 
     private int rescueStartedBefore(long startedBeforeMillis) {
         long now = Sql.millis(clock.instant());
-        return db.write(c -> {
+        return db.writeForWorker(c -> {
             try (PreparedStatement ps = Sql.bind(c.prepareStatement(RESCUE_STUCK),
                     maxAttempts, maxAttempts, now, RESCUE_MESSAGE, startedBeforeMillis)) {
                 return ps.executeUpdate();
@@ -176,8 +176,9 @@ final class SqliteJobs {
         });
     }
 
-    private boolean updatedOne(String sql, Object... values) {
-        return db.write(c -> updatedOne(c, sql, values));
+    /** A claimed job's update, ahead of client writes (see {@link SqliteConnections#writeForWorker}). */
+    private boolean workerUpdatedOne(String sql, Object... values) {
+        return db.writeForWorker(c -> updatedOne(c, sql, values));
     }
 
     private static boolean updatedOne(Connection c, String sql, Object... values) throws SQLException {

@@ -145,7 +145,8 @@ final class SqliteRegressions {
 
     static boolean cancelIfRunning(SqliteConnections db, String id, int attempt, String resultJsonOrNull,
                                    Instant now) {
-        return db.write(c -> updatedOne(c, CANCEL_IF_RUNNING, Sql.millis(now), resultJsonOrNull, id, attempt));
+        return db.writeForWorker(
+                c -> updatedOne(c, CANCEL_IF_RUNNING, Sql.millis(now), resultJsonOrNull, id, attempt));
     }
 
     private static boolean updatedOne(Connection c, String sql, Object... values) throws SQLException {

@@ -19,11 +19,12 @@ import java.util.function.UnaryOperator;
  * {@code running}: only one process serves a file, so such a job was abandoned by a crash or a
  * shutdown that timed out.
  *
- * <p>Connections ({@link SqliteConnections}): one write connection serialised by a fair Java
- * lock, each write in a {@code BEGIN IMMEDIATE} transaction, and a fixed set of read connections
- * that WAL lets read alongside the writer. The statements live with the rows they serve
- * ({@link SqliteModels}, {@link SqliteSubmissions}, {@link SqliteJobs}, {@link SqliteEstimates});
- * this class only routes calls to them.
+ * <p>Connections ({@link SqliteConnections}): one write connection, on which the writes waiting
+ * at any moment are committed together in one {@code BEGIN IMMEDIATE} transaction, a savepoint
+ * each, job-queue writes first ({@link SqliteWriter}: group commit); and a fixed set of read
+ * connections that WAL lets read alongside the writer. The statements live with the rows
+ * they serve ({@link SqliteModels}, {@link SqliteSubmissions}, {@link SqliteJobs},
+ * {@link SqliteEstimates}); this class only routes calls to them.
  */
 public final class SqliteStore implements Store, JobQueue {
 

@@ -58,7 +58,8 @@ class FaultLoopTest {
             assertFalse(faults.failedSinceArmed());
             break;
         }
-        assertEquals(8, failures, "BEGIN, key lookup, queue count, version lookup, 3 inserts, COMMIT");
+        assertEquals(10, failures,
+                "BEGIN, SAVEPOINT, key lookup, queue count, version lookup, 3 inserts, RELEASE, COMMIT");
         assertEquals(List.of(1L, 1L, 1L), counts());
         faults.failCall(0);
         assertTrue(store.submitTrace(StoreFixture.trace("unit-1"), "key-1", 10, StoreFixture.T0).replayed());
@@ -84,7 +85,8 @@ class FaultLoopTest {
             }
             break;
         }
-        assertEquals(8, failures, "BEGIN, job update, estimate insert, 4 fleet-view inserts, COMMIT");
+        assertEquals(10, failures,
+                "BEGIN, SAVEPOINT, job update, estimate insert, 4 fleet-view inserts, RELEASE, COMMIT");
         assertEquals("succeeded", store.findJob(job.id()).orElseThrow().state());
         assertEquals(1, fx.rows("estimates"));
     }
@@ -104,7 +106,7 @@ class FaultLoopTest {
                 failures++;
             }
         }
-        assertEquals(3, failures, "BEGIN, claim, COMMIT");
+        assertEquals(5, failures, "BEGIN, SAVEPOINT, claim, RELEASE, COMMIT");
         assertEquals(1, claimed.get(0).attempt());
     }
 
