@@ -5,7 +5,6 @@ import static org.junit.jupiter.api.Assertions.assertFalse;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
 import backstate.cli.DemoLoader;
-import java.nio.charset.StandardCharsets;
 import java.nio.file.Files;
 import java.nio.file.Path;
 import java.util.List;
@@ -19,8 +18,7 @@ import org.junit.jupiter.api.io.TempDir;
  * cannot rot. Every command must exit 0 and, through curl's --fail-with-body, answer below 400.
  */
 class FleetDocExamplesTest {
-    static final Path REPO = TestServer.TEST_DATA.toAbsolutePath().getParent();
-    static final long COMMAND_TIMEOUT_SECONDS = 30;
+    static final Path REPO = DocExamples.REPO;
 
     @Test
     void every_curl_example_in_the_fleet_and_planning_doc_answers_successfully(@TempDir Path dir) throws Exception {
@@ -30,7 +28,8 @@ class FleetDocExamplesTest {
             new DemoLoader(server.base(), TestServer.TEST_DATA.resolve("demo")).load();
             awaitFleetSolved(server);
             for (String command : commands) {
-                String out = run(command, server.base());
+                String out = DocExamples.run(command, server.base());
+                assertFalse(out.contains("\"status\":5"), command + "\n" + out);
                 assertTrue(out.startsWith("{"), command + "\n" + out);
             }
         }
@@ -46,18 +45,5 @@ class FleetDocExamplesTest {
             Thread.sleep(50);
         }
         throw new AssertionError("the demo fleet was not solved within 60 s");
-    }
-
-    private static String run(String command, String base) throws Exception {
-        ProcessBuilder pb = new ProcessBuilder("bash", "-c",
-                "set -euo pipefail; curl() { command curl --fail-with-body --max-time 20 \"$@\"; }; " + command)
-                .directory(REPO.toFile()).redirectErrorStream(true);
-        pb.environment().put("B", base);
-        Process p = pb.start();
-        String out = new String(p.getInputStream().readAllBytes(), StandardCharsets.UTF_8);
-        assertTrue(p.waitFor(COMMAND_TIMEOUT_SECONDS, TimeUnit.SECONDS), "timed out: " + command);
-        assertEquals(0, p.exitValue(), command + "\n" + out);
-        assertFalse(out.contains("\"status\":5"), command + "\n" + out);
-        return out;
     }
 }

@@ -13,7 +13,6 @@ import java.nio.file.Path;
 import java.util.ArrayList;
 import java.util.Arrays;
 import java.util.List;
-import java.util.concurrent.TimeUnit;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.io.TempDir;
 
@@ -23,13 +22,12 @@ import org.junit.jupiter.api.io.TempDir;
  * in-process with the documented flags, whose summary must read as the page shows it.
  */
 class RegressionDocsExamplesTest {
-    static final Path REPO = TestServer.TEST_DATA.toAbsolutePath().getParent();
-    static final long COMMAND_TIMEOUT_SECONDS = 30;
+    static final Path REPO = DocExamples.REPO;
 
     @Test
     void every_example_on_the_regressions_page_runs_as_documented(@TempDir Path dir) throws Exception {
         String page = Files.readString(REPO.resolve("docs/regressions.md"));
-        List<List<String>> blocks = bashBlocks(page);
+        List<List<String>> blocks = DocExamples.bashBlocks(page);
         List<String> curls = blocks.get(0);
         assertTrue(curls.size() >= 5, "found only " + curls.size() + " curl examples");
         try (TestServer server = new TestServer(dir)) {
@@ -39,7 +37,7 @@ class RegressionDocsExamplesTest {
                 if (command.contains("/cancel")) {
                     continue; // the run has finished by now, and cancelling it is a 409 (RegressionCancelTest)
                 }
-                String out = run(command.replace("REGRESSION_ID", runId == null ? "none" : runId), server.base());
+                String out = DocExamples.run(command.replace("REGRESSION_ID", runId == null ? "none" : runId), server.base());
                 if (runId == null && command.contains("POST $B/v1/regressions")) {
                     runId = server.mapper.readTree(out).get("id").asText();
                 }
@@ -59,44 +57,5 @@ class RegressionDocsExamplesTest {
                 assertTrue(printed.contains(line) && page.contains(line), "page and output should both show: " + line);
             }
         }
-    }
-
-    /** Each bash block's commands, comments and "B=" dropped, continuation lines joined. */
-    static List<List<String>> bashBlocks(String page) {
-        List<List<String>> blocks = new ArrayList<>();
-        int at = 0;
-        while ((at = page.indexOf("```bash", at)) >= 0) {
-            int end = page.indexOf("```", at + 7);
-            List<String> commands = new ArrayList<>();
-            StringBuilder current = new StringBuilder();
-            for (String raw : page.substring(at + 7, end).split("\n")) {
-                String line = raw.strip();
-                if (line.isEmpty() || line.startsWith("#") || line.startsWith("B=")) {
-                    continue;
-                }
-                current.append(line.endsWith("\\") ? line.substring(0, line.length() - 1) : line).append(' ');
-                if (!line.endsWith("\\")) {
-                    commands.add(current.toString().strip());
-                    current.setLength(0);
-                }
-            }
-            blocks.add(commands);
-            at = end + 3;
-        }
-        return blocks;
-    }
-
-    private static String run(String command, String base) throws Exception {
-        ProcessBuilder pb = new ProcessBuilder("bash", "-c",
-                "set -euo pipefail; curl() { command curl --fail-with-body --max-time 20 \"$@\"; }; " + command)
-                .directory(REPO.toFile()).redirectErrorStream(true);
-        pb.environment().put("B", base);
-        Process p = pb.start();
-        // Read before waiting: an answer larger than the pipe's buffer would otherwise block curl.
-        // curl's --max-time bounds the read.
-        String out = new String(p.getInputStream().readAllBytes(), StandardCharsets.UTF_8);
-        assertTrue(p.waitFor(COMMAND_TIMEOUT_SECONDS, TimeUnit.SECONDS), "timed out: " + command);
-        assertEquals(0, p.exitValue(), command + "\n" + out);
-        return out;
     }
 }
