@@ -156,7 +156,8 @@ class FleetViewsTest {
         JsonNode stale = get("/v1/fleet/reefer-40/summary?staleAfter=PT0.001S").get("stale");
         assertEquals(20, stale.get("count").asInt());
         List<String> expected = latestByUnit(null).entrySet().stream()
-                .sorted(Comparator.comparing((Map.Entry<String, JsonNode> e) -> e.getValue().get("createdAt").asText())
+                // By time, not by text: Instant.toString drops trailing zeros, so "…01.5Z" sorts after "…01.123Z".
+                .sorted(Comparator.comparing((Map.Entry<String, JsonNode> e) -> Instant.parse(e.getValue().get("createdAt").asText()))
                         .thenComparing(Map.Entry::getKey))
                 .map(Map.Entry::getKey).toList();
         assertEquals(expected, texts(stale.get("oldestFirst"), "unitId"));
