@@ -42,7 +42,10 @@ public final class ApiServer implements AutoCloseable {
             config.jsonMapper(new JavalinJackson(w.mapper(), false));
             config.http.maxRequestSize = w.maxBodyBytes();
             config.http.prefer405over404 = true;
-            config.jetty.modifyServer(server -> server.setErrorHandler(new ProtocolErrors(w.mapper())));
+            config.jetty.modifyServer(server -> {
+                server.setErrorHandler(new ProtocolErrors(w.mapper()));
+                StopDrain.install(server);
+            });
             config.requestLogger.http((ctx, ms) -> Timer.builder("backstate.http.latency")
                     .tag("method", ctx.method().name())
                     .tag("route", matchedPath(ctx))

@@ -13,8 +13,10 @@ import org.eclipse.jetty.util.Callback;
 
 /**
  * Answers what Jetty refuses before any route runs (a malformed or repeated Content-Length,
- * headers over Jetty's size limit, a broken request line) with problem+json like every other
- * error, instead of Jetty's HTML page. The detail is Jetty's short reason, never a stack trace.
+ * headers over Jetty's size limit, a broken request line, a request arriving while the service
+ * stops) with problem+json like every other error, instead of Jetty's HTML page. The detail is
+ * Jetty's short reason for a 4xx; a 5xx never shows Jetty's text (it can be an exception's class
+ * name) and a 503 carries Retry-After.
  */
 final class ProtocolErrors extends ErrorHandler {
     private final ObjectMapper mapper;
@@ -26,7 +28,10 @@ final class ProtocolErrors extends ErrorHandler {
     @Override
     protected void generateResponse(Request request, Response response, int status, String message, Throwable cause,
                                     Callback callback) throws IOException {
-        String detail = message == null || message.isBlank() ? HttpStatus.getMessage(status) : message;
+        String detail = detail(status, message);
+        if (status == HttpStatus.SERVICE_UNAVAILABLE_503) {
+            response.getHeaders().put(HttpHeader.RETRY_AFTER, ApiProblem.RETRY_AFTER_SECONDS);
+        }
         byte[] body = mapper.writeValueAsBytes(new Problem(ProblemTypes.uri(slug(status)), title(status), status, detail,
                 fields(status, detail)));
         response.getHeaders().put(HttpHeader.CONTENT_TYPE, Problem.MEDIA_TYPE);
@@ -34,11 +39,22 @@ final class ProtocolErrors extends ErrorHandler {
         response.write(true, ByteBuffer.wrap(body), callback);
     }
 
+    static String detail(int status, String message) {
+        if (status == HttpStatus.SERVICE_UNAVAILABLE_503) {
+            return "the service is stopping or cannot take this request now; retry shortly";
+        }
+        if (status >= 500) {
+            return "the request could not be completed (the connection or its body was cut off)";
+        }
+        return message == null || message.isBlank() ? HttpStatus.getMessage(status) : message;
+    }
+
     /** The same titles ApiProblem and ProblemMapper give these statuses. */
     private static String title(int status) {
         return switch (status) {
             case 400 -> "Invalid input";
             case 413 -> "Payload too large";
+            case 503 -> "Service busy, retry later";
             default -> "HTTP " + status;
         };
     }
@@ -47,6 +63,7 @@ final class ProtocolErrors extends ErrorHandler {
         return switch (status) {
             case 400 -> "invalid-input";
             case 413 -> "payload-too-large";
+            case 503 -> "service-busy";
             default -> "http-" + status;
         };
     }

@@ -26,7 +26,9 @@ import org.junit.jupiter.api.io.TempDir;
  * SIGTERM (what {@code docker stop} and systemd send) stops the service gracefully: the process
  * exits by itself within the shutdown grace, every acknowledged trace is on disk, no job is left
  * {@code running} (each finished or went back to the queue), the file is intact, and the next
- * start solves what was still queued, each job exactly once.
+ * start solves what was still queued, each job exactly once. A post either gets 202, or no answer
+ * (the connection closed before it was read), or, when it arrives on a kept-alive connection after
+ * the stop began, 503 problem+json with Retry-After and {@code Connection: close}: never a 500.
  */
 class GracefulStopTest {
     /** Acknowledged posts before SIGTERM: enough that solves lag behind and jobs are queued and running. */
@@ -48,6 +50,7 @@ class GracefulStopTest {
         ReeferTraces reefer = new ReeferTraces(TestServer.TEST_DATA);
         Map<Integer, String> ackedTraces = new ConcurrentHashMap<>();
         ConcurrentLinkedQueue<String> refusals = new ConcurrentLinkedQueue<>();
+        AtomicInteger retryLater = new AtomicInteger();
 
         Integer exit;
         try (ServerProcess server = ServerProcess.start(db.file(), log)) {
@@ -61,7 +64,7 @@ class GracefulStopTest {
                 clients.execute(() -> {
                     while (posting.get()) {
                         int i = n.getAndIncrement();
-                        if (!post(http, i, reefer.csv(SAMPLES, i), ackedTraces, refusals)) {
+                        if (!post(http, i, reefer.csv(SAMPLES, i), ackedTraces, retryLater, refusals)) {
                             return;
                         }
                     }
@@ -100,19 +103,27 @@ class GracefulStopTest {
         assertEquals(traces, db.count("SELECT COUNT(*) FROM estimates"));
         assertEquals(traces, db.count("SELECT COUNT(DISTINCT job_id) FROM estimates"));
         assertEquals("ok", db.integrityCheck());
-        System.out.printf("GracefulStopTest: exit %d, %d traces acknowledged, %d jobs still queued at the stop%n",
-                exit, ackedTraces.size(), queuedAtStop);
+        System.out.printf("GracefulStopTest: exit %d, %d traces acknowledged, %d told to retry, %d jobs still queued at the stop%n",
+                exit, ackedTraces.size(), retryLater.get(), queuedAtStop);
     }
 
-    /** Posts trace i; true on a 202, false when the server is gone; anything else is recorded as a refusal. */
-    private static boolean post(Http http, int i, byte[] body, Map<Integer, String> acked, ConcurrentLinkedQueue<String> refusals) {
+    /**
+     * Posts trace i; true on a 202, false when the server is gone or said it is stopping; anything
+     * else is recorded as a refusal.
+     */
+    private static boolean post(Http http, int i, byte[] body, Map<Integer, String> acked, AtomicInteger retryLater,
+                                ConcurrentLinkedQueue<String> refusals) {
         try {
             Http.Reply r = http.postTrace("RCX-" + (30_000 + i % 40), body, "stop-" + i);
             if (r.status() == 202) {
                 acked.put(i, r.json().path("traceId").asText());
                 return true;
             }
-            refusals.add(r.status() + " " + r.body());
+            if (isStopping(r)) {
+                retryLater.incrementAndGet();
+                return false;
+            }
+            refusals.add(r.status() + " " + r.header("Content-Type") + " Retry-After=" + r.header("Retry-After") + " " + r.body());
             return false;
         } catch (IOException e) {
             return false;
@@ -120,5 +131,15 @@ class GracefulStopTest {
             Thread.currentThread().interrupt();
             return false;
         }
+    }
+
+    /** The answer StopDrain gives a request that arrives after the stop began. */
+    private static boolean isStopping(Http.Reply r) {
+        return r.status() == 503
+                && String.valueOf(r.header("Content-Type")).startsWith("application/problem+json")
+                && "5".equals(r.header("Retry-After"))
+                && r.json().path("type").asText().endsWith("/service-busy")
+                && r.json().path("detail").asText().contains("stopping")
+                && "close".equalsIgnoreCase(r.header("Connection"));
     }
 }

@@ -1,0 +1,26 @@
+package backstate.api;
+
+import static org.junit.jupiter.api.Assertions.assertEquals;
+import static org.junit.jupiter.api.Assertions.assertFalse;
+import static org.junit.jupiter.api.Assertions.assertTrue;
+
+import org.junit.jupiter.api.Test;
+
+/** What Jetty-level refusals say: its reason for a 4xx, never its text (an exception class) for a 5xx. */
+class ProtocolErrorsTest {
+    @Test
+    void a_4xx_keeps_jettys_short_reason() {
+        assertEquals("Invalid Content-Length Value", ProtocolErrors.detail(400, "Invalid Content-Length Value"));
+        assertEquals("Bad Request", ProtocolErrors.detail(400, null));
+    }
+
+    @Test
+    void a_5xx_never_shows_an_exception_class_name() {
+        String cut = ProtocolErrors.detail(500, "org.eclipse.jetty.io.EofException");
+        assertFalse(cut.contains("org.eclipse"), cut);
+        assertTrue(cut.contains("cut off"), cut);
+        String stopping = ProtocolErrors.detail(503, "java.lang.IllegalStateException: shutdown");
+        assertFalse(stopping.contains("java.lang"), stopping);
+        assertTrue(stopping.contains("retry"), stopping);
+    }
+}
