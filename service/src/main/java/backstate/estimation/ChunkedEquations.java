@@ -40,7 +40,7 @@ final class ChunkedEquations {
         int q = ctx.q;
         double[] forced = head.forcedAtLast();
         long unitsAtMiddle = ctx.units(middle);
-        ctx.propagate(forced, middle, ctx.transitions.over(unitsAtMiddle - ctx.units(middle - 1)), new double[n]);
+        ctx.propagate(forced, middle, ctx.transitions.over(unitsAtMiddle - ctx.units(middle - 1)), ctx.stepScratch());
         double[] phi = ctx.transitions.fresh(unitsAtMiddle).transition();
         SquareRootInformation tailInfo = tail.information();
         double[] r = tailInfo.factorR();

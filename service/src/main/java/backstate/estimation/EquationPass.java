@@ -8,6 +8,8 @@ package backstate.estimation;
  * and the known-input forced response: O(p·n²) per sample, memory O(q² + p·n). Stretches of
  * {@link UniformBlocks#SAMPLES} samples with one step length and no missing value take a faster
  * route (see {@link UniformBlocks}): O(p·q + n²) per sample. Both routes fold the same equations.
+ * On the block route Φ(t_k) is carried from block start to block start, one n×n product per
+ * block, and G is rebuilt from it only when a sample takes the per-sample route again.
  */
 final class EquationPass {
     private final SolveContext ctx;
@@ -19,13 +21,18 @@ final class EquationPass {
     private final long[] counts;
     private final double[] row;
     private final double[] scratch;
+    private final double[] modelled;
     private final TrapezoidWeights trapezoid;
     private final UniformBlocks blocks;
     private double[] g;
     private double[] gNext;
     private final double[] forced;
-    /** Φ(t_k − t0) while on the block route; null when not tracked (the per-sample route never needs it). */
+    /** Φ(t − t_start) at {@link #phiUnits} while on the block route; null when not tracked (the per-sample route never needs it). */
     private double[] phi;
+    private double[] phiNext;
+    private long phiUnits;
+    /** False after a block, whose last sample leaves G behind; the per-sample route then rebuilds it from Φ. */
+    private boolean gCurrent = true;
 
     private EquationPass(SolveContext ctx, int start, int end) {
         this.ctx = ctx;
@@ -36,9 +43,11 @@ final class EquationPass {
         this.info = new SquareRootInformation(ctx.q);
         this.counts = new long[p];
         this.row = new double[ctx.q];
-        this.scratch = new double[n];
+        this.scratch = ctx.stepScratch();
+        this.modelled = new double[p];
         this.g = ctx.c.clone();
         this.gNext = new double[p * n];
+        this.phiNext = new double[n * n];
         this.forced = new double[n];
         boolean continuous = ctx.options.formulation() == Formulation.CONTINUOUS;
         this.trapezoid = continuous ? new TrapezoidWeights(ctx.trace, start) : null;
@@ -79,38 +88,52 @@ final class EquationPass {
                 }
                 nextBlockTry = outcome;
             }
-            phi = null;
-            addSample(k);
+            addSample(k, units - startUnits);
             previousUnits = units;
             k++;
         }
         return new Result(info, counts, forced.clone());
     }
 
-    /** Steps G, the forced response and (when tracked) Φ from sample k−1 to k. */
+    /** Steps G (when current) and the forced response from sample k−1 to k. */
     private void advance(int k, ZeroOrderHold.Step step) {
-        Matrices.multiplyInto(g, step.transition(), p, n, n, gNext);
-        double[] swap = g;
-        g = gNext;
-        gNext = swap;
-        ctx.propagate(forced, k, step, scratch);
-        if (phi != null) {
-            phi = Matrices.multiply(phi, step.transition(), n, n, n);
+        if (gCurrent) {
+            Matrices.multiplyInto(g, step.transition(), p, n, n, gNext);
+            double[] swap = g;
+            g = gNext;
+            gNext = swap;
         }
+        ctx.propagate(forced, k, step, scratch);
     }
 
-    /** Folds samples k … k+B−1 as one block; returns the block's last sample, with G and forced there. */
+    /** Folds samples k … k+B−1 as one block; returns the block's last sample, with the forced response there. */
     private int foldBlock(int k, long unitsFromStart) {
-        if (phi == null) {
-            phi = unitsFromStart == 0 ? Matrices.identity(n) : ctx.transitions.fresh(unitsFromStart).transition();
-        }
-        int last = blocks.fold(k, phi, forced, info, counts);
-        phi = Matrices.multiply(phi, blocks.span(k), n, n, n);
-        Matrices.multiplyInto(ctx.c, phi, p, n, n, g);
+        int last = blocks.fold(k, phiAt(unitsFromStart), forced, info, counts);
+        gCurrent = false;
         return last;
     }
 
-    private void addSample(int k) {
+    /** Φ(t − t_start) at {@code unitsFromStart} step units, from the tracked Φ when there is one. */
+    private double[] phiAt(long unitsFromStart) {
+        if (phi == null) {
+            phi = unitsFromStart == 0 ? Matrices.identity(n) : ctx.transitions.fresh(unitsFromStart).transition();
+        } else if (unitsFromStart != phiUnits) {
+            Matrices.multiplyInto(phi, ctx.transitions.over(unitsFromStart - phiUnits).transition(), n, n, n, phiNext);
+            double[] swap = phi;
+            phi = phiNext;
+            phiNext = swap;
+        }
+        phiUnits = unitsFromStart;
+        return phi;
+    }
+
+    private void addSample(int k, long unitsFromStart) {
+        if (!gCurrent) {
+            Matrices.multiplyInto(ctx.c, phiAt(unitsFromStart), p, n, n, g);
+            gCurrent = true;
+        }
+        phi = null;
+        ctx.outputs(forced, k, scratch, modelled);
         for (int j = 0; j < p; j++) {
             double y = ctx.trace.output(k, j);
             if (Double.isNaN(y)) {
@@ -121,7 +144,7 @@ final class EquationPass {
                 weight *= Math.sqrt(trapezoid.weight(k, j));
             }
             fillRow(j, weight);
-            info.add(row, (y - ctx.output(j, forced, k)) * weight);
+            info.add(row, (y - modelled[j]) * weight);
             counts[j]++;
         }
     }

@@ -5,7 +5,7 @@ import org.apache.commons.math3.special.Gamma;
 /**
  * Streaming Ljung–Box portmanteau statistic Q = N(N+2) Σ_{k=1}^{h} ρ̂_k² / (N − k) of a residual
  * sequence (Ljung &amp; Box 1978, Biometrika 65(2):297–303), with ρ̂_k the lag-k autocorrelation about
- * the sample mean. One pass, O(h) memory: lagged products plus the first and last h values,
+ * the sample mean. One pass, O(h + batch) memory: lagged products plus the first and last h values,
  * which give the partial sums needed to centre each lag exactly.
  *
  * <p>The same first and last h values let two consecutive stretches of one series be joined
@@ -17,13 +17,19 @@ final class LjungBox {
     /** At most 10 lags, and no more than N/5: a common rule for non-seasonal series (from memory; Hyndman &amp; Athanasopoulos, Forecasting: Principles and Practice). */
     static final int MAX_LAGS = 10;
     static final int SAMPLES_PER_LAG = 5;
+    /** Values gathered before their lagged products are summed, a batch at a time. */
+    static final int BATCH = 256;
 
     private final int lags;
-    private final double[] recent;
+    /**
+     * window[0 … h−1]: the h values before the current batch, newest last (zeros before the series
+     * starts, whose products add nothing); window[h …]: the batch. Products are summed per batch,
+     * lag by lag over contiguous values, rather than h scattered updates per value.
+     */
+    private final double[] window;
+    private int batched;
     private final double[] first;
     private final double[] lagProducts;
-    /** Ring position where the next value goes; recent[next − k (mod lags)] holds the value k back. */
-    private int next;
     private long count;
     private double sum;
     private double sumSquares;
@@ -31,7 +37,7 @@ final class LjungBox {
     /** @param expectedCount number of values that will be added (fixes the number of lags) */
     LjungBox(long expectedCount) {
         this.lags = lagsFor(expectedCount);
-        this.recent = new double[Math.max(lags, 1)];
+        this.window = new double[lags + BATCH];
         this.first = new double[Math.max(lags, 1)];
         this.lagProducts = new double[lags + 1];
     }
@@ -42,21 +48,50 @@ final class LjungBox {
     }
 
     void add(double r) {
-        int slot = next;
-        for (int k = 1; k <= lags && k <= count; k++) {
-            slot = slot == 0 ? lags - 1 : slot - 1;
-            lagProducts[k] += r * recent[slot];
-        }
         if (count < lags) {
             first[(int) count] = r;
-        }
-        if (lags > 0) {
-            recent[next] = r;
-            next = next + 1 == lags ? 0 : next + 1;
         }
         count++;
         sum += r;
         sumSquares += r * r;
+        if (lags > 0) {
+            window[lags + batched++] = r;
+            if (batched == BATCH) {
+                flush();
+            }
+        }
+    }
+
+    /** Adds the batch's lagged products and keeps its last h values as the next batch's history. */
+    private void flush() {
+        if (batched == 0) {
+            return;
+        }
+        for (int k = 1; k <= lags; k++) {
+            lagProducts[k] += laggedSum(k);
+        }
+        System.arraycopy(window, batched, window, 0, lags);
+        batched = 0;
+    }
+
+    /** Σ r_t·r_{t−k} over the batch, in four interleaved partial sums (four independent chains of adds). */
+    private double laggedSum(int k) {
+        double s0 = 0.0;
+        double s1 = 0.0;
+        double s2 = 0.0;
+        double s3 = 0.0;
+        int end = lags + batched;
+        int t = lags;
+        for (; t + 3 < end; t += 4) {
+            s0 += window[t] * window[t - k];
+            s1 += window[t + 1] * window[t + 1 - k];
+            s2 += window[t + 2] * window[t + 2 - k];
+            s3 += window[t + 3] * window[t + 3 - k];
+        }
+        for (; t < end; t++) {
+            s0 += window[t] * window[t - k];
+        }
+        return (s0 + s1) + (s2 + s3);
     }
 
     int lags() {
@@ -76,6 +111,8 @@ final class LjungBox {
             throw new IllegalArgumentException("later: got " + later.lags + " lags, expected " + lags
                     + " (both stretches must be set up with the whole series' expected count)");
         }
+        flush();
+        later.flush();
         long total = count + later.count;
         if (lags > 0) {
             for (int k = 1; k <= lags; k++) {
@@ -88,14 +125,13 @@ final class LjungBox {
             for (int i = 0; count + i < lags && i < later.count; i++) {
                 first[(int) count + i] = later.first[i];
             }
-            double[] newest = new double[(int) Math.min(lags, total)];
-            for (int j = 1; j <= newest.length; j++) {
+            double[] newest = new double[lags];
+            for (int j = 1; j <= Math.min(lags, total); j++) {
                 newest[j - 1] = j <= later.count ? later.valueBack(j) : valueBack(j - (int) later.count);
             }
-            for (int j = 1; j <= newest.length; j++) {
-                recent[(int) ((total - j) % lags)] = newest[j - 1];
+            for (int j = 1; j <= lags; j++) {
+                window[lags - j] = newest[j - 1];
             }
-            next = (int) (total % lags);
         }
         count = total;
         sum += later.sum;
@@ -104,7 +140,7 @@ final class LjungBox {
 
     /** The value j places back from the newest (j = 1 is the newest), 1 ≤ j ≤ min(count, lags). */
     private double valueBack(int j) {
-        return recent[(int) ((count - j) % lags)];
+        return window[lags + batched - j];
     }
 
     /** Q, or NaN when there are no lags or the series is constant. */
@@ -112,6 +148,7 @@ final class LjungBox {
         if (lags == 0) {
             return Double.NaN;
         }
+        flush();
         double mean = sum / count;
         double denominator = sumSquares - count * mean * mean;
         if (!(denominator > 0.0)) {

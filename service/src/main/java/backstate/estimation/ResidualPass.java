@@ -144,7 +144,8 @@ final class ResidualPass {
         for (int j = 0; j < p; j++) {
             channels[j] = new ChannelAccumulator(ctx.noise.sigma(j), presentCounts[j]);
         }
-        double[] scratch = new double[n];
+        double[] scratch = ctx.stepScratch();
+        double[] modelled = new double[p];
         double[] referenceState = null;
         long previousUnits = ctx.units(from);
         for (int k = from; k < to; k++) {
@@ -156,8 +157,9 @@ final class ResidualPass {
             if (referenceTime != null && referenceState == null && isReferenceSample(k)) {
                 referenceState = stateAt(transitions, k, units, state);
             }
+            ctx.outputs(state, k, scratch, modelled);
             for (int j = 0; j < p; j++) {
-                double yHat = ctx.output(j, state, k) + offset(j);
+                double yHat = modelled[j] + offset(j);
                 double y = ctx.trace.output(k, j);
                 double r = y - yHat;
                 if (!Double.isNaN(y)) {

@@ -17,6 +17,10 @@ final class SolveContext {
     final NoiseLevels noise;
     final SampleSteps steps;
     final TransitionCache transitions;
+    /** The trace's inputs, row-major by sample (a shared view; never written). */
+    private final double[] inputs;
+    /** [C | D], p × (n + m). */
+    private final double[] outputMatrix;
 
     SolveContext(StateSpaceModel model, Trace trace, EstimationOptions options) {
         this.model = model;
@@ -31,6 +35,8 @@ final class SolveContext {
         this.noise = new NoiseLevels(model, trace);
         this.steps = new SampleSteps(model, trace.time(0));
         this.transitions = new TransitionCache(model, steps);
+        this.inputs = trace.inputsView();
+        this.outputMatrix = Matrices.sideBySide(c, d, p, n, m);
     }
 
     /** An independent context over the same inputs, for another thread (the transition cache is not thread-safe). */
@@ -55,28 +61,33 @@ final class SolveContext {
         return names;
     }
 
-    /** Writes D_j·u_k + C_j·x for output j. */
-    double output(int j, double[] x, int k) {
-        double s = 0.0;
-        for (int i = 0; i < n; i++) {
-            s += c[j * n + i] * x[i];
-        }
-        for (int i = 0; i < m; i++) {
-            s += d[j * m + i] * trace.input(k, i);
-        }
-        return s;
+    /** A work vector for {@link #outputs} and {@link #propagate}: n + m entries. */
+    double[] stepScratch() {
+        return new double[n + m];
     }
 
-    /** x ← Ad·x + Bd·u_{k−1} over the step from sample k−1 to k; scratch has n entries. */
-    void propagate(double[] x, int k, ZeroOrderHold.Step step, double[] scratch) {
-        Matrices.multiplyVector(step.transition(), x, n, n, scratch);
-        double[] bd = step.input();
-        for (int i = 0; i < n; i++) {
-            double s = scratch[i];
-            for (int l = 0; l < m; l++) {
-                s += bd[i * m + l] * trace.input(k - 1, l);
-            }
-            x[i] = s;
-        }
+    /**
+     * Writes C·x + D·u_k, every output of sample k, into out (p entries), as [C | D]·[x; u_k]: each
+     * sum runs C's terms, then D's. scratch comes from {@link #stepScratch()}.
+     */
+    void outputs(double[] x, int k, double[] scratch, double[] out) {
+        stackWithInput(x, k, scratch);
+        Matrices.multiplyVector(outputMatrix, scratch, p, n + m, out);
     }
+
+    /**
+     * x ← Ad·x + Bd·u_{k−1} over the step from sample k−1 to k, as [Ad | Bd]·[x; u_{k−1}]: each sum
+     * runs Ad's terms, then Bd's. scratch comes from {@link #stepScratch()}.
+     */
+    void propagate(double[] x, int k, ZeroOrderHold.Step step, double[] scratch) {
+        stackWithInput(x, k - 1, scratch);
+        Matrices.multiplyVector(step.stacked(), scratch, n, n + m, x);
+    }
+
+    /** scratch ← [x; u_k]. */
+    private void stackWithInput(double[] x, int k, double[] scratch) {
+        System.arraycopy(x, 0, scratch, 0, n);
+        System.arraycopy(inputs, k * m, scratch, n, m);
+    }
+
 }

@@ -46,7 +46,7 @@ final class StateSweep {
         this.m = ctx.m;
         this.inputs = ctx.trace.inputsView();
         this.x = start.clone();
-        this.scratch = new double[n];
+        this.scratch = ctx.stepScratch();
         this.kernel = new double[n * BLOCK * m];
     }
 

@@ -26,6 +26,7 @@ final class UniformBlocks {
     private final double[] b;
     private final double[] reduced;
     private final double[] scratch;
+    private final double[] modelled;
     private final Map<Long, HouseholderQr> plans = new LinkedHashMap<>(16, 0.75f, true) {
         @Override
         protected boolean removeEldestEntry(Map.Entry<Long, HouseholderQr> eldest) {
@@ -40,7 +41,8 @@ final class UniformBlocks {
         this.rows = SAMPLES * ctx.p;
         this.b = new double[rows];
         this.reduced = new double[ctx.q * ctx.q];
-        this.scratch = new double[ctx.n];
+        this.scratch = ctx.stepScratch();
+        this.modelled = new double[ctx.p];
     }
 
     /**
@@ -67,12 +69,6 @@ final class UniformBlocks {
             previous = units;
         }
         return UNIFORM;
-    }
-
-    /** Φ(h)^{B−1}: from a block's first sample to its last. */
-    double[] span(int k) {
-        long step = ctx.units(k + 1) - ctx.units(k);
-        return ctx.transitions.over(step * (SAMPLES - 1)).transition();
     }
 
     /**
@@ -104,8 +100,9 @@ final class UniformBlocks {
             if (i > 0) {
                 ctx.propagate(forced, sample, transition, scratch);
             }
+            ctx.outputs(forced, sample, scratch, modelled);
             for (int j = 0; j < ctx.p; j++) {
-                b[i * ctx.p + j] = (ctx.trace.output(sample, j) - ctx.output(j, forced, sample)) / ctx.noise.sigma(j);
+                b[i * ctx.p + j] = (ctx.trace.output(sample, j) - modelled[j]) / ctx.noise.sigma(j);
             }
         }
     }

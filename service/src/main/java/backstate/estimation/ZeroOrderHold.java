@@ -15,10 +15,14 @@ public final class ZeroOrderHold {
     }
 
     /**
-     * Transition (n×n) and input (n×m) matrices of one step, row-major. The arrays are freshly
-     * allocated and owned by the caller; the record compares them by reference.
+     * Transition (n×n) and input (n×m) matrices of one step, row-major, and the two side by side,
+     * [Ad | Bd] (n×(n+m)), so that a step x ← Ad·x + Bd·u is one product with [x; u]. The arrays
+     * are freshly allocated and owned by the caller; the record compares them by reference.
      */
-    public record Step(double[] transition, double[] input) {
+    public record Step(double[] transition, double[] input, double[] stacked) {
+        Step(double[] transition, double[] input, int n, int m) {
+            this(transition, input, Matrices.sideBySide(transition, input, n, n, m));
+        }
     }
 
     /**
@@ -40,7 +44,7 @@ public final class ZeroOrderHold {
         Matrices.copyBlock(a, n, n, n, augmented, size, 0, 0);
         Matrices.copyBlock(input, m, n, m, augmented, size, 0, n);
         double[] f = MatrixExponential.exp(augmented, size, h);
-        return new Step(Matrices.block(f, size, 0, 0, n, n), Matrices.block(f, size, 0, n, n, m));
+        return new Step(Matrices.block(f, size, 0, 0, n, n), Matrices.block(f, size, 0, n, n, m), n, m);
     }
 
     /**
@@ -89,6 +93,6 @@ public final class ZeroOrderHold {
             base = work;
             work = swap;
         }
-        return new Step(Matrices.block(result, size, 0, 0, n, n), Matrices.block(result, size, 0, n, n, m));
+        return new Step(Matrices.block(result, size, 0, 0, n, n), Matrices.block(result, size, 0, n, n, m), n, m);
     }
 }

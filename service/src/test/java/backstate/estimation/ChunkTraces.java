@@ -52,14 +52,16 @@ final class ChunkTraces {
         SolveContext ctx = new SolveContext(model, noiseless, EstimationOptions.defaults());
         double[] x0 = truth(model);
         double[] x = java.util.Arrays.copyOf(x0, model.states());
-        double[] scratch = new double[model.states()];
+        double[] scratch = ctx.stepScratch();
         double[] outputs = new double[SAMPLES * 2];
+        double[] modelled = new double[2];
         for (int k = 0; k < SAMPLES; k++) {
             if (k > 0) {
                 ctx.propagate(x, k, ctx.transitions.over(ctx.units(k) - ctx.units(k - 1)), scratch);
             }
+            ctx.outputs(x, k, scratch, modelled);
             for (int j = 0; j < 2; j++) {
-                outputs[k * 2 + j] = ctx.output(j, x, k) + OFFSETS[j] + SIGMA[j] * random.nextGaussian();
+                outputs[k * 2 + j] = modelled[j] + OFFSETS[j] + SIGMA[j] * random.nextGaussian();
             }
         }
         for (int i = 0; i < 10; i++) {

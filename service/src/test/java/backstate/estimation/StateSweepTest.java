@@ -28,7 +28,7 @@ class StateSweepTest {
         double[][] swept = StateSweep.statesAt(ctx, new TransitionCache(model, ctx.steps), x0, TARGETS);
 
         double[] x = x0.clone();
-        double[] scratch = new double[ctx.n];
+        double[] scratch = ctx.stepScratch();
         int next = 0;
         for (int k = 0; k < ctx.trace.samples() && next < TARGETS.length; k++) {
             if (k > 0) {
