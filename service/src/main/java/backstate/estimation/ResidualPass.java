@@ -134,44 +134,79 @@ final class ResidualPass {
         return new Result(diagnostics, series, referenceState);
     }
 
-    /** Samples [from, to) from the state {@code state} at sample {@code from} (overwritten). */
+    /**
+     * Samples [from, to) from the state {@code state} at sample {@code from} (overwritten): runs of
+     * {@link LiftedStep#SAMPLES} equal steps go as one lifted step where lifting pays, other samples
+     * one step at a time.
+     */
     private Chunk simulate(TransitionCache transitions, int from, int to, double[] state) {
-        int n = ctx.n;
         int p = ctx.p;
-        double[] fitted = this.fitted;
-        double[] residuals = this.residuals;
+        int lift = LiftedStep.SAMPLES;
         ChannelAccumulator[] channels = new ChannelAccumulator[p];
         for (int j = 0; j < p; j++) {
             channels[j] = new ChannelAccumulator(ctx.noise.sigma(j), presentCounts[j]);
         }
         double[] scratch = ctx.stepScratch();
-        double[] modelled = new double[p];
+        double[] modelled = new double[lift * p];
+        double[] liftedWork = new double[ctx.n + lift * ctx.m];
         double[] referenceState = null;
-        long previousUnits = ctx.units(from);
-        for (int k = from; k < to; k++) {
-            long units = ctx.units(k);
-            if (k > from) {
-                ctx.propagate(state, k, transitions.over(units - previousUnits), scratch);
+        int k = from;
+        while (k < to) {
+            long step = k + 1 < to ? ctx.units(k + 1) - ctx.units(k) : 0;
+            if (ctx.lift && k + lift < to && equalSteps(k, step, lift) && !(referenceState == null && reachesReference(k + lift))) {
+                transitions.lifted(step).advance(state, ctx.inputs, k, liftedWork, modelled);
+                for (int i = 0; i < lift; i++) {
+                    record(k + i, modelled, i * p, channels);
+                }
+                k += lift;
+                continue;
             }
-            previousUnits = units;
             if (referenceTime != null && referenceState == null && isReferenceSample(k)) {
-                referenceState = stateAt(transitions, k, units, state);
+                referenceState = stateAt(transitions, k, ctx.units(k), state);
             }
             ctx.outputs(state, k, scratch, modelled);
-            for (int j = 0; j < p; j++) {
-                double yHat = modelled[j] + offset(j);
-                double y = ctx.trace.output(k, j);
-                double r = y - yHat;
-                if (!Double.isNaN(y)) {
-                    channels[j].add(y, r);
-                }
-                if (fitted != null) {
-                    fitted[k * p + j] = yHat;
-                    residuals[k * p + j] = r;
-                }
+            record(k, modelled, 0, channels);
+            if (k + 1 < to) {
+                ctx.propagate(state, k + 1, transitions.over(step), scratch);
             }
+            k++;
         }
         return new Chunk(channels, referenceState);
+    }
+
+    /** True when the steps from sample k to k+1, …, k+count−1 to k+count are all {@code step} units. */
+    private boolean equalSteps(int k, long step, int count) {
+        long previous = ctx.units(k + 1);
+        for (int i = 2; i <= count; i++) {
+            long units = ctx.units(k + i);
+            if (units - previous != step) {
+                return false;
+            }
+            previous = units;
+        }
+        return true;
+    }
+
+    /** True when a reference time is asked for and sample {@code k} is past it (so the reference sample comes before k). */
+    private boolean reachesReference(int k) {
+        return referenceTime != null && ctx.trace.time(k) > referenceTime;
+    }
+
+    /** Streams sample k's outputs, modelled[at … at+p−1] before offsets, into the channels and the kept series. */
+    private void record(int k, double[] modelled, int at, ChannelAccumulator[] channels) {
+        int p = ctx.p;
+        for (int j = 0; j < p; j++) {
+            double yHat = modelled[at + j] + offset(j);
+            double y = ctx.trace.output(k, j);
+            double r = y - yHat;
+            if (!Double.isNaN(y)) {
+                channels[j].add(y, r);
+            }
+            if (fitted != null) {
+                fitted[k * p + j] = yHat;
+                residuals[k * p + j] = r;
+            }
+        }
     }
 
     /** True for the last sample at or before the reference time (t_0 ≤ t_ref is validated). */

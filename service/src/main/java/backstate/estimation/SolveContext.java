@@ -18,7 +18,9 @@ final class SolveContext {
     final SampleSteps steps;
     final TransitionCache transitions;
     /** The trace's inputs, row-major by sample (a shared view; never written). */
-    private final double[] inputs;
+    final double[] inputs;
+    /** Whether uniform stretches go {@link LiftedStep#SAMPLES} samples at a time ({@link LiftedStep#pays}). */
+    final boolean lift;
     /** [C | D], p × (n + m). */
     private final double[] outputMatrix;
 
@@ -36,6 +38,7 @@ final class SolveContext {
         this.steps = new SampleSteps(model, trace.time(0));
         this.transitions = new TransitionCache(model, steps);
         this.inputs = trace.inputsView();
+        this.lift = LiftedStep.pays(n, p, m);
         this.outputMatrix = Matrices.sideBySide(c, d, p, n, m);
     }
 

@@ -27,6 +27,17 @@ final class TransitionCache {
         }
     };
 
+    /** Lifted forms by step length, for the few step lengths of uniform stretches. */
+    private final Map<Long, LiftedStep> lifted = new LinkedHashMap<>(16, 0.75f, true) {
+        @Override
+        protected boolean removeEldestEntry(Map.Entry<Long, LiftedStep> eldest) {
+            return size() > LIFTED_CAPACITY;
+        }
+    };
+    static final int LIFTED_CAPACITY = 8;
+    private long lastLiftedUnits = -1;
+    private LiftedStep lastLifted;
+
     /** The last step asked for: a uniformly sampled trace asks for the same one every time, without boxing a key. */
     private long lastUnits = -1;
     private ZeroOrderHold.Step lastStep;
@@ -50,6 +61,21 @@ final class TransitionCache {
         }
         lastUnits = units;
         lastStep = step;
+        return step;
+    }
+
+    /** {@link LiftedStep#SAMPLES} steps of {@code units} each as one lifted step, for the model's C and D. */
+    LiftedStep lifted(long units) {
+        if (units == lastLiftedUnits && lastLifted != null) {
+            return lastLifted;
+        }
+        LiftedStep step = lifted.get(units);
+        if (step == null) {
+            step = new LiftedStep(over(units), model.c(), model.d(), model.states(), model.outputs(), model.inputs());
+            lifted.put(units, step);
+        }
+        lastLiftedUnits = units;
+        lastLifted = step;
         return step;
     }
 

@@ -27,6 +27,8 @@ final class UniformBlocks {
     private final double[] reduced;
     private final double[] scratch;
     private final double[] modelled;
+    private final double[] liftedWork;
+    private final double[] liftedOutputs;
     private final Map<Long, HouseholderQr> plans = new LinkedHashMap<>(16, 0.75f, true) {
         @Override
         protected boolean removeEldestEntry(Map.Entry<Long, HouseholderQr> eldest) {
@@ -43,6 +45,8 @@ final class UniformBlocks {
         this.reduced = new double[ctx.q * ctx.q];
         this.scratch = ctx.stepScratch();
         this.modelled = new double[ctx.p];
+        this.liftedWork = new double[ctx.n + LiftedStep.SAMPLES * ctx.m];
+        this.liftedOutputs = new double[LiftedStep.SAMPLES * ctx.p];
     }
 
     /**
@@ -92,8 +96,26 @@ final class UniformBlocks {
         return k + SAMPLES - 1;
     }
 
-    /** b = (y − C·forced − D·u)/σ per sample and channel, propagating forced through the block. */
+    /**
+     * b = (y − C·forced − D·u)/σ per sample and channel, carrying forced through the block: not at
+     * all without inputs (it stays zero), {@link LiftedStep#SAMPLES} samples a step where lifting
+     * pays, else sample by sample.
+     */
     private void fillRightHandSide(int k, long step, double[] forced) {
+        if (ctx.m == 0 && isZero(forced)) {
+            for (int i = 0; i < SAMPLES; i++) {
+                for (int j = 0; j < ctx.p; j++) {
+                    b[i * ctx.p + j] = ctx.trace.output(k + i, j) / ctx.noise.sigma(j);
+                }
+            }
+        } else if (ctx.lift) {
+            fillLifted(k, step, forced);
+        } else {
+            fillStepByStep(k, step, forced);
+        }
+    }
+
+    private void fillStepByStep(int k, long step, double[] forced) {
         ZeroOrderHold.Step transition = ctx.transitions.over(step);
         for (int i = 0; i < SAMPLES; i++) {
             int sample = k + i;
@@ -101,10 +123,44 @@ final class UniformBlocks {
                 ctx.propagate(forced, sample, transition, scratch);
             }
             ctx.outputs(forced, sample, scratch, modelled);
-            for (int j = 0; j < ctx.p; j++) {
-                b[i * ctx.p + j] = (ctx.trace.output(sample, j) - modelled[j]) / ctx.noise.sigma(j);
+            weigh(i, sample, modelled, 0);
+        }
+    }
+
+    /** Lifted steps; the last one stops at the block's last sample, one step at a time. */
+    private void fillLifted(int k, long step, double[] forced) {
+        LiftedStep lifted = ctx.transitions.lifted(step);
+        int s = LiftedStep.SAMPLES;
+        for (int i = 0; i < SAMPLES; i += s) {
+            if (i + s < SAMPLES) {
+                lifted.advance(forced, ctx.inputs, k + i, liftedWork, liftedOutputs);
+            } else {
+                lifted.outputsOnly(forced, ctx.inputs, k + i, liftedWork, liftedOutputs);
+                ZeroOrderHold.Step transition = ctx.transitions.over(step);
+                for (int j = 1; j < s; j++) {
+                    ctx.propagate(forced, k + i + j, transition, scratch);
+                }
+            }
+            for (int j = 0; j < s; j++) {
+                weigh(i + j, k + i + j, liftedOutputs, j * ctx.p);
             }
         }
+    }
+
+    /** Row block i of b from sample {@code sample}'s outputs, modelled[at … at+p−1]. */
+    private void weigh(int i, int sample, double[] modelled, int at) {
+        for (int j = 0; j < ctx.p; j++) {
+            b[i * ctx.p + j] = (ctx.trace.output(sample, j) - modelled[at + j]) / ctx.noise.sigma(j);
+        }
+    }
+
+    private static boolean isZero(double[] x) {
+        for (double v : x) {
+            if (v != 0.0) {
+                return false;
+            }
+        }
+        return true;
     }
 
     /** R·diag(Φ, I) for upper-triangular q×q R and n×n Φ, row-major, into out: the change of unknowns to x0. */
