@@ -6,9 +6,16 @@ package backstate.estimation;
  * stretches can be streamed in parallel.
  */
 final class ChannelAccumulator {
+    /** Measured values gathered before their mean and spread are merged into the running ones. */
+    static final int BATCH = 256;
+
     private final double sigma;
     private final LjungBox whiteness;
+    private final double[] pending = new double[BATCH];
+    private int batched;
     private long count;
+    /** Values already merged into meanY and spreadY: count minus the batched ones. */
+    private long merged;
     private double meanY;
     private double spreadY;
     private double residualSquares;
@@ -21,12 +28,13 @@ final class ChannelAccumulator {
         this.whiteness = new LjungBox(expectedCount);
     }
 
-    /** Adds one present sample: measured y and residual y − ŷ (Welford 1962 running mean and spread for R²). */
+    /** Adds one present sample: measured y and residual y − ŷ. */
     void add(double y, double residual) {
         count++;
-        double delta = y - meanY;
-        meanY += delta / count;
-        spreadY += delta * (y - meanY);
+        pending[batched++] = y;
+        if (batched == BATCH) {
+            flush();
+        }
         residualSquares += residual * residual;
         double abs = Math.abs(residual);
         maxAbs = Math.max(maxAbs, abs);
@@ -34,6 +42,40 @@ final class ChannelAccumulator {
             outliers++;
         }
         whiteness.add(residual);
+    }
+
+    /**
+     * Merges the batched values: their own mean and spread by two passes over the batch, then the
+     * pairwise update below (the batched form of the updating algorithms of Chan, Golub &amp;
+     * LeVeque 1979) — one division a batch instead of one a value as in Welford's update.
+     */
+    private void flush() {
+        if (batched == 0) {
+            return;
+        }
+        double total = 0.0;
+        for (int i = 0; i < batched; i++) {
+            total += pending[i];
+        }
+        double mean = total / batched;
+        double spread = 0.0;
+        for (int i = 0; i < batched; i++) {
+            double d = pending[i] - mean;
+            spread += d * d;
+        }
+        mergeMoments(batched, mean, spread);
+        batched = 0;
+    }
+
+    /** Pairwise update of the running mean and spread with another stretch's (see {@link #append}). */
+    private void mergeMoments(long otherCount, double otherMean, double otherSpread) {
+        long total = merged + otherCount;
+        if (otherCount > 0) {
+            double delta = otherMean - meanY;
+            meanY += delta * ((double) otherCount / total);
+            spreadY += otherSpread + delta * delta * ((double) merged * otherCount / total);
+        }
+        merged = total;
     }
 
     /**
@@ -45,13 +87,10 @@ final class ChannelAccumulator {
      * rounding) when either side is empty.
      */
     void append(ChannelAccumulator later) {
-        long total = count + later.count;
-        if (later.count > 0) {
-            double delta = later.meanY - meanY;
-            meanY += delta * ((double) later.count / total);
-            spreadY += later.spreadY + delta * delta * ((double) count * later.count / total);
-        }
-        count = total;
+        flush();
+        later.flush();
+        mergeMoments(later.merged, later.meanY, later.spreadY);
+        count += later.count;
         residualSquares += later.residualSquares;
         maxAbs = Math.max(maxAbs, later.maxAbs);
         outliers += later.outliers;
@@ -59,6 +98,7 @@ final class ChannelAccumulator {
     }
 
     ChannelDiagnostics finish(ChannelDiagnostics.SigmaSource source) {
+        flush();
         double rms = count == 0 ? Double.NaN : Math.sqrt(residualSquares / count);
         double rSquared = spreadY > 0.0 ? 1.0 - residualSquares / spreadY : Double.NaN;
         return new ChannelDiagnostics((int) count, sigma, source, rms, count == 0 ? Double.NaN : maxAbs, rSquared,

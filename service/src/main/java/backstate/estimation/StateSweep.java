@@ -20,8 +20,8 @@ package backstate.estimation;
  * <p>K is built for one step length at a time (the one of the last uniform block), Φ^B by squaring
  * Φ log₂ B times (B is a power of two), which is as accurate here as B − 1 products and closer to
  * the step-by-step route than exp(A·B·h), and needs no step count beyond a discrete model's limit.
- * K is row-major (each state component is one contiguous dot product with U_a), n × B·m doubles:
- * at most 1 MB at the model size limits.
+ * Φ^B and K are stored side by side, [Φ^B | K], row-major (each state component is one contiguous
+ * dot product with [x_a; U_a]), n × (n + B·m) doubles: about 1 MB at the model size limits.
  */
 final class StateSweep {
     /** Samples per block: amortises the n² free-response product over 64 steps, leaving ≈ n·m per step. Power of two (Φ^B by squaring). */
@@ -36,7 +36,8 @@ final class StateSweep {
     private final double[] x;
     private final double[] scratch;
     private final double[] kernel;
-    private double[] blockTransition;
+    /** [x; u_a … u_{a+B−1}] for one block. */
+    private final double[] stacked;
     private long kernelUnits = -1;
 
     private StateSweep(SolveContext ctx, TransitionCache cache, double[] start) {
@@ -47,7 +48,8 @@ final class StateSweep {
         this.inputs = ctx.trace.inputsView();
         this.x = start.clone();
         this.scratch = ctx.stepScratch();
-        this.kernel = new double[n * BLOCK * m];
+        this.kernel = new double[n * (n + BLOCK * m)];
+        this.stacked = new double[n + BLOCK * m];
     }
 
     /**
@@ -106,22 +108,14 @@ final class StateSweep {
         return BLOCK;
     }
 
-    /** x ← Φ^B x + K·U over the block of BLOCK equal steps starting at sample k. */
+    /** x ← [Φ^B | K]·[x; U] over the block of BLOCK equal steps starting at sample k. */
     private void advanceBlock(int k, long step) {
         if (step != kernelUnits) {
             buildKernel(step);
         }
-        Matrices.multiplyVector(blockTransition, x, n, n, scratch);
-        int width = BLOCK * m;
-        int base = k * m;
-        for (int i = 0; i < n; i++) {
-            double s = scratch[i];
-            int row = i * width;
-            for (int j = 0; j < width; j++) {
-                s += kernel[row + j] * inputs[base + j];
-            }
-            x[i] = s;
-        }
+        System.arraycopy(x, 0, stacked, 0, n);
+        System.arraycopy(inputs, k * m, stacked, n, BLOCK * m);
+        Matrices.multiplyVector(kernel, stacked, n, n + BLOCK * m, x);
     }
 
     private void buildKernel(long step) {
@@ -129,9 +123,9 @@ final class StateSweep {
         double[] phi = one.transition();
         double[] column = one.input().clone();
         double[] next = new double[n * m];
-        int width = BLOCK * m;
+        int width = n + BLOCK * m;
         for (int i = BLOCK - 1; i >= 0; i--) {
-            Matrices.copyBlock(column, m, n, m, kernel, width, 0, i * m);
+            Matrices.copyBlock(column, m, n, m, kernel, width, 0, n + i * m);
             Matrices.multiplyInto(phi, column, n, n, m, next);
             double[] swap = column;
             column = next;
@@ -145,7 +139,7 @@ final class StateSweep {
             power = work;
             work = swap;
         }
-        blockTransition = power;
+        Matrices.copyBlock(power, n, n, n, kernel, width, 0, 0);
         kernelUnits = step;
     }
 }
