@@ -8,7 +8,9 @@ import java.util.concurrent.ForkJoinTask;
 /**
  * Second pass over a trace: simulates the fitted model from x̂0 with the known inputs, and streams
  * the residuals into per-channel diagnostics, the optional fitted/residual series, and the state
- * at the reference time. O(N·n²) time; O(n² + p) memory unless the series is kept.
+ * at the reference time. O(N·n²) time; O(n² + p) memory unless the series is kept. Where
+ * {@link LiftedStep#pays lifting pays}, runs of {@link LiftedStep#SAMPLES} equal steps go as one
+ * lifted step (the outputs and the next state by two products), other samples one step at a time.
  *
  * <p>Long traces (N ≥ {@link #PARALLEL_MIN_SAMPLES}) run as {@link #PARALLEL_CHUNKS} contiguous
  * chunks on two threads. A chunk needs the true state at its first sample, which depends on every
