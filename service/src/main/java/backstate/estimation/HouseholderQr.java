@@ -27,9 +27,9 @@ final class HouseholderQr {
         }
     }
 
-    /** R, cols×cols row-major upper triangular. */
+    /** R, cols×cols row-major upper triangular: the factor's own array, which callers must not write. */
     double[] r() {
-        return r.clone();
+        return r;
     }
 
     /**
