@@ -35,11 +35,15 @@ final class JobRunner {
         this.abandoned = abandoned;
     }
 
-    void run(ClaimedJob job) {
+    /**
+     * @param handled called once the handler has returned or thrown, before the outcome is
+     *                written: the handler's slot is free for the next job from then on
+     */
+    void run(ClaimedJob job, Runnable handled) {
         Instant claimedAt = clock.instant();
         String outcome = JobMetrics.LOST;
         try {
-            outcome = handleAndRecord(job);
+            outcome = handleAndRecord(job, handled);
         } catch (RuntimeException e) {
             LOG.warn("job {} attempt {}: outcome not recorded; left running for rescue", job.id(), job.attempt(), e);
         } finally {
@@ -47,13 +51,15 @@ final class JobRunner {
         }
     }
 
-    private String handleAndRecord(ClaimedJob job) {
+    private String handleAndRecord(ClaimedJob job, Runnable handled) {
         JobOutcome outcome;
         try {
             outcome = handler.handle(job);
         } catch (Exception e) {
+            handled.run();
             return recordException(job, e);
         }
+        handled.run();
         if (outcome instanceof JobOutcome.Succeeded success) {
             return recordSuccess(job, success);
         }

@@ -20,8 +20,17 @@ import org.slf4j.LoggerFactory;
 /**
  * Runs queued jobs on a fixed number of worker threads.
  *
- * <p>One dispatcher thread claims as many jobs as there are free workers, in one
- * {@link JobQueue#claimNext} call, and hands them to the workers. It sleeps for {@code idlePoll}
+ * <p>{@code workers} handlers run at once. Each worker slot may have up to
+ * {@link #JOBS_IN_FLIGHT_PER_WORKER} jobs in flight: one in its handler, the others done and
+ * waiting for their outcome to be written. Outcomes are committed in batches
+ * ({@code store.SqliteWriter}), and a write can wait tens of milliseconds behind a batch of trace
+ * posts, so a worker that waited for its own write before taking the next job left a core idle
+ * for most of each job; now the next job's handler runs while the earlier outcome waits, and the
+ * waiting outcomes share a commit. A job is claimed only when a handler slot is free for it, so
+ * "running" still means solving or recording, never waiting for a slot.
+ *
+ * <p>One dispatcher thread claims as many jobs as there are free handler slots (and threads), in
+ * one {@link JobQueue#claimNext} call, and hands them to the workers. It sleeps for {@code idlePoll}
  * when the queue is empty or every worker is busy, and wakes early when a worker finishes or
  * {@link #wake()} is called after an enqueue. Every {@code stuckAfter / 4} it also rescues jobs
  * running longer than {@code stuckAfter} (a hung handler): their late results are refused by the
@@ -35,6 +44,8 @@ public final class WorkerPool implements AutoCloseable {
     public static final Duration DEFAULT_SHUTDOWN_GRACE = Duration.ofSeconds(20);
     /** Far longer than any estimation should run: a job running this long is taken to be hung. */
     public static final Duration DEFAULT_STUCK_AFTER = Duration.ofHours(1);
+    /** Jobs in flight per handler slot: one in the handler, the rest waiting for their outcome's write. */
+    static final int JOBS_IN_FLIGHT_PER_WORKER = 4;
     /** A hung job is rescued at most a quarter of stuckAfter late. */
     private static final int RESCUE_CHECKS_PER_STUCK_WINDOW = 4;
 
@@ -48,7 +59,10 @@ public final class WorkerPool implements AutoCloseable {
     private final Duration stuckAfter;
     private final Duration rescueInterval;
     private final JobMetrics metrics;
-    private final Semaphore freeWorkers;
+    /** Handler slots: at most {@code workers} handlers run at once (CPU and memory stay as configured). */
+    private final Semaphore freeHandlers;
+    /** Threads: a job holds one from its claim until its outcome is written. */
+    private final Semaphore freeThreads;
     private final ExecutorService workers;
     private final Thread dispatcher;
     private final AtomicBoolean started = new AtomicBoolean();
@@ -78,8 +92,9 @@ public final class WorkerPool implements AutoCloseable {
         this.shutdownGrace = shutdownGrace;
         this.stuckAfter = stuckAfter;
         this.rescueInterval = stuckAfter.dividedBy(RESCUE_CHECKS_PER_STUCK_WINDOW);
-        this.freeWorkers = new Semaphore(workers);
-        this.workers = Executors.newFixedThreadPool(workers, namedDaemons("backstate-worker-"));
+        this.freeHandlers = new Semaphore(workers);
+        this.freeThreads = new Semaphore(workers * JOBS_IN_FLIGHT_PER_WORKER);
+        this.workers = Executors.newFixedThreadPool(workers * JOBS_IN_FLIGHT_PER_WORKER, namedDaemons("backstate-worker-"));
         this.dispatcher = namedDaemons("backstate-dispatcher-").newThread(this::dispatchUntilStopped);
         this.metrics = new JobMetrics(registry, q);
         this.runner = new JobRunner(q, h, clock, metrics, () -> abandoned);
@@ -132,15 +147,17 @@ public final class WorkerPool implements AutoCloseable {
         }
     }
 
-    /** Claims up to one job per free worker; returns how many were claimed. */
+    /** Claims up to one job per free handler slot (and thread); returns how many were claimed. */
     private int claimAndDispatch() {
-        int free = freeWorkers.availablePermits(); // only this thread takes permits, so they stay free
+        // Only this thread takes permits, so those counted here stay free.
+        int free = Math.min(freeHandlers.availablePermits(), freeThreads.availablePermits());
         if (free == 0) {
             return 0;
         }
         List<ClaimedJob> claimed = claimOrNothing(free);
         for (ClaimedJob job : claimed) {
-            freeWorkers.acquireUninterruptibly();
+            freeHandlers.acquireUninterruptibly();
+            freeThreads.acquireUninterruptibly();
             dispatch(job);
         }
         return claimed.size();
@@ -159,7 +176,8 @@ public final class WorkerPool implements AutoCloseable {
         try {
             workers.execute(() -> runAndFreeWorker(job));
         } catch (RejectedExecutionException e) {
-            freeWorkers.release();
+            freeHandlers.release();
+            freeThreads.release();
             LOG.warn("job {} claimed while shutting down; left running for rescue", job.id());
         }
     }
@@ -176,10 +194,18 @@ public final class WorkerPool implements AutoCloseable {
     }
 
     private void runAndFreeWorker(ClaimedJob job) {
+        AtomicBoolean handlerHeld = new AtomicBoolean(true);
+        Runnable freeHandler = () -> {
+            if (handlerHeld.getAndSet(false)) {
+                freeHandlers.release();
+                wake();
+            }
+        };
         try {
-            runner.run(job);
+            runner.run(job, freeHandler);
         } finally {
-            freeWorkers.release();
+            freeHandler.run();
+            freeThreads.release();
             wake();
         }
     }
