@@ -1,27 +1,54 @@
 package backstate.formats;
 
 import java.io.IOException;
-import java.io.Reader;
+import java.io.InputStream;
+import java.nio.charset.StandardCharsets;
 import java.util.ArrayList;
+import java.util.Arrays;
 import java.util.List;
 
 /**
- * Streams records from RFC 4180 CSV text: comma separated, optional double quotes with "" as an
- * escaped quote, CRLF or LF line ends. Holds one record at a time.
+ * Streams records from RFC 4180 CSV text in UTF-8: comma separated, optional double quotes with
+ * "" as an escaped quote, CRLF, LF or CR line ends. Holds one record at a time.
+ *
+ * <p>Works on bytes, read in blocks: the structural characters (comma, quote, CR, LF) are ASCII,
+ * and no UTF-8 sequence contains an ASCII byte, so records split the same as over decoded text.
+ * A field's bytes are kept as they are (after unquoting) and decoded only when asked for as text
+ * ({@link #text}) — the numeric cells of a trace never become Strings. Malformed UTF-8 decodes to
+ * U+FFFD, as the decoding reader this replaces did, and field lengths are counted in decoded
+ * characters.
  */
 final class CsvRecords {
     /** Longest field accepted; numbers and names are far shorter, so a longer one is hostile input. */
     static final int MAX_FIELD_LENGTH = 256;
+    /** A UTF-8 sequence (well-formed or not) decodes to at least one char per 4 bytes, so more bytes than this are too long. */
+    private static final int MAX_FIELD_BYTES = 4 * MAX_FIELD_LENGTH;
+    private static final int BLOCK_BYTES = 64 * 1024;
+    private static final int EOF = -1;
 
-    private final Reader reader;
+    private final InputStream in;
     private final int maxFields;
+    private final byte[] block = new byte[BLOCK_BYTES];
+    private int position;
+    private int filled;
+    private boolean ended;
     private long line = 1;
     private long recordLine = 1;
-    private int peeked = -2;
 
-    CsvRecords(Reader reader, int maxFields) {
-        this.reader = reader;
+    /** The current record's fields, unquoted, back to back in {@code content}. */
+    private byte[] content = new byte[256];
+    private int contentLength;
+    private final int[] starts;
+    private final int[] ends;
+    private final boolean[] ascii;
+    private int fields;
+
+    CsvRecords(InputStream in, int maxFields) {
+        this.in = in;
         this.maxFields = maxFields;
+        this.starts = new int[maxFields];
+        this.ends = new int[maxFields];
+        this.ascii = new boolean[maxFields];
     }
 
     /** Line number where the record last returned started. */
@@ -29,105 +56,183 @@ final class CsvRecords {
         return recordLine;
     }
 
-    /** The next record, or null at the end of input. A blank line ends nothing and is skipped. */
-    List<String> next() throws IOException {
+    /** Reads the next record; false at the end of input. A blank line ends nothing and is skipped. */
+    boolean next() throws IOException {
         while (true) {
             int c = read();
-            if (c == -1) {
-                return null;
+            if (c == EOF) {
+                return false;
             }
             if (c == '\r' || c == '\n') {
                 consumeLineEnd(c);
                 continue;
             }
-            unread(c);
+            position--; // the byte just read, still in the block
             recordLine = line;
-            return record();
+            record();
+            return true;
         }
     }
 
-    private List<String> record() throws IOException {
-        List<String> fields = new ArrayList<>();
-        StringBuilder field = new StringBuilder();
+    /** Fields in the current record. */
+    int size() {
+        return fields;
+    }
+
+    /** Field i decoded (malformed UTF-8 as U+FFFD). */
+    String text(int i) {
+        return new String(content, starts[i], ends[i] - starts[i], StandardCharsets.UTF_8);
+    }
+
+    /** Every field of the current record, decoded. */
+    List<String> texts() {
+        List<String> out = new ArrayList<>(fields);
+        for (int i = 0; i < fields; i++) {
+            out.add(text(i));
+        }
+        return out;
+    }
+
+    /** True when field i is pure ASCII, so its bytes are its characters. */
+    boolean isAscii(int i) {
+        return ascii[i];
+    }
+
+    /** The bytes behind every field; field i is {@code [start(i), end(i))}. */
+    byte[] bytes() {
+        return content;
+    }
+
+    int start(int i) {
+        return starts[i];
+    }
+
+    int end(int i) {
+        return ends[i];
+    }
+
+    private void record() throws IOException {
+        fields = 0;
+        contentLength = 0;
+        int fieldStart = 0;
+        boolean fieldAscii = true;
         boolean quoted = false;
         boolean wasQuoted = false;
         while (true) {
             int c = read();
             if (quoted) {
-                if (c == -1) {
+                if (c == EOF) {
+                    requireLength(fieldStart, fieldAscii);
                     throw new InputException("line " + line, "got end of input inside a quoted field, expected a closing quote");
                 }
                 if (c == '"') {
-                    int after = read();
-                    if (after == '"') {
-                        append(field, '"');
+                    if (peek() == '"') {
+                        position++;
+                        fieldAscii = append(fieldStart, fieldAscii, '"');
                         continue;
                     }
-                    unread(after);
                     quoted = false;
                     continue;
                 }
-                append(field, (char) c);
+                fieldAscii = append(fieldStart, fieldAscii, c);
                 continue;
             }
-            if (c == '"' && field.length() == 0 && !wasQuoted) {
+            if (c == '"' && contentLength == fieldStart && !wasQuoted) {
                 quoted = true;
                 wasQuoted = true;
                 continue;
             }
-            if (c == ',' || c == '\r' || c == '\n' || c == -1) {
-                addField(fields, field.toString());
-                field.setLength(0);
+            if (c == ',' || c == '\r' || c == '\n' || c == EOF) {
+                endField(fieldStart, fieldAscii);
+                fieldStart = contentLength;
+                fieldAscii = true;
                 wasQuoted = false;
                 if (c == ',') {
                     continue;
                 }
-                if (c != -1) {
+                if (c != EOF) {
                     consumeLineEnd(c);
                 }
-                return fields;
+                return;
             }
             if (wasQuoted) {
+                requireLength(fieldStart, fieldAscii);
                 throw new InputException("line " + line, "got text after a closing quote, expected a comma or line end");
             }
-            append(field, (char) c);
+            fieldAscii = append(fieldStart, fieldAscii, c);
         }
     }
 
-    private void addField(List<String> fields, String value) {
-        if (fields.size() == maxFields) {
+    /** Adds a byte to the field begun at fieldStart; returns whether the field is still ASCII. */
+    private boolean append(int fieldStart, boolean fieldAscii, int c) {
+        int length = contentLength - fieldStart;
+        boolean stillAscii = fieldAscii && c < 0x80;
+        // An ASCII field is as long as its bytes; otherwise the bytes only bound the characters.
+        if (stillAscii ? length == MAX_FIELD_LENGTH : length == MAX_FIELD_BYTES) {
+            throw tooLong();
+        }
+        if (contentLength == content.length) {
+            content = Arrays.copyOf(content, content.length * 2);
+        }
+        content[contentLength++] = (byte) c;
+        return stillAscii;
+    }
+
+    private void endField(int fieldStart, boolean fieldAscii) {
+        requireLength(fieldStart, fieldAscii);
+        if (fields == maxFields) {
             throw new InputException("line " + line, "got more than " + maxFields + " fields, expected at most " + maxFields);
         }
-        fields.add(value);
+        starts[fields] = fieldStart;
+        ends[fields] = contentLength;
+        ascii[fields] = fieldAscii;
+        fields++;
     }
 
-    private void append(StringBuilder field, char c) {
-        if (field.length() == MAX_FIELD_LENGTH) {
-            throw new InputException("line " + line, "got a field longer than " + MAX_FIELD_LENGTH + " characters");
+    /** A non-ASCII field's length in characters is known once its bytes are complete. */
+    private void requireLength(int fieldStart, boolean fieldAscii) {
+        if (!fieldAscii && new String(content, fieldStart, contentLength - fieldStart, StandardCharsets.UTF_8).length()
+                > MAX_FIELD_LENGTH) {
+            throw tooLong();
         }
-        field.append(c);
+    }
+
+    private InputException tooLong() {
+        return new InputException("line " + line, "got a field longer than " + MAX_FIELD_LENGTH + " characters");
     }
 
     private void consumeLineEnd(int c) throws IOException {
-        if (c == '\r') {
-            int after = read();
-            if (after != '\n') {
-                unread(after);
-            }
+        if (c == '\r' && peek() == '\n') {
+            position++;
         }
         line++;
     }
 
     private int read() throws IOException {
-        if (peeked != -2) {
-            int c = peeked;
-            peeked = -2;
-            return c;
+        if (position == filled && !fill()) {
+            return EOF;
         }
-        return reader.read();
+        return block[position++] & 0xFF;
     }
 
-    private void unread(int c) {
-        peeked = c;
+    private int peek() throws IOException {
+        if (position == filled && !fill()) {
+            return EOF;
+        }
+        return block[position] & 0xFF;
+    }
+
+    private boolean fill() throws IOException {
+        while (!ended) {
+            int n = in.read(block, 0, block.length);
+            if (n < 0) {
+                ended = true;
+            } else if (n > 0) {
+                position = 0;
+                filled = n;
+                return true;
+            }
+        }
+        return false;
     }
 }

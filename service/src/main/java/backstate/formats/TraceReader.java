@@ -7,11 +7,8 @@ import com.fasterxml.jackson.core.StreamReadConstraints;
 import com.fasterxml.jackson.core.exc.StreamConstraintsException;
 import com.fasterxml.jackson.core.JsonProcessingException;
 import com.fasterxml.jackson.databind.ObjectMapper;
-import java.io.BufferedReader;
 import java.io.IOException;
 import java.io.InputStream;
-import java.io.InputStreamReader;
-import java.nio.charset.StandardCharsets;
 import java.util.List;
 import java.util.regex.Pattern;
 
@@ -75,26 +72,30 @@ public final class TraceReader {
     public ParsedTrace readCsv(InputStream body, ModelDocument model, TraceOptions options) throws IOException {
         TraceColumns columns = new TraceColumns(model, limits);
         int maxFields = 1 + model.outputs().size() + model.inputsOrEmpty().size();
-        CsvRecords records = new CsvRecords(new BufferedReader(new InputStreamReader(body, StandardCharsets.UTF_8)), maxFields);
-        List<String> header = records.next();
-        if (header == null) {
+        CsvRecords records = new CsvRecords(body, maxFields);
+        if (!records.next()) {
             throw new InputException("header", "got an empty body, expected a header row: time, then channel names");
         }
+        List<String> header = records.texts();
         DoubleColumn[] targets = headerTargets(header, columns);
-        List<String> row;
-        while ((row = records.next()) != null) {
-            if (row.size() != targets.length) {
-                throw new InputException("line " + records.line(), "got " + row.size() + " fields, expected " + targets.length);
+        String[] names = new String[targets.length];
+        boolean[] missingAllowed = new boolean[targets.length];
+        for (int i = 0; i < targets.length; i++) {
+            names[i] = header.get(i).trim();
+            missingAllowed[i] = targets[i] != columns.time() && columns.isOutput(names[i]);
+        }
+        while (records.next()) {
+            if (records.size() != targets.length) {
+                throw new InputException("line " + records.line(), "got " + records.size() + " fields, expected " + targets.length);
             }
             for (int i = 0; i < targets.length; i++) {
-                boolean missingAllowed = targets[i] != columns.time() && columns.isOutput(header.get(i).trim());
-                targets[i].add(csvNumber(row.get(i), "line " + records.line() + ", column " + header.get(i).trim(), missingAllowed));
+                targets[i].add(csvNumber(records, i, names[i], missingAllowed[i]));
             }
         }
         return new ParsedTrace(columns.assemble(), options);
     }
 
-    private static DoubleColumn[] headerTargets(List<String> header, TraceColumns columns) {
+    static DoubleColumn[] headerTargets(List<String> header, TraceColumns columns) {
         DoubleColumn[] targets = new DoubleColumn[header.size()];
         boolean sawTime = false;
         for (int i = 0; i < header.size(); i++) {
@@ -118,7 +119,36 @@ public final class TraceReader {
         return targets;
     }
 
-    private static double csvNumber(String text, String field, boolean missingAllowed) {
+    /**
+     * Cell i of the current record. An ASCII cell holding a short plain decimal (nearly every
+     * cell) is read from its bytes; anything else goes through {@link #csvNumber(String, String, boolean)},
+     * which decides and words the answer, so both paths accept, refuse and read alike.
+     */
+    private static double csvNumber(CsvRecords records, int i, String column, boolean missingAllowed) {
+        if (records.isAscii(i)) {
+            byte[] bytes = records.bytes();
+            int from = records.start(i);
+            int to = records.end(i);
+            // String.trim's rule: drop characters up to U+0020 at both ends.
+            while (from < to && (bytes[from] & 0xFF) <= ' ') {
+                from++;
+            }
+            while (to > from && (bytes[to - 1] & 0xFF) <= ' ') {
+                to--;
+            }
+            if (from == to && missingAllowed) {
+                return Double.NaN;
+            }
+            double v = PlainDecimal.parse(bytes, from, to);
+            if (!Double.isNaN(v)) {
+                return v;
+            }
+        }
+        return csvNumber(records.text(i), "line " + records.line() + ", column " + column, missingAllowed);
+    }
+
+    /** The general path for one cell: any text, decided by the {@code DECIMAL} pattern and {@code parseDouble}. */
+    static double csvNumber(String text, String field, boolean missingAllowed) {
         String s = text.trim();
         if (s.isEmpty()) {
             if (missingAllowed) {

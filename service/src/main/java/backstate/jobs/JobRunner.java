@@ -3,6 +3,7 @@ package backstate.jobs;
 import java.time.Clock;
 import java.time.Duration;
 import java.time.Instant;
+import java.util.concurrent.Semaphore;
 import java.util.function.BooleanSupplier;
 import org.slf4j.Logger;
 import org.slf4j.LoggerFactory;
@@ -12,6 +13,9 @@ import org.slf4j.LoggerFactory;
  * it holds: {@link JobOutcome.Succeeded} completes the job with its estimate,
  * {@link JobOutcome.Failed} fails it for good, and an exception retries it until the queue's
  * attempts run out. An {@link Error} is not caught: the job stays running until rescued.
+ *
+ * <p>The handler runs inside one of a fixed number of handler slots, taken after the claim and
+ * given back before the outcome is written, so the next job's handler need not wait for it.
  */
 final class JobRunner {
 
@@ -22,17 +26,21 @@ final class JobRunner {
     private final Clock clock;
     private final JobMetrics metrics;
     private final BooleanSupplier abandoned;
+    private final Semaphore handlerSlots;
 
     /**
      * @param abandoned true once the pool has stopped waiting for its workers: a failure seen
      *                  after that (an interrupt, most likely) is left for rescue, not recorded
+     * @param handlerSlots how many handlers may run at once, shared by every thread running jobs
      */
-    JobRunner(JobQueue queue, JobHandler handler, Clock clock, JobMetrics metrics, BooleanSupplier abandoned) {
+    JobRunner(JobQueue queue, JobHandler handler, Clock clock, JobMetrics metrics, BooleanSupplier abandoned,
+              Semaphore handlerSlots) {
         this.queue = queue;
         this.handler = handler;
         this.clock = clock;
         this.metrics = metrics;
         this.abandoned = abandoned;
+        this.handlerSlots = handlerSlots;
     }
 
     void run(ClaimedJob job) {
@@ -48,11 +56,24 @@ final class JobRunner {
     }
 
     private String handleAndRecord(ClaimedJob job) {
-        JobOutcome outcome;
+        try {
+            handlerSlots.acquire();
+        } catch (InterruptedException e) {
+            Thread.currentThread().interrupt(); // stopping: the job stays running until rescued
+            LOG.info("job {} attempt {}: stopped before its handler ran; left running for rescue", job.id(), job.attempt());
+            return JobMetrics.LOST;
+        }
+        JobOutcome outcome = null;
+        Exception failure = null;
         try {
             outcome = handler.handle(job);
         } catch (Exception e) {
-            return recordException(job, e);
+            failure = e;
+        } finally {
+            handlerSlots.release(); // before the outcome's write, which may wait behind a batch
+        }
+        if (failure != null) {
+            return recordException(job, failure);
         }
         if (outcome instanceof JobOutcome.Succeeded success) {
             return recordSuccess(job, success);

@@ -20,7 +20,17 @@ import org.slf4j.LoggerFactory;
 /**
  * Runs queued jobs on a fixed number of worker threads.
  *
- * <p>One dispatcher thread claims as many jobs as there are free workers, in one
+ * <p>{@code workers} handlers run at once, and up to {@link #JOBS_IN_FLIGHT_PER_WORKER} times as
+ * many jobs are in flight: claimed and waiting for a handler slot, in a handler, or done and
+ * waiting for their outcome to be written. Claims and outcomes are committed in batches
+ * ({@code store.SqliteWriter}), and under a flood of trace posts each such write waits tens of
+ * milliseconds behind the batch under way; a worker that claimed one job at a time and waited
+ * for its own write before taking the next left its core idle for most of each job. Now a claim
+ * brings several jobs, the next handler runs while earlier outcomes wait, and the waiting writes
+ * share a commit. "running" therefore means claimed by this process: a job may wait there for a
+ * handler slot, behind at most {@code JOBS_IN_FLIGHT_PER_WORKER - 1} others per slot.
+ *
+ * <p>One dispatcher thread claims as many jobs as there are free threads, in one
  * {@link JobQueue#claimNext} call, and hands them to the workers. It sleeps for {@code idlePoll}
  * when the queue is empty or every worker is busy, and wakes early when a worker finishes or
  * {@link #wake()} is called after an enqueue. Every {@code stuckAfter / 4} it also rescues jobs
@@ -35,6 +45,8 @@ public final class WorkerPool implements AutoCloseable {
     public static final Duration DEFAULT_SHUTDOWN_GRACE = Duration.ofSeconds(20);
     /** Far longer than any estimation should run: a job running this long is taken to be hung. */
     public static final Duration DEFAULT_STUCK_AFTER = Duration.ofHours(1);
+    /** Jobs in flight per handler slot: claimed and waiting for the slot, in the handler, or waiting for their outcome's write. */
+    static final int JOBS_IN_FLIGHT_PER_WORKER = 4;
     /** A hung job is rescued at most a quarter of stuckAfter late. */
     private static final int RESCUE_CHECKS_PER_STUCK_WINDOW = 4;
 
@@ -48,7 +60,8 @@ public final class WorkerPool implements AutoCloseable {
     private final Duration stuckAfter;
     private final Duration rescueInterval;
     private final JobMetrics metrics;
-    private final Semaphore freeWorkers;
+    /** Threads: a job holds one from its claim until its outcome is written. */
+    private final Semaphore freeThreads;
     private final ExecutorService workers;
     private final Thread dispatcher;
     private final AtomicBoolean started = new AtomicBoolean();
@@ -78,11 +91,12 @@ public final class WorkerPool implements AutoCloseable {
         this.shutdownGrace = shutdownGrace;
         this.stuckAfter = stuckAfter;
         this.rescueInterval = stuckAfter.dividedBy(RESCUE_CHECKS_PER_STUCK_WINDOW);
-        this.freeWorkers = new Semaphore(workers);
-        this.workers = Executors.newFixedThreadPool(workers, namedDaemons("backstate-worker-"));
+        this.freeThreads = new Semaphore(workers * JOBS_IN_FLIGHT_PER_WORKER);
+        this.workers = Executors.newFixedThreadPool(workers * JOBS_IN_FLIGHT_PER_WORKER, namedDaemons("backstate-worker-"));
         this.dispatcher = namedDaemons("backstate-dispatcher-").newThread(this::dispatchUntilStopped);
         this.metrics = new JobMetrics(registry, q);
-        this.runner = new JobRunner(q, h, clock, metrics, () -> abandoned);
+        // Handler slots: at most `workers` handlers run at once, so CPU and memory stay as configured.
+        this.runner = new JobRunner(q, h, clock, metrics, () -> abandoned, new Semaphore(workers));
     }
 
     public void start() {
@@ -132,15 +146,15 @@ public final class WorkerPool implements AutoCloseable {
         }
     }
 
-    /** Claims up to one job per free worker; returns how many were claimed. */
+    /** Claims up to one job per free thread; returns how many were claimed. */
     private int claimAndDispatch() {
-        int free = freeWorkers.availablePermits(); // only this thread takes permits, so they stay free
+        int free = freeThreads.availablePermits(); // only this thread takes permits, so they stay free
         if (free == 0) {
             return 0;
         }
         List<ClaimedJob> claimed = claimOrNothing(free);
         for (ClaimedJob job : claimed) {
-            freeWorkers.acquireUninterruptibly();
+            freeThreads.acquireUninterruptibly();
             dispatch(job);
         }
         return claimed.size();
@@ -159,7 +173,7 @@ public final class WorkerPool implements AutoCloseable {
         try {
             workers.execute(() -> runAndFreeWorker(job));
         } catch (RejectedExecutionException e) {
-            freeWorkers.release();
+            freeThreads.release();
             LOG.warn("job {} claimed while shutting down; left running for rescue", job.id());
         }
     }
@@ -179,7 +193,7 @@ public final class WorkerPool implements AutoCloseable {
         try {
             runner.run(job);
         } finally {
-            freeWorkers.release();
+            freeThreads.release();
             wake();
         }
     }

@@ -28,7 +28,8 @@ import org.sqlite.SQLiteDataSource;
  *
  * <p>Every connection is opened with the same pragmas: WAL journal, {@code synchronous=FULL}
  * (a commit survives power loss, not just a crash), foreign keys on, and a busy timeout for
- * locks held by other processes. Read connections also set {@code query_only}.
+ * locks held by other processes. Read connections also set {@code query_only}. Checkpoints run
+ * on a connection and thread of their own ({@link WalCheckpoints}), not in the writer's commits.
  */
 final class SqliteConnections implements AutoCloseable {
 
@@ -37,6 +38,7 @@ final class SqliteConnections implements AutoCloseable {
 
     private final SQLiteDataSource dataSource;
     private final SqliteWriter writer;
+    private final WalCheckpoints checkpoints;
     private final List<Connection> allReaders = new ArrayList<>();
     private final BlockingQueue<Connection> idleReaders;
     private volatile boolean closed;
@@ -46,18 +48,24 @@ final class SqliteConnections implements AutoCloseable {
         dataSource.setUrl("jdbc:sqlite:" + file.toAbsolutePath());
         this.idleReaders = new ArrayBlockingQueue<>(settings.readConnections());
         Connection writerConnection = null;
+        WalCheckpoints checkpointer = null;
         try {
-            writerConnection = writerDecorator.apply(dataSource.getConnection());
+            Connection raw = dataSource.getConnection();
+            writerConnection = raw;
+            WalCheckpoints.raiseWriterThreshold(raw);
+            writerConnection = writerDecorator.apply(raw);
             for (int i = 0; i < settings.readConnections(); i++) {
                 Connection reader = openReader();
                 allReaders.add(reader);
                 idleReaders.add(reader);
             }
+            checkpointer = new WalCheckpoints(dataSource, WalCheckpoints.DEFAULT_INTERVAL);
         } catch (SQLException e) {
             closeQuietly(writerConnection);
             allReaders.forEach(SqliteConnections::closeQuietly);
             throw SqliteErrors.translate(e);
         }
+        this.checkpoints = checkpointer;
         this.writer = new SqliteWriter(writerConnection);
     }
 
@@ -100,6 +108,7 @@ final class SqliteConnections implements AutoCloseable {
             return;
         }
         closed = true;
+        checkpoints.close();
         writer.close();
         awaitBorrowedReaders();
         allReaders.forEach(SqliteConnections::closeQuietly);

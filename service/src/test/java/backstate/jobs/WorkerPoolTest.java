@@ -97,6 +97,70 @@ class WorkerPoolTest {
     }
 
     @Test
+    void the_next_job_is_solved_while_an_earlier_outcome_waits_for_its_write() throws Exception {
+        Submission first = submit("unit-1");
+        Submission second = submit("unit-2");
+        CountDownLatch aWriteStarted = new CountDownLatch(1);
+        CountDownLatch releaseWrites = new CountDownLatch(1);
+        CountDownLatch bothHandled = new CountDownLatch(2);
+        JobQueue slowWrites = new HeldOutcomes(store, aWriteStarted, releaseWrites);
+        JobHandler handler = job -> {
+            bothHandled.countDown();
+            return new JobOutcome.Succeeded(estimateFor(store.findTrace(job.traceId()).orElseThrow()), "{}");
+        };
+
+        try (WorkerPool pool = new WorkerPool(slowWrites, handler, 1, fx.clock, IDLE_POLL, registry,
+                WorkerPool.DEFAULT_SHUTDOWN_GRACE, STUCK_AFTER)) {
+            pool.start();
+            assertTrue(aWriteStarted.await(HANG_GUARD_SECONDS, SECONDS));
+            // One worker, and the first outcome is not written yet: the other job is solved anyway.
+            assertTrue(bothHandled.await(HANG_GUARD_SECONDS, SECONDS), "the second job waited for the first one's write");
+            assertEquals(2, fx.count("SELECT COUNT(*) FROM jobs WHERE state = 'running'"));
+            releaseWrites.countDown();
+            awaitSucceeded(2);
+        }
+        assertEquals("succeeded", store.findJob(first.jobId()).orElseThrow().state());
+        assertEquals("succeeded", store.findJob(second.jobId()).orElseThrow().state());
+        assertEquals(2, fx.rows("estimates"));
+    }
+
+    @Test
+    void handlers_stay_within_the_workers_and_jobs_in_flight_within_their_bound() throws Exception {
+        int workers = 2;
+        int inFlight = workers * WorkerPool.JOBS_IN_FLIGHT_PER_WORKER;
+        int jobs = inFlight + 4;
+        for (int i = 0; i < jobs; i++) {
+            submit("unit-" + i);
+        }
+        CountDownLatch releaseWrites = new CountDownLatch(1);
+        CountDownLatch inFlightHandled = new CountDownLatch(inFlight);
+        AtomicInteger running = new AtomicInteger();
+        AtomicInteger mostAtOnce = new AtomicInteger();
+        JobHandler handler = job -> {
+            mostAtOnce.accumulateAndGet(running.incrementAndGet(), Math::max);
+            try {
+                return new JobOutcome.Succeeded(estimateFor(store.findTrace(job.traceId()).orElseThrow()), "{}");
+            } finally {
+                running.decrementAndGet();
+                inFlightHandled.countDown();
+            }
+        };
+
+        try (WorkerPool pool = new WorkerPool(new HeldOutcomes(store, new CountDownLatch(1), releaseWrites), handler, workers,
+                fx.clock, IDLE_POLL, registry, WorkerPool.DEFAULT_SHUTDOWN_GRACE, STUCK_AFTER)) {
+            pool.start();
+            assertTrue(inFlightHandled.await(HANG_GUARD_SECONDS, SECONDS));
+            // Every thread now holds a solved job whose write is held: nothing more can be claimed.
+            assertEquals(inFlight, fx.count("SELECT COUNT(*) FROM jobs WHERE state = 'running'"));
+            assertEquals(jobs - inFlight, fx.count("SELECT COUNT(*) FROM jobs WHERE state = 'queued'"));
+            releaseWrites.countDown();
+            awaitSucceeded(jobs);
+        }
+        assertTrue(mostAtOnce.get() <= workers, "handlers at once: " + mostAtOnce.get());
+        assertEquals(jobs, fx.rows("estimates"));
+    }
+
+    @Test
     void a_job_that_keeps_throwing_is_retried_then_failed_with_every_error() throws Exception {
         Submission s = submit("unit-1");
         CountDownLatch threeRuns = new CountDownLatch(3);
@@ -207,6 +271,66 @@ class WorkerPoolTest {
         assertEquals(2.0, registry.get(JobMetrics.QUEUE_DEPTH).gauge().value());
         pool.close();
         assertEquals(List.of(), registry.find(JobMetrics.QUEUE_DEPTH).gauges().stream().toList());
+    }
+
+    /** Polls until the jobs have all succeeded; bounded, a guard against a hang. */
+    private void awaitSucceeded(int jobs) throws Exception {
+        long deadline = System.nanoTime() + SECONDS.toNanos(HANG_GUARD_SECONDS);
+        while (fx.count("SELECT COUNT(*) FROM jobs WHERE state = 'succeeded'") < jobs && System.nanoTime() < deadline) {
+            Thread.sleep(IDLE_POLL.toMillis());
+        }
+        assertEquals(jobs, fx.count("SELECT COUNT(*) FROM jobs WHERE state = 'succeeded'"));
+    }
+
+    /** The store as a queue whose completions wait until released (a write stuck behind a batch). */
+    private record HeldOutcomes(SqliteStore store, CountDownLatch writeStarted, CountDownLatch release) implements JobQueue {
+        @Override
+        public boolean completeIfRunning(String jobId, int attempt, NewEstimate estimateOrNull, String resultJsonOrNull,
+                                         java.time.Instant now) {
+            writeStarted.countDown();
+            try {
+                assertTrue(release.await(HANG_GUARD_SECONDS, SECONDS));
+            } catch (InterruptedException e) {
+                Thread.currentThread().interrupt();
+                throw new IllegalStateException(e);
+            }
+            return store.completeIfRunning(jobId, attempt, estimateOrNull, resultJsonOrNull, now);
+        }
+
+        @Override
+        public List<ClaimedJob> claimNext(int limit, java.time.Instant now) {
+            return store.claimNext(limit, now);
+        }
+
+        @Override
+        public boolean failIfRunning(String jobId, int attempt, String error, java.time.Instant now) {
+            return store.failIfRunning(jobId, attempt, error, now);
+        }
+
+        @Override
+        public boolean retryIfRunning(String jobId, int attempt, String error, java.time.Instant now) {
+            return store.retryIfRunning(jobId, attempt, error, now);
+        }
+
+        @Override
+        public boolean reportProgress(String jobId, int attempt, int done, int total) {
+            return store.reportProgress(jobId, attempt, done, total);
+        }
+
+        @Override
+        public int rescueStuck(java.time.Instant startedBefore) {
+            return store.rescueStuck(startedBefore);
+        }
+
+        @Override
+        public int queuedCount() {
+            return store.queuedCount();
+        }
+
+        @Override
+        public String enqueue(String kind, String traceIdOrNull, String paramsJsonOrNull, java.time.Instant now) {
+            return store.enqueue(kind, traceIdOrNull, paramsJsonOrNull, now);
+        }
     }
 
     private WorkerPool pool(JobHandler handler, int workers, Duration grace) {

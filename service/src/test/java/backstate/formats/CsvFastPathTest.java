@@ -1,0 +1,327 @@
+package backstate.formats;
+
+import static org.junit.jupiter.api.Assertions.assertArrayEquals;
+import static org.junit.jupiter.api.Assertions.assertEquals;
+import static org.junit.jupiter.api.Assertions.assertThrows;
+import static org.junit.jupiter.api.Assertions.assertTrue;
+
+import java.io.ByteArrayInputStream;
+import java.io.ByteArrayOutputStream;
+import java.io.IOException;
+import java.io.InputStream;
+import java.io.UncheckedIOException;
+import java.nio.charset.StandardCharsets;
+import java.nio.file.Files;
+import java.nio.file.Path;
+import java.util.Arrays;
+import java.util.List;
+import java.util.Locale;
+import net.jqwik.api.Arbitraries;
+import net.jqwik.api.Arbitrary;
+import net.jqwik.api.Example;
+import net.jqwik.api.ForAll;
+import net.jqwik.api.Property;
+import net.jqwik.api.Provide;
+
+/**
+ * The byte-level CSV path ({@link CsvRecords}, {@link PlainDecimal}) against the reader it
+ * replaced ({@link ReferenceCsvReader}, kept as the oracle): the same traces, bit for bit, and
+ * the same refusals, word for word — for the corners one by one, and for generated bodies.
+ */
+class CsvFastPathTest {
+    static final String HEADER = "time,return_air,supply_air,cooling_power,ambient\n";
+    static final ModelDocument MODEL = reeferModel();
+
+    // ---- corners, with the values they must give
+
+    @Example
+    void plain_rows_are_read_exactly() {
+        ParsedTrace t = read(HEADER + "0,2.7,-0.7,6.4,27.1\n60,2.65,-0.75,6.4,27.05\n");
+        assertArrayEquals(new double[] {0, 60}, times(t));
+        assertEquals(2.65, t.trace().output(1, 0));
+        assertEquals(-0.75, t.trace().output(1, 1));
+        assertEquals(27.05, t.trace().input(1, 1));
+    }
+
+    @Example
+    void quoted_fields_crlf_and_blank_lines_read_as_before() {
+        String csv = "\"time\",\"return_air\",supply_air,cooling_power,ambient\r\n\r\n"
+                + "\"0\",\" 2.5 \",\"-1\",6,27\r\n\n60,,\"\",6,27\r";
+        ParsedTrace t = same(csv);
+        assertEquals(2.5, t.trace().output(0, 0));
+        assertTrue(Double.isNaN(t.trace().output(1, 0)), "empty output cell is missing");
+        assertTrue(Double.isNaN(t.trace().output(1, 1)), "empty quoted output cell is missing");
+    }
+
+    @Example
+    void exponents_signs_and_bare_points_are_decimals() {
+        ParsedTrace t = same(HEADER + "+0,1e3,-2.5E-2,+.5,5.\n1E+1,-0,0.000,1.5e+00,-.25\n");
+        assertEquals(1000.0, t.trace().output(0, 0));
+        assertEquals(-0.025, t.trace().output(0, 1));
+        assertEquals(0.5, t.trace().input(0, 0));
+        assertEquals(5.0, t.trace().input(0, 1));
+        assertEquals(10.0, t.trace().time(1));
+        assertEquals(Double.doubleToRawLongBits(-0.0), Double.doubleToRawLongBits(t.trace().output(1, 0)), "-0 stays negative zero");
+        assertEquals(-0.25, t.trace().input(1, 1));
+    }
+
+    @Example
+    void long_and_extreme_decimals_match_parseDouble() {
+        String[] cells = {"12345678901234567890.123", "9007199254740993", "1e22", "1e23", "4.9e-324", "2.2250738585072014E-308",
+            "0.1000000000000000055511151231257827", "1e-400", "123456789012345678", "0e99999", "1.7976931348623157e308"};
+        for (String cell : cells) {
+            ParsedTrace t = same(HEADER + "0," + cell + ",1,1,1\n");
+            assertEquals(Double.parseDouble(cell), t.trace().output(0, 0), cell);
+        }
+    }
+
+    @Example
+    void non_decimal_text_is_refused_naming_the_cell() {
+        for (String cell : List.of("NaN", "Infinity", "-Infinity", "1d", "2f", "0x1p3", "1e", "e5", ".", "-", "+-1", "1.2.3",
+                "1 2", "١", "1e+", "--1", "1_000")) {
+            InputException e = refusedAlike(HEADER + "0," + cell + ",1,1,1\n");
+            assertEquals("line 2, column return_air", e.field(), cell);
+            assertEquals("line 2, column return_air: got \"" + cell + "\", expected a decimal number", e.getMessage());
+        }
+    }
+
+    @Example
+    void an_overflowing_decimal_is_refused_as_not_finite() {
+        InputException e = refusedAlike(HEADER + "0,1e999,1,1,1\n");
+        assertEquals("line 2, column return_air: got 1e999, expected a finite number", e.getMessage());
+    }
+
+    @Example
+    void empty_time_and_input_cells_are_refused() {
+        assertEquals("line 2, column time", refusedAlike(HEADER + " ,1,1,1,1\n").field());
+        assertEquals("line 3, column cooling_power", refusedAlike(HEADER + "0,1,1,1,1\n60,1,1,\"\",1\n").field());
+    }
+
+    @Example
+    void structural_errors_name_the_record_line() {
+        assertEquals("line 2: got end of input inside a quoted field, expected a closing quote",
+                refusedAlike(HEADER + "0,\"1,1,1,1\n").getMessage());
+        assertEquals("line 2: got text after a closing quote, expected a comma or line end",
+                refusedAlike(HEADER + "0,\"1\"x,1,1,1\n").getMessage());
+        assertEquals("line 2: got more than 5 fields, expected at most 5", refusedAlike(HEADER + "0,1,1,1,1,1\n").getMessage());
+        assertEquals("line 2: got 4 fields, expected 5", refusedAlike(HEADER + "0,1,1,1\n").getMessage());
+        // A quoted line break does not count as a line, as before.
+        assertEquals("line 3: got 4 fields, expected 5", refusedAlike(HEADER + "0,\"1\n\",1,1,1\n0,1,1,1\n").getMessage());
+    }
+
+    @Example
+    void field_length_is_counted_in_characters() {
+        String ascii256 = "1".repeat(256);
+        assertEquals(Double.parseDouble(ascii256), same(HEADER + "0,\"" + ascii256 + "\",1,1,1\n").trace().output(0, 0),
+                "256 characters fit");
+        assertEquals("line 2: got a field longer than 256 characters", refusedAlike(HEADER + "0," + ascii256 + "1,1,1,1\n").getMessage());
+        // 200 two-byte characters (400 bytes) fit; 257 do not, whatever error would follow.
+        assertTrue(refusedAlike(HEADER + "0," + "é".repeat(200) + ",1,1,1\n").getMessage().endsWith("expected a decimal number"));
+        assertEquals("line 2: got a field longer than 256 characters", refusedAlike(HEADER + "0,\"" + "é".repeat(257)).getMessage());
+        assertEquals("line 2: got a field longer than 256 characters", refusedAlike(HEADER + "0," + "€".repeat(400) + "\n").getMessage());
+    }
+
+    @Example
+    void invalid_utf8_is_shown_as_replacement_characters() {
+        byte[] body = concat(HEADER.getBytes(StandardCharsets.UTF_8), new byte[] {'0', ',', (byte) 0xC3, ',', (byte) 0xE2, (byte) 0x82,
+            ',', '1', ',', '1', '\n'});
+        InputException e = refusedAlike(body);
+        assertEquals("line 2, column return_air: got \"\uFFFD\", expected a decimal number", e.getMessage());
+    }
+
+    @Example
+    void header_errors_read_as_before() {
+        assertEquals("header", refusedAlike("").field());
+        assertEquals("header", refusedAlike("\n\r\n").field());
+        assertEquals("header", refusedAlike("return_air,supply_air\n1,2\n").field());
+        assertEquals("header[2]", refusedAlike("time,return_air,time\n").field());
+        assertEquals("header[1]", refusedAlike("time,\uFEFFreturn_air\n").field());
+        assertEquals("header[2]", refusedAlike("time,return_air,return_air\n").field());
+    }
+
+    @Example
+    void the_sample_limit_is_checked_per_cell_as_before() {
+        Limits two = new Limits(2, 64, 16);
+        String csv = HEADER + "0,1,1,1,1\n60,1,1,1,1\n120,x,1,1,1\n";
+        InputException e = assertThrows(InputException.class, () -> read(csv.getBytes(StandardCharsets.UTF_8), two));
+        assertEquals(outcome(() -> ReferenceCsvReader.readCsv(stream(csv.getBytes(StandardCharsets.UTF_8)), MODEL, two)),
+                outcome(() -> read(csv.getBytes(StandardCharsets.UTF_8), two)));
+        assertEquals("time", e.field());
+    }
+
+    @Example
+    void a_body_longer_than_one_read_block_is_read_whole() {
+        StringBuilder csv = new StringBuilder(HEADER);
+        for (int k = 0; k < 5000; k++) {
+            csv.append(k * 60).append(",\"").append(k % 7).append(".125\",-0.5,6.25,27\r\n");
+        }
+        ParsedTrace t = same(csv.toString());
+        assertEquals(5000, t.trace().samples());
+        assertEquals(1.125, t.trace().output(4999, 0), "4999 % 7 = 1");
+    }
+
+    // ---- generated bodies: both readers give the same outcome
+
+    @Property(tries = 3000)
+    void generated_bodies_read_alike(@ForAll("bodies") byte[] body) {
+        assertEquals(outcome(() -> ReferenceCsvReader.readCsv(stream(body), MODEL, Limits.DEFAULTS)),
+                outcome(() -> read(body, Limits.DEFAULTS)));
+    }
+
+    @Property(tries = 3000)
+    void plain_decimal_is_parseDouble_or_declines(@ForAll("decimals") String text) {
+        byte[] bytes = text.getBytes(StandardCharsets.US_ASCII);
+        double fast = PlainDecimal.parse(bytes, 0, bytes.length);
+        if (!Double.isNaN(fast)) {
+            assertEquals(Double.doubleToRawLongBits(Double.parseDouble(text)), Double.doubleToRawLongBits(fast), text);
+        }
+    }
+
+    @Example
+    void plain_decimal_reads_the_usual_cells_itself() {
+        for (String text : List.of("0", "-0.75", "27.05", "123456.789", "+1e-3", "9007199254740992", "1e22", ".5", "5.")) {
+            byte[] bytes = text.getBytes(StandardCharsets.US_ASCII);
+            assertEquals(Double.parseDouble(text), PlainDecimal.parse(bytes, 0, bytes.length), text);
+        }
+        for (String text : List.of("9007199254740993", "1e23", "1234567890123456789", "1e00001", "NaN", "1e", "")) {
+            byte[] bytes = text.getBytes(StandardCharsets.US_ASCII);
+            assertTrue(Double.isNaN(PlainDecimal.parse(bytes, 0, bytes.length)), text + " is left to the general path");
+        }
+    }
+
+    @Provide
+    Arbitrary<byte[]> bodies() {
+        Arbitrary<String> token = Arbitraries.of("time", "return_air", "supply_air", "cooling_power", "ambient", "x",
+                ",", ",", ",", "\n", "\n", "\r\n", "\r", "\"", "\"\"", " ", "\t", "0", "1", "7", "60", "-", "+", ".", "e", "E",
+                "12.5", "-0", "0.125", "NaN", "Infinity", "1e999", "1d", "0x1p3", "é", "€", "\uD83D\uDE00", "\u0000",
+                "12345678901234567890", "9007199254740993", "1e23", "4.9e-324", "1".repeat(255), "é".repeat(130), "€".repeat(90))
+                .map(s -> s);
+        Arbitrary<byte[]> raw = Arbitraries.of(new byte[] {(byte) 0xC3}, new byte[] {(byte) 0xE2, (byte) 0x82},
+                new byte[] {(byte) 0xFF}, new byte[] {(byte) 0xF0, (byte) 0x90, (byte) 0x80}, new byte[] {(byte) 0xED, (byte) 0xA0, (byte) 0x80},
+                new byte[] {(byte) 0xC0, (byte) 0xAF}, new byte[] {(byte) 0x80});
+        Arbitrary<byte[]> piece = Arbitraries.frequencyOf(
+                net.jqwik.api.Tuple.of(12, token.map(s -> s.getBytes(StandardCharsets.UTF_8))), net.jqwik.api.Tuple.of(1, raw));
+        Arbitrary<byte[]> noise = piece.list().ofMaxSize(80).map(CsvFastPathTest::concat);
+        Arbitrary<byte[]> rows = Arbitraries.integers().between(0, 12).flatMap(n -> row().list().ofSize(n))
+                .map(list -> String.join("", list).getBytes(StandardCharsets.UTF_8));
+        Arbitrary<byte[]> header = Arbitraries.of(HEADER, "time,ambient,cooling_power,return_air\r\n", "\"time\",return_air,ambient,cooling_power\n", "")
+                .map(s -> s.getBytes(StandardCharsets.UTF_8));
+        return Arbitraries.oneOf(
+                noise,
+                net.jqwik.api.Combinators.combine(header, rows, noise).as((h, r, n) -> concat(List.of(h, r, n))),
+                net.jqwik.api.Combinators.combine(header, rows).as((h, r) -> concat(List.of(h, r))));
+    }
+
+    /** A mostly valid row: increasing-ish times, decimals in many spellings, now and then a quote, blank or odd cell. */
+    private Arbitrary<String> row() {
+        Arbitrary<String> cell = Arbitraries.oneOf(decimals(), decimals().map(s -> "\"" + s + "\""), decimals().map(s -> " " + s + "\t"),
+                Arbitraries.of("", "\"\"", "NaN", "1e999", "é"));
+        return cell.list().ofMinSize(3).ofMaxSize(6).map(cells -> String.join(",", cells))
+                .flatMap(r -> Arbitraries.of("\n", "\r\n", "\r").map(end -> r + end));
+    }
+
+    @Provide
+    Arbitrary<String> decimals() {
+        Arbitrary<Double> value = Arbitraries.oneOf(
+                Arbitraries.doubles().between(-1e6, 1e6).ofScale(4),
+                Arbitraries.doubles().between(-1e-3, 1e-3).ofScale(12),
+                Arbitraries.of(0.0, -0.0, 0.1, 1e22, 1e23, 9007199254740993.0, Double.MIN_VALUE, Double.MAX_VALUE, 4.35, 2.675),
+                Arbitraries.longs().map(Double::longBitsToDouble).filter(Double::isFinite));
+        return value.flatMap(v -> Arbitraries.of(
+                String.format(Locale.ROOT, "%.3f", v), String.format(Locale.ROOT, "%.0f", v), String.format(Locale.ROOT, "%.17g", v),
+                String.format(Locale.ROOT, "%e", v), Double.toString(v), String.format(Locale.ROOT, "%+.2f", v),
+                String.format(Locale.ROOT, "%.6f", v).replace("0.", "."), String.format(Locale.ROOT, "%.20f", v),
+                String.format(Locale.ROOT, "%.4E", v).replace("E+0", "e")));
+    }
+
+    // ---- helpers
+
+    private interface Read {
+        ParsedTrace run() throws IOException;
+    }
+
+    /** What a reader made of a body: the trace's values bit for bit, or the refusal's class and words. */
+    static String outcome(Read read) {
+        try {
+            ParsedTrace t = read.run();
+            StringBuilder s = new StringBuilder("read " + t.trace().samples());
+            for (int k = 0; k < t.trace().samples(); k++) {
+                s.append(';').append(Double.doubleToRawLongBits(t.trace().time(k)));
+                for (int j = 0; j < t.trace().outputCount(); j++) {
+                    s.append(',').append(Double.doubleToRawLongBits(t.trace().output(k, j)));
+                }
+                for (int i = 0; i < t.trace().inputCount(); i++) {
+                    s.append(',').append(Double.doubleToRawLongBits(t.trace().input(k, i)));
+                }
+            }
+            return s.toString();
+        } catch (IOException e) {
+            throw new UncheckedIOException(e);
+        } catch (RuntimeException e) {
+            return e.getClass().getSimpleName() + ": " + e.getMessage();
+        }
+    }
+
+    private static ParsedTrace same(String csv) {
+        byte[] body = csv.getBytes(StandardCharsets.UTF_8);
+        assertEquals(outcome(() -> ReferenceCsvReader.readCsv(stream(body), MODEL, Limits.DEFAULTS)), outcome(() -> read(body, Limits.DEFAULTS)));
+        return read(csv);
+    }
+
+    private static InputException refusedAlike(String csv) {
+        return refusedAlike(csv.getBytes(StandardCharsets.UTF_8));
+    }
+
+    private static InputException refusedAlike(byte[] body) {
+        String reference = outcome(() -> ReferenceCsvReader.readCsv(stream(body), MODEL, Limits.DEFAULTS));
+        assertEquals(reference, outcome(() -> read(body, Limits.DEFAULTS)));
+        return assertThrows(InputException.class, () -> read(body, Limits.DEFAULTS));
+    }
+
+    private static ParsedTrace read(String csv) {
+        try {
+            return read(csv.getBytes(StandardCharsets.UTF_8), Limits.DEFAULTS);
+        } catch (IOException e) {
+            throw new UncheckedIOException(e);
+        }
+    }
+
+    private static ParsedTrace read(byte[] body, Limits limits) throws IOException {
+        return new TraceReader(limits).readCsv(stream(body), MODEL, TraceOptions.NONE);
+    }
+
+    /** Hands out at most 7 bytes a read, so records cross block boundaries everywhere. */
+    private static InputStream stream(byte[] body) {
+        return new ByteArrayInputStream(body) {
+            @Override
+            public synchronized int read(byte[] b, int off, int len) {
+                return super.read(b, off, Math.min(len, 7));
+            }
+        };
+    }
+
+    private static double[] times(ParsedTrace t) {
+        double[] out = new double[t.trace().samples()];
+        Arrays.setAll(out, t.trace()::time);
+        return out;
+    }
+
+    private static byte[] concat(byte[]... parts) {
+        return concat(Arrays.asList(parts));
+    }
+
+    private static byte[] concat(List<byte[]> parts) {
+        ByteArrayOutputStream out = new ByteArrayOutputStream();
+        parts.forEach(out::writeBytes);
+        return out.toByteArray();
+    }
+
+    private static ModelDocument reeferModel() {
+        Path file = Path.of(System.getProperty("backstate.testData", "test-data"), "demo", "models", "reefer-40.v1.json");
+        try {
+            return Json.mapper(Limits.DEFAULTS).readValue(Files.readAllBytes(file), ModelDocument.class);
+        } catch (IOException e) {
+            throw new UncheckedIOException(e);
+        }
+    }
+}
