@@ -13,7 +13,6 @@ final class SolveContext {
     final int m;
     final int q;
     final double[] c;
-    final double[] d;
     final NoiseLevels noise;
     final SampleSteps steps;
     final TransitionCache transitions;
@@ -33,13 +32,12 @@ final class SolveContext {
         this.m = model.inputs();
         this.q = n + (options.estimateOffsets() ? p : 0);
         this.c = model.c();
-        this.d = model.d();
         this.noise = new NoiseLevels(model, trace);
         this.steps = new SampleSteps(model, trace.time(0));
         this.transitions = new TransitionCache(model, steps);
         this.inputs = trace.inputsView();
         this.lift = LiftedStep.pays(n, p, m);
-        this.outputMatrix = Matrices.sideBySide(c, d, p, n, m);
+        this.outputMatrix = Matrices.sideBySide(c, model.d(), p, n, m);
     }
 
     /** An independent context over the same inputs, for another thread (the transition cache is not thread-safe). */
@@ -92,5 +90,4 @@ final class SolveContext {
         System.arraycopy(x, 0, scratch, 0, n);
         System.arraycopy(inputs, k * m, scratch, n, m);
     }
-
 }

@@ -27,6 +27,9 @@ final class TransitionCache {
         }
     };
 
+    /** Lifted forms kept: each is (4p + n) × (n + 4m) doubles, under 0.3 MB at the model size limits. */
+    static final int LIFTED_CAPACITY = 8;
+
     /** Lifted forms by step length, for the few step lengths of uniform stretches. */
     private final Map<Long, LiftedStep> lifted = new LinkedHashMap<>(16, 0.75f, true) {
         @Override
@@ -34,7 +37,6 @@ final class TransitionCache {
             return size() > LIFTED_CAPACITY;
         }
     };
-    static final int LIFTED_CAPACITY = 8;
     private long lastLiftedUnits = -1;
     private LiftedStep lastLifted;
 
