@@ -155,7 +155,7 @@ final class ResidualPass {
         int k = from;
         while (k < to) {
             long step = k + 1 < to ? ctx.units(k + 1) - ctx.units(k) : 0;
-            if (ctx.lift && k + lift < to && equalSteps(k, step, lift) && !(referenceState == null && reachesReference(k + lift))) {
+            if (ctx.lift && k + lift < to && equalSteps(k, step, lift) && !holdsReferenceSample(k, lift)) {
                 transitions.lifted(step).advance(state, ctx.inputs, k, liftedWork, modelled);
                 for (int i = 0; i < lift; i++) {
                     record(k + i, modelled, i * p, channels);
@@ -189,9 +189,13 @@ final class ResidualPass {
         return true;
     }
 
-    /** True when a reference time is asked for and sample {@code k} is past it (so the reference sample comes before k). */
-    private boolean reachesReference(int k) {
-        return referenceTime != null && ctx.trace.time(k) > referenceTime;
+    /**
+     * True when a reference time is asked for and its sample (the last at or before it) is one of
+     * k … k+count−1, that is t_k ≤ t_ref &lt; t_{k+count}; that sample's state must be seen, so the
+     * stretch goes one step at a time.
+     */
+    private boolean holdsReferenceSample(int k, int count) {
+        return referenceTime != null && ctx.trace.time(k) <= referenceTime && ctx.trace.time(k + count) > referenceTime;
     }
 
     /** Streams sample k's outputs, modelled[at … at+p−1] before offsets, into the channels and the kept series. */
