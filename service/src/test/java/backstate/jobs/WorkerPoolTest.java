@@ -8,10 +8,10 @@ import backstate.store.JobRow;
 import backstate.store.NewEstimate;
 import backstate.store.SqliteStore;
 import backstate.store.StoreFixture;
+import backstate.store.StoreTestBase;
 import backstate.store.Submission;
 import backstate.store.TraceRow;
 import io.micrometer.core.instrument.simple.SimpleMeterRegistry;
-import java.nio.file.Path;
 import java.time.Duration;
 import java.util.ArrayList;
 import java.util.List;
@@ -20,12 +20,9 @@ import java.util.concurrent.ConcurrentHashMap;
 import java.util.concurrent.CountDownLatch;
 import java.util.concurrent.CyclicBarrier;
 import java.util.concurrent.atomic.AtomicInteger;
-import org.junit.jupiter.api.AfterEach;
-import org.junit.jupiter.api.BeforeEach;
 import org.junit.jupiter.api.Test;
-import org.junit.jupiter.api.io.TempDir;
 
-class WorkerPoolTest {
+class WorkerPoolTest extends StoreTestBase {
 
     /**
      * Waits below are guards against a hang, not timing assertions: every one is expected to
@@ -37,22 +34,8 @@ class WorkerPoolTest {
     private static final Duration STUCK_AFTER = Duration.ofHours(1);
     private static final int ROOMY = 1000;
 
-    @TempDir
-    Path dir;
-    StoreFixture fx;
-    SqliteStore store;
     SimpleMeterRegistry registry = new SimpleMeterRegistry();
 
-    @BeforeEach
-    void open() {
-        fx = new StoreFixture(dir);
-        store = fx.store;
-    }
-
-    @AfterEach
-    void close() {
-        fx.close();
-    }
 
     @Test
     void every_job_runs_to_succeeded_exactly_once_with_three_workers() throws Exception {

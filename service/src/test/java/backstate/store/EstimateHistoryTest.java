@@ -7,19 +7,16 @@ import static org.junit.jupiter.api.Assertions.assertThrows;
 
 import backstate.jobs.ClaimedJob;
 import java.nio.charset.StandardCharsets;
-import java.nio.file.Path;
 import java.time.Instant;
 import java.util.ArrayList;
 import java.util.Base64;
 import java.util.Comparator;
 import java.util.List;
 import java.util.function.Predicate;
-import org.junit.jupiter.api.AfterEach;
 import org.junit.jupiter.api.BeforeEach;
 import org.junit.jupiter.api.Test;
-import org.junit.jupiter.api.io.TempDir;
 
-class EstimateHistoryTest {
+class EstimateHistoryTest extends StoreTestBase {
 
     private static final String UNIT = "unit-A";
     private static final String OTHER_UNIT = "unit-B";
@@ -28,16 +25,10 @@ class EstimateHistoryTest {
     private static final Comparator<EstimateRow> NEWEST_FIRST = Comparator.comparing(EstimateRow::createdAt)
             .thenComparing(EstimateRow::id).reversed();
 
-    @TempDir
-    Path dir;
-    StoreFixture fx;
-    SqliteStore store;
     List<EstimateRow> written = new ArrayList<>();
 
     @BeforeEach
-    void open() throws Exception {
-        fx = new StoreFixture(dir);
-        store = fx.store;
+    void seed() throws Exception {
         store.publishVersion(StoreFixture.pumpVersion(), StoreFixture.T0);
         store.createFamily("fan", "", StoreFixture.T0);
         store.publishVersion(new NewModelVersion("fan", "continuous", 1, 1, 0, "{}", "{}"), StoreFixture.T0);
@@ -50,10 +41,6 @@ class EstimateHistoryTest {
         }
     }
 
-    @AfterEach
-    void close() {
-        fx.close();
-    }
 
     @Test
     void unfiltered_history_returns_every_row_once_newest_first_at_any_page_size() {

@@ -19,17 +19,14 @@ import java.util.List;
 import java.util.Map;
 import java.util.Random;
 import org.flywaydb.core.Flyway;
-import org.junit.jupiter.api.AfterEach;
-import org.junit.jupiter.api.BeforeEach;
 import org.junit.jupiter.api.Test;
-import org.junit.jupiter.api.io.TempDir;
 
 /**
  * The fleet views' derived rows: written with the estimate in its transaction and only then,
  * newest-wins under late writes, filled for estimates older than the migration, and the unit
  * list's keyset paging in every order.
  */
-class FleetStoreTest {
+class FleetStoreTest extends StoreTestBase {
 
     /** An estimate document as EstimateDocument writes it (only the fields the fleet views read matter). */
     static final String DOCUMENT = """
@@ -41,21 +38,7 @@ class FleetStoreTest {
              {"output":"vel","samples":0,"sigma":1.0,"sigmaSource":"model","ljungBoxLags":0,"outliers":0}]},
              "flags":["few_samples"]}""";
 
-    @TempDir
-    Path dir;
-    StoreFixture fx;
-    SqliteStore store;
 
-    @BeforeEach
-    void open() {
-        fx = new StoreFixture(dir);
-        store = fx.store;
-    }
-
-    @AfterEach
-    void close() {
-        fx.close();
-    }
 
     @Test
     void a_completed_job_writes_the_states_channels_and_newest_rows_of_its_estimate() throws Exception {

@@ -8,38 +8,20 @@ import static org.junit.jupiter.api.Assertions.assertThrows;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
 import backstate.jobs.ClaimedJob;
-import java.nio.file.Path;
 import java.time.Duration;
 import java.time.Instant;
 import java.util.List;
 import java.util.Set;
-import org.junit.jupiter.api.AfterEach;
-import org.junit.jupiter.api.BeforeEach;
 import org.junit.jupiter.api.Test;
-import org.junit.jupiter.api.io.TempDir;
 
-class JobQueueTest {
+class JobQueueTest extends StoreTestBase {
 
     private static final int ROOMY = 100;
     private static final Instant T1 = StoreFixture.T0.plusSeconds(10);
     private static final Instant T2 = StoreFixture.T0.plusSeconds(20);
     private static final Instant T3 = StoreFixture.T0.plusSeconds(30);
 
-    @TempDir
-    Path dir;
-    StoreFixture fx;
-    SqliteStore store;
 
-    @BeforeEach
-    void open() {
-        fx = new StoreFixture(dir);
-        store = fx.store;
-    }
-
-    @AfterEach
-    void close() {
-        fx.close();
-    }
 
     @Test
     void claim_takes_the_oldest_queued_jobs_and_starts_their_first_attempt() throws Exception {

@@ -5,33 +5,15 @@ import static org.junit.jupiter.api.Assertions.assertFalse;
 import static org.junit.jupiter.api.Assertions.assertThrows;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
-import java.nio.file.Path;
 import java.time.Duration;
 import java.time.Instant;
 import java.util.List;
 import java.util.Optional;
-import org.junit.jupiter.api.AfterEach;
-import org.junit.jupiter.api.BeforeEach;
 import org.junit.jupiter.api.Test;
-import org.junit.jupiter.api.io.TempDir;
 
-class ModelCatalogueTest {
+class ModelCatalogueTest extends StoreTestBase {
 
-    @TempDir
-    Path dir;
-    StoreFixture fx;
-    SqliteStore store;
 
-    @BeforeEach
-    void open() {
-        fx = new StoreFixture(dir);
-        store = fx.store;
-    }
-
-    @AfterEach
-    void close() {
-        fx.close();
-    }
 
     @Test
     void creating_an_existing_family_returns_false_and_keeps_the_first() {

@@ -8,33 +8,15 @@ import static org.junit.jupiter.api.Assertions.assertThrows;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
 import java.nio.charset.StandardCharsets;
-import java.nio.file.Path;
 import java.sql.SQLException;
 import java.util.List;
-import org.junit.jupiter.api.AfterEach;
-import org.junit.jupiter.api.BeforeEach;
 import org.junit.jupiter.api.Test;
-import org.junit.jupiter.api.io.TempDir;
 
-class SubmissionTest {
+class SubmissionTest extends StoreTestBase {
 
     private static final int ROOMY = 100;
 
-    @TempDir
-    Path dir;
-    StoreFixture fx;
-    SqliteStore store;
 
-    @BeforeEach
-    void open() {
-        fx = new StoreFixture(dir);
-        store = fx.store;
-    }
-
-    @AfterEach
-    void close() {
-        fx.close();
-    }
 
     @Test
     void a_submission_stores_the_trace_and_queues_one_estimate_job() throws Exception {
