@@ -43,34 +43,11 @@ final class HouseholderQr {
                 continue;
             }
             int col = j * rows;
-            double s = beta * dot(reflectors, col, b, j, rows);
+            double s = beta * Matrices.dot(reflectors, col + j, b, j, rows - j);
             for (int i = j; i < rows; i++) {
                 b[i] -= s * reflectors[col + i];
             }
         }
-    }
-
-    /**
-     * Σ_{i=from}^{to−1} v[offset + i]·b[i] in four interleaved partial sums added at the end: four
-     * independent chains of adds instead of one (the pairwise-style splitting of Higham 2002,
-     * Accuracy and Stability of Numerical Algorithms, §4.2, with the same error bound as one sum).
-     */
-    private static double dot(double[] v, int offset, double[] b, int from, int to) {
-        double s0 = 0.0;
-        double s1 = 0.0;
-        double s2 = 0.0;
-        double s3 = 0.0;
-        int i = from;
-        for (; i + 3 < to; i += 4) {
-            s0 += v[offset + i] * b[i];
-            s1 += v[offset + i + 1] * b[i + 1];
-            s2 += v[offset + i + 2] * b[i + 2];
-            s3 += v[offset + i + 3] * b[i + 3];
-        }
-        for (; i < to; i++) {
-            s0 += v[offset + i] * b[i];
-        }
-        return (s0 + s1) + (s2 + s3);
     }
 
     /** Builds reflector j from column j below the diagonal and applies it to the columns after it. */

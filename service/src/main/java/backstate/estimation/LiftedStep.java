@@ -50,17 +50,31 @@ final class LiftedStep {
                 Matrices.copyBlock(markov[i - 1 - l], m, p, m, outputs, width, i * p, n + l * m);
             }
         }
-        // [Φ^S | Φ^{S−1}Γ … Γ]: column block l carries u_{k+l} over the S − l − 1 steps after its own.
-        double[] carry = gamma.clone();
+        // [Φ^S | Φ^{S−1}Γ … Γ]
+        placeInputCarries(phi, gamma, n, m, SAMPLES, state);
         double[] power = phi.clone();
-        for (int l = SAMPLES - 1; l >= 0; l--) {
-            Matrices.copyBlock(carry, m, n, m, state, width, 0, n + l * m);
-            carry = Matrices.multiply(phi, carry, n, n, m);
-            if (l > 0) {
-                power = Matrices.multiply(power, phi, n, n, n);
-            }
+        for (int l = 1; l < SAMPLES; l++) {
+            power = Matrices.multiply(power, phi, n, n, n);
         }
         Matrices.copyBlock(power, n, n, n, state, width, 0, 0);
+    }
+
+    /**
+     * Writes Φ^{steps−1−l}Γ into column block l (columns n + l·m …) of the n × (n + steps·m)
+     * row-major {@code out}, for l = 0 … steps−1: how the input held over step l carries to the
+     * end of the run. Built from the last block back, one Φ product each.
+     */
+    static void placeInputCarries(double[] phi, double[] gamma, int n, int m, int steps, double[] out) {
+        int width = n + steps * m;
+        double[] carry = gamma.clone();
+        double[] next = new double[n * m];
+        for (int l = steps - 1; l >= 0; l--) {
+            Matrices.copyBlock(carry, m, n, m, out, width, 0, n + l * m);
+            Matrices.multiplyInto(phi, carry, n, n, m, next);
+            double[] swap = carry;
+            carry = next;
+            next = swap;
+        }
     }
 
     /** Whether lifting saves work for this model size (see the class comment). */
@@ -78,13 +92,11 @@ final class LiftedStep {
      * y (S·p, sample-major) and overwrites x with the state at sample k+S.
      */
     void advance(double[] x, double[] inputs, int k, double[] work, double[] y) {
-        System.arraycopy(x, 0, work, 0, n);
-        System.arraycopy(inputs, k * m, work, n, SAMPLES * m);
-        Matrices.multiplyVector(outputs, work, SAMPLES * p, width, y);
+        outputsOnly(x, inputs, k, work, y);
         Matrices.multiplyVector(state, work, n, width, x);
     }
 
-    /** Outputs of samples k … k+S−1 only, x unchanged (for the last stretch of a block). */
+    /** Outputs of samples k … k+S−1 only, x unchanged (for the last stretch of a block); leaves [x; u_k … u_{k+S−1}] in work. */
     void outputsOnly(double[] x, double[] inputs, int k, double[] work, double[] y) {
         System.arraycopy(x, 0, work, 0, n);
         System.arraycopy(inputs, k * m, work, n, SAMPLES * m);

@@ -24,7 +24,7 @@ final class LjungBox {
     /**
      * window[0 … h−1]: the h values before the current batch, newest last (zeros before the series
      * starts, whose products add nothing); window[h …]: the batch. Products are summed per batch,
-     * lag by lag over contiguous values, rather than h scattered updates per value.
+     * lag by lag over contiguous values ({@link Matrices#dot}), rather than h scattered updates per value.
      */
     private final double[] window;
     private int batched;
@@ -68,30 +68,10 @@ final class LjungBox {
             return;
         }
         for (int k = 1; k <= lags; k++) {
-            lagProducts[k] += laggedSum(k);
+            lagProducts[k] += Matrices.dot(window, lags, window, lags - k, batched);
         }
         System.arraycopy(window, batched, window, 0, lags);
         batched = 0;
-    }
-
-    /** Σ r_t·r_{t−k} over the batch, in four interleaved partial sums (four independent chains of adds). */
-    private double laggedSum(int k) {
-        double s0 = 0.0;
-        double s1 = 0.0;
-        double s2 = 0.0;
-        double s3 = 0.0;
-        int end = lags + batched;
-        int t = lags;
-        for (; t + 3 < end; t += 4) {
-            s0 += window[t] * window[t - k];
-            s1 += window[t + 1] * window[t + 1 - k];
-            s2 += window[t + 2] * window[t + 2 - k];
-            s3 += window[t + 3] * window[t + 3 - k];
-        }
-        for (; t < end; t++) {
-            s0 += window[t] * window[t - k];
-        }
-        return (s0 + s1) + (s2 + s3);
     }
 
     int lags() {

@@ -121,16 +121,8 @@ final class StateSweep {
     private void buildKernel(long step) {
         ZeroOrderHold.Step one = cache.over(step);
         double[] phi = one.transition();
-        double[] column = one.input().clone();
-        double[] next = new double[n * m];
         int width = n + BLOCK * m;
-        for (int i = BLOCK - 1; i >= 0; i--) {
-            Matrices.copyBlock(column, m, n, m, kernel, width, 0, n + i * m);
-            Matrices.multiplyInto(phi, column, n, n, m, next);
-            double[] swap = column;
-            column = next;
-            next = swap;
-        }
+        LiftedStep.placeInputCarries(phi, one.input(), n, m, BLOCK, kernel);
         double[] power = phi.clone();
         double[] work = new double[n * n];
         for (int s = 0; s < BLOCK_SQUARINGS; s++) {

@@ -102,7 +102,7 @@ final class UniformBlocks {
      * pays, else sample by sample.
      */
     private void fillRightHandSide(int k, long step, double[] forced) {
-        if (ctx.m == 0 && isZero(forced)) {
+        if (ctx.m == 0) {
             for (int i = 0; i < SAMPLES; i++) {
                 for (int j = 0; j < ctx.p; j++) {
                     b[i * ctx.p + j] = ctx.trace.output(k + i, j) / ctx.noise.sigma(j);
@@ -152,15 +152,6 @@ final class UniformBlocks {
         for (int j = 0; j < ctx.p; j++) {
             b[i * ctx.p + j] = (ctx.trace.output(sample, j) - modelled[at + j]) / ctx.noise.sigma(j);
         }
-    }
-
-    private static boolean isZero(double[] x) {
-        for (double v : x) {
-            if (v != 0.0) {
-                return false;
-            }
-        }
-        return true;
     }
 
     /** R·diag(Φ, I) for upper-triangular q×q R and n×n Φ, row-major, into out: the change of unknowns to x0. */
