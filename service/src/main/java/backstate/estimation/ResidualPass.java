@@ -154,8 +154,9 @@ final class ResidualPass {
         double[] referenceState = null;
         int k = from;
         while (k < to) {
-            long step = k + 1 < to ? ctx.units(k + 1) - ctx.units(k) : 0;
-            if (ctx.lift && k + lift < to && equalSteps(k, step, lift) && !holdsReferenceSample(k, lift)) {
+            long unitsK = ctx.units(k);
+            long step = k + 1 < to ? ctx.units(k + 1) - unitsK : 0;
+            if (ctx.lift && k + lift < to && ctx.equalSteps(k, unitsK, step, lift) == lift && !holdsReferenceSample(k, lift)) {
                 transitions.lifted(step).advance(state, ctx.inputs, k, liftedWork, modelled);
                 for (int i = 0; i < lift; i++) {
                     record(k + i, modelled, i * p, channels);
@@ -164,7 +165,7 @@ final class ResidualPass {
                 continue;
             }
             if (referenceTime != null && referenceState == null && isReferenceSample(k)) {
-                referenceState = stateAt(transitions, k, ctx.units(k), state);
+                referenceState = stateAt(transitions, k, unitsK, state);
             }
             ctx.outputs(state, k, scratch, modelled);
             record(k, modelled, 0, channels);
@@ -174,19 +175,6 @@ final class ResidualPass {
             k++;
         }
         return new Chunk(channels, referenceState);
-    }
-
-    /** True when the steps from sample k to k+1, …, k+count−1 to k+count are all {@code step} units. */
-    private boolean equalSteps(int k, long step, int count) {
-        long previous = ctx.units(k + 1);
-        for (int i = 2; i <= count; i++) {
-            long units = ctx.units(k + i);
-            if (units - previous != step) {
-                return false;
-            }
-            previous = units;
-        }
-        return true;
     }
 
     /**

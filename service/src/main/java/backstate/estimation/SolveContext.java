@@ -50,6 +50,22 @@ final class SolveContext {
         return steps.unitsOfSample(k, trace.time(k));
     }
 
+    /**
+     * Number of consecutive steps from sample k (at {@code unitsK} step units) of exactly
+     * {@code step} units, at most {@code limit}; the caller makes sure samples k … k+limit exist.
+     */
+    int equalSteps(int k, long unitsK, long step, int limit) {
+        long previous = unitsK;
+        for (int j = 0; j < limit; j++) {
+            long units = units(k + j + 1);
+            if (units - previous != step) {
+                return j;
+            }
+            previous = units;
+        }
+        return limit;
+    }
+
     /** Names of the unknowns in vector order. */
     List<String> unknownNames() {
         List<String> names = new ArrayList<>(q);

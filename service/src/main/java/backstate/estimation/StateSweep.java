@@ -79,7 +79,7 @@ final class StateSweep {
             int target = samples[i];
             while (k < target) {
                 long step = ctx.units(k + 1) - unitsK;
-                int run = target - k >= BLOCK ? equalSteps(k, unitsK, step) : 1;
+                int run = target - k >= BLOCK ? ctx.equalSteps(k, unitsK, step, BLOCK) : 1;
                 if (run == BLOCK) {
                     advanceBlock(k, step);
                 } else {
@@ -93,19 +93,6 @@ final class StateSweep {
             out[i] = x.clone();
         }
         return out;
-    }
-
-    /** Number of consecutive steps from sample k of exactly {@code step} units, at most BLOCK (at least 1). */
-    private int equalSteps(int k, long unitsK, long step) {
-        long previous = unitsK;
-        for (int j = 0; j < BLOCK; j++) {
-            long units = ctx.units(k + j + 1);
-            if (units - previous != step) {
-                return j;
-            }
-            previous = units;
-        }
-        return BLOCK;
     }
 
     /** x ← [Φ^B | K]·[x; U] over the block of BLOCK equal steps starting at sample k. */
