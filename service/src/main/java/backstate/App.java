@@ -13,6 +13,7 @@ import backstate.jobs.EstimateJobHandler;
 import backstate.jobs.HandlersByKind;
 import backstate.jobs.JobHandler;
 import backstate.jobs.RegressionJobHandler;
+import backstate.jobs.StoredTraceSolver;
 import backstate.jobs.WorkerPool;
 import backstate.store.SqliteStore;
 import com.fasterxml.jackson.databind.ObjectMapper;
@@ -42,9 +43,10 @@ public final class App implements AutoCloseable {
         ObjectMapper mapper = Json.mapper(limits);
         PrometheusMeterRegistry registry = new PrometheusMeterRegistry(PrometheusConfig.DEFAULT);
         this.store = new SqliteStore(settings.database(), clock);
+        StoredTraceSolver stored = new StoredTraceSolver(store, mapper, limits);
         JobHandler handlers = new HandlersByKind(Map.of(
-                "estimate", new EstimateJobHandler(store, mapper, limits, registry),
-                "regression", new RegressionJobHandler(store, store, mapper, limits, clock)));
+                "estimate", new EstimateJobHandler(stored, mapper, registry),
+                "regression", new RegressionJobHandler(store, store, stored, mapper, limits, clock)));
         this.workers = new WorkerPool(store, handlers, settings.workers(), clock, IDLE_POLL, registry);
         ApiKeys keys = new ApiKeys(store, clock, new SecureRandom());
         if (settings.auth()) {

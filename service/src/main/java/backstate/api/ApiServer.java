@@ -2,6 +2,7 @@ package backstate.api;
 
 import backstate.auth.ApiKeys;
 import backstate.formats.Limits;
+import backstate.jobs.StoredTraceSolver;
 import backstate.store.Store;
 import com.fasterxml.jackson.databind.ObjectMapper;
 import io.javalin.Javalin;
@@ -67,10 +68,11 @@ public final class ApiServer implements AutoCloseable {
     /** The route table: a reader sees the whole API here. */
     static List<Route> routes(Wiring w) {
         ModelRoutes models = new ModelRoutes(w.store(), w.mapper(), w.clock(), w.limits(), w.maxBodyBytes());
-        TraceRoutes traces = new TraceRoutes(w.store(), w.mapper(), w.clock(), w.limits(), w.maxBodyBytes(),
+        StoredTraceSolver stored = new StoredTraceSolver(w.store(), w.mapper(), w.limits());
+        TraceRoutes traces = new TraceRoutes(w.store(), stored, w.mapper(), w.clock(), w.limits(), w.maxBodyBytes(),
                 w.maxQueued(), w.wakeWorkers());
         JobRoutes jobs = new JobRoutes(w.store(), w.clock());
-        EstimateRoutes estimates = new EstimateRoutes(w.store(), w.mapper());
+        EstimateRoutes estimates = new EstimateRoutes(w.store(), stored);
         ServiceRoutes service = new ServiceRoutes(w.store(), w.registry(), w.queued(), w.maxQueued());
         KeyRoutes keys = new KeyRoutes(w.keys(), w.mapper());
         RegressionRoutes regressions = new RegressionRoutes(w.store(), w.mapper(), w.clock(), w.maxBodyBytes(),

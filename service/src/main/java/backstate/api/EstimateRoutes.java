@@ -1,12 +1,12 @@
 package backstate.api;
 
-import backstate.formats.ModelDocument;
-import backstate.formats.SeriesCodec;
+import backstate.estimation.Estimate;
+import backstate.formats.DocumentSolver;
+import backstate.jobs.StoredTraceSolver;
 import backstate.store.EstimateFilter;
 import backstate.store.EstimatePage;
 import backstate.store.EstimateRow;
 import backstate.store.Store;
-import com.fasterxml.jackson.databind.ObjectMapper;
 import io.javalin.http.Context;
 import java.util.ArrayList;
 import java.util.LinkedHashMap;
@@ -21,12 +21,15 @@ final class EstimateRoutes {
     static final int DEFAULT_POINTS = 1000;
     static final Set<String> FLAGS = Set.of("unobservable", "ill_conditioned", "model_mismatch", "few_samples");
 
-    private final Store store;
-    private final ObjectMapper mapper;
+    /** Most points one series answer carries: plots want a few thousand at most. */
+    static final int MAX_POINTS = 20_000;
 
-    EstimateRoutes(Store store, ObjectMapper mapper) {
+    private final Store store;
+    private final StoredTraceSolver solver;
+
+    EstimateRoutes(Store store, StoredTraceSolver solver) {
         this.store = store;
-        this.mapper = mapper;
+        this.solver = solver;
     }
 
     void latest(Context ctx) {
@@ -58,24 +61,22 @@ final class EstimateRoutes {
         ctx.json(Views.Estimate.of(find(ctx)));
     }
 
-    void series(Context ctx) throws Exception {
+    /** Rebuilt from the stored trace by solving it again ({@link StoredTraceSolver}); the series is not stored. */
+    void series(Context ctx) {
         EstimateRow row = find(ctx);
-        int maxPoints = Params.intOrDefault(ctx, "maxPoints", DEFAULT_POINTS, SeriesCodec.MAX_STORED_POINTS);
-        if (row.series() == null) {
-            throw ApiProblem.notFound("a series for estimate " + row.id());
+        int maxPoints = Params.intOrDefault(ctx, "maxPoints", DEFAULT_POINTS, MAX_POINTS);
+        StoredTraceSolver.Loaded loaded = solver.load(row.traceId());
+        if (!(solver.solve(loaded, true) instanceof DocumentSolver.Outcome.Solved solved)) {
+            throw new IllegalStateException("trace " + row.traceId() + " solved once but not again");
         }
-        List<String> outputs = outputNames(row);
-        ctx.json(decimate(SeriesCodec.decode(row.series()), outputs, maxPoints));
-    }
-
-    private List<String> outputNames(EstimateRow row) throws Exception {
-        String document = store.findVersion(row.family(), row.version()).orElseThrow().documentJson();
-        return mapper.readValue(document, ModelDocument.class).outputs().stream().map(q -> q.name()).toList();
+        List<String> outputs = loaded.model().outputs().stream().map(q -> q.name()).toList();
+        ctx.json(decimate(solved.estimate().series(), outputs, maxPoints));
     }
 
     /** Keeps every s-th point, s = ceil(points / maxPoints), so at most maxPoints remain. */
-    static Views.Series decimate(SeriesCodec.Decoded s, List<String> outputs, int maxPoints) {
-        int stride = Math.max(1, (s.points() + maxPoints - 1) / maxPoints);
+    static Views.Series decimate(Estimate.Series s, List<String> outputs, int maxPoints) {
+        int points = s.times().length;
+        int stride = Math.max(1, (points + maxPoints - 1) / maxPoints);
         List<Double> time = new ArrayList<>();
         Map<String, List<Double>> fitted = new LinkedHashMap<>();
         Map<String, List<Double>> residual = new LinkedHashMap<>();
@@ -83,8 +84,8 @@ final class EstimateRoutes {
             fitted.put(o, new ArrayList<>());
             residual.put(o, new ArrayList<>());
         });
-        int p = s.outputs();
-        for (int k = 0; k < s.points(); k += stride) {
+        int p = s.outputCount();
+        for (int k = 0; k < points; k += stride) {
             time.add(s.times()[k]);
             for (int j = 0; j < p; j++) {
                 fitted.get(outputs.get(j)).add(finite(s.fitted()[k * p + j]));

@@ -9,6 +9,7 @@ import backstate.formats.ParsedTrace;
 import backstate.formats.TraceCodec;
 import backstate.formats.TraceOptions;
 import backstate.formats.TraceReader;
+import backstate.jobs.StoredTraceSolver;
 import backstate.store.ModelVersionRow;
 import backstate.store.NewTrace;
 import backstate.store.Store;
@@ -26,7 +27,7 @@ final class TraceRoutes {
     static final int MAX_IDEMPOTENCY_KEY = 128;
 
     private final Store store;
-    private final ObjectMapper mapper;
+    private final StoredTraceSolver stored;
     private final TraceReader reader;
     private final TraceCodec codec;
     private final Clock clock;
@@ -35,10 +36,10 @@ final class TraceRoutes {
     private final int maxQueued;
     private final Runnable wakeWorkers;
 
-    TraceRoutes(Store store, ObjectMapper mapper, Clock clock, Limits limits, long maxBodyBytes, int maxQueued,
-                Runnable wakeWorkers) {
+    TraceRoutes(Store store, StoredTraceSolver stored, ObjectMapper mapper, Clock clock, Limits limits,
+                long maxBodyBytes, int maxQueued, Runnable wakeWorkers) {
         this.store = store;
-        this.mapper = mapper;
+        this.stored = stored;
         this.reader = new TraceReader(limits);
         this.codec = new TraceCodec(mapper);
         this.clock = clock;
@@ -52,7 +53,7 @@ final class TraceRoutes {
         String unitId = Params.identifier(ctx, "unitId");
         String key = idempotencyKey(ctx);
         ModelVersionRow version = activeVersion(ctx);
-        ModelDocument model = mapper.readValue(version.documentJson(), ModelDocument.class);
+        ModelDocument model = stored.model(version);
         ParsedTrace parsed = parse(ctx, model);
         StateSpaceModel engineModel = model.toModel(limits);
         InitialStateEstimator.validate(engineModel, parsed.trace(),

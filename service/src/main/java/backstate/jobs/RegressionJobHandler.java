@@ -2,7 +2,6 @@ package backstate.jobs;
 
 import backstate.formats.Limits;
 import backstate.formats.ModelDocument;
-import backstate.formats.TraceCodec;
 import backstate.regression.RegressionParams;
 import backstate.regression.RegressionReport;
 import backstate.regression.RegressionResult;
@@ -12,9 +11,7 @@ import backstate.store.Store;
 import backstate.store.TraceRow;
 import com.fasterxml.jackson.databind.ObjectMapper;
 import java.time.Clock;
-import java.util.HashMap;
 import java.util.List;
-import java.util.Map;
 
 /**
  * Runs a 'regression' job: re-solves each selected trace under the baseline and the candidate
@@ -33,15 +30,16 @@ public final class RegressionJobHandler implements JobHandler {
     private final Store store;
     private final JobQueue queue;
     private final ObjectMapper mapper;
-    private final TraceCodec codec;
+    private final StoredTraceSolver stored;
     private final Limits limits;
     private final Clock clock;
 
-    public RegressionJobHandler(Store store, JobQueue queue, ObjectMapper mapper, Limits limits, Clock clock) {
+    public RegressionJobHandler(Store store, JobQueue queue, StoredTraceSolver stored, ObjectMapper mapper,
+                                Limits limits, Clock clock) {
         this.store = store;
         this.queue = queue;
+        this.stored = stored;
         this.mapper = mapper;
-        this.codec = new TraceCodec(mapper);
         this.limits = limits;
         this.clock = clock;
     }
@@ -54,14 +52,13 @@ public final class RegressionJobHandler implements JobHandler {
         RegressionParams params = mapper.readValue(job.paramsJson(), RegressionParams.class);
         ModelVersionRow baselineRow = version(params.family(), params.baseline());
         ModelVersionRow candidateRow = version(params.family(), params.candidate());
-        ModelDocument baseline = document(baselineRow);
-        ModelDocument candidate = document(candidateRow);
+        ModelDocument baseline = stored.model(baselineRow);
+        ModelDocument candidate = stored.model(candidateRow);
         List<String> traceIds = params.traceIds();
         int total = traceIds.size();
         RegressionReport report = new RegressionReport(params.family(), info(baselineRow, baseline),
                 info(candidateRow, candidate), params.tolerances(), total);
         VersionPair versions = new VersionPair(baseline, candidate, limits);
-        Map<Integer, ModelDocument> storedModels = new HashMap<>();
         int step = Math.max(1, (total + PROGRESS_WRITES - 1) / PROGRESS_WRITES);
         if (!queue.reportProgress(job.id(), job.attempt(), 0, total)) {
             return new JobOutcome.Failed("job " + job.id() + " was no longer running at attempt " + job.attempt());
@@ -71,12 +68,10 @@ public final class RegressionJobHandler implements JobHandler {
                 return cancel(job, report, done, total);
             }
             String traceId = traceIds.get(done);
-            TraceRow trace = store.findTrace(traceId).orElseThrow(() ->
-                    new IllegalStateException("regression " + job.id() + " names missing trace " + traceId));
-            ModelDocument storedModel = storedModels.computeIfAbsent(trace.version(),
-                    v -> document(version(trace.family(), v)));
+            StoredTraceSolver.Loaded loaded = stored.load(traceId);
+            TraceRow trace = loaded.row();
             versions.compare(report, trace.unitId(), trace.id(), trace.receivedAt().toString(), trace.version(),
-                    storedModel, codec.decode(trace.payload()));
+                    loaded.model(), loaded.parsed());
             int finished = done + 1;
             if ((finished % step == 0 || finished == total)
                     && !queue.reportProgress(job.id(), job.attempt(), finished, total)) {
@@ -97,14 +92,6 @@ public final class RegressionJobHandler implements JobHandler {
     private ModelVersionRow version(String family, int version) {
         return store.findVersion(family, version).orElseThrow(() ->
                 new IllegalStateException("model version " + family + "/" + version + " is gone"));
-    }
-
-    private ModelDocument document(ModelVersionRow row) {
-        try {
-            return mapper.readValue(row.documentJson(), ModelDocument.class);
-        } catch (com.fasterxml.jackson.core.JsonProcessingException e) {
-            throw new IllegalStateException("stored model " + row.family() + "/" + row.version() + " is not readable", e);
-        }
     }
 
     private static RegressionResult.VersionInfo info(ModelVersionRow row, ModelDocument doc) {

@@ -4,8 +4,7 @@ import java.util.List;
 
 /** An estimate a job produced, written with the job's completion. */
 public record NewEstimate(String traceId, String unitId, String family, int version, double windowStart,
-                          double windowEnd, Double chi2PerDof, List<String> flags, String summaryJson,
-                          byte[] seriesOrNull) {
+                          double windowEnd, Double chi2PerDof, List<String> flags, String summaryJson) {
 
     public NewEstimate {
         Expect.notBlank("traceId", traceId);

@@ -12,10 +12,10 @@ import java.util.Optional;
 final class SqliteEstimates {
 
     private static final String ESTIMATE_COLUMNS = "id, job_id, trace_id, unit_id, family, version, created_at,"
-            + " window_start, window_end, chi2_per_dof, flags, summary_json, series";
+            + " window_start, window_end, chi2_per_dof, flags, summary_json";
 
     private static final String INSERT_ESTIMATE = "INSERT INTO estimates (" + ESTIMATE_COLUMNS + ")"
-            + " VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)";
+            + " VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)";
     private static final String FIND_ESTIMATE = "SELECT " + ESTIMATE_COLUMNS + " FROM estimates WHERE id = ?";
     private static final String FIND_ESTIMATE_FOR_JOB =
             "SELECT " + ESTIMATE_COLUMNS + " FROM estimates WHERE job_id = ?";
@@ -79,7 +79,7 @@ final class SqliteEstimates {
     static void insertEstimate(Connection c, String jobId, NewEstimate e, Instant now) throws SQLException {
         try (PreparedStatement ps = Sql.bind(c.prepareStatement(INSERT_ESTIMATE), Sql.newId(), jobId,
                 e.traceId(), e.unitId(), e.family(), e.version(), Sql.millis(now), e.windowStart(), e.windowEnd(),
-                e.chi2PerDof(), Sql.joinFlags(e.flags()), e.summaryJson(), e.seriesOrNull())) {
+                e.chi2PerDof(), Sql.joinFlags(e.flags()), e.summaryJson())) {
             ps.executeUpdate();
         }
     }
@@ -106,6 +106,6 @@ final class SqliteEstimates {
         return new EstimateRow(rs.getString("id"), rs.getString("job_id"), rs.getString("trace_id"),
                 rs.getString("unit_id"), rs.getString("family"), rs.getInt("version"), Sql.instant(rs, "created_at"),
                 rs.getDouble("window_start"), rs.getDouble("window_end"), Sql.doubleOrNull(rs, "chi2_per_dof"),
-                Sql.splitFlags(rs.getString("flags")), rs.getString("summary_json"), rs.getBytes("series"));
+                Sql.splitFlags(rs.getString("flags")), rs.getString("summary_json"));
     }
 }

@@ -13,6 +13,7 @@ import backstate.jobs.ClaimedJob;
 import backstate.jobs.JobOutcome;
 import backstate.jobs.JobQueue;
 import backstate.jobs.RegressionJobHandler;
+import backstate.jobs.StoredTraceSolver;
 import backstate.store.SqliteStore;
 import com.fasterxml.jackson.databind.JsonNode;
 import com.fasterxml.jackson.databind.ObjectMapper;
@@ -156,7 +157,8 @@ class RegressionCancelTest {
     }
 
     private RegressionJobHandler handler(JobQueue queue) {
-        return new RegressionJobHandler(store, queue, mapper, Limits.DEFAULTS, Clock.systemUTC());
+        return new RegressionJobHandler(store, queue, new StoredTraceSolver(store, mapper, Limits.DEFAULTS), mapper,
+                Limits.DEFAULTS, Clock.systemUTC());
     }
 
     /** The store as a JobQueue that tells {@code onProgress} each reported "done" after recording it. */

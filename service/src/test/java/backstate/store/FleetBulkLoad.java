@@ -22,8 +22,8 @@ public final class FleetBulkLoad implements AutoCloseable {
     private static final String INSERT_JOB = "INSERT INTO jobs (id, kind, state, trace_id, attempt, created_at,"
             + " started_at, finished_at, progress_done, progress_total) VALUES (?, 'estimate', 'succeeded', ?, 1, ?, ?, ?, 0, 0)";
     private static final String INSERT_ESTIMATE = "INSERT INTO estimates (id, job_id, trace_id, unit_id, family, version,"
-            + " created_at, window_start, window_end, chi2_per_dof, flags, summary_json, series)"
-            + " VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, NULL)";
+            + " created_at, window_start, window_end, chi2_per_dof, flags, summary_json)"
+            + " VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)";
     private static final byte[] PAYLOAD = new byte[16];
 
     private final Connection c;

@@ -187,7 +187,7 @@ class FleetStoreTest extends StoreTestBase {
         Submission s = store.submitTrace(new NewTrace(unit, "pump", 1, 3, 0.0, 2.0, new byte[] {1}), null, 100, at);
         ClaimedJob job = store.claimNext(1, at).get(0);
         assertTrue(store.completeIfRunning(job.id(), job.attempt(), new NewEstimate(s.traceId(), unit, "pump", 1, 0.0, 2.0,
-                chi2, flags, summary, null), null, at));
+                chi2, flags, summary), null, at));
         return store.findEstimateForJob(job.id()).orElseThrow();
     }
 

@@ -50,7 +50,7 @@ public final class StoreFixture implements AutoCloseable {
 
     public static NewEstimate estimate(String traceId, String unitId, String family, int version,
                                        List<String> flags, String summaryJson) {
-        return new NewEstimate(traceId, unitId, family, version, 0.0, 2.0, 1.25, flags, summaryJson, new byte[] {7});
+        return new NewEstimate(traceId, unitId, family, version, 0.0, 2.0, 1.25, flags, summaryJson);
     }
 
     public Connection raw() throws SQLException {

@@ -1,0 +1,81 @@
+package backstate.jobs;
+
+import backstate.formats.DocumentSolver;
+import backstate.formats.Limits;
+import backstate.formats.ModelDocument;
+import backstate.formats.ParsedTrace;
+import backstate.formats.TraceCodec;
+import backstate.store.ModelVersionRow;
+import backstate.store.Store;
+import backstate.store.TraceRow;
+import com.fasterxml.jackson.core.JsonProcessingException;
+import com.fasterxml.jackson.databind.ObjectMapper;
+import java.util.Map;
+import java.util.concurrent.ConcurrentHashMap;
+
+/**
+ * Solves a stored trace under the model version it was posted for. Estimate jobs take this path,
+ * and so does an estimate's series, which is not stored but rebuilt from the same stored inputs:
+ * the solve is deterministic, so the rebuilt series is the one the job saw.
+ */
+public final class StoredTraceSolver {
+    /** Model versions whose parsed documents are kept. */
+    static final int MAX_CACHED_MODELS = 1024;
+
+    private final Store store;
+    private final ObjectMapper mapper;
+    private final TraceCodec codec;
+    private final Limits limits;
+    private final Map<String, ModelDocument> models = new ConcurrentHashMap<>();
+
+    public StoredTraceSolver(Store store, ObjectMapper mapper, Limits limits) {
+        this.store = store;
+        this.mapper = mapper;
+        this.codec = new TraceCodec(mapper);
+        this.limits = limits;
+    }
+
+    /** A stored trace, decoded, with the model document of its version. */
+    public record Loaded(TraceRow row, ModelDocument model, ParsedTrace parsed) {
+    }
+
+    /** Reads and decodes a trace; a missing trace or version is a broken database, not bad input. */
+    public Loaded load(String traceId) {
+        TraceRow row = store.findTrace(traceId)
+                .orElseThrow(() -> new IllegalStateException("trace " + traceId + " is missing"));
+        ModelVersionRow version = store.findVersion(row.family(), row.version()).orElseThrow(() ->
+                new IllegalStateException("model version " + row.family() + "/" + row.version() + " is missing"));
+        return new Loaded(row, model(version), codec.decode(row.payload()));
+    }
+
+    /**
+     * A version's model document, parsed once: versions are immutable, so the parse is cached
+     * (dropped whole past {@link #MAX_CACHED_MODELS}, which no real fleet nears).
+     */
+    public ModelDocument model(ModelVersionRow row) {
+        String key = row.family() + "/" + row.version();
+        ModelDocument cached = models.get(key);
+        if (cached != null) {
+            return cached;
+        }
+        if (models.size() >= MAX_CACHED_MODELS) {
+            models.clear();
+        }
+        ModelDocument parsed = parse(row);
+        models.put(key, parsed);
+        return parsed;
+    }
+
+    /** Solves a loaded trace; {@code keepSeries} also returns the fitted and residual series. */
+    public DocumentSolver.Outcome solve(Loaded loaded, boolean keepSeries) {
+        return DocumentSolver.solve(loaded.model(), loaded.parsed(), keepSeries, limits);
+    }
+
+    private ModelDocument parse(ModelVersionRow row) {
+        try {
+            return mapper.readValue(row.documentJson(), ModelDocument.class);
+        } catch (JsonProcessingException e) {
+            throw new IllegalStateException("stored model " + row.family() + "/" + row.version() + " is not readable", e);
+        }
+    }
+}
