@@ -45,8 +45,14 @@ public final class WorkerPool implements AutoCloseable {
     public static final Duration DEFAULT_SHUTDOWN_GRACE = Duration.ofSeconds(20);
     /** Far longer than any estimation should run: a job running this long is taken to be hung. */
     public static final Duration DEFAULT_STUCK_AFTER = Duration.ofHours(1);
-    /** Jobs in flight per handler slot: claimed and waiting for the slot, in the handler, or waiting for their outcome's write. */
-    static final int JOBS_IN_FLIGHT_PER_WORKER = 4;
+    /**
+     * Jobs in flight per handler slot: claimed and waiting for the slot, in the handler, or
+     * waiting for their outcome's write. Under a flood of posts one commit batch takes ~30 ms on
+     * 2 cores, and a small job solves in under 1 ms, so a slot needs a dozen or more outcomes
+     * waiting for each batch to stay busy; with 4 the workers solved ~90 jobs/s while posts
+     * arrived at ~450/s, with 16 they keep pace (docs/reliability.md, 2026-12-02 figures).
+     */
+    static final int JOBS_IN_FLIGHT_PER_WORKER = 16;
     /** A hung job is rescued at most a quarter of stuckAfter late. */
     private static final int RESCUE_CHECKS_PER_STUCK_WINDOW = 4;
 

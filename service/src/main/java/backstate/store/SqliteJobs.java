@@ -37,7 +37,8 @@ final class SqliteJobs {
             + " finished_at = CASE WHEN attempt < ? THEN NULL ELSE ? END";
     private static final String RESCUE_MESSAGE = "rescued: left running by a worker that crashed, stopped or hung";
 
-    private static final String COUNT_QUEUED = "SELECT COUNT(*) FROM jobs WHERE state = 'queued'";
+    // Kept by the triggers of V6__queue_length.sql in the same transaction as every job change.
+    private static final String COUNT_QUEUED = "SELECT queued FROM queue_length WHERE id = 1";
     private static final String INSERT_JOB = "INSERT INTO jobs (id, kind, state, trace_id, params_json, attempt,"
             + " created_at, progress_done, progress_total) VALUES (?, ?, 'queued', ?, ?, 0, ?, 0, 0)";
     private static final String FIND_JOB = "SELECT " + JOB_COLUMNS + " FROM jobs WHERE id = ?";

@@ -190,6 +190,45 @@ class JobQueueTest extends StoreTestBase {
         assertEquals("got progress 9/8, expected 0 <= done <= total", e.getMessage());
     }
 
+    /**
+     * The queue length kept by V6's triggers equals COUNT(*) over the queued jobs (the closed form
+     * it replaces) after every step of a seeded random walk through every way a job changes state.
+     */
+    @Test
+    void the_kept_queue_length_equals_a_count_of_queued_jobs_after_every_change() throws Exception {
+        java.util.Random random = new java.util.Random(20261202);
+        List<ClaimedJob> running = new java.util.ArrayList<>();
+        List<String> queued = new java.util.ArrayList<>();
+        Instant now = T1;
+        for (int step = 0; step < 400; step++) {
+            now = now.plusSeconds(1);
+            switch (random.nextInt(8)) {
+                case 0 -> queued.add(submit("unit-" + random.nextInt(5), now).jobId());
+                case 1 -> queued.add(store.enqueue("regression", null, "{}", now));
+                case 2, 3 -> running.addAll(store.claimNext(1 + random.nextInt(2), now));
+                case 4 -> store.cancelIfQueued(queued.isEmpty() ? "none" : queued.get(random.nextInt(queued.size())), now);
+                case 5, 6 -> finishOne(running, random, now);
+                default -> store.rescueStuck(now.minusSeconds(random.nextInt(30)));
+            }
+            assertEquals(fx.count("SELECT COUNT(*) FROM jobs WHERE state = 'queued'"), store.queuedCount(), "step " + step);
+        }
+        assertTrue(store.queuedCount() > 0 && fx.count("SELECT COUNT(*) FROM jobs WHERE state <> 'queued'") > 0,
+                "the walk left jobs both in and out of the queue");
+    }
+
+    /** Retries, fails or completes one claimed job (whichever attempt still holds it). */
+    private void finishOne(List<ClaimedJob> running, java.util.Random random, Instant now) {
+        if (running.isEmpty()) {
+            return;
+        }
+        ClaimedJob job = running.remove(random.nextInt(running.size()));
+        switch (random.nextInt(3)) {
+            case 0 -> store.retryIfRunning(job.id(), job.attempt(), "again", now);
+            case 1 -> store.failIfRunning(job.id(), job.attempt(), "no", now);
+            default -> store.completeIfRunning(job.id(), job.attempt(), null, "{}", now);
+        }
+    }
+
     @Test
     void enqueue_adds_a_regression_job_with_its_params() {
         String id = store.enqueue("regression", null, "{\"suite\":\"nightly\"}", T1);
