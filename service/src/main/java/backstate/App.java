@@ -58,7 +58,7 @@ public final class App implements AutoCloseable {
             }
         }
         this.api = new ApiServer(new ApiServer.Wiring(store, mapper, clock, registry, limits, settings.maxBodyBytes(),
-                settings.maxQueued(), store::queuedCount, workers::wake, keys, settings.auth()));
+                settings.maxQueued(), store::queuedCount, workers::wake, keys, settings.auth(), stored));
     }
 
     public App start(Settings settings) {

@@ -21,16 +21,19 @@ public final class ApiServer implements AutoCloseable {
     private final Javalin app;
     private final List<Route> routes;
 
-    /** What the routes need; wired by hand in App. */
+    /**
+     * What the routes need; wired by hand in App. {@code stored} is shared with the estimate jobs,
+     * which take the traces the posts keep fresh for them.
+     */
     public record Wiring(Store store, ObjectMapper mapper, Clock clock, PrometheusMeterRegistry registry, Limits limits,
                          long maxBodyBytes, int maxQueued, IntSupplier queued, Runnable wakeWorkers,
-                         ApiKeys keys, boolean auth) {
+                         ApiKeys keys, boolean auth, StoredTraceSolver stored) {
 
-        /** Access control off (tests that drive the API directly); key management still works on the store. */
+        /** Access control off and no workers here (tests that drive the API directly); key management still works on the store. */
         public Wiring(Store store, ObjectMapper mapper, Clock clock, PrometheusMeterRegistry registry, Limits limits,
                       long maxBodyBytes, int maxQueued, IntSupplier queued, Runnable wakeWorkers) {
             this(store, mapper, clock, registry, limits, maxBodyBytes, maxQueued, queued, wakeWorkers,
-                    new ApiKeys(store, clock, new SecureRandom()), false);
+                    new ApiKeys(store, clock, new SecureRandom()), false, new StoredTraceSolver(store, mapper, limits));
         }
     }
 
@@ -68,11 +71,10 @@ public final class ApiServer implements AutoCloseable {
     /** The route table: a reader sees the whole API here. */
     static List<Route> routes(Wiring w) {
         ModelRoutes models = new ModelRoutes(w.store(), w.mapper(), w.clock(), w.limits(), w.maxBodyBytes());
-        StoredTraceSolver stored = new StoredTraceSolver(w.store(), w.mapper(), w.limits());
-        TraceRoutes traces = new TraceRoutes(w.store(), stored, w.mapper(), w.clock(), w.limits(), w.maxBodyBytes(),
+        TraceRoutes traces = new TraceRoutes(w.store(), w.stored(), w.mapper(), w.clock(), w.limits(), w.maxBodyBytes(),
                 w.maxQueued(), w.wakeWorkers());
         JobRoutes jobs = new JobRoutes(w.store(), w.clock());
-        EstimateRoutes estimates = new EstimateRoutes(w.store(), stored);
+        EstimateRoutes estimates = new EstimateRoutes(w.store(), w.stored());
         ServiceRoutes service = new ServiceRoutes(w.store(), w.registry(), w.queued(), w.maxQueued());
         KeyRoutes keys = new KeyRoutes(w.keys(), w.mapper());
         RegressionRoutes regressions = new RegressionRoutes(w.store(), w.mapper(), w.clock(), w.maxBodyBytes(),

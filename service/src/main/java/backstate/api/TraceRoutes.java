@@ -14,10 +14,13 @@ import backstate.store.ModelVersionRow;
 import backstate.store.NewTrace;
 import backstate.store.Store;
 import backstate.store.Submission;
+import backstate.store.TraceRef;
 import com.fasterxml.jackson.databind.ObjectMapper;
 import io.javalin.http.Context;
 import java.io.InputStream;
 import java.time.Clock;
+import java.time.Instant;
+import java.time.temporal.ChronoUnit;
 import java.util.Locale;
 import java.util.Map;
 
@@ -61,7 +64,13 @@ final class TraceRoutes {
         Trace t = parsed.trace();
         NewTrace trace = new NewTrace(unitId, version.family(), version.version(), t.samples(), t.time(0),
                 t.time(t.samples() - 1), codec.encode(parsed));
-        Submission submission = store.submitTrace(trace, key, maxQueued, clock.instant());
+        Instant receivedAt = clock.instant();
+        Submission submission = store.submitTrace(trace, key, maxQueued, receivedAt);
+        if (!submission.replayed()) {
+            // Committed: its job may solve the parse in hand instead of reading the row back.
+            stored.keepFresh(new StoredTraceSolver.Loaded(new TraceRef(submission.traceId(), unitId, version.family(),
+                    version.version(), receivedAt.truncatedTo(ChronoUnit.MILLIS)), model, parsed));
+        }
         wakeWorkers.run();
         if (submission.replayed()) {
             ctx.header("Idempotent-Replayed", "true");

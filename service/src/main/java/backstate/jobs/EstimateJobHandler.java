@@ -6,7 +6,7 @@ import backstate.formats.DocumentSolver;
 import backstate.formats.EstimateDocument;
 import backstate.formats.InputException;
 import backstate.store.NewEstimate;
-import backstate.store.TraceRow;
+import backstate.store.TraceRef;
 import com.fasterxml.jackson.databind.ObjectMapper;
 import io.micrometer.core.instrument.MeterRegistry;
 import io.micrometer.core.instrument.Timer;
@@ -33,7 +33,7 @@ public final class EstimateJobHandler implements JobHandler {
         if (!"estimate".equals(job.kind())) {
             return new JobOutcome.Failed("no handler for job kind " + job.kind());
         }
-        StoredTraceSolver.Loaded loaded = solver.load(job.traceId());
+        StoredTraceSolver.Loaded loaded = solver.loadForJob(job.traceId());
         DocumentSolver.Outcome outcome;
         try {
             outcome = solveTimer.recordCallable(() -> solver.solve(loaded, false));
@@ -45,13 +45,14 @@ public final class EstimateJobHandler implements JobHandler {
             return new JobOutcome.Failed(u.message());
         }
         DocumentSolver.Outcome.Solved solved = (DocumentSolver.Outcome.Solved) outcome;
-        return new JobOutcome.Succeeded(toRow(loaded.row(), solved), null);
+        return new JobOutcome.Succeeded(toRow(loaded, solved), null);
     }
 
-    private NewEstimate toRow(TraceRow trace, DocumentSolver.Outcome.Solved solved) throws Exception {
+    private NewEstimate toRow(StoredTraceSolver.Loaded trace, DocumentSolver.Outcome.Solved solved) throws Exception {
         Estimate e = solved.estimate();
         Double chi2PerDof = e.degreesOfFreedom() > 0 ? EstimateDocument.num(e.chiSquare() / e.degreesOfFreedom()) : null;
-        return new NewEstimate(trace.id(), trace.unitId(), trace.family(), trace.version(), trace.windowStart(),
+        TraceRef ref = trace.ref();
+        return new NewEstimate(ref.id(), ref.unitId(), ref.family(), ref.version(), trace.windowStart(),
                 trace.windowEnd(), chi2PerDof, EstimateDocument.flagNames(e), mapper.writeValueAsString(solved.document()));
     }
 }

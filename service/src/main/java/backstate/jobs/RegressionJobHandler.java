@@ -8,7 +8,7 @@ import backstate.regression.RegressionResult;
 import backstate.regression.VersionPair;
 import backstate.store.ModelVersionRow;
 import backstate.store.Store;
-import backstate.store.TraceRow;
+import backstate.store.TraceRef;
 import com.fasterxml.jackson.databind.ObjectMapper;
 import java.time.Clock;
 import java.util.List;
@@ -69,7 +69,7 @@ public final class RegressionJobHandler implements JobHandler {
             }
             String traceId = traceIds.get(done);
             StoredTraceSolver.Loaded loaded = stored.load(traceId);
-            TraceRow trace = loaded.row();
+            TraceRef trace = loaded.ref();
             versions.compare(report, trace.unitId(), trace.id(), trace.receivedAt().toString(), trace.version(),
                     loaded.model(), loaded.parsed());
             int finished = done + 1;

@@ -7,6 +7,7 @@ import backstate.formats.ParsedTrace;
 import backstate.formats.TraceCodec;
 import backstate.store.ModelVersionRow;
 import backstate.store.Store;
+import backstate.store.TraceRef;
 import backstate.store.TraceRow;
 import com.fasterxml.jackson.core.JsonProcessingException;
 import com.fasterxml.jackson.databind.ObjectMapper;
@@ -27,6 +28,7 @@ public final class StoredTraceSolver {
     private final TraceCodec codec;
     private final Limits limits;
     private final Map<String, ModelDocument> models = new ConcurrentHashMap<>();
+    private final FreshTraces fresh = new FreshTraces(System::nanoTime);
 
     public StoredTraceSolver(Store store, ObjectMapper mapper, Limits limits) {
         this.store = store;
@@ -36,7 +38,14 @@ public final class StoredTraceSolver {
     }
 
     /** A stored trace, decoded, with the model document of its version. */
-    public record Loaded(TraceRow row, ModelDocument model, ParsedTrace parsed) {
+    public record Loaded(TraceRef ref, ModelDocument model, ParsedTrace parsed) {
+        public double windowStart() {
+            return parsed.trace().time(0);
+        }
+
+        public double windowEnd() {
+            return parsed.trace().time(parsed.trace().samples() - 1);
+        }
     }
 
     /** Reads and decodes a trace; a missing trace or version is a broken database, not bad input. */
@@ -45,7 +54,21 @@ public final class StoredTraceSolver {
                 .orElseThrow(() -> new IllegalStateException("trace " + traceId + " is missing"));
         ModelVersionRow version = store.findVersion(row.family(), row.version()).orElseThrow(() ->
                 new IllegalStateException("model version " + row.family() + "/" + row.version() + " is missing"));
-        return new Loaded(row, model(version), codec.decode(row.payload()));
+        TraceRef ref = new TraceRef(row.id(), row.unitId(), row.family(), row.version(), row.receivedAt());
+        return new Loaded(ref, model(version), codec.decode(row.payload()));
+    }
+
+    /**
+     * Hands a trace whose post has just committed to the job that will solve it ({@link FreshTraces});
+     * call only after the commit, with exactly what was stored (the codec is exact).
+     */
+    public void keepFresh(Loaded stored) {
+        fresh.offer(stored);
+    }
+
+    /** For the trace's estimate job: the trace its post kept in memory, else the stored row. */
+    public Loaded loadForJob(String traceId) {
+        return fresh.take(traceId).orElseGet(() -> load(traceId));
     }
 
     /**
