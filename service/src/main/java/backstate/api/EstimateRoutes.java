@@ -69,7 +69,7 @@ final class EstimateRoutes {
         if (!(solver.solve(loaded, true) instanceof DocumentSolver.Outcome.Solved solved)) {
             throw new IllegalStateException("trace " + row.traceId() + " solved once but not again");
         }
-        List<String> outputs = loaded.model().outputs().stream().map(q -> q.name()).toList();
+        List<String> outputs = loaded.model().document().outputs().stream().map(q -> q.name()).toList();
         ctx.json(decimate(solved.estimate().series(), outputs, maxPoints));
     }
 

@@ -3,6 +3,7 @@ package backstate.api;
 import backstate.estimation.InitialStateEstimator;
 import backstate.estimation.StateSpaceModel;
 import backstate.estimation.Trace;
+import backstate.formats.CheckedModel;
 import backstate.formats.Limits;
 import backstate.formats.ModelDocument;
 import backstate.formats.ParsedTrace;
@@ -56,9 +57,9 @@ final class TraceRoutes {
         String unitId = Params.identifier(ctx, "unitId");
         String key = idempotencyKey(ctx);
         ModelVersionRow version = activeVersion(ctx);
-        ModelDocument model = stored.model(version);
-        ParsedTrace parsed = parse(ctx, model);
-        StateSpaceModel engineModel = model.toModel(limits);
+        CheckedModel model = stored.model(version);
+        ParsedTrace parsed = parse(ctx, model.document());
+        StateSpaceModel engineModel = model.engine();
         InitialStateEstimator.validate(engineModel, parsed.trace(),
                 parsed.options().toEstimationOptions(engineModel.states(), false));
         Trace t = parsed.trace();

@@ -27,7 +27,13 @@ public final class DocumentSolver {
     }
 
     public static Outcome solve(ModelDocument modelDocument, ParsedTrace parsed, boolean keepSeries, Limits limits) {
-        StateSpaceModel model = modelDocument.toModel(limits);
+        return solve(CheckedModel.of(modelDocument, limits), parsed, keepSeries);
+    }
+
+    /** As above, for a model already checked (a published version's, checked once). */
+    public static Outcome solve(CheckedModel checked, ParsedTrace parsed, boolean keepSeries) {
+        ModelDocument modelDocument = checked.document();
+        StateSpaceModel model = checked.engine();
         TraceOptions options = parsed.options() == null ? TraceOptions.NONE : parsed.options();
         EstimationOptions engineOptions = options.toEstimationOptions(model.states(), keepSeries);
         EstimationResult result = InitialStateEstimator.solve(model, parsed.trace(), engineOptions);

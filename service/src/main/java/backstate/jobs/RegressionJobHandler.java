@@ -52,8 +52,8 @@ public final class RegressionJobHandler implements JobHandler {
         RegressionParams params = mapper.readValue(job.paramsJson(), RegressionParams.class);
         ModelVersionRow baselineRow = version(params.family(), params.baseline());
         ModelVersionRow candidateRow = version(params.family(), params.candidate());
-        ModelDocument baseline = stored.model(baselineRow);
-        ModelDocument candidate = stored.model(candidateRow);
+        ModelDocument baseline = stored.model(baselineRow).document();
+        ModelDocument candidate = stored.model(candidateRow).document();
         List<String> traceIds = params.traceIds();
         int total = traceIds.size();
         RegressionReport report = new RegressionReport(params.family(), info(baselineRow, baseline),
@@ -71,7 +71,7 @@ public final class RegressionJobHandler implements JobHandler {
             StoredTraceSolver.Loaded loaded = stored.load(traceId);
             TraceRef trace = loaded.ref();
             versions.compare(report, trace.unitId(), trace.id(), trace.receivedAt().toString(), trace.version(),
-                    loaded.model(), loaded.parsed());
+                    loaded.model().document(), loaded.parsed());
             int finished = done + 1;
             if ((finished % step == 0 || finished == total)
                     && !queue.reportProgress(job.id(), job.attempt(), finished, total)) {

@@ -2,6 +2,7 @@ package backstate.jobs;
 
 import backstate.formats.DocumentSolver;
 import backstate.formats.Limits;
+import backstate.formats.CheckedModel;
 import backstate.formats.ModelDocument;
 import backstate.formats.ParsedTrace;
 import backstate.formats.TraceCodec;
@@ -27,7 +28,7 @@ public final class StoredTraceSolver {
     private final ObjectMapper mapper;
     private final TraceCodec codec;
     private final Limits limits;
-    private final Map<String, ModelDocument> models = new ConcurrentHashMap<>();
+    private final Map<String, CheckedModel> models = new ConcurrentHashMap<>();
     private final FreshTraces fresh = new FreshTraces(System::nanoTime);
 
     public StoredTraceSolver(Store store, ObjectMapper mapper, Limits limits) {
@@ -37,8 +38,8 @@ public final class StoredTraceSolver {
         this.limits = limits;
     }
 
-    /** A stored trace, decoded, with the model document of its version. */
-    public record Loaded(TraceRef ref, ModelDocument model, ParsedTrace parsed) {
+    /** A stored trace, decoded, with the checked model of its version. */
+    public record Loaded(TraceRef ref, CheckedModel model, ParsedTrace parsed) {
         public double windowStart() {
             return parsed.trace().time(0);
         }
@@ -72,31 +73,31 @@ public final class StoredTraceSolver {
     }
 
     /**
-     * A version's model document, parsed once: versions are immutable, so the parse is cached
+     * A version's model, parsed and checked once: versions are immutable, so the result is cached
      * (dropped whole past {@link #MAX_CACHED_MODELS}, which no real fleet nears).
      */
-    public ModelDocument model(ModelVersionRow row) {
+    public CheckedModel model(ModelVersionRow row) {
         String key = row.family() + "/" + row.version();
-        ModelDocument cached = models.get(key);
+        CheckedModel cached = models.get(key);
         if (cached != null) {
             return cached;
         }
         if (models.size() >= MAX_CACHED_MODELS) {
             models.clear();
         }
-        ModelDocument parsed = parse(row);
+        CheckedModel parsed = parse(row);
         models.put(key, parsed);
         return parsed;
     }
 
     /** Solves a loaded trace; {@code keepSeries} also returns the fitted and residual series. */
     public DocumentSolver.Outcome solve(Loaded loaded, boolean keepSeries) {
-        return DocumentSolver.solve(loaded.model(), loaded.parsed(), keepSeries, limits);
+        return DocumentSolver.solve(loaded.model(), loaded.parsed(), keepSeries);
     }
 
-    private ModelDocument parse(ModelVersionRow row) {
+    private CheckedModel parse(ModelVersionRow row) {
         try {
-            return mapper.readValue(row.documentJson(), ModelDocument.class);
+            return CheckedModel.of(mapper.readValue(row.documentJson(), ModelDocument.class), limits);
         } catch (JsonProcessingException e) {
             throw new IllegalStateException("stored model " + row.family() + "/" + row.version() + " is not readable", e);
         }
