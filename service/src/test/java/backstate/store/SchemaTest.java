@@ -41,7 +41,8 @@ class SchemaTest {
                 "estimates", "estimates_by_model", "estimates_by_model_window", "estimates_by_unit_newest", "idempotency_keys",
                 "jobs", "jobs_by_state_and_age", "model_families", "model_versions",
                 "model_versions_are_immutable", "model_versions_stay_retired",
-                "regressions", "regressions_by_family_newest", "regressions_newest", "traces",
+                "queue_length", "queue_length_on_delete", "queue_length_on_insert", "queue_length_on_leaving",
+                "queue_length_on_return", "regressions", "regressions_by_family_newest", "regressions_newest", "traces",
                 "traces_by_family_unit_received", "traces_by_model_received",
                 "unit_latest", "unit_latest_by_age", "unit_version_latest", "unit_version_latest_by_age"), names);
     }
@@ -151,6 +152,31 @@ class SchemaTest {
                 s.execute(sql);
             }
         }, sql);
+    }
+
+    /** V6 starts the kept queue length from the jobs already queued in a file made before it. */
+    @Test
+    void migrating_a_version_5_file_starts_the_queue_length_at_its_queued_jobs() throws Exception {
+        Path file = dir.resolve("v5.db");
+        org.flywaydb.core.Flyway.configure().dataSource("jdbc:sqlite:" + file, null, null)
+                .locations(SqliteMigrations.LOCATION).target("5").load().migrate();
+        try (Connection c = java.sql.DriverManager.getConnection("jdbc:sqlite:" + file); Statement st = c.createStatement()) {
+            for (String state : List.of("queued", "queued", "running", "failed", "queued")) {
+                boolean running = state.equals("running");
+                boolean done = state.equals("failed");
+                st.executeUpdate("INSERT INTO jobs (id, kind, state, params_json, attempt, created_at, started_at, finished_at)"
+                        + " VALUES (lower(hex(randomblob(8))), 'regression', '" + state + "', '{}', 0, 1, "
+                        + (running || done ? "1" : "NULL") + ", " + (done ? "2" : "NULL") + ")");
+            }
+        }
+        try (SqliteStore migrated = new SqliteStore(file, fx.clock)) {
+            // 3 queued, plus the running one: opening the store rescues it (a crash left it running).
+            assertEquals(4, migrated.queuedCount());
+        }
+        try (Connection c = java.sql.DriverManager.getConnection("jdbc:sqlite:" + file);
+             ResultSet rs = c.createStatement().executeQuery("SELECT COUNT(*) FROM jobs WHERE state = 'queued'")) {
+            assertEquals(4, rs.getInt(1), "the closed form agrees");
+        }
     }
 
     private List<String> strings(String sql) throws SQLException {
