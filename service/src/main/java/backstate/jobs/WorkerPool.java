@@ -67,6 +67,7 @@ public final class WorkerPool implements AutoCloseable {
     private final Duration rescueInterval;
     private final JobMetrics metrics;
     /** Threads: a job holds one from its claim until its outcome is written. */
+    private final int threads;
     private final Semaphore freeThreads;
     private final ExecutorService workers;
     private final Thread dispatcher;
@@ -97,8 +98,9 @@ public final class WorkerPool implements AutoCloseable {
         this.shutdownGrace = shutdownGrace;
         this.stuckAfter = stuckAfter;
         this.rescueInterval = stuckAfter.dividedBy(RESCUE_CHECKS_PER_STUCK_WINDOW);
-        this.freeThreads = new Semaphore(workers * JOBS_IN_FLIGHT_PER_WORKER);
-        this.workers = Executors.newFixedThreadPool(workers * JOBS_IN_FLIGHT_PER_WORKER, namedDaemons("backstate-worker-"));
+        this.threads = workers * JOBS_IN_FLIGHT_PER_WORKER;
+        this.freeThreads = new Semaphore(threads);
+        this.workers = Executors.newFixedThreadPool(threads, namedDaemons("backstate-worker-"));
         this.dispatcher = namedDaemons("backstate-dispatcher-").newThread(this::dispatchUntilStopped);
         this.metrics = new JobMetrics(registry, q);
         // Handler slots: at most `workers` handlers run at once, so CPU and memory stay as configured.
@@ -152,10 +154,15 @@ public final class WorkerPool implements AutoCloseable {
         }
     }
 
-    /** Claims up to one job per free thread; returns how many were claimed. */
+    /**
+     * Claims up to one job per free thread, once at least half the threads are free; returns how
+     * many were claimed. Each claim is a write of its own, so claiming in halves rather than one
+     * job per finished job keeps claims to a few per batch; the half still in flight keeps every
+     * handler slot busy meanwhile.
+     */
     private int claimAndDispatch() {
         int free = freeThreads.availablePermits(); // only this thread takes permits, so they stay free
-        if (free == 0) {
+        if (free == 0 || free < threads / 2) {
             return 0;
         }
         List<ClaimedJob> claimed = claimOrNothing(free);

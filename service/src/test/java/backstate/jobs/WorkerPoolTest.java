@@ -2,6 +2,7 @@ package backstate.jobs;
 
 import static java.util.concurrent.TimeUnit.SECONDS;
 import static org.junit.jupiter.api.Assertions.assertEquals;
+import static org.junit.jupiter.api.Assertions.assertFalse;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
 import backstate.store.JobRow;
@@ -144,6 +145,27 @@ class WorkerPoolTest extends StoreTestBase {
     }
 
     @Test
+    void jobs_are_claimed_once_at_least_half_the_threads_are_free() throws Exception {
+        int threads = WorkerPool.JOBS_IN_FLIGHT_PER_WORKER;
+        int jobs = 5 * threads;
+        for (int i = 0; i < jobs; i++) {
+            submit("unit-" + i);
+        }
+        CountDownLatch released = new CountDownLatch(0);
+        HeldOutcomes queue = new HeldOutcomes(store, new CountDownLatch(1), released);
+        JobHandler handler = job -> new JobOutcome.Succeeded(estimateFor(store.findTrace(job.traceId()).orElseThrow()), "{}");
+        try (WorkerPool pool = new WorkerPool(queue, handler, 1, fx.clock, IDLE_POLL, registry,
+                WorkerPool.DEFAULT_SHUTDOWN_GRACE, STUCK_AFTER)) {
+            pool.start();
+            awaitSucceeded(jobs);
+        }
+        assertFalse(queue.claimLimits().isEmpty());
+        assertTrue(queue.claimLimits().stream().allMatch(limit -> limit >= threads / 2),
+                "every claim asks for at least half the threads' worth: " + queue.claimLimits());
+        assertEquals(threads, queue.claimLimits().get(0), "the first claim fills every thread");
+    }
+
+    @Test
     void a_job_that_keeps_throwing_is_retried_then_failed_with_every_error() throws Exception {
         Submission s = submit("unit-1");
         CountDownLatch threeRuns = new CountDownLatch(3);
@@ -265,8 +287,16 @@ class WorkerPoolTest extends StoreTestBase {
         assertEquals(jobs, fx.count("SELECT COUNT(*) FROM jobs WHERE state = 'succeeded'"));
     }
 
-    /** The store as a queue whose completions wait until released (a write stuck behind a batch). */
-    private record HeldOutcomes(SqliteStore store, CountDownLatch writeStarted, CountDownLatch release) implements JobQueue {
+    /**
+     * The store as a queue whose completions wait until released (a write stuck behind a batch),
+     * recording the limit of every claim.
+     */
+    private record HeldOutcomes(SqliteStore store, CountDownLatch writeStarted, CountDownLatch release,
+                                List<Integer> claimLimits) implements JobQueue {
+        HeldOutcomes(SqliteStore store, CountDownLatch writeStarted, CountDownLatch release) {
+            this(store, writeStarted, release, new java.util.concurrent.CopyOnWriteArrayList<>());
+        }
+
         @Override
         public boolean completeIfRunning(String jobId, int attempt, NewEstimate estimateOrNull, String resultJsonOrNull,
                                          java.time.Instant now) {
@@ -282,6 +312,7 @@ class WorkerPoolTest extends StoreTestBase {
 
         @Override
         public List<ClaimedJob> claimNext(int limit, java.time.Instant now) {
+            claimLimits.add(limit);
             return store.claimNext(limit, now);
         }
 
