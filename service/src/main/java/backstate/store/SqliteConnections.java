@@ -53,7 +53,7 @@ final class SqliteConnections implements AutoCloseable {
             Connection raw = dataSource.getConnection();
             writerConnection = raw;
             WalCheckpoints.raiseWriterThreshold(raw);
-            writerConnection = writerDecorator.apply(raw);
+            writerConnection = writerDecorator.apply(ReusedStatements.wrap(raw));
             for (int i = 0; i < settings.readConnections(); i++) {
                 Connection reader = openReader();
                 allReaders.add(reader);
