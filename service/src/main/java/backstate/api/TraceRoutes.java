@@ -4,6 +4,7 @@ import backstate.estimation.InitialStateEstimator;
 import backstate.estimation.StateSpaceModel;
 import backstate.estimation.Trace;
 import backstate.formats.CheckedModel;
+import backstate.formats.DocumentSolver;
 import backstate.formats.Limits;
 import backstate.formats.ModelDocument;
 import backstate.formats.ParsedTrace;
@@ -24,6 +25,7 @@ import java.time.Instant;
 import java.time.temporal.ChronoUnit;
 import java.util.Locale;
 import java.util.Map;
+import java.util.concurrent.Future;
 
 /** Trace ingest: store the trace and queue its solve in one transaction, answer 202 with the job. */
 final class TraceRoutes {
@@ -66,11 +68,21 @@ final class TraceRoutes {
         NewTrace trace = new NewTrace(unitId, version.family(), version.version(), t.samples(), t.time(0),
                 t.time(t.samples() - 1), codec.encode(parsed));
         Instant receivedAt = clock.instant();
-        Submission submission = store.submitTrace(trace, key, maxQueued, receivedAt);
-        if (!submission.replayed()) {
-            // Committed: its job may solve the parse in hand instead of reading the row back.
+        // A long trace starts solving now, overlapping its durable write below.
+        Future<DocumentSolver.Outcome> solvedAhead = stored.solveAhead(model, parsed);
+        Submission submission;
+        try {
+            submission = store.submitTrace(trace, key, maxQueued, receivedAt);
+        } catch (Exception | Error e) {
+            cancel(solvedAhead);
+            throw e;
+        }
+        if (submission.replayed()) {
+            cancel(solvedAhead);
+        } else {
+            // Committed: its job may take the parse (and solve) in hand instead of reading the row back.
             stored.keepFresh(new StoredTraceSolver.Loaded(new TraceRef(submission.traceId(), unitId, version.family(),
-                    version.version(), receivedAt.truncatedTo(ChronoUnit.MILLIS)), model, parsed));
+                    version.version(), receivedAt.truncatedTo(ChronoUnit.MILLIS)), model, parsed, solvedAhead));
         }
         wakeWorkers.run();
         if (submission.replayed()) {
@@ -80,6 +92,12 @@ final class TraceRoutes {
                 .json(new Views.Accepted(submission.jobId(), submission.traceId(), unitId, "queued",
                         Map.of("job", "/v1/jobs/" + submission.jobId(),
                                 "latestEstimate", "/v1/units/" + unitId + "/estimates/latest")));
+    }
+
+    private static void cancel(Future<?> solvedAheadOrNull) {
+        if (solvedAheadOrNull != null) {
+            solvedAheadOrNull.cancel(true);
+        }
     }
 
     private ModelVersionRow activeVersion(Context ctx) {

@@ -10,6 +10,8 @@ import backstate.store.TraceRef;
 import com.fasterxml.jackson.databind.ObjectMapper;
 import io.micrometer.core.instrument.MeterRegistry;
 import io.micrometer.core.instrument.Timer;
+import java.util.concurrent.ExecutionException;
+import java.util.concurrent.Future;
 
 /**
  * Runs an 'estimate' job: loads the stored trace and its model version, solves, and returns the
@@ -36,7 +38,9 @@ public final class EstimateJobHandler implements JobHandler {
         StoredTraceSolver.Loaded loaded = solver.loadForJob(job.traceId());
         DocumentSolver.Outcome outcome;
         try {
-            outcome = solveTimer.recordCallable(() -> solver.solve(loaded, false));
+            // For a trace solved ahead, the time this job waited for that solve.
+            outcome = solveTimer.recordCallable(() -> loaded.solvedAhead() == null ? solver.solve(loaded, false)
+                    : awaitSolvedAhead(loaded.solvedAhead()));
         } catch (ModelException | InputException e) {
             // Deterministic: the same trace fails the same way on every attempt, so do not retry.
             return new JobOutcome.Failed("the trace does not fit its model version: " + e.getMessage());
@@ -46,6 +50,14 @@ public final class EstimateJobHandler implements JobHandler {
         }
         DocumentSolver.Outcome.Solved solved = (DocumentSolver.Outcome.Solved) outcome;
         return new JobOutcome.Succeeded(toRow(loaded, solved), null);
+    }
+
+    private static DocumentSolver.Outcome awaitSolvedAhead(Future<DocumentSolver.Outcome> ahead) throws Exception {
+        try {
+            return ahead.get();
+        } catch (ExecutionException e) {
+            throw e.getCause() instanceof Exception cause ? cause : e;
+        }
     }
 
     private NewEstimate toRow(StoredTraceSolver.Loaded trace, DocumentSolver.Outcome.Solved solved) throws Exception {

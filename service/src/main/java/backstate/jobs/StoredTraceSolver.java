@@ -14,6 +14,12 @@ import com.fasterxml.jackson.core.JsonProcessingException;
 import com.fasterxml.jackson.databind.ObjectMapper;
 import java.util.Map;
 import java.util.concurrent.ConcurrentHashMap;
+import java.util.concurrent.ExecutorService;
+import java.util.concurrent.Future;
+import java.util.concurrent.RejectedExecutionException;
+import java.util.concurrent.SynchronousQueue;
+import java.util.concurrent.ThreadPoolExecutor;
+import java.util.concurrent.TimeUnit;
 
 /**
  * Solves a stored trace under the model version it was posted for. Estimate jobs take this path,
@@ -23,6 +29,8 @@ import java.util.concurrent.ConcurrentHashMap;
 public final class StoredTraceSolver {
     /** Model versions whose parsed documents are kept. */
     static final int MAX_CACHED_MODELS = 1024;
+    /** Traces this long are solved while their post's write is under way (~0.01 s of solve and up). */
+    public static final int SOLVE_AHEAD_SAMPLES = 100_000;
 
     private final Store store;
     private final ObjectMapper mapper;
@@ -30,6 +38,12 @@ public final class StoredTraceSolver {
     private final Limits limits;
     private final Map<String, CheckedModel> models = new ConcurrentHashMap<>();
     private final FreshTraces fresh = new FreshTraces(System::nanoTime);
+    /** One thread, no queue: a second long upload while one is solved ahead is solved by its job. */
+    private final ExecutorService ahead = new ThreadPoolExecutor(1, 1, 0, TimeUnit.SECONDS, new SynchronousQueue<>(), r -> {
+        Thread t = new Thread(r, "backstate-solve-ahead");
+        t.setDaemon(true);
+        return t;
+    });
 
     public StoredTraceSolver(Store store, ObjectMapper mapper, Limits limits) {
         this.store = store;
@@ -38,8 +52,15 @@ public final class StoredTraceSolver {
         this.limits = limits;
     }
 
-    /** A stored trace, decoded, with the checked model of its version. */
-    public record Loaded(TraceRef ref, CheckedModel model, ParsedTrace parsed) {
+    /**
+     * A stored trace, decoded, with the checked model of its version; {@code solvedAhead} is the
+     * solve its post started while the trace was being written ({@link #solveAhead}), or null.
+     */
+    public record Loaded(TraceRef ref, CheckedModel model, ParsedTrace parsed, Future<DocumentSolver.Outcome> solvedAhead) {
+        public Loaded(TraceRef ref, CheckedModel model, ParsedTrace parsed) {
+            this(ref, model, parsed, null);
+        }
+
         public double windowStart() {
             return parsed.trace().time(0);
         }
@@ -64,7 +85,9 @@ public final class StoredTraceSolver {
      * call only after the commit, with exactly what was stored (the codec is exact).
      */
     public void keepFresh(Loaded stored) {
-        fresh.offer(stored);
+        if (!fresh.offer(stored) && stored.solvedAhead() != null) {
+            stored.solvedAhead().cancel(true); // no room: its job will read the row and solve
+        }
     }
 
     /** For the trace's estimate job: the trace its post kept in memory, else the stored row. */
@@ -88,6 +111,23 @@ public final class StoredTraceSolver {
         CheckedModel parsed = parse(row);
         models.put(key, parsed);
         return parsed;
+    }
+
+    /**
+     * Starts solving a long trace on the one solve-ahead thread, for its post to hand to the job
+     * with the trace once the write has committed: the solve then overlaps the durable write of a
+     * large upload instead of following it. Null for a short trace (a flood of small posts must
+     * not jump the queue or pass the workers' CPU bound) or while that thread is busy.
+     */
+    public Future<DocumentSolver.Outcome> solveAhead(CheckedModel model, ParsedTrace parsed) {
+        if (parsed.trace().samples() < SOLVE_AHEAD_SAMPLES) {
+            return null;
+        }
+        try {
+            return ahead.submit(() -> DocumentSolver.solve(model, parsed, false));
+        } catch (RejectedExecutionException busy) {
+            return null;
+        }
     }
 
     /** Solves a loaded trace; {@code keepSeries} also returns the fitted and residual series. */

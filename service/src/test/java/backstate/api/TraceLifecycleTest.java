@@ -171,6 +171,30 @@ class TraceLifecycleTest {
         assertEquals(43200.0, series.get("time").get(0).asDouble());
     }
 
+    /**
+     * A trace long enough to be solved while its post is written (StoredTraceSolver.solveAhead)
+     * gets the estimate the offline path computes from the same CSV (DocumentSolver, as `solve`).
+     */
+    @Test
+    void a_long_trace_solved_during_its_write_matches_the_offline_solve() throws Exception {
+        int samples = backstate.jobs.StoredTraceSolver.SOLVE_AHEAD_SAMPLES;
+        byte[] csv = new backstate.reliability.ReeferTraces(TestServer.TEST_DATA).csv(samples, 11);
+        TestServer.Reply accepted = server.post("/v1/units/RCX-LONG1/traces?model=reefer-40&version=1", "text/csv", csv);
+        assertEquals(202, accepted.status(), accepted.body());
+        JsonNode job = server.awaitJob(accepted.json().get("jobId").asText());
+        assertEquals("succeeded", job.get("state").asText(), job.toString());
+        JsonNode estimate = server.get("/v1/estimates/" + job.get("estimateId").asText()).json();
+
+        backstate.formats.ModelDocument model = server.mapper.readValue(
+                TestServer.TEST_DATA.resolve("demo/models/reefer-40.v1.json").toFile(), backstate.formats.ModelDocument.class);
+        backstate.formats.ParsedTrace parsed = new backstate.formats.TraceReader(backstate.formats.Limits.DEFAULTS)
+                .readCsv(new java.io.ByteArrayInputStream(csv), model, backstate.formats.TraceOptions.NONE);
+        var offline = (backstate.formats.DocumentSolver.Outcome.Solved) backstate.formats.DocumentSolver.solve(model, parsed,
+                false, backstate.formats.Limits.DEFAULTS);
+        JsonNode expected = server.mapper.readTree(server.mapper.writeValueAsString(offline.document()));
+        assertEquals(expected, estimate.get("result"));
+    }
+
     @Test
     void retired_version_takes_no_new_traces() throws Exception {
         TestServer.Reply published = server.post("/v1/models/reefer-40/versions", "application/json",
