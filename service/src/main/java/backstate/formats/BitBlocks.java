@@ -1,9 +1,5 @@
 package backstate.formats;
 
-import java.lang.invoke.MethodHandles;
-import java.lang.invoke.VarHandle;
-import java.nio.ByteOrder;
-
 /**
  * Non-negative integer codes in blocks of up to {@value #BLOCK}: one byte, the bit width w of the
  * block's largest code (1..{@value #MAX_WIDTH}), then its codes packed w bits each, low bits first —
@@ -18,7 +14,6 @@ final class BitBlocks {
     static final int BLOCK = 128;
     /** Codes of 2 + (difference − least difference of the block) fit 56 bits for mantissas below 2^53; 7 + 56 ≤ 64, so one 8-byte window holds any code. */
     static final int MAX_WIDTH = 56;
-    private static final VarHandle LITTLE_ENDIAN_LONG = MethodHandles.byteArrayViewVarHandle(long[].class, ByteOrder.LITTLE_ENDIAN);
 
     private BitBlocks() {
     }
@@ -79,7 +74,7 @@ final class BitBlocks {
         /** Code {@code t} of the block: one 8-byte load, a shift and a mask. */
         long code(int t) {
             int bit = t * width;
-            return ((long) LITTLE_ENDIAN_LONG.get(bytes, start + (bit >>> 3)) >>> (bit & 7)) & mask;
+            return ((long) ByteSink.LITTLE_ENDIAN_LONG.get(bytes, start + (bit >>> 3)) >>> (bit & 7)) & mask;
         }
     }
 }

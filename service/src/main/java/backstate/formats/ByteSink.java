@@ -12,6 +12,8 @@ import java.util.Arrays;
 final class ByteSink {
     /** A double's raw bits, most significant byte first, as {@code DataOutputStream} writes them. */
     static final VarHandle BIG_ENDIAN_LONG = MethodHandles.byteArrayViewVarHandle(long[].class, ByteOrder.BIG_ENDIAN);
+    /** Packed codes, low bits first: the first code's bits are the low bits of the first byte. */
+    static final VarHandle LITTLE_ENDIAN_LONG = MethodHandles.byteArrayViewVarHandle(long[].class, ByteOrder.LITTLE_ENDIAN);
     /** Seven payload bits a varint byte, as in Protocol Buffers' encoding documentation (from memory). */
     static final int VARINT_PAYLOAD_BITS = 7;
     static final int VARINT_MORE = 0x80;
@@ -82,21 +84,27 @@ final class ByteSink {
      * zeros. Binary packing as in Lemire and Boytsov 2015 (see {@link BitBlocks}).
      */
     void putPacked(long[] codes, int from, int count, int width) {
-        ensure((count * width + Byte.SIZE - 1) / Byte.SIZE);
+        int length = (count * width + Byte.SIZE - 1) / Byte.SIZE;
+        ensure(length + Long.BYTES);
+        int at = size;
         long pending = 0;
         int bits = 0;
         for (int k = from; k < from + count; k++) {
-            pending |= codes[k] << bits;
+            long code = codes[k];
+            pending |= code << bits;
             bits += width;
-            while (bits >= Byte.SIZE) {
-                bytes[size++] = (byte) pending;
-                pending >>>= Byte.SIZE;
-                bits -= Byte.SIZE;
+            if (bits >= Long.SIZE) {
+                LITTLE_ENDIAN_LONG.set(bytes, at, pending);
+                at += Long.BYTES;
+                bits -= Long.SIZE;
+                pending = code >>> (width - bits);    // the part that did not fit (0 when none; width < 64)
             }
         }
-        if (bits > 0) {
-            bytes[size++] = (byte) pending;
+        for (; bits > 0; bits -= Byte.SIZE) {
+            bytes[at++] = (byte) pending;
+            pending >>>= Byte.SIZE;
         }
+        size += length;
     }
 
     byte[] toByteArray() {

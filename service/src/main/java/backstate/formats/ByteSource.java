@@ -70,10 +70,19 @@ final class ByteSource {
     }
 
     double getDouble() {
-        need(Long.BYTES);
-        long bits = (long) ByteSink.BIG_ENDIAN_LONG.get(bytes, position);
-        position += Long.BYTES;
-        return Double.longBitsToDouble(bits);
+        return doubleAt(take(Double.BYTES));
+    }
+
+    /** The next {@code count} doubles into {@code into[at]}, {@code into[at + stride]}, …, one length check for all. */
+    void getDoubles(double[] into, int at, int count, int stride) {
+        for (int i = take(Double.BYTES * count), t = 0, o = at; t < count; t++, i += Double.BYTES, o += stride) {
+            into[o] = doubleAt(i);
+        }
+    }
+
+    /** The big-endian double at {@code at}, a position claimed with {@link #take}. */
+    double doubleAt(int at) {
+        return Double.longBitsToDouble((long) ByteSink.BIG_ENDIAN_LONG.get(bytes, at));
     }
 
     /** A base-128 varint as {@link ByteSink#putVarLong} writes it (Protocol Buffers' varint), at most 63 bits. */

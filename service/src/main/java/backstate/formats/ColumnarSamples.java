@@ -42,28 +42,18 @@ final class ColumnarSamples {
         for (int c = 0; c < columns.length; c++) {
             columns[c] = StoredColumn.open(in);
         }
-        double[] block = new double[Math.min(n, BitBlocks.BLOCK)];
         for (int from = 0; from < n; from += BitBlocks.BLOCK) {
             int count = Math.min(BitBlocks.BLOCK, n - from);
-            columns[0].next(count, times, from, from);
+            columns[0].next(count, times, from, 1, from);
             for (int j = 0; j < p; j++) {
-                columns[1 + j].next(count, block, 0, from);
-                scatter(block, count, y, from * p + j, p);
+                columns[1 + j].next(count, y, from * p + j, p, from);
             }
             for (int i = 0; i < m; i++) {
-                columns[1 + p + i].next(count, block, 0, from);
-                scatter(block, count, u, from * m + i, m);
+                columns[1 + p + i].next(count, u, from * m + i, m, from);
             }
         }
         for (StoredColumn.Cursor column : columns) {
             column.finish();
-        }
-    }
-
-    /** {@code block[0, count)} into {@code rows[at]}, {@code rows[at + stride]}, … */
-    private static void scatter(double[] block, int count, double[] rows, int at, int stride) {
-        for (int t = 0, i = at; t < count; t++, i += stride) {
-            rows[i] = block[t];
         }
     }
 }

@@ -235,9 +235,8 @@ final class StoredColumn {
     }
 
     /**
-     * The values of one column, a block at a time: decimal codes become exact doubles M in one loop,
-     * then one loop divides them all by 10^S, which the JIT can run on vector registers (a division
-     * in the first loop would hold it up). Each value is M / 10^S, Clinger 1990's exact case.
+     * The values of one column, a block at a time, written straight into the trace's row-major
+     * arrays. Each decimal value is M / 10^S, Clinger 1990's exact case.
      */
     static final class Cursor {
         private final ByteSource body;
@@ -252,13 +251,10 @@ final class StoredColumn {
             this.mantissa = base;
         }
 
-        /** The next {@code count} values (samples {@code from} on) into {@code into[at, at + count)}. */
-        void next(int count, double[] into, int at, int from) {
-            int end = at + count;
+        /** The next {@code count} values (samples {@code from} on) into {@code into[at]}, {@code into[at + stride]}, … */
+        void next(int count, double[] into, int at, int stride, int from) {
             if (scale < 0) {
-                for (int t = at; t < end; t++) {
-                    into[t] = body.getDouble();
-                }
+                body.getDoubles(into, at, count, stride);
                 return;
             }
             long least = unzigzag(body.getVarLong());
@@ -268,12 +264,13 @@ final class StoredColumn {
             }
             blocks.next(body, count);
             long offset = least - FIRST_DELTA_CODE;
+            double power = ExactPowersOfTen.of(scale);
             long m = mantissa;
-            // Each step is within [least, least + 2^w]; when count such steps cannot take M to 2^53 no
-            // step is checked (the common case), else each is (and, |M| < 2^53 and |D| < 2^57, none wraps).
-            long widest = Math.max(Math.abs(least), Math.abs(least + (1L << blocks.width())));
-            boolean checkEach = widest >= (MANTISSA_BOUND - Math.abs(m)) / count;
-            for (int t = 0; t < count; t++) {
+            // Each step is within [least, least + 2^w]; when a block of such steps cannot take M to 2^53
+            // no step is checked (the common case), else each is (|M| < 2^53 and |D| < 2^57: none wraps).
+            long widest = Math.min(MANTISSA_BOUND, Math.max(Math.abs(least), Math.abs(least + (1L << blocks.width()))));
+            boolean checkEach = Math.abs(m) + widest * BitBlocks.BLOCK >= MANTISSA_BOUND;
+            for (int t = 0, o = at; t < count; t++, o += stride) {
                 long code = blocks.code(t);
                 if (code >= FIRST_DELTA_CODE) {
                     m += code + offset;
@@ -281,18 +278,12 @@ final class StoredColumn {
                         throw new IllegalStateException("stored trace column: got a mantissa of " + m + " at sample "
                                 + (from + t) + ", expected |M| < 2^53");
                     }
-                    into[at + t] = m;
+                    into[o] = m / power;
                 } else {
-                    into[at + t] = code == MISSING ? Double.NaN : -0.0;
+                    into[o] = code == MISSING ? Double.NaN : -0.0;
                 }
             }
             mantissa = m;
-            if (scale > 0) {
-                double power = ExactPowersOfTen.of(scale);
-                for (int t = at; t < end; t++) {
-                    into[t] = into[t] / power;
-                }
-            }
         }
 
         /** Refuses a body with bytes left over once every sample is read. */

@@ -117,15 +117,17 @@ public final class TraceCodec {
         }
     }
 
-    /** Format 1: per sample the time, the p outputs and the m inputs. */
+    /** Format 1: per sample the time, the p outputs and the m inputs (length checked once, by the claim). */
     private static void readRows(ByteSource in, double[] times, double[] y, double[] u, int p, int m) {
+        int at = in.take(Double.BYTES * (times.length + y.length + u.length));
         for (int k = 0; k < times.length; k++) {
-            times[k] = in.getDouble();
-            for (int j = 0; j < p; j++) {
-                y[k * p + j] = in.getDouble();
+            times[k] = in.doubleAt(at);
+            at += Double.BYTES;
+            for (int j = 0; j < p; j++, at += Double.BYTES) {
+                y[k * p + j] = in.doubleAt(at);
             }
-            for (int i = 0; i < m; i++) {
-                u[k * m + i] = in.getDouble();
+            for (int i = 0; i < m; i++, at += Double.BYTES) {
+                u[k * m + i] = in.doubleAt(at);
             }
         }
     }
