@@ -7,7 +7,7 @@ import backstate.estimation.Trace;
  * column, one {@link StoredColumn} each. Read back a block of rows at a time from all columns at
  * once, so each of the trace's row-major arrays is written once, front to back (filling one column
  * at a time would pass over the whole output array once per channel, at 8·p bytes a stride; on the
- * 10⁶-sample bench that cost more than the rest of the decoding).
+ * 10⁶-sample bench that cost several milliseconds more).
  */
 final class ColumnarSamples {
     private ColumnarSamples() {

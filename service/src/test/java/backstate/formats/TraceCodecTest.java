@@ -12,6 +12,7 @@ import java.io.ByteArrayInputStream;
 import java.io.IOException;
 import java.io.UncheckedIOException;
 import java.nio.ByteBuffer;
+import java.nio.charset.StandardCharsets;
 import java.nio.file.Files;
 import java.nio.file.Path;
 import java.util.Arrays;
@@ -222,13 +223,27 @@ class TraceCodecTest {
     @Test
     void a_demo_like_trace_stores_in_under_13_percent_of_format_1() {
         // 1 000 one-minute samples of the demo model, outputs with 3 decimals and inputs with 2, as a gateway writes them.
-        ParsedTrace parsed = readCsv(new ReeferTraces(TEST_DATA).csv(1000, 7));
+        byte[] csv = new ReeferTraces(TEST_DATA).csv(1000, 7);
+        ParsedTrace parsed = readCsv(csv);
         byte[] v1 = TraceCodecV1Oracle.encode(CODEC, parsed);
         byte[] v2 = CODEC.encode(parsed);
         assertEquals(13 + 8 * (1000 * 5 + 2) + 4, v1.length, "header, 5 columns × 1 000 doubles, 2 σ, \"{}\"");
         // Measured 4 974 bytes (12.4 %): time 2.7 bits a sample, outputs 11, inputs 6–8 (block headers included).
         assertTrue(v2.length * 100L <= v1.length * 13L, v2.length + " bytes against " + v1.length);
-        assertSameTrace(parsed, CODEC.decode(v2));
+        ParsedTrace decoded = CODEC.decode(v2);
+        assertSameTrace(parsed, decoded);
+        // Outside reference: each decoded value is Double.parseDouble (the JDK) of its CSV cell, bit for bit.
+        String[] rows = new String(csv, StandardCharsets.UTF_8).split("\n");
+        for (int k = 0; k < 1000; k++) {
+            String[] cells = rows[k + 1].split(",");
+            assertEquals(5, cells.length, rows[k + 1]);
+            double[] got = {decoded.trace().time(k), decoded.trace().output(k, 0), decoded.trace().output(k, 1),
+                decoded.trace().input(k, 0), decoded.trace().input(k, 1)};
+            for (int c = 0; c < cells.length; c++) {
+                assertEquals(Double.doubleToRawLongBits(Double.parseDouble(cells[c])), Double.doubleToRawLongBits(got[c]),
+                        "row " + k + " cell " + cells[c]);
+            }
+        }
     }
 
     @Test
@@ -420,7 +435,7 @@ class TraceCodecTest {
     }
 
     private static String hexOf(String ascii) {
-        return HexFormat.of().formatHex(ascii.getBytes(java.nio.charset.StandardCharsets.US_ASCII));
+        return HexFormat.of().formatHex(ascii.getBytes(StandardCharsets.US_ASCII));
     }
 
     /** Same samples bit for bit (any NaN for NaN), same σ, same options. */
