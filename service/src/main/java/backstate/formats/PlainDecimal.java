@@ -19,18 +19,9 @@ final class PlainDecimal {
     /** 2^53: every integer up to it is an exact double. */
     private static final long MAX_EXACT_MANTISSA = 1L << 53;
     /** 10^22 is the largest power of ten that is an exact double. */
-    private static final int MAX_EXACT_POWER = 22;
+    private static final int MAX_EXACT_POWER = ExactPowersOfTen.MAX;
     /** Exponent digits read here; a longer exponent goes the general way. */
     private static final int MAX_EXPONENT_DIGITS = 4;
-    private static final double[] POWERS = new double[MAX_EXACT_POWER + 1];
-
-    static {
-        double p = 1.0;
-        for (int i = 0; i <= MAX_EXACT_POWER; i++) {
-            POWERS[i] = p;
-            p *= 10.0;
-        }
-    }
 
     private PlainDecimal() {
     }
@@ -105,7 +96,7 @@ final class PlainDecimal {
             if (mantissa > MAX_EXACT_MANTISSA || scale > MAX_EXACT_POWER || scale < -MAX_EXACT_POWER) {
                 return Double.NaN;
             }
-            value = scale >= 0 ? mantissa * POWERS[scale] : mantissa / POWERS[-scale];
+            value = scale >= 0 ? mantissa * ExactPowersOfTen.of(scale) : mantissa / ExactPowersOfTen.of(-scale);
         }
         return negative ? -value : value;
     }
