@@ -14,7 +14,9 @@ import java.util.function.LongSupplier;
  *
  * <p>Bounded by the values held ({@link #MAX_VALUES}) and by age ({@link #MAX_AGE_NANOS}). When
  * full it refuses newcomers rather than evicting: the oldest entries belong to the oldest queued
- * jobs, which the workers claim first.
+ * jobs, which the workers claim first. A job can run before its post has kept its trace here (the
+ * post keeps it after its commit, and a worker may claim in between); it then reads the row, and
+ * the late entry waits out its age, dropped at the next offer after that.
  */
 final class FreshTraces {
     /** Doubles held at most (~48 MB): room for one 10⁶-sample trace with five columns. */
