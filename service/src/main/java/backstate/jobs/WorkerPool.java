@@ -155,14 +155,16 @@ public final class WorkerPool implements AutoCloseable {
     }
 
     /**
-     * Claims up to one job per free thread, once at least half the threads are free; returns how
-     * many were claimed. Each claim is a write of its own, so claiming in halves rather than one
-     * job per finished job keeps claims to a few per batch; the half still in flight keeps every
-     * handler slot busy meanwhile.
+     * Claims up to one job per free thread, once at least half the threads are free and the queue
+     * holds a job; returns how many were claimed. Each claim is a write of its own, so claiming in
+     * halves rather than one job per finished job keeps claims to a few per batch (the half still
+     * in flight keeps every handler slot busy meanwhile), and a read of the queue's length first
+     * spares the writer the claims that would find nothing: half of all claims at 300 posts/s,
+     * when every post and every finished job wakes the dispatcher.
      */
     private int claimAndDispatch() {
         int free = freeThreads.availablePermits(); // only this thread takes permits, so they stay free
-        if (free == 0 || free < threads / 2) {
+        if (free == 0 || free < threads / 2 || queueLooksEmpty()) {
             return 0;
         }
         List<ClaimedJob> claimed = claimOrNothing(free);
@@ -171,6 +173,15 @@ public final class WorkerPool implements AutoCloseable {
             dispatch(job);
         }
         return claimed.size();
+    }
+
+    /** The queue's length as last committed; a job queued after this read wakes the dispatcher again. */
+    private boolean queueLooksEmpty() {
+        try {
+            return queue.queuedCount() == 0;
+        } catch (RuntimeException e) {
+            return false; // let the claim try, and report its own failure
+        }
     }
 
     private List<ClaimedJob> claimOrNothing(int limit) {

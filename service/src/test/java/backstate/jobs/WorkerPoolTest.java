@@ -166,6 +166,24 @@ class WorkerPoolTest extends StoreTestBase {
     }
 
     @Test
+    void an_empty_queue_costs_no_claim_writes_and_a_queued_job_is_still_claimed() throws Exception {
+        HeldOutcomes queue = new HeldOutcomes(store, new CountDownLatch(1), new CountDownLatch(0));
+        JobHandler handler = job -> new JobOutcome.Succeeded(estimateFor(store.findTrace(job.traceId()).orElseThrow()), "{}");
+        try (WorkerPool pool = new WorkerPool(queue, handler, 1, fx.clock, IDLE_POLL, registry,
+                WorkerPool.DEFAULT_SHUTDOWN_GRACE, STUCK_AFTER)) {
+            pool.start();
+            for (int i = 0; i < 5; i++) {
+                pool.wake();
+                Thread.sleep(IDLE_POLL.toMillis());
+            }
+            assertEquals(List.of(), queue.claimLimits(), "polls and wakes of an idle pool read the queue's length only");
+            submitAndWake(pool, "unit-1", 1);
+            awaitSucceeded(1);
+        }
+        assertEquals(1, queue.claimLimits().size());
+    }
+
+    @Test
     void a_job_that_keeps_throwing_is_retried_then_failed_with_every_error() throws Exception {
         Submission s = submit("unit-1");
         CountDownLatch threeRuns = new CountDownLatch(3);
