@@ -27,7 +27,7 @@ import java.util.concurrent.TimeUnit;
  * the solve is deterministic, so the rebuilt series is the one the job saw.
  */
 public final class StoredTraceSolver {
-    /** Model versions whose parsed documents are kept. */
+    /** Model versions whose checked models are kept. */
     static final int MAX_CACHED_MODELS = 1024;
     /** Traces this long are solved while their post's write is under way (~0.01 s of solve and up). */
     public static final int SOLVE_AHEAD_SAMPLES = 100_000;

@@ -164,7 +164,7 @@ public final class WorkerPool implements AutoCloseable {
      */
     private int claimAndDispatch() {
         int free = freeThreads.availablePermits(); // only this thread takes permits, so they stay free
-        if (free == 0 || free < threads / 2 || queueLooksEmpty()) {
+        if (free < Math.max(1, threads / 2) || queueLooksEmpty()) {
             return 0;
         }
         List<ClaimedJob> claimed = claimOrNothing(free);
