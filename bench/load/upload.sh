@@ -9,7 +9,7 @@ build
 DRIVER_HEAP=300m driver offline --samples "${SAMPLES:-1000000}"
 start_server 300m
 for _ in 1 2; do
-  DRIVER_HEAP=1g driver upload --samples "${SAMPLES:-1000000}"
+  DRIVER_HEAP=1g driver upload --samples "${SAMPLES:-1000000}" --client "${DRIVER_CLIENT:-lean}"
 done
 server_metric backstate_solve_duration_seconds
 server_metric backstate_job_duration_seconds
