@@ -37,7 +37,6 @@ final class TraceRoutes {
     private final TraceReader reader;
     private final TraceCodec codec;
     private final Clock clock;
-    private final Limits limits;
     private final long maxBodyBytes;
     private final int maxQueued;
     private final Runnable wakeWorkers;
@@ -49,7 +48,6 @@ final class TraceRoutes {
         this.reader = new TraceReader(limits);
         this.codec = new TraceCodec(mapper);
         this.clock = clock;
-        this.limits = limits;
         this.maxBodyBytes = maxBodyBytes;
         this.maxQueued = maxQueued;
         this.wakeWorkers = wakeWorkers;
@@ -79,15 +77,13 @@ final class TraceRoutes {
         }
         if (submission.replayed()) {
             cancel(solvedAhead);
+            ctx.header("Idempotent-Replayed", "true");
         } else {
             // Committed: its job may take the parse (and solve) in hand instead of reading the row back.
             stored.keepFresh(new StoredTraceSolver.Loaded(new TraceRef(submission.traceId(), unitId, version.family(),
                     version.version(), receivedAt.truncatedTo(ChronoUnit.MILLIS)), model, parsed, solvedAhead));
         }
         wakeWorkers.run();
-        if (submission.replayed()) {
-            ctx.header("Idempotent-Replayed", "true");
-        }
         ctx.status(202).header("Location", "/v1/jobs/" + submission.jobId())
                 .json(new Views.Accepted(submission.jobId(), submission.traceId(), unitId, "queued",
                         Map.of("job", "/v1/jobs/" + submission.jobId(),

@@ -10,8 +10,6 @@ import backstate.store.TraceRef;
 import com.fasterxml.jackson.databind.ObjectMapper;
 import io.micrometer.core.instrument.MeterRegistry;
 import io.micrometer.core.instrument.Timer;
-import java.util.concurrent.ExecutionException;
-import java.util.concurrent.Future;
 
 /**
  * Runs an 'estimate' job: loads the stored trace and its model version, solves, and returns the
@@ -39,8 +37,7 @@ public final class EstimateJobHandler implements JobHandler {
         DocumentSolver.Outcome outcome;
         try {
             // For a trace solved ahead, the time this job waited for that solve.
-            outcome = solveTimer.recordCallable(() -> loaded.solvedAhead() == null ? solver.solve(loaded, false)
-                    : awaitSolvedAhead(loaded.solvedAhead()));
+            outcome = solveTimer.recordCallable(() -> solver.solveForJob(loaded));
         } catch (ModelException | InputException e) {
             // Deterministic: the same trace fails the same way on every attempt, so do not retry.
             return new JobOutcome.Failed("the trace does not fit its model version: " + e.getMessage());
@@ -50,14 +47,6 @@ public final class EstimateJobHandler implements JobHandler {
         }
         DocumentSolver.Outcome.Solved solved = (DocumentSolver.Outcome.Solved) outcome;
         return new JobOutcome.Succeeded(toRow(loaded, solved), null);
-    }
-
-    private static DocumentSolver.Outcome awaitSolvedAhead(Future<DocumentSolver.Outcome> ahead) throws Exception {
-        try {
-            return ahead.get();
-        } catch (ExecutionException e) {
-            throw e.getCause() instanceof Exception cause ? cause : e;
-        }
     }
 
     private NewEstimate toRow(StoredTraceSolver.Loaded trace, DocumentSolver.Outcome.Solved solved) throws Exception {

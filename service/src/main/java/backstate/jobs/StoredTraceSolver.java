@@ -14,6 +14,7 @@ import com.fasterxml.jackson.core.JsonProcessingException;
 import com.fasterxml.jackson.databind.ObjectMapper;
 import java.util.Map;
 import java.util.concurrent.ConcurrentHashMap;
+import java.util.concurrent.ExecutionException;
 import java.util.concurrent.ExecutorService;
 import java.util.concurrent.Future;
 import java.util.concurrent.RejectedExecutionException;
@@ -127,6 +128,18 @@ public final class StoredTraceSolver {
             return ahead.submit(() -> DocumentSolver.solve(model, parsed, false));
         } catch (RejectedExecutionException busy) {
             return null;
+        }
+    }
+
+    /** The estimate job's solve, without the series: the one its post started ahead, else a new one. */
+    public DocumentSolver.Outcome solveForJob(Loaded loaded) throws Exception {
+        if (loaded.solvedAhead() == null) {
+            return solve(loaded, false);
+        }
+        try {
+            return loaded.solvedAhead().get();
+        } catch (ExecutionException e) {
+            throw e.getCause() instanceof Exception cause ? cause : e;
         }
     }
 
