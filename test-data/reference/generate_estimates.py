@@ -13,7 +13,8 @@ Sources of the expected values:
                         sum_{i<s} A^i B accumulated step by step
   solution              numpy.linalg.lstsq on the stacked weighted equations M theta = rhs
   covariance            V diag(1/s^2) V' from numpy.linalg.svd(M); cross-checked against
-                        numpy.linalg.inv(M'M) where kappa allows
+                        numpy.linalg.inv(M'M) where kappa allows; CONTINUOUS: K Sigma K' of the
+                        linear estimator, (M'M)^-1 M2'M2 (M'M)^-1 with M2 the w-weighted rows
   information           M'M
   condition number      (s_max / s_min)^2 from the SVD of M, and numpy.linalg.cond(M'M) for reference
   null directions       scipy.linalg.null_space(M)
@@ -26,8 +27,10 @@ Sources of the expected values:
 Semantics mirrored (from the estimator's specification, not its code): the time origin is the
 first sample; inputs are held from a sample to the next; y = C x + D u + offset + noise; each
 present y_kj is one equation weighted 1/sigma_j (SAMPLED) or sqrt(w_kj)/sigma_j with trapezoid
-weights w over the channel's present samples (CONTINUOUS); a prior adds L^-1 (x0 - mu) = 0 with
-P0 = L L'. Times are rounded to 1 microsecond ticks as the engine does.
+weights w over the channel's present samples in units of the trace's mean sample spacing
+(CONTINUOUS), whose covariance is the sandwich B^-1 M B^-1 (B = sum w a a', M = sum w^2 a a',
+a = regressor / sigma) and whose chi-square is that of the best per-sample (SAMPLED) fit; a prior
+adds L^-1 (x0 - mu) = 0 with P0 = L L' and weight 1. Times are rounded to 1 microsecond ticks as the engine does.
 
 Run: python3 generate_estimates.py   (numpy and scipy; every random generator is seeded below)
 """
@@ -232,20 +235,30 @@ def solve_reference(model, ticks, y, u, trace_sigma, options, noise_free):
         for j in range(p):
             regressors[:, j, n + j] = 1.0
 
-    weight = np.full((big_n, p), np.nan)
+    # CONTINUOUS: trapezoid weights over each channel's present samples, in units of the trace's
+    # mean sample spacing (t_{N-1} - t_0) / (N - 1), so an evenly sampled interior sample weighs 1.
+    spacing_ticks = (ticks[-1] - ticks[0]) / (big_n - 1) if big_n > 1 and ticks[-1] > ticks[0] else TICKS_PER_SECOND
+    trap = np.full((big_n, p), np.nan)
     for j in range(p):
         present = np.flatnonzero(~np.isnan(y[:, j]))
-        if continuous:
-            weight[present, j] = np.sqrt(trapezoid_weights(ticks[present])) / sigma[j]
-        else:
-            weight[present, j] = 1.0 / sigma[j]
+        trap[present, j] = trapezoid_weights(ticks[present]) / (spacing_ticks / TICKS_PER_SECOND) if continuous else 1.0
 
-    rows, rhs = [], []
+    # Three stackings of the same whitened equations a = regressor / sigma, b = (y - forced) / sigma:
+    # the estimate's (sqrt(w) a), the per-sample fit's (a) and the spread's (w a); a prior adds
+    # L^-1 (x0 - mu) = 0 with weight 1 to each. With SAMPLED weights (w = 1) all three are one.
+    rows, rhs, rows_sample, rhs_sample, rows_spread = [], [], [], [], []
     for k in range(big_n):                          # sample order, channel order
         for j in range(p):
             if not math.isnan(y[k, j]):
-                rows.append(regressors[k, j] * weight[k, j])
-                rhs.append((y[k, j] - forced_out[k, j]) * weight[k, j])
+                whitening = 1.0 / sigma[j]
+                a = regressors[k, j] * whitening
+                b = (y[k, j] - forced_out[k, j]) * whitening
+                w = trap[k, j]
+                rows.append(a * math.sqrt(w))
+                rhs.append(b * math.sqrt(w))
+                rows_sample.append(a)
+                rhs_sample.append(b)
+                rows_spread.append(a * w)
     data_rows = len(rows)
     prior = options.get("prior")
     if prior is not None:
@@ -255,8 +268,10 @@ def solve_reference(model, ticks, y, u, trace_sigma, options, noise_free):
         for i in range(n):
             row = np.zeros(q)
             row[:n] = l_inv[i]
-            rows.append(row)
+            for stack in (rows, rows_sample, rows_spread):
+                stack.append(row)
             rhs.append(float(l_inv[i] @ mu))
+            rhs_sample.append(float(l_inv[i] @ mu))
     m_mat, rhs = np.array(rows), np.array(rhs)
 
     u_svd, s, vt = np.linalg.svd(m_mat, full_matrices=False)
@@ -272,14 +287,29 @@ def solve_reference(model, ticks, y, u, trace_sigma, options, noise_free):
         }, None
 
     information = m_mat.T @ m_mat
-    covariance = (vt.T / s**2) @ vt
+    bread_inverse = (vt.T / s**2) @ vt
     kappa_m = float(s[0] / s[-1])
     if kappa_m**2 < 1e6:
         direct = np.linalg.inv(information)
-        assert np.linalg.norm(direct - covariance) <= COVARIANCE_CROSS_CHECK_RTOL * np.linalg.norm(covariance)
+        assert np.linalg.norm(direct - bread_inverse) <= COVARIANCE_CROSS_CHECK_RTOL * np.linalg.norm(bread_inverse)
     weighted_residual = m_mat @ theta - rhs
-    chi_square = float(weighted_residual @ weighted_residual)
+    if continuous:
+        # Covariance of the linear estimator theta = K y under independent per-sample noise of the
+        # stated sigma: K Sigma K' = B^-1 M B^-1 with B = sum w a a', M = sum w^2 a a' (sandwich form).
+        spread = np.array(rows_spread)
+        covariance = bread_inverse @ (spread.T @ spread) @ bread_inverse
+        covariance = (covariance + covariance.T) / 2
+        # Goodness of fit on the per-sample noise scale: the best per-sample fit's residual sum.
+        sample_mat, sample_rhs = np.array(rows_sample), np.array(rhs_sample)
+        theta_sample = np.linalg.lstsq(sample_mat, sample_rhs, rcond=None)[0]
+        fit_residual = sample_mat @ theta_sample - sample_rhs
+    else:
+        covariance = bread_inverse
+        fit_residual = weighted_residual
+    chi_square = float(fit_residual @ fit_residual)
     dof = m_mat.shape[0] - q
+    weakest = vt[-1]
+    weakest_std = float(math.sqrt(weakest @ covariance @ weakest)) if continuous else float(1.0 / s[-1])
 
     fitted = np.einsum("kjq,q->kj", regressors, theta) + forced_out
     residual = y - fitted
@@ -311,7 +341,7 @@ def solve_reference(model, ticks, y, u, trace_sigma, options, noise_free):
         "conditionNumber": kappa_m**2,
         "conditionNumberNumpyCond": float(np.linalg.cond(information)),
         "weakestDirection": vec(vt[-1]),
-        "weakestStd": float(1.0 / s[-1]),
+        "weakestStd": weakest_std,
         "rank": int(rank),
         "dataRank": data_rank,
         "chiSquare": chi_square,
@@ -343,7 +373,7 @@ def solve_reference(model, ticks, y, u, trace_sigma, options, noise_free):
             "covariance": nested(ref_cov),
             "standardErrors": vec(np.sqrt(np.diag(ref_cov))),
         }
-    return expected, {"m": m_mat, "rhs": rhs, "theta": theta, "s": s, "residual": weighted_residual}
+    return expected, {"m": m_mat, "rhs": rhs, "theta": theta, "s": s, "residual": fit_residual}
 
 
 def tolerances(solved, noise_free, big_n, expected):
@@ -638,6 +668,24 @@ def case_continuous(rng):
                missing=missing)
 
 
+def case_continuous_stretches(rng):
+    # The two-tank model with its pump input: long evenly sampled stretches (0.1 s) broken by a
+    # 0.35 s and a 0.27 s gap and a few missing values, so the CONTINUOUS weights are constant on
+    # long runs (where the engine may fold blocks) and vary near the breaks and the missing values.
+    model = Model(a=[[-0.20, 0.0, 0.0], [0.20, -0.10, 0.0], [0.0, 0.05, -0.50]],
+                  b=[[0.40], [0.0], [0.1]], c=[[1.0, 0.0, 0.0], [0.0, 0.3, 1.0]], d=[[0.0], [0.25]],
+                  noise_sigma=[0.05, 0.2])
+    times = grid(0.0, 0.1, 300) + grid(30.25, 0.1, 400) + grid(70.17, 0.1, 350)
+    u = [[1.0 + 0.5 * math.sin(0.3 * t) + (0.8 if 20 <= t < 30 else 0.0)] for t in times]
+    missing = np.zeros((len(times), 2), dtype=bool)
+    missing[[40, 41, 520, 900], 0] = True
+    missing[[610, 611, 612], 1] = True
+    write_case("continuous-stretches", "Two tanks with a pump input, 2 outputs, 0.1 s stretches of 300, 400 "
+               "and 350 samples between two gaps, 7 values missing, CONTINUOUS weighting.",
+               model, times, u, [2.0, -1.0, 0.5], None, [0.05, 0.2], rng, {"formulation": "CONTINUOUS"},
+               missing=missing)
+
+
 # ----------------------------------------------------------------------------- Gramian convergence
 
 def gramian_convergence():
@@ -703,7 +751,7 @@ def main():
     # One seeded generator per case so adding a case never changes another's noise.
     builders = [case_oscillator, case_thermal, case_two_outputs, case_discrete_gaps, case_nonuniform_missing,
                 case_ill_conditioned, case_unobservable, case_unobservable_prior, case_offsets,
-                case_offsets_noise_free, case_reference_time, case_continuous]
+                case_offsets_noise_free, case_reference_time, case_continuous, case_continuous_stretches]
     for index, build in enumerate(builders):
         build(np.random.default_rng(20240700 + index))
     gramian_convergence()

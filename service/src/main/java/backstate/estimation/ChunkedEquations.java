@@ -37,27 +37,16 @@ final class ChunkedEquations {
     private static EquationPass.Result join(SolveContext ctx, EquationPass.Result head, EquationPass.Result tail,
                                             int middle) {
         int n = ctx.n;
-        int q = ctx.q;
         double[] forced = head.forcedAtLast();
         long unitsAtMiddle = ctx.units(middle);
         ctx.propagate(forced, middle, ctx.transitions.over(unitsAtMiddle - ctx.units(middle - 1)), ctx.stepScratch());
         double[] phi = ctx.transitions.fresh(unitsAtMiddle).transition();
-        SquareRootInformation tailInfo = tail.information();
-        double[] r = tailInfo.factorR();
-        double[] z = tailInfo.rhs();
-        double[] rows = new double[q * q];
-        UniformBlocks.changeToInitialState(r, phi, n, q, rows);
-        for (int i = 0; i < q; i++) {
-            for (int l = 0; l < n; l++) {
-                z[i] -= r[i * q + l] * forced[l];
-            }
-        }
-        head.information().addReduced(rows, z, q, tailInfo.equations(), tailInfo.residualSquares());
+        head.factors().appendChunk(tail.factors(), phi, forced, n);
         long[] counts = head.presentCounts().clone();
         for (int j = 0; j < counts.length; j++) {
             counts[j] += tail.presentCounts()[j];
         }
-        return new EquationPass.Result(head.information(), counts, null);
+        return new EquationPass.Result(head.factors(), counts, null);
     }
 
     private static EquationPass.Result await(CompletableFuture<EquationPass.Result> future) {

@@ -10,6 +10,11 @@ package backstate.estimation;
  * route (see {@link UniformBlocks}): O(p·q + n²) per sample. Both routes fold the same equations.
  * On the block route Φ(t_k) is carried from block start to block start, one n×n product per
  * block, and G is rebuilt from it only when a sample takes the per-sample route again.
+ *
+ * <p>Under the continuous formulation each equation also carries its trapezoid weight
+ * ({@link TrapezoidWeights}) into {@link WeightedFactors}; inside an evenly sampled stretch whose
+ * neighbours are one step away the weight is one constant, so such stretches take the block route
+ * too, with the block's reduced rows scaled by that constant.
  */
 final class EquationPass {
     private final SolveContext ctx;
@@ -17,7 +22,7 @@ final class EquationPass {
     private final int end;
     private final int n;
     private final int p;
-    private final SquareRootInformation info;
+    private final WeightedFactors factors;
     private final long[] counts;
     private final double[] row;
     private final double[] scratch;
@@ -40,7 +45,8 @@ final class EquationPass {
         this.end = end;
         this.n = ctx.n;
         this.p = ctx.p;
-        this.info = new SquareRootInformation(ctx.q);
+        boolean continuous = ctx.options.formulation() == Formulation.CONTINUOUS;
+        this.factors = WeightedFactors.create(ctx.q, continuous);
         this.counts = new long[p];
         this.row = new double[ctx.q];
         this.scratch = ctx.stepScratch();
@@ -49,9 +55,8 @@ final class EquationPass {
         this.gNext = new double[p * n];
         this.phiNext = new double[n * n];
         this.forced = new double[n];
-        boolean continuous = ctx.options.formulation() == Formulation.CONTINUOUS;
-        this.trapezoid = continuous ? new TrapezoidWeights(ctx.trace, start) : null;
-        this.blocks = continuous ? null : new UniformBlocks(ctx, end);
+        this.trapezoid = continuous ? new TrapezoidWeights(ctx, start) : null;
+        this.blocks = new UniformBlocks(ctx, end);
     }
 
     /** Accumulates every data equation; returns the information factor and per-channel counts. */
@@ -78,8 +83,8 @@ final class EquationPass {
             if (k > start) {
                 advance(k, ctx.transitions.over(units - previousUnits));
             }
-            if (blocks != null && k >= nextBlockTry) {
-                int outcome = blocks.check(k);
+            if (k >= nextBlockTry) {
+                int outcome = checkBlock(k);
                 if (outcome == UniformBlocks.UNIFORM) {
                     k = foldBlock(k, units - startUnits);
                     previousUnits = ctx.units(k);
@@ -92,7 +97,35 @@ final class EquationPass {
             previousUnits = units;
             k++;
         }
-        return new Result(info, counts, forced.clone());
+        return new Result(factors, counts, forced.clone());
+    }
+
+    /**
+     * {@link UniformBlocks#check}; with trapezoid weights a block must also have one weight
+     * throughout, so its neighbours before and after must be present in every channel one step
+     * away. When they are not, the next try is one sample on (a neighbour that fails now may not
+     * fail for a later block).
+     */
+    private int checkBlock(int k) {
+        int outcome = blocks.check(k);
+        if (outcome != UniformBlocks.UNIFORM || trapezoid == null) {
+            return outcome;
+        }
+        long step = ctx.units(k + 1) - ctx.units(k);
+        int after = k + UniformBlocks.SAMPLES;
+        boolean evenBefore = k > 0 && allPresent(k - 1) && ctx.units(k) - ctx.units(k - 1) == step;
+        boolean evenAfter = after < ctx.trace.samples() && allPresent(after)
+                && ctx.units(after) - ctx.units(after - 1) == step;
+        return evenBefore && evenAfter ? UniformBlocks.UNIFORM : k + 1;
+    }
+
+    private boolean allPresent(int k) {
+        for (int j = 0; j < p; j++) {
+            if (Double.isNaN(ctx.trace.output(k, j))) {
+                return false;
+            }
+        }
+        return true;
     }
 
     /** Steps G (when current) and the forced response from sample k−1 to k. */
@@ -108,7 +141,14 @@ final class EquationPass {
 
     /** Folds samples k … k+B−1 as one block; returns the block's last sample, with the forced response there. */
     private int foldBlock(int k, long unitsFromStart) {
-        int last = blocks.fold(k, phiAt(unitsFromStart), forced, info, counts);
+        double weight = 1.0;
+        if (trapezoid != null) {
+            weight = trapezoid.interior(ctx.units(k + 1) - ctx.units(k));
+        }
+        int last = blocks.fold(k, phiAt(unitsFromStart), forced, factors, weight, counts);
+        if (trapezoid != null) {
+            trapezoid.skipTo(last);
+        }
         gCurrent = false;
         return last;
     }
@@ -139,12 +179,9 @@ final class EquationPass {
             if (Double.isNaN(y)) {
                 continue;
             }
-            double weight = 1.0 / ctx.noise.sigma(j);
-            if (trapezoid != null) {
-                weight *= Math.sqrt(trapezoid.weight(k, j));
-            }
-            fillRow(j, weight);
-            info.add(row, (y - modelled[j]) * weight);
+            double whitening = 1.0 / ctx.noise.sigma(j);
+            fillRow(j, whitening);
+            factors.add(row, (y - modelled[j]) * whitening, trapezoid == null ? 1.0 : trapezoid.weight(k, j));
             counts[j]++;
         }
     }
@@ -158,7 +195,7 @@ final class EquationPass {
         }
     }
 
-    /** The accumulated information, the number of present samples per channel, and the forced response at the last sample. */
-    record Result(SquareRootInformation information, long[] presentCounts, double[] forcedAtLast) {
+    /** The accumulated factors, the number of present samples per channel, and the forced response at the last sample. */
+    record Result(WeightedFactors factors, long[] presentCounts, double[] forcedAtLast) {
     }
 }

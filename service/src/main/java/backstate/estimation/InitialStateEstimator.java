@@ -29,14 +29,16 @@ public final class InitialStateEstimator {
         validate(model, trace, options);
         SolveContext ctx = new SolveContext(model, trace, options);
         EquationPass.Result pass = ChunkedEquations.run(ctx);
-        SquareRootInformation dataInfo = pass.information();
+        WeightedFactors data = pass.factors();
+        SquareRootInformation dataInfo = data.estimate;
         ConditioningAnalysis dataOnly = new ConditioningAnalysis(dataInfo.factorR(), ctx.q, dataInfo.equations());
         if (options.prior() == null) {
-            return dataOnly.rank() < ctx.q ? unobservable(ctx, dataOnly) : finish(ctx, pass, dataInfo, dataOnly, dataOnly);
+            return dataOnly.rank() < ctx.q ? unobservable(ctx, dataOnly) : finish(ctx, pass, data, dataOnly, dataOnly);
         }
-        SquareRootInformation withPrior = dataInfo.copy();
-        PriorEquations.add(withPrior, options.prior(), ctx.n);
-        ConditioningAnalysis full = new ConditioningAnalysis(withPrior.factorR(), ctx.q, withPrior.equations());
+        WeightedFactors withPrior = data.copy();
+        withPrior.addPrior(options.prior(), ctx.n);
+        SquareRootInformation info = withPrior.estimate;
+        ConditioningAnalysis full = new ConditioningAnalysis(info.factorR(), ctx.q, info.equations());
         return full.rank() < ctx.q ? unobservable(ctx, full) : finish(ctx, pass, withPrior, full, dataOnly);
     }
 
@@ -61,20 +63,26 @@ public final class InitialStateEstimator {
                 ctx.unknownNames());
     }
 
-    private static Estimate finish(SolveContext ctx, EquationPass.Result pass, SquareRootInformation info,
+    private static Estimate finish(SolveContext ctx, EquationPass.Result pass, WeightedFactors factors,
                                    ConditioningAnalysis analysis, ConditioningAnalysis dataOnly) {
         int q = ctx.q;
+        SquareRootInformation info = factors.estimate;
         double[] r = info.factorR();
         double[] solution = Triangular.solveUpper(r, info.rhs(), q);
-        double[] covariance = Triangular.timesOwnTranspose(Triangular.invertUpper(r, q), q);
-        double chiSquare = info.residualSquares();
-        int dof = (int) (info.equations() - q);
+        double[] covariance = factors.weighted()
+                ? Sandwich.covariance(r, factors.spread.factorR(), q)
+                : Triangular.timesOwnTranspose(Triangular.invertUpper(r, q), q);
+        double chiSquare = factors.perSample.residualSquares();
+        int dof = (int) (factors.perSample.equations() - q);
         double sigmaScale = dof > 0 ? Math.sqrt(chiSquare / dof) : Double.NaN;
         double[] se = diagonalRoots(covariance, q, 1.0);
         double[] seScaled = diagonalRoots(covariance, q, sigmaScale);
         ResidualPass.Result residuals = ResidualPass.run(ctx, solution, pass.presentCounts());
         double chiSquareP = LjungBox.chiSquareUpperTail(chiSquare, dof);
         Conditioning conditioning = analysis.summary(r, dataOnly.rank());
+        if (factors.weighted()) {
+            conditioning = Sandwich.withWeakestSpread(conditioning, covariance, q);
+        }
         Set<Flag> flags = flags(ctx, conditioning, residuals.channels(), chiSquareP, dof);
         double[][] interval = intervals(ctx, solution, se, seScaled, dof);
         return new Estimate(ctx.unknownNames(), solution, covariance, se, sigmaScale, seScaled,

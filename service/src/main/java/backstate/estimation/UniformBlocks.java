@@ -76,10 +76,11 @@ final class UniformBlocks {
     }
 
     /**
-     * Folds the uniform block starting at k, where phi = Φ(t_k − t0) and forced is the forced
-     * response at t_k; leaves forced at the block's last sample and returns that sample's index.
+     * Folds the uniform block starting at k, every equation of weight {@code weight}, where
+     * phi = Φ(t_k − t0) and forced is the forced response at t_k; leaves forced at the block's last
+     * sample and returns that sample's index.
      */
-    int fold(int k, double[] phi, double[] forced, SquareRootInformation info, long[] counts) {
+    int fold(int k, double[] phi, double[] forced, WeightedFactors factors, double weight, long[] counts) {
         long step = ctx.units(k + 1) - ctx.units(k);
         HouseholderQr plan = plans.computeIfAbsent(step, this::factor);
         fillRightHandSide(k, step, forced);
@@ -89,7 +90,7 @@ final class UniformBlocks {
             split += b[i] * b[i];
         }
         changeToInitialState(plan.r(), phi, ctx.n, ctx.q, reduced);
-        info.addReduced(reduced, b, ctx.q, rows, split);
+        factors.addReduced(reduced, b, ctx.q, rows, split, weight);
         for (int j = 0; j < ctx.p; j++) {
             counts[j] += SAMPLES;
         }

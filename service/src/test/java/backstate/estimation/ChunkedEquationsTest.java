@@ -40,20 +40,47 @@ class ChunkedEquationsTest {
         assertSameProblem(model, trace(true, false), EstimationOptions.defaults());
     }
 
+    @Test
+    void uniform_trace_with_continuous_weights_joins_exactly_on_the_block_route() {
+        StateSpaceModel model = StateSpaceModel.continuous(A, B, C, D, new double[] {0.1, 0.2});
+        assertSameProblem(model, trace(false, false), EstimationOptions.defaults().withFormulation(Formulation.CONTINUOUS));
+    }
+
     private static void assertSameProblem(StateSpaceModel model, Trace trace, EstimationOptions options) {
         SolveContext ctx = new SolveContext(model, trace, options);
         EquationPass.Result single = EquationPass.run(ctx);
         EquationPass.Result joined = ChunkedEquations.run(new SolveContext(model, trace, options));
         int q = ctx.q;
-        double[] x1 = Triangular.solveUpper(single.information().factorR(), single.information().rhs(), q);
-        double[] x2 = Triangular.solveUpper(joined.information().factorR(), joined.information().rhs(), q);
-        for (int i = 0; i < q; i++) {
-            assertEquals(x1[i], x2[i], TOLERANCE * Math.max(1.0, Math.abs(x1[i])), "θ[" + i + "]");
+        assertSameFactor(single.factors().estimate, joined.factors().estimate, q, "estimate");
+        if (single.factors().weighted()) {
+            assertSameFactor(single.factors().perSample, joined.factors().perSample, q, "per-sample fit");
+            assertSameGram(single.factors().spread, joined.factors().spread, q);
         }
-        assertEquals(single.information().equations(), joined.information().equations());
-        assertEquals(single.information().residualSquares(), joined.information().residualSquares(),
-                TOLERANCE * single.information().residualSquares());
         assertArrayEquals(single.presentCounts(), joined.presentCounts());
+    }
+
+    private static void assertSameFactor(SquareRootInformation one, SquareRootInformation two, int q, String what) {
+        double[] x1 = Triangular.solveUpper(one.factorR(), one.rhs(), q);
+        double[] x2 = Triangular.solveUpper(two.factorR(), two.rhs(), q);
+        for (int i = 0; i < q; i++) {
+            assertEquals(x1[i], x2[i], TOLERANCE * Math.max(1.0, Math.abs(x1[i])), what + " θ[" + i + "]");
+        }
+        assertEquals(one.equations(), two.equations(), what + " equations");
+        assertEquals(one.residualSquares(), two.residualSquares(), TOLERANCE * one.residualSquares(),
+                what + " residual squares");
+    }
+
+    /** Factors are unique up to row signs, so the spread factors are compared as Gram matrices SᵀS. */
+    private static void assertSameGram(SquareRootInformation one, SquareRootInformation two, int q) {
+        double[] g1 = Matrices.multiply(Matrices.transpose(one.factorR(), q, q), one.factorR(), q, q, q);
+        double[] g2 = Matrices.multiply(Matrices.transpose(two.factorR(), q, q), two.factorR(), q, q, q);
+        double scale = 0.0;
+        for (double v : g1) {
+            scale = Math.max(scale, Math.abs(v));
+        }
+        for (int i = 0; i < q * q; i++) {
+            assertEquals(g1[i], g2[i], TOLERANCE * scale, "spread SᵀS[" + i / q + "][" + i % q + "]");
+        }
     }
 
     /** Seeded synthetic data from a known state; steps 1 s, or 1–3 s at random; ~2 % of outputs missing. */

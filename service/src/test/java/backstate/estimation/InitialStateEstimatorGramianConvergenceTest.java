@@ -10,7 +10,8 @@ import com.fasterxml.jackson.databind.JsonNode;
 import org.junit.jupiter.api.Test;
 
 /**
- * With σ = 1 the CONTINUOUS formulation's information matrix is the trapezoid rule applied to
+ * With σ = 1 the CONTINUOUS formulation's information matrix times the sample spacing h (its
+ * weights are in units of the mean spacing) is the trapezoid rule applied to
  * f(t) = e^{A't} C'C e^{At}, so it must converge to the finite-horizon observability Gramian
  * W_o(T) = ∫₀ᵀ f(t) dt with error h²/12 (f'(T) − f'(0)) + O(h⁴) (Euler–Maclaurin; f' = A'f + fA).
  *
@@ -75,7 +76,10 @@ class InitialStateEstimatorGramianConvergenceTest {
         }
     }
 
-    /** Information matrix of a σ = 1, zero-output trace sampled at k·T/intervals, CONTINUOUS weighting. */
+    /**
+     * Trapezoid sum of a σ = 1, zero-output trace sampled at k·T/intervals: the CONTINUOUS
+     * information matrix, whose weights are in units of the mean spacing h, times h.
+     */
     private static double[] continuousInformation(StateSpaceModel model, double horizon, int intervals) {
         double[] times = new double[intervals + 1];
         for (int k = 0; k <= intervals; k++) {
@@ -86,7 +90,12 @@ class InitialStateEstimatorGramianConvergenceTest {
         EstimationResult result = InitialStateEstimator.solve(model, trace,
                 EstimationOptions.defaults().withFormulation(Formulation.CONTINUOUS).withKeepSeries(false));
         assertTrue(result instanceof Estimate, "got " + result);
-        return ((Estimate) result).conditioning().information();
+        double[] information = ((Estimate) result).conditioning().information();
+        double spacing = horizon / intervals;
+        for (int i = 0; i < information.length; i++) {
+            information[i] *= spacing;
+        }
+        return information;
     }
 
     private static double[] minus(double[] a, double[] b) {

@@ -60,6 +60,9 @@ class InitialStateEstimatorPropertyTest {
         // positivity any pivot > 0 (the smallest eigenvalue of P is 1/λ_max(W) > 0).
         RealMatrix pm = new Array2DRowRealMatrix(Matrices.unflatten(p, q, q));
         new CholeskyDecomposition(pm, SYMMETRY, 0.0);
+        if (c.options().formulation() == Formulation.CONTINUOUS) {
+            return; // P is the sandwich W⁻¹ M W⁻¹, not W⁻¹; checked against numpy in InitialStateEstimatorReferenceTest
+        }
         // P·W = I to within κ(W)·ε·(a few): the two are computed from the same factor R.
         RealMatrix w = new Array2DRowRealMatrix(Matrices.unflatten(e.conditioning().information(), q, q));
         RealMatrix product = pm.multiply(w);
@@ -161,8 +164,11 @@ class InitialStateEstimatorPropertyTest {
                 }
             }
         }
-        assertEquals(e.chiSquare(), residualSquares, Math.max(c.tolerance("chiSquare"), 1e-9) * e.chiSquare(),
-                c + " chi2 equals the weighted residual sum of squares");
+        if (c.options().formulation() == Formulation.SAMPLED) {
+            // CONTINUOUS reports the per-sample fit's χ², not the trapezoid-weighted sum (reference test).
+            assertEquals(e.chiSquare(), residualSquares, Math.max(c.tolerance("chiSquare"), 1e-9) * e.chiSquare(),
+                    c + " chi2 equals the weighted residual sum of squares");
+        }
         for (int i = 0; i < q; i++) {
             double cosine = gradient[i] / Math.sqrt(columnSquares[i] * residualSquares);
             assertEquals(0.0, cosine, ORTHOGONALITY_COSINE, c + " cos(column " + i + ", residual)");
@@ -171,7 +177,8 @@ class InitialStateEstimatorPropertyTest {
 
     /**
      * Per-equation weights from the case's own definition: 1/σ_j (SAMPLED) or √w_kj/σ_j with
-     * trapezoid weights over the channel's present samples (CONTINUOUS); σ_j as the engine reports.
+     * trapezoid weights over the channel's present samples in units of the trace's mean spacing
+     * (CONTINUOUS); σ_j as the engine reports.
      */
     private static double[] equationWeights(Case c, Estimate e) {
         int p = c.model().outputs();
@@ -179,6 +186,7 @@ class InitialStateEstimatorPropertyTest {
         double[] y = flat(c.json().get("trace").get("outputs"));
         double[] w = new double[y.length];
         boolean continuous = c.options().formulation() == Formulation.CONTINUOUS;
+        double meanSpacing = (times[times.length - 1] - times[0]) / (times.length - 1);
         for (int j = 0; j < p; j++) {
             double sigma = e.channels().get(j).sigma();
             int channel = j;
@@ -190,7 +198,7 @@ class InitialStateEstimatorPropertyTest {
                 if (continuous) {
                     double before = idx == 0 ? times[k] : times[present[idx - 1]];
                     double after = idx == present.length - 1 ? times[k] : times[present[idx + 1]];
-                    trap = (after - before) / 2.0;
+                    trap = (after - before) / 2.0 / meanSpacing;
                 }
                 w[k * p + j] = Math.sqrt(trap) / sigma;
             }
