@@ -39,6 +39,11 @@ echo "== Java, -Xmx$SMALL_HEAP (load $(cut -d" " -f1 /proc/loadavg))"
 java "-Xmx$SMALL_HEAP" -cp "$CLASSPATH_JARS" backstate.bench.EstimatorBench "$OUT/trace.bin" \
   "$OUT/java_small_heap.tsv" "$WARMUPS" "$REPEATS" "$LARGE"
 
+echo "== Java, continuous formulation against sampled (its baseline), same JVM, alternating (load $(cut -d" " -f1 /proc/loadavg))"
+# shellcheck disable=SC2086 # the options are meant to split
+java $TIMING_HEAP_OPTS -cp "$CLASSPATH_JARS" backstate.bench.FormulationBench "$OUT/trace.bin" \
+  "$WARMUPS" "$REPEATS" "$SMALL" "$LARGE" | tee "$OUT/formulations.md"
+
 echo "== NumPy, OPENBLAS_CORETYPE and OPENBLAS_L2_SIZE unset for this command only (load $(cut -d" " -f1 /proc/loadavg))"
 env -u OPENBLAS_CORETYPE -u OPENBLAS_L2_SIZE python3 bench/numpy_lstsq.py "$OUT/trace.bin" "$OUT/numpy.json" \
   "$REPEATS" "$SMALL" "$LARGE"
