@@ -9,7 +9,8 @@ import java.util.Set;
  *
  * @param unknownNames         name of each unknown in vector order
  * @param solution             estimated unknowns (x̂0, then offsets)
- * @param covariance           covariance of the unknowns with the given/assumed σ (q×q)
+ * @param covariance           covariance of the unknowns with the given/assumed σ (q×q); for the
+ *                             continuous formulation the sandwich form under per-sample noise
  * @param standardErrors       square roots of the covariance diagonal
  * @param sigmaScale           σ̂ = sqrt(χ²/dof), the factor the residuals suggest for σ (NaN when dof = 0)
  * @param standardErrorsScaled standard errors scaled by σ̂
@@ -18,7 +19,8 @@ import java.util.Set;
  * @param reference            the state at the options' reference time, or null
  * @param conditioning         information matrix, eigen-structure and rank
  * @param channels             residual diagnostics per output channel
- * @param chiSquare            weighted residual sum of squares (prior misfit included)
+ * @param chiSquare            residual sum of squares weighted by 1/σ² at the best per-sample fit
+ *                             (prior misfit included); the estimate's own for the sampled formulation
  * @param degreesOfFreedom     equations (data plus prior) minus unknowns
  * @param chiSquareP           upper-tail p-value of χ² (NaN when dof = 0)
  * @param flags                conditions for dashboards

@@ -4,6 +4,10 @@ package backstate.estimation;
 public enum Formulation {
     /** Each present sample is one equation weighted by 1/σ²: right for independent sample noise. */
     SAMPLED,
-    /** The L2 norm over the window, approximated by trapezoid weights on the samples. */
+    /**
+     * The L2 norm over the window, approximated by trapezoid weights on the samples in units of
+     * the mean sample spacing ({@link TrapezoidWeights}). The noise is still independent per
+     * sample: the covariance is the sandwich form and χ² the per-sample fit's ({@link WeightedFactors}).
+     */
     CONTINUOUS
 }
