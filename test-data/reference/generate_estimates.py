@@ -355,6 +355,19 @@ def solve_reference(model, ticks, y, u, trace_sigma, options, noise_free):
         "fitted": nested(fitted),
     }
 
+    # The state along the window: x(t_k) = Phi_k x0 + forced_k, Cov = Phi_k P Phi_k' (P the states' block).
+    p_states = covariance[:n, :n]
+    trajectory = phis @ theta[:n] + forced
+    trajectory_se = np.sqrt(np.einsum("kij,jl,kil->ki", phis, p_states, phis))
+    end_cov = phis[-1] @ p_states @ phis[-1].T
+    expected["windowEnd"] = {
+        "time": float(ticks[-1]) / TICKS_PER_SECOND,
+        "state": vec(trajectory[-1]),
+        "covariance": nested(end_cov),
+        "standardErrors": vec(np.sqrt(np.diag(end_cov))),
+    }
+    expected["stateTrajectory"] = {"states": nested(trajectory), "standardErrors": nested(trajectory_se)}
+
     t_ref = options.get("referenceTime")
     if t_ref is not None:
         ref_ticks = to_ticks(t_ref)

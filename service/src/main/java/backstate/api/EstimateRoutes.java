@@ -61,38 +61,55 @@ final class EstimateRoutes {
         ctx.json(Views.Estimate.of(find(ctx)));
     }
 
-    /** Rebuilt from the stored trace by solving it again ({@link StoredTraceSolver}); the series is not stored. */
+    /**
+     * Rebuilt from the stored trace by solving it again ({@link StoredTraceSolver}); the series is
+     * not stored. The engine keeps every s-th sample, s = ⌈N / maxPoints⌉.
+     */
     void series(Context ctx) {
         EstimateRow row = find(ctx);
         int maxPoints = Params.intOrDefault(ctx, "maxPoints", DEFAULT_POINTS, MAX_POINTS);
         StoredTraceSolver.Loaded loaded = solver.load(row.traceId());
-        if (!(solver.solve(loaded, true) instanceof DocumentSolver.Outcome.Solved solved)) {
+        if (!(solver.solveWithSeries(loaded, maxPoints) instanceof DocumentSolver.Outcome.Solved solved)) {
             throw new IllegalStateException("trace " + row.traceId() + " solved once but not again");
         }
         List<String> outputs = loaded.model().document().outputs().stream().map(q -> q.name()).toList();
-        ctx.json(decimate(solved.estimate().series(), outputs, maxPoints));
+        List<String> states = loaded.model().document().states().stream().map(q -> q.name()).toList();
+        ctx.json(view(solved.estimate().series(), outputs, states));
     }
 
-    /** Keeps every s-th point, s = ceil(points / maxPoints), so at most maxPoints remain. */
-    static Views.Series decimate(Estimate.Series s, List<String> outputs, int maxPoints) {
+    /** The engine's kept series by output and state name; non-finite values (missing samples) as null. */
+    static Views.Series view(Estimate.Series s, List<String> outputs, List<String> states) {
         int points = s.times().length;
-        int stride = Math.max(1, (points + maxPoints - 1) / maxPoints);
-        List<Double> time = new ArrayList<>();
-        Map<String, List<Double>> fitted = new LinkedHashMap<>();
-        Map<String, List<Double>> residual = new LinkedHashMap<>();
-        outputs.forEach(o -> {
-            fitted.put(o, new ArrayList<>());
-            residual.put(o, new ArrayList<>());
-        });
-        int p = s.outputCount();
-        for (int k = 0; k < points; k += stride) {
-            time.add(s.times()[k]);
-            for (int j = 0; j < p; j++) {
-                fitted.get(outputs.get(j)).add(finite(s.fitted()[k * p + j]));
-                residual.get(outputs.get(j)).add(finite(s.residuals()[k * p + j]));
-            }
+        List<Double> time = new ArrayList<>(points);
+        for (double t : s.times()) {
+            time.add(t);
         }
-        return new Views.Series(outputs, time.size(), time, fitted, residual);
+        Map<String, Views.StateBand> bands = new LinkedHashMap<>();
+        for (int i = 0; i < states.size(); i++) {
+            bands.put(states.get(i), new Views.StateBand(column(s.states(), i, s.stateCount()),
+                    column(s.stateStandardErrors(), i, s.stateCount()), column(s.stateLower(), i, s.stateCount()),
+                    column(s.stateUpper(), i, s.stateCount())));
+        }
+        return new Views.Series(outputs, states, points, s.stride(), time,
+                byName(s.measured(), outputs, s.outputCount()), byName(s.fitted(), outputs, s.outputCount()),
+                byName(s.residuals(), outputs, s.outputCount()), bands);
+    }
+
+    private static Map<String, List<Double>> byName(double[] rowMajor, List<String> names, int width) {
+        Map<String, List<Double>> out = new LinkedHashMap<>();
+        for (int j = 0; j < names.size(); j++) {
+            out.put(names.get(j), column(rowMajor, j, width));
+        }
+        return out;
+    }
+
+    private static List<Double> column(double[] rowMajor, int j, int width) {
+        int rows = rowMajor.length / width;
+        List<Double> out = new ArrayList<>(rows);
+        for (int k = 0; k < rows; k++) {
+            out.add(finite(rowMajor[k * width + j]));
+        }
+        return out;
     }
 
     private static Double finite(double v) {

@@ -81,8 +81,18 @@ final class Views {
         }
     }
 
-    record Series(List<String> outputs, int points, List<Double> time, Map<String, List<Double>> fitted,
-                  Map<String, List<Double>> residual) {
+    /**
+     * Every {@code stride}-th sample of a trace: measured and fitted outputs and residuals by
+     * output name, and the estimated state trajectory with its standard error and 95 % band by
+     * state name; null where a value is missing.
+     */
+    record Series(List<String> outputs, List<String> states, int points, int stride, List<Double> time,
+                  Map<String, List<Double>> measured, Map<String, List<Double>> fitted,
+                  Map<String, List<Double>> residual, Map<String, StateBand> state) {
+    }
+
+    /** One state along the window: estimate, standard error and 95 % interval per kept sample. */
+    record StateBand(List<Double> estimate, List<Double> standardError, List<Double> lower, List<Double> upper) {
     }
 
     /** Shown with every estimate: what an estimate may and may not be used for. */

@@ -17,6 +17,7 @@ import java.util.Set;
  * @param intervalLower        lower ends of the 95 % confidence intervals
  * @param intervalUpper        upper ends of the 95 % confidence intervals
  * @param reference            the state at the options' reference time, or null
+ * @param windowEnd            the state at the window's last sample
  * @param conditioning         information matrix, eigen-structure and rank
  * @param channels             residual diagnostics per output channel
  * @param chiSquare            residual sum of squares weighted by 1/σ² at the best per-sample fit
@@ -24,20 +25,31 @@ import java.util.Set;
  * @param degreesOfFreedom     equations (data plus prior) minus unknowns
  * @param chiSquareP           upper-tail p-value of χ² (NaN when dof = 0)
  * @param flags                conditions for dashboards
- * @param series               fitted and residual series, or null when not kept
+ * @param series               measured, fitted and residual outputs and the state trajectory, or null when not kept
  */
 public record Estimate(List<String> unknownNames, double[] solution, double[] covariance, double[] standardErrors,
                        double sigmaScale, double[] standardErrorsScaled, double[] intervalLower,
-                       double[] intervalUpper, ReferenceState reference, Conditioning conditioning,
+                       double[] intervalUpper, StateAt reference, StateAt windowEnd, Conditioning conditioning,
                        List<ChannelDiagnostics> channels, double chiSquare, int degreesOfFreedom,
                        double chiSquareP, Set<Flag> flags, Series series) implements EstimationResult {
 
-    /** The state at a chosen time t: x(t) = Φ(t) x0 + forced response, with covariance Φ P Φᵀ. */
-    public record ReferenceState(double time, double[] state, double[] covariance, double[] standardErrors) {
+    /**
+     * The state at a time t of the window: x̂(t) = Φ(t) x̂0 + forced response, covariance Φ P Φᵀ
+     * (P the states' block of the estimate's covariance), standard errors, standard errors scaled
+     * by σ̂, and 95 % intervals by the same rule as x̂0's.
+     */
+    public record StateAt(double time, double[] state, double[] covariance, double[] standardErrors,
+                          double[] standardErrorsScaled, double[] lower, double[] upper) {
     }
 
-    /** Fitted outputs and residuals per sample, row-major N×p; NaN residual where y was missing. */
-    public record Series(double[] times, double[] fitted, double[] residuals, int outputCount) {
+    /**
+     * Per kept sample (every {@code stride}-th, row-major): measured outputs (NaN where missing),
+     * fitted outputs and residuals (kept×p), and the estimated state x̂(t_k) with its standard
+     * errors and 95 % band (kept×n).
+     */
+    public record Series(double[] times, double[] measured, double[] fitted, double[] residuals, int outputCount,
+                         double[] states, double[] stateStandardErrors, double[] stateLower, double[] stateUpper,
+                         int stateCount, int stride) {
     }
 
     /** The estimated initial state x̂0 (first n unknowns). */

@@ -84,10 +84,15 @@ public final class InitialStateEstimator {
             conditioning = Sandwich.withWeakestSpread(conditioning, covariance, q);
         }
         Set<Flag> flags = flags(ctx, conditioning, residuals.channels(), chiSquareP, dof);
-        double[][] interval = intervals(ctx, solution, se, seScaled, dof);
+        StateUncertainty.Rule rule = intervalRule(ctx, sigmaScale, dof);
+        double[][] interval = intervals(solution, se, rule);
+        double[] pxx = Matrices.block(covariance, q, 0, 0, ctx.n, ctx.n);
+        Estimate.Series series = residuals.series() == null ? null
+                : StateUncertainty.series(ctx, residuals.series(), pxx, rule);
         return new Estimate(ctx.unknownNames(), solution, covariance, se, sigmaScale, seScaled,
-                interval[0], interval[1], reference(ctx, residuals.referenceState(), covariance), conditioning,
-                residuals.channels(), chiSquare, dof, chiSquareP, flags, residuals.series());
+                interval[0], interval[1], reference(ctx, residuals.referenceState(), pxx, rule),
+                windowEnd(ctx, residuals.endState(), pxx, rule), conditioning,
+                residuals.channels(), chiSquare, dof, chiSquareP, flags, series);
     }
 
     private static double[] diagonalRoots(double[] covariance, int q, double scale) {
@@ -99,44 +104,45 @@ public final class InitialStateEstimator {
     }
 
     /** Normal quantiles when every σ was given; Student-t with dof when σ is estimated from the residuals. */
-    private static double[][] intervals(SolveContext ctx, double[] x, double[] se, double[] seScaled, int dof) {
+    private static StateUncertainty.Rule intervalRule(SolveContext ctx, double sigmaScale, int dof) {
         double tail = 0.5 + CONFIDENCE / 2.0;
-        boolean estimated = !ctx.noise.allGiven();
-        double factor;
-        double[] width;
-        if (estimated && dof > 0) {
-            factor = new TDistribution(null, dof, INVERSE_ACCURACY).inverseCumulativeProbability(tail);
-            width = seScaled;
-        } else {
-            factor = new NormalDistribution(null, 0.0, 1.0).inverseCumulativeProbability(tail);
-            width = se;
+        if (!ctx.noise.allGiven() && dof > 0) {
+            double t = new TDistribution(null, dof, INVERSE_ACCURACY).inverseCumulativeProbability(tail);
+            return new StateUncertainty.Rule(t, true, sigmaScale);
         }
+        double z = new NormalDistribution(null, 0.0, 1.0).inverseCumulativeProbability(tail);
+        return new StateUncertainty.Rule(z, false, sigmaScale);
+    }
+
+    private static double[][] intervals(double[] x, double[] se, StateUncertainty.Rule rule) {
         double[][] out = new double[2][x.length];
         for (int i = 0; i < x.length; i++) {
-            out[0][i] = x[i] - factor * width[i];
-            out[1][i] = x[i] + factor * width[i];
+            out[0][i] = x[i] - rule.halfWidth(se[i]);
+            out[1][i] = x[i] + rule.halfWidth(se[i]);
         }
         return out;
     }
 
-    private static Estimate.ReferenceState reference(SolveContext ctx, double[] state, double[] covariance) {
+    private static Estimate.StateAt reference(SolveContext ctx, double[] state, double[] pxx,
+                                              StateUncertainty.Rule rule) {
         if (state == null) {
             return null;
         }
         double time = ctx.options.referenceTime();
-        int n = ctx.n;
         long units = ctx.steps.unitsFromStart(time, "referenceTime");
-        double[] phi = units == 0 ? Matrices.identity(n) : ctx.transitions.over(units).transition();
-        double[] pxx = Matrices.block(covariance, ctx.q, 0, 0, n, n);
-        double[] cov = Matrices.multiply(Matrices.multiply(phi, pxx, n, n, n), Matrices.transpose(phi, n, n), n, n, n);
-        for (int i = 0; i < n; i++) {
-            for (int j = i + 1; j < n; j++) {
-                double mean = 0.5 * (cov[i * n + j] + cov[j * n + i]);
-                cov[i * n + j] = mean;
-                cov[j * n + i] = mean;
-            }
-        }
-        return new Estimate.ReferenceState(time, state, cov, diagonalRoots(cov, n, 1.0));
+        return StateUncertainty.at(time, state, transitionFromStart(ctx, units), pxx, ctx.n, rule);
+    }
+
+    /** The state at the window's last sample. */
+    private static Estimate.StateAt windowEnd(SolveContext ctx, double[] state, double[] pxx,
+                                              StateUncertainty.Rule rule) {
+        int last = ctx.trace.samples() - 1;
+        return StateUncertainty.at(ctx.trace.time(last), state, transitionFromStart(ctx, ctx.units(last)), pxx,
+                ctx.n, rule);
+    }
+
+    private static double[] transitionFromStart(SolveContext ctx, long units) {
+        return units == 0 ? Matrices.identity(ctx.n) : ctx.transitions.fresh(units).transition();
     }
 
     private static Set<Flag> flags(SolveContext ctx, Conditioning conditioning, List<ChannelDiagnostics> channels,

@@ -54,8 +54,11 @@ final class ResidualPass {
     private final SolveContext ctx;
     private final double[] solution;
     private final long[] presentCounts;
+    private final int stride;
+    private final double[] measured;
     private final double[] fitted;
     private final double[] residuals;
+    private final double[] states;
     private final Double referenceTime;
     private final long referenceUnits;
 
@@ -63,9 +66,13 @@ final class ResidualPass {
         this.ctx = ctx;
         this.solution = solution;
         this.presentCounts = presentCounts;
-        int size = ctx.trace.samples() * ctx.p;
-        this.fitted = ctx.options.keepSeries() ? new double[size] : null;
-        this.residuals = ctx.options.keepSeries() ? new double[size] : null;
+        this.stride = ctx.options.seriesStride();
+        int kept = keptSamples(ctx.trace.samples(), stride);
+        boolean keep = ctx.options.keepSeries();
+        this.measured = keep ? new double[kept * ctx.p] : null;
+        this.fitted = keep ? new double[kept * ctx.p] : null;
+        this.residuals = keep ? new double[kept * ctx.p] : null;
+        this.states = keep ? new double[kept * ctx.n] : null;
         this.referenceTime = ctx.options.referenceTime();
         this.referenceUnits = referenceTime == null ? 0 : ctx.steps.unitsFromStart(referenceTime, "referenceTime");
     }
@@ -117,6 +124,11 @@ final class ResidualPass {
         return finish(done);
     }
 
+    /** Samples 0, s, 2s, … of N: ⌈N / s⌉. */
+    static int keptSamples(int samples, int stride) {
+        return (samples + stride - 1) / stride;
+    }
+
     private Result finish(Chunk[] done) {
         ChannelAccumulator[] channels = done[0].channels();
         double[] referenceState = done[0].referenceState();
@@ -132,8 +144,8 @@ final class ResidualPass {
         for (int j = 0; j < ctx.p; j++) {
             diagnostics.add(channels[j].finish(ctx.noise.source(j)));
         }
-        Estimate.Series series = fitted == null ? null : new Estimate.Series(times(ctx.trace), fitted, residuals, ctx.p);
-        return new Result(diagnostics, series, referenceState);
+        Kept series = fitted == null ? null : new Kept(keptTimes(), measured, fitted, residuals, states);
+        return new Result(diagnostics, series, referenceState, done[done.length - 1].endState());
     }
 
     /**
@@ -156,7 +168,8 @@ final class ResidualPass {
         while (k < to) {
             long unitsK = ctx.units(k);
             long step = k + 1 < to ? ctx.units(k + 1) - unitsK : 0;
-            if (ctx.lift && k + lift < to && ctx.equalSteps(k, unitsK, step, lift) == lift && !holdsReferenceSample(k, lift)) {
+            if (ctx.lift && k + lift < to && ctx.equalSteps(k, unitsK, step, lift) == lift && !holdsReferenceSample(k, lift)
+                    && !holdsKeptState(k, lift)) {
                 transitions.lifted(step).advance(state, ctx.inputs, k, liftedWork, modelled);
                 for (int i = 0; i < lift; i++) {
                     record(k + i, modelled, i * p, channels);
@@ -169,12 +182,20 @@ final class ResidualPass {
             }
             ctx.outputs(state, k, scratch, modelled);
             record(k, modelled, 0, channels);
+            if (states != null && k % stride == 0) {
+                System.arraycopy(state, 0, states, k / stride * ctx.n, ctx.n);
+            }
             if (k + 1 < to) {
                 ctx.propagate(state, k + 1, transitions.over(step), scratch);
             }
             k++;
         }
-        return new Chunk(channels, referenceState);
+        return new Chunk(channels, referenceState, state);
+    }
+
+    /** True when the series is kept and one of samples k … k+count−1 is a kept one, whose state must be seen. */
+    private boolean holdsKeptState(int k, int count) {
+        return states != null && (k % stride == 0 || k / stride != (k + count - 1) / stride);
     }
 
     /**
@@ -196,9 +217,11 @@ final class ResidualPass {
             if (!Double.isNaN(y)) {
                 channels[j].add(y, r);
             }
-            if (fitted != null) {
-                fitted[k * p + j] = yHat;
-                residuals[k * p + j] = r;
+            if (fitted != null && k % stride == 0) {
+                int slot = k / stride * p + j;
+                measured[slot] = y;
+                fitted[slot] = yHat;
+                residuals[slot] = r;
             }
         }
     }
@@ -232,18 +255,22 @@ final class ResidualPass {
         return ctx.q > ctx.n ? solution[ctx.n + j] : 0.0;
     }
 
-    private static double[] times(Trace trace) {
-        double[] out = new double[trace.samples()];
-        for (int k = 0; k < out.length; k++) {
-            out[k] = trace.time(k);
+    private double[] keptTimes() {
+        double[] out = new double[keptSamples(ctx.trace.samples(), stride)];
+        for (int i = 0; i < out.length; i++) {
+            out[i] = ctx.trace.time(i * stride);
         }
         return out;
     }
 
-    /** One chunk's accumulators and, if the chunk holds it, the reference-time state. */
-    private record Chunk(ChannelAccumulator[] channels, double[] referenceState) {
+    /** One chunk's accumulators, the reference-time state if the chunk holds it, and the state at its last sample. */
+    private record Chunk(ChannelAccumulator[] channels, double[] referenceState, double[] endState) {
     }
 
-    record Result(List<ChannelDiagnostics> channels, Estimate.Series series, double[] referenceState) {
+    /** The kept samples' times, outputs (measured, fitted, residual; kept×p) and states (kept×n). */
+    record Kept(double[] times, double[] measured, double[] fitted, double[] residuals, double[] states) {
+    }
+
+    record Result(List<ChannelDiagnostics> channels, Kept series, double[] referenceState, double[] endState) {
     }
 }

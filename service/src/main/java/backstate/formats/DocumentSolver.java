@@ -32,10 +32,24 @@ public final class DocumentSolver {
 
     /** As above, for a model already checked (a published version's, checked once). */
     public static Outcome solve(CheckedModel checked, ParsedTrace parsed, boolean keepSeries) {
+        return solve(checked, parsed, keepSeries, 1);
+    }
+
+    /**
+     * Solves keeping the series at most {@code maxPoints} points long: every s-th sample,
+     * s = ⌈N / maxPoints⌉, so a plot of a long trace never holds all N.
+     */
+    public static Outcome solveWithSeries(CheckedModel checked, ParsedTrace parsed, int maxPoints) {
+        int samples = parsed.trace().samples();
+        return solve(checked, parsed, true, Math.max(1, (samples + maxPoints - 1) / maxPoints));
+    }
+
+    private static Outcome solve(CheckedModel checked, ParsedTrace parsed, boolean keepSeries, int seriesStride) {
         ModelDocument modelDocument = checked.document();
         StateSpaceModel model = checked.engine();
         TraceOptions options = parsed.options() == null ? TraceOptions.NONE : parsed.options();
-        EstimationOptions engineOptions = options.toEstimationOptions(model.states(), keepSeries);
+        EstimationOptions engineOptions = options.toEstimationOptions(model.states(), keepSeries)
+                .withSeriesStride(seriesStride);
         EstimationResult result = InitialStateEstimator.solve(model, parsed.trace(), engineOptions);
         if (result instanceof Estimate estimate) {
             String formulation = engineOptions.formulation().name().toLowerCase(Locale.ROOT);

@@ -15,15 +15,17 @@ import java.util.Locale;
  */
 @JsonInclude(JsonInclude.Include.NON_NULL)
 public record EstimateDocument(String formulation, List<Value> states, List<Value> offsets, List<String> unknowns,
-                               List<List<Double>> covariance, Double sigmaScale, Reference reference,
-                               ConditioningDocument conditioning, Residuals residuals, List<String> flags) {
+                               List<List<Double>> covariance, Double sigmaScale, StateAtTime reference,
+                               StateAtTime windowEnd, ConditioningDocument conditioning, Residuals residuals,
+                               List<String> flags) {
 
     /** One estimated quantity with its standard errors and 95 % interval. */
     public record Value(String name, String unit, Double estimate, Double standardError, Double standardErrorScaled,
                         Double lower, Double upper) {
     }
 
-    public record Reference(Double time, List<Value> states, List<List<Double>> covariance) {
+    /** The state at one time of the window (seconds, the trace's clock), with its covariance. */
+    public record StateAtTime(Double time, List<Value> states, List<List<Double>> covariance) {
     }
 
     public record ConditioningDocument(List<List<Double>> information, List<Double> eigenvalues, Double conditionNumber,
@@ -53,7 +55,8 @@ public record EstimateDocument(String formulation, List<Value> states, List<Valu
             }
         }
         return new EstimateDocument(formulation, states, offsets, unknownNames(model, q), rows(e.covariance(), q),
-                num(e.sigmaScale()), reference(e, model), conditioning(e.conditioning(), q),
+                num(e.sigmaScale()), stateAt(e.reference(), model), stateAt(e.windowEnd(), model),
+                conditioning(e.conditioning(), q),
                 residuals(e, model), flagNames(e));
     }
 
@@ -81,18 +84,18 @@ public record EstimateDocument(String formulation, List<Value> states, List<Valu
                 num(e.standardErrorsScaled()[i]), num(e.intervalLower()[i]), num(e.intervalUpper()[i]));
     }
 
-    private static Reference reference(Estimate e, ModelDocument model) {
-        Estimate.ReferenceState ref = e.reference();
-        if (ref == null) {
+    private static StateAtTime stateAt(Estimate.StateAt at, ModelDocument model) {
+        if (at == null) {
             return null;
         }
-        int n = ref.state().length;
+        int n = at.state().length;
         List<Value> states = new ArrayList<>();
         for (int i = 0; i < n; i++) {
             Quantity s = model.states().get(i);
-            states.add(new Value(s.name(), s.unit(), num(ref.state()[i]), num(ref.standardErrors()[i]), null, null, null));
+            states.add(new Value(s.name(), s.unit(), num(at.state()[i]), num(at.standardErrors()[i]),
+                    num(at.standardErrorsScaled()[i]), num(at.lower()[i]), num(at.upper()[i])));
         }
-        return new Reference(ref.time(), states, rows(ref.covariance(), n));
+        return new StateAtTime(at.time(), states, rows(at.covariance(), n));
     }
 
     private static ConditioningDocument conditioning(Conditioning c, int q) {

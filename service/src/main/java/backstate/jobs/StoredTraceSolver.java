@@ -143,9 +143,14 @@ public final class StoredTraceSolver {
         }
     }
 
-    /** Solves a loaded trace; {@code keepSeries} also returns the fitted and residual series. */
+    /** Solves a loaded trace; {@code keepSeries} also returns the series at every sample. */
     public DocumentSolver.Outcome solve(Loaded loaded, boolean keepSeries) {
         return DocumentSolver.solve(loaded.model(), loaded.parsed(), keepSeries);
+    }
+
+    /** Solves a loaded trace keeping a series of at most {@code maxPoints} evenly strided samples. */
+    public DocumentSolver.Outcome solveWithSeries(Loaded loaded, int maxPoints) {
+        return DocumentSolver.solveWithSeries(loaded.model(), loaded.parsed(), maxPoints);
     }
 
     private CheckedModel parse(ModelVersionRow row) {

@@ -279,7 +279,13 @@ class OpenApiContractTest {
         assertEquals(2.0, result.get("states").get(1).get("standardError").asDouble(), 1e-12);
         assertEquals(1, result.get("conditioning").get("dataRank").asInt());
         assertEquals(60.0, result.get("reference").get("time").asDouble());
-        assertTrue(result.get("reference").get("states").get(0).get("lower").isNull(), "no interval at the reference time");
+        // Every σ given: the reference state's 95 % interval is ± z·SE, z = 1.959963984540054
+        // (scipy.stats.norm.ppf(0.975), as the reference generator uses for x0).
+        JsonNode atReference = result.get("reference").get("states").get(0);
+        double half = 1.959963984540054 * atReference.get("standardError").asDouble();
+        assertEquals(atReference.get("estimate").asDouble() - half, atReference.get("lower").asDouble(), 1e-12);
+        assertEquals(atReference.get("estimate").asDouble() + half, atReference.get("upper").asDouble(), 1e-12);
+        assertEquals(180.0, result.get("windowEnd").get("time").asDouble(), "the window ends at the last sample");
         assertEquals("trace", result.get("residuals").get("channels").get(0).get("sigmaSource").asText());
         assertEquals(3, result.get("residuals").get("channels").get(0).get("samples").asInt(), "one sample missing");
     }

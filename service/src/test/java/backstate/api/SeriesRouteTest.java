@@ -17,9 +17,10 @@ import org.junit.jupiter.params.ParameterizedTest;
 import org.junit.jupiter.params.provider.ValueSource;
 
 /**
- * The series route rebuilds an estimate's fitted outputs and residuals by solving the stored trace
- * again. Checked against numpy: each test-data/reference/estimates/case-*.json holds the fitted
- * outputs of numpy.linalg.lstsq's solution on the stacked weighted matrix (generate_estimates.py).
+ * The series route rebuilds an estimate's fitted outputs, residuals and state trajectory by solving
+ * the stored trace again. Checked against numpy: each test-data/reference/estimates/case-*.json
+ * holds the fitted outputs of numpy.linalg.lstsq's solution on the stacked weighted matrix, and the
+ * state trajectory Φ(t_k) x̂0 + forced response with standard errors √diag(Φ P Φᵀ) (generate_estimates.py).
  * The cases cover a discrete model, non-uniform times with missing outputs and per-channel σ, and
  * estimated sensor offsets (which the fitted outputs include).
  */
@@ -64,6 +65,35 @@ class SeriesRouteTest {
                     // Closed form: the residual is y − fitted, to rounding of the difference.
                     assertEquals(y.asDouble() - fitted, residual.asDouble(), 1e-12 * Math.max(1, Math.abs(y.asDouble())), where);
                 }
+                JsonNode measuredHere = series.get("measured").get("y" + j).get(k);
+                assertEquals(y.isNull() ? null : y.asDouble(), measuredHere.isNull() ? null : measuredHere.asDouble(),
+                        "measured " + where);
+            }
+        }
+    }
+
+    @ParameterizedTest
+    @ValueSource(strings = {"case-discrete-gaps", "case-nonuniform-missing", "case-sensor-offset"})
+    void state_trajectory_and_its_95_percent_band_match_numpy_at_every_sample(String name) throws Exception {
+        JsonNode reference = reference(name);
+        JsonNode series = series(solve(name, reference), 20_000);
+        JsonNode states = reference.get("expected").get("stateTrajectory").get("states");
+        JsonNode errors = reference.get("expected").get("stateTrajectory").get("standardErrors");
+        // The band is x̂ ± q·SE with x̂0's own multiple q: numpy's half-width over standard error.
+        JsonNode interval = reference.get("expected").get("interval");
+        double multiple = interval.get("halfWidth").get(0).asDouble()
+                / reference.get("expected").get("standardErrors").get(0).asDouble();
+        for (int k = 0; k < states.size(); k++) {
+            for (int i = 0; i < states.get(k).size(); i++) {
+                JsonNode band = series.get("state").get("x" + i);
+                String where = "x" + i + " at sample " + k;
+                double want = states.get(k).get(i).asDouble();
+                double se = errors.get(k).get(i).asDouble();
+                assertEquals(want, band.get("estimate").get(k).asDouble(), TOLERANCE * Math.max(1, Math.abs(want)), where);
+                assertEquals(se, band.get("standardError").get(k).asDouble(), TOLERANCE * Math.max(1e-12, se), "SE " + where);
+                double tolerance = TOLERANCE * Math.max(1, Math.abs(want));
+                assertEquals(want - multiple * se, band.get("lower").get(k).asDouble(), tolerance, "lower " + where);
+                assertEquals(want + multiple * se, band.get("upper").get(k).asDouble(), tolerance, "upper " + where);
             }
         }
     }

@@ -166,7 +166,7 @@ class InitialStateEstimatorReferenceTest {
     void reference_state_matches_propagated_estimate(Case c) {
         Estimate e = c.solveExpectingEstimate();
         JsonNode x = c.expected().get("reference");
-        Estimate.ReferenceState r = e.reference();
+        Estimate.StateAt r = e.reference();
         assertNotNull(r, c + " reference state");
         assertEquals(x.get("time").asDouble(), r.time(), 0.0, c + " reference time");
         // x(t_ref) = Φ(t_ref − t0) x̂0 + forced response with the input held from the last sample ≤ t_ref;
@@ -176,6 +176,54 @@ class InitialStateEstimatorReferenceTest {
                 c + " reference covariance Φ P Φ'");
         assertCloseNormwise(vector(x.get("standardErrors")), r.standardErrors(), c.tolerance("covariance"),
                 c + " reference standard errors");
+        assertIntervalsFollowTheRuleOfX0(c, e, r.state(), r.standardErrors(), r.lower(), r.upper(), "reference");
+    }
+
+    @ParameterizedTest(name = "{0}")
+    @MethodSource("solvedCases")
+    void window_end_state_matches_numpy_propagation(Case c) {
+        Estimate e = c.solveExpectingEstimate();
+        JsonNode x = c.expected().get("windowEnd");
+        Estimate.StateAt end = e.windowEnd();
+        assertEquals(x.get("time").asDouble(), end.time(), 0.0, c + " window end time");
+        // x(t_N) = Φ(t_N − t0) x̂0 + forced response; Cov = Φ P Φ' (numpy, scipy.linalg.expm).
+        assertCloseNormwise(vector(x.get("state")), end.state(), c.tolerance("reference"), c + " window end state");
+        assertCloseNormwise(flat(x.get("covariance")), end.covariance(), c.tolerance("covariance"),
+                c + " window end covariance Φ P Φ'");
+        assertCloseNormwise(vector(x.get("standardErrors")), end.standardErrors(), c.tolerance("covariance"),
+                c + " window end standard errors");
+        assertIntervalsFollowTheRuleOfX0(c, e, end.state(), end.standardErrors(), end.lower(), end.upper(), "window end");
+    }
+
+    @ParameterizedTest(name = "{0}")
+    @MethodSource("solvedCases")
+    void state_trajectory_and_its_band_match_numpy_at_every_sample(Case c) {
+        Estimate e = c.solveExpectingEstimate();
+        JsonNode x = c.expected().get("stateTrajectory");
+        Estimate.Series s = e.series();
+        assertEquals(1, s.stride(), c + " stride");
+        assertCloseNormwise(flat(x.get("states")), s.states(), c.tolerance("reference"), c + " x̂(t_k)");
+        assertCloseNormwise(flat(x.get("standardErrors")), s.stateStandardErrors(), c.tolerance("covariance"),
+                c + " standard error of x̂(t_k)");
+        assertIntervalsFollowTheRuleOfX0(c, e, s.states(), s.stateStandardErrors(), s.stateLower(), s.stateUpper(),
+                "trajectory");
+    }
+
+    /**
+     * Half-widths at any time are the same multiple of the standard error as x̂0's: the numpy
+     * half-width of x̂0 over its standard error (normal quantile, or Student-t times σ̂).
+     */
+    private static void assertIntervalsFollowTheRuleOfX0(Case c, Estimate e, double[] state, double[] se,
+                                                         double[] lower, double[] upper, String what) {
+        JsonNode interval = c.expected().get("interval");
+        double[] se0 = vector(c.expected().get("standardErrors"));
+        double multiple = interval.get("halfWidth").get(0).asDouble() / se0[0];
+        for (int i = 0; i < state.length; i++) {
+            double half = multiple * se[i];
+            double scale = Math.max(Math.abs(state[i]), half);
+            assertEquals(state[i] - half, lower[i], 1e-9 * scale, c + " " + what + " lower[" + i + "]");
+            assertEquals(state[i] + half, upper[i], 1e-9 * scale, c + " " + what + " upper[" + i + "]");
+        }
     }
 
     @ParameterizedTest(name = "{0}")

@@ -124,10 +124,12 @@ class ResidualPassChunkTest {
         }
         assertNotNull(one.referenceState(), what + ": reference state");
         EstimateCases.assertCloseNormwise(one.referenceState(), many.referenceState(), RELATIVE, what + ": reference state");
-        Estimate.Series s1 = one.series();
-        Estimate.Series s2 = many.series();
+        EstimateCases.assertCloseNormwise(one.endState(), many.endState(), RELATIVE, what + ": state at the last sample");
+        ResidualPass.Kept s1 = one.series();
+        ResidualPass.Kept s2 = many.series();
         assertArrayEquals(s1.times(), s2.times(), what + ": times");
-        int p = s1.outputCount();
+        EstimateCases.assertCloseNormwise(s1.states(), s2.states(), RELATIVE, what + ": state trajectory");
+        int p = s1.fitted().length / s1.times().length;
         for (int j = 0; j < p; j++) {
             double scale = 0.0;
             for (int k = j; k < s1.fitted().length; k += p) {
@@ -142,8 +144,8 @@ class ResidualPassChunkTest {
     }
 
     /** Q of channel j's present residuals (y missing gives a NaN residual), by the textbook two-pass formula. */
-    private static double directLjungBox(Estimate.Series series, int j) {
-        int p = series.outputCount();
+    private static double directLjungBox(ResidualPass.Kept series, int j) {
+        int p = series.residuals().length / series.times().length;
         double[] present = new double[series.residuals().length / p];
         int count = 0;
         for (int k = j; k < series.residuals().length; k += p) {
