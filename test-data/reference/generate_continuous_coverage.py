@@ -10,8 +10,11 @@ and numpy's own expectations:
                         (sandwich form; Huber 1967, White 1980 - from memory), from dense numpy
   empirical             the spread of numpy.linalg.lstsq solutions over the same draws, and the
                         share of normal 95 % intervals (scipy.stats.norm) that cover the truth
+  sampledCovariance     (A'A)^-1 of the same equations with every weight 1 (SAMPLED formulation)
+  endState, endCovariance   the true state at the last sample, and Phi(t_N - t_0) P Phi' for each
+                        formulation's P (the covariance of the estimated state at the window end)
 The Java test (ContinuousCoverageTest) solves every draw with the engine and compares its
-reported standard errors with `covariance`, and its own empirical spread and coverage with them.
+reported standard errors with these, and its own empirical spread and coverage with them.
 
 Noise is stored as integers in units of 1e-4 sigma (the draws are rounded to that grid before
 numpy solves them, so both sides see the same data): y = clean + sigma * noise / 10000.
@@ -98,6 +101,13 @@ def scenario(name, description, model, ticks, u, x0, missing, rng):
     assert np.all(np.abs(ratio - 1) < 0.1), ratio
     assert np.all(np.abs(covered - 0.95) < 0.02), covered
 
+    # Sampled formulation (every weight 1) of the same draws: its covariance is (A'A)^-1 (Gauss-Markov).
+    m_s = np.array(rows)
+    sampled_covariance = np.linalg.inv(m_s.T @ m_s)
+    end_phi = phis[-1]
+    end_covariance = {"continuous": nested(end_phi @ covariance @ end_phi.T),
+                      "sampled": nested(end_phi @ sampled_covariance @ end_phi.T)}
+
     return {
         "name": name,
         "description": description,
@@ -107,11 +117,14 @@ def scenario(name, description, model, ticks, u, x0, missing, rng):
         "inputs": None if not model.m else nested(u),
         "missing": [[bool(v) for v in row] for row in missing],
         "x0": vec(x0),
+        "endState": vec(x[-1]),
         "noiseFreeOutputs": nested(clean),
         "noiseScale": NOISE_SCALE,
         "noise": noise.tolist(),
         "expected": {
             "covariance": nested(covariance),
+            "sampledCovariance": nested(sampled_covariance),
+            "endCovariance": end_covariance,
             "standardErrors": vec(se),
             "numpyEmpiricalSpread": vec(spread_empirical),
             "numpyCoverage95": vec(covered),

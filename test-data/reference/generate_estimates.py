@@ -51,6 +51,8 @@ MISMATCH_LEVEL = 1e-3
 # Mirrors Conditioning.ILL_CONDITIONED_LIMIT and FEW_SAMPLES_DOF (documented thresholds).
 ILL_CONDITIONED_LIMIT = 1e8
 FEW_SAMPLES_DOF = 10
+# Mirrors Conditioning.OFFSET_INFLATION_LIMIT: an offset's variance inflation factor above it is confounded.
+OFFSET_INFLATION_LIMIT = 100.0
 OUTLIER_SIGMAS = 4.0
 # Default relative tolerance the Java test applies to well-conditioned cases (from the brief).
 DEFAULT_RTOL = 1e-9
@@ -460,6 +462,13 @@ def expected_flags(expected, noise_free, sigma_given):
     (present if expected["conditionNumber"] > ILL_CONDITIONED_LIMIT else absent).append("ILL_CONDITIONED")
     (present if expected["dataRank"] < expected["rank"] else absent).append("UNOBSERVABLE")
     (present if expected["degreesOfFreedom"] < FEW_SAMPLES_DOF else absent).append("FEW_SAMPLES")
+    # Variance inflation of each offset, diag(W^-1) * diag(W) (Belsley, Kuh & Welsch 1980 - from memory),
+    # asserted only when no offset sits within a factor 3 of the limit.
+    w = np.array(expected["information"])
+    n_states = sum(1 for name in expected["unknownNames"] if name.startswith("x0["))
+    inflation = (np.diag(np.linalg.inv(w)) * np.diag(w))[n_states:]
+    assert all(v > 3 * OFFSET_INFLATION_LIMIT or v < OFFSET_INFLATION_LIMIT / 3 for v in inflation), inflation
+    (present if any(inflation > OFFSET_INFLATION_LIMIT) else absent).append("OFFSET_CONFOUNDED")
     if not noise_free:
         ps = [c["ljungBox"]["p"] for c in expected["channels"] if c["ljungBox"]]
         if sigma_given:

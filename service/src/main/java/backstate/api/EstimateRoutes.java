@@ -19,7 +19,7 @@ final class EstimateRoutes {
     static final int DEFAULT_PAGE = 50;
     static final int MAX_PAGE = 500;
     static final int DEFAULT_POINTS = 1000;
-    static final Set<String> FLAGS = Set.of("unobservable", "ill_conditioned", "model_mismatch", "few_samples");
+    static final Set<String> FLAGS = Set.copyOf(FleetViews.FLAGS);
 
     /** Most points one series answer carries: plots want a few thousand at most. */
     static final int MAX_POINTS = 20_000;

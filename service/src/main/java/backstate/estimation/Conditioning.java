@@ -20,6 +20,13 @@ public record Conditioning(double[] information, double[] eigenvalues, double co
     public static final double ILL_CONDITIONED_LIMIT = 1e8;
     /** Below 10 residual degrees of freedom χ² and whiteness tests have little power: common practice, no source. */
     public static final int FEW_SAMPLES_DOF = 10;
+    /**
+     * An offset whose variance the other unknowns inflate more than 100-fold (standard error 10×
+     * what it would be with the states known, squared multiple correlation above 0.99) cannot be
+     * told apart from them in practice; the usual multicollinearity alarm is 10, taken stricter
+     * here because states of one model are correlated by nature (common practice, no source).
+     */
+    public static final double OFFSET_INFLATION_LIMIT = 100.0;
     /** A residual beyond 4σ has probability 6.3e-5 under Gaussian noise: common practice, no source. */
     public static final double OUTLIER_SIGMAS = 4.0;
 }

@@ -84,6 +84,9 @@ public final class InitialStateEstimator {
             conditioning = Sandwich.withWeakestSpread(conditioning, covariance, q);
         }
         Set<Flag> flags = flags(ctx, conditioning, residuals.channels(), chiSquareP, dof);
+        if (OffsetSeparation.worstInflation(r, ctx.n, q) > Conditioning.OFFSET_INFLATION_LIMIT) {
+            flags.add(Flag.OFFSET_CONFOUNDED);
+        }
         StateUncertainty.Rule rule = intervalRule(ctx, sigmaScale, dof);
         double[][] interval = intervals(solution, se, rule);
         double[] pxx = Matrices.block(covariance, q, 0, 0, ctx.n, ctx.n);

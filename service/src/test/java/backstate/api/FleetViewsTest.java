@@ -117,7 +117,8 @@ class FleetViewsTest {
     @Test
     void summary_lists_every_flag_with_the_units_whose_estimates_carry_it() {
         JsonNode flags = version(get("/v1/fleet/reefer-40/summary?version=1"), 1).get("flags");
-        assertEquals(List.of("unobservable", "ill_conditioned", "model_mismatch", "few_samples"), fieldNames(flags));
+        assertEquals(List.of("unobservable", "ill_conditioned", "model_mismatch", "few_samples", "offset_confounded"),
+                fieldNames(flags));
         for (String flag : fieldNames(flags)) {
             List<JsonNode> carrying = estimatesOf(1).stream().filter(e -> flagsOf(e).contains(flag)).toList();
             TreeSet<String> units = new TreeSet<>(carrying.stream().map(e -> e.get("unitId").asText()).toList());

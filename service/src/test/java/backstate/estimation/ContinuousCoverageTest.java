@@ -31,6 +31,7 @@ import org.junit.jupiter.params.provider.MethodSource;
  *       model-mismatch flag is as rare as its test level says.</li>
  * </ul>
  * Before the fix the standard errors scaled with √(sample period): at 60 s they were √60 too small.
+ * The same draws prove the state reported at the window's end, under both formulations.
  */
 class ContinuousCoverageTest {
     /** Relative agreement with numpy's dense closed form: two double builds of one small problem (common practice, no source). */
@@ -108,6 +109,57 @@ class ContinuousCoverageTest {
         double band = CHI_SQUARE_SIGMAS * Math.sqrt(2.0 / (first.degreesOfFreedom() * (double) draws));
         assertEquals(1.0, chiSquarePerDof, band, name + ": mean χ²/dof on the per-sample noise scale");
         assertTrue(flagged <= MAX_MISMATCH_FLAGS, name + ": model_mismatch on " + flagged + " of " + draws + " healthy draws");
+    }
+
+    /**
+     * The state at the window's last sample, x̂(t_N) = Φ x̂0 + forced response, under both
+     * formulations: reported covariance Φ P Φᵀ equals numpy's, the empirical spread of x̂(t_N) over the
+     * draws is within ±10 % of its reported standard errors and its 95 % intervals cover the true
+     * x(t_N) in 95 ± 2 % of draws.
+     */
+    @ParameterizedTest(name = "{index}")
+    @MethodSource("scenarios")
+    void window_end_state_intervals_cover_95_percent_under_both_formulations(JsonNode s) {
+        for (Formulation formulation : Formulation.values()) {
+            String name = s.get("name").asText() + " " + formulation;
+            StateSpaceModel model = EstimateCases.model(s.get("model"));
+            int n = model.states();
+            double[] truth = vector(s.get("endState"));
+            double[] clean = flat(s.get("noiseFreeOutputs"));
+            JsonNode noise = s.get("noise");
+            EstimationOptions options = EstimationOptions.defaults().withFormulation(formulation).withKeepSeries(false);
+            int draws = noise.size();
+            double[] sum = new double[n];
+            double[] squares = new double[n];
+            int[] covered = new int[n];
+            Estimate.StateAt first = null;
+            for (int d = 0; d < draws; d++) {
+                double[] y = outputs(clean, noise.get(d), model.defaultNoiseSigma(), s.get("missing"), model.outputs(),
+                        s.get("noiseScale").asDouble());
+                Estimate.StateAt end = solve(s, model, y, options).windowEnd();
+                if (first == null) {
+                    first = end;
+                    String key = formulation == Formulation.CONTINUOUS ? "continuous" : "sampled";
+                    assertCloseNormwise(flat(s.get("expected").get("endCovariance").get(key)), end.covariance(),
+                            CLOSED_FORM_RELATIVE, name + ": window-end covariance vs numpy Φ P Φᵀ");
+                }
+                for (int i = 0; i < n; i++) {
+                    double error = end.state()[i] - truth[i];
+                    sum[i] += error;
+                    squares[i] += error * error;
+                    if (end.lower()[i] <= truth[i] && truth[i] <= end.upper()[i]) {
+                        covered[i]++;
+                    }
+                }
+            }
+            for (int i = 0; i < n; i++) {
+                double mean = sum[i] / draws;
+                double spread = Math.sqrt((squares[i] - draws * mean * mean) / (draws - 1));
+                assertEquals(1.0, spread / first.standardErrors()[i], SPREAD_BAND,
+                        name + ": empirical spread / reported SE of x(t_N)[" + i + "]");
+                assertEquals(0.95, covered[i] / (double) draws, COVERAGE_BAND, name + ": coverage of x(t_N)[" + i + "]");
+            }
+        }
     }
 
     private static Estimate solve(JsonNode s, StateSpaceModel model, double[] y, EstimationOptions options) {
