@@ -77,7 +77,7 @@ final class TraceRoutes {
         }
         if (submission.replayed()) {
             cancel(solvedAhead);
-            ctx.header("Idempotent-Replayed", "true");
+            ctx.header("Backstate-Replayed", "true");
         } else {
             // Committed: its job may take the parse (and solve) in hand instead of reading the row back.
             stored.keepFresh(new StoredTraceSolver.Loaded(new TraceRef(submission.traceId(), unitId, version.family(),

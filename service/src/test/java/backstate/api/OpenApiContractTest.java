@@ -221,11 +221,11 @@ class OpenApiContractTest {
         assertEquals(202, accepted.status());
         String jobId = accepted.json().get("jobId").asText();
         assertEquals("/v1/jobs/" + jobId, accepted.headers().firstValue("Location").orElseThrow());
-        assertTrue(accepted.headers().firstValue("Idempotent-Replayed").isEmpty());
+        assertTrue(accepted.headers().firstValue("Backstate-Replayed").isEmpty());
 
         TestServer.Reply replayed = api.post(target, "text/csv", demoTrace(unit), "Idempotency-Key", "contract-85159");
         assertEquals(202, replayed.status());
-        assertEquals("true", replayed.headers().firstValue("Idempotent-Replayed").orElseThrow());
+        assertEquals("true", replayed.headers().firstValue("Backstate-Replayed").orElseThrow());
         assertEquals(accepted.json().get("jobId"), replayed.json().get("jobId"));
         assertEquals(accepted.json().get("traceId"), replayed.json().get("traceId"));
 
