@@ -3,6 +3,7 @@ package backstate.api;
 import backstate.estimation.ModelException;
 import backstate.formats.InputException;
 import backstate.formats.JsonPaths;
+import backstate.formats.MatrixEntryException;
 import backstate.store.InvalidCursorException;
 import backstate.store.QueueFullException;
 import backstate.store.StoreUnavailableException;
@@ -47,6 +48,7 @@ final class ProblemMapper {
         routes.exception(InvalidCursorException.class, (e, ctx) -> write(ctx, ApiProblem.invalid("cursor", "not a cursor from this API").toProblem()));
         routes.exception(UnrecognizedPropertyException.class, (e, ctx) -> write(ctx, ApiProblem.invalid("body" + JsonPaths.of(e),
                 "got an unknown field \"" + e.getPropertyName() + "\", expected one of " + e.getKnownPropertyIds()).toProblem()));
+        routes.exception(MatrixEntryException.class, (e, ctx) -> write(ctx, ApiProblem.invalid(e.field(), e.problem()).toProblem()));
         routes.exception(JsonMappingException.class, (e, ctx) -> write(ctx, ApiProblem.invalid("body" + JsonPaths.of(e),
                 "got a value of the wrong type or shape").toProblem()));
         routes.exception(JsonProcessingException.class, (e, ctx) -> write(ctx, ApiProblem.invalid("body", "malformed JSON: " + e.getOriginalMessage()).toProblem()));

@@ -97,8 +97,8 @@ final class TraceRoutes {
     }
 
     private ModelVersionRow activeVersion(Context ctx) {
-        String family = Params.identifier("model", ctx.queryParam("model"));
-        int number = Params.positiveInt("version", ctx.queryParam("version"));
+        String family = Params.identifier("model", Params.requiredQuery(ctx, "model"));
+        int number = Params.positiveInt("version", Params.requiredQuery(ctx, "version"));
         ModelVersionRow version = store.findVersion(family, number)
                 .orElseThrow(() -> ApiProblem.unprocessable("version", "model version " + family + "/" + number + " does not exist"));
         if (!"active".equals(version.status())) {
