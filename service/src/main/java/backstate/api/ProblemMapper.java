@@ -4,6 +4,7 @@ import backstate.estimation.ModelException;
 import backstate.formats.InputException;
 import backstate.formats.JsonPaths;
 import backstate.formats.MatrixEntryException;
+import backstate.store.IdempotencyKeyReusedException;
 import backstate.store.InvalidCursorException;
 import backstate.store.QueueFullException;
 import backstate.store.StoreUnavailableException;
@@ -52,6 +53,7 @@ final class ProblemMapper {
         routes.exception(JsonMappingException.class, (e, ctx) -> write(ctx, ApiProblem.invalid("body" + JsonPaths.of(e),
                 "got a value of the wrong type or shape").toProblem()));
         routes.exception(JsonProcessingException.class, (e, ctx) -> write(ctx, ApiProblem.invalid("body", "malformed JSON: " + e.getOriginalMessage()).toProblem()));
+        routes.exception(IdempotencyKeyReusedException.class, (e, ctx) -> write(ctx, ApiProblem.idempotencyKeyReused(e.key()).toProblem()));
         routes.exception(QueueFullException.class, (e, ctx) -> busy(ctx, "the job queue is full; retry later"));
         routes.exception(StoreUnavailableException.class, (e, ctx) -> {
             LOG.warn("database unavailable: {}", e.getMessage());

@@ -101,7 +101,7 @@ public final class SqliteStore implements Store, JobQueue {
     // ---- Store: traces, jobs, estimates
 
     @Override
-    public Submission submitTrace(NewTrace trace, String idempotencyKeyOrNull, int maxQueued, Instant now)
+    public Submission submitTrace(NewTrace trace, IdempotencyKey idempotencyKeyOrNull, int maxQueued, Instant now)
             throws QueueFullException {
         return submissions.submitTrace(trace, idempotencyKeyOrNull, maxQueued, now);
     }

@@ -52,7 +52,8 @@ class OpenApiContractTest {
     static final Duration JOB_DEADLINE = Duration.ofSeconds(60);
     static final String DEMO = "reefer-40";
     /** The problem types the document must describe (the slugs ApiProblem and ProblemMapper use). */
-    static final List<String> PROBLEM_TYPES = List.of("invalid-input", "inconsistent-input", "not-found", "conflict",
+    static final List<String> PROBLEM_TYPES = List.of("invalid-input", "inconsistent-input", "idempotency-key-reused",
+            "not-found", "conflict",
             "payload-too-large", "unsupported-media-type", "service-busy", "unauthorized", "forbidden",
             "method-not-allowed", "internal-error");
     /** A well-formed admin key for the guarded server (bsk_ + 16 hex + _ + 64 hex); made up for this test. */
@@ -249,6 +250,37 @@ class OpenApiContractTest {
         assertEquals(46, series.get("residual").get("supply_air").size());
         assertProblem(api.getOutsideDocument("/v1/estimates/" + latest.get("id").asText() + "/series?maxPoints=0"), 400,
                 "invalid-input");
+    }
+
+    /** draft-ietf-httpapi-idempotency-key-header-07, section 2.7: a key reused with another payload is answered 422. */
+    @Test
+    void an_idempotency_key_reused_for_another_request_is_refused_and_the_first_post_stands() throws Exception {
+        String target = "/v1/units/RCX-20123/traces?model=" + DEMO + "&version=1";
+        byte[] trace = demoTrace("RCX-20123");
+        TestServer.Reply first = api.post(target, "text/csv", trace, "Idempotency-Key", "contract-reuse");
+        assertEquals(202, first.status(), first.body());
+        Path db = dir.resolve("main/test.db");
+        List<Long> stored = List.of(Database.count(db, "traces"), Database.count(db, "jobs"));
+
+        byte[] otherBody = demoTrace("RCX-12471");
+        TestServer.Reply otherTrace = api.post(target, "text/csv", otherBody, "Idempotency-Key", "contract-reuse");
+        assertProblem(otherTrace, 422, "idempotency-key-reused");
+        assertEquals("Idempotency-Key", otherTrace.json().get("errors").get(0).get("field").asText());
+        TestServer.Reply otherVersion = api.post(target.replace("version=1", "version=2"), "text/csv", trace,
+                "Idempotency-Key", "contract-reuse");
+        assertProblem(otherVersion, 422, "idempotency-key-reused");
+        TestServer.Reply otherOptions = api.post(target + "&estimateOffsets=true", "text/csv", trace,
+                "Idempotency-Key", "contract-reuse");
+        assertProblem(otherOptions, 422, "idempotency-key-reused");
+        assertEquals(stored, List.of(Database.count(db, "traces"), Database.count(db, "jobs")), "a refused reuse stores nothing");
+
+        // The same trace gzipped, with a charset parameter, is the same request: it replays.
+        TestServer.Reply again = api.post(target, "text/csv; charset=utf-8", gzip(trace), "Idempotency-Key", "contract-reuse",
+                "Content-Encoding", "gzip");
+        assertEquals(202, again.status(), again.body());
+        assertEquals("true", again.headers().firstValue("Backstate-Replayed").orElseThrow());
+        assertEquals(first.json().get("jobId"), again.json().get("jobId"));
+        assertEquals("succeeded", awaitJob(first.json().get("jobId").asText()).get("state").asText());
     }
 
     @Test
