@@ -73,7 +73,7 @@ public final class ApiServer implements AutoCloseable {
         ModelRoutes models = new ModelRoutes(w.store(), w.mapper(), w.clock(), w.limits(), w.maxBodyBytes());
         TraceRoutes traces = new TraceRoutes(w.store(), w.stored(), w.mapper(), w.clock(), w.limits(), w.maxBodyBytes(),
                 w.maxQueued(), w.wakeWorkers());
-        JobRoutes jobs = new JobRoutes(w.store(), w.clock());
+        JobRoutes jobs = new JobRoutes(w.store(), w.mapper(), w.clock());
         EstimateRoutes estimates = new EstimateRoutes(w.store(), w.stored());
         ServiceRoutes service = new ServiceRoutes(w.store(), w.registry(), w.queued(), w.maxQueued());
         KeyRoutes keys = new KeyRoutes(w.keys(), w.mapper());

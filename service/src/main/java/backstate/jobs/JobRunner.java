@@ -78,9 +78,9 @@ final class JobRunner {
         if (outcome instanceof JobOutcome.Succeeded success) {
             return recordSuccess(job, success);
         }
-        String error = outcome == null ? "handler returned null, expected a JobOutcome"
-                : ((JobOutcome.Failed) outcome).error();
-        return recordFailure(job, error);
+        JobOutcome.Failed failed = outcome == null ? new JobOutcome.Failed("handler returned null, expected a JobOutcome")
+                : (JobOutcome.Failed) outcome;
+        return recordFailure(job, failed);
     }
 
     private String recordSuccess(ClaimedJob job, JobOutcome.Succeeded success) {
@@ -89,11 +89,12 @@ final class JobRunner {
         return recordedOrLost(job, recorded, JobMetrics.SUCCEEDED);
     }
 
-    private String recordFailure(ClaimedJob job, String error) {
+    private String recordFailure(ClaimedJob job, JobOutcome.Failed failed) {
         if (abandoned.getAsBoolean()) {
             return JobMetrics.LOST;
         }
-        boolean recorded = queue.failIfRunning(job.id(), job.attempt(), error, clock.instant());
+        boolean recorded = queue.failIfRunning(job.id(), job.attempt(), failed.error(), failed.detailsJsonOrNull(),
+                clock.instant());
         return recordedOrLost(job, recorded, JobMetrics.FAILED);
     }
 

@@ -173,8 +173,8 @@ public final class SqliteStore implements Store, JobQueue {
     }
 
     @Override
-    public boolean failIfRunning(String jobId, int attempt, String error, Instant now) {
-        return jobs.failIfRunning(jobId, attempt, error, now);
+    public boolean failIfRunning(String jobId, int attempt, String error, String detailsJsonOrNull, Instant now) {
+        return jobs.failIfRunning(jobId, attempt, error, detailsJsonOrNull, now);
     }
 
     @Override

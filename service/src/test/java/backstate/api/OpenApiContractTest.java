@@ -326,7 +326,18 @@ class OpenApiContractTest {
         assertEquals("failed", job.get("state").asText());
         assertFalse(job.has("estimateId"));
         assertEquals(1, job.get("errors").size());
-        assertTrue(job.get("errors").get(0).asText().startsWith("attempt 1: unobservable"), job.get("errors").toString());
+        assertEquals("attempt 1: unobservable: the trace does not determine 1 direction of the unknowns (mostly along"
+                + " [hidden]); add a prior, measure another output, or record longer", job.get("errors").get(0).asText());
+        // Closed form: with C = [1 0] and A diagonal, [C; CA] = [[1, 0], [-0.001, 0]] has the null space span{(0, 1)}:
+        // the hidden tank, as the model's own observability report says. A direction's sign is arbitrary.
+        JsonNode directions = job.get("unobservableDirections");
+        assertEquals(1, directions.size(), job.toString());
+        JsonNode components = directions.get(0).get("components");
+        assertEquals(List.of("seen", "hidden"), names(components, "name"));
+        assertEquals(List.of("state", "state"), names(components, "kind"));
+        assertEquals(0.0, components.get(0).get("value").asDouble(), 1e-12);
+        assertEquals(1.0, Math.abs(components.get(1).get("value").asDouble()), 1e-12);
+        assertFalse(directions.get(0).has("notComputed"));
         assertProblem(api.get("/v1/units/T-1/estimates/latest"), 404, "not-found");
     }
 

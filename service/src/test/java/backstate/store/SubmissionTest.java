@@ -30,7 +30,7 @@ class SubmissionTest extends StoreTestBase {
         assertArrayEquals("unit-7".getBytes(StandardCharsets.UTF_8), trace.payload());
         JobRow job = store.findJob(s.jobId()).orElseThrow();
         assertEquals(new JobRow(s.jobId(), "estimate", "queued", s.traceId(), null, null, 0, StoreFixture.T0,
-                null, null, List.of(), 0, 0), job);
+                null, null, List.of(), 0, 0, null), job);
     }
 
     @Test
