@@ -86,6 +86,9 @@ final class JobRunner {
     private String recordSuccess(ClaimedJob job, JobOutcome.Succeeded success) {
         boolean recorded = queue.completeIfRunning(job.id(), job.attempt(), success.estimateOrNull(),
                 success.resultJsonOrNull(), clock.instant());
+        if (recorded && success.estimateOrNull() != null) {
+            metrics.recordEstimate(success.estimateOrNull());
+        }
         return recordedOrLost(job, recorded, JobMetrics.SUCCEEDED);
     }
 
