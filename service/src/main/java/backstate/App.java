@@ -1,6 +1,7 @@
 package backstate;
 
 import backstate.api.ApiServer;
+import backstate.api.ProcessMeters;
 import backstate.auth.ApiKeys;
 import backstate.auth.FirstAdminKey;
 import backstate.cli.DemoLoader;
@@ -37,12 +38,14 @@ public final class App implements AutoCloseable {
     private final SqliteStore store;
     private final WorkerPool workers;
     private final ApiServer api;
+    private final ProcessMeters processMeters;
 
     public App(Settings settings, Clock clock) {
         Limits limits = new Limits(settings.maxSamples(), Limits.DEFAULTS.maxNameLength(), Limits.DEFAULTS.maxJsonDepth());
         ObjectMapper mapper = Json.mapper(limits);
         PrometheusMeterRegistry registry = new PrometheusMeterRegistry(PrometheusConfig.DEFAULT);
         this.store = new SqliteStore(settings.database(), clock);
+        this.processMeters = ProcessMeters.bind(registry);
         StoredTraceSolver stored = new StoredTraceSolver(store, mapper, limits);
         JobHandler handlers = new HandlersByKind(Map.of(
                 "estimate", new EstimateJobHandler(stored, mapper, registry),
@@ -54,6 +57,7 @@ public final class App implements AutoCloseable {
                 new FirstAdminKey(store, keys).ensure(settings.adminKey());
             } catch (RuntimeException e) {
                 store.close(); // a refused BACKSTATE_ADMIN_KEY stops the start; leave the file closed
+                processMeters.close();
                 throw e;
             }
         }
@@ -82,6 +86,7 @@ public final class App implements AutoCloseable {
         api.close();
         workers.close();
         store.close();
+        processMeters.close();
     }
 
     public static void main(String[] args) throws Exception {

@@ -38,6 +38,18 @@ public final class ApiProblem extends RuntimeException {
                 List.of(new Problem.FieldError(field, detail)));
     }
 
+    /**
+     * The Idempotency-Key was first used with a different request: 422, as the IETF draft "The
+     * Idempotency-Key HTTP Header Field" (draft-ietf-httpapi-idempotency-key-header-07, section
+     * 2.7) answers the reuse of a key with another payload.
+     */
+    public static ApiProblem idempotencyKeyReused(String key) {
+        String detail = "this key was first used for a different request (another body, model version, media type"
+                + " or options); a retry must repeat the first request exactly, and a new trace needs a new key";
+        return new ApiProblem(422, "idempotency-key-reused", "Idempotency-Key is already used",
+                "Idempotency-Key " + Params.quoted(key) + ": " + detail, List.of(new Problem.FieldError("Idempotency-Key", detail)));
+    }
+
     public static ApiProblem tooLarge(long limit) {
         return new ApiProblem(413, "payload-too-large", "Payload too large",
                 "the body exceeds " + limit + " bytes (after decompression)", null);

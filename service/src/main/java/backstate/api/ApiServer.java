@@ -12,12 +12,23 @@ import io.micrometer.core.instrument.Timer;
 import io.micrometer.prometheusmetrics.PrometheusMeterRegistry;
 import java.security.SecureRandom;
 import java.time.Clock;
+import java.time.Duration;
 import java.util.List;
 import java.util.concurrent.TimeUnit;
 import java.util.function.IntSupplier;
 
 /** The HTTP edge: every route in one table, one error mapper, JSON by Jackson, latency by Micrometer. */
 public final class ApiServer implements AutoCloseable {
+    /**
+     * Request latency ({@code backstate_http_latency_seconds}): a histogram whose buckets a
+     * dashboard or alert turns into quantiles, tagged by the matched route template (never the
+     * raw path, so unit IDs cannot multiply the series), method and status.
+     */
+    static final String HTTP_LATENCY = "backstate.http.latency";
+    /** The histogram's buckets span 1 ms to 30 s: a post is answered in milliseconds, a slow series read in seconds. */
+    static final Duration LATENCY_RANGE_FROM = Duration.ofMillis(1);
+    static final Duration LATENCY_RANGE_TO = Duration.ofSeconds(30);
+
     private final Javalin app;
     private final List<Route> routes;
 
@@ -50,10 +61,14 @@ public final class ApiServer implements AutoCloseable {
                 server.setErrorHandler(new ProtocolErrors(w.mapper()));
                 StopDrain.install(server);
             });
-            config.requestLogger.http((ctx, ms) -> Timer.builder("backstate.http.latency")
+            config.requestLogger.http((ctx, ms) -> Timer.builder(HTTP_LATENCY)
+                    .description("time from request to answer, by route template, method and status")
                     .tag("method", ctx.method().name())
                     .tag("route", matchedPath(ctx))
                     .tag("status", Integer.toString(ctx.statusCode()))
+                    .publishPercentileHistogram()
+                    .minimumExpectedValue(LATENCY_RANGE_FROM)
+                    .maximumExpectedValue(LATENCY_RANGE_TO)
                     .register(w.registry()).record((long) (ms * 1_000_000L), TimeUnit.NANOSECONDS));
             problems.register(config.routes);
             for (Route r : routes) {
@@ -73,7 +88,7 @@ public final class ApiServer implements AutoCloseable {
         ModelRoutes models = new ModelRoutes(w.store(), w.mapper(), w.clock(), w.limits(), w.maxBodyBytes());
         TraceRoutes traces = new TraceRoutes(w.store(), w.stored(), w.mapper(), w.clock(), w.limits(), w.maxBodyBytes(),
                 w.maxQueued(), w.wakeWorkers());
-        JobRoutes jobs = new JobRoutes(w.store(), w.clock());
+        JobRoutes jobs = new JobRoutes(w.store(), w.mapper(), w.clock());
         EstimateRoutes estimates = new EstimateRoutes(w.store(), w.stored());
         ServiceRoutes service = new ServiceRoutes(w.store(), w.registry(), w.queued(), w.maxQueued());
         KeyRoutes keys = new KeyRoutes(w.keys(), w.mapper());

@@ -89,10 +89,7 @@ final class FleetRoutes {
 
     void trend(Context ctx) throws JsonProcessingException {
         String unitId = Params.identifier(ctx, "unitId");
-        String state = ctx.queryParam("state");
-        if (state == null || state.isEmpty()) {
-            throw ApiProblem.invalid("state", "got nothing, expected the name of a state of the unit's model");
-        }
+        String state = Params.requiredQuery(ctx, "state");
         String model = ctx.queryParam("model");
         String family = model == null ? store.latestEstimate(unitId).map(EstimateRow::family)
                 .orElseThrow(() -> ApiProblem.notFound("an estimate for unit " + unitId)) : Params.identifier("model", model);

@@ -1,25 +1,30 @@
 package backstate.api;
 
+import backstate.formats.FailureDetails;
 import backstate.store.JobRow;
 import backstate.store.Store;
+import com.fasterxml.jackson.core.JsonProcessingException;
+import com.fasterxml.jackson.databind.ObjectMapper;
 import io.javalin.http.Context;
 import java.time.Clock;
 
 /** Job state, and cancelling a job no worker has claimed. */
 final class JobRoutes {
     private final Store store;
+    private final ObjectMapper mapper;
     private final Clock clock;
 
-    JobRoutes(Store store, Clock clock) {
+    JobRoutes(Store store, ObjectMapper mapper, Clock clock) {
         this.store = store;
+        this.mapper = mapper;
         this.clock = clock;
     }
 
-    void get(Context ctx) {
+    void get(Context ctx) throws JsonProcessingException {
         ctx.json(view(find(ctx)));
     }
 
-    void cancel(Context ctx) {
+    void cancel(Context ctx) throws JsonProcessingException {
         JobRow job = find(ctx);
         if (!store.cancelIfQueued(job.id(), clock.instant())) {
             throw ApiProblem.conflict("job " + job.id() + " is " + store.findJob(job.id()).map(JobRow::state).orElse(job.state())
@@ -28,10 +33,11 @@ final class JobRoutes {
         ctx.json(view(store.findJob(job.id()).orElseThrow()));
     }
 
-    private Views.Job view(JobRow job) {
+    private Views.Job view(JobRow job) throws JsonProcessingException {
         String estimateId = "succeeded".equals(job.state()) && "estimate".equals(job.kind())
                 ? store.findEstimateForJob(job.id()).map(e -> e.id()).orElse(null) : null;
-        return Views.Job.of(job, estimateId);
+        FailureDetails failure = job.failureJson() == null ? null : mapper.readValue(job.failureJson(), FailureDetails.class);
+        return Views.Job.of(job, estimateId, failure);
     }
 
     private JobRow find(Context ctx) {

@@ -28,6 +28,15 @@ final class Params {
         return value;
     }
 
+    /** A query parameter the route cannot do without: absent or empty is a 400 saying it is required. */
+    static String requiredQuery(Context ctx, String name) {
+        String value = ctx.queryParam(name);
+        if (value == null || value.isEmpty()) {
+            throw ApiProblem.invalid(name, "the query parameter is required and was not given");
+        }
+        return value;
+    }
+
     static int positiveInt(String name, String value) {
         if (value == null || !value.matches("\\d{1,9}") || Integer.parseInt(value) < 1) {
             throw ApiProblem.invalid(name, "got " + quoted(value) + ", expected a whole number >= 1");

@@ -3,6 +3,8 @@ package backstate.api;
 import backstate.estimation.ModelException;
 import backstate.formats.InputException;
 import backstate.formats.JsonPaths;
+import backstate.formats.MatrixEntryException;
+import backstate.store.IdempotencyKeyReusedException;
 import backstate.store.InvalidCursorException;
 import backstate.store.QueueFullException;
 import backstate.store.StoreUnavailableException;
@@ -47,9 +49,11 @@ final class ProblemMapper {
         routes.exception(InvalidCursorException.class, (e, ctx) -> write(ctx, ApiProblem.invalid("cursor", "not a cursor from this API").toProblem()));
         routes.exception(UnrecognizedPropertyException.class, (e, ctx) -> write(ctx, ApiProblem.invalid("body" + JsonPaths.of(e),
                 "got an unknown field \"" + e.getPropertyName() + "\", expected one of " + e.getKnownPropertyIds()).toProblem()));
+        routes.exception(MatrixEntryException.class, (e, ctx) -> write(ctx, ApiProblem.invalid(e.field(), e.problem()).toProblem()));
         routes.exception(JsonMappingException.class, (e, ctx) -> write(ctx, ApiProblem.invalid("body" + JsonPaths.of(e),
                 "got a value of the wrong type or shape").toProblem()));
         routes.exception(JsonProcessingException.class, (e, ctx) -> write(ctx, ApiProblem.invalid("body", "malformed JSON: " + e.getOriginalMessage()).toProblem()));
+        routes.exception(IdempotencyKeyReusedException.class, (e, ctx) -> write(ctx, ApiProblem.idempotencyKeyReused(e.key()).toProblem()));
         routes.exception(QueueFullException.class, (e, ctx) -> busy(ctx, "the job queue is full; retry later"));
         routes.exception(StoreUnavailableException.class, (e, ctx) -> {
             LOG.warn("database unavailable: {}", e.getMessage());

@@ -31,6 +31,8 @@ import java.util.concurrent.Future;
 final class TraceRoutes {
     /** Longest Idempotency-Key accepted. */
     static final int MAX_IDEMPOTENCY_KEY = 128;
+    /** Marks an answer that replays an earlier post with the same Idempotency-Key; backstate's own header. */
+    static final String REPLAYED_HEADER = "Backstate-Replayed";
 
     private final Store store;
     private final StoredTraceSolver stored;
@@ -58,7 +60,8 @@ final class TraceRoutes {
         String key = idempotencyKey(ctx);
         ModelVersionRow version = activeVersion(ctx);
         CheckedModel model = stored.model(version);
-        ParsedTrace parsed = parse(ctx, model.document());
+        TraceFingerprint fingerprint = key == null ? null : TraceFingerprint.start(ctx, unitId, version);
+        ParsedTrace parsed = parse(ctx, model.document(), fingerprint);
         StateSpaceModel engineModel = model.engine();
         InitialStateEstimator.validate(engineModel, parsed.trace(),
                 parsed.options().toEstimationOptions(engineModel.states(), false));
@@ -70,14 +73,14 @@ final class TraceRoutes {
         Future<DocumentSolver.Outcome> solvedAhead = stored.solveAhead(model, parsed);
         Submission submission;
         try {
-            submission = store.submitTrace(trace, key, maxQueued, receivedAt);
+            submission = store.submitTrace(trace, key == null ? null : fingerprint.withKey(key), maxQueued, receivedAt);
         } catch (Exception | Error e) {
             cancel(solvedAhead);
             throw e;
         }
         if (submission.replayed()) {
             cancel(solvedAhead);
-            ctx.header("Idempotent-Replayed", "true");
+            ctx.header(REPLAYED_HEADER, "true");
         } else {
             // Committed: its job may take the parse (and solve) in hand instead of reading the row back.
             stored.keepFresh(new StoredTraceSolver.Loaded(new TraceRef(submission.traceId(), unitId, version.family(),
@@ -97,8 +100,8 @@ final class TraceRoutes {
     }
 
     private ModelVersionRow activeVersion(Context ctx) {
-        String family = Params.identifier("model", ctx.queryParam("model"));
-        int number = Params.positiveInt("version", ctx.queryParam("version"));
+        String family = Params.identifier("model", Params.requiredQuery(ctx, "model"));
+        int number = Params.positiveInt("version", Params.requiredQuery(ctx, "version"));
         ModelVersionRow version = store.findVersion(family, number)
                 .orElseThrow(() -> ApiProblem.unprocessable("version", "model version " + family + "/" + number + " does not exist"));
         if (!"active".equals(version.status())) {
@@ -107,18 +110,28 @@ final class TraceRoutes {
         return version;
     }
 
-    private ParsedTrace parse(Context ctx, ModelDocument model) throws Exception {
+    /** Reads the body as its media type says, into the fingerprint too when the post has an Idempotency-Key. */
+    private ParsedTrace parse(Context ctx, ModelDocument model, TraceFingerprint fingerprintOrNull) throws Exception {
+        try (InputStream raw = BodyLimit.open(ctx, maxBodyBytes)) {
+            InputStream body = fingerprintOrNull == null ? raw : fingerprintOrNull.reading(raw);
+            ParsedTrace parsed = read(ctx, body, model);
+            if (fingerprintOrNull != null) {
+                fingerprintOrNull.finish(body);
+            }
+            return parsed;
+        }
+    }
+
+    private ParsedTrace read(Context ctx, InputStream body, ModelDocument model) throws Exception {
         String type = ctx.contentType() == null ? "" : ctx.contentType().toLowerCase(Locale.ROOT);
-        try (InputStream body = BodyLimit.open(ctx, maxBodyBytes)) {
-            if (type.startsWith("application/json")) {
-                if (hasQueryOptions(ctx)) {
-                    throw ApiProblem.invalid("formulation", "with a JSON body, put options in its \"options\" object, not the query");
-                }
-                return reader.readJson(body, model);
+        if (type.startsWith("application/json")) {
+            if (hasQueryOptions(ctx)) {
+                throw ApiProblem.invalid("formulation", "with a JSON body, put options in its \"options\" object, not the query");
             }
-            if (type.startsWith("text/csv")) {
-                return reader.readCsv(body, model, queryOptions(ctx));
-            }
+            return reader.readJson(body, model);
+        }
+        if (type.startsWith("text/csv")) {
+            return reader.readCsv(body, model, queryOptions(ctx));
         }
         throw ApiProblem.unsupportedMediaType(type.isEmpty() ? "no Content-Type" : type, "application/json or text/csv");
     }

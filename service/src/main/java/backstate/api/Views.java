@@ -2,6 +2,8 @@ package backstate.api;
 
 import backstate.estimation.ObservabilityRank;
 import backstate.formats.EstimateDocument;
+import backstate.formats.FailureDetails;
+import backstate.formats.UnobservableDirection;
 import backstate.store.EstimateRow;
 import backstate.store.FamilyRow;
 import backstate.store.JobRow;
@@ -45,15 +47,18 @@ final class Views {
     record Accepted(String jobId, String traceId, String unitId, String state, Map<String, String> links) {
     }
 
+    /** A job; {@code unobservableDirections} on an estimate job that failed because the data leave them undetermined. */
     @JsonInclude(JsonInclude.Include.NON_NULL)
     record Job(String id, String kind, String state, String traceId, int attempt, String createdAt, String startedAt,
                String finishedAt, List<String> errors, Progress progress, String estimateId,
-               @JsonRawValue String result) {
-        static Job of(JobRow row, String estimateId) {
+               @JsonRawValue String result, List<UnobservableDirection> unobservableDirections) {
+        static Job of(JobRow row, String estimateId, FailureDetails failureOrNull) {
+            List<UnobservableDirection> directions = failureOrNull == null || failureOrNull.unobservableDirections().isEmpty()
+                    ? null : failureOrNull.unobservableDirections();
             return new Job(row.id(), row.kind(), row.state(), row.traceId(), row.attempt(), text(row.createdAt()),
                     text(row.startedAt()), text(row.finishedAt()), row.errors(),
                     row.progressTotal() > 0 ? new Progress(row.progressDone(), row.progressTotal()) : null,
-                    estimateId, row.resultJson());
+                    estimateId, row.resultJson(), directions);
         }
     }
 

@@ -28,6 +28,8 @@ final class CsvRecords {
 
     private final InputStream in;
     private final int maxFields;
+    /** Fields the record being read may have: {@code headerFields} for the first, {@code maxFields} after. */
+    private int fieldLimit;
     private final byte[] block = new byte[BLOCK_BYTES];
     private int position;
     private int filled;
@@ -43,12 +45,19 @@ final class CsvRecords {
     private final boolean[] ascii;
     private int fields;
 
-    CsvRecords(InputStream in, int maxFields) {
+    /**
+     * @param headerFields fields the first record (the header) may have; more than {@code maxFields}
+     *                     lets the caller name a header's extra columns instead of only counting them
+     * @param maxFields    fields every later record may have
+     */
+    CsvRecords(InputStream in, int headerFields, int maxFields) {
         this.in = in;
         this.maxFields = maxFields;
-        this.starts = new int[maxFields];
-        this.ends = new int[maxFields];
-        this.ascii = new boolean[maxFields];
+        this.fieldLimit = headerFields;
+        int capacity = Math.max(headerFields, maxFields);
+        this.starts = new int[capacity];
+        this.ends = new int[capacity];
+        this.ascii = new boolean[capacity];
     }
 
     /** Line number where the record last returned started. */
@@ -70,6 +79,7 @@ final class CsvRecords {
             position--; // the byte just read, still in the block
             recordLine = line;
             record();
+            fieldLimit = maxFields;
             return true;
         }
     }
@@ -180,8 +190,8 @@ final class CsvRecords {
 
     private void endField(int fieldStart, boolean fieldAscii) {
         requireLength(fieldStart, fieldAscii);
-        if (fields == maxFields) {
-            throw new InputException("line " + line, "got more than " + maxFields + " fields, expected at most " + maxFields);
+        if (fields == fieldLimit) {
+            throw new InputException("line " + line, "got more than " + fieldLimit + " fields, expected at most " + fieldLimit);
         }
         starts[fields] = fieldStart;
         ends[fields] = contentLength;

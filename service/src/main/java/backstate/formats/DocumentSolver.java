@@ -6,11 +6,8 @@ import backstate.estimation.EstimationResult;
 import backstate.estimation.InitialStateEstimator;
 import backstate.estimation.StateSpaceModel;
 import backstate.estimation.Unobservable;
-import java.util.ArrayList;
-import java.util.LinkedHashMap;
 import java.util.List;
 import java.util.Locale;
-import java.util.Map;
 
 /** The one code path from documents to an estimate, shared by the service's jobs and the offline CLI. */
 public final class DocumentSolver {
@@ -22,7 +19,8 @@ public final class DocumentSolver {
         record Solved(Estimate estimate, EstimateDocument document) implements Outcome {
         }
 
-        record NotObservable(String message, List<Map<String, Double>> directions) implements Outcome {
+        /** The directions the data leave undetermined, as structured values, and a one-line reason. */
+        record NotObservable(String message, List<UnobservableDirection> directions) implements Outcome {
         }
     }
 
@@ -59,18 +57,18 @@ public final class DocumentSolver {
     }
 
     private static Outcome.NotObservable notObservable(Unobservable u, ModelDocument model) {
-        List<String> names = EstimateDocument.unknownNames(model, u.unknownNames().size());
-        List<Map<String, Double>> directions = new ArrayList<>();
-        for (double[] d : u.directions()) {
-            Map<String, Double> named = new LinkedHashMap<>();
-            for (int i = 0; i < d.length; i++) {
-                named.put(names.get(i), EstimateDocument.num(d[i]));
-            }
-            directions.add(named);
-        }
+        List<UnobservableDirection.Unknown> unknowns = unknowns(model, u.unknownNames().size());
+        List<UnobservableDirection> directions = u.directions().stream()
+                .map(d -> UnobservableDirection.of(d, unknowns)).toList();
         String message = "unobservable: the trace does not determine " + directions.size()
-                + " direction(s) of the unknowns " + directions
-                + "; add a prior, measure another output, or record longer";
+                + (directions.size() == 1 ? " direction" : " directions") + " of the unknowns (mostly along "
+                + directions.stream().map(UnobservableDirection::largestComponent).toList()
+                + "); add a prior, measure another output, or record longer";
         return new Outcome.NotObservable(message, directions);
+    }
+
+    /** The unknowns in the estimator's order, as the estimate document names them (states, then "offset:" outputs). */
+    private static List<UnobservableDirection.Unknown> unknowns(ModelDocument model, int count) {
+        return EstimateDocument.unknownNames(model, count).stream().map(UnobservableDirection.Unknown::fromDocumentName).toList();
     }
 }

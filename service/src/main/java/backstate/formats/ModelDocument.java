@@ -4,6 +4,7 @@ import backstate.estimation.ModelException;
 import backstate.estimation.StateSpaceModel;
 import com.fasterxml.jackson.annotation.JsonIgnore;
 import com.fasterxml.jackson.annotation.JsonInclude;
+import com.fasterxml.jackson.databind.annotation.JsonDeserialize;
 import java.util.HashSet;
 import java.util.List;
 import java.util.Set;
@@ -11,12 +12,16 @@ import java.util.regex.Pattern;
 
 /**
  * A model version as users write it (the body of a publish request and the CLI's model file):
- * time domain, named states/outputs/inputs with units, and the matrices A, B, C, D.
+ * time domain, named states/outputs/inputs with units, and the matrices A, B, C, D (read by
+ * {@link MatrixReader}, which names an entry that is not a number).
  */
 @JsonInclude(JsonInclude.Include.NON_NULL)
 public record ModelDocument(String description, String timeDomain, Double samplePeriod, List<Quantity> states,
-                            List<Quantity> outputs, List<Quantity> inputs, double[][] a, double[][] b,
-                            double[][] c, double[][] d) {
+                            List<Quantity> outputs, List<Quantity> inputs,
+                            @JsonDeserialize(using = MatrixReader.class) double[][] a,
+                            @JsonDeserialize(using = MatrixReader.class) double[][] b,
+                            @JsonDeserialize(using = MatrixReader.class) double[][] c,
+                            @JsonDeserialize(using = MatrixReader.class) double[][] d) {
     /** Names: a letter, then letters, digits, '_', '-', '.'; they become CSV headers and JSON keys. */
     private static final Pattern NAME = Pattern.compile("[A-Za-z][A-Za-z0-9_.\\-]*");
     /** Longest description accepted (as for a family's); it is a label, not a document. */

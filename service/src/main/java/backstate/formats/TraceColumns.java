@@ -45,6 +45,13 @@ final class TraceColumns {
         return model.inputsOrEmpty().stream().anyMatch(q -> q.name().equals(name));
     }
 
+    /** The model's outputs, then its inputs, by name. */
+    List<String> channelNames() {
+        List<String> all = new java.util.ArrayList<>(names(model.outputs()));
+        all.addAll(names(model.inputsOrEmpty()));
+        return all;
+    }
+
     void noiseSigma(String name, double sigma, String field) {
         if (!isOutput(name)) {
             throw new InputException(field, "got unknown output \"" + name + "\", expected one of " + names(model.outputs()));

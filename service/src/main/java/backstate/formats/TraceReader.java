@@ -20,6 +20,11 @@ import java.util.regex.Pattern;
 public final class TraceReader {
     /** A plain decimal number; rejects the forms Java accepts but CSV writers never mean (NaN, Infinity, 1d, hex). */
     private static final Pattern DECIMAL = Pattern.compile("[-+]?(\\d+\\.?\\d*|\\.\\d+)([eE][-+]?\\d+)?");
+    /**
+     * Header columns accepted beyond the model's channels, so that an extra column is refused by its
+     * name; a header longer still is refused by its count (hostile input, not a mistake).
+     */
+    static final int EXTRA_HEADER_FIELDS = 64;
     /** Longest number literal accepted in JSON; 64 digits is beyond any double's precision. */
     private static final int MAX_NUMBER_LENGTH = 64;
 
@@ -72,7 +77,7 @@ public final class TraceReader {
     public ParsedTrace readCsv(InputStream body, ModelDocument model, TraceOptions options) throws IOException {
         TraceColumns columns = new TraceColumns(model, limits);
         int maxFields = 1 + model.outputs().size() + model.inputsOrEmpty().size();
-        CsvRecords records = new CsvRecords(body, maxFields);
+        CsvRecords records = new CsvRecords(body, maxFields + EXTRA_HEADER_FIELDS, maxFields);
         if (!records.next()) {
             throw new InputException("header", "got an empty body, expected a header row: time, then channel names");
         }
@@ -109,14 +114,23 @@ public final class TraceReader {
                 targets[i] = columns.time();
             } else if (columns.isInput(name)) {
                 targets[i] = columns.input(name, field);
-            } else {
+            } else if (columns.isOutput(name)) {
                 targets[i] = columns.output(name, field);
+            } else {
+                throw unknownColumn(field, name, columns);
             }
         }
         if (!sawTime) {
             throw new InputException("header", "got no time column, expected one named \"time\"");
         }
         return targets;
+    }
+
+    /** A header column that is neither time nor a channel of the model, named (and cut at 40 characters). */
+    private static InputException unknownColumn(String field, String name, TraceColumns columns) {
+        String shown = name.length() > 40 ? name.substring(0, 40) + "…" : name;
+        return new InputException(field, "got an unknown column \"" + shown + "\", expected \"time\" and the model's"
+                + " channels " + columns.channelNames());
     }
 
     /**

@@ -4,6 +4,7 @@ import backstate.estimation.Estimate;
 import backstate.estimation.ModelException;
 import backstate.formats.DocumentSolver;
 import backstate.formats.EstimateDocument;
+import backstate.formats.FailureDetails;
 import backstate.formats.InputException;
 import backstate.store.NewEstimate;
 import backstate.store.TraceRef;
@@ -43,7 +44,7 @@ public final class EstimateJobHandler implements JobHandler {
             return new JobOutcome.Failed("the trace does not fit its model version: " + e.getMessage());
         }
         if (outcome instanceof DocumentSolver.Outcome.NotObservable u) {
-            return new JobOutcome.Failed(u.message());
+            return new JobOutcome.Failed(u.message(), mapper.writeValueAsString(new FailureDetails(u.directions())));
         }
         DocumentSolver.Outcome.Solved solved = (DocumentSolver.Outcome.Solved) outcome;
         return new JobOutcome.Succeeded(toRow(loaded, solved), null);

@@ -9,12 +9,21 @@ public sealed interface JobOutcome {
     record Succeeded(NewEstimate estimateOrNull, String resultJsonOrNull) implements JobOutcome {
     }
 
-    /** The job cannot succeed (bad input, no convergence): failed for good, without retry. */
-    record Failed(String error) implements JobOutcome {
+    /**
+     * The job cannot succeed (bad input, no convergence): failed for good, without retry.
+     *
+     * @param error              one line saying why, appended to the job's errors
+     * @param detailsJsonOrNull  the failure as structured fields ({@code FailureDetails} as JSON), if it has any
+     */
+    record Failed(String error, String detailsJsonOrNull) implements JobOutcome {
         public Failed {
             if (error == null) {
                 throw new IllegalArgumentException("got null error, expected a message");
             }
+        }
+
+        public Failed(String error) {
+            this(error, null);
         }
     }
 }

@@ -18,8 +18,11 @@ public interface JobQueue {
     boolean completeIfRunning(String jobId, int attempt, NewEstimate estimateOrNull, String resultJsonOrNull,
                               Instant now);
 
-    /** Marks the job failed for good, appending the error to its errors. */
-    boolean failIfRunning(String jobId, int attempt, String error, Instant now);
+    /**
+     * Marks the job failed for good, appending the error to its errors and keeping the failure's
+     * structured details (JSON) if given.
+     */
+    boolean failIfRunning(String jobId, int attempt, String error, String detailsJsonOrNull, Instant now);
 
     /**
      * Appends the error and puts the job back in the queue while it has attempts left, otherwise

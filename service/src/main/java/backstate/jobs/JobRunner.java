@@ -78,22 +78,26 @@ final class JobRunner {
         if (outcome instanceof JobOutcome.Succeeded success) {
             return recordSuccess(job, success);
         }
-        String error = outcome == null ? "handler returned null, expected a JobOutcome"
-                : ((JobOutcome.Failed) outcome).error();
-        return recordFailure(job, error);
+        JobOutcome.Failed failed = outcome == null ? new JobOutcome.Failed("handler returned null, expected a JobOutcome")
+                : (JobOutcome.Failed) outcome;
+        return recordFailure(job, failed);
     }
 
     private String recordSuccess(ClaimedJob job, JobOutcome.Succeeded success) {
         boolean recorded = queue.completeIfRunning(job.id(), job.attempt(), success.estimateOrNull(),
                 success.resultJsonOrNull(), clock.instant());
+        if (recorded && success.estimateOrNull() != null) {
+            metrics.recordEstimate(success.estimateOrNull());
+        }
         return recordedOrLost(job, recorded, JobMetrics.SUCCEEDED);
     }
 
-    private String recordFailure(ClaimedJob job, String error) {
+    private String recordFailure(ClaimedJob job, JobOutcome.Failed failed) {
         if (abandoned.getAsBoolean()) {
             return JobMetrics.LOST;
         }
-        boolean recorded = queue.failIfRunning(job.id(), job.attempt(), error, clock.instant());
+        boolean recorded = queue.failIfRunning(job.id(), job.attempt(), failed.error(), failed.detailsJsonOrNull(),
+                clock.instant());
         return recordedOrLost(job, recorded, JobMetrics.FAILED);
     }
 

@@ -50,7 +50,7 @@ public final class WorkerPool implements AutoCloseable {
      * waiting for their outcome's write. Under a flood of posts one commit batch takes ~30 ms on
      * 2 cores, and a small job solves in under 1 ms, so a slot needs a dozen or more outcomes
      * waiting for each batch to stay busy; with 4 the workers solved ~90 jobs/s while posts
-     * arrived at ~450/s, with 16 they keep pace (docs/reliability.md, 2026-12-02 figures).
+     * arrived at ~450/s, with 16 they keep pace (measured with bench/load/ingest.sh).
      */
     static final int JOBS_IN_FLIGHT_PER_WORKER = 16;
     /** A hung job is rescued at most a quarter of stuckAfter late. */

@@ -25,7 +25,7 @@ final class SqliteJobs {
     static final Set<String> KINDS = Set.of(KIND_ESTIMATE, "regression");
 
     private static final String JOB_COLUMNS = "id, kind, state, trace_id, params_json, result_json, attempt,"
-            + " created_at, started_at, finished_at, errors, progress_done, progress_total";
+            + " created_at, started_at, finished_at, errors, progress_done, progress_total, failure_json";
     // Appends "attempt N: <message>" to the JSON array of errors. json_insert with '$[#]' is
     // SQLite's JSON1; on PostgreSQL the column is JSONB and the same append reads
     // COALESCE(errors, '[]'::jsonb) || to_jsonb('attempt ' || attempt || ': ' || ?::text).
@@ -53,8 +53,8 @@ final class SqliteJobs {
             RETURNING id, kind, trace_id, params_json, attempt""";
     private static final String COMPLETE_IF_RUNNING = "UPDATE jobs SET state = 'succeeded', finished_at = ?,"
             + " result_json = ? WHERE id = ? AND state = 'running' AND attempt = ?";
-    private static final String FAIL_IF_RUNNING = "UPDATE jobs SET state = 'failed', finished_at = ?, errors = "
-            + APPEND_ERROR + " WHERE id = ? AND state = 'running' AND attempt = ?";
+    private static final String FAIL_IF_RUNNING = "UPDATE jobs SET state = 'failed', finished_at = ?, failure_json = ?,"
+            + " errors = " + APPEND_ERROR + " WHERE id = ? AND state = 'running' AND attempt = ?";
     private static final String RETRY_IF_RUNNING = "UPDATE jobs SET " + REQUEUE_OR_FAIL + ", errors = "
             + APPEND_ERROR + " WHERE id = ? AND state = 'running' AND attempt = ?";
     private static final String REPORT_PROGRESS = "UPDATE jobs SET progress_done = ?, progress_total = ?"
@@ -125,9 +125,9 @@ final class SqliteJobs {
         });
     }
 
-    boolean failIfRunning(String jobId, int attempt, String error, Instant now) {
+    boolean failIfRunning(String jobId, int attempt, String error, String detailsJsonOrNull, Instant now) {
         Expect.notNull("error", error);
-        return workerUpdatedOne(FAIL_IF_RUNNING, Sql.millis(now), error, jobId, attempt);
+        return workerUpdatedOne(FAIL_IF_RUNNING, Sql.millis(now), detailsJsonOrNull, error, jobId, attempt);
     }
 
     boolean retryIfRunning(String jobId, int attempt, String error, Instant now) {
@@ -198,7 +198,7 @@ final class SqliteJobs {
                 rs.getString("trace_id"), rs.getString("params_json"), rs.getString("result_json"),
                 rs.getInt("attempt"), Sql.instant(rs, "created_at"), Sql.instant(rs, "started_at"),
                 Sql.instant(rs, "finished_at"), errors(rs.getString("errors")),
-                rs.getInt("progress_done"), rs.getInt("progress_total"));
+                rs.getInt("progress_done"), rs.getInt("progress_total"), rs.getString("failure_json"));
     }
 
     private List<String> errors(String errorsJsonOrNull) {

@@ -101,7 +101,7 @@ public final class SqliteStore implements Store, JobQueue {
     // ---- Store: traces, jobs, estimates
 
     @Override
-    public Submission submitTrace(NewTrace trace, String idempotencyKeyOrNull, int maxQueued, Instant now)
+    public Submission submitTrace(NewTrace trace, IdempotencyKey idempotencyKeyOrNull, int maxQueued, Instant now)
             throws QueueFullException {
         return submissions.submitTrace(trace, idempotencyKeyOrNull, maxQueued, now);
     }
@@ -173,8 +173,8 @@ public final class SqliteStore implements Store, JobQueue {
     }
 
     @Override
-    public boolean failIfRunning(String jobId, int attempt, String error, Instant now) {
-        return jobs.failIfRunning(jobId, attempt, error, now);
+    public boolean failIfRunning(String jobId, int attempt, String error, String detailsJsonOrNull, Instant now) {
+        return jobs.failIfRunning(jobId, attempt, error, detailsJsonOrNull, now);
     }
 
     @Override

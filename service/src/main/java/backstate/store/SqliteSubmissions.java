@@ -11,12 +11,12 @@ import java.util.Optional;
 final class SqliteSubmissions {
 
     private static final String FIND_IDEMPOTENCY_KEY =
-            "SELECT trace_id, job_id FROM idempotency_keys WHERE unit_id = ? AND key = ?";
+            "SELECT trace_id, job_id, fingerprint FROM idempotency_keys WHERE unit_id = ? AND key = ?";
     private static final String INSERT_TRACE = "INSERT INTO traces"
             + " (id, unit_id, family, version, received_at, samples, window_start, window_end, payload)"
             + " VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?)";
-    private static final String INSERT_IDEMPOTENCY_KEY =
-            "INSERT INTO idempotency_keys (unit_id, key, trace_id, job_id, created_at) VALUES (?, ?, ?, ?, ?)";
+    private static final String INSERT_IDEMPOTENCY_KEY = "INSERT INTO idempotency_keys"
+            + " (unit_id, key, trace_id, job_id, created_at, fingerprint) VALUES (?, ?, ?, ?, ?, ?)";
     private static final String FIND_TRACE = "SELECT id, unit_id, family, version, received_at, samples,"
             + " window_start, window_end, payload FROM traces WHERE id = ?";
 
@@ -26,15 +26,16 @@ final class SqliteSubmissions {
         this.db = db;
     }
 
-    Submission submitTrace(NewTrace trace, String keyOrNull, int maxQueued, Instant now) throws QueueFullException {
+    Submission submitTrace(NewTrace trace, IdempotencyKey keyOrNull, int maxQueued, Instant now)
+            throws QueueFullException {
         Expect.notNull("trace", trace);
-        if (keyOrNull != null) {
-            Expect.notBlank("idempotency key", keyOrNull);
-        }
         Expect.atLeast("maxQueued", maxQueued, 0);
         Outcome outcome = db.write(c -> submitInTransaction(c, trace, keyOrNull, maxQueued, now));
         if (outcome instanceof Refused refused) {
             throw new QueueFullException(refused.queued(), maxQueued);
+        }
+        if (outcome instanceof KeyReused) {
+            throw new IdempotencyKeyReusedException(keyOrNull.key());
         }
         return ((Accepted) outcome).submission();
     }
@@ -51,7 +52,7 @@ final class SqliteSubmissions {
      * What the transaction decided. A refusal travels out as a value, having written nothing,
      * because the checked QueueFullException cannot cross the transaction's lambda.
      */
-    private sealed interface Outcome permits Accepted, Refused {
+    private sealed interface Outcome permits Accepted, Refused, KeyReused {
     }
 
     private record Accepted(Submission submission) implements Outcome {
@@ -60,12 +61,16 @@ final class SqliteSubmissions {
     private record Refused(int queued) implements Outcome {
     }
 
-    private static Outcome submitInTransaction(Connection c, NewTrace trace, String keyOrNull, int maxQueued,
+    /** The key was first used with a different request. */
+    private record KeyReused() implements Outcome {
+    }
+
+    private static Outcome submitInTransaction(Connection c, NewTrace trace, IdempotencyKey keyOrNull, int maxQueued,
                                               Instant now) throws SQLException {
         if (keyOrNull != null) {
-            Submission first = findByKey(c, trace.unitId(), keyOrNull);
-            if (first != null) {
-                return new Accepted(first);
+            Outcome earlier = findByKey(c, trace.unitId(), keyOrNull);
+            if (earlier != null) {
+                return earlier;
             }
         }
         int queued = SqliteJobs.countQueued(c);
@@ -81,9 +86,12 @@ final class SqliteSubmissions {
         return new Accepted(new Submission(traceId, jobId, false));
     }
 
-    private static Submission findByKey(Connection c, String unitId, String key) throws SQLException {
-        try (PreparedStatement ps = Sql.bind(c.prepareStatement(FIND_IDEMPOTENCY_KEY), unitId, key)) {
-            return Sql.firstOrNull(ps, rs -> new Submission(rs.getString("trace_id"), rs.getString("job_id"), true));
+    /** The first submission made with this key, replayed; refused if it was another request; null if none. */
+    private static Outcome findByKey(Connection c, String unitId, IdempotencyKey key) throws SQLException {
+        try (PreparedStatement ps = Sql.bind(c.prepareStatement(FIND_IDEMPOTENCY_KEY), unitId, key.key())) {
+            return Sql.firstOrNull(ps, rs -> key.sameRequestAs(rs.getBytes("fingerprint"))
+                    ? new Accepted(new Submission(rs.getString("trace_id"), rs.getString("job_id"), true))
+                    : new KeyReused());
         }
     }
 
@@ -103,10 +111,10 @@ final class SqliteSubmissions {
         return id;
     }
 
-    private static void insertKey(Connection c, String unitId, String key, String traceId, String jobId,
+    private static void insertKey(Connection c, String unitId, IdempotencyKey key, String traceId, String jobId,
                                   Instant now) throws SQLException {
         try (PreparedStatement ps = Sql.bind(c.prepareStatement(INSERT_IDEMPOTENCY_KEY),
-                unitId, key, traceId, jobId, Sql.millis(now))) {
+                unitId, key.key(), traceId, jobId, Sql.millis(now), key.fingerprint())) {
             ps.executeUpdate();
         }
     }

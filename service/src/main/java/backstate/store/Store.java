@@ -41,12 +41,14 @@ public interface Store extends AutoCloseable {
 
     /**
      * In one write transaction: replays the first submission made with the same
-     * (unit, idempotency key), or refuses when the queue holds {@code maxQueued} jobs or more,
-     * or stores the trace with a queued 'estimate' job (and the key, if given).
+     * (unit, idempotency key) and the same request fingerprint, or refuses when the queue holds
+     * {@code maxQueued} jobs or more, or stores the trace with a queued 'estimate' job (and the
+     * key with its fingerprint, if given).
      *
+     * @throws IdempotencyKeyReusedException if the key was first used with another fingerprint (nothing is written)
      * @throws IllegalArgumentException if the trace's model version does not exist
      */
-    Submission submitTrace(NewTrace trace, String idempotencyKeyOrNull, int maxQueued, Instant now)
+    Submission submitTrace(NewTrace trace, IdempotencyKey idempotencyKeyOrNull, int maxQueued, Instant now)
             throws QueueFullException;
 
     Optional<TraceRow> findTrace(String id);

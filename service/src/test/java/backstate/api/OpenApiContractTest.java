@@ -52,7 +52,8 @@ class OpenApiContractTest {
     static final Duration JOB_DEADLINE = Duration.ofSeconds(60);
     static final String DEMO = "reefer-40";
     /** The problem types the document must describe (the slugs ApiProblem and ProblemMapper use). */
-    static final List<String> PROBLEM_TYPES = List.of("invalid-input", "inconsistent-input", "not-found", "conflict",
+    static final List<String> PROBLEM_TYPES = List.of("invalid-input", "inconsistent-input", "idempotency-key-reused",
+            "not-found", "conflict",
             "payload-too-large", "unsupported-media-type", "service-busy", "unauthorized", "forbidden",
             "method-not-allowed", "internal-error");
     /** A well-formed admin key for the guarded server (bsk_ + 16 hex + _ + 64 hex); made up for this test. */
@@ -221,11 +222,11 @@ class OpenApiContractTest {
         assertEquals(202, accepted.status());
         String jobId = accepted.json().get("jobId").asText();
         assertEquals("/v1/jobs/" + jobId, accepted.headers().firstValue("Location").orElseThrow());
-        assertTrue(accepted.headers().firstValue("Idempotent-Replayed").isEmpty());
+        assertTrue(accepted.headers().firstValue("Backstate-Replayed").isEmpty());
 
         TestServer.Reply replayed = api.post(target, "text/csv", demoTrace(unit), "Idempotency-Key", "contract-85159");
         assertEquals(202, replayed.status());
-        assertEquals("true", replayed.headers().firstValue("Idempotent-Replayed").orElseThrow());
+        assertEquals("true", replayed.headers().firstValue("Backstate-Replayed").orElseThrow());
         assertEquals(accepted.json().get("jobId"), replayed.json().get("jobId"));
         assertEquals(accepted.json().get("traceId"), replayed.json().get("traceId"));
 
@@ -249,6 +250,37 @@ class OpenApiContractTest {
         assertEquals(46, series.get("residual").get("supply_air").size());
         assertProblem(api.getOutsideDocument("/v1/estimates/" + latest.get("id").asText() + "/series?maxPoints=0"), 400,
                 "invalid-input");
+    }
+
+    /** draft-ietf-httpapi-idempotency-key-header-07, section 2.7: a key reused with another payload is answered 422. */
+    @Test
+    void an_idempotency_key_reused_for_another_request_is_refused_and_the_first_post_stands() throws Exception {
+        String target = "/v1/units/RCX-20123/traces?model=" + DEMO + "&version=1";
+        byte[] trace = demoTrace("RCX-20123");
+        TestServer.Reply first = api.post(target, "text/csv", trace, "Idempotency-Key", "contract-reuse");
+        assertEquals(202, first.status(), first.body());
+        Path db = dir.resolve("main/test.db");
+        List<Long> stored = List.of(Database.count(db, "traces"), Database.count(db, "jobs"));
+
+        byte[] otherBody = demoTrace("RCX-12471");
+        TestServer.Reply otherTrace = api.post(target, "text/csv", otherBody, "Idempotency-Key", "contract-reuse");
+        assertProblem(otherTrace, 422, "idempotency-key-reused");
+        assertEquals("Idempotency-Key", otherTrace.json().get("errors").get(0).get("field").asText());
+        TestServer.Reply otherVersion = api.post(target.replace("version=1", "version=2"), "text/csv", trace,
+                "Idempotency-Key", "contract-reuse");
+        assertProblem(otherVersion, 422, "idempotency-key-reused");
+        TestServer.Reply otherOptions = api.post(target + "&estimateOffsets=true", "text/csv", trace,
+                "Idempotency-Key", "contract-reuse");
+        assertProblem(otherOptions, 422, "idempotency-key-reused");
+        assertEquals(stored, List.of(Database.count(db, "traces"), Database.count(db, "jobs")), "a refused reuse stores nothing");
+
+        // The same trace gzipped, with a charset parameter, is the same request: it replays.
+        TestServer.Reply again = api.post(target, "text/csv; charset=utf-8", gzip(trace), "Idempotency-Key", "contract-reuse",
+                "Content-Encoding", "gzip");
+        assertEquals(202, again.status(), again.body());
+        assertEquals("true", again.headers().firstValue("Backstate-Replayed").orElseThrow());
+        assertEquals(first.json().get("jobId"), again.json().get("jobId"));
+        assertEquals("succeeded", awaitJob(first.json().get("jobId").asText()).get("state").asText());
     }
 
     @Test
@@ -300,7 +332,18 @@ class OpenApiContractTest {
         assertEquals("failed", job.get("state").asText());
         assertFalse(job.has("estimateId"));
         assertEquals(1, job.get("errors").size());
-        assertTrue(job.get("errors").get(0).asText().startsWith("attempt 1: unobservable"), job.get("errors").toString());
+        assertEquals("attempt 1: unobservable: the trace does not determine 1 direction of the unknowns (mostly along"
+                + " [hidden]); add a prior, measure another output, or record longer", job.get("errors").get(0).asText());
+        // Closed form: with C = [1 0] and A diagonal, [C; CA] = [[1, 0], [-0.001, 0]] has the null space span{(0, 1)}:
+        // the hidden tank, as the model's own observability report says. A direction's sign is arbitrary.
+        JsonNode directions = job.get("unobservableDirections");
+        assertEquals(1, directions.size(), job.toString());
+        JsonNode components = directions.get(0).get("components");
+        assertEquals(List.of("seen", "hidden"), names(components, "name"));
+        assertEquals(List.of("state", "state"), names(components, "kind"));
+        assertEquals(0.0, components.get(0).get("value").asDouble(), 1e-12);
+        assertEquals(1.0, Math.abs(components.get(1).get("value").asDouble()), 1e-12);
+        assertFalse(directions.get(0).has("notComputed"));
         assertProblem(api.get("/v1/units/T-1/estimates/latest"), 404, "not-found");
     }
 

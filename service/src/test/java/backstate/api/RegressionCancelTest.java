@@ -115,7 +115,7 @@ class RegressionCancelTest {
         assertFalse(result.has("verdict"));
         assertFalse(run.has("pass"));
         // What the worker's runner does next with the handler's outcome is refused: the job stays cancelled.
-        assertFalse(store.failIfRunning(id, job.attempt(), outcome.toString(), Clock.systemUTC().instant()));
+        assertFalse(store.failIfRunning(id, job.attempt(), outcome.toString(), null, Clock.systemUTC().instant()));
         assertEquals("cancelled", get("/v1/regressions/" + id).get("state").asText());
     }
 

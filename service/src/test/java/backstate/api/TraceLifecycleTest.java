@@ -130,7 +130,7 @@ class TraceLifecycleTest {
         assertEquals(202, first.status());
         assertEquals(202, retry.status());
         assertEquals(first.json().get("jobId"), retry.json().get("jobId"));
-        assertEquals("true", retry.headers().firstValue("Idempotent-Replayed").orElse(""));
+        assertEquals("true", retry.headers().firstValue("Backstate-Replayed").orElse(""));
         assertEquals(tracesBefore + 1, Database.count(db, "traces"));
     }
 

@@ -140,6 +140,19 @@ class CsvFastPathTest {
     }
 
     @Example
+    void an_extra_header_column_is_refused_by_its_name() {
+        InputException one = refusedAlike(HEADER.replace("\n", ",humidity\n") + "0,1,1,1,1,1\n");
+        assertEquals("header[5]", one.field());
+        assertEquals("header[5]: got an unknown column \"humidity\", expected \"time\" and the model's channels"
+                + " [return_air, supply_air, cooling_power, ambient]", one.getMessage());
+        // Several extra columns: the first one is named, wherever it stands.
+        assertEquals("header[2]", refusedAlike("time,return_air,door,supply_air,cooling_power,ambient,humidity\n").field());
+        // A header far longer than the model's channels is refused by its count, as hostile input.
+        String wide = "time" + ",x".repeat(5 + TraceReader.EXTRA_HEADER_FIELDS) + "\n";
+        assertEquals("line 1: got more than 69 fields, expected at most 69", refusedAlike(wide).getMessage());
+    }
+
+    @Example
     void the_sample_limit_is_checked_per_cell_as_before() {
         Limits two = new Limits(2, 64, 16);
         String csv = HEADER + "0,1,1,1,1\n60,1,1,1,1\n120,x,1,1,1\n";

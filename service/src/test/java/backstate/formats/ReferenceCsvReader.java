@@ -21,7 +21,8 @@ final class ReferenceCsvReader {
         TraceColumns columns = new TraceColumns(model, limits);
         int maxFields = 1 + model.outputs().size() + model.inputsOrEmpty().size();
         ReferenceCsvRecords records = new ReferenceCsvRecords(
-                new BufferedReader(new InputStreamReader(body, StandardCharsets.UTF_8)), maxFields);
+                new BufferedReader(new InputStreamReader(body, StandardCharsets.UTF_8)),
+                maxFields + TraceReader.EXTRA_HEADER_FIELDS, maxFields);
         List<String> header = records.next();
         if (header == null) {
             throw new InputException("header", "got an empty body, expected a header row: time, then channel names");

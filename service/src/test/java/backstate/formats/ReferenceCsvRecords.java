@@ -7,7 +7,9 @@ import java.util.List;
 
 /**
  * The CSV record reader as it was before the byte-level {@link CsvRecords} (per-character reads
- * from a decoding reader), kept unchanged as the oracle the new one is compared with.
+ * from a decoding reader), kept as the oracle the new one is compared with. One change since:
+ * the header may have more fields than later records, as in {@link CsvRecords}, so that both
+ * readers name a header's extra column.
  */
 final class ReferenceCsvRecords {
     /** Longest field accepted; numbers and names are far shorter, so a longer one is hostile input. */
@@ -15,13 +17,15 @@ final class ReferenceCsvRecords {
 
     private final Reader reader;
     private final int maxFields;
+    private int fieldLimit;
     private long line = 1;
     private long recordLine = 1;
     private int peeked = -2;
 
-    ReferenceCsvRecords(Reader reader, int maxFields) {
+    ReferenceCsvRecords(Reader reader, int headerFields, int maxFields) {
         this.reader = reader;
         this.maxFields = maxFields;
+        this.fieldLimit = headerFields;
     }
 
     /** Line number where the record last returned started. */
@@ -42,7 +46,9 @@ final class ReferenceCsvRecords {
             }
             unread(c);
             recordLine = line;
-            return record();
+            List<String> record = record();
+            fieldLimit = maxFields;
+            return record;
         }
     }
 
@@ -95,8 +101,8 @@ final class ReferenceCsvRecords {
     }
 
     private void addField(List<String> fields, String value) {
-        if (fields.size() == maxFields) {
-            throw new InputException("line " + line, "got more than " + maxFields + " fields, expected at most " + maxFields);
+        if (fields.size() == fieldLimit) {
+            throw new InputException("line " + line, "got more than " + fieldLimit + " fields, expected at most " + fieldLimit);
         }
         fields.add(value);
     }

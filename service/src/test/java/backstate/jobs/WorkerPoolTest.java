@@ -335,8 +335,9 @@ class WorkerPoolTest extends StoreTestBase {
         }
 
         @Override
-        public boolean failIfRunning(String jobId, int attempt, String error, java.time.Instant now) {
-            return store.failIfRunning(jobId, attempt, error, now);
+        public boolean failIfRunning(String jobId, int attempt, String error, String detailsJsonOrNull,
+                                     java.time.Instant now) {
+            return store.failIfRunning(jobId, attempt, error, detailsJsonOrNull, now);
         }
 
         @Override

@@ -16,7 +16,7 @@ public final class CrashChild {
         SqliteStore store = new SqliteStore(Path.of(args[0]), Clock.systemUTC());
         Clock clock = Clock.systemUTC();
         for (int i = 0; ; i++) {
-            Submission s = store.submitTrace(StoreFixture.trace("unit-crash"), "k-" + i, Integer.MAX_VALUE,
+            Submission s = store.submitTrace(StoreFixture.trace("unit-crash"), StoreFixture.key("k-" + i), Integer.MAX_VALUE,
                     clock.instant());
             System.out.println("ACK " + i + " " + s.jobId());
             if (i % 3 == 0) {

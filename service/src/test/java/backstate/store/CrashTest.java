@@ -46,7 +46,7 @@ class CrashTest {
         assertTrue(traces == acked.size() || traces == acked.size() + 1, traces + " traces for " + acked.size() + " acks");
         try (SqliteStore reopened = new SqliteStore(fx.file, fx.clock)) {
             for (Map.Entry<Integer, String> ack : acked.entrySet()) {
-                Submission replay = reopened.submitTrace(StoreFixture.trace("unit-crash"), "k-" + ack.getKey(),
+                Submission replay = reopened.submitTrace(StoreFixture.trace("unit-crash"), StoreFixture.key("k-" + ack.getKey()),
                         Integer.MAX_VALUE, StoreFixture.T0);
                 assertEquals(ack.getValue(), replay.jobId(), "key k-" + ack.getKey());
             }

@@ -48,7 +48,7 @@ class FaultLoopTest {
         for (int n = 1; n <= MAX_CALLS; n++) {
             faults.failCall(n);
             try {
-                store.submitTrace(StoreFixture.trace("unit-1"), "key-1", 10, StoreFixture.T0);
+                store.submitTrace(StoreFixture.trace("unit-1"), StoreFixture.key("key-1"), 10, StoreFixture.T0);
             } catch (StoreUnavailableException e) {
                 assertFailedCleanly(e);
                 assertEquals(List.of(0L, 0L, 0L), counts());
@@ -62,7 +62,7 @@ class FaultLoopTest {
                 "BEGIN, SAVEPOINT, key lookup, queue count, version lookup, 3 inserts, RELEASE, COMMIT");
         assertEquals(List.of(1L, 1L, 1L), counts());
         faults.failCall(0);
-        assertTrue(store.submitTrace(StoreFixture.trace("unit-1"), "key-1", 10, StoreFixture.T0).replayed());
+        assertTrue(store.submitTrace(StoreFixture.trace("unit-1"), StoreFixture.key("key-1"), 10, StoreFixture.T0).replayed());
     }
 
     @Test

@@ -69,7 +69,7 @@ class JobQueueTest extends StoreTestBase {
         assertEquals(2, second.attempt());
 
         assertFalse(store.completeIfRunning(first.id(), first.attempt(), estimateOf(s, "stale"), null, T3));
-        assertFalse(store.failIfRunning(first.id(), first.attempt(), "stale", T3));
+        assertFalse(store.failIfRunning(first.id(), first.attempt(), "stale", null, T3));
         assertFalse(store.reportProgress(first.id(), first.attempt(), 1, 2));
 
         assertEquals(0, fx.rows("estimates"));
@@ -84,11 +84,13 @@ class JobQueueTest extends StoreTestBase {
         assertTrue(store.retryIfRunning(first.id(), first.attempt(), "disk hiccup", T1));
         ClaimedJob second = store.claimNext(1, T2).get(0);
 
-        assertTrue(store.failIfRunning(second.id(), second.attempt(), "singular Gramian", T3));
+        String details = "{\"unobservableDirections\":[{\"components\":[{\"name\":\"x\",\"kind\":\"state\",\"value\":1.0}]}]}";
+        assertTrue(store.failIfRunning(second.id(), second.attempt(), "singular Gramian", details, T3));
 
         JobRow row = store.findJob(first.id()).orElseThrow();
         assertEquals(List.of("failed", 2, T3), List.of(row.state(), row.attempt(), row.finishedAt()));
         assertEquals(List.of("attempt 1: disk hiccup", "attempt 2: singular Gramian"), row.errors());
+        assertEquals(details, row.failureJson(), "the failure's details are kept as given");
     }
 
     @Test
@@ -224,7 +226,7 @@ class JobQueueTest extends StoreTestBase {
         ClaimedJob job = running.remove(random.nextInt(running.size()));
         switch (random.nextInt(3)) {
             case 0 -> store.retryIfRunning(job.id(), job.attempt(), "again", now);
-            case 1 -> store.failIfRunning(job.id(), job.attempt(), "no", now);
+            case 1 -> store.failIfRunning(job.id(), job.attempt(), "no", null, now);
             default -> store.completeIfRunning(job.id(), job.attempt(), null, "{}", now);
         }
     }

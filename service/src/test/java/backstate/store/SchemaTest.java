@@ -118,6 +118,26 @@ class SchemaTest {
                 + " VALUES ('j', 'regression', 'queued', 0, 1, '\"boom\"')");
     }
 
+    /** V9: failure details only on a failed job, and only valid JSON. */
+    @Test
+    void failure_details_on_a_job_that_did_not_fail_or_that_are_not_json_are_rejected() throws SQLException {
+        assertRejected("INSERT INTO jobs (id, kind, state, attempt, created_at, failure_json)"
+                + " VALUES ('j', 'regression', 'queued', 0, 1, '{}')");
+        assertRejected("INSERT INTO jobs (id, kind, state, attempt, created_at, started_at, finished_at, failure_json)"
+                + " VALUES ('j', 'regression', 'failed', 1, 1, 1, 2, '{not json')");
+        try (Connection c = fx.raw(); Statement s = c.createStatement()) {
+            s.execute("INSERT INTO jobs (id, kind, state, attempt, created_at, started_at, finished_at, failure_json)"
+                    + " VALUES ('j', 'regression', 'failed', 1, 1, 1, 2, '{\"unobservableDirections\":[]}')");
+        }
+    }
+
+    /** V9: a request fingerprint is a SHA-256, 32 bytes. */
+    @Test
+    void a_fingerprint_that_is_not_32_bytes_is_rejected() throws Exception {
+        Submission s = fx.store.submitTrace(StoreFixture.trace("unit-1"), StoreFixture.key("k"), 10, StoreFixture.T0);
+        assertRejected("UPDATE idempotency_keys SET fingerprint = x'00' WHERE job_id = '" + s.jobId() + "'");
+    }
+
     @Test
     void a_text_where_an_integer_belongs_is_rejected() {
         assertRejected("INSERT INTO jobs (id, kind, state, attempt, created_at)"

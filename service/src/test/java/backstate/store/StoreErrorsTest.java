@@ -52,7 +52,7 @@ class StoreErrorsTest {
             NewTrace big = new NewTrace("unit-1", "pump", 1, 3, 0.0, 1.0, new byte[PAYLOAD_PAGES_WORTH]);
 
             StoreUnavailableException e = assertThrows(StoreUnavailableException.class,
-                    () -> store.submitTrace(big, "key-1", 10, StoreFixture.T0));
+                    () -> store.submitTrace(big, StoreFixture.key("key-1"), 10, StoreFixture.T0));
             assertEquals("disk full", e.reason());
             assertEquals(0, fx.rows("traces") + fx.rows("jobs"));
             assertEquals("ok", fx.integrityCheck());

@@ -44,6 +44,21 @@ public final class StoreFixture implements AutoCloseable {
         return new NewModelVersion(FAMILY, "discrete", 2, 1, 1, "{\"a\":[[1,0],[0,1]]}", "{\"rank\":2}");
     }
 
+    /** An Idempotency-Key as a post of {@link #trace} would carry it: every call with the same key is the same request. */
+    public static IdempotencyKey key(String key) {
+        return key(key, "the same request");
+    }
+
+    /** An Idempotency-Key with the fingerprint of {@code request} (its SHA-256), for a request other than {@link #key(String)}'s. */
+    public static IdempotencyKey key(String key, String request) {
+        try {
+            return new IdempotencyKey(key, java.security.MessageDigest.getInstance("SHA-256")
+                    .digest(request.getBytes(java.nio.charset.StandardCharsets.UTF_8)));
+        } catch (java.security.NoSuchAlgorithmException e) {
+            throw new AssertionError(e);
+        }
+    }
+
     public static NewTrace trace(String unitId) {
         return new NewTrace(unitId, FAMILY, VERSION, 3, 0.0, 2.0, unitId.getBytes(StandardCharsets.UTF_8));
     }

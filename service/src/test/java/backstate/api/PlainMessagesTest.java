@@ -1,0 +1,91 @@
+package backstate.api;
+
+import static org.junit.jupiter.api.Assertions.assertEquals;
+import static org.junit.jupiter.api.Assertions.assertFalse;
+import static org.junit.jupiter.api.Assertions.assertTrue;
+
+import com.fasterxml.jackson.databind.JsonNode;
+import java.nio.charset.StandardCharsets;
+import java.nio.file.Files;
+import java.nio.file.Path;
+import org.junit.jupiter.api.AfterAll;
+import org.junit.jupiter.api.BeforeAll;
+import org.junit.jupiter.api.Test;
+import org.junit.jupiter.api.TestInstance;
+import org.junit.jupiter.api.io.TempDir;
+
+/**
+ * Refusals a first user meets, in words they can act on: the CSV column the model does not have,
+ * the query parameter that is required, the matrix entry that is not a number.
+ */
+@TestInstance(TestInstance.Lifecycle.PER_CLASS)
+class PlainMessagesTest {
+    static final String HEADER = "time,return_air,supply_air,cooling_power,ambient";
+    static final String ROWS = "0,2.7,-0.7,6.4,27.1\n60,2.6,-0.8,6.4,27.1\n";
+
+    TestServer server;
+
+    @BeforeAll
+    void start(@TempDir Path dir) throws Exception {
+        server = new TestServer(dir);
+        server.publishDemoModels();
+    }
+
+    @AfterAll
+    void stop() {
+        server.close();
+    }
+
+    /** The problem's one field error, after checking it is a 400 problem+json. */
+    static JsonNode fieldError(TestServer.Reply reply) {
+        assertEquals(400, reply.status(), reply.body());
+        assertTrue(reply.contentType().startsWith("application/problem+json"), reply.contentType());
+        return reply.json().get("errors").get(0);
+    }
+
+    @Test
+    void a_csv_column_the_model_does_not_have_is_named() {
+        String csv = HEADER + ",humidity\n" + "0,2.7,-0.7,6.4,27.1,81\n";
+        JsonNode error = fieldError(server.post("/v1/units/RCX-00001/traces?model=reefer-40&version=1", "text/csv",
+                csv.getBytes(StandardCharsets.UTF_8)));
+        assertEquals("header[5]", error.get("field").asText());
+        assertTrue(error.get("detail").asText().startsWith("got an unknown column \"humidity\""), error.toString());
+    }
+
+    @Test
+    void a_trace_post_without_its_model_or_version_says_the_parameter_is_required() {
+        byte[] csv = (HEADER + "\n" + ROWS).getBytes(StandardCharsets.UTF_8);
+        JsonNode noModel = fieldError(server.post("/v1/units/RCX-00001/traces?version=1", "text/csv", csv));
+        assertEquals("model", noModel.get("field").asText());
+        assertEquals("the query parameter is required and was not given", noModel.get("detail").asText());
+        JsonNode noVersion = fieldError(server.post("/v1/units/RCX-00001/traces?model=reefer-40", "text/csv", csv));
+        assertEquals("version", noVersion.get("field").asText());
+        assertTrue(noVersion.get("detail").asText().contains("required"), noVersion.toString());
+    }
+
+    @Test
+    void a_trend_without_its_state_says_the_parameter_is_required() {
+        JsonNode error = fieldError(server.get("/v1/units/RCX-00001/trend?model=reefer-40"));
+        assertEquals("state", error.get("field").asText());
+        assertTrue(error.get("detail").asText().contains("required"), error.toString());
+    }
+
+    @Test
+    void a_null_or_text_in_a_model_matrix_is_refused_in_plain_words() throws Exception {
+        String model = Files.readString(TestServer.TEST_DATA.resolve("demo/models/reefer-40.v1.json"));
+        String withNull = model.replace("[0.0, 1.0, 0.0, 0.0],", "[0.0, null, 0.0, 0.0],");
+        assertFalse(withNull.equals(model), "the demo model's first row of c was found");
+        TestServer.Reply reply = server.post("/v1/models/reefer-40/versions", "application/json",
+                withNull.getBytes(StandardCharsets.UTF_8));
+        JsonNode error = fieldError(reply);
+        assertEquals("c[0][1]", error.get("field").asText());
+        assertEquals("got null, expected a number", error.get("detail").asText());
+        assertEquals("c[0][1]: got null, expected a number", reply.json().get("detail").asText());
+
+        String withText = model.replace("[0.0, 1.0, 0.0, 0.0],", "[0.0, \"one\", 0.0, 0.0],");
+        JsonNode text = fieldError(server.post("/v1/models/reefer-40/versions", "application/json",
+                withText.getBytes(StandardCharsets.UTF_8)));
+        assertEquals("c[0][1]", text.get("field").asText());
+        assertEquals("got the text \"one\", expected a number", text.get("detail").asText());
+    }
+}
