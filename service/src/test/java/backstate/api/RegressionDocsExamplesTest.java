@@ -4,7 +4,7 @@ import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
 import backstate.cli.DemoLoader;
-import backstate.cli.RegressCommand;
+import backstate.cli.CompareVersionsCommand;
 import java.io.ByteArrayOutputStream;
 import java.io.PrintStream;
 import java.nio.charset.StandardCharsets;
@@ -31,7 +31,7 @@ class RegressionDocsExamplesTest {
         List<String> curls = blocks.get(0);
         assertTrue(curls.size() >= 5, "found only " + curls.size() + " curl examples");
         try (TestServer server = new TestServer(dir)) {
-            new DemoLoader(server.base(), TestServer.TEST_DATA.resolve("demo")).load();
+            new DemoLoader(server.base()).load();
             String runId = null;
             for (String command : curls) {
                 if (command.contains("/cancel")) {
@@ -47,7 +47,7 @@ class RegressionDocsExamplesTest {
             List<String> args = new ArrayList<>(Arrays.asList(cli.substring(cli.indexOf(" regress ") + 9).split(" +")));
             args.set(args.indexOf("--server") + 1, server.base());
             ByteArrayOutputStream out = new ByteArrayOutputStream();
-            int exit = RegressCommand.run(args.toArray(String[]::new), new PrintStream(out, true, StandardCharsets.UTF_8),
+            int exit = CompareVersionsCommand.run(args.toArray(String[]::new), new PrintStream(out, true, StandardCharsets.UTF_8),
                     new PrintStream(new ByteArrayOutputStream(), true, StandardCharsets.UTF_8));
             String printed = out.toString(StandardCharsets.UTF_8);
             assertEquals(1, exit, printed);

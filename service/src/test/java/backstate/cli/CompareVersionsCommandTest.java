@@ -22,7 +22,7 @@ import org.junit.jupiter.api.io.TempDir;
  * test-data/demo/README.md), a republished copy of v1 fits exactly as v1 does.
  */
 @TestInstance(TestInstance.Lifecycle.PER_CLASS)
-class RegressCommandTest {
+class CompareVersionsCommandTest {
     static final Path DEMO = TestServer.TEST_DATA.resolve("demo");
 
     TestServer server;
@@ -31,7 +31,7 @@ class RegressCommandTest {
     @BeforeAll
     void start(@TempDir Path dir) throws Exception {
         server = new TestServer(dir);
-        new DemoLoader(server.base(), DEMO).load();
+        new DemoLoader(server.base()).load();
         TestServer.Reply r = server.post("/v1/models/reefer-40/versions", "application/json",
                 Files.readAllBytes(DEMO.resolve("models/reefer-40.v1.json")));
         assertEquals(201, r.status(), r.body());
@@ -49,7 +49,7 @@ class RegressCommandTest {
     static Run regress(String... args) {
         ByteArrayOutputStream out = new ByteArrayOutputStream();
         ByteArrayOutputStream err = new ByteArrayOutputStream();
-        int exit = RegressCommand.run(args, new PrintStream(out, true, StandardCharsets.UTF_8),
+        int exit = CompareVersionsCommand.run(args, new PrintStream(out, true, StandardCharsets.UTF_8),
                 new PrintStream(err, true, StandardCharsets.UTF_8));
         return new Run(exit, out.toString(StandardCharsets.UTF_8), err.toString(StandardCharsets.UTF_8));
     }
@@ -58,7 +58,7 @@ class RegressCommandTest {
     void v1_against_v2_exits_1_and_names_the_worse_units() {
         Run run = regress("--server", server.base(), "--family", "reefer-40", "--baseline", "1", "--candidate", "2",
                 "--latest", "1", "--tolerance-chi2", "1");
-        assertEquals(RegressCommand.FAIL, run.exit(), run.out() + run.err());
+        assertEquals(CompareVersionsCommand.FAIL, run.exit(), run.out() + run.err());
         assertTrue(run.out().contains("20/20 traces"), run.out());
         assertTrue(run.out().contains("FAIL (rule worse-share): 11 of 20 compared units are worse beyond tolerance"),
                 run.out());
@@ -70,7 +70,7 @@ class RegressCommandTest {
     void v1_against_its_republished_copy_exits_0() {
         Run run = regress("--server", server.base(), "--family", "reefer-40", "--baseline", "1",
                 "--candidate", Integer.toString(copyOfV1), "--units", "RCX-85159,RCX-24000", "--tolerance-x0", "0");
-        assertEquals(RegressCommand.PASS, run.exit(), run.out() + run.err());
+        assertEquals(CompareVersionsCommand.PASS, run.exit(), run.out() + run.err());
         assertTrue(run.out().contains("PASS (rule worse-share): 0 of 2 compared units"), run.out());
         assertTrue(run.out().contains("delta chi2/dof per unit: median +0.0000, p95 +0.0000"), run.out());
     }
@@ -78,20 +78,20 @@ class RegressCommandTest {
     @Test
     void bad_input_exits_2_with_the_servers_reason() {
         Run same = regress("--server", server.base(), "--family", "reefer-40", "--baseline", "1", "--candidate", "1");
-        assertEquals(RegressCommand.BAD_INPUT, same.exit());
+        assertEquals(CompareVersionsCommand.BAD_INPUT, same.exit());
         assertTrue(same.err().contains("candidate: got 1, the same as baseline"), same.err());
 
         Run unknown = regress("--server", server.base(), "--family", "reefer-40", "--baseline", "1", "--candidate", "99");
-        assertEquals(RegressCommand.BAD_INPUT, unknown.exit());
+        assertEquals(CompareVersionsCommand.BAD_INPUT, unknown.exit());
         assertTrue(unknown.err().contains("HTTP 422"), unknown.err());
 
         Run flags = regress("--server", server.base(), "--family", "reefer-40", "--baseline", "one", "--candidate", "2");
-        assertEquals(RegressCommand.BAD_INPUT, flags.exit());
+        assertEquals(CompareVersionsCommand.BAD_INPUT, flags.exit());
         assertTrue(flags.err().contains("got --baseline one, expected a whole number"), flags.err());
 
         Run both = regress("--server", server.base(), "--family", "reefer-40", "--baseline", "1", "--candidate", "2",
                 "--units", "RCX-85159", "--latest", "1");
-        assertEquals(RegressCommand.BAD_INPUT, both.exit());
+        assertEquals(CompareVersionsCommand.BAD_INPUT, both.exit());
     }
 
     @Test
@@ -102,7 +102,7 @@ class RegressCommandTest {
         }
         Run run = regress("--server", "http://127.0.0.1:" + closedPort, "--family", "reefer-40", "--baseline", "1",
                 "--candidate", "2");
-        assertEquals(RegressCommand.BAD_INPUT, run.exit());
+        assertEquals(CompareVersionsCommand.BAD_INPUT, run.exit());
         assertTrue(run.err().contains("cannot reach http://127.0.0.1:" + closedPort), run.err());
     }
 }
