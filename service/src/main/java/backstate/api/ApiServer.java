@@ -84,6 +84,7 @@ public final class ApiServer implements AutoCloseable {
         HandlerType get = HandlerType.GET;
         HandlerType post = HandlerType.POST;
         return List.of(
+                new Route(get, "/", Access.PUBLIC, service::index),
                 new Route(get, "/healthz", Access.PUBLIC, service::health),
                 new Route(get, "/readyz", Access.PUBLIC, service::ready),
                 new Route(get, "/metrics", Access.PUBLIC, service::metrics),
