@@ -85,6 +85,15 @@ class StartErrorsTest {
     }
 
     @Test
+    void the_old_name_of_compare_versions_still_works_with_a_one_line_notice() throws Exception {
+        Run run = backstate("regress", "--help");
+        assertEquals(0, run.exit(), run.err());
+        assertTrue(run.out().startsWith("usage: backstate compare-versions --server URL"), run.out());
+        assertEquals("backstate: 'regress' is now called 'compare-versions'; the old name will be removed"
+                + System.lineSeparator(), run.err());
+    }
+
+    @Test
     void an_unknown_flag_is_one_line_naming_it_and_exits_2() throws Exception {
         Run run = backstate("serve", "--databse", "x.db");
         assertEquals("backstate serve: got flag --databse, expected one of --host VALUE,"

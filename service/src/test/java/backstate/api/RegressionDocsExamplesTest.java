@@ -18,7 +18,7 @@ import org.junit.jupiter.api.io.TempDir;
 
 /**
  * Runs docs/regressions.md's examples against a real server with the demo fleet: every curl
- * command with real curl (exit 0, below 400 through --fail-with-body), and the regress command
+ * command with real curl (exit 0, below 400 through --fail-with-body), and the compare-versions command
  * in-process with the documented flags, whose summary must read as the page shows it.
  */
 class RegressionDocsExamplesTest {
@@ -44,7 +44,8 @@ class RegressionDocsExamplesTest {
             }
 
             String cli = blocks.get(1).get(0);
-            List<String> args = new ArrayList<>(Arrays.asList(cli.substring(cli.indexOf(" regress ") + 9).split(" +")));
+            String name = " " + CompareVersionsCommand.NAME + " ";
+            List<String> args = new ArrayList<>(Arrays.asList(cli.substring(cli.indexOf(name) + name.length()).split(" +")));
             args.set(args.indexOf("--server") + 1, server.base());
             ByteArrayOutputStream out = new ByteArrayOutputStream();
             int exit = CompareVersionsCommand.run(args.toArray(String[]::new), new PrintStream(out, true, StandardCharsets.UTF_8),

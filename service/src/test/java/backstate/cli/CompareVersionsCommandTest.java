@@ -17,7 +17,7 @@ import org.junit.jupiter.api.TestInstance;
 import org.junit.jupiter.api.io.TempDir;
 
 /**
- * {@code backstate regress} in-process against a real server with the demo fleet: its exit code
+ * {@code backstate compare-versions} in-process against a real server with the demo fleet: its exit code
  * is the verdict. v2 fits the stepped-cooling units far worse (χ²/dof 15-63 against ~1 under v1,
  * test-data/demo/README.md), a republished copy of v1 fits exactly as v1 does.
  */
@@ -46,7 +46,7 @@ class CompareVersionsCommandTest {
     record Run(int exit, String out, String err) {
     }
 
-    static Run regress(String... args) {
+    static Run compareVersions(String... args) {
         ByteArrayOutputStream out = new ByteArrayOutputStream();
         ByteArrayOutputStream err = new ByteArrayOutputStream();
         int exit = CompareVersionsCommand.run(args, new PrintStream(out, true, StandardCharsets.UTF_8),
@@ -56,7 +56,7 @@ class CompareVersionsCommandTest {
 
     @Test
     void v1_against_v2_exits_1_and_names_the_worse_units() {
-        Run run = regress("--server", server.base(), "--family", "reefer-40", "--baseline", "1", "--candidate", "2",
+        Run run = compareVersions("--server", server.base(), "--family", "reefer-40", "--baseline", "1", "--candidate", "2",
                 "--latest", "1", "--tolerance-chi2", "1");
         assertEquals(CompareVersionsCommand.FAIL, run.exit(), run.out() + run.err());
         assertTrue(run.out().contains("20/20 traces"), run.out());
@@ -68,7 +68,7 @@ class CompareVersionsCommandTest {
 
     @Test
     void v1_against_its_republished_copy_exits_0() {
-        Run run = regress("--server", server.base(), "--family", "reefer-40", "--baseline", "1",
+        Run run = compareVersions("--server", server.base(), "--family", "reefer-40", "--baseline", "1",
                 "--candidate", Integer.toString(copyOfV1), "--units", "RCX-85159,RCX-24000", "--tolerance-x0", "0");
         assertEquals(CompareVersionsCommand.PASS, run.exit(), run.out() + run.err());
         assertTrue(run.out().contains("PASS (rule worse-share): 0 of 2 compared units"), run.out());
@@ -77,19 +77,19 @@ class CompareVersionsCommandTest {
 
     @Test
     void bad_input_exits_2_with_the_servers_reason() {
-        Run same = regress("--server", server.base(), "--family", "reefer-40", "--baseline", "1", "--candidate", "1");
+        Run same = compareVersions("--server", server.base(), "--family", "reefer-40", "--baseline", "1", "--candidate", "1");
         assertEquals(CompareVersionsCommand.BAD_INPUT, same.exit());
         assertTrue(same.err().contains("candidate: got 1, the same as baseline"), same.err());
 
-        Run unknown = regress("--server", server.base(), "--family", "reefer-40", "--baseline", "1", "--candidate", "99");
+        Run unknown = compareVersions("--server", server.base(), "--family", "reefer-40", "--baseline", "1", "--candidate", "99");
         assertEquals(CompareVersionsCommand.BAD_INPUT, unknown.exit());
         assertTrue(unknown.err().contains("HTTP 422"), unknown.err());
 
-        Run flags = regress("--server", server.base(), "--family", "reefer-40", "--baseline", "one", "--candidate", "2");
+        Run flags = compareVersions("--server", server.base(), "--family", "reefer-40", "--baseline", "one", "--candidate", "2");
         assertEquals(CompareVersionsCommand.BAD_INPUT, flags.exit());
         assertTrue(flags.err().contains("got --baseline one, expected a whole number"), flags.err());
 
-        Run both = regress("--server", server.base(), "--family", "reefer-40", "--baseline", "1", "--candidate", "2",
+        Run both = compareVersions("--server", server.base(), "--family", "reefer-40", "--baseline", "1", "--candidate", "2",
                 "--units", "RCX-85159", "--latest", "1");
         assertEquals(CompareVersionsCommand.BAD_INPUT, both.exit());
     }
@@ -100,7 +100,7 @@ class CompareVersionsCommandTest {
         try (ServerSocket socket = new ServerSocket(0)) {
             closedPort = socket.getLocalPort();
         }
-        Run run = regress("--server", "http://127.0.0.1:" + closedPort, "--family", "reefer-40", "--baseline", "1",
+        Run run = compareVersions("--server", "http://127.0.0.1:" + closedPort, "--family", "reefer-40", "--baseline", "1",
                 "--candidate", "2");
         assertEquals(CompareVersionsCommand.BAD_INPUT, run.exit());
         assertTrue(run.err().contains("cannot reach http://127.0.0.1:" + closedPort), run.err());
