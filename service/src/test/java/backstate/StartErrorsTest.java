@@ -2,8 +2,10 @@ package backstate;
 
 import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertFalse;
+import static org.junit.jupiter.api.Assertions.assertThrows;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
+import backstate.config.Settings;
 import java.io.IOException;
 import java.net.InetAddress;
 import java.net.ServerSocket;
@@ -12,7 +14,10 @@ import java.nio.file.Files;
 import java.nio.file.Path;
 import java.util.ArrayList;
 import java.util.List;
+import java.util.Map;
 import java.util.concurrent.TimeUnit;
+import java.util.regex.Matcher;
+import java.util.regex.Pattern;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.io.TempDir;
 
@@ -91,6 +96,19 @@ class StartErrorsTest {
         assertTrue(run.out().startsWith("usage: backstate compare-versions --server URL"), run.out());
         assertEquals("backstate: 'regress' is now called 'compare-versions'; the old name will be removed"
                 + System.lineSeparator(), run.err());
+    }
+
+    @Test
+    void the_service_usage_names_every_setting_flag() {
+        String refusal = assertThrows(IllegalArgumentException.class,
+                () -> Settings.from(new String[] {"--no-such-flag", "1"}, Map.of())).getMessage();
+        Matcher flag = Pattern.compile("(--[a-z-]+) VALUE").matcher(refusal);
+        int flags = 0;
+        while (flag.find()) {
+            assertTrue(Launcher.SERVICE_FLAGS.contains("  " + flag.group(1) + " "), flag.group(1) + " in the usage");
+            flags++;
+        }
+        assertEquals(8, flags, refusal);
     }
 
     @Test
