@@ -3,10 +3,8 @@ package backstate.api;
 import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
+import backstate.cli.CommandRun;
 import backstate.cli.CompareVersionsCommand;
-import java.io.ByteArrayOutputStream;
-import java.io.PrintStream;
-import java.nio.charset.StandardCharsets;
 import java.nio.file.Path;
 import java.util.List;
 import java.util.Locale;
@@ -23,16 +21,9 @@ class PipelineKeyTest {
     static final List<String> UNITS = List.of("RCX-100", "RCX-101", "RCX-102");
     static final double TOLERANCE = 1.0;
 
-    record Run(int exit, String out, String err) {
-    }
-
-    static Run compareVersions(String server, String key) {
-        ByteArrayOutputStream out = new ByteArrayOutputStream();
-        ByteArrayOutputStream err = new ByteArrayOutputStream();
-        int exit = CompareVersionsCommand.run(new String[] {"--server", server, "--family", "reefer-40", "--baseline", "1",
-                "--candidate", "2", "--tolerance-chi2", Double.toString(TOLERANCE), "--api-key", key},
-                new PrintStream(out, true, StandardCharsets.UTF_8), new PrintStream(err, true, StandardCharsets.UTF_8));
-        return new Run(exit, out.toString(StandardCharsets.UTF_8), err.toString(StandardCharsets.UTF_8));
+    static CommandRun compareVersions(String server, String key) {
+        return CommandRun.of(CompareVersionsCommand::run, "--server", server, "--family", "reefer-40", "--baseline", "1",
+                "--candidate", "2", "--tolerance-chi2", Double.toString(TOLERANCE), "--api-key", key);
     }
 
     @Test
@@ -54,12 +45,12 @@ class PipelineKeyTest {
             DemoVersions.TableRow row = DemoVersions.chi2Table().get("RCX-12471");
             boolean worse = row.delta() > TOLERANCE + DemoVersions.TABLE_ROUNDING;
             assertTrue(worse || row.delta() < TOLERANCE - DemoVersions.TABLE_ROUNDING, "the table decides: " + row);
-            Run run = compareVersions(server.base(), pipeline);
+            CommandRun run = compareVersions(server.base(), pipeline);
             assertEquals(worse ? 1 : 0, run.exit(), run.out() + run.err()); // 1 fail, 0 pass
             assertTrue(run.out().contains(String.format(Locale.ROOT, "%s (rule worse-share): %d of 3 compared units",
                     worse ? "FAIL" : "PASS", worse ? 3 : 0)), run.out());
 
-            Run refused = compareVersions(server.base(), reader);
+            CommandRun refused = compareVersions(server.base(), reader);
             assertEquals(2, refused.exit(), refused.out() + refused.err()); // 2: bad input, the server's refusal printed
             assertTrue(refused.err().contains("the server refused the run (HTTP 403)"), refused.err());
         }

@@ -4,10 +4,7 @@ import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
 import backstate.api.TestServer;
-import java.io.ByteArrayOutputStream;
-import java.io.PrintStream;
 import java.net.ServerSocket;
-import java.nio.charset.StandardCharsets;
 import java.nio.file.Files;
 import java.nio.file.Path;
 import org.junit.jupiter.api.AfterAll;
@@ -43,20 +40,13 @@ class CompareVersionsCommandTest {
         server.close();
     }
 
-    record Run(int exit, String out, String err) {
-    }
-
-    static Run compareVersions(String... args) {
-        ByteArrayOutputStream out = new ByteArrayOutputStream();
-        ByteArrayOutputStream err = new ByteArrayOutputStream();
-        int exit = CompareVersionsCommand.run(args, new PrintStream(out, true, StandardCharsets.UTF_8),
-                new PrintStream(err, true, StandardCharsets.UTF_8));
-        return new Run(exit, out.toString(StandardCharsets.UTF_8), err.toString(StandardCharsets.UTF_8));
+    static CommandRun compareVersions(String... args) {
+        return CommandRun.of(CompareVersionsCommand::run, args);
     }
 
     @Test
     void v1_against_v2_exits_1_and_names_the_worse_units() {
-        Run run = compareVersions("--server", server.base(), "--family", "reefer-40", "--baseline", "1", "--candidate", "2",
+        CommandRun run = compareVersions("--server", server.base(), "--family", "reefer-40", "--baseline", "1", "--candidate", "2",
                 "--latest", "1", "--tolerance-chi2", "1");
         assertEquals(CompareVersionsCommand.FAIL, run.exit(), run.out() + run.err());
         assertTrue(run.out().contains("20/20 traces"), run.out());
@@ -68,7 +58,7 @@ class CompareVersionsCommandTest {
 
     @Test
     void v1_against_its_republished_copy_exits_0() {
-        Run run = compareVersions("--server", server.base(), "--family", "reefer-40", "--baseline", "1",
+        CommandRun run = compareVersions("--server", server.base(), "--family", "reefer-40", "--baseline", "1",
                 "--candidate", Integer.toString(copyOfV1), "--units", "RCX-85159,RCX-24000", "--tolerance-x0", "0");
         assertEquals(CompareVersionsCommand.PASS, run.exit(), run.out() + run.err());
         assertTrue(run.out().contains("PASS (rule worse-share): 0 of 2 compared units"), run.out());
@@ -77,19 +67,19 @@ class CompareVersionsCommandTest {
 
     @Test
     void bad_input_exits_2_with_the_servers_reason() {
-        Run same = compareVersions("--server", server.base(), "--family", "reefer-40", "--baseline", "1", "--candidate", "1");
+        CommandRun same = compareVersions("--server", server.base(), "--family", "reefer-40", "--baseline", "1", "--candidate", "1");
         assertEquals(CompareVersionsCommand.BAD_INPUT, same.exit());
         assertTrue(same.err().contains("candidate: got 1, the same as baseline"), same.err());
 
-        Run unknown = compareVersions("--server", server.base(), "--family", "reefer-40", "--baseline", "1", "--candidate", "99");
+        CommandRun unknown = compareVersions("--server", server.base(), "--family", "reefer-40", "--baseline", "1", "--candidate", "99");
         assertEquals(CompareVersionsCommand.BAD_INPUT, unknown.exit());
         assertTrue(unknown.err().contains("HTTP 422"), unknown.err());
 
-        Run flags = compareVersions("--server", server.base(), "--family", "reefer-40", "--baseline", "one", "--candidate", "2");
+        CommandRun flags = compareVersions("--server", server.base(), "--family", "reefer-40", "--baseline", "one", "--candidate", "2");
         assertEquals(CompareVersionsCommand.BAD_INPUT, flags.exit());
         assertTrue(flags.err().contains("got --baseline one, expected a whole number"), flags.err());
 
-        Run both = compareVersions("--server", server.base(), "--family", "reefer-40", "--baseline", "1", "--candidate", "2",
+        CommandRun both = compareVersions("--server", server.base(), "--family", "reefer-40", "--baseline", "1", "--candidate", "2",
                 "--units", "RCX-85159", "--latest", "1");
         assertEquals(CompareVersionsCommand.BAD_INPUT, both.exit());
     }
@@ -100,7 +90,7 @@ class CompareVersionsCommandTest {
         try (ServerSocket socket = new ServerSocket(0)) {
             closedPort = socket.getLocalPort();
         }
-        Run run = compareVersions("--server", "http://127.0.0.1:" + closedPort, "--family", "reefer-40", "--baseline", "1",
+        CommandRun run = compareVersions("--server", "http://127.0.0.1:" + closedPort, "--family", "reefer-40", "--baseline", "1",
                 "--candidate", "2");
         assertEquals(CompareVersionsCommand.BAD_INPUT, run.exit());
         assertTrue(run.err().contains("cannot reach http://127.0.0.1:" + closedPort), run.err());

@@ -9,9 +9,6 @@ import backstate.formats.EstimateCaution;
 import com.fasterxml.jackson.databind.JsonNode;
 import com.fasterxml.jackson.databind.ObjectMapper;
 import com.fasterxml.jackson.databind.node.ObjectNode;
-import java.io.ByteArrayOutputStream;
-import java.io.PrintStream;
-import java.nio.charset.StandardCharsets;
 import java.nio.file.Path;
 import java.util.ArrayList;
 import java.util.List;
@@ -37,22 +34,8 @@ class SolveCommandTest {
     @TempDir
     Path dir;
 
-    record Run(int exit, String out, String err) {
-        JsonNode json() {
-            try {
-                return new ObjectMapper().readTree(out);
-            } catch (java.io.IOException e) {
-                throw new AssertionError("not JSON: " + out, e);
-            }
-        }
-    }
-
-    static Run solve(String... args) {
-        ByteArrayOutputStream out = new ByteArrayOutputStream();
-        ByteArrayOutputStream err = new ByteArrayOutputStream();
-        int exit = SolveCommand.run(args, new PrintStream(out, true, StandardCharsets.UTF_8),
-                new PrintStream(err, true, StandardCharsets.UTF_8));
-        return new Run(exit, out.toString(StandardCharsets.UTF_8), err.toString(StandardCharsets.UTF_8));
+    static CommandRun solve(String... args) {
+        return CommandRun.of(SolveCommand::run, args);
     }
 
     /** The demo trace with these options written in, as a file. */
@@ -76,9 +59,13 @@ class SolveCommandTest {
     JsonNode solved(Path trace, String... flags) {
         List<String> args = new ArrayList<>(List.of("--model", MODEL.toString(), "--trace", trace.toString()));
         args.addAll(List.of(flags));
-        Run run = solve(args.toArray(String[]::new));
+        CommandRun run = solve(args.toArray(String[]::new));
         assertEquals(0, run.exit(), run.err());
-        return run.json();
+        try {
+            return mapper.readTree(run.out());
+        } catch (java.io.IOException e) {
+            throw new AssertionError("not JSON: " + run.out(), e);
+        }
     }
 
     @Test
@@ -115,15 +102,15 @@ class SolveCommandTest {
 
     @Test
     void help_prints_the_usage_and_bad_flags_exit_2_naming_them() {
-        Run help = solve("--help");
+        CommandRun help = solve("--help");
         assertEquals(0, help.exit());
         assertEquals(SolveCommand.USAGE + System.lineSeparator(), help.out());
 
-        Run misspelt = solve("--model", MODEL.toString(), "--trace", TRACE.toString(), "--formulaton", "continuous");
+        CommandRun misspelt = solve("--model", MODEL.toString(), "--trace", TRACE.toString(), "--formulaton", "continuous");
         assertEquals(SolveCommand.BAD_INPUT, misspelt.exit());
         assertTrue(misspelt.err().startsWith("backstate solve: got --formulaton, expected --model FILE"), misspelt.err());
 
-        Run notANumber = solve("--model", MODEL.toString(), "--trace", TRACE.toString(), "--reference-time", "noon");
+        CommandRun notANumber = solve("--model", MODEL.toString(), "--trace", TRACE.toString(), "--reference-time", "noon");
         assertEquals(SolveCommand.BAD_INPUT, notANumber.exit());
         assertEquals("backstate solve: got --reference-time noon, expected a time in seconds" + System.lineSeparator(),
                 notANumber.err());
