@@ -1,11 +1,16 @@
 # Build stage: compile and package the shaded jar (tests run in CI, not in the image build).
+# Every module the root pom lists needs its pom here, built or not; the jar takes the OpenAPI
+# document and the demo fleet as resources. .ci/check-dockerfile (run by mvn verify) copies
+# exactly these files into an empty folder and runs this RUN line there, so this list cannot rot.
 FROM maven:3.9-eclipse-temurin-17 AS build
 WORKDIR /src
 COPY pom.xml .
 COPY service/pom.xml service/pom.xml
+COPY bench/pom.xml bench/pom.xml
 COPY service/src service/src
 COPY openapi openapi
-RUN mvn -B -q -pl service -am package -DskipTests
+COPY test-data/demo test-data/demo
+RUN mvn -B -q -pl service -am package -Dmaven.test.skip=true
 
 # Runtime stage: JRE only, non-root, database on a volume.
 FROM eclipse-temurin:17-jre

@@ -4,9 +4,6 @@ import backstate.api.ApiServer;
 import backstate.api.ProcessMeters;
 import backstate.auth.ApiKeys;
 import backstate.auth.FirstAdminKey;
-import backstate.cli.DemoLoader;
-import backstate.cli.RegressCommand;
-import backstate.cli.SolveCommand;
 import backstate.config.Settings;
 import backstate.formats.Json;
 import backstate.formats.Limits;
@@ -16,7 +13,9 @@ import backstate.jobs.JobHandler;
 import backstate.jobs.RegressionJobHandler;
 import backstate.jobs.StoredTraceSolver;
 import backstate.jobs.WorkerPool;
+import backstate.store.DatabaseFile;
 import backstate.store.SqliteStore;
+import backstate.store.StoreException;
 import com.fasterxml.jackson.databind.ObjectMapper;
 import io.micrometer.prometheusmetrics.PrometheusConfig;
 import io.micrometer.prometheusmetrics.PrometheusMeterRegistry;
@@ -24,14 +23,10 @@ import java.nio.file.Path;
 import java.security.SecureRandom;
 import java.time.Clock;
 import java.time.Duration;
-import java.util.Arrays;
 import java.util.Map;
-import org.slf4j.Logger;
-import org.slf4j.LoggerFactory;
 
 /** Wiring only: config → database → migrations → queue → workers → HTTP. */
 public final class App implements AutoCloseable {
-    private static final Logger LOG = LoggerFactory.getLogger(App.class);
     /** How often an idle worker looks for jobs that arrived without a wake-up (e.g. after a restart). */
     static final Duration IDLE_POLL = Duration.ofMillis(500);
 
@@ -44,7 +39,7 @@ public final class App implements AutoCloseable {
         Limits limits = new Limits(settings.maxSamples(), Limits.DEFAULTS.maxNameLength(), Limits.DEFAULTS.maxJsonDepth());
         ObjectMapper mapper = Json.mapper(limits);
         PrometheusMeterRegistry registry = new PrometheusMeterRegistry(PrometheusConfig.DEFAULT);
-        this.store = new SqliteStore(settings.database(), clock);
+        this.store = openStore(settings.database(), clock);
         this.processMeters = ProcessMeters.bind(registry);
         StoredTraceSolver stored = new StoredTraceSolver(store, mapper, limits);
         JobHandler handlers = new HandlersByKind(Map.of(
@@ -65,10 +60,26 @@ public final class App implements AutoCloseable {
                 settings.maxQueued(), store::queuedCount, workers::wake, keys, settings.auth(), stored));
     }
 
+    /** Starts the workers and the HTTP edge; if either fails (the port is taken, say), everything is closed again. */
     public App start(Settings settings) {
-        workers.start();
-        api.start(settings.host(), settings.port());
+        try {
+            workers.start();
+            api.start(settings.host(), settings.port());
+        } catch (RuntimeException e) {
+            close();
+            throw e;
+        }
         return this;
+    }
+
+    /** The store on a checked path; a failure names the file, so the start stops with one line saying why. */
+    private static SqliteStore openStore(Path file, Clock clock) {
+        Path usable = DatabaseFile.usable(file);
+        try {
+            return new SqliteStore(usable, clock);
+        } catch (StoreException e) {
+            throw new IllegalStateException("database " + usable + ": " + e.getMessage(), e);
+        }
     }
 
     public int port() {
@@ -89,44 +100,13 @@ public final class App implements AutoCloseable {
         processMeters.close();
     }
 
-    public static void main(String[] args) throws Exception {
-        String command = args.length == 0 ? "serve" : args[0];
-        String[] rest = args.length == 0 ? args : Arrays.copyOfRange(args, 1, args.length);
-        switch (command) {
-            case "serve" -> serve(Settings.from(rest, System.getenv()), false);
-            // The demo loader posts without keys, so the demo always runs with access control off.
-            case "demo" -> serve(Settings.from(withAuthOff(rest), System.getenv()), true);
-            case "solve" -> System.exit(SolveCommand.run(rest, System.out, System.err));
-            case "regress" -> System.exit(RegressCommand.run(rest, System.out, System.err));
-            default -> {
-                System.err.println("usage: backstate serve|demo [--port N --database FILE ...] | solve --model FILE --trace FILE [options]"
-                        + " | regress --server URL --family F --baseline N --candidate M [options]");
-                System.exit(2);
-            }
+    /** The command line: serve (default), demo, solve, compare-versions, help; see {@link Launcher}. */
+    public static void main(String[] args) {
+        Launcher.Outcome outcome = new Launcher(System.out, System.err, System.getenv()).run(args);
+        if (outcome instanceof Launcher.Outcome.Serving serving) {
+            Runtime.getRuntime().addShutdownHook(new Thread(serving.app()::close, "backstate-shutdown"));
+        } else {
+            System.exit(((Launcher.Outcome.Exited) outcome).code());
         }
-    }
-
-    private static void serve(Settings settings, boolean demo) throws Exception {
-        LOG.info("settings: {}", settings.describe());
-        if (demo) {
-            LOG.warn("demo: access control is OFF (every route is open to anyone who can reach the port); use serve for keys");
-        } else if (!settings.auth()) {
-            LOG.warn("access control is OFF (--auth off / BACKSTATE_AUTH=off): every route is open to anyone who can reach the port");
-        }
-        App app = new App(settings, Clock.systemUTC()).start(settings);
-        Runtime.getRuntime().addShutdownHook(new Thread(app::close, "backstate-shutdown"));
-        String base = "http://localhost:" + app.port();
-        LOG.info("backstate listening on {} (API under {}/v1, spec at {}/openapi.yaml)", base, base, base);
-        if (demo) {
-            new DemoLoader(base, Path.of(System.getProperty("backstate.demo", "test-data/demo"))).load();
-        }
-    }
-
-    /** The flags with --auth off last, so it wins over any --auth given before it. */
-    private static String[] withAuthOff(String[] flags) {
-        String[] all = Arrays.copyOf(flags, flags.length + 2);
-        all[flags.length] = "--auth";
-        all[flags.length + 1] = "off";
-        return all;
     }
 }

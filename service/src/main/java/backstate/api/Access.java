@@ -5,16 +5,21 @@ package backstate.api;
  * README.md): admin keys may call everything; gateway keys are scoped to a unit-ID pattern.
  */
 public enum Access {
-    /** No key needed: liveness, readiness, metrics and the API document. */
+    /** No key needed: the start page, liveness, readiness, metrics and the API document. */
     PUBLIC,
-    /** Any valid key (admin, gateway or reader): model catalogue reads. */
+    /** Any valid key (admin, gateway, reader or pipeline): model catalogue reads. */
     ANY_KEY,
-    /** Admin keys only: publishing and retiring models, key management. */
+    /** Admin keys only: publishing and retiring models, key management, cancelling regression runs. */
     ADMIN,
     /** Admin, or a gateway key whose unit pattern matches the path's {unitId}: trace posts. */
     GATEWAY_FOR_UNIT,
-    /** Admin, reader, or a gateway key scoped to the job's unit: job state and cancel. */
+    /**
+     * Admin, reader, or a gateway key scoped to the job's unit: job state and cancel. Not pipeline
+     * keys: the job routes include cancelling a unit's estimate job.
+     */
     JOB_OF_UNIT,
-    /** Admin or reader keys: estimates, fleet views, regressions, planning. */
-    READER
+    /** Admin, reader or pipeline keys: estimates, fleet views, regression reads, planning. */
+    READER,
+    /** Admin or pipeline keys: starting a regression run (what a CI pipeline gates a release on). */
+    PIPELINE
 }

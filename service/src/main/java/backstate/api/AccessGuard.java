@@ -76,7 +76,8 @@ final class AccessGuard {
         return switch (access) {
             case PUBLIC, ANY_KEY -> true;
             case ADMIN -> caller.is(Role.ADMIN);
-            case READER -> caller.is(Role.ADMIN) || caller.is(Role.READER);
+            case READER -> caller.is(Role.ADMIN) || caller.is(Role.READER) || caller.is(Role.PIPELINE);
+            case PIPELINE -> caller.is(Role.ADMIN) || caller.is(Role.PIPELINE);
             case GATEWAY_FOR_UNIT -> caller.is(Role.ADMIN) || caller.gatewayFor(ctx.pathParam(UNIT_PARAM));
             // Only gateways need the lookup. A job without a trace (a regression) or an unknown
             // job has no unit, so no gateway may see it, and "unknown" and "not yours" look alike.

@@ -99,6 +99,7 @@ public final class ApiServer implements AutoCloseable {
         HandlerType get = HandlerType.GET;
         HandlerType post = HandlerType.POST;
         return List.of(
+                new Route(get, "/", Access.PUBLIC, service::index),
                 new Route(get, "/healthz", Access.PUBLIC, service::health),
                 new Route(get, "/readyz", Access.PUBLIC, service::ready),
                 new Route(get, "/metrics", Access.PUBLIC, service::metrics),
@@ -120,7 +121,7 @@ public final class ApiServer implements AutoCloseable {
                 new Route(post, "/v1/jobs/{jobId}/cancel", Access.JOB_OF_UNIT, jobs::cancel),
                 new Route(get, "/v1/estimates/{estimateId}", Access.READER, estimates::get),
                 new Route(get, "/v1/estimates/{estimateId}/series", Access.READER, estimates::series),
-                new Route(post, "/v1/regressions", Access.ADMIN, regressions::create),
+                new Route(post, "/v1/regressions", Access.PIPELINE, regressions::create),
                 new Route(get, "/v1/regressions", Access.READER, regressions::list),
                 new Route(get, "/v1/regressions/{regressionId}", Access.READER, regressions::get),
                 new Route(post, "/v1/regressions/{regressionId}/cancel", Access.ADMIN, regressions::cancel),

@@ -54,7 +54,7 @@ final class KeyRoutes {
     void create(Context ctx) throws Exception {
         NewKey body = read(ctx);
         Role role = Role.parse(body.role()).orElseThrow(() ->
-                ApiProblem.invalid("role", "got " + Params.quoted(body.role()) + ", expected admin, gateway or reader"));
+                ApiProblem.invalid("role", "got " + Params.quoted(body.role()) + ", expected " + Role.choices()));
         UnitPattern scope = scope(role, body.unitPattern());
         if (body.label() == null || !LABEL.matcher(body.label()).matches() || body.label().isBlank()) {
             throw ApiProblem.invalid("label", "expected 1-" + MAX_LABEL + " printable characters naming who holds the key");

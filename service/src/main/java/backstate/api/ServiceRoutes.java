@@ -1,24 +1,31 @@
 package backstate.api;
 
+import backstate.formats.EstimateCaution;
 import backstate.store.Store;
 import io.javalin.http.Context;
 import io.micrometer.prometheusmetrics.PrometheusMeterRegistry;
 import java.io.IOException;
 import java.io.InputStream;
 import java.io.UncheckedIOException;
+import java.nio.charset.StandardCharsets;
 import java.util.Map;
 import java.util.function.IntSupplier;
 
-/** Liveness, readiness, metrics and the OpenAPI document. */
+/** The start page, liveness, readiness, metrics and the OpenAPI document. */
 final class ServiceRoutes {
     /** The OpenAPI document on the class path (copied from openapi/ at build time). */
     static final String SPEC_RESOURCE = "/openapi/backstate.yaml";
+    /** The start page at {@code /}: what the service is, the caution, and links to the contract and the service routes. */
+    static final String INDEX_RESOURCE = "/index.html";
+    /** Where the start page takes the caution every estimate carries. */
+    static final String CAUTION_SLOT = "CAUTION";
 
     private final Store store;
     private final PrometheusMeterRegistry registry;
     private final IntSupplier queued;
     private final int jammedAt;
     private final byte[] spec;
+    private final String index;
 
     ServiceRoutes(Store store, PrometheusMeterRegistry registry, IntSupplier queued, int jammedAt) {
         this.store = store;
@@ -26,6 +33,11 @@ final class ServiceRoutes {
         this.queued = queued;
         this.jammedAt = jammedAt;
         this.spec = loadSpec();
+        this.index = new String(resource(INDEX_RESOURCE), StandardCharsets.UTF_8).replace(CAUTION_SLOT, EstimateCaution.TEXT);
+    }
+
+    void index(Context ctx) {
+        ctx.html(index);
     }
 
     void health(Context ctx) {
@@ -53,9 +65,13 @@ final class ServiceRoutes {
     }
 
     static byte[] loadSpec() {
-        try (InputStream in = ServiceRoutes.class.getResourceAsStream(SPEC_RESOURCE)) {
+        return resource(SPEC_RESOURCE);
+    }
+
+    private static byte[] resource(String name) {
+        try (InputStream in = ServiceRoutes.class.getResourceAsStream(name)) {
             if (in == null) {
-                throw new IllegalStateException("OpenAPI document " + SPEC_RESOURCE + " missing from the class path");
+                throw new IllegalStateException(name + " missing from the class path");
             }
             return in.readAllBytes();
         } catch (IOException e) {

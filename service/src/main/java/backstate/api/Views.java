@@ -1,6 +1,7 @@
 package backstate.api;
 
 import backstate.estimation.ObservabilityRank;
+import backstate.formats.EstimateCaution;
 import backstate.formats.EstimateDocument;
 import backstate.formats.FailureDetails;
 import backstate.formats.UnobservableDirection;
@@ -101,8 +102,7 @@ final class Views {
     }
 
     /** Shown with every estimate: what an estimate may and may not be used for. */
-    static final String CAUTION = "Estimates support, and never replace, calibrated measurements, local food-safety "
-            + "and other codes, and licensed professional practice.";
+    static final String CAUTION = EstimateCaution.TEXT;
 
     private static String text(java.time.Instant t) {
         return t == null ? null : t.toString();

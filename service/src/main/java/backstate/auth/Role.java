@@ -3,6 +3,7 @@ package backstate.auth;
 import java.util.Arrays;
 import java.util.Locale;
 import java.util.Optional;
+import java.util.stream.Collectors;
 
 /** What a key may do; the access rule of each route ({@code backstate.api.Access}) names which roles pass. */
 public enum Role {
@@ -11,9 +12,11 @@ public enum Role {
     /** Post traces and read the jobs they made, for units matching the key's pattern only. */
     GATEWAY,
     /** Read estimates, fleet views, regressions and models. */
-    READER;
+    READER,
+    /** For CI: start regression runs and read what a reader reads, except jobs; nothing else. */
+    PIPELINE;
 
-    /** The role as written in the API and the database: "admin", "gateway", "reader". */
+    /** The role as written in the API and the database: "admin", "gateway", "reader", "pipeline". */
     public String wireName() {
         return name().toLowerCase(Locale.ROOT);
     }
@@ -22,9 +25,16 @@ public enum Role {
         return Arrays.stream(values()).filter(r -> r.wireName().equals(wireName)).findFirst();
     }
 
-    /** For rows read back from the database, which only ever holds the three names. */
+    /** For rows read back from the database, whose CHECK admits only these names. */
     public static Role of(String wireName) {
         return parse(wireName).orElseThrow(() -> new IllegalArgumentException(
-                "got role '" + wireName + "', expected admin, gateway or reader"));
+                "got role '" + wireName + "', expected " + choices()));
+    }
+
+    /** The wire names for a message: "admin, gateway, reader or pipeline". */
+    public static String choices() {
+        String all = Arrays.stream(values()).map(Role::wireName).collect(Collectors.joining(", "));
+        int last = all.lastIndexOf(", ");
+        return all.substring(0, last) + " or " + all.substring(last + 2);
     }
 }

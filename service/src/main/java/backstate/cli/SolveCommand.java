@@ -1,6 +1,7 @@
 package backstate.cli;
 
 import backstate.formats.DocumentSolver;
+import backstate.formats.EstimateCaution;
 import backstate.formats.InputException;
 import backstate.formats.Json;
 import backstate.formats.Limits;
@@ -10,23 +11,40 @@ import backstate.formats.TraceOptions;
 import backstate.formats.TraceReader;
 import com.fasterxml.jackson.databind.ObjectMapper;
 import com.fasterxml.jackson.databind.SerializationFeature;
+import com.fasterxml.jackson.databind.node.ObjectNode;
+import java.io.IOException;
 import java.io.InputStream;
 import java.io.PrintStream;
 import java.nio.file.Files;
 import java.nio.file.Path;
 import java.util.LinkedHashMap;
 import java.util.Map;
+import java.util.Set;
 
 /**
  * Offline {@code solve}: reads a model file and a trace file (the API's own JSON/CSV formats) and
- * prints the estimate as JSON, through the same solver the service's jobs use.
- * Exit codes: 0 solved, 3 unobservable, 2 bad input.
+ * prints the estimate as JSON, with the caution the API sends beside every estimate, through the
+ * same solver the service's jobs use. Option flags override the matching fields of a JSON trace's
+ * {@code options} one by one; the fields no flag names (a prior among them) are kept.
+ * Exit codes: 0 solved (or {@code --help}), 3 unobservable, 2 bad input.
  */
 public final class SolveCommand {
+    static final int SOLVED = 0;
+    static final int BAD_INPUT = 2;
+    static final int UNOBSERVABLE = 3;
+    static final String USAGE = "usage: backstate solve --model FILE --trace FILE [--formulation sampled|continuous]"
+            + " [--offsets] [--reference-time SECONDS]";
+    private static final Set<String> VALUED_FLAGS = Set.of("model", "trace", "formulation", "reference-time");
+    private static final String SWITCH_OFFSETS = "offsets";
+
     private SolveCommand() {
     }
 
     public static int run(String[] args, PrintStream out, PrintStream err) {
+        if (Set.of(args).contains("--help") || Set.of(args).contains("-h")) {
+            out.println(USAGE);
+            return SOLVED;
+        }
         try {
             Map<String, String> flags = flags(args);
             ObjectMapper mapper = Json.mapper(Limits.DEFAULTS);
@@ -35,50 +53,58 @@ public final class SolveCommand {
             DocumentSolver.Outcome outcome = DocumentSolver.solve(model, trace, false, Limits.DEFAULTS);
             ObjectMapper pretty = mapper.copy().enable(SerializationFeature.INDENT_OUTPUT);
             if (outcome instanceof DocumentSolver.Outcome.Solved solved) {
-                out.println(pretty.writeValueAsString(solved.document()));
-                return 0;
+                ObjectNode estimate = pretty.valueToTree(solved.document());
+                estimate.put("caution", EstimateCaution.TEXT);
+                out.println(pretty.writeValueAsString(estimate));
+                return SOLVED;
             }
             DocumentSolver.Outcome.NotObservable u = (DocumentSolver.Outcome.NotObservable) outcome;
             out.println(pretty.writeValueAsString(Map.of("error", u.message(), "unobservableDirections", u.directions())));
-            return 3;
-        } catch (InputException | IllegalArgumentException e) {
+            return UNOBSERVABLE;
+        } catch (InputException | IllegalArgumentException | IOException e) {
             err.println("backstate solve: " + e.getMessage());
-            return 2;
-        } catch (java.io.IOException e) {
-            err.println("backstate solve: " + e.getMessage());
-            return 2;
+            return BAD_INPUT;
         }
     }
 
-    private static ParsedTrace readTrace(Path path, ModelDocument model, TraceOptions options) throws java.io.IOException {
+    /** The trace with the flags' options over its own (a CSV trace has none of its own). */
+    private static ParsedTrace readTrace(Path path, ModelDocument model, TraceOptions flagged) throws IOException {
         TraceReader reader = new TraceReader(Limits.DEFAULTS);
         try (InputStream in = Files.newInputStream(path)) {
             if (path.toString().endsWith(".json")) {
                 ParsedTrace parsed = reader.readJson(in, model);
-                return options == TraceOptions.NONE ? parsed : new ParsedTrace(parsed.trace(), options);
+                return new ParsedTrace(parsed.trace(), parsed.options().overriddenBy(flagged));
             }
-            return reader.readCsv(in, model, options);
+            return reader.readCsv(in, model, flagged);
         }
     }
 
-    private static TraceOptions options(Map<String, String> flags) {
-        if (!flags.containsKey("formulation") && !flags.containsKey("offsets") && !flags.containsKey("reference-time")) {
-            return TraceOptions.NONE;
+    /** The options the flags set; a field no flag names is null. */
+    static TraceOptions options(Map<String, String> flags) {
+        Double reference = null;
+        if (flags.containsKey("reference-time")) {
+            try {
+                reference = Double.valueOf(flags.get("reference-time"));
+            } catch (NumberFormatException e) {
+                throw new IllegalArgumentException("got --reference-time " + flags.get("reference-time")
+                        + ", expected a time in seconds");
+            }
         }
-        Double reference = flags.containsKey("reference-time") ? Double.valueOf(flags.get("reference-time")) : null;
-        return new TraceOptions(flags.get("formulation"), flags.containsKey("offsets") ? Boolean.TRUE : null, reference, null);
+        return new TraceOptions(flags.get("formulation"), flags.containsKey(SWITCH_OFFSETS) ? Boolean.TRUE : null,
+                reference, null);
     }
 
     private static Map<String, String> flags(String[] args) {
         Map<String, String> flags = new LinkedHashMap<>();
         for (int i = 0; i < args.length; i++) {
-            String a = args[i];
-            if (a.equals("--offsets")) {
-                flags.put("offsets", "true");
-            } else if (a.startsWith("--") && i + 1 < args.length) {
-                flags.put(a.substring(2), args[++i]);
+            String name = args[i].startsWith("--") ? args[i].substring(2) : "";
+            if (name.equals(SWITCH_OFFSETS)) {
+                flags.put(name, "true");
+            } else if (VALUED_FLAGS.contains(name) && i + 1 < args.length) {
+                flags.put(name, args[++i]);
             } else {
-                throw new IllegalArgumentException("got " + a + ", expected --model FILE --trace FILE [--formulation sampled|continuous] [--offsets] [--reference-time SECONDS]");
+                throw new IllegalArgumentException("got " + args[i] + (VALUED_FLAGS.contains(name) ? " without a value" : "")
+                        + ", expected " + USAGE.substring("usage: backstate solve ".length()));
             }
         }
         return flags;

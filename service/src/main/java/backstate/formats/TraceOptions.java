@@ -21,6 +21,14 @@ public record TraceOptions(String formulation, Boolean estimateOffsets, Double r
     public record PriorDocument(double[] mean, double[][] covariance) {
     }
 
+    /** These options with each field {@code override} sets taken from it, and the others (the prior among them) kept. */
+    public TraceOptions overriddenBy(TraceOptions override) {
+        return new TraceOptions(override.formulation != null ? override.formulation : formulation,
+                override.estimateOffsets != null ? override.estimateOffsets : estimateOffsets,
+                override.referenceTime != null ? override.referenceTime : referenceTime,
+                override.prior != null ? override.prior : prior);
+    }
+
     /** The engine's options; the prior's shape is checked against n. */
     public EstimationOptions toEstimationOptions(int states, boolean keepSeries) {
         EstimationOptions options = EstimationOptions.defaults().withKeepSeries(keepSeries)

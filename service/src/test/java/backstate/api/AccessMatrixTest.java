@@ -43,7 +43,7 @@ class AccessMatrixTest {
     static final Pattern PARAM = Pattern.compile("\\{([A-Za-z]+)}");
     static final Set<String> PROBLEM_FIELDS = Set.of("type", "title", "status", "detail");
 
-    enum Role { ADMIN, GATEWAY, READER }
+    enum Role { ADMIN, GATEWAY, READER, PIPELINE }
 
     /** A caller: its Authorization header, its role when the key is valid (null when not), and its units. */
     record Caller(String name, String authorization, Role role, Predicate<String> units) {
@@ -69,6 +69,7 @@ class AccessMatrixTest {
         AuthFixture.Key gatewayIn = AuthFixture.issue(server, "gateway", "RCX-1*", "gateway north");
         AuthFixture.Key gatewayOut = AuthFixture.issue(server, "gateway", "RCX-2*", "gateway south");
         AuthFixture.Key reader = AuthFixture.issue(server, "reader", null, "dashboard");
+        AuthFixture.Key pipeline = AuthFixture.issue(server, "pipeline", null, "release pipeline");
         AuthFixture.Key revoked = AuthFixture.issue(server, "admin", null, "former admin");
         AuthFixture.revoke(server, revoked.id());
         Predicate<String> none = unit -> false;
@@ -77,6 +78,7 @@ class AccessMatrixTest {
                 new Caller("gateway RCX-1*", "Bearer " + gatewayIn.text(), Role.GATEWAY, unit -> unit.startsWith("RCX-1")),
                 new Caller("gateway RCX-2*", "Bearer " + gatewayOut.text(), Role.GATEWAY, unit -> unit.startsWith("RCX-2")),
                 new Caller("reader", "Bearer " + reader.text(), Role.READER, none),
+                new Caller("pipeline", "Bearer " + pipeline.text(), Role.PIPELINE, none),
                 new Caller("no key", null, null, none),
                 new Caller("wrong secret", "Bearer bsk_" + ADMIN_ID + "_" + "f".repeat(64), null, none),
                 new Caller("malformed key", "Bearer not-a-key", null, none),
@@ -108,11 +110,13 @@ class AccessMatrixTest {
         }
         boolean admin = c.role() == Role.ADMIN;
         boolean reader = c.role() == Role.READER;
+        boolean pipeline = c.role() == Role.PIPELINE;
         boolean gatewayForSubject = c.role() == Role.GATEWAY && s.unitOrNull() != null && c.units().test(s.unitOrNull());
         boolean allowed = switch (access) {
             case PUBLIC, ANY_KEY -> true;
             case ADMIN -> admin;
-            case READER -> admin || reader;
+            case READER -> admin || reader || pipeline;
+            case PIPELINE -> admin || pipeline;
             case GATEWAY_FOR_UNIT -> admin || gatewayForSubject;
             case JOB_OF_UNIT -> admin || reader || gatewayForSubject;
         };
@@ -144,12 +148,19 @@ class AccessMatrixTest {
         // Spot checks of the restated rules themselves, so a slip in expected() cannot hide one in the guard.
         Caller gateway = callers.get(1);
         Caller reader = callers.get(3);
+        Caller pipeline = callers.get(4);
         assertEquals(0, expected(Access.GATEWAY_FOR_UNIT, gateway, units.get(0)));
         assertEquals(403, expected(Access.GATEWAY_FOR_UNIT, gateway, units.get(1)));
         assertEquals(403, expected(Access.JOB_OF_UNIT, gateway, jobs.get(2)));
         assertEquals(0, expected(Access.JOB_OF_UNIT, reader, jobs.get(2)));
         assertEquals(403, expected(Access.ADMIN, reader, units.get(0)));
-        assertEquals(401, expected(Access.ANY_KEY, callers.get(7), units.get(0)));
+        assertEquals(401, expected(Access.ANY_KEY, callers.get(8), units.get(0)));
+        assertEquals(0, expected(Access.PIPELINE, pipeline, units.get(0)));
+        assertEquals(403, expected(Access.PIPELINE, reader, units.get(0)));
+        assertEquals(0, expected(Access.READER, pipeline, units.get(0)));
+        assertEquals(403, expected(Access.JOB_OF_UNIT, pipeline, jobs.get(0)));
+        assertEquals(403, expected(Access.ADMIN, pipeline, units.get(0)));
+        assertEquals(403, expected(Access.GATEWAY_FOR_UNIT, pipeline, units.get(0)));
     }
 
     @TestFactory

@@ -28,7 +28,7 @@ class BadRegressionRequestsTest {
     void start(@TempDir Path dir) throws Exception {
         server = new TestServer(dir);
         db = dir.resolve("test.db");
-        new DemoLoader(server.base(), DemoVersions.DEMO).load();
+        new DemoLoader(server.base()).load();
         TestServer.Reply r = server.postJson("/v1/models/reefer-40/versions", DemoVersions.v1WithOutputRenamed(server.mapper));
         assertEquals(201, r.status(), r.body());
         outputRenamed = r.json().get("version").asInt();

@@ -25,7 +25,7 @@ class FleetDocExamplesTest {
         List<String> commands = ReadmeExamplesTest.curlCommands(Files.readString(REPO.resolve("docs/fleet-and-planning.md")));
         assertTrue(commands.size() >= 7, "found only " + commands.size() + " examples");
         try (TestServer server = new TestServer(dir)) {
-            new DemoLoader(server.base(), TestServer.TEST_DATA.resolve("demo")).load();
+            new DemoLoader(server.base()).load();
             awaitFleetSolved(server);
             for (String command : commands) {
                 String out = DocExamples.run(command, server.base());

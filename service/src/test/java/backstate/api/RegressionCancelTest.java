@@ -60,7 +60,7 @@ class RegressionCancelTest {
                 new PrometheusMeterRegistry(PrometheusConfig.DEFAULT), Limits.DEFAULTS, Settings.DEFAULT_MAX_BODY,
                 10_000, store::queuedCount, () -> { })).start("127.0.0.1", 0);
         base = "http://127.0.0.1:" + api.port();
-        new DemoLoader(base, DemoVersions.DEMO).load(); // 20 traces; their estimate jobs stay queued
+        new DemoLoader(base).load(); // 20 traces; their estimate jobs stay queued
     }
 
     @AfterEach

@@ -4,7 +4,7 @@ import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
 import backstate.cli.DemoLoader;
-import backstate.cli.RegressCommand;
+import backstate.cli.CompareVersionsCommand;
 import java.io.ByteArrayOutputStream;
 import java.io.PrintStream;
 import java.nio.charset.StandardCharsets;
@@ -18,7 +18,7 @@ import org.junit.jupiter.api.io.TempDir;
 
 /**
  * Runs docs/regressions.md's examples against a real server with the demo fleet: every curl
- * command with real curl (exit 0, below 400 through --fail-with-body), and the regress command
+ * command with real curl (exit 0, below 400 through --fail-with-body), and the compare-versions command
  * in-process with the documented flags, whose summary must read as the page shows it.
  */
 class RegressionDocsExamplesTest {
@@ -31,7 +31,7 @@ class RegressionDocsExamplesTest {
         List<String> curls = blocks.get(0);
         assertTrue(curls.size() >= 5, "found only " + curls.size() + " curl examples");
         try (TestServer server = new TestServer(dir)) {
-            new DemoLoader(server.base(), TestServer.TEST_DATA.resolve("demo")).load();
+            new DemoLoader(server.base()).load();
             String runId = null;
             for (String command : curls) {
                 if (command.contains("/cancel")) {
@@ -44,10 +44,11 @@ class RegressionDocsExamplesTest {
             }
 
             String cli = blocks.get(1).get(0);
-            List<String> args = new ArrayList<>(Arrays.asList(cli.substring(cli.indexOf(" regress ") + 9).split(" +")));
+            String name = " " + CompareVersionsCommand.NAME + " ";
+            List<String> args = new ArrayList<>(Arrays.asList(cli.substring(cli.indexOf(name) + name.length()).split(" +")));
             args.set(args.indexOf("--server") + 1, server.base());
             ByteArrayOutputStream out = new ByteArrayOutputStream();
-            int exit = RegressCommand.run(args.toArray(String[]::new), new PrintStream(out, true, StandardCharsets.UTF_8),
+            int exit = CompareVersionsCommand.run(args.toArray(String[]::new), new PrintStream(out, true, StandardCharsets.UTF_8),
                     new PrintStream(new ByteArrayOutputStream(), true, StandardCharsets.UTF_8));
             String printed = out.toString(StandardCharsets.UTF_8);
             assertEquals(1, exit, printed);

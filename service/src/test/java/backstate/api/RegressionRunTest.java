@@ -54,7 +54,7 @@ class RegressionRunTest {
     @BeforeAll
     void start(@TempDir Path dir) throws Exception {
         server = new TestServer(dir);
-        new DemoLoader(server.base(), DemoVersions.DEMO).load();
+        new DemoLoader(server.base()).load();
         fleet = server.mapper.readTree(DemoVersions.DEMO.resolve("fleet.json").toFile());
         copyOfV1 = publish(DemoVersions.v1(server.mapper));
         statesRenamed = publish(DemoVersions.v1WithStateRenamed(server.mapper));

@@ -17,12 +17,16 @@ import java.util.Map;
 import java.util.Set;
 
 /**
- * {@code regress}: starts a model-version regression run on a server over HTTP, shows its
- * progress, prints the summary, and exits with the verdict, for CI pipelines.
+ * {@code compare-versions}: asks a server to compare a candidate model version with a baseline
+ * over stored traces (a regression run, {@code POST /v1/regressions}), shows its progress,
+ * prints the summary, and exits with the verdict, for CI pipelines. It needs an admin or
+ * pipeline key when the server has keys on.
  * Exit codes: 0 pass, 1 fail, 2 bad input or server unreachable, 3 no verdict (the run failed
- * or was cancelled on the server).
+ * or was cancelled on the server). {@code --help} prints the usage and exits 0.
  */
-public final class RegressCommand {
+public final class CompareVersionsCommand {
+    /** The command's name on the command line. */
+    public static final String NAME = "compare-versions";
     static final int PASS = 0;
     static final int FAIL = 1;
     static final int BAD_INPUT = 2;
@@ -35,7 +39,7 @@ public final class RegressCommand {
 
     private static final Set<String> FLAGS = Set.of("server", "family", "baseline", "candidate", "units", "latest",
             "received-from", "received-to", "tolerance-chi2", "tolerance-share", "tolerance-x0", "api-key");
-    private static final String USAGE = "usage: backstate regress --server URL --family F --baseline N --candidate M"
+    static final String USAGE = "usage: backstate " + NAME + " --server URL --family F --baseline N --candidate M"
             + " [--units A,B,... | --latest K] [--received-from T] [--received-to T] [--tolerance-chi2 X]"
             + " [--tolerance-share S] [--tolerance-x0 K] [--api-key KEY]";
 
@@ -46,7 +50,7 @@ public final class RegressCommand {
     private final String server;
     private final String key;
 
-    private RegressCommand(PrintStream out, PrintStream err, String server, String key) {
+    private CompareVersionsCommand(PrintStream out, PrintStream err, String server, String key) {
         this.out = out;
         this.err = err;
         this.server = server.endsWith("/") ? server.substring(0, server.length() - 1) : server;
@@ -54,27 +58,30 @@ public final class RegressCommand {
     }
 
     public static int run(String[] args, PrintStream out, PrintStream err) {
+        if (Arrays.asList(args).contains("--help") || Arrays.asList(args).contains("-h")) {
+            out.println(USAGE);
+            return PASS;
+        }
         Map<String, String> flags;
         Map<String, Object> request;
         try {
             flags = flags(args);
             request = request(flags);
         } catch (IllegalArgumentException e) {
-            err.println("backstate regress: " + e.getMessage());
-            err.println(USAGE);
+            err.println("backstate " + NAME + ": " + e.getMessage() + " (--help for usage)");
             return BAD_INPUT;
         }
         String key = flags.getOrDefault("api-key", System.getenv(KEY_VARIABLE));
-        RegressCommand command = new RegressCommand(out, err, flags.get("server"), key);
+        CompareVersionsCommand command = new CompareVersionsCommand(out, err, flags.get("server"), key);
         try {
             return command.startAndFollow(request);
         } catch (IOException | IllegalArgumentException e) {
-            err.println("backstate regress: cannot reach " + flags.get("server") + ": "
+            err.println("backstate " + NAME + ": cannot reach " + flags.get("server") + ": "
                     + (e.getMessage() == null ? e.getClass().getSimpleName() : e.getMessage()));
             return BAD_INPUT;
         } catch (InterruptedException e) {
             Thread.currentThread().interrupt();
-            err.println("backstate regress: interrupted; the run goes on on the server");
+            err.println("backstate " + NAME + ": interrupted; the run goes on on the server");
             return NO_VERDICT;
         }
     }
@@ -89,7 +96,7 @@ public final class RegressCommand {
         }
         JsonNode run = mapper.readTree(started.body());
         String id = run.get("id").asText();
-        out.printf(Locale.ROOT, "regression %s: %s version %d -> %d over %d traces%n", id, run.get("family").asText(),
+        out.printf(Locale.ROOT, "comparison %s: %s version %d -> %d over %d traces%n", id, run.get("family").asText(),
                 run.get("baseline").asInt(), run.get("candidate").asInt(), run.path("progress").path("total").asInt());
         String shown = "";
         while (!finished(run)) {
@@ -151,7 +158,7 @@ public final class RegressCommand {
     }
 
     private void printProblem(String what, HttpResponse<String> response) {
-        err.println("backstate regress: " + what + " (HTTP " + response.statusCode() + ")");
+        err.println("backstate " + NAME + ": " + what + " (HTTP " + response.statusCode() + ")");
         try {
             JsonNode problem = mapper.readTree(response.body());
             if (problem.path("errors").isEmpty()) {

@@ -4,10 +4,7 @@ import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
 import backstate.api.TestServer;
-import java.io.ByteArrayOutputStream;
-import java.io.PrintStream;
 import java.net.ServerSocket;
-import java.nio.charset.StandardCharsets;
 import java.nio.file.Files;
 import java.nio.file.Path;
 import org.junit.jupiter.api.AfterAll;
@@ -17,12 +14,12 @@ import org.junit.jupiter.api.TestInstance;
 import org.junit.jupiter.api.io.TempDir;
 
 /**
- * {@code backstate regress} in-process against a real server with the demo fleet: its exit code
+ * {@code backstate compare-versions} in-process against a real server with the demo fleet: its exit code
  * is the verdict. v2 fits the stepped-cooling units far worse (χ²/dof 15-63 against ~1 under v1,
  * test-data/demo/README.md), a republished copy of v1 fits exactly as v1 does.
  */
 @TestInstance(TestInstance.Lifecycle.PER_CLASS)
-class RegressCommandTest {
+class CompareVersionsCommandTest {
     static final Path DEMO = TestServer.TEST_DATA.resolve("demo");
 
     TestServer server;
@@ -31,7 +28,7 @@ class RegressCommandTest {
     @BeforeAll
     void start(@TempDir Path dir) throws Exception {
         server = new TestServer(dir);
-        new DemoLoader(server.base(), DEMO).load();
+        new DemoLoader(server.base()).load();
         TestServer.Reply r = server.post("/v1/models/reefer-40/versions", "application/json",
                 Files.readAllBytes(DEMO.resolve("models/reefer-40.v1.json")));
         assertEquals(201, r.status(), r.body());
@@ -43,22 +40,15 @@ class RegressCommandTest {
         server.close();
     }
 
-    record Run(int exit, String out, String err) {
-    }
-
-    static Run regress(String... args) {
-        ByteArrayOutputStream out = new ByteArrayOutputStream();
-        ByteArrayOutputStream err = new ByteArrayOutputStream();
-        int exit = RegressCommand.run(args, new PrintStream(out, true, StandardCharsets.UTF_8),
-                new PrintStream(err, true, StandardCharsets.UTF_8));
-        return new Run(exit, out.toString(StandardCharsets.UTF_8), err.toString(StandardCharsets.UTF_8));
+    static CommandRun compareVersions(String... args) {
+        return CommandRun.of(CompareVersionsCommand::run, args);
     }
 
     @Test
     void v1_against_v2_exits_1_and_names_the_worse_units() {
-        Run run = regress("--server", server.base(), "--family", "reefer-40", "--baseline", "1", "--candidate", "2",
+        CommandRun run = compareVersions("--server", server.base(), "--family", "reefer-40", "--baseline", "1", "--candidate", "2",
                 "--latest", "1", "--tolerance-chi2", "1");
-        assertEquals(RegressCommand.FAIL, run.exit(), run.out() + run.err());
+        assertEquals(CompareVersionsCommand.FAIL, run.exit(), run.out() + run.err());
         assertTrue(run.out().contains("20/20 traces"), run.out());
         assertTrue(run.out().contains("FAIL (rule worse-share): 11 of 20 compared units are worse beyond tolerance"),
                 run.out());
@@ -68,30 +58,30 @@ class RegressCommandTest {
 
     @Test
     void v1_against_its_republished_copy_exits_0() {
-        Run run = regress("--server", server.base(), "--family", "reefer-40", "--baseline", "1",
+        CommandRun run = compareVersions("--server", server.base(), "--family", "reefer-40", "--baseline", "1",
                 "--candidate", Integer.toString(copyOfV1), "--units", "RCX-85159,RCX-24000", "--tolerance-x0", "0");
-        assertEquals(RegressCommand.PASS, run.exit(), run.out() + run.err());
+        assertEquals(CompareVersionsCommand.PASS, run.exit(), run.out() + run.err());
         assertTrue(run.out().contains("PASS (rule worse-share): 0 of 2 compared units"), run.out());
         assertTrue(run.out().contains("delta chi2/dof per unit: median +0.0000, p95 +0.0000"), run.out());
     }
 
     @Test
     void bad_input_exits_2_with_the_servers_reason() {
-        Run same = regress("--server", server.base(), "--family", "reefer-40", "--baseline", "1", "--candidate", "1");
-        assertEquals(RegressCommand.BAD_INPUT, same.exit());
+        CommandRun same = compareVersions("--server", server.base(), "--family", "reefer-40", "--baseline", "1", "--candidate", "1");
+        assertEquals(CompareVersionsCommand.BAD_INPUT, same.exit());
         assertTrue(same.err().contains("candidate: got 1, the same as baseline"), same.err());
 
-        Run unknown = regress("--server", server.base(), "--family", "reefer-40", "--baseline", "1", "--candidate", "99");
-        assertEquals(RegressCommand.BAD_INPUT, unknown.exit());
+        CommandRun unknown = compareVersions("--server", server.base(), "--family", "reefer-40", "--baseline", "1", "--candidate", "99");
+        assertEquals(CompareVersionsCommand.BAD_INPUT, unknown.exit());
         assertTrue(unknown.err().contains("HTTP 422"), unknown.err());
 
-        Run flags = regress("--server", server.base(), "--family", "reefer-40", "--baseline", "one", "--candidate", "2");
-        assertEquals(RegressCommand.BAD_INPUT, flags.exit());
+        CommandRun flags = compareVersions("--server", server.base(), "--family", "reefer-40", "--baseline", "one", "--candidate", "2");
+        assertEquals(CompareVersionsCommand.BAD_INPUT, flags.exit());
         assertTrue(flags.err().contains("got --baseline one, expected a whole number"), flags.err());
 
-        Run both = regress("--server", server.base(), "--family", "reefer-40", "--baseline", "1", "--candidate", "2",
+        CommandRun both = compareVersions("--server", server.base(), "--family", "reefer-40", "--baseline", "1", "--candidate", "2",
                 "--units", "RCX-85159", "--latest", "1");
-        assertEquals(RegressCommand.BAD_INPUT, both.exit());
+        assertEquals(CompareVersionsCommand.BAD_INPUT, both.exit());
     }
 
     @Test
@@ -100,9 +90,9 @@ class RegressCommandTest {
         try (ServerSocket socket = new ServerSocket(0)) {
             closedPort = socket.getLocalPort();
         }
-        Run run = regress("--server", "http://127.0.0.1:" + closedPort, "--family", "reefer-40", "--baseline", "1",
+        CommandRun run = compareVersions("--server", "http://127.0.0.1:" + closedPort, "--family", "reefer-40", "--baseline", "1",
                 "--candidate", "2");
-        assertEquals(RegressCommand.BAD_INPUT, run.exit());
+        assertEquals(CompareVersionsCommand.BAD_INPUT, run.exit());
         assertTrue(run.err().contains("cannot reach http://127.0.0.1:" + closedPort), run.err());
     }
 }

@@ -1,0 +1,52 @@
+package backstate.store;
+
+import java.nio.file.Files;
+import java.nio.file.Path;
+import java.util.function.Predicate;
+
+/**
+ * The database path checked before SQLite opens it, so a start on a path the service cannot use
+ * stops with the reason in words instead of SQLite's "unable to open database file". SQLite keeps
+ * its {@code -wal} and {@code -shm} files beside the database, so the folder must be writable too.
+ */
+public final class DatabaseFile {
+    private DatabaseFile() {
+    }
+
+    /** The absolute path, when the service can create or write the file; otherwise throws naming why. */
+    public static Path usable(Path file) {
+        return usable(file, Files::isWritable);
+    }
+
+    /**
+     * As {@link #usable(Path)}, with the file system's answer to "may this process write here?"
+     * given (tests stand in for a read-only file system, which root cannot otherwise be refused).
+     *
+     * @throws IllegalArgumentException naming the path and what is wrong with it
+     */
+    static Path usable(Path file, Predicate<Path> writable) {
+        Path path = file.toAbsolutePath().normalize();
+        Path folder = path.getParent();
+        if (Files.isDirectory(path)) {
+            throw refused(path, "is a folder, expected a file");
+        }
+        if (folder == null || !Files.exists(folder)) {
+            throw refused(path, "its folder " + folder + " does not exist");
+        }
+        if (!Files.isDirectory(folder)) {
+            throw refused(path, folder + " is not a folder");
+        }
+        if (Files.exists(path) && !writable.test(path)) {
+            throw refused(path, "the file is not writable (read-only file system or file permissions)");
+        }
+        if (!writable.test(folder)) {
+            throw refused(path, "its folder " + folder + " is not writable (read-only file system or folder"
+                    + " permissions); SQLite writes its -wal and -shm files there");
+        }
+        return path;
+    }
+
+    private static IllegalArgumentException refused(Path path, String why) {
+        return new IllegalArgumentException("database " + path + ": " + why);
+    }
+}

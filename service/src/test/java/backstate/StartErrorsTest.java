@@ -1,0 +1,155 @@
+package backstate;
+
+import static org.junit.jupiter.api.Assertions.assertEquals;
+import static org.junit.jupiter.api.Assertions.assertFalse;
+import static org.junit.jupiter.api.Assertions.assertThrows;
+import static org.junit.jupiter.api.Assertions.assertTrue;
+
+import backstate.config.Settings;
+import java.io.IOException;
+import java.net.InetAddress;
+import java.net.ServerSocket;
+import java.nio.charset.StandardCharsets;
+import java.nio.file.Files;
+import java.nio.file.Path;
+import java.util.ArrayList;
+import java.util.List;
+import java.util.Map;
+import java.util.concurrent.TimeUnit;
+import java.util.regex.Matcher;
+import java.util.regex.Pattern;
+import org.junit.jupiter.api.Test;
+import org.junit.jupiter.api.io.TempDir;
+
+/**
+ * The command line as a user meets it: {@code backstate.App} in a child process from the test
+ * class path (the jar's code; surefire runs before the jar is packaged), its exit code and its
+ * stderr read whole. A refused start says why in one line starting "backstate COMMAND:", and
+ * nothing on stderr looks like a stack trace. (The read-only file system case, which needs a
+ * mount, is in DatabaseTroubleTest.)
+ */
+class StartErrorsTest {
+    /** JVM start and a refused start take a second or two; this only bounds a hung child. */
+    static final long CHILD_TIMEOUT_SECONDS = 60;
+
+    @TempDir
+    Path dir;
+
+    record Run(int exit, String out, String err) {
+        /** The lines the command itself wrote to stderr (log lines carry a timestamp and a level). */
+        List<String> ownErrorLines() {
+            return err.lines().filter(line -> line.startsWith("backstate")).toList();
+        }
+    }
+
+    Run backstate(String... args) throws IOException, InterruptedException {
+        List<String> command = new ArrayList<>(List.of(Path.of(System.getProperty("java.home"), "bin", "java").toString(),
+                "-Xmx128m", "-cp", System.getProperty("java.class.path"), "backstate.App"));
+        command.addAll(List.of(args));
+        Path out = dir.resolve("out.txt");
+        Path err = dir.resolve("err.txt");
+        ProcessBuilder builder = new ProcessBuilder(command).directory(dir.toFile())
+                .redirectOutput(out.toFile()).redirectError(err.toFile());
+        builder.environment().keySet().removeIf(name -> name.startsWith("BACKSTATE_"));
+        Process process = builder.start();
+        if (!process.waitFor(CHILD_TIMEOUT_SECONDS, TimeUnit.SECONDS)) {
+            process.destroyForcibly().waitFor();
+            throw new AssertionError("backstate " + String.join(" ", args) + " did not exit: " + Files.readString(err));
+        }
+        return new Run(process.exitValue(), Files.readString(out, StandardCharsets.UTF_8),
+                Files.readString(err, StandardCharsets.UTF_8));
+    }
+
+    /** Asserts the exit code, one line of the command's own on stderr, and no stack trace; returns that line. */
+    static String oneLine(Run run, int exit) {
+        assertEquals(exit, run.exit(), run.err());
+        assertEquals(1, run.ownErrorLines().size(), run.err());
+        assertFalse(run.err().contains("\tat ") || run.err().contains("Exception"), "a stack trace: " + run.err());
+        return run.ownErrorLines().get(0);
+    }
+
+    @Test
+    void help_lists_the_commands_on_stdout_and_exits_0() throws Exception {
+        for (String help : new String[] {"--help", "help", "-h"}) {
+            Run run = backstate(help);
+            assertEquals(0, run.exit(), run.err());
+            assertEquals(Launcher.USAGE + System.lineSeparator(), run.out());
+            assertEquals("", run.err());
+        }
+    }
+
+    @Test
+    void demo_help_and_serve_help_print_the_flags_and_exit_0() throws Exception {
+        for (String command : new String[] {"demo", "serve"}) {
+            Run run = backstate(command, "--help");
+            assertEquals(0, run.exit(), run.err());
+            assertTrue(run.out().startsWith("usage: backstate " + command + " [FLAGS]"), run.out());
+            assertTrue(run.out().contains("--database FILE") && run.out().contains("--auth on|off"), run.out());
+            assertEquals("", run.err());
+        }
+    }
+
+    @Test
+    void the_old_name_of_compare_versions_still_works_with_a_one_line_notice() throws Exception {
+        Run run = backstate("regress", "--help");
+        assertEquals(0, run.exit(), run.err());
+        assertTrue(run.out().startsWith("usage: backstate compare-versions --server URL"), run.out());
+        assertEquals("backstate: 'regress' is now called 'compare-versions'; the old name will be removed"
+                + System.lineSeparator(), run.err());
+    }
+
+    @Test
+    void the_service_usage_names_every_setting_flag() {
+        String refusal = assertThrows(IllegalArgumentException.class,
+                () -> Settings.from(new String[] {"--no-such-flag", "1"}, Map.of())).getMessage();
+        Matcher flag = Pattern.compile("(--[a-z-]+) VALUE").matcher(refusal);
+        int flags = 0;
+        while (flag.find()) {
+            assertTrue(Launcher.SERVICE_FLAGS.contains("  " + flag.group(1) + " "), flag.group(1) + " in the usage");
+            flags++;
+        }
+        assertEquals(8, flags, refusal);
+    }
+
+    @Test
+    void an_unknown_flag_is_one_line_naming_it_and_exits_2() throws Exception {
+        Run run = backstate("serve", "--databse", "x.db");
+        assertEquals("backstate serve: got flag --databse, expected one of --host VALUE,"
+                + " --port VALUE, --database VALUE, --workers VALUE, --max-body-bytes VALUE, --max-queued VALUE,"
+                + " --max-samples VALUE, --auth VALUE (--help for usage)", oneLine(run, Launcher.BAD_COMMAND_LINE));
+    }
+
+    @Test
+    void an_unknown_command_is_one_line_and_exits_2() throws Exception {
+        assertEquals("backstate: got command estimate, expected serve, demo, solve, compare-versions or help",
+                oneLine(backstate("estimate"), Launcher.BAD_COMMAND_LINE));
+    }
+
+    @Test
+    void a_database_path_under_a_file_is_one_line_naming_it_and_exits_1() throws Exception {
+        Path file = Files.writeString(dir.resolve("plain-file"), "not a folder");
+        Path database = file.resolve("backstate.db");
+        assertEquals("backstate serve: cannot start: database " + database + ": " + file + " is not a folder",
+                oneLine(backstate("serve", "--port", "0", "--database", database.toString()), Launcher.START_FAILED));
+    }
+
+    @Test
+    void a_file_that_is_not_a_database_is_one_line_naming_it_and_exits_1() throws Exception {
+        Path database = Files.writeString(dir.resolve("notes.db"), "these are notes, not a database\n".repeat(100));
+        String line = oneLine(backstate("demo", "--port", "0", "--database", database.toString()), Launcher.START_FAILED);
+        assertTrue(line.startsWith("backstate demo: cannot start: database " + database + ": ") && line.contains("not a database"),
+                line);
+    }
+
+    @Test
+    void a_port_in_use_is_one_line_and_exits_1() throws Exception {
+        try (ServerSocket taken = new ServerSocket(0, 1, InetAddress.getLoopbackAddress())) {
+            int port = taken.getLocalPort();
+            Run run = backstate("serve", "--auth", "off", "--host", "127.0.0.1", "--port", Integer.toString(port),
+                    "--database", dir.resolve("b.db").toString());
+            String line = oneLine(run, Launcher.START_FAILED);
+            assertTrue(line.startsWith("backstate serve: cannot start: Port already in use") && line.contains(" " + port + " "),
+                    line);
+        }
+    }
+}
