@@ -73,9 +73,7 @@ class ContinuousCoverageTest {
                 .withKeepSeries(false);
 
         int draws = noise.size();
-        double[] sum = new double[n];
-        double[] squares = new double[n];
-        int[] covered = new int[n];
+        Coverage coverage = new Coverage(truth);
         double chiSquarePerDof = 0.0;
         int flagged = 0;
         Estimate first = null;
@@ -86,26 +84,13 @@ class ContinuousCoverageTest {
                 assertCloseNormwise(flat(s.get("expected").get("covariance")), Matrices.block(e.covariance(),
                         e.solution().length, 0, 0, n, n), CLOSED_FORM_RELATIVE, name + ": covariance vs numpy K Σ Kᵀ");
             }
-            for (int i = 0; i < n; i++) {
-                double error = e.solution()[i] - truth[i];
-                sum[i] += error;
-                squares[i] += error * error;
-                if (e.intervalLower()[i] <= truth[i] && truth[i] <= e.intervalUpper()[i]) {
-                    covered[i]++;
-                }
-            }
+            coverage.add(e.solution(), e.intervalLower(), e.intervalUpper());
             chiSquarePerDof += e.chiSquare() / e.degreesOfFreedom() / draws;
             if (e.flags().contains(Flag.MODEL_MISMATCH)) {
                 flagged++;
             }
         }
-        for (int i = 0; i < n; i++) {
-            double mean = sum[i] / draws;
-            double spread = Math.sqrt((squares[i] - draws * mean * mean) / (draws - 1));
-            double reported = first.standardErrors()[i];
-            assertEquals(1.0, spread / reported, SPREAD_BAND, name + ": empirical spread / reported SE of x0[" + i + "]");
-            assertEquals(0.95, covered[i] / (double) draws, COVERAGE_BAND, name + ": 95 % interval coverage of x0[" + i + "]");
-        }
+        coverage.check(first.standardErrors(), name + ": x0");
         double band = CHI_SQUARE_SIGMAS * Math.sqrt(2.0 / (first.degreesOfFreedom() * (double) draws));
         assertEquals(1.0, chiSquarePerDof, band, name + ": mean χ²/dof on the per-sample noise scale");
         assertTrue(flagged <= MAX_MISMATCH_FLAGS, name + ": model_mismatch on " + flagged + " of " + draws + " healthy draws");
@@ -123,17 +108,13 @@ class ContinuousCoverageTest {
         for (Formulation formulation : Formulation.values()) {
             String name = s.get("name").asText() + " " + formulation;
             StateSpaceModel model = EstimateCases.model(s.get("model"));
-            int n = model.states();
             double[] truth = vector(s.get("endState"));
             double[] clean = flat(s.get("noiseFreeOutputs"));
             JsonNode noise = s.get("noise");
             EstimationOptions options = EstimationOptions.defaults().withFormulation(formulation).withKeepSeries(false);
-            int draws = noise.size();
-            double[] sum = new double[n];
-            double[] squares = new double[n];
-            int[] covered = new int[n];
+            Coverage coverage = new Coverage(truth);
             Estimate.StateAt first = null;
-            for (int d = 0; d < draws; d++) {
+            for (int d = 0; d < noise.size(); d++) {
                 double[] y = outputs(clean, noise.get(d), model.defaultNoiseSigma(), s.get("missing"), model.outputs(),
                         s.get("noiseScale").asDouble());
                 Estimate.StateAt end = solve(s, model, y, options).windowEnd();
@@ -143,21 +124,46 @@ class ContinuousCoverageTest {
                     assertCloseNormwise(flat(s.get("expected").get("endCovariance").get(key)), end.covariance(),
                             CLOSED_FORM_RELATIVE, name + ": window-end covariance vs numpy Φ P Φᵀ");
                 }
-                for (int i = 0; i < n; i++) {
-                    double error = end.state()[i] - truth[i];
-                    sum[i] += error;
-                    squares[i] += error * error;
-                    if (end.lower()[i] <= truth[i] && truth[i] <= end.upper()[i]) {
-                        covered[i]++;
-                    }
+                coverage.add(end.state(), end.lower(), end.upper());
+            }
+            coverage.check(first.standardErrors(), name + ": x(t_N)");
+        }
+    }
+
+    /** Errors of repeated estimates of a known truth: their spread, and how often the intervals hold the truth. */
+    private static final class Coverage {
+        private final double[] truth;
+        private final double[] sum;
+        private final double[] squares;
+        private final int[] covered;
+        private int draws;
+
+        Coverage(double[] truth) {
+            this.truth = truth;
+            this.sum = new double[truth.length];
+            this.squares = new double[truth.length];
+            this.covered = new int[truth.length];
+        }
+
+        void add(double[] estimate, double[] lower, double[] upper) {
+            for (int i = 0; i < truth.length; i++) {
+                double error = estimate[i] - truth[i];
+                sum[i] += error;
+                squares[i] += error * error;
+                if (lower[i] <= truth[i] && truth[i] <= upper[i]) {
+                    covered[i]++;
                 }
             }
-            for (int i = 0; i < n; i++) {
+            draws++;
+        }
+
+        /** Spread within ±10 % of the reported standard errors, coverage 95 ± 2 %. */
+        void check(double[] reported, String what) {
+            for (int i = 0; i < truth.length; i++) {
                 double mean = sum[i] / draws;
                 double spread = Math.sqrt((squares[i] - draws * mean * mean) / (draws - 1));
-                assertEquals(1.0, spread / first.standardErrors()[i], SPREAD_BAND,
-                        name + ": empirical spread / reported SE of x(t_N)[" + i + "]");
-                assertEquals(0.95, covered[i] / (double) draws, COVERAGE_BAND, name + ": coverage of x(t_N)[" + i + "]");
+                assertEquals(1.0, spread / reported[i], SPREAD_BAND, what + "[" + i + "]: empirical spread / reported SE");
+                assertEquals(0.95, covered[i] / (double) draws, COVERAGE_BAND, what + "[" + i + "]: 95 % interval coverage");
             }
         }
     }

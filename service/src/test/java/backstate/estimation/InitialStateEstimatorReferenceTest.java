@@ -165,34 +165,28 @@ class InitialStateEstimatorReferenceTest {
     @MethodSource("referenceTimeCases")
     void reference_state_matches_propagated_estimate(Case c) {
         Estimate e = c.solveExpectingEstimate();
-        JsonNode x = c.expected().get("reference");
-        Estimate.StateAt r = e.reference();
-        assertNotNull(r, c + " reference state");
-        assertEquals(x.get("time").asDouble(), r.time(), 0.0, c + " reference time");
+        assertNotNull(e.reference(), c + " reference state");
         // x(t_ref) = Φ(t_ref − t0) x̂0 + forced response with the input held from the last sample ≤ t_ref;
         // Φ from scipy.linalg.expm, hold from expm([[A, B], [0, 0]] h).
-        assertCloseNormwise(vector(x.get("state")), r.state(), c.tolerance("reference"), c + " reference state");
-        assertCloseNormwise(flat(x.get("covariance")), r.covariance(), c.tolerance("covariance"),
-                c + " reference covariance Φ P Φ'");
-        assertCloseNormwise(vector(x.get("standardErrors")), r.standardErrors(), c.tolerance("covariance"),
-                c + " reference standard errors");
-        assertIntervalsFollowTheRuleOfX0(c, e, r.state(), r.standardErrors(), r.lower(), r.upper(), "reference");
+        assertStateMatches(c, e, c.expected().get("reference"), e.reference(), "reference");
     }
 
     @ParameterizedTest(name = "{0}")
     @MethodSource("solvedCases")
     void window_end_state_matches_numpy_propagation(Case c) {
         Estimate e = c.solveExpectingEstimate();
-        JsonNode x = c.expected().get("windowEnd");
-        Estimate.StateAt end = e.windowEnd();
-        assertEquals(x.get("time").asDouble(), end.time(), 0.0, c + " window end time");
         // x(t_N) = Φ(t_N − t0) x̂0 + forced response; Cov = Φ P Φ' (numpy, scipy.linalg.expm).
-        assertCloseNormwise(vector(x.get("state")), end.state(), c.tolerance("reference"), c + " window end state");
-        assertCloseNormwise(flat(x.get("covariance")), end.covariance(), c.tolerance("covariance"),
-                c + " window end covariance Φ P Φ'");
-        assertCloseNormwise(vector(x.get("standardErrors")), end.standardErrors(), c.tolerance("covariance"),
-                c + " window end standard errors");
-        assertIntervalsFollowTheRuleOfX0(c, e, end.state(), end.standardErrors(), end.lower(), end.upper(), "window end");
+        assertStateMatches(c, e, c.expected().get("windowEnd"), e.windowEnd(), "window end");
+    }
+
+    private static void assertStateMatches(Case c, Estimate e, JsonNode x, Estimate.StateAt at, String what) {
+        assertEquals(x.get("time").asDouble(), at.time(), 0.0, c + " " + what + " time");
+        assertCloseNormwise(vector(x.get("state")), at.state(), c.tolerance("reference"), c + " " + what + " state");
+        assertCloseNormwise(flat(x.get("covariance")), at.covariance(), c.tolerance("covariance"),
+                c + " " + what + " covariance Φ P Φ'");
+        assertCloseNormwise(vector(x.get("standardErrors")), at.standardErrors(), c.tolerance("covariance"),
+                c + " " + what + " standard errors");
+        assertIntervalsFollowTheRuleOfX0(c, e, at.state(), at.standardErrors(), at.lower(), at.upper(), what);
     }
 
     @ParameterizedTest(name = "{0}")
