@@ -75,22 +75,6 @@ final class Params {
         }
     }
 
-    static Double optionalDouble(Context ctx, String name) {
-        String v = ctx.queryParam(name);
-        if (v == null) {
-            return null;
-        }
-        try {
-            double d = Double.parseDouble(v);
-            if (Double.isFinite(d) && v.matches("[-+]?[0-9.eE+\\-]+")) {
-                return d;
-            }
-        } catch (NumberFormatException ignored) {
-            // answered below
-        }
-        throw ApiProblem.invalid(name, "got " + quoted(v) + ", expected a finite decimal number");
-    }
-
     static Boolean optionalBoolean(Context ctx, String name) {
         String v = ctx.queryParam(name);
         if (v == null) {
