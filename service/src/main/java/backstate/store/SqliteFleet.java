@@ -23,7 +23,7 @@ import java.util.TreeSet;
  * recording window, the unit list and a unit's trend of one state, all by recording time.
  *
  * <p>Percentiles are computed here in Java over one column read through a covering index
- * (χ²/dof from estimates_by_model_window, RMS from estimate_channels' key), so the scan is
+ * (χ²/dof from estimates_by_model_recorded, RMS from estimate_channels' key), so the scan is
  * bounded by the window and costs 8 bytes per value; SQLite has no percentile aggregate, and
  * its ORDER BY … OFFSET route sorts in a temporary B-tree, which FleetQueryBench measures as
  * slower (see docs/fleet-and-planning.md).

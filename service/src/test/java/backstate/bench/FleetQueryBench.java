@@ -317,17 +317,18 @@ public final class FleetQueryBench {
 
     private void printPlans() throws SQLException {
         Map<String, String> statements = new LinkedHashMap<>();
-        String window = " WHERE family = 'reefer-40' AND version = 1 AND created_at >= 0 AND created_at < 9e18";
+        String window = " WHERE family = 'reefer-40' AND version = 1 AND window_start >= -1e300 AND window_start < 1e300"
+                + " AND received_at >= 0 AND received_at < 9e18";
         statements.put("summary counts", "SELECT count(*), count(DISTINCT unit_id) FROM estimates" + window);
         statements.put("summary χ²/dof column", "SELECT chi2_per_dof FROM estimates" + window + " AND chi2_per_dof IS NOT NULL");
         statements.put("summary flagged rows", "SELECT unit_id, flags FROM estimates" + window + " AND flags <> ''");
         statements.put("summary channel RMS", "SELECT rms FROM estimate_channels WHERE family = 'reefer-40' AND version = 1"
-                + " AND channel = 'return_air' AND created_at >= 0 AND created_at < 9e18 AND rms IS NOT NULL");
-        statements.put("summary traces", "SELECT count(*) FROM traces WHERE family = 'reefer-40' AND version = 1"
-                + " AND received_at >= 0 AND received_at < 9e18");
+                + " AND channel = 'return_air' AND window_start >= -1e300 AND window_start < 1e300"
+                + " AND received_at >= 0 AND received_at < 9e18 AND rms IS NOT NULL");
+        statements.put("summary traces", "SELECT count(*) FROM traces" + window);
         statements.put("trend", "SELECT e.id, s.value FROM estimates e JOIN estimate_states s ON s.estimate_id = e.id"
                 + " AND s.state = 'cargo_core' WHERE e.unit_id = 'RCX-00001' AND e.family = 'reefer-40'"
-                + " ORDER BY e.created_at DESC, e.id DESC LIMIT 100");
+                + " ORDER BY e.window_start DESC, e.created_at DESC, e.id DESC LIMIT 100");
         statements.put("write path: states of one job", "INSERT INTO estimate_states SELECT estimate_id, state, value,"
                 + " standard_error, lower, upper FROM estimate_document_states WHERE job_id = 'x'");
         System.out.println("Query plans (EXPLAIN QUERY PLAN):");
