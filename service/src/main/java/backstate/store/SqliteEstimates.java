@@ -26,7 +26,7 @@ final class SqliteEstimates {
     private static final String FIND_ESTIMATE = "SELECT " + ESTIMATE_COLUMNS + " FROM estimates WHERE id = ?";
     private static final String FIND_ESTIMATE_FOR_JOB =
             "SELECT " + ESTIMATE_COLUMNS + " FROM estimates WHERE job_id = ?";
-    static final String NEWEST_RECORDING_FIRST = " ORDER BY window_start DESC, created_at DESC, id DESC";
+    private static final String NEWEST_RECORDING_FIRST = " ORDER BY window_start DESC, created_at DESC, id DESC";
     private static final String FIND_LATEST_ESTIMATE = "SELECT " + ESTIMATE_COLUMNS
             + " FROM estimates WHERE unit_id = ?" + NEWEST_RECORDING_FIRST + " LIMIT 1";
     // One statement for every combination of filters: each "? IS NULL OR ..." pair is bound
