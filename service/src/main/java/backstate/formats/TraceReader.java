@@ -9,7 +9,6 @@ import com.fasterxml.jackson.core.exc.StreamConstraintsException;
 import com.fasterxml.jackson.core.JsonProcessingException;
 import com.fasterxml.jackson.databind.JsonNode;
 import com.fasterxml.jackson.databind.ObjectMapper;
-import com.fasterxml.jackson.databind.node.ObjectNode;
 import java.io.IOException;
 import java.io.InputStream;
 import java.util.List;
@@ -68,10 +67,9 @@ public final class TraceReader {
                     case "inputs" -> readChannels(parser, columns, false);
                     case "noiseSigma" -> readSigma(parser, columns);
                     case "options" -> {
-                        ObjectNode tree = optionsTree(parser);
-                        String stamp = takeText(tree, "referenceTime");
-                        referenceMicros = stamp == null ? null : stampMicros(stamp, "options.referenceTime", SECONDS_OR);
-                        options = readOptions(tree);
+                        OptionsAsWritten written = readOptions(parser);
+                        referenceMicros = written.referenceMicrosOrNull();
+                        options = written.options();
                     }
                     default -> throw new InputException(name, "got an unknown field, expected time, start, outputs, inputs,"
                             + " noiseSigma or options");
@@ -340,26 +338,37 @@ public final class TraceReader {
         }
     }
 
-    private ObjectNode optionsTree(JsonParser parser) throws IOException {
-        expect(parser, parser.currentToken(), JsonToken.START_OBJECT, "options");
-        return mapper.readTree(parser);
-    }
+    /**
+     * A JSON body's options as written: {@link TraceOptions} but for referenceTime, read as a node
+     * because it may be RFC 3339 text as well as a number.
+     */
+    record OptionsAsWritten(String formulation, Boolean estimateOffsets, JsonNode referenceTime,
+                            TraceOptions.PriorDocument prior) {
 
-    /** Removes and returns a text field (an RFC 3339 time where a number would be seconds), or null when it is not text. */
-    private static String takeText(ObjectNode tree, String name) {
-        JsonNode value = tree.get(name);
-        if (value == null || !value.isTextual()) {
-            return null;
+        /** The options, with a numeric reference time (on the trace's clock) and no RFC 3339 one. */
+        TraceOptions options() {
+            Double seconds = referenceTime != null && referenceTime.isNumber() ? referenceTime.doubleValue() : null;
+            return new TraceOptions(formulation, estimateOffsets, seconds, prior);
         }
-        tree.remove(name);
-        return value.textValue();
+
+        /** An RFC 3339 reference time in epoch microseconds, or null for a number or none. */
+        Long referenceMicrosOrNull() {
+            if (referenceTime == null || referenceTime.isNull() || referenceTime.isNumber()) {
+                return null;
+            }
+            if (!referenceTime.isTextual()) {
+                throw new InputException("options.referenceTime", "got a value of the wrong type or shape");
+            }
+            return stampMicros(referenceTime.textValue(), "options.referenceTime", SECONDS_OR);
+        }
     }
 
-    private TraceOptions readOptions(ObjectNode tree) throws IOException {
+    private OptionsAsWritten readOptions(JsonParser parser) throws IOException {
+        expect(parser, parser.currentToken(), JsonToken.START_OBJECT, "options");
         try {
-            return mapper.readerFor(TraceOptions.class)
+            return mapper.readerFor(OptionsAsWritten.class)
                     .with(com.fasterxml.jackson.databind.DeserializationFeature.FAIL_ON_UNKNOWN_PROPERTIES)
-                    .readValue(tree);
+                    .readValue(parser);
         } catch (com.fasterxml.jackson.databind.exc.UnrecognizedPropertyException e) {
             throw new InputException("options" + JsonPaths.of(e), "got an unknown field \"" + e.getPropertyName()
                     + "\", expected one of " + e.getKnownPropertyIds());

@@ -123,6 +123,8 @@ class TraceTimeFormsTest {
         assertEquals("referenceTime", assertThrows(InputException.class, () -> csvWithReference(csv, "soon")).field());
         assertEquals("options.referenceTime", assertThrows(InputException.class,
                 () -> read(String.format(body, "\"12:00\""))).field());
+        assertEquals("options.referenceTime", assertThrows(InputException.class,
+                () -> read(String.format(body, "[30]"))).field());
     }
 
     // ---- refusals, each naming the row
