@@ -14,7 +14,10 @@ import java.util.List;
 import java.util.Map;
 import java.util.Set;
 
-/** Estimates by unit (latest, history) and by ID, with the fitted and residual series for plots. */
+/**
+ * Estimates by unit (latest, history: newest recording first) and by ID, with the fitted and
+ * residual series for plots.
+ */
 final class EstimateRoutes {
     static final int DEFAULT_PAGE = 50;
     static final int MAX_PAGE = 500;
@@ -45,10 +48,7 @@ final class EstimateRoutes {
         if (flag != null && !FLAGS.contains(flag)) {
             throw ApiProblem.invalid("flag", "got " + Params.quoted(flag) + ", expected one of " + FLAGS);
         }
-        java.time.Instant from = Params.optionalInstant(ctx, "from");
-        java.time.Instant to = Params.optionalInstant(ctx, "to");
-        Params.requireOrdered(from, to);
-        EstimateFilter filter = new EstimateFilter(family, Params.optionalInt(ctx, "version"), from, to, flag);
+        EstimateFilter filter = new EstimateFilter(family, Params.optionalInt(ctx, "version"), Params.timeFilter(ctx), flag);
         String cursor = ctx.queryParam("cursor");
         if (cursor != null && (cursor.isEmpty() || cursor.length() > 512)) {
             throw ApiProblem.invalid("cursor", "not a cursor from this API");

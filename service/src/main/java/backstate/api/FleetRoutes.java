@@ -8,6 +8,7 @@ import backstate.store.FleetSummary;
 import backstate.store.FleetSummaryQuery;
 import backstate.store.ModelVersionRow;
 import backstate.store.Store;
+import backstate.store.TimeFilter;
 import backstate.store.UnitFilter;
 import backstate.store.UnitPage;
 import backstate.store.UnitSort;
@@ -25,7 +26,10 @@ import java.util.List;
 import java.util.Map;
 import java.util.Set;
 
-/** Fleet views for dashboards: a family's summary per model version, its units by a diagnostic, a unit's trend. */
+/**
+ * Fleet views for dashboards: a family's summary per model version, its units by a diagnostic, a
+ * unit's trend; by recording time (the traces' windows), with received-time filters beside.
+ */
 final class FleetRoutes {
     static final int DEFAULT_UNITS_PAGE = 50;
     static final int MAX_UNITS_PAGE = 500;
@@ -56,8 +60,7 @@ final class FleetRoutes {
     void summary(Context ctx) throws JsonProcessingException {
         String family = family(ctx);
         List<ModelVersionRow> versions = versions(ctx, family);
-        Instant from = Params.optionalInstant(ctx, "from");
-        Instant to = window(from, Params.optionalInstant(ctx, "to"));
+        TimeFilter times = Params.timeFilter(ctx);
         Duration staleAfter = staleAfter(ctx);
         Integer version = Params.optionalInt(ctx, "version");
         Instant now = clock.instant().truncatedTo(ChronoUnit.MILLIS); // the store's time resolution
@@ -65,12 +68,13 @@ final class FleetRoutes {
         for (ModelVersionRow v : versions) {
             channels.put(v.version(), names(document(v).outputs()));
         }
-        FleetSummary s = store.fleetSummary(new FleetSummaryQuery(family, channels, from, to, version,
+        FleetSummary s = store.fleetSummary(new FleetSummaryQuery(family, channels, times, version,
                 now.minus(staleAfter), SUMMARY_LIST_LIMIT));
         List<FleetViews.Version> views = s.versions().stream().map(a -> FleetViews.Version.of(a,
                 status(versions, a.version()), channels.get(a.version()))).toList();
-        ctx.json(new FleetViews.Summary(family, text(from), text(to), now.toString(), staleAfter.toString(), views,
-                FleetViews.Stale.of(s.stale(), now.minus(staleAfter))));
+        ctx.json(new FleetViews.Summary(family, text(times.recordedFromOrNull()), text(times.recordedToOrNull()),
+                text(times.receivedFromOrNull()), text(times.receivedToOrNull()), now.toString(), staleAfter.toString(),
+                views, FleetViews.Stale.of(s.stale(), now.minus(staleAfter))));
     }
 
     void units(Context ctx) {
@@ -100,7 +104,8 @@ final class FleetRoutes {
         Integer version = Params.optionalInt(ctx, "version");
         String unit = unitOf(state, family, versions);
         int limit = Params.intOrDefault(ctx, "limit", DEFAULT_TREND_POINTS, MAX_TREND_POINTS);
-        List<FleetViews.Point> points = FleetViews.chronological(store.stateTrend(unitId, state, family, version, limit));
+        List<FleetViews.Point> points = FleetViews.chronological(store.stateTrend(unitId, state, family, version,
+                Params.timeFilter(ctx), limit));
         ctx.json(new FleetViews.Trend(unitId, family, version, state, unit, InitialStateEstimator.CONFIDENCE, points,
                 Views.CAUTION));
     }
@@ -144,13 +149,6 @@ final class FleetRoutes {
             throw ApiProblem.invalid("state", "got " + Params.quoted(state) + ", expected a state of " + family + ": " + known);
         }
         return unit;
-    }
-
-    private static Instant window(Instant from, Instant to) {
-        if (from != null && to != null && from.isAfter(to)) {
-            throw ApiProblem.invalid("to", "got " + to + ", expected a time at or after from (" + from + ")");
-        }
-        return to;
     }
 
     private static Duration staleAfter(Context ctx) {

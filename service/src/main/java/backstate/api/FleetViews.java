@@ -2,6 +2,7 @@ package backstate.api;
 
 import backstate.estimation.Flag;
 import backstate.formats.EstimateDocument;
+import backstate.formats.RecordingTime;
 import backstate.store.FleetSummary;
 import backstate.store.StatePoint;
 import backstate.store.UnitLatestRow;
@@ -21,9 +22,10 @@ final class FleetViews {
     private FleetViews() {
     }
 
+    /** from/to bound the recording window, receivedFrom/receivedTo the received range, as asked (absent when open). */
     @JsonInclude(JsonInclude.Include.NON_NULL)
-    record Summary(String family, String from, String to, String asOf, String staleAfter, List<Version> versions,
-                   Stale stale) {
+    record Summary(String family, String from, String to, String receivedFrom, String receivedTo, String asOf,
+                   String staleAfter, List<Version> versions, Stale stale) {
     }
 
     record Version(int version, String status, long units, long traces, long estimates, Distribution chiSquarePerDof,
@@ -52,20 +54,24 @@ final class FleetViews {
         }
     }
 
-    /** Units with no estimate since {@code before}: how many, and the oldest of them first. */
+    /** Units with no recording started since {@code before}: how many, and the oldest of them first. */
     record Stale(String before, long count, List<Unit> oldestFirst) {
         static Stale of(FleetSummary.StaleUnits s, Instant before) {
             return new Stale(before.toString(), s.count(), s.oldestFirst().stream().map(Unit::of).toList());
         }
     }
 
-    /** A unit with its newest estimate (of the family, or of one version when the list is filtered by version). */
+    /**
+     * A unit with its newest estimate (of the family, or of one version when the list is filtered by
+     * version): the estimate of its newest recording, with that recording's window.
+     */
     @JsonInclude(JsonInclude.Include.NON_NULL)
-    record Unit(String unitId, int version, String estimateId, String latestAt, Double chiSquarePerDof,
-                List<String> flags) {
+    record Unit(String unitId, int version, String estimateId, String windowStart, String windowEnd, String receivedAt,
+                String createdAt, Double chiSquarePerDof, List<String> flags) {
         static Unit of(UnitLatestRow row) {
-            return new Unit(row.unitId(), row.version(), row.estimateId(), row.createdAt().toString(), row.chi2PerDof(),
-                    row.flags());
+            return new Unit(row.unitId(), row.version(), row.estimateId(), RecordingTime.format(row.windowStart()),
+                    RecordingTime.format(row.windowEnd()), row.receivedAt().toString(), row.createdAt().toString(),
+                    row.chi2PerDof(), row.flags());
         }
     }
 
@@ -74,17 +80,18 @@ final class FleetViews {
                  List<Point> points, String caution) {
     }
 
-    /** One estimate of the state; lower and upper bound its 95 % confidence interval. */
+    /** One estimate of the state at its window start; lower and upper bound its 95 % confidence interval. */
     @JsonInclude(JsonInclude.Include.NON_NULL)
-    record Point(String estimateId, String createdAt, int version, double windowStart, double windowEnd,
-                 Double estimate, Double standardError, Double lower, Double upper) {
+    record Point(String estimateId, String windowStart, String windowEnd, String receivedAt, String createdAt,
+                 int version, Double estimate, Double standardError, Double lower, Double upper) {
         static Point of(StatePoint p) {
-            return new Point(p.estimateId(), p.createdAt().toString(), p.version(), p.windowStart(), p.windowEnd(),
-                    p.value(), p.standardError(), p.lower(), p.upper());
+            return new Point(p.estimateId(), RecordingTime.format(p.windowStart()), RecordingTime.format(p.windowEnd()),
+                    p.receivedAt().toString(), p.createdAt().toString(), p.version(), p.value(), p.standardError(),
+                    p.lower(), p.upper());
         }
     }
 
-    /** Oldest first, for plotting. */
+    /** Oldest recording first, for plotting. */
     static List<Point> chronological(List<StatePoint> newestFirst) {
         List<Point> out = new ArrayList<>(newestFirst.size());
         for (int i = newestFirst.size() - 1; i >= 0; i--) {

@@ -1,5 +1,6 @@
 package backstate.api;
 
+import backstate.store.TimeFilter;
 import io.javalin.http.Context;
 import java.time.Instant;
 import java.time.format.DateTimeParseException;
@@ -73,31 +74,30 @@ final class Params {
             }
             return t;
         } catch (DateTimeParseException e) {
-            throw ApiProblem.invalid(name, "got " + quoted(v) + ", expected an RFC 3339 UTC time such as 2026-12-01T00:00:00Z");
+            throw ApiProblem.invalid(name, "got " + quoted(v) + ", expected an RFC 3339 time such as 2026-12-01T00:00:00Z");
         }
     }
 
-    /** Checks that an optional [from, to) range is not reversed. */
-    static void requireOrdered(Instant from, Instant to) {
-        if (from != null && to != null && !from.isBefore(to)) {
-            throw ApiProblem.invalid("from", "got " + from + " not before to=" + to + ", expected from < to");
-        }
+    /**
+     * The query's time filter: {@code from}/{@code to} on recording time (the trace's window start),
+     * {@code receivedFrom}/{@code receivedTo} on when the trace was received; each range half-open
+     * and not reversed.
+     */
+    static TimeFilter timeFilter(Context ctx) {
+        Instant from = optionalInstant(ctx, "from");
+        Instant to = optionalInstant(ctx, "to");
+        Instant receivedFrom = optionalInstant(ctx, "receivedFrom");
+        Instant receivedTo = optionalInstant(ctx, "receivedTo");
+        requireOrdered("from", from, "to", to);
+        requireOrdered("receivedFrom", receivedFrom, "receivedTo", receivedTo);
+        return new TimeFilter(from, to, receivedFrom, receivedTo);
     }
 
-    static Double optionalDouble(Context ctx, String name) {
-        String v = ctx.queryParam(name);
-        if (v == null) {
-            return null;
+    /** Checks that an optional range is not reversed, naming its end. */
+    static void requireOrdered(String fromName, Instant from, String toName, Instant to) {
+        if (from != null && to != null && from.isAfter(to)) {
+            throw ApiProblem.invalid(toName, "got " + to + ", expected a time at or after " + fromName + " (" + from + ")");
         }
-        try {
-            double d = Double.parseDouble(v);
-            if (Double.isFinite(d) && v.matches("[-+]?[0-9.eE+\\-]+")) {
-                return d;
-            }
-        } catch (NumberFormatException ignored) {
-            // answered below
-        }
-        throw ApiProblem.invalid(name, "got " + quoted(v) + ", expected a finite decimal number");
     }
 
     static Boolean optionalBoolean(Context ctx, String name) {

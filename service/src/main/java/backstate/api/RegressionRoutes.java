@@ -11,6 +11,7 @@ import backstate.store.NewRegression;
 import backstate.store.RegressionRow;
 import backstate.store.Store;
 import backstate.store.TraceRef;
+import backstate.store.TimeFilter;
 import backstate.store.TraceSelection;
 import com.fasterxml.jackson.databind.DeserializationFeature;
 import com.fasterxml.jackson.databind.ObjectMapper;
@@ -150,13 +151,23 @@ final class RegressionRoutes {
         if (s.latestPerUnit() != null && s.latestPerUnit() < 1) {
             throw ApiProblem.invalid("traces.latestPerUnit", "got " + s.latestPerUnit() + ", expected a whole number >= 1");
         }
-        Instant from = instant("traces.receivedFrom", s.receivedFrom());
-        Instant to = instant("traces.receivedTo", s.receivedTo());
+        Instant from = instant("traces.from", s.from());
+        Instant to = instant("traces.to", s.to());
+        Instant receivedFrom = instant("traces.receivedFrom", s.receivedFrom());
+        Instant receivedTo = instant("traces.receivedTo", s.receivedTo());
+        requireAfter("traces.to", to, "from", from);
+        requireAfter("traces.receivedTo", receivedTo, "receivedFrom", receivedFrom);
+        return new Selection(units, s.latestPerUnit(), text(from), text(to), text(receivedFrom), text(receivedTo));
+    }
+
+    private static void requireAfter(String field, Instant to, String fromName, Instant from) {
         if (from != null && to != null && !from.isBefore(to)) {
-            throw ApiProblem.invalid("traces.receivedTo", "got " + to + ", expected a time after receivedFrom " + from);
+            throw ApiProblem.invalid(field, "got " + to + ", expected a time after " + fromName + " " + from);
         }
-        return new Selection(units, s.latestPerUnit(), from == null ? null : from.toString(),
-                to == null ? null : to.toString());
+    }
+
+    private static String text(Instant t) {
+        return t == null ? null : t.toString();
     }
 
     private static Instant instant(String field, String text) {
@@ -174,6 +185,11 @@ final class RegressionRoutes {
             throw ApiProblem.invalid(field, "got " + text + ", expected a time between " + EARLIEST + " and " + LATEST);
         }
         return t;
+    }
+
+    /** A time {@link #normalized} wrote, or null. */
+    private static Instant instant(String normalizedOrNull) {
+        return normalizedOrNull == null ? null : Instant.parse(normalizedOrNull);
     }
 
     private ModelVersionRow existing(String field, String family, int version) {
@@ -197,16 +213,15 @@ final class RegressionRoutes {
     }
 
     private List<TraceRef> select(String family, Selection s) {
-        TraceSelection selection = new TraceSelection(family, s.units(),
-                s.receivedFrom() == null ? null : Instant.parse(s.receivedFrom()),
-                s.receivedTo() == null ? null : Instant.parse(s.receivedTo()), s.latestPerUnit(), MAX_TRACES + 1);
+        TraceSelection selection = new TraceSelection(family, s.units(), new TimeFilter(instant(s.from()),
+                instant(s.to()), instant(s.receivedFrom()), instant(s.receivedTo())), s.latestPerUnit(), MAX_TRACES + 1);
         List<TraceRef> traces = store.selectTraces(selection);
         if (traces.isEmpty()) {
             throw ApiProblem.unprocessable("traces", "no stored traces of model family " + family + " match the selection");
         }
         if (traces.size() > MAX_TRACES) {
             throw ApiProblem.unprocessable("traces", "the selection matches more than " + MAX_TRACES
-                    + " traces; narrow it with units, latestPerUnit or receivedFrom/receivedTo");
+                    + " traces; narrow it with units, latestPerUnit, from/to or receivedFrom/receivedTo");
         }
         if (s.units() != null) {
             Set<String> missing = new TreeSet<>(s.units());

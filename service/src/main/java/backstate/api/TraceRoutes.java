@@ -131,7 +131,7 @@ final class TraceRoutes {
             return reader.readJson(body, model);
         }
         if (type.startsWith("text/csv")) {
-            return reader.readCsv(body, model, queryOptions(ctx));
+            return reader.readCsv(body, model, queryOptions(ctx), ctx.queryParam("referenceTime"));
         }
         throw ApiProblem.unsupportedMediaType(type.isEmpty() ? "no Content-Type" : type, "application/json or text/csv");
     }
@@ -141,9 +141,9 @@ final class TraceRoutes {
                 || ctx.queryParam("referenceTime") != null;
     }
 
+    /** The CSV options of the query; its referenceTime (seconds or RFC 3339) is read with the trace's clock. */
     private static TraceOptions queryOptions(Context ctx) {
-        return new TraceOptions(ctx.queryParam("formulation"), Params.optionalBoolean(ctx, "estimateOffsets"),
-                Params.optionalDouble(ctx, "referenceTime"), null);
+        return new TraceOptions(ctx.queryParam("formulation"), Params.optionalBoolean(ctx, "estimateOffsets"), null, null);
     }
 
     private static String idempotencyKey(Context ctx) {

@@ -4,6 +4,7 @@ import backstate.estimation.ObservabilityRank;
 import backstate.formats.EstimateCaution;
 import backstate.formats.EstimateDocument;
 import backstate.formats.FailureDetails;
+import backstate.formats.RecordingTime;
 import backstate.formats.UnobservableDirection;
 import backstate.store.EstimateRow;
 import backstate.store.FamilyRow;
@@ -66,23 +67,31 @@ final class Views {
     record Progress(int done, int total) {
     }
 
+    /**
+     * An estimate without its document. windowStart and windowEnd are the trace's first and last
+     * sample times, when it was recorded; receivedAt when the service received it; createdAt when
+     * the estimate was written. All RFC 3339 in UTC.
+     */
     @JsonInclude(JsonInclude.Include.NON_NULL)
     record EstimateSummary(String id, String unitId, String family, int version, String jobId, String traceId,
-                           String createdAt, double windowStart, double windowEnd, Double chiSquarePerDof,
-                           List<String> flags) {
+                           String windowStart, String windowEnd, String receivedAt, String createdAt,
+                           Double chiSquarePerDof, List<String> flags) {
         static EstimateSummary of(EstimateRow row) {
             return new EstimateSummary(row.id(), row.unitId(), row.family(), row.version(), row.jobId(), row.traceId(),
-                    row.createdAt().toString(), row.windowStart(), row.windowEnd(), row.chi2PerDof(), row.flags());
+                    RecordingTime.format(row.windowStart()), RecordingTime.format(row.windowEnd()),
+                    row.receivedAt().toString(), row.createdAt().toString(), row.chi2PerDof(), row.flags());
         }
     }
 
+    /** An estimate in full: the summary's fields, its document and the caution. */
     @JsonInclude(JsonInclude.Include.NON_NULL)
     record Estimate(String id, String unitId, String family, int version, String jobId, String traceId,
-                    String createdAt, double windowStart, double windowEnd, Double chiSquarePerDof,
+                    String windowStart, String windowEnd, String receivedAt, String createdAt, Double chiSquarePerDof,
                     List<String> flags, @JsonRawValue String result, String caution) {
         static Estimate of(EstimateRow row) {
             return new Estimate(row.id(), row.unitId(), row.family(), row.version(), row.jobId(), row.traceId(),
-                    row.createdAt().toString(), row.windowStart(), row.windowEnd(), row.chi2PerDof(), row.flags(),
+                    RecordingTime.format(row.windowStart()), RecordingTime.format(row.windowEnd()),
+                    row.receivedAt().toString(), row.createdAt().toString(), row.chi2PerDof(), row.flags(),
                     row.summaryJson(), CAUTION);
         }
     }

@@ -38,9 +38,9 @@ public final class CompareVersionsCommand {
     static final String KEY_VARIABLE = "BACKSTATE_API_KEY";
 
     private static final Set<String> FLAGS = Set.of("server", "family", "baseline", "candidate", "units", "latest",
-            "received-from", "received-to", "tolerance-chi2", "tolerance-share", "tolerance-x0", "api-key");
+            "from", "to", "received-from", "received-to", "tolerance-chi2", "tolerance-share", "tolerance-x0", "api-key");
     static final String USAGE = "usage: backstate " + NAME + " --server URL --family F --baseline N --candidate M"
-            + " [--units A,B,... | --latest K] [--received-from T] [--received-to T] [--tolerance-chi2 X]"
+            + " [--units A,B,... | --latest K] [--from T] [--to T] [--received-from T] [--received-to T] [--tolerance-chi2 X]"
             + " [--tolerance-share S] [--tolerance-x0 K] [--api-key KEY]";
 
     private final ObjectMapper mapper = new ObjectMapper();
@@ -205,6 +205,8 @@ public final class CompareVersionsCommand {
         if (flags.containsKey("latest")) {
             traces.put("latestPerUnit", whole("latest", flags.get("latest")));
         }
+        putIfGiven(traces, "from", flags.get("from"));
+        putIfGiven(traces, "to", flags.get("to"));
         putIfGiven(traces, "receivedFrom", flags.get("received-from"));
         putIfGiven(traces, "receivedTo", flags.get("received-to"));
         if (!traces.isEmpty()) {

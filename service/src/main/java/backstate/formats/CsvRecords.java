@@ -121,6 +121,24 @@ final class CsvRecords {
         return ends[i];
     }
 
+    /** Where field i starts once characters up to U+0020 are dropped ({@link String#trim}'s rule; in UTF-8 they are single ASCII bytes). */
+    int trimmedStart(int i) {
+        int from = starts[i];
+        while (from < ends[i] && (content[from] & 0xFF) <= ' ') {
+            from++;
+        }
+        return from;
+    }
+
+    /** Where field i ends once trailing characters up to U+0020 are dropped; at or before {@link #trimmedStart} when it is blank. */
+    int trimmedEnd(int i) {
+        int to = ends[i];
+        while (to > starts[i] && (content[to - 1] & 0xFF) <= ' ') {
+            to--;
+        }
+        return to;
+    }
+
     private void record() throws IOException {
         fields = 0;
         contentLength = 0;

@@ -13,7 +13,7 @@ import java.util.Map;
 final class TraceColumns {
     private final ModelDocument model;
     private final Limits limits;
-    private final DoubleColumn time;
+    private final TraceTimes times;
     private final Map<String, DoubleColumn> outputs = new LinkedHashMap<>();
     private final Map<String, DoubleColumn> inputs = new LinkedHashMap<>();
     private final Map<String, Double> noiseSigma = new LinkedHashMap<>();
@@ -21,11 +21,11 @@ final class TraceColumns {
     TraceColumns(ModelDocument model, Limits limits) {
         this.model = model;
         this.limits = limits;
-        this.time = new DoubleColumn("time", limits.maxSamples());
+        this.times = new TraceTimes(limits.maxSamples());
     }
 
-    DoubleColumn time() {
-        return time;
+    TraceTimes times() {
+        return times;
     }
 
     /** The column for an output channel named in a body; unknown and repeated names are rejected. */
@@ -60,7 +60,7 @@ final class TraceColumns {
     }
 
     Trace assemble() {
-        int n = time.size();
+        int n = times.size();
         List<Quantity> outs = model.outputs();
         List<Quantity> ins = model.inputsOrEmpty();
         double[] y = new double[n * outs.size()];
@@ -82,7 +82,7 @@ final class TraceColumns {
                 u[k * ins.size() + i] = column.get(k);
             }
         }
-        return new Trace(time.size() == 0 ? new double[0] : copy(time), y, u, outs.size(), ins.size(), sigmaArray(outs));
+        return new Trace(times.normalised(), y, u, outs.size(), ins.size(), sigmaArray(outs));
     }
 
     private double[] sigmaArray(List<Quantity> outs) {
@@ -114,14 +114,6 @@ final class TraceColumns {
         if (column != null && column.size() != n) {
             throw new InputException(column.field(), "got " + column.size() + " values, expected " + n + " (one per time)");
         }
-    }
-
-    private static double[] copy(DoubleColumn column) {
-        double[] out = new double[column.size()];
-        for (int k = 0; k < out.length; k++) {
-            out[k] = column.get(k);
-        }
-        return out;
     }
 
     private static List<String> names(List<Quantity> list) {

@@ -10,7 +10,9 @@ import com.fasterxml.jackson.annotation.JsonInclude;
  *
  * @param formulation     "sampled" (default) or "continuous"
  * @param estimateOffsets estimate a constant offset per output channel
- * @param referenceTime   also report the state at this time (seconds, inside the window)
+ * @param referenceTime   also report the state at this time, inside the window: written as an RFC 3339 time or
+ *                        as seconds on the trace's clock (since its declared start, or since 1970), held as
+ *                        epoch seconds once the trace is read ({@link TraceReader})
  * @param prior           Gaussian prior on x0
  */
 @JsonInclude(JsonInclude.Include.NON_NULL)
@@ -27,6 +29,11 @@ public record TraceOptions(String formulation, Boolean estimateOffsets, Double r
                 override.estimateOffsets != null ? override.estimateOffsets : estimateOffsets,
                 override.referenceTime != null ? override.referenceTime : referenceTime,
                 override.prior != null ? override.prior : prior);
+    }
+
+    /** The same options with another reference time (epoch seconds), or none. */
+    public TraceOptions withReferenceTime(Double seconds) {
+        return new TraceOptions(formulation, estimateOffsets, seconds, prior);
     }
 
     /** The engine's options; the prior's shape is checked against n. */

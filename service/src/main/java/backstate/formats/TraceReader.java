@@ -1,11 +1,13 @@
 package backstate.formats;
 
+import backstate.estimation.Trace;
 import com.fasterxml.jackson.core.JsonFactory;
 import com.fasterxml.jackson.core.JsonParser;
 import com.fasterxml.jackson.core.JsonToken;
 import com.fasterxml.jackson.core.StreamReadConstraints;
 import com.fasterxml.jackson.core.exc.StreamConstraintsException;
 import com.fasterxml.jackson.core.JsonProcessingException;
+import com.fasterxml.jackson.databind.JsonNode;
 import com.fasterxml.jackson.databind.ObjectMapper;
 import java.io.IOException;
 import java.io.InputStream;
@@ -13,9 +15,14 @@ import java.util.List;
 import java.util.regex.Pattern;
 
 /**
- * Reads a trace from a JSON body (columnar: time, outputs, inputs, noiseSigma, options) or from
- * RFC 4180 CSV (header of time + channel names, empty cell = missing), streaming, so a large
+ * Reads a trace from a JSON body (columnar: time, start, outputs, inputs, noiseSigma, options) or
+ * from RFC 4180 CSV (header of time + channel names, empty cell = missing), streaming, so a large
  * body is never held whole: only the primitive columns grow.
+ *
+ * <p>Times ({@link TraceTimes}): RFC 3339 times, or numbers of seconds since 1970-01-01T00:00:00Z,
+ * or numbers of seconds since a declared start — JSON's {@code "start"} field, or a CSV time
+ * column headed {@code time since <RFC 3339 time>}. A reference time ({@code referenceTime}) is
+ * an RFC 3339 time or a number on the same clock as the trace's numbers.
  */
 public final class TraceReader {
     /** A plain decimal number; rejects the forms Java accepts but CSV writers never mean (NaN, Infinity, 1d, hex). */
@@ -25,6 +32,10 @@ public final class TraceReader {
      * name; a header longer still is refused by its count (hostile input, not a mistake).
      */
     static final int EXTRA_HEADER_FIELDS = 64;
+    /** A CSV time column header declaring the start its seconds count from, before the RFC 3339 time. */
+    static final String TIME_SINCE = "time since ";
+    /** How a reference time may be written, besides RFC 3339. */
+    private static final String SECONDS_OR = "seconds on the trace's clock or ";
     /** Longest number literal accepted in JSON; 64 digits is beyond any double's precision. */
     private static final int MAX_NUMBER_LENGTH = 64;
 
@@ -48,18 +59,25 @@ public final class TraceReader {
     public ParsedTrace readJson(InputStream body, ModelDocument model) throws IOException {
         TraceColumns columns = new TraceColumns(model, limits);
         TraceOptions options = TraceOptions.NONE;
+        Long referenceMicros = null;
         try (JsonParser parser = mapper.getFactory().createParser(body)) {
             expect(parser, parser.nextToken(), JsonToken.START_OBJECT, "body");
             while (parser.nextToken() == JsonToken.FIELD_NAME) {
                 String name = parser.currentName();
                 parser.nextToken();
                 switch (name) {
-                    case "time" -> readNumbers(parser, columns.time(), "time", false);
+                    case "time" -> readTimes(parser, columns.times());
+                    case "start" -> columns.times().declareStart(startMicros(parser), "start");
                     case "outputs" -> readChannels(parser, columns, true);
                     case "inputs" -> readChannels(parser, columns, false);
                     case "noiseSigma" -> readSigma(parser, columns);
-                    case "options" -> options = readOptions(parser);
-                    default -> throw new InputException(name, "got an unknown field, expected time, outputs, inputs, noiseSigma or options");
+                    case "options" -> {
+                        OptionsAsWritten written = readOptions(parser);
+                        referenceMicros = written.referenceMicrosOrNull();
+                        options = written.options();
+                    }
+                    default -> throw new InputException(name, "got an unknown field, expected time, start, outputs, inputs,"
+                            + " noiseSigma or options");
                 }
             }
             if (parser.nextToken() != null) {
@@ -70,11 +88,26 @@ public final class TraceReader {
         } catch (JsonProcessingException e) {
             throw new InputException("body", "got malformed JSON: " + e.getOriginalMessage());
         }
-        return new ParsedTrace(columns.assemble(), options);
+        return assemble(columns, options, referenceMicros);
     }
 
-    /** Reads the CSV form; options come from elsewhere (query parameters). */
+    /** Reads the CSV form; options come from elsewhere (query parameters), a reference time on the trace's clock. */
     public ParsedTrace readCsv(InputStream body, ModelDocument model, TraceOptions options) throws IOException {
+        return readCsv(body, model, options, null);
+    }
+
+    /**
+     * Reads the CSV form with a reference time as text (a query parameter): a number of seconds on
+     * the trace's clock or an RFC 3339 time. Given, it takes the place of the options' own.
+     */
+    public ParsedTrace readCsv(InputStream body, ModelDocument model, TraceOptions options, String referenceTime)
+            throws IOException {
+        Long referenceMicros = null;
+        if (referenceTime != null && DECIMAL.matcher(referenceTime).matches()) {
+            options = options.withReferenceTime(csvNumber(referenceTime, "referenceTime", false));
+        } else if (referenceTime != null) {
+            referenceMicros = stampMicros(referenceTime, "referenceTime", SECONDS_OR);
+        }
         TraceColumns columns = new TraceColumns(model, limits);
         int maxFields = 1 + model.outputs().size() + model.inputsOrEmpty().size();
         CsvRecords records = new CsvRecords(body, maxFields + EXTRA_HEADER_FIELDS, maxFields);
@@ -82,36 +115,64 @@ public final class TraceReader {
             throw new InputException("header", "got an empty body, expected a header row: time, then channel names");
         }
         List<String> header = records.texts();
-        DoubleColumn[] targets = headerTargets(header, columns);
+        CsvHeader layout = headerTargets(header, columns);
+        DoubleColumn[] targets = layout.channels();
+        int time = layout.time();
         String[] names = new String[targets.length];
         boolean[] missingAllowed = new boolean[targets.length];
         for (int i = 0; i < targets.length; i++) {
             names[i] = header.get(i).trim();
-            missingAllowed[i] = targets[i] != columns.time() && columns.isOutput(names[i]);
+            missingAllowed[i] = i != time && columns.isOutput(names[i]);
         }
+        TraceTimes times = columns.times();
         while (records.next()) {
             if (records.size() != targets.length) {
                 throw new InputException("line " + records.line(), "got " + records.size() + " fields, expected " + targets.length);
             }
+            csvTime(records, time, times);
             for (int i = 0; i < targets.length; i++) {
-                targets[i].add(csvNumber(records, i, names[i], missingAllowed[i]));
+                if (i != time) {
+                    targets[i].add(csvNumber(records, i, names[i], missingAllowed[i]));
+                }
             }
         }
-        return new ParsedTrace(columns.assemble(), options);
+        return assemble(columns, options, referenceMicros);
     }
 
-    static DoubleColumn[] headerTargets(List<String> header, TraceColumns columns) {
+    /**
+     * The trace, and the options with their reference time on the trace's normalised clock: an
+     * RFC 3339 reference time as it is, a number of seconds as the trace's numeric times are read.
+     */
+    private static ParsedTrace assemble(TraceColumns columns, TraceOptions options, Long referenceMicrosOrNull) {
+        Trace trace = columns.assemble();
+        if (referenceMicrosOrNull != null) {
+            return new ParsedTrace(trace, options.withReferenceTime(RecordingTime.seconds(referenceMicrosOrNull)));
+        }
+        if (options.referenceTime() != null) {
+            return new ParsedTrace(trace, options.withReferenceTime(columns.times().normalise(options.referenceTime())));
+        }
+        return new ParsedTrace(trace, options);
+    }
+
+    /** The time column's index, and every other column's target (null at the time column). */
+    record CsvHeader(int time, DoubleColumn[] channels) {
+    }
+
+    static CsvHeader headerTargets(List<String> header, TraceColumns columns) {
         DoubleColumn[] targets = new DoubleColumn[header.size()];
-        boolean sawTime = false;
+        int time = -1;
         for (int i = 0; i < header.size(); i++) {
             String name = header.get(i).trim();
             String field = "header[" + i + "]";
-            if (name.equals("time")) {
-                if (sawTime) {
+            if (name.equals("time") || name.startsWith(TIME_SINCE)) {
+                if (time >= 0) {
                     throw new InputException(field, "got a second time column, expected one");
                 }
-                sawTime = true;
-                targets[i] = columns.time();
+                time = i;
+                if (!name.equals("time")) {
+                    columns.times().declareStart(stampMicros(name.substring(TIME_SINCE.length()).trim(), field,
+                            "\"time\", or \"time since\" and "), field);
+                }
             } else if (columns.isInput(name)) {
                 targets[i] = columns.input(name, field);
             } else if (columns.isOutput(name)) {
@@ -120,10 +181,39 @@ public final class TraceReader {
                 throw unknownColumn(field, name, columns);
             }
         }
-        if (!sawTime) {
-            throw new InputException("header", "got no time column, expected one named \"time\"");
+        if (time < 0) {
+            throw new InputException("header", "got no time column, expected one named \"time\" (or \"time since\" and its start)");
         }
-        return targets;
+        return new CsvHeader(time, targets);
+    }
+
+    /** The time cell of the current record: a plain decimal read from its bytes, else the general path. */
+    private static void csvTime(CsvRecords records, int i, TraceTimes times) {
+        if (records.isAscii(i)) {
+            double v = PlainDecimal.parse(records.bytes(), records.trimmedStart(i), records.trimmedEnd(i));
+            if (!Double.isNaN(v)) {
+                if (!times.add(v, false)) {
+                    throw times.refusal(timeField(records.line()), v, false);
+                }
+                return;
+            }
+        }
+        csvTime(records.text(i), timeField(records.line()), times);
+    }
+
+    /** The general path for a time cell: a decimal number of seconds or an RFC 3339 time. */
+    static void csvTime(String text, String field, TraceTimes times) {
+        String s = text.trim();
+        boolean timestamp = !s.isEmpty() && !DECIMAL.matcher(s).matches();
+        double v = timestamp ? RecordingTime.seconds(stampMicros(s, field, "a decimal number of seconds or "))
+                : csvNumber(s, field, false);
+        if (!times.add(v, timestamp)) {
+            throw times.refusal(field, v, timestamp);
+        }
+    }
+
+    static String timeField(long line) {
+        return "line " + line + ", column time";
     }
 
     /** A header column that is neither time nor a channel of the model, named (and cut at 40 characters). */
@@ -140,20 +230,12 @@ public final class TraceReader {
      */
     private static double csvNumber(CsvRecords records, int i, String column, boolean missingAllowed) {
         if (records.isAscii(i)) {
-            byte[] bytes = records.bytes();
-            int from = records.start(i);
-            int to = records.end(i);
-            // String.trim's rule: drop characters up to U+0020 at both ends.
-            while (from < to && (bytes[from] & 0xFF) <= ' ') {
-                from++;
-            }
-            while (to > from && (bytes[to - 1] & 0xFF) <= ' ') {
-                to--;
-            }
-            if (from == to && missingAllowed) {
+            int from = records.trimmedStart(i);
+            int to = records.trimmedEnd(i);
+            if (to <= from && missingAllowed) {
                 return Double.NaN;
             }
-            double v = PlainDecimal.parse(bytes, from, to);
+            double v = PlainDecimal.parse(records.bytes(), from, to);
             if (!Double.isNaN(v)) {
                 return v;
             }
@@ -189,6 +271,48 @@ public final class TraceReader {
             DoubleColumn column = outputs ? columns.output(name, field) : columns.input(name, field);
             parser.nextToken();
             readNumbers(parser, column, field, outputs);
+        }
+    }
+
+    /** The time array: numbers of seconds, or RFC 3339 times as strings, not mixed. */
+    private static void readTimes(JsonParser parser, TraceTimes times) throws IOException {
+        expect(parser, parser.currentToken(), JsonToken.START_ARRAY, "time");
+        JsonToken token;
+        while ((token = parser.nextToken()) != JsonToken.END_ARRAY) {
+            boolean timestamp = token == JsonToken.VALUE_STRING;
+            double v;
+            if (timestamp) {
+                v = RecordingTime.seconds(stampMicros(parser.getText(), "time[" + times.size() + "]",
+                        "a number of seconds or "));
+            } else if (token == JsonToken.VALUE_NUMBER_INT || token == JsonToken.VALUE_NUMBER_FLOAT) {
+                v = parser.getDoubleValue();
+                if (!Double.isFinite(v)) {
+                    throw new InputException("time[" + times.size() + "]", "got " + parser.getText() + ", expected a finite number");
+                }
+            } else {
+                throw new InputException("time[" + times.size() + "]", "got " + describe(token)
+                        + ", expected a number of seconds or " + RecordingTime.EXAMPLE);
+            }
+            if (!times.add(v, timestamp)) {
+                throw times.refusal("time[" + times.size() + "]", v, timestamp);
+            }
+        }
+    }
+
+    private static long startMicros(JsonParser parser) throws IOException {
+        if (parser.currentToken() != JsonToken.VALUE_STRING) {
+            throw new InputException("start", "got " + describe(parser.currentToken()) + ", expected " + RecordingTime.EXAMPLE);
+        }
+        return stampMicros(parser.getText(), "start", "");
+    }
+
+    /** Epoch microseconds of an RFC 3339 time; refused naming the field, saying what else it could have been. */
+    private static long stampMicros(String text, String field, String orElse) {
+        try {
+            return RecordingTime.parseMicros(text);
+        } catch (java.time.format.DateTimeParseException e) {
+            String got = "got \"" + (text.length() > 40 ? text.substring(0, 40) + "…" : text) + "\"";
+            throw new InputException(field, got + ", expected " + orElse + RecordingTime.EXAMPLE);
         }
     }
 
@@ -228,10 +352,35 @@ public final class TraceReader {
         }
     }
 
-    private TraceOptions readOptions(JsonParser parser) throws IOException {
+    /**
+     * A JSON body's options as written: {@link TraceOptions} but for referenceTime, read as a node
+     * because it may be RFC 3339 text as well as a number.
+     */
+    record OptionsAsWritten(String formulation, Boolean estimateOffsets, JsonNode referenceTime,
+                            TraceOptions.PriorDocument prior) {
+
+        /** The options, with a numeric reference time (on the trace's clock) and no RFC 3339 one. */
+        TraceOptions options() {
+            Double seconds = referenceTime != null && referenceTime.isNumber() ? referenceTime.doubleValue() : null;
+            return new TraceOptions(formulation, estimateOffsets, seconds, prior);
+        }
+
+        /** An RFC 3339 reference time in epoch microseconds, or null for a number or none. */
+        Long referenceMicrosOrNull() {
+            if (referenceTime == null || referenceTime.isNull() || referenceTime.isNumber()) {
+                return null;
+            }
+            if (!referenceTime.isTextual()) {
+                throw new InputException("options.referenceTime", "got a value of the wrong type or shape");
+            }
+            return stampMicros(referenceTime.textValue(), "options.referenceTime", SECONDS_OR);
+        }
+    }
+
+    private OptionsAsWritten readOptions(JsonParser parser) throws IOException {
         expect(parser, parser.currentToken(), JsonToken.START_OBJECT, "options");
         try {
-            return mapper.readerFor(TraceOptions.class)
+            return mapper.readerFor(OptionsAsWritten.class)
                     .with(com.fasterxml.jackson.databind.DeserializationFeature.FAIL_ON_UNKNOWN_PROPERTIES)
                     .readValue(parser);
         } catch (com.fasterxml.jackson.databind.exc.UnrecognizedPropertyException e) {

@@ -53,9 +53,9 @@ public final class RegressionReport {
         return baseline.size() == candidate.size() && baseline.containsAll(candidate);
     }
 
-    void add(String unitId, String traceId, String receivedAt, int storedVersion, Fit b, Fit c) {
-        byUnit.computeIfAbsent(unitId, u -> new ArrayList<>())
-                .add(new TraceComparison(unitId, traceId, receivedAt, storedVersion, b, c, statesComparable));
+    void add(String unitId, String traceId, String windowStart, String receivedAt, int storedVersion, Fit b, Fit c) {
+        byUnit.computeIfAbsent(unitId, u -> new ArrayList<>()).add(new TraceComparison(unitId, traceId, windowStart,
+                receivedAt, storedVersion, b, c, statesComparable));
         tracesDone++;
     }
 

@@ -51,9 +51,9 @@ public record RegressionResult(String family, VersionInfo baseline, VersionInfo 
                              boolean beyondTolerance, List<String> reasons, List<TraceResult> traces) {
     }
 
-    /** One trace under both versions. */
+    /** One trace under both versions; windowStart is when it was recorded (its first sample), RFC 3339. */
     @JsonInclude(JsonInclude.Include.NON_NULL)
-    public record TraceResult(String traceId, String receivedAt, int storedVersion, FitSummary baseline,
+    public record TraceResult(String traceId, String windowStart, String receivedAt, int storedVersion, FitSummary baseline,
                               FitSummary candidate, Double deltaChi2PerDof, List<ChannelChange> channels,
                               List<String> flagsAdded, List<String> flagsRemoved, X0Comparison x0) {
     }

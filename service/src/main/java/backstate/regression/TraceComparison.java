@@ -8,8 +8,8 @@ import java.util.List;
  * One trace solved under both versions, compared: Δχ²/dof, RMS per channel, flags gained and
  * lost, and the x̂0 shift per state in combined standard errors.
  */
-record TraceComparison(String unitId, String traceId, String receivedAt, int storedVersion, Fit baseline,
-                       Fit candidate, boolean statesComparable) {
+record TraceComparison(String unitId, String traceId, String windowStart, String receivedAt, int storedVersion,
+                       Fit baseline, Fit candidate, boolean statesComparable) {
 
     /** Both versions solved it: it counts in the unit's pooled χ²/dof. */
     boolean bothSolved() {
@@ -37,11 +37,11 @@ record TraceComparison(String unitId, String traceId, String receivedAt, int sto
 
     RegressionResult.TraceResult toResult() {
         if (!bothSolved()) {
-            return new RegressionResult.TraceResult(traceId, receivedAt, storedVersion, summary(baseline),
+            return new RegressionResult.TraceResult(traceId, windowStart, receivedAt, storedVersion, summary(baseline),
                     summary(candidate), null, List.of(), null, null,
                     new RegressionResult.X0Comparison(false, notBothSolved(), null, null));
         }
-        return new RegressionResult.TraceResult(traceId, receivedAt, storedVersion, summary(baseline),
+        return new RegressionResult.TraceResult(traceId, windowStart, receivedAt, storedVersion, summary(baseline),
                 summary(candidate), EstimateDocument.num(candidate.chi2PerDof() - baseline.chi2PerDof()), channels(),
                 minus(candidate.flags(), baseline.flags()), minus(baseline.flags(), candidate.flags()), x0());
     }

@@ -6,6 +6,7 @@ import backstate.formats.InputException;
 import backstate.formats.Limits;
 import backstate.formats.ModelDocument;
 import backstate.formats.ParsedTrace;
+import backstate.formats.RecordingTime;
 
 /**
  * The two versions of a run, solving stored traces through {@link DocumentSolver} (the estimate
@@ -30,7 +31,8 @@ public final class VersionPair {
      */
     public void compare(RegressionReport report, String unitId, String traceId, String receivedAt, int storedVersion,
                         ModelDocument storedModel, ParsedTrace stored) {
-        report.add(unitId, traceId, receivedAt, storedVersion, fit(baseline, storedModel, stored),
+        report.add(unitId, traceId, RecordingTime.format(stored.trace().time(0)), receivedAt, storedVersion,
+                fit(baseline, storedModel, stored),
                 fit(candidate, storedModel, stored));
     }
 

@@ -1,22 +1,17 @@
 package backstate.store;
 
-import java.time.Instant;
-
 /**
- * Narrows a unit's estimate history; every null field matches everything. The time range is
- * half-open: {@code from <= createdAt < to}. A flag matches estimates carrying exactly that flag.
+ * Narrows a unit's estimate history; every null field matches everything. The times are the
+ * estimate's recording window start and its trace's received time ({@link TimeFilter}). A flag
+ * matches estimates carrying exactly that flag.
  */
-public record EstimateFilter(String familyOrNull, Integer versionOrNull, Instant fromOrNull, Instant toOrNull,
-                             String flagOrNull) {
+public record EstimateFilter(String familyOrNull, Integer versionOrNull, TimeFilter times, String flagOrNull) {
 
     /** Matches every estimate. */
-    public static final EstimateFilter NONE = new EstimateFilter(null, null, null, null, null);
+    public static final EstimateFilter NONE = new EstimateFilter(null, null, TimeFilter.NONE, null);
 
     public EstimateFilter {
-        if (fromOrNull != null && toOrNull != null && fromOrNull.isAfter(toOrNull)) {
-            throw new IllegalArgumentException("got from " + fromOrNull + " after to " + toOrNull
-                    + ", expected from <= to");
-        }
+        Expect.notNull("times", times);
         if (flagOrNull != null) {
             Expect.flag(flagOrNull);
         }

@@ -11,25 +11,21 @@ import java.util.Map;
  * @param family            the model family
  * @param channelsByVersion the versions to summarise, in answer order, each with the output channels whose RMS
  *                          to summarise
- * @param fromOrNull        window start on estimate and trace times, inclusive; null for no bound
- * @param toOrNull          window end, exclusive; null for no bound
+ * @param times             the recording window and received range of the estimates and traces counted
  * @param staleVersionOrNull stale units are judged by their newest estimate of this version, or of any version
  *                          of the family when null
- * @param staleBefore       a unit whose newest estimate is older than this is stale
+ * @param staleBefore       a unit whose newest recording started before this is stale
  * @param listLimit         at most this many unit IDs per flag and stale units are listed (counts are complete)
  */
-public record FleetSummaryQuery(String family, Map<Integer, List<String>> channelsByVersion, Instant fromOrNull,
-                                Instant toOrNull, Integer staleVersionOrNull, Instant staleBefore, int listLimit) {
+public record FleetSummaryQuery(String family, Map<Integer, List<String>> channelsByVersion, TimeFilter times,
+                                Integer staleVersionOrNull, Instant staleBefore, int listLimit) {
 
     public FleetSummaryQuery {
         Expect.notBlank("family", family);
         Expect.notNull("channelsByVersion", channelsByVersion);
         Expect.notNull("staleBefore", staleBefore);
         Expect.atLeast("listLimit", listLimit, 1);
-        if (fromOrNull != null && toOrNull != null && fromOrNull.isAfter(toOrNull)) {
-            throw new IllegalArgumentException("got from " + fromOrNull + " after to " + toOrNull
-                    + ", expected from <= to");
-        }
+        Expect.notNull("times", times);
         Map<Integer, List<String>> copy = new LinkedHashMap<>();
         channelsByVersion.forEach((v, channels) -> copy.put(v, List.copyOf(channels)));
         channelsByVersion = java.util.Collections.unmodifiableMap(copy);

@@ -11,6 +11,8 @@ import java.util.UUID;
 
 /** Small JDBC helpers shared by the SQLite statement classes. */
 final class Sql {
+    private static final long MICROS_PER_SECOND = 1_000_000L;
+    private static final long NANOS_PER_MICRO = 1000L;
 
     private Sql() {
     }
@@ -57,6 +59,20 @@ final class Sql {
 
     static Long millisOrNull(Instant instant) {
         return instant == null ? null : instant.toEpochMilli();
+    }
+
+    /**
+     * An instant as a bound on recording times, which are epoch seconds on the microsecond grid
+     * (REAL; see formats.RecordingTime): rounded up to its microsecond, it compares with every such
+     * time (≥ and <) as the instant itself does.
+     */
+    static double recordingSeconds(Instant instant) {
+        return (instant.getEpochSecond() * MICROS_PER_SECOND + (instant.getNano() + NANOS_PER_MICRO - 1) / NANOS_PER_MICRO)
+                / (double) MICROS_PER_SECOND;
+    }
+
+    static Double recordingSecondsOrNull(Instant instant) {
+        return instant == null ? null : recordingSeconds(instant);
     }
 
     static Instant instant(ResultSet rs, String column) throws SQLException {

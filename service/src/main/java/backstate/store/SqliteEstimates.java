@@ -5,22 +5,30 @@ import java.sql.PreparedStatement;
 import java.sql.ResultSet;
 import java.sql.SQLException;
 import java.time.Instant;
+import java.util.ArrayList;
+import java.util.Collections;
 import java.util.List;
 import java.util.Optional;
 
-/** Estimates: written with their job's completion, read newest first per unit. */
+/**
+ * Estimates: written with their job's completion, read newest recording first per unit (window
+ * start, then time written, then id; see V7__recording_time.sql).
+ */
 final class SqliteEstimates {
 
     private static final String ESTIMATE_COLUMNS = "id, job_id, trace_id, unit_id, family, version, created_at,"
-            + " window_start, window_end, chi2_per_dof, flags, summary_json";
+            + " received_at, window_start, window_end, chi2_per_dof, flags, summary_json";
 
+    // received_at is the trace's, copied so that history and the fleet views filter by it from
+    // their indexes; a trace that is not there leaves it NULL, which NOT NULL refuses.
     private static final String INSERT_ESTIMATE = "INSERT INTO estimates (" + ESTIMATE_COLUMNS + ")"
-            + " VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)";
+            + " VALUES (?, ?, ?, ?, ?, ?, ?, (SELECT received_at FROM traces WHERE id = ?), ?, ?, ?, ?, ?)";
     private static final String FIND_ESTIMATE = "SELECT " + ESTIMATE_COLUMNS + " FROM estimates WHERE id = ?";
     private static final String FIND_ESTIMATE_FOR_JOB =
             "SELECT " + ESTIMATE_COLUMNS + " FROM estimates WHERE job_id = ?";
+    private static final String NEWEST_RECORDING_FIRST = " ORDER BY window_start DESC, created_at DESC, id DESC";
     private static final String FIND_LATEST_ESTIMATE = "SELECT " + ESTIMATE_COLUMNS
-            + " FROM estimates WHERE unit_id = ? ORDER BY created_at DESC, id DESC LIMIT 1";
+            + " FROM estimates WHERE unit_id = ?" + NEWEST_RECORDING_FIRST + " LIMIT 1";
     // One statement for every combination of filters: each "? IS NULL OR ..." pair is bound
     // twice with the same value. PostgreSQL cannot infer a type for a bare "? IS NULL", so there
     // each first placeholder needs a cast (CAST(? AS text), CAST(? AS bigint)); and instr is
@@ -29,11 +37,10 @@ final class SqliteEstimates {
             + " WHERE unit_id = ?"
             + " AND (? IS NULL OR family = ?)"
             + " AND (? IS NULL OR version = ?)"
-            + " AND (? IS NULL OR created_at >= ?)"
-            + " AND (? IS NULL OR created_at < ?)"
+            + TimeConditions.RECORDED_AND_RECEIVED
             + " AND (? IS NULL OR instr(',' || flags || ',', ',' || ? || ',') > 0)"
-            + " AND (? IS NULL OR (created_at, id) < (?, ?))"
-            + " ORDER BY created_at DESC, id DESC LIMIT ?";
+            + " AND (? IS NULL OR (window_start, created_at, id) < (?, ?, ?))"
+            + NEWEST_RECORDING_FIRST + " LIMIT ?";
 
     private final SqliteConnections db;
 
@@ -57,7 +64,7 @@ final class SqliteEstimates {
         Expect.notBlank("unitId", unitId);
         Expect.notNull("filter", filter);
         Expect.atLeast("limit", limit, 1);
-        EstimateCursor after = cursorOrNull == null ? null : EstimateCursor.decode(cursorOrNull);
+        RecordingCursor after = cursorOrNull == null ? null : RecordingCursor.decode(cursorOrNull);
         // One row more than asked tells whether another page follows.
         List<EstimateRow> rows = db.read(c -> listHistory(c, unitId, filter, after, limit + 1));
         if (rows.size() <= limit) {
@@ -65,7 +72,7 @@ final class SqliteEstimates {
         }
         List<EstimateRow> page = rows.subList(0, limit);
         EstimateRow last = page.get(limit - 1);
-        return new EstimatePage(page, new EstimateCursor(Sql.millis(last.createdAt()), last.id()).encode());
+        return new EstimatePage(page, new RecordingCursor(last.windowStart(), Sql.millis(last.createdAt()), last.id()).encode());
     }
 
     private Optional<EstimateRow> findOne(String sql, String key) {
@@ -78,26 +85,22 @@ final class SqliteEstimates {
 
     static void insertEstimate(Connection c, String jobId, NewEstimate e, Instant now) throws SQLException {
         try (PreparedStatement ps = Sql.bind(c.prepareStatement(INSERT_ESTIMATE), Sql.newId(), jobId,
-                e.traceId(), e.unitId(), e.family(), e.version(), Sql.millis(now), e.windowStart(), e.windowEnd(),
-                e.chi2PerDof(), Sql.joinFlags(e.flags()), e.summaryJson())) {
+                e.traceId(), e.unitId(), e.family(), e.version(), Sql.millis(now), e.traceId(), e.windowStart(),
+                e.windowEnd(), e.chi2PerDof(), Sql.joinFlags(e.flags()), e.summaryJson())) {
             ps.executeUpdate();
         }
     }
 
     private static List<EstimateRow> listHistory(Connection c, String unitId, EstimateFilter f,
-                                                 EstimateCursor after, int rows) throws SQLException {
-        Long from = Sql.millisOrNull(f.fromOrNull());
-        Long to = Sql.millisOrNull(f.toOrNull());
+                                                 RecordingCursor after, int rows) throws SQLException {
+        Double afterStart = after == null ? null : after.windowStart();
         Long afterMillis = after == null ? null : after.createdAtMillis();
         String afterId = after == null ? null : after.id();
-        try (PreparedStatement ps = Sql.bind(c.prepareStatement(LIST_ESTIMATE_HISTORY), unitId,
-                f.familyOrNull(), f.familyOrNull(),
-                f.versionOrNull(), f.versionOrNull(),
-                from, from,
-                to, to,
-                f.flagOrNull(), f.flagOrNull(),
-                afterMillis, afterMillis, afterId,
-                rows)) {
+        List<Object> values = new ArrayList<>(List.of(unitId));
+        Collections.addAll(values, f.familyOrNull(), f.familyOrNull(), f.versionOrNull(), f.versionOrNull());
+        TimeConditions.bind(values, f.times());
+        Collections.addAll(values, f.flagOrNull(), f.flagOrNull(), afterStart, afterStart, afterMillis, afterId, rows);
+        try (PreparedStatement ps = Sql.bind(c.prepareStatement(LIST_ESTIMATE_HISTORY), values.toArray())) {
             return Sql.list(ps, SqliteEstimates::estimateRow);
         }
     }
@@ -105,7 +108,7 @@ final class SqliteEstimates {
     private static EstimateRow estimateRow(ResultSet rs) throws SQLException {
         return new EstimateRow(rs.getString("id"), rs.getString("job_id"), rs.getString("trace_id"),
                 rs.getString("unit_id"), rs.getString("family"), rs.getInt("version"), Sql.instant(rs, "created_at"),
-                rs.getDouble("window_start"), rs.getDouble("window_end"), Sql.doubleOrNull(rs, "chi2_per_dof"),
+                Sql.instant(rs, "received_at"), rs.getDouble("window_start"), rs.getDouble("window_end"), Sql.doubleOrNull(rs, "chi2_per_dof"),
                 Sql.splitFlags(rs.getString("flags")), rs.getString("summary_json"));
     }
 }

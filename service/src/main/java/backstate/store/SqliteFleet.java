@@ -19,18 +19,20 @@ import java.util.TreeSet;
 
 /**
  * The fleet views' named statements: the derived rows written with each estimate (tables of
- * V2__fleet_views.sql), the summary of a model version's window, the unit list and a unit's
- * trend of one state.
+ * V2__fleet_views.sql, rebuilt by V7__recording_time.sql), the summary of a model version's
+ * recording window, the unit list and a unit's trend of one state, all by recording time.
  *
  * <p>Percentiles are computed here in Java over one column read through a covering index
- * (χ²/dof from estimates_by_model_window, RMS from estimate_channels' key), so the scan is
+ * (χ²/dof from estimates_by_model_recorded, RMS from estimate_channels' key), so the scan is
  * bounded by the window and costs 8 bytes per value; SQLite has no percentile aggregate, and
  * its ORDER BY … OFFSET route sorts in a temporary B-tree, which FleetQueryBench measures as
  * slower (see docs/fleet-and-planning.md).
  */
 final class SqliteFleet {
 
-    /** The window bounds bound when a side is open: no stored millisecond time reaches them. */
+    /** The bounds bound when a side of a range is open: no stored time reaches them. */
+    private static final double OPEN_START_SECONDS = -Double.MAX_VALUE;
+    private static final double OPEN_END_SECONDS = Double.MAX_VALUE;
     private static final long OPEN_START = Long.MIN_VALUE;
     private static final long OPEN_END = Long.MAX_VALUE;
     /** Quantiles reported by a summary: the median and the 95th percentile. */
@@ -40,54 +42,62 @@ final class SqliteFleet {
     private static final int FIRST_CAPACITY = 1024;
 
     // Written with every estimate, in the completing job's transaction. Keep in step with the
-    // backfill at the end of V2__fleet_views.sql, which runs the same SELECTs for every estimate.
+    // backfill at the end of V7__recording_time.sql, which runs the same SELECTs for every estimate.
     private static final String RECORD_STATES = "INSERT INTO estimate_states"
             + " (estimate_id, state, value, standard_error, lower, upper)"
             + " SELECT estimate_id, state, value, standard_error, lower, upper FROM estimate_document_states"
             + " WHERE job_id = ? ON CONFLICT DO NOTHING";
     private static final String RECORD_CHANNELS = "INSERT INTO estimate_channels"
-            + " (family, version, channel, created_at, estimate_id, rms)"
-            + " SELECT family, version, channel, created_at, estimate_id, rms FROM estimate_document_channels"
-            + " WHERE job_id = ? ON CONFLICT DO NOTHING";
-    // An older estimate written late (a retried job) must not replace a newer one: the update
-    // applies only when the incoming (created_at, id) is greater. Same syntax on PostgreSQL.
-    private static final String RECORD_UNIT_LATEST = "INSERT INTO unit_latest"
-            + " (family, unit_id, version, estimate_id, created_at, chi2_per_dof, flags)"
-            + " SELECT family, unit_id, version, id, created_at, chi2_per_dof, flags FROM estimates WHERE job_id = ?"
+            + " (family, version, channel, window_start, estimate_id, received_at, rms)"
+            + " SELECT family, version, channel, window_start, estimate_id, received_at, rms"
+            + " FROM estimate_document_channels WHERE job_id = ? ON CONFLICT DO NOTHING";
+    private static final String LATEST_COLUMNS = "unit_id, family, version, estimate_id, window_start, window_end,"
+            + " received_at, created_at, chi2_per_dof, flags";
+    // A unit's newest estimate is its newest recording (then newest written, then id): a late
+    // upload of an older recording, or a retried job, must not replace it. The update applies
+    // only when the incoming (window_start, created_at, id) is greater. Same syntax on PostgreSQL.
+    private static final String RECORD_UNIT_LATEST = "INSERT INTO unit_latest (" + LATEST_COLUMNS + ")"
+            + " SELECT unit_id, family, version, id, window_start, window_end, received_at, created_at, chi2_per_dof,"
+            + " flags FROM estimates WHERE job_id = ?"
             + " ON CONFLICT (family, unit_id) DO UPDATE SET version = excluded.version,"
-            + " estimate_id = excluded.estimate_id, created_at = excluded.created_at,"
+            + " estimate_id = excluded.estimate_id, window_start = excluded.window_start,"
+            + " window_end = excluded.window_end, received_at = excluded.received_at, created_at = excluded.created_at,"
             + " chi2_per_dof = excluded.chi2_per_dof, flags = excluded.flags"
-            + " WHERE (excluded.created_at, excluded.estimate_id) > (unit_latest.created_at, unit_latest.estimate_id)";
-    private static final String RECORD_UNIT_VERSION_LATEST = "INSERT INTO unit_version_latest"
-            + " (family, version, unit_id, estimate_id, created_at, chi2_per_dof, flags)"
-            + " SELECT family, version, unit_id, id, created_at, chi2_per_dof, flags FROM estimates WHERE job_id = ?"
+            + " WHERE (excluded.window_start, excluded.created_at, excluded.estimate_id)"
+            + " > (unit_latest.window_start, unit_latest.created_at, unit_latest.estimate_id)";
+    private static final String RECORD_UNIT_VERSION_LATEST = "INSERT INTO unit_version_latest (" + LATEST_COLUMNS + ")"
+            + " SELECT unit_id, family, version, id, window_start, window_end, received_at, created_at, chi2_per_dof,"
+            + " flags FROM estimates WHERE job_id = ?"
             + " ON CONFLICT (family, version, unit_id) DO UPDATE SET"
-            + " estimate_id = excluded.estimate_id, created_at = excluded.created_at,"
+            + " estimate_id = excluded.estimate_id, window_start = excluded.window_start,"
+            + " window_end = excluded.window_end, received_at = excluded.received_at, created_at = excluded.created_at,"
             + " chi2_per_dof = excluded.chi2_per_dof, flags = excluded.flags"
-            + " WHERE (excluded.created_at, excluded.estimate_id)"
-            + " > (unit_version_latest.created_at, unit_version_latest.estimate_id)";
+            + " WHERE (excluded.window_start, excluded.created_at, excluded.estimate_id)"
+            + " > (unit_version_latest.window_start, unit_version_latest.created_at, unit_version_latest.estimate_id)";
 
-    // A version's window [from, to). Both bounds are always bound (open sides as the extreme
-    // longs) so the planner sees one index range; "? IS NULL OR" would hide it.
-    private static final String WINDOW = " WHERE family = ? AND version = ? AND created_at >= ? AND created_at < ?";
+    // A version's recording window [from, to) and received range [from, to). Every bound is
+    // always bound (open sides as the extreme values) so the planner sees one index range on the
+    // recording window; "? IS NULL OR" would hide it. The received range is checked from the same
+    // covering index or key.
+    private static final String WINDOW = " WHERE family = ? AND version = ? AND window_start >= ? AND window_start < ?"
+            + " AND received_at >= ? AND received_at < ?";
     private static final String COUNT_ESTIMATES = "SELECT count(*), count(DISTINCT unit_id) FROM estimates" + WINDOW;
     private static final String LIST_CHI2 = "SELECT chi2_per_dof FROM estimates" + WINDOW
             + " AND chi2_per_dof IS NOT NULL";
     private static final String LIST_FLAGGED = "SELECT unit_id, flags FROM estimates" + WINDOW + " AND flags <> ''";
     private static final String LIST_CHANNEL_RMS = "SELECT rms FROM estimate_channels"
-            + " WHERE family = ? AND version = ? AND channel = ? AND created_at >= ? AND created_at < ?"
-            + " AND rms IS NOT NULL";
-    private static final String COUNT_TRACES = "SELECT count(*) FROM traces"
-            + " WHERE family = ? AND version = ? AND received_at >= ? AND received_at < ?";
+            + " WHERE family = ? AND version = ? AND channel = ? AND window_start >= ? AND window_start < ?"
+            + " AND received_at >= ? AND received_at < ? AND rms IS NOT NULL";
+    private static final String COUNT_TRACES = "SELECT count(*) FROM traces" + WINDOW;
 
-    private static final String LATEST_COLUMNS = "unit_id, family, version, estimate_id, created_at, chi2_per_dof, flags";
-    private static final String COUNT_STALE = "SELECT count(*) FROM unit_latest WHERE family = ? AND created_at < ?";
+    // Stale: the newest recording started before the cutoff.
+    private static final String COUNT_STALE = "SELECT count(*) FROM unit_latest WHERE family = ? AND window_start < ?";
     private static final String LIST_STALE = "SELECT " + LATEST_COLUMNS + " FROM unit_latest"
-            + " WHERE family = ? AND created_at < ? ORDER BY created_at, unit_id LIMIT ?";
+            + " WHERE family = ? AND window_start < ? ORDER BY window_start, unit_id LIMIT ?";
     private static final String COUNT_STALE_OF_VERSION = "SELECT count(*) FROM unit_version_latest"
-            + " WHERE family = ? AND version = ? AND created_at < ?";
+            + " WHERE family = ? AND version = ? AND window_start < ?";
     private static final String LIST_STALE_OF_VERSION = "SELECT " + LATEST_COLUMNS + " FROM unit_version_latest"
-            + " WHERE family = ? AND version = ? AND created_at < ? ORDER BY created_at, unit_id LIMIT ?";
+            + " WHERE family = ? AND version = ? AND window_start < ? ORDER BY window_start, unit_id LIMIT ?";
 
     // The unit list: one statement per order and table. The sort tuple has no index (it holds
     // expressions), so each page sorts the family's rows: one per unit, not per estimate.
@@ -95,12 +105,13 @@ final class SqliteFleet {
     private static final Map<UnitSort, String> LIST_UNITS_OF_VERSION =
             unitListStatements("unit_version_latest", " AND version = ?");
 
-    // A unit's trend walks estimates_by_unit_newest and looks each estimate's state up by key.
-    private static final String LIST_STATE_TREND = "SELECT e.id, e.created_at, e.version, e.window_start,"
-            + " e.window_end, s.value, s.standard_error, s.lower, s.upper"
+    // A unit's trend walks estimates_by_unit_recorded and looks each estimate's state up by key.
+    private static final String LIST_STATE_TREND = "SELECT e.id, e.created_at, e.received_at, e.version,"
+            + " e.window_start, e.window_end, s.value, s.standard_error, s.lower, s.upper"
             + " FROM estimates e JOIN estimate_states s ON s.estimate_id = e.id AND s.state = ?"
             + " WHERE e.unit_id = ? AND e.family = ? AND (? IS NULL OR e.version = ?)"
-            + " ORDER BY e.created_at DESC, e.id DESC LIMIT ?";
+            + TimeConditions.RECORDED_AND_RECEIVED
+            + " ORDER BY e.window_start DESC, e.created_at DESC, e.id DESC LIMIT ?";
 
     private SqliteFleet() {
     }
@@ -166,16 +177,21 @@ final class SqliteFleet {
         return new UnitPage(page, new UnitCursor(sort, sort.keyOf(page.get(limit - 1))).encode());
     }
 
-    /** The newest {@code limit} estimates of one state, newest first. */
+    /** The {@code limit} estimates of one state with the newest recordings in the time filter, newest first. */
     static List<StatePoint> stateTrend(SqliteConnections db, String unitId, String state, String family,
-                                       Integer versionOrNull, int limit) {
+                                       Integer versionOrNull, TimeFilter times, int limit) {
         Expect.notBlank("unitId", unitId);
         Expect.notBlank("state", state);
         Expect.notBlank("family", family);
+        Expect.notNull("times", times);
         Expect.atLeast("limit", limit, 1);
+        List<Object> values = new ArrayList<>(List.of(state, unitId, family));
+        values.add(versionOrNull);
+        values.add(versionOrNull);
+        TimeConditions.bind(values, times);
+        values.add(limit);
         return db.read(c -> {
-            try (PreparedStatement ps = Sql.bind(c.prepareStatement(LIST_STATE_TREND), state, unitId, family,
-                    versionOrNull, versionOrNull, limit)) {
+            try (PreparedStatement ps = Sql.bind(c.prepareStatement(LIST_STATE_TREND), values.toArray())) {
                 return Sql.list(ps, SqliteFleet::statePoint);
             }
         });
@@ -183,29 +199,33 @@ final class SqliteFleet {
 
     private static FleetSummary.VersionActivity versionActivity(Connection c, FleetSummaryQuery q, int version,
                                                                 List<String> channels) throws SQLException {
-        long from = q.fromOrNull() == null ? OPEN_START : Sql.millis(q.fromOrNull());
-        long to = q.toOrNull() == null ? OPEN_END : Sql.millis(q.toOrNull());
+        TimeFilter t = q.times();
+        double from = t.recordedFromOrNull() == null ? OPEN_START_SECONDS : Sql.recordingSeconds(t.recordedFromOrNull());
+        double to = t.recordedToOrNull() == null ? OPEN_END_SECONDS : Sql.recordingSeconds(t.recordedToOrNull());
+        long receivedFrom = t.receivedFromOrNull() == null ? OPEN_START : Sql.millis(t.receivedFromOrNull());
+        long receivedTo = t.receivedToOrNull() == null ? OPEN_END : Sql.millis(t.receivedToOrNull());
+        Object[] window = {q.family(), version, from, to, receivedFrom, receivedTo};
         long[] counts;
-        try (PreparedStatement ps = Sql.bind(c.prepareStatement(COUNT_ESTIMATES), q.family(), version, from, to)) {
+        try (PreparedStatement ps = Sql.bind(c.prepareStatement(COUNT_ESTIMATES), window)) {
             counts = Sql.firstOrNull(ps, rs -> new long[] {rs.getLong(1), rs.getLong(2)});
         }
         long traces;
-        try (PreparedStatement ps = Sql.bind(c.prepareStatement(COUNT_TRACES), q.family(), version, from, to)) {
+        try (PreparedStatement ps = Sql.bind(c.prepareStatement(COUNT_TRACES), window)) {
             traces = Sql.firstOrNull(ps, rs -> rs.getLong(1));
         }
         FleetSummary.Distribution chi2;
-        try (PreparedStatement ps = Sql.bind(c.prepareStatement(LIST_CHI2), q.family(), version, from, to)) {
+        try (PreparedStatement ps = Sql.bind(c.prepareStatement(LIST_CHI2), window)) {
             chi2 = distribution(ps);
         }
         Map<String, FleetSummary.Distribution> rms = new LinkedHashMap<>();
         for (String channel : channels) {
             try (PreparedStatement ps = Sql.bind(c.prepareStatement(LIST_CHANNEL_RMS), q.family(), version, channel,
-                    from, to)) {
+                    from, to, receivedFrom, receivedTo)) {
                 rms.put(channel, distribution(ps));
             }
         }
         Map<String, FleetSummary.FlaggedUnits> flags;
-        try (PreparedStatement ps = Sql.bind(c.prepareStatement(LIST_FLAGGED), q.family(), version, from, to)) {
+        try (PreparedStatement ps = Sql.bind(c.prepareStatement(LIST_FLAGGED), window)) {
             flags = flagged(ps, q.listLimit());
         }
         return new FleetSummary.VersionActivity(version, counts[1], traces, counts[0], chi2, rms, flags);
@@ -254,7 +274,7 @@ final class SqliteFleet {
     }
 
     private static FleetSummary.StaleUnits stale(Connection c, FleetSummaryQuery q) throws SQLException {
-        long before = Sql.millis(q.staleBefore());
+        double before = Sql.recordingSeconds(q.staleBefore());
         Integer version = q.staleVersionOrNull();
         Object[] key = version == null ? new Object[] {q.family(), before} : new Object[] {q.family(), version, before};
         long count;
@@ -289,12 +309,14 @@ final class SqliteFleet {
 
     private static UnitLatestRow latestRow(ResultSet rs) throws SQLException {
         return new UnitLatestRow(rs.getString("unit_id"), rs.getString("family"), rs.getInt("version"),
-                rs.getString("estimate_id"), Sql.instant(rs, "created_at"), Sql.doubleOrNull(rs, "chi2_per_dof"),
+                rs.getString("estimate_id"), rs.getDouble("window_start"), rs.getDouble("window_end"),
+                Sql.instant(rs, "received_at"), Sql.instant(rs, "created_at"), Sql.doubleOrNull(rs, "chi2_per_dof"),
                 Sql.splitFlags(rs.getString("flags")));
     }
 
     private static StatePoint statePoint(ResultSet rs) throws SQLException {
-        return new StatePoint(rs.getString("id"), Sql.instant(rs, "created_at"), rs.getInt("version"),
+        return new StatePoint(rs.getString("id"), Sql.instant(rs, "created_at"), Sql.instant(rs, "received_at"),
+                rs.getInt("version"),
                 rs.getDouble("window_start"), rs.getDouble("window_end"), Sql.doubleOrNull(rs, "value"),
                 Sql.doubleOrNull(rs, "standard_error"), Sql.doubleOrNull(rs, "lower"), Sql.doubleOrNull(rs, "upper"));
     }

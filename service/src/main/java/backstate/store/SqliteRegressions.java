@@ -6,6 +6,8 @@ import java.sql.PreparedStatement;
 import java.sql.ResultSet;
 import java.sql.SQLException;
 import java.time.Instant;
+import java.util.ArrayList;
+import java.util.Collections;
 import java.util.List;
 import java.util.Optional;
 
@@ -18,21 +20,22 @@ final class SqliteRegressions {
 
     private static final String KIND_REGRESSION = "regression";
 
-    // ROW_NUMBER ranks each unit's traces newest first; both SQLite (3.25+) and PostgreSQL have
-    // it. The unit list is bound as one JSON array and opened with SQLite's json_each; on
-    // PostgreSQL bind a text[] and write "unit_id = ANY(?)" instead. Each "? IS NULL OR ..." pair
-    // is bound twice with the same value (PostgreSQL needs casts on the first, as in estimates).
+    // ROW_NUMBER ranks each unit's traces newest recording first; both SQLite (3.25+) and
+    // PostgreSQL have it. The unit list is bound as one JSON array and opened with SQLite's
+    // json_each; on PostgreSQL bind a text[] and write "unit_id = ANY(?)" instead. Each "? IS NULL
+    // OR ..." pair is bound twice with the same value (PostgreSQL needs casts on the first, as in
+    // estimates).
     private static final String SELECT_TRACES = """
             SELECT id, unit_id, family, version, received_at FROM (
-                SELECT id, unit_id, family, version, received_at,
-                       ROW_NUMBER() OVER (PARTITION BY unit_id ORDER BY received_at DESC, id DESC) AS recency
+                SELECT id, unit_id, family, version, received_at, window_start,
+                       ROW_NUMBER() OVER (PARTITION BY unit_id
+                                          ORDER BY window_start DESC, received_at DESC, id DESC) AS recency
                 FROM traces
                 WHERE family = ?
-                  AND (? IS NULL OR unit_id IN (SELECT value FROM json_each(?)))
-                  AND (? IS NULL OR received_at >= ?)
-                  AND (? IS NULL OR received_at < ?))
+                  AND (? IS NULL OR unit_id IN (SELECT value FROM json_each(?)))""" + TimeConditions.RECORDED_AND_RECEIVED + """
+            )
             WHERE (? IS NULL OR recency <= ?)
-            ORDER BY unit_id, received_at, id
+            ORDER BY unit_id, window_start, received_at, id
             LIMIT ?""";
     private static final String INSERT_REGRESSION = "INSERT INTO regressions"
             + " (job_id, family, baseline, candidate, created_at) VALUES (?, ?, ?, ?, ?)";
@@ -63,12 +66,13 @@ final class SqliteRegressions {
     static List<TraceRef> selectTraces(SqliteConnections db, TraceSelection s) {
         Expect.notNull("selection", s);
         String units = s.unitsOrNull() == null ? null : jsonArray(s.unitsOrNull());
-        Long from = Sql.millisOrNull(s.receivedFromOrNull());
-        Long to = Sql.millisOrNull(s.receivedToOrNull());
         Integer latest = s.latestPerUnitOrNull();
+        List<Object> values = new ArrayList<>(List.of(s.family()));
+        Collections.addAll(values, units, units);
+        TimeConditions.bind(values, s.times());
+        Collections.addAll(values, latest, latest, s.maxRows());
         return db.read(c -> {
-            try (PreparedStatement ps = Sql.bind(c.prepareStatement(SELECT_TRACES), s.family(), units, units,
-                    from, from, to, to, latest, latest, s.maxRows())) {
+            try (PreparedStatement ps = Sql.bind(c.prepareStatement(SELECT_TRACES), values.toArray())) {
                 return Sql.list(ps, rs -> new TraceRef(rs.getString("id"), rs.getString("unit_id"),
                         rs.getString("family"), rs.getInt("version"), Sql.instant(rs, "received_at")));
             }

@@ -284,7 +284,8 @@ public final class SqliteStore implements Store, JobQueue {
     }
 
     @Override
-    public List<StatePoint> stateTrend(String unitId, String state, String family, Integer versionOrNull, int limit) {
-        return SqliteFleet.stateTrend(db, unitId, state, family, versionOrNull, limit);
+    public List<StatePoint> stateTrend(String unitId, String state, String family, Integer versionOrNull, TimeFilter times,
+                                       int limit) {
+        return SqliteFleet.stateTrend(db, unitId, state, family, versionOrNull, times, limit);
     }
 }

@@ -58,11 +58,13 @@ public interface Store extends AutoCloseable {
     /** Cancels a job that no worker has claimed yet; false if it is not queued. */
     boolean cancelIfQueued(String jobId, Instant now);
 
+    /** The unit's estimate of its newest recording (then the newest written, then by id). */
     Optional<EstimateRow> latestEstimate(String unitId);
 
     /**
-     * One page of a unit's estimates, newest first. The cursor is the keyset (created_at, id)
-     * of the last row returned, so pages stay stable while new estimates arrive.
+     * One page of a unit's estimates, newest recording first (window start, then time written,
+     * then id). The cursor is that keyset of the last row returned, so pages stay stable while new
+     * estimates arrive.
      *
      * @throws InvalidCursorException if the cursor did not come from this method
      */
@@ -104,7 +106,7 @@ public interface Store extends AutoCloseable {
     // ---- regression runs (model version against model version over stored traces)
 
     /**
-     * The stored traces of a family the selection matches, by unit then received time, at most
+     * The stored traces of a family the selection matches, by unit then recording time, at most
      * {@code selection.maxRows()} of them; payloads are not read.
      */
     List<TraceRef> selectTraces(TraceSelection selection);
@@ -144,7 +146,7 @@ public interface Store extends AutoCloseable {
     // ---- fleet views (dashboards): read from tables derived from each estimate as it is written
 
     /**
-     * Per model version: units, traces and estimates in the window, the distribution of χ²/dof
+     * Per model version: units, traces and estimates in the recording window (and received range), the distribution of χ²/dof
      * and of each channel's residual RMS, and the units per flag; plus the stale units. Read in
      * one snapshot, so the figures agree with each other.
      */
@@ -158,6 +160,10 @@ public interface Store extends AutoCloseable {
      */
     UnitPage fleetUnits(UnitFilter filter, UnitSort sort, String cursorOrNull, int limit);
 
-    /** The unit's newest {@code limit} estimates of one state of a family (of one version, if given), newest first. */
-    List<StatePoint> stateTrend(String unitId, String state, String family, Integer versionOrNull, int limit);
+    /**
+     * The unit's {@code limit} estimates of one state of a family (of one version, if given) with the
+     * newest recordings in the time filter, newest recording first.
+     */
+    List<StatePoint> stateTrend(String unitId, String state, String family, Integer versionOrNull, TimeFilter times,
+                                int limit);
 }

@@ -45,12 +45,15 @@ record UnitCursor(UnitSort sort, List<Object> key) {
 
     private static double finite(double value) {
         if (!Double.isFinite(value)) {
-            throw new IllegalArgumentException("non-finite χ² in a cursor");
+            throw new IllegalArgumentException("non-finite number in a cursor");
         }
         return value;
     }
 
-    /** Term i of a sort: the last is the unit ID (text); χ² orders hold a 0/1 null marker, then a double. */
+    /**
+     * Term i of a sort: the last is the unit ID (text); χ² orders hold a 0/1 null marker, then a
+     * double; recording orders a window start (Double.toString, which parses back to the same double).
+     */
     private static Object parse(UnitSort sort, int term, String value) {
         if (term == sort.terms.size() - 1) {
             if (value.isEmpty()) {
@@ -59,7 +62,7 @@ record UnitCursor(UnitSort sort, List<Object> key) {
             return value;
         }
         return switch (sort) {
-            case LATEST, LATEST_DESC -> Long.parseLong(value);
+            case LATEST, LATEST_DESC -> finite(Double.parseDouble(value));
             case CHI_SQUARE, CHI_SQUARE_DESC -> term == 0 ? Long.parseLong(value) : finite(Double.parseDouble(value));
             case UNIT_ID, UNIT_ID_DESC -> throw new IllegalArgumentException("unit ID orders have one term");
         };

@@ -14,10 +14,10 @@ public enum UnitSort {
     UNIT_ID(List.of("unit_id"), true),
     /** By unit ID, Z to A. */
     UNIT_ID_DESC(List.of("unit_id"), false),
-    /** Oldest newest-estimate first: stale units on top. */
-    LATEST(List.of("created_at", "unit_id"), true),
-    /** Most recently estimated first. */
-    LATEST_DESC(List.of("created_at", "unit_id"), false),
+    /** Oldest newest recording first: stale units on top. */
+    LATEST(List.of("window_start", "unit_id"), true),
+    /** Newest recording first. */
+    LATEST_DESC(List.of("window_start", "unit_id"), false),
     /** Best fit first (smallest χ²/dof). */
     CHI_SQUARE(List.of("(chi2_per_dof IS NULL)", "coalesce(chi2_per_dof, 0.0)", "unit_id"), true),
     /** Worst fit first (largest χ²/dof). */
@@ -31,7 +31,7 @@ public enum UnitSort {
         this.ascending = ascending;
     }
 
-    /** The row-value form of the terms, e.g. "(created_at, unit_id)". */
+    /** The row-value form of the terms, e.g. "(window_start, unit_id)". */
     String tuple() {
         return "(" + String.join(", ", terms) + ")";
     }
@@ -50,7 +50,7 @@ public enum UnitSort {
     List<Object> keyOf(UnitLatestRow row) {
         return switch (this) {
             case UNIT_ID, UNIT_ID_DESC -> List.of(row.unitId());
-            case LATEST, LATEST_DESC -> List.of(Sql.millis(row.createdAt()), row.unitId());
+            case LATEST, LATEST_DESC -> List.of(row.windowStart(), row.unitId());
             case CHI_SQUARE -> List.of(row.chi2PerDof() == null ? 1L : 0L,
                     row.chi2PerDof() == null ? 0.0 : row.chi2PerDof(), row.unitId());
             case CHI_SQUARE_DESC -> List.of(row.chi2PerDof() == null ? 1L : 0L,

@@ -144,24 +144,31 @@ class FleetViewsTest {
     }
 
     @Test
-    void a_window_ending_now_holds_everything() {
-        JsonNode v1 = version(get("/v1/fleet/reefer-40/summary?from=2000-01-01T00:00:00Z&to="
-                + Instant.now().plusSeconds(60)), 1);
-        assertEquals(22, v1.get("estimates").asInt());
+    void the_window_is_recording_time_and_received_time_filters_apart() {
+        // The demo's times are seconds since 1970 (no start declared): every trace was recorded on 1970-01-01.
+        assertEquals(22, version(get("/v1/fleet/reefer-40/summary?from=1970-01-01T00:00:00Z&to=1970-01-02T00:00:00Z"), 1)
+                .get("estimates").asInt());
+        assertEquals(0, version(get("/v1/fleet/reefer-40/summary?from=2000-01-01T00:00:00Z"), 1).get("estimates").asInt());
+        // Received just now.
+        assertEquals(22, version(get("/v1/fleet/reefer-40/summary?receivedFrom=2000-01-01T00:00:00Z&receivedTo="
+                + Instant.now().plusSeconds(60)), 1).get("estimates").asInt());
+        assertEquals(0, version(get("/v1/fleet/reefer-40/summary?receivedTo=2000-01-01T00:00:00Z"), 1).get("estimates").asInt());
+        // RCX-24000 is the only trace recorded in the first 10 minutes of that day (its first sample: 540 s).
+        JsonNode early = version(get("/v1/fleet/reefer-40/summary?to=1970-01-01T00:10:00Z"), 1);
+        assertEquals(List.of(1, 1), List.of(early.get("units").asInt(), early.get("traces").asInt()));
     }
 
     @Test
-    void no_unit_is_stale_within_a_day_and_every_unit_is_after_a_millisecond_oldest_first() throws Exception {
-        assertEquals(0, get("/v1/fleet/reefer-40/summary").get("stale").get("count").asInt());
-        Thread.sleep(5);
-        JsonNode stale = get("/v1/fleet/reefer-40/summary?staleAfter=PT0.001S").get("stale");
+    void every_unit_is_stale_its_newest_recording_being_from_1970_oldest_recording_first() {
+        JsonNode stale = get("/v1/fleet/reefer-40/summary").get("stale");
         assertEquals(20, stale.get("count").asInt());
         List<String> expected = latestByUnit(null).entrySet().stream()
                 // By time, not by text: Instant.toString drops trailing zeros, so "…01.5Z" sorts after "…01.123Z".
-                .sorted(Comparator.comparing((Map.Entry<String, JsonNode> e) -> Instant.parse(e.getValue().get("createdAt").asText()))
+                .sorted(Comparator.comparing((Map.Entry<String, JsonNode> e) -> recorded(e.getValue()))
                         .thenComparing(Map.Entry::getKey))
                 .map(Map.Entry::getKey).toList();
         assertEquals(expected, texts(stale.get("oldestFirst"), "unitId"));
+        assertEquals("RCX-24000", expected.get(0), "the earliest first sample of the demo, 540 s");
         JsonNode staleV2 = get("/v1/fleet/reefer-40/summary?version=2&staleAfter=PT0.001S").get("stale");
         assertEquals(List.copyOf(new TreeSet<>(ALSO_V2)), texts(staleV2.get("oldestFirst"), "unitId").stream().sorted().toList());
     }
@@ -182,6 +189,8 @@ class FleetViewsTest {
             assertEquals(newest.get("id").asText(), u.get("estimateId").asText());
             assertEquals(newest.get("version").asInt(), u.get("version").asInt());
             assertEquals(newest.get("flags"), u.get("flags"));
+            assertEquals(List.of(newest.get("windowStart"), newest.get("windowEnd"), newest.get("receivedAt")),
+                    List.of(u.get("windowStart"), u.get("windowEnd"), u.get("receivedAt")));
         }
         assertEquals("RCX-80742", all.get(0).get("unitId").asText());
     }
@@ -206,8 +215,7 @@ class FleetViewsTest {
     void units_in_every_order_are_the_same_set_in_that_order() {
         Map<String, JsonNode> latest = latestByUnit(null);
         Comparator<String> byId = Comparator.naturalOrder();
-        Comparator<String> byTime = Comparator.comparing((String u) -> Instant.parse(latest.get(u).get("createdAt").asText()))
-                .thenComparing(byId);
+        Comparator<String> byTime = Comparator.comparing((String u) -> recorded(latest.get(u))).thenComparing(byId);
         Map<String, Comparator<String>> orders = new LinkedHashMap<>();
         orders.put("unitId", byId);
         orders.put("-unitId", byId.reversed());
@@ -370,10 +378,11 @@ class FleetViewsTest {
         return estimates.values().stream().filter(e -> e.get("version").asInt() == version).toList();
     }
 
-    /** Each unit's newest estimate (of one version, or of any when null), by the service's createdAt then ID. */
+    /** Each unit's newest estimate (of one version, or of any when null): newest recording, then newest written, then ID. */
     private Map<String, JsonNode> latestByUnit(Integer version) {
         Map<String, JsonNode> latest = new java.util.TreeMap<>();
-        Comparator<JsonNode> newer = Comparator.comparing((JsonNode e) -> Instant.parse(e.get("createdAt").asText()))
+        Comparator<JsonNode> newer = Comparator.comparing(FleetViewsTest::recorded)
+                .thenComparing((JsonNode e) -> Instant.parse(e.get("createdAt").asText()))
                 .thenComparing(e -> e.get("id").asText());
         for (JsonNode e : estimates.values()) {
             if (version == null || e.get("version").asInt() == version) {
@@ -442,9 +451,13 @@ class FleetViewsTest {
 
     private static void assertChronological(JsonNode points) {
         for (int i = 1; i < points.size(); i++) {
-            assertTrue(Instant.parse(points.get(i - 1).get("createdAt").asText())
-                    .compareTo(Instant.parse(points.get(i).get("createdAt").asText())) <= 0, "oldest first");
+            assertTrue(recorded(points.get(i - 1)).compareTo(recorded(points.get(i))) <= 0, "oldest recording first");
         }
+    }
+
+    /** When an estimate's (or a point's) trace was recorded. */
+    private static Instant recorded(JsonNode estimateOrPoint) {
+        return Instant.parse(estimateOrPoint.get("windowStart").asText());
     }
 
     static void assertProblem(TestServer.Reply reply, int status, String field) {

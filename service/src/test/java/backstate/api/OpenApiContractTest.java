@@ -23,6 +23,8 @@ import java.nio.file.Files;
 import java.nio.file.Path;
 import java.time.Clock;
 import java.time.Duration;
+import java.time.Instant;
+import java.time.temporal.ChronoUnit;
 import java.util.ArrayList;
 import java.util.HashSet;
 import java.util.List;
@@ -244,7 +246,9 @@ class OpenApiContractTest {
         // 361 samples at 60 s; stride ceil(361/50) = 8 keeps samples 0, 8, …, 360: 46 points, 480 s apart.
         assertEquals(46, series.get("points").asInt());
         assertEquals(46, series.get("time").size());
-        assertEquals(latest.get("windowStart").asDouble(), series.get("time").get(0).asDouble());
+        // The demo's times are seconds since 1970 (no start declared): 43200 s is 1970-01-01T12:00:00Z.
+        assertEquals("1970-01-01T12:00:00Z", latest.get("windowStart").asText());
+        assertEquals(Instant.parse(latest.get("windowStart").asText()).getEpochSecond(), series.get("time").get(0).asDouble());
         assertEquals(480.0, series.get("time").get(1).asDouble() - series.get("time").get(0).asDouble());
         assertEquals(List.of("return_air", "supply_air"), names(series.get("outputs")));
         assertEquals(46, series.get("residual").get("supply_air").size());
@@ -489,9 +493,11 @@ class OpenApiContractTest {
         String family = "fleet";
         api.postJson("/v1/models", "{\"name\":\"" + family + "\",\"description\":\"dashboard\"}");
         api.post("/v1/models/" + family + "/versions", "application/json", demoModel(1));
+        // Recorded within the last day: the demo's seconds counted from a day ago ("time since" header).
+        Instant dayAgo = Instant.now().minus(Duration.ofDays(1)).truncatedTo(ChronoUnit.SECONDS);
         for (String unit : List.of("RCX-85159", "RCX-24000")) { // posted as F-…, unit IDs no other test uses
             awaitJob(api.post("/v1/units/F-" + unit.substring(4) + "/traces?model=" + family + "&version=1", "text/csv",
-                    demoTrace(unit)).json().get("jobId").asText());
+                    demoTraceSince(unit, dayAgo)).json().get("jobId").asText());
         }
         JsonNode summary = api.get("/v1/fleet/" + family + "/summary").json();
         JsonNode v1 = summary.get("versions").get(0);
@@ -500,7 +506,10 @@ class OpenApiContractTest {
         assertEquals(0, v1.get("flags").get("unobservable").get("units").asInt());
         assertEquals(2, v1.get("channelRms").get("return_air").get("count").asInt());
         assertEquals("PT24H", summary.get("staleAfter").asText());
-        assertEquals(0, summary.get("stale").get("count").asInt(), "both estimates are minutes old");
+        assertEquals(0, summary.get("stale").get("count").asInt(), "both recordings started within the last day");
+        JsonNode received = api.get("/v1/fleet/" + family + "/summary?receivedFrom=" + dayAgo + "&to=" + Instant.now()).json();
+        assertEquals(2, received.get("versions").get(0).get("estimates").asInt());
+        assertEquals(dayAgo.toString(), received.get("receivedFrom").asText());
 
         assertEquals(List.of("F-24000", "F-85159"),
                 names(api.get("/v1/fleet/" + family + "/units?sort=unitId").json().get("items"), "unitId"));
@@ -769,6 +778,15 @@ class OpenApiContractTest {
 
     static byte[] demoTrace(String unitId) throws IOException {
         return Files.readAllBytes(TestServer.TEST_DATA.resolve("demo").resolve(demoUnit(unitId).get("trace").asText()));
+    }
+
+    /** A demo CSV trace whose seconds count from {@code start}: its header's "time" becomes "time since START". */
+    static byte[] demoTraceSince(String unitId, Instant start) throws IOException {
+        String csv = new String(demoTrace(unitId), StandardCharsets.UTF_8);
+        if (!csv.startsWith("time,")) {
+            throw new AssertionError("demo trace " + unitId + " is not a CSV with time first");
+        }
+        return ("time since " + start + csv.substring("time".length())).getBytes(StandardCharsets.UTF_8);
     }
 
     static JsonNode demoUnit(String unitId) {

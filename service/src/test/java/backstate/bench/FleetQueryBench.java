@@ -10,6 +10,7 @@ import backstate.formats.TraceOptions;
 import backstate.formats.TraceReader;
 import backstate.store.FleetBulkLoad;
 import backstate.store.FleetSummaryQuery;
+import backstate.store.TimeFilter;
 import backstate.store.NewModelVersion;
 import backstate.store.SqliteStore;
 import backstate.store.UnitFilter;
@@ -225,13 +226,13 @@ public final class FleetQueryBench {
             Map<Integer, List<String>> v2 = Map.of(2, List.of("return_air", "supply_air"));
             Instant stale = Instant.now().minus(Duration.ofHours(24));
             time("store: summary, last 24 h, both versions", units + " estimates",
-                    () -> store.fleetSummary(new FleetSummaryQuery(FAMILY, both, dayAgo, null, null, stale, 50)));
+                    () -> store.fleetSummary(new FleetSummaryQuery(FAMILY, both, TimeFilter.recorded(dayAgo, null), null, stale, 50)));
             time("store: summary, last 7 days, both versions", 7 * units + " estimates",
-                    () -> store.fleetSummary(new FleetSummaryQuery(FAMILY, both, weekAgo, null, null, stale, 50)));
+                    () -> store.fleetSummary(new FleetSummaryQuery(FAMILY, both, TimeFilter.recorded(weekAgo, null), null, stale, 50)));
             time("store: summary, all time, both versions", estimates + " estimates",
-                    () -> store.fleetSummary(new FleetSummaryQuery(FAMILY, both, null, null, null, stale, 50)));
+                    () -> store.fleetSummary(new FleetSummaryQuery(FAMILY, both, TimeFilter.NONE, null, stale, 50)));
             time("store: summary, all time, version 2", Math.round(estimates * (1 - VERSION_1_SHARE)) + " estimates",
-                    () -> store.fleetSummary(new FleetSummaryQuery(FAMILY, v2, null, null, 2, stale, 50)));
+                    () -> store.fleetSummary(new FleetSummaryQuery(FAMILY, v2, TimeFilter.NONE, 2, stale, 50)));
             time("store: units, worst χ²/dof first, 50", units + " units",
                     () -> store.fleetUnits(new UnitFilter(FAMILY, null, null), UnitSort.CHI_SQUARE_DESC, null, 50));
             UnitPage first = store.fleetUnits(new UnitFilter(FAMILY, null, null), UnitSort.CHI_SQUARE_DESC, null, 50);
@@ -244,9 +245,9 @@ public final class FleetQueryBench {
             time("store: units, stalest first, 50", units + " units",
                     () -> store.fleetUnits(new UnitFilter(FAMILY, null, null), UnitSort.LATEST, null, 50));
             time("store: trend of one state, 100 points", perUnit + " estimates",
-                    () -> store.stateTrend(middle, "cargo_core", FAMILY, null, 100));
+                    () -> store.stateTrend(middle, "cargo_core", FAMILY, null, TimeFilter.NONE, 100));
             time("store: trend of one state, version 1 only", perUnit + " estimates",
-                    () -> store.stateTrend(middle, "cargo_core", FAMILY, 1, 100));
+                    () -> store.stateTrend(middle, "cargo_core", FAMILY, 1, TimeFilter.NONE, 100));
             percentileRoutes(estimates);
         }
         http(dayAgo, middle);
@@ -316,17 +317,18 @@ public final class FleetQueryBench {
 
     private void printPlans() throws SQLException {
         Map<String, String> statements = new LinkedHashMap<>();
-        String window = " WHERE family = 'reefer-40' AND version = 1 AND created_at >= 0 AND created_at < 9e18";
+        String window = " WHERE family = 'reefer-40' AND version = 1 AND window_start >= -1e300 AND window_start < 1e300"
+                + " AND received_at >= 0 AND received_at < 9e18";
         statements.put("summary counts", "SELECT count(*), count(DISTINCT unit_id) FROM estimates" + window);
         statements.put("summary χ²/dof column", "SELECT chi2_per_dof FROM estimates" + window + " AND chi2_per_dof IS NOT NULL");
         statements.put("summary flagged rows", "SELECT unit_id, flags FROM estimates" + window + " AND flags <> ''");
         statements.put("summary channel RMS", "SELECT rms FROM estimate_channels WHERE family = 'reefer-40' AND version = 1"
-                + " AND channel = 'return_air' AND created_at >= 0 AND created_at < 9e18 AND rms IS NOT NULL");
-        statements.put("summary traces", "SELECT count(*) FROM traces WHERE family = 'reefer-40' AND version = 1"
-                + " AND received_at >= 0 AND received_at < 9e18");
+                + " AND channel = 'return_air' AND window_start >= -1e300 AND window_start < 1e300"
+                + " AND received_at >= 0 AND received_at < 9e18 AND rms IS NOT NULL");
+        statements.put("summary traces", "SELECT count(*) FROM traces" + window);
         statements.put("trend", "SELECT e.id, s.value FROM estimates e JOIN estimate_states s ON s.estimate_id = e.id"
                 + " AND s.state = 'cargo_core' WHERE e.unit_id = 'RCX-00001' AND e.family = 'reefer-40'"
-                + " ORDER BY e.created_at DESC, e.id DESC LIMIT 100");
+                + " ORDER BY e.window_start DESC, e.created_at DESC, e.id DESC LIMIT 100");
         statements.put("write path: states of one job", "INSERT INTO estimate_states SELECT estimate_id, state, value,"
                 + " standard_error, lower, upper FROM estimate_document_states WHERE job_id = 'x'");
         System.out.println("Query plans (EXPLAIN QUERY PLAN):");

@@ -207,7 +207,8 @@ class CsvFastPathTest {
         Arbitrary<String> token = Arbitraries.of("time", "return_air", "supply_air", "cooling_power", "ambient", "x",
                 ",", ",", ",", "\n", "\n", "\r\n", "\r", "\"", "\"\"", " ", "\t", "0", "1", "7", "60", "-", "+", ".", "e", "E",
                 "12.5", "-0", "0.125", "NaN", "Infinity", "1e999", "1d", "0x1p3", "é", "€", "\uD83D\uDE00", "\u0000",
-                "12345678901234567890", "9007199254740993", "1e23", "4.9e-324", "1".repeat(255), "é".repeat(130), "€".repeat(90))
+                "12345678901234567890", "9007199254740993", "1e23", "4.9e-324", "1".repeat(255), "é".repeat(130), "€".repeat(90),
+                "2026-12-01T00:00:00Z", "2026-12-01T01:00:30.25+01:00", "2026-12-01T00:00:00", "time since 2026-12-01T00:00:00Z")
                 .map(s -> s);
         Arbitrary<byte[]> raw = Arbitraries.of(new byte[] {(byte) 0xC3}, new byte[] {(byte) 0xE2, (byte) 0x82},
                 new byte[] {(byte) 0xFF}, new byte[] {(byte) 0xF0, (byte) 0x90, (byte) 0x80}, new byte[] {(byte) 0xED, (byte) 0xA0, (byte) 0x80},
@@ -217,7 +218,8 @@ class CsvFastPathTest {
         Arbitrary<byte[]> noise = piece.list().ofMaxSize(80).map(CsvFastPathTest::concat);
         Arbitrary<byte[]> rows = Arbitraries.integers().between(0, 12).flatMap(n -> row().list().ofSize(n))
                 .map(list -> String.join("", list).getBytes(StandardCharsets.UTF_8));
-        Arbitrary<byte[]> header = Arbitraries.of(HEADER, "time,ambient,cooling_power,return_air\r\n", "\"time\",return_air,ambient,cooling_power\n", "")
+        Arbitrary<byte[]> header = Arbitraries.of(HEADER, "time,ambient,cooling_power,return_air\r\n", "\"time\",return_air,ambient,cooling_power\n",
+                        "time since 2026-12-01T00:00:00+01:00,return_air,ambient,cooling_power\n", "")
                 .map(s -> s.getBytes(StandardCharsets.UTF_8));
         return Arbitraries.oneOf(
                 noise,
@@ -228,7 +230,7 @@ class CsvFastPathTest {
     /** A mostly valid row: increasing-ish times, decimals in many spellings, now and then a quote, blank or odd cell. */
     private Arbitrary<String> row() {
         Arbitrary<String> cell = Arbitraries.oneOf(decimals(), decimals().map(s -> "\"" + s + "\""), decimals().map(s -> " " + s + "\t"),
-                Arbitraries.of("", "\"\"", "NaN", "1e999", "é"));
+                Arbitraries.of("", "\"\"", "NaN", "1e999", "é", "2026-12-01T00:00:00Z", "\"2026-12-01T00:00:01.5+00:30\""));
         return cell.list().ofMinSize(3).ofMaxSize(6).map(cells -> String.join(",", cells))
                 .flatMap(r -> Arbitraries.of("\n", "\r\n", "\r").map(end -> r + end));
     }

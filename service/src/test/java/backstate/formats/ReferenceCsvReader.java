@@ -10,8 +10,8 @@ import java.util.List;
 /**
  * {@code TraceReader.readCsv} as it was before the fast path, kept as the oracle for
  * {@link CsvFastPathTest}: the old record reader, and every cell through the general
- * {@code TraceReader.csvNumber} (a regex, then {@code Double.parseDouble}). The header check and
- * that general path are unchanged and shared.
+ * {@code TraceReader.csvNumber} (a regex, then {@code Double.parseDouble}), every time cell through
+ * the general {@code TraceReader.csvTime}. The header check and those general paths are shared.
  */
 final class ReferenceCsvReader {
     private ReferenceCsvReader() {
@@ -27,15 +27,19 @@ final class ReferenceCsvReader {
         if (header == null) {
             throw new InputException("header", "got an empty body, expected a header row: time, then channel names");
         }
-        DoubleColumn[] targets = TraceReader.headerTargets(header, columns);
+        TraceReader.CsvHeader layout = TraceReader.headerTargets(header, columns);
+        DoubleColumn[] targets = layout.channels();
         List<String> row;
         while ((row = records.next()) != null) {
             if (row.size() != targets.length) {
                 throw new InputException("line " + records.line(), "got " + row.size() + " fields, expected " + targets.length);
             }
+            TraceReader.csvTime(row.get(layout.time()), TraceReader.timeField(records.line()), columns.times());
             for (int i = 0; i < targets.length; i++) {
-                boolean missingAllowed = targets[i] != columns.time() && columns.isOutput(header.get(i).trim());
-                targets[i].add(TraceReader.csvNumber(row.get(i), "line " + records.line() + ", column " + header.get(i).trim(), missingAllowed));
+                if (i != layout.time()) {
+                    boolean missingAllowed = columns.isOutput(header.get(i).trim());
+                    targets[i].add(TraceReader.csvNumber(row.get(i), "line " + records.line() + ", column " + header.get(i).trim(), missingAllowed));
+                }
             }
         }
         return new ParsedTrace(columns.assemble(), TraceOptions.NONE);

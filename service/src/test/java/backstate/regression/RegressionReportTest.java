@@ -36,8 +36,8 @@ class RegressionReportTest {
     @Test
     void a_unit_pools_chi_square_over_its_traces_rather_than_averaging_their_ratios() {
         RegressionReport r = report(1.0, 0.0, null, 2);
-        r.add("U", "t1", "2026-01-01T00:00:00Z", 1, fit(100, 100), fit(150, 100));
-        r.add("U", "t2", "2026-01-02T00:00:00Z", 1, fit(30, 10), fit(20, 10));
+        r.add("U", "t1", "2025-12-31T00:00:00Z", "2026-01-01T00:00:00Z", 1, fit(100, 100), fit(150, 100));
+        r.add("U", "t2", "2025-12-31T00:00:00Z", "2026-01-02T00:00:00Z", 1, fit(30, 10), fit(20, 10));
         RegressionResult.UnitResult unit = r.build(true).units().get(0);
         // Baseline (100 + 30) / 110 = 1.181818…, candidate (150 + 20) / 110 = 1.545454…, Δ = 40/110.
         // (The mean of the per-trace Δ would be (0.5 − 1.0) / 2 = −0.25: "better", wrongly.)
@@ -51,7 +51,7 @@ class RegressionReportTest {
     @Test
     void a_trace_the_candidate_cannot_solve_makes_its_unit_worse_beyond_tolerance() {
         RegressionReport r = report(null, null, null, 1);
-        r.add("U", "t1", "2026-01-01T00:00:00Z", 1, fit(100, 100), Fit.notSolved(Fit.Status.UNOBSERVABLE, "unobservable: …"));
+        r.add("U", "t1", "2025-12-31T00:00:00Z", "2026-01-01T00:00:00Z", 1, fit(100, 100), Fit.notSolved(Fit.Status.UNOBSERVABLE, "unobservable: …"));
         RegressionResult result = r.build(true);
         RegressionResult.UnitResult unit = result.units().get(0);
         assertTrue(unit.beyondTolerance());
@@ -67,7 +67,7 @@ class RegressionReportTest {
     @Test
     void units_the_baseline_cannot_solve_are_not_compared_and_alone_decide_no_verdict_but_fail() {
         RegressionReport r = report(null, null, null, 1);
-        r.add("U", "t1", "2026-01-01T00:00:00Z", 1, Fit.notSolved(Fit.Status.INVALID, "prior of size 3"), fit(1, 1));
+        r.add("U", "t1", "2025-12-31T00:00:00Z", "2026-01-01T00:00:00Z", 1, Fit.notSolved(Fit.Status.INVALID, "prior of size 3"), fit(1, 1));
         RegressionResult result = r.build(true);
         assertFalse(result.units().get(0).compared());
         assertEquals(1, result.summary().notCompared());
@@ -82,7 +82,7 @@ class RegressionReportTest {
         // state b: (19 − 20) / √(0.5² + 0.5²) = −√2 = −1.41421.
         Fit candidate = fit(100, 100, new double[] {11.25, 19}, new double[] {0.5, 0.5});
         RegressionReport judged = report(null, null, 1.5, 1);
-        judged.add("U", "t1", "2026-01-01T00:00:00Z", 1, fit(100, 100), candidate);
+        judged.add("U", "t1", "2025-12-31T00:00:00Z", "2026-01-01T00:00:00Z", 1, fit(100, 100), candidate);
         RegressionResult.UnitResult unit = judged.build(true).units().get(0);
         assertEquals(2.0, unit.maxAbsX0ShiftSe(), EXACT);
         List<RegressionResult.StateShift> states = unit.traces().get(0).x0().states();
@@ -92,11 +92,11 @@ class RegressionReportTest {
         assertEquals(List.of("x̂0 moved by 2.000 standard errors, more than maxX0ShiftSe 1.5"), unit.reasons());
 
         RegressionReport atLimit = report(null, null, 2.0, 1);
-        atLimit.add("U", "t1", "2026-01-01T00:00:00Z", 1, fit(100, 100), candidate);
+        atLimit.add("U", "t1", "2025-12-31T00:00:00Z", "2026-01-01T00:00:00Z", 1, fit(100, 100), candidate);
         assertFalse(atLimit.build(true).units().get(0).beyondTolerance(), "2.0 is not more than 2.0");
 
         RegressionReport reportOnly = report(null, null, null, 1);
-        reportOnly.add("U", "t1", "2026-01-01T00:00:00Z", 1, fit(100, 100), candidate);
+        reportOnly.add("U", "t1", "2025-12-31T00:00:00Z", "2026-01-01T00:00:00Z", 1, fit(100, 100), candidate);
         assertFalse(reportOnly.build(true).units().get(0).beyondTolerance());
     }
 
@@ -105,7 +105,7 @@ class RegressionReportTest {
         // 1 unit of 20 worse beyond tolerance: share 0.05.
         RegressionReport r = report(0.1, 0.05, null, 20);
         for (int i = 0; i < 20; i++) {
-            r.add("U" + i, "t" + i, "2026-01-01T00:00:00Z", 1, fit(100, 100), i == 0 ? fit(200, 100) : fit(100, 100));
+            r.add("U" + i, "t" + i, "2025-12-31T00:00:00Z", "2026-01-01T00:00:00Z", 1, fit(100, 100), i == 0 ? fit(200, 100) : fit(100, 100));
         }
         RegressionResult.Verdict verdict = r.build(true).verdict();
         assertTrue(verdict.pass());
@@ -114,7 +114,7 @@ class RegressionReportTest {
 
         RegressionReport strict = report(0.1, 0.0, null, 20);
         for (int i = 0; i < 20; i++) {
-            strict.add("U" + i, "t" + i, "2026-01-01T00:00:00Z", 1, fit(100, 100), i == 0 ? fit(200, 100) : fit(100, 100));
+            strict.add("U" + i, "t" + i, "2025-12-31T00:00:00Z", "2026-01-01T00:00:00Z", 1, fit(100, 100), i == 0 ? fit(200, 100) : fit(100, 100));
         }
         assertFalse(strict.build(true).verdict().pass());
     }
@@ -124,7 +124,7 @@ class RegressionReportTest {
         // Δ = 1, 2, 3, 4 (dof 100). Definition 7: median h = 1.5 → 2.5; p95 h = 3 × 0.95 = 2.85 → 3 + 0.85 × 1 = 3.85.
         RegressionReport r = report(10.0, 0.0, null, 4);
         for (int i = 1; i <= 4; i++) {
-            r.add("U" + i, "t" + i, "2026-01-01T00:00:00Z", 1, fit(100, 100), fit(100 + 100 * i, 100));
+            r.add("U" + i, "t" + i, "2025-12-31T00:00:00Z", "2026-01-01T00:00:00Z", 1, fit(100, 100), fit(100 + 100 * i, 100));
         }
         RegressionResult.Summary s = r.build(true).summary();
         assertEquals(2.5, s.medianDeltaChi2PerDof(), EXACT);
@@ -136,7 +136,7 @@ class RegressionReportTest {
     @Test
     void an_incomplete_report_has_no_verdict() {
         RegressionReport r = report(null, null, null, 3);
-        r.add("U", "t1", "2026-01-01T00:00:00Z", 1, fit(100, 100), fit(100, 100));
+        r.add("U", "t1", "2025-12-31T00:00:00Z", "2026-01-01T00:00:00Z", 1, fit(100, 100), fit(100, 100));
         RegressionResult partial = r.build(false);
         assertFalse(partial.complete());
         assertEquals(1, partial.tracesDone());

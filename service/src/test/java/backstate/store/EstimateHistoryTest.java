@@ -15,14 +15,17 @@ import java.util.function.Predicate;
 import org.junit.jupiter.api.BeforeEach;
 import org.junit.jupiter.api.Test;
 
+/** A unit's history in recording order (window start, then time written, then id), its filters and its cursor. */
 class EstimateHistoryTest extends StoreTestBase {
 
     private static final String UNIT = "unit-A";
     private static final String OTHER_UNIT = "unit-B";
     private static final int ESTIMATES_FOR_UNIT = 23;
     private static final int ESTIMATES_FOR_OTHER_UNIT = 5;
-    private static final Comparator<EstimateRow> NEWEST_FIRST = Comparator.comparing(EstimateRow::createdAt)
-            .thenComparing(EstimateRow::id).reversed();
+    private static final Comparator<EstimateRow> NEWEST_FIRST = Comparator.comparingDouble(EstimateRow::windowStart)
+            .thenComparing(EstimateRow::createdAt).thenComparing(EstimateRow::id).reversed();
+    /** Recordings start here, a day before the first upload. */
+    private static final Instant RECORDED = StoreFixture.T0.minus(java.time.Duration.ofDays(1));
 
     List<EstimateRow> written = new ArrayList<>();
 
@@ -32,11 +35,13 @@ class EstimateHistoryTest extends StoreTestBase {
         store.createFamily("fan", "", StoreFixture.T0);
         store.publishVersion(new NewModelVersion("fan", "continuous", 1, 1, 0, "{}", "{}"), StoreFixture.T0);
         for (int i = 0; i < ESTIMATES_FOR_UNIT; i++) {
-            // Two estimates share each timestamp, so ties on created_at are broken by id.
-            written.add(writeEstimate(UNIT, StoreFixture.T0.plusSeconds(i / 2), familyOf(i), versionOf(i), flagsOf(i)));
+            // Uploaded in another order than recorded; two estimates share each recording and upload
+            // time, so ties on window start are broken by created_at and those on both by id.
+            written.add(writeEstimate(UNIT, recording(i / 2 % 5), StoreFixture.T0.plusSeconds(i / 2), familyOf(i),
+                    versionOf(i), flagsOf(i)));
         }
         for (int i = 0; i < ESTIMATES_FOR_OTHER_UNIT; i++) {
-            writeEstimate(OTHER_UNIT, StoreFixture.T0.plusSeconds(i), "pump", 1, List.of("clipped"));
+            writeEstimate(OTHER_UNIT, recording(i), StoreFixture.T0.plusSeconds(i), "pump", 1, List.of("clipped"));
         }
     }
 
@@ -52,20 +57,26 @@ class EstimateHistoryTest extends StoreTestBase {
     void filtered_history_returns_exactly_the_matching_rows_across_pages() {
         Instant from = StoreFixture.T0.plusSeconds(3);
         Instant to = StoreFixture.T0.plusSeconds(9);
-        assertEquals(expected(r -> r.family().equals("pump")), walk(new EstimateFilter("pump", null, null, null, null), 4));
+        double recordedFrom = recording(3).getEpochSecond();
+        double recordedTo = recording(1).getEpochSecond();
+        assertEquals(expected(r -> r.family().equals("pump")), walk(filter("pump", null, TimeFilter.NONE, null), 4));
         assertEquals(expected(r -> r.family().equals("pump") && r.version() == 2),
-                walk(new EstimateFilter("pump", 2, null, null, null), 4));
-        assertEquals(expected(r -> !r.createdAt().isBefore(from) && r.createdAt().isBefore(to)),
-                walk(new EstimateFilter(null, null, from, to, null), 4));
-        assertEquals(expected(r -> r.flags().contains("clipped")), walk(new EstimateFilter(null, null, null, null, "clipped"), 4));
+                walk(filter("pump", 2, TimeFilter.NONE, null), 4));
+        assertEquals(expected(r -> r.windowStart() >= recordedFrom && r.windowStart() < recordedTo),
+                walk(filter(null, null, TimeFilter.recorded(recording(3), recording(1)), null), 4));
+        assertEquals(expected(r -> !r.receivedAt().isBefore(from) && r.receivedAt().isBefore(to)),
+                walk(filter(null, null, TimeFilter.received(from, to), null), 4));
+        assertEquals(expected(r -> r.windowStart() >= recordedFrom && !r.receivedAt().isBefore(from)),
+                walk(filter(null, null, new TimeFilter(recording(3), null, from, null), null), 3));
+        assertEquals(expected(r -> r.flags().contains("clipped")), walk(filter(null, null, TimeFilter.NONE, "clipped"), 4));
         assertEquals(expected(r -> r.family().equals("pump") && r.flags().contains("low_excitation")),
-                walk(new EstimateFilter("pump", null, null, null, "low_excitation"), 3));
+                walk(filter("pump", null, TimeFilter.NONE, "low_excitation"), 3));
     }
 
     @Test
     void a_flag_filter_matches_whole_flags_only() {
-        assertEquals(List.of(), walk(new EstimateFilter(null, null, null, null, "low"), 10));
-        assertEquals(List.of(), walk(new EstimateFilter(null, null, null, null, "excitation"), 10));
+        assertEquals(List.of(), walk(filter(null, null, TimeFilter.NONE, "low"), 10));
+        assertEquals(List.of(), walk(filter(null, null, TimeFilter.NONE, "excitation"), 10));
     }
 
     @Test
@@ -73,7 +84,7 @@ class EstimateHistoryTest extends StoreTestBase {
         EstimatePage first = store.estimateHistory(UNIT, EstimateFilter.NONE, null, 5);
         List<String> seen = new ArrayList<>(ids(first.items()));
         for (int i = 0; i < 3; i++) {
-            writeEstimate(UNIT, StoreFixture.T0.plusSeconds(100 + i), "pump", 1, List.of());
+            writeEstimate(UNIT, recording(-1 - i), StoreFixture.T0.plusSeconds(100 + i), "pump", 1, List.of());
         }
         String cursor = first.nextCursorOrNull();
         while (cursor != null) {
@@ -94,17 +105,17 @@ class EstimateHistoryTest extends StoreTestBase {
         store.completeIfRunning(job.id(), job.attempt(), given, null, at.plusMillis(7));
 
         EstimateRow row = store.latestEstimate("unit-C").orElseThrow();
-        assertEquals(List.of(job.id(), s.traceId(), "unit-C", "pump", 2, at.plusMillis(7), -1.5, 4.25,
+        assertEquals(List.of(job.id(), s.traceId(), "unit-C", "pump", 2, at.plusMillis(7), at, -1.5, 4.25,
                         List.of("clipped", "low_excitation"), "{\"x0\":[1,2]}"),
                 List.of(row.jobId(), row.traceId(), row.unitId(), row.family(), row.version(), row.createdAt(),
-                        row.windowStart(), row.windowEnd(), row.flags(), row.summaryJson()));
+                        row.receivedAt(), row.windowStart(), row.windowEnd(), row.flags(), row.summaryJson()));
         assertNull(row.chi2PerDof());
         assertEquals(row.id(), store.findEstimate(row.id()).orElseThrow().id());
         assertEquals(row.id(), store.findEstimateForJob(job.id()).orElseThrow().id());
     }
 
     @Test
-    void the_latest_estimate_is_the_newest_with_ties_broken_by_id() {
+    void the_latest_estimate_is_the_newest_recording_with_ties_broken_by_time_written_then_id() {
         assertEquals(expected(row -> true).get(0).id(), store.latestEstimate(UNIT).orElseThrow().id());
     }
 
@@ -158,13 +169,24 @@ class EstimateHistoryTest extends StoreTestBase {
         return rows.stream().map(EstimateRow::id).toList();
     }
 
-    private EstimateRow writeEstimate(String unit, Instant at, String family, int version, List<String> flags)
-            throws QueueFullException {
-        Submission s = store.submitTrace(new NewTrace(unit, family, version, 3, 0.0, 2.0, new byte[] {1}), null, 10, at);
+    /** A trace recorded from {@code recorded} for 2 s, received and estimated at {@code at}. */
+    private EstimateRow writeEstimate(String unit, Instant recorded, Instant at, String family, int version,
+                                      List<String> flags) throws QueueFullException {
+        double start = recorded.getEpochSecond();
+        Submission s = store.submitTrace(new NewTrace(unit, family, version, 3, start, start + 2, new byte[] {1}), null, 10, at);
         ClaimedJob job = store.claimNext(1, at).get(0);
-        store.completeIfRunning(job.id(), job.attempt(),
-                StoreFixture.estimate(s.traceId(), unit, family, version, flags, "{\"at\":\"" + at + "\"}"), null, at);
+        store.completeIfRunning(job.id(), job.attempt(), new NewEstimate(s.traceId(), unit, family, version, start,
+                start + 2, 1.25, flags, "{\"at\":\"" + at + "\"}"), null, at);
         return store.findEstimateForJob(job.id()).orElseThrow();
+    }
+
+    /** The start of recording k: ten minutes apart, counting back from recording 0 (k < 0 are later ones). */
+    private static Instant recording(int k) {
+        return RECORDED.minusSeconds(600L * k);
+    }
+
+    private static EstimateFilter filter(String family, Integer version, TimeFilter times, String flag) {
+        return new EstimateFilter(family, version, times, flag);
     }
 
     private static String familyOf(int i) {

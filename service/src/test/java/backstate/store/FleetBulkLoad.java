@@ -22,8 +22,10 @@ public final class FleetBulkLoad implements AutoCloseable {
     private static final String INSERT_JOB = "INSERT INTO jobs (id, kind, state, trace_id, attempt, created_at,"
             + " started_at, finished_at, progress_done, progress_total) VALUES (?, 'estimate', 'succeeded', ?, 1, ?, ?, ?, 0, 0)";
     private static final String INSERT_ESTIMATE = "INSERT INTO estimates (id, job_id, trace_id, unit_id, family, version,"
-            + " created_at, window_start, window_end, chi2_per_dof, flags, summary_json)"
-            + " VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)";
+            + " created_at, received_at, window_start, window_end, chi2_per_dof, flags, summary_json)"
+            + " VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)";
+    /** Each trace records 6 h (361 samples at 60 s) ending when it is received. */
+    private static final double WINDOW_SECONDS = 21600.0;
     private static final byte[] PAYLOAD = new byte[16];
 
     private final Connection c;
@@ -56,10 +58,13 @@ public final class FleetBulkLoad implements AutoCloseable {
         String traceId = Sql.newId();
         String jobId = Sql.newId();
         long at = Sql.millis(createdAt);
-        Sql.bind(trace, traceId, unitId, family, version, at - 1000, 361, 0.0, 21600.0, PAYLOAD).executeUpdate();
-        Sql.bind(job, jobId, traceId, at - 1000, at - 500, at).executeUpdate();
-        Sql.bind(estimate, Sql.newId(), jobId, traceId, unitId, family, version, at, 0.0, 21600.0, chi2PerDof,
-                Sql.joinFlags(flags), summaryJson).executeUpdate();
+        long receivedAt = at - 1000;
+        double windowEnd = receivedAt / 1000.0;
+        double windowStart = windowEnd - WINDOW_SECONDS;
+        Sql.bind(trace, traceId, unitId, family, version, receivedAt, 361, windowStart, windowEnd, PAYLOAD).executeUpdate();
+        Sql.bind(job, jobId, traceId, receivedAt, at - 500, at).executeUpdate();
+        Sql.bind(estimate, Sql.newId(), jobId, traceId, unitId, family, version, at, receivedAt, windowStart, windowEnd,
+                chi2PerDof, Sql.joinFlags(flags), summaryJson).executeUpdate();
         long t1 = System.nanoTime();
         SqliteFleet.recordEstimate(c, jobId);
         deriveNanos += System.nanoTime() - t1;

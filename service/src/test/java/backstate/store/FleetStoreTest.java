@@ -23,8 +23,9 @@ import org.junit.jupiter.api.Test;
 
 /**
  * The fleet views' derived rows: written with the estimate in its transaction and only then,
- * newest-wins under late writes, filled for estimates older than the migration, and the unit
- * list's keyset paging in every order.
+ * newest recording wins under late uploads and late writes, filled for estimates older than the
+ * migrations, and the unit list's keyset paging in every order. Traces here record from the
+ * moment they are received unless a test says otherwise.
  */
 class FleetStoreTest extends StoreTestBase {
 
@@ -47,10 +48,12 @@ class FleetStoreTest extends StoreTestBase {
                 rows("SELECT state, value, standard_error, lower, upper FROM estimate_states WHERE estimate_id = ?"
                         + " ORDER BY state", id));
         // "vel" had no sample, so the document has no rms for it: the row is kept with NULL.
-        assertEquals(List.of(List.of("pump", "1", "pos", String.valueOf(StoreFixture.T0.toEpochMilli()), "0.75"),
-                        List.of("pump", "1", "vel", String.valueOf(StoreFixture.T0.toEpochMilli()), "null")),
-                rows("SELECT family, version, channel, created_at, rms FROM estimate_channels WHERE estimate_id = ?"
-                        + " ORDER BY channel", id));
+        String recorded = String.valueOf((double) StoreFixture.T0.getEpochSecond());
+        String received = String.valueOf(StoreFixture.T0.toEpochMilli());
+        assertEquals(List.of(List.of("pump", "1", "pos", recorded, received, "0.75"),
+                        List.of("pump", "1", "vel", recorded, received, "null")),
+                rows("SELECT family, version, channel, window_start, received_at, rms FROM estimate_channels"
+                        + " WHERE estimate_id = ? ORDER BY channel", id));
         assertEquals(List.of(List.of("unit-1", "1", id, "1.5", "few_samples")),
                 rows("SELECT unit_id, version, estimate_id, chi2_per_dof, flags FROM unit_latest WHERE family = ?", "pump"));
         assertEquals(1, fx.count("SELECT count(*) FROM unit_version_latest WHERE estimate_id = ?", id));
@@ -77,13 +80,24 @@ class FleetStoreTest extends StoreTestBase {
     }
 
     @Test
-    void an_older_estimate_written_later_does_not_replace_the_newest() throws Exception {
+    void an_older_recording_uploaded_later_does_not_replace_the_newest() throws Exception {
         EstimateRow newer = complete("unit-1", StoreFixture.T0.plusSeconds(60), 2.0, List.of(), DOCUMENT);
-        complete("unit-1", StoreFixture.T0, 9.0, List.of("model_mismatch"), DOCUMENT);
+        // Recorded at T0, received and estimated at T0 + 120 s: a late upload.
+        complete("unit-1", StoreFixture.T0, StoreFixture.T0.plusSeconds(120), 9.0, List.of("model_mismatch"));
         UnitLatestRow latest = store.fleetUnits(new UnitFilter("pump", null, null), UnitSort.UNIT_ID, null, 10).items().get(0);
-        assertEquals(List.of(newer.id(), 2.0, List.of()), List.of(latest.estimateId(), latest.chi2PerDof(), latest.flags()));
-        EstimateRow newest = complete("unit-1", StoreFixture.T0.plusSeconds(120), 3.0, List.of(), DOCUMENT);
+        assertEquals(List.of(newer.id(), 2.0, List.of(), (double) StoreFixture.T0.plusSeconds(60).getEpochSecond()),
+                List.of(latest.estimateId(), latest.chi2PerDof(), latest.flags(), latest.windowStart()));
+        assertEquals(newer.id(), store.latestEstimate("unit-1").orElseThrow().id());
+        EstimateRow newest = complete("unit-1", StoreFixture.T0.plusSeconds(180), 3.0, List.of(), DOCUMENT);
         assertEquals(newest.id(), store.fleetUnits(new UnitFilter("pump", 1, null), UnitSort.UNIT_ID, null, 10)
+                .items().get(0).estimateId());
+    }
+
+    @Test
+    void the_same_recording_estimated_again_replaces_the_earlier_estimate() throws Exception {
+        complete("unit-1", StoreFixture.T0, StoreFixture.T0, 2.0, List.of());
+        EstimateRow again = complete("unit-1", StoreFixture.T0, StoreFixture.T0.plusSeconds(30), 4.0, List.of());
+        assertEquals(again.id(), store.fleetUnits(new UnitFilter("pump", null, null), UnitSort.UNIT_ID, null, 10)
                 .items().get(0).estimateId());
     }
 
@@ -96,10 +110,11 @@ class FleetStoreTest extends StoreTestBase {
             Double chi2 = u % 7 == 3 ? null : (double) (random.nextInt(5));
             Instant at = StoreFixture.T0.plusSeconds(random.nextInt(4));
             EstimateRow row = complete(String.format("unit-%02d", u), at, chi2, List.of(), DOCUMENT);
-            expected.add(new UnitLatestRow(row.unitId(), "pump", 1, row.id(), row.createdAt(), chi2, List.of()));
+            expected.add(new UnitLatestRow(row.unitId(), "pump", 1, row.id(), row.windowStart(), row.windowEnd(),
+                    row.receivedAt(), row.createdAt(), chi2, List.of()));
         }
         Comparator<UnitLatestRow> byId = Comparator.comparing(UnitLatestRow::unitId);
-        Comparator<UnitLatestRow> byTime = Comparator.comparing(UnitLatestRow::createdAt).thenComparing(byId);
+        Comparator<UnitLatestRow> byTime = Comparator.comparingDouble(UnitLatestRow::windowStart).thenComparing(byId);
         Comparator<UnitLatestRow> nullsLast = Comparator.comparing(r -> r.chi2PerDof() == null);
         Map<UnitSort, Comparator<UnitLatestRow>> orders = Map.of(
                 UnitSort.UNIT_ID, byId,
@@ -118,7 +133,7 @@ class FleetStoreTest extends StoreTestBase {
 
     @Test
     void a_cursor_of_another_order_or_made_up_is_refused() {
-        String other = new UnitCursor(UnitSort.LATEST, List.of(1L, "u")).encode();
+        String other = new UnitCursor(UnitSort.LATEST, List.of(1.0, "u")).encode();
         for (String cursor : List.of(other, "***", "Q0hJX1NRVUFSRQ")) {
             assertThrows(InvalidCursorException.class, () -> store.fleetUnits(new UnitFilter("pump", null, null),
                     UnitSort.CHI_SQUARE, cursor, 5), cursor);
@@ -131,18 +146,39 @@ class FleetStoreTest extends StoreTestBase {
         complete("unit-2", StoreFixture.T0.plusSeconds(10), 3.0, List.of("model_mismatch", "few_samples"), DOCUMENT);
         complete("unit-2", StoreFixture.T0.plusSeconds(20), 5.0, List.of(), DOCUMENT);
         FleetSummary s = store.fleetSummary(new FleetSummaryQuery("pump", Map.of(1, List.of("pos", "vel")),
-                StoreFixture.T0, StoreFixture.T0.plusSeconds(20), null, StoreFixture.T0.plusSeconds(15), 1));
+                TimeFilter.recorded(StoreFixture.T0, StoreFixture.T0.plusSeconds(20)), null, StoreFixture.T0.plusSeconds(15), 1));
         FleetSummary.VersionActivity v = s.versions().get(0);
-        // [T0, T0 + 20 s) holds the first two estimates; the trace of each was received at T0, T0 + 10 s and T0 + 20 s.
+        // [T0, T0 + 20 s) holds the first two recordings; the traces were recorded at T0, T0 + 10 s and T0 + 20 s.
         assertEquals(List.of(2L, 2L, 2L), List.of(v.estimates(), v.units(), v.traces()));
         assertEquals(new FleetSummary.Distribution(2, 2.0, 2.9, 3.0), v.chiSquarePerDof());
         assertEquals(new FleetSummary.Distribution(2, 0.75, 0.75, 0.75), v.channelRms().get("pos"));
         assertEquals(new FleetSummary.Distribution(0, null, null, null), v.channelRms().get("vel"));
         assertEquals(new FleetSummary.FlaggedUnits(2, 2, List.of("unit-1")), v.flags().get("model_mismatch"));
         assertEquals(new FleetSummary.FlaggedUnits(1, 1, List.of("unit-2")), v.flags().get("few_samples"));
-        // Newest per unit: unit-1 at T0 (before T0 + 15 s: stale), unit-2 at T0 + 20 s.
+        // Newest recording per unit: unit-1 at T0 (before T0 + 15 s: stale), unit-2 at T0 + 20 s.
         assertEquals(1, s.stale().count());
         assertEquals("unit-1", s.stale().oldestFirst().get(0).unitId());
+    }
+
+    @Test
+    void summary_windows_are_recording_time_and_received_time_is_a_filter_of_its_own() throws Exception {
+        complete("unit-1", StoreFixture.T0.plusSeconds(100), 1.0, List.of(), DOCUMENT);
+        // A late upload: recorded at T0, received at T0 + 200 s.
+        complete("unit-2", StoreFixture.T0, StoreFixture.T0.plusSeconds(200), 3.0, List.of("model_mismatch"));
+        Map<Integer, List<String>> pos = Map.of(1, List.of("pos"));
+        Instant stale = StoreFixture.T0;
+        FleetSummary.VersionActivity recordedFirst = store.fleetSummary(new FleetSummaryQuery("pump", pos,
+                TimeFilter.recorded(StoreFixture.T0, StoreFixture.T0.plusSeconds(50)), null, stale, 5)).versions().get(0);
+        assertEquals(List.of(1L, 1L, 1L, 3.0), List.of(recordedFirst.estimates(), recordedFirst.units(),
+                recordedFirst.traces(), recordedFirst.chiSquarePerDof().max()));
+        FleetSummary.VersionActivity receivedLast = store.fleetSummary(new FleetSummaryQuery("pump", pos,
+                TimeFilter.received(StoreFixture.T0.plusSeconds(150), null), null, stale, 5)).versions().get(0);
+        assertEquals(List.of(1L, 1L, 1L, 3.0, 1), List.of(receivedLast.estimates(), receivedLast.units(),
+                receivedLast.traces(), receivedLast.chiSquarePerDof().max(), receivedLast.channelRms().get("pos").count()));
+        FleetSummary.VersionActivity both = store.fleetSummary(new FleetSummaryQuery("pump", pos,
+                new TimeFilter(StoreFixture.T0.plusSeconds(50), null, StoreFixture.T0.plusSeconds(150), null), null, stale,
+                5)).versions().get(0);
+        assertEquals(List.of(0L, 0L, 0), List.of(both.estimates(), both.traces(), both.channelRms().get("pos").count()));
     }
 
     @Test
@@ -163,12 +199,15 @@ class FleetStoreTest extends StoreTestBase {
             }
         }
         try (SqliteStore migrated = new SqliteStore(file, fx.clock)) {
+            // One recording window for all three: the newest written wins the tie.
             assertEquals(List.of("e2"), migrated.fleetUnits(new UnitFilter("pump", 1, null), UnitSort.UNIT_ID, null, 5)
                     .items().stream().map(UnitLatestRow::estimateId).toList());
-            assertEquals(List.of("e2", "e1", "e0"), migrated.stateTrend("unit-1", "x", "pump", null, 5).stream()
-                    .map(StatePoint::estimateId).toList());
-            assertEquals(3, migrated.fleetSummary(new FleetSummaryQuery("pump", Map.of(1, List.of("pos")), null, null,
+            assertEquals(List.of("e2", "e1", "e0"), migrated.stateTrend("unit-1", "x", "pump", null, TimeFilter.NONE, 5)
+                    .stream().map(StatePoint::estimateId).toList());
+            assertEquals(3, migrated.fleetSummary(new FleetSummaryQuery("pump", Map.of(1, List.of("pos")), TimeFilter.NONE,
                     null, StoreFixture.T0, 5)).versions().get(0).channelRms().get("pos").count());
+            // V7 copied each trace's received time onto its estimate.
+            assertEquals(StoreFixture.T0, migrated.findEstimate("e1").orElseThrow().receivedAt());
         }
     }
 
@@ -183,11 +222,24 @@ class FleetStoreTest extends StoreTestBase {
         return ids;
     }
 
+    /** A trace recorded from {@code at} for 2 s, received and estimated at {@code at}. */
     private EstimateRow complete(String unit, Instant at, Double chi2, List<String> flags, String summary) throws Exception {
-        Submission s = store.submitTrace(new NewTrace(unit, "pump", 1, 3, 0.0, 2.0, new byte[] {1}), null, 100, at);
-        ClaimedJob job = store.claimNext(1, at).get(0);
-        assertTrue(store.completeIfRunning(job.id(), job.attempt(), new NewEstimate(s.traceId(), unit, "pump", 1, 0.0, 2.0,
-                chi2, flags, summary), null, at));
+        return complete(unit, at, at, chi2, flags, summary);
+    }
+
+    /** A trace recorded from {@code recorded}, received and estimated at {@code received}, with {@link #DOCUMENT}. */
+    private EstimateRow complete(String unit, Instant recorded, Instant received, Double chi2, List<String> flags)
+            throws Exception {
+        return complete(unit, recorded, received, chi2, flags, DOCUMENT);
+    }
+
+    private EstimateRow complete(String unit, Instant recorded, Instant received, Double chi2, List<String> flags,
+                                 String summary) throws Exception {
+        double start = recorded.getEpochSecond();
+        Submission s = store.submitTrace(new NewTrace(unit, "pump", 1, 3, start, start + 2, new byte[] {1}), null, 100, received);
+        ClaimedJob job = store.claimNext(1, received).get(0);
+        assertTrue(store.completeIfRunning(job.id(), job.attempt(), new NewEstimate(s.traceId(), unit, "pump", 1, start,
+                start + 2, chi2, flags, summary), null, received));
         return store.findEstimateForJob(job.id()).orElseThrow();
     }
 

@@ -17,7 +17,10 @@ import org.junit.jupiter.api.BeforeEach;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.io.TempDir;
 
-/** The regression statements: trace selection by unit, window and recency; runs, their list, cancel requests. */
+/**
+ * The regression statements: trace selection by unit, recording window, received time and
+ * recency of recording; runs, their list, cancel requests.
+ */
 class RegressionStoreTest {
     static final Instant T1 = StoreFixture.T0.plus(Duration.ofHours(1));
     static final Instant T2 = StoreFixture.T0.plus(Duration.ofHours(2));
@@ -29,15 +32,18 @@ class RegressionStoreTest {
     String a1;
     String a2;
     String b1;
+    /** Unit A's earliest recording (T0 − 1 h), uploaded last (T2 + 1 h). */
+    String late;
 
     @BeforeEach
     void open() throws Exception {
         fx = new StoreFixture(dir);
         fx.store.publishVersion(StoreFixture.pumpVersion(), StoreFixture.T0); // version 2
-        a0 = submit("A", StoreFixture.T0);
-        a1 = submit("A", T1);
-        b1 = submit("B", T1);
-        a2 = submit("A", T2);
+        a0 = submit("A", StoreFixture.T0, StoreFixture.T0);
+        a1 = submit("A", T1, T1);
+        b1 = submit("B", T1, T1);
+        a2 = submit("A", T2, T2);
+        late = submit("A", StoreFixture.T0.minus(Duration.ofHours(1)), T2.plus(Duration.ofHours(1)));
     }
 
     @AfterEach
@@ -45,30 +51,40 @@ class RegressionStoreTest {
         fx.close();
     }
 
-    String submit(String unit, Instant at) throws QueueFullException {
-        return fx.store.submitTrace(StoreFixture.trace(unit), null, 1000, at).traceId();
+    /** A trace recorded from {@code recorded} for 2 s and received at {@code received}. */
+    String submit(String unit, Instant recorded, Instant received) throws QueueFullException {
+        double start = recorded.getEpochSecond();
+        return fx.store.submitTrace(new NewTrace(unit, StoreFixture.FAMILY, StoreFixture.VERSION, 3, start, start + 2,
+                new byte[] {1}), null, 1000, received).traceId();
     }
 
-    List<String> select(List<String> units, Instant from, Instant to, Integer latest, int maxRows) {
-        return fx.store.selectTraces(new TraceSelection(StoreFixture.FAMILY, units, from, to, latest, maxRows))
+    List<String> select(List<String> units, TimeFilter times, Integer latest, int maxRows) {
+        return fx.store.selectTraces(new TraceSelection(StoreFixture.FAMILY, units, times, latest, maxRows))
                 .stream().map(TraceRef::id).toList();
     }
 
     @Test
-    void selection_orders_by_unit_then_received_time() {
-        assertEquals(List.of(a0, a1, a2, b1), select(null, null, null, null, 100));
-        assertEquals(List.of(a0, a1), select(null, null, null, null, 2));
-        assertEquals(List.of(b1), select(List.of("B", "C"), null, null, null, 100));
-        assertEquals(List.of(), fx.store.selectTraces(new TraceSelection("other", null, null, null, null, 100)));
+    void selection_orders_by_unit_then_recording_time() {
+        assertEquals(List.of(late, a0, a1, a2, b1), select(null, TimeFilter.NONE, null, 100));
+        assertEquals(List.of(late, a0), select(null, TimeFilter.NONE, null, 2));
+        assertEquals(List.of(b1), select(List.of("B", "C"), TimeFilter.NONE, null, 100));
+        assertEquals(List.of(), fx.store.selectTraces(new TraceSelection("other", null, TimeFilter.NONE, null, 100)));
     }
 
     @Test
-    void latest_k_per_unit_ranks_within_the_window() {
-        assertEquals(List.of(a1, a2, b1), select(null, null, null, 2, 100));
-        assertEquals(List.of(a2, b1), select(null, null, null, 1, 100));
-        // The window [T0, T2) is applied first: A's latest inside it is a1.
-        assertEquals(List.of(a1, b1), select(null, StoreFixture.T0, T2, 1, 100));
-        assertEquals(List.of(a1, b1), select(null, T1, T2, null, 100));
+    void latest_k_per_unit_are_the_newest_recordings_within_the_window() {
+        assertEquals(List.of(a1, a2, b1), select(null, TimeFilter.NONE, 2, 100));
+        assertEquals(List.of(a2, b1), select(null, TimeFilter.NONE, 1, 100));
+        // The window [T0, T2) is applied first: A's latest recording inside it is a1.
+        assertEquals(List.of(a1, b1), select(null, TimeFilter.recorded(StoreFixture.T0, T2), 1, 100));
+        assertEquals(List.of(a1, b1), select(null, TimeFilter.recorded(T1, T2), null, 100));
+    }
+
+    @Test
+    void received_time_selects_the_late_upload_in_its_recording_place() {
+        assertEquals(List.of(late, a2), select(null, TimeFilter.received(T2, null), null, 100));
+        assertEquals(List.of(a2), select(null, TimeFilter.received(T2, null), 1, 100));
+        assertEquals(List.of(late), select(null, new TimeFilter(null, StoreFixture.T0, T2, null), null, 100));
     }
 
     @Test

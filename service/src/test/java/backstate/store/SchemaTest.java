@@ -38,13 +38,13 @@ class SchemaTest {
                 + " AND name NOT LIKE 'sqlite_%' AND name NOT LIKE 'flyway_%' ORDER BY name");
         assertEquals(List.of("api_keys", "api_keys_are_immutable", "api_keys_stay_revoked",
                 "estimate_channels", "estimate_states",
-                "estimates", "estimates_by_model", "estimates_by_model_window", "estimates_by_unit_newest", "idempotency_keys",
+                "estimates", "estimates_by_model_recorded", "estimates_by_unit_recorded", "idempotency_keys",
                 "jobs", "jobs_by_state_and_age", "model_families", "model_versions",
                 "model_versions_are_immutable", "model_versions_stay_retired",
                 "queue_length", "queue_length_on_delete", "queue_length_on_insert", "queue_length_on_leaving",
                 "queue_length_on_return", "regressions", "regressions_by_family_newest", "regressions_newest", "traces",
-                "traces_by_family_unit_received", "traces_by_model_received",
-                "unit_latest", "unit_latest_by_age", "unit_version_latest", "unit_version_latest_by_age"), names);
+                "traces_by_family_unit_recorded", "traces_by_model_recorded",
+                "unit_latest", "unit_latest_by_recording", "unit_version_latest", "unit_version_latest_by_recording"), names);
     }
 
     @Test
@@ -196,6 +196,48 @@ class SchemaTest {
         try (Connection c = java.sql.DriverManager.getConnection("jdbc:sqlite:" + file);
              ResultSet rs = c.createStatement().executeQuery("SELECT COUNT(*) FROM jobs WHERE state = 'queued'")) {
             assertEquals(4, rs.getInt(1), "the closed form agrees");
+        }
+    }
+
+    /**
+     * V7 copies each trace's received time onto its estimates and rebuilds the derived rows in
+     * recording order: a late upload written last is not a unit's newest estimate.
+     */
+    @Test
+    void migrating_a_version_6_file_orders_its_estimates_by_recording_time() throws Exception {
+        Path file = dir.resolve("v6.db");
+        org.flywaydb.core.Flyway.configure().dataSource("jdbc:sqlite:" + file, null, null)
+                .locations(SqliteMigrations.LOCATION).target("6").load().migrate();
+        String document = "{\"states\":[{\"name\":\"x\",\"estimate\":1.0}],"
+                + "\"residuals\":{\"channels\":[{\"output\":\"pos\",\"rms\":0.5}]}}";
+        try (Connection c = java.sql.DriverManager.getConnection("jdbc:sqlite:" + file); Statement st = c.createStatement()) {
+            st.executeUpdate("INSERT INTO model_families VALUES ('pump', '', 1)");
+            st.executeUpdate("INSERT INTO model_versions VALUES ('pump', 1, 'active', 'continuous', 1, 1, 0, '{}', '{}', 1)");
+            // (trace, recorded from, received at, estimate written at): the second is the late upload.
+            for (Object[] t : new Object[][] {{"recent", 2000.0, 10, 20}, {"late", 1000.0, 30, 40}}) {
+                st.executeUpdate("INSERT INTO traces VALUES ('" + t[0] + "', 'u', 'pump', 1, " + t[2] + ", 3, " + t[1]
+                        + ", " + t[1] + " + 2, x'00')");
+                st.executeUpdate("INSERT INTO jobs (id, kind, state, trace_id, attempt, created_at, started_at, finished_at)"
+                        + " VALUES ('j-" + t[0] + "', 'estimate', 'succeeded', '" + t[0] + "', 1, " + t[2] + ", " + t[3]
+                        + ", " + t[3] + ")");
+                st.executeUpdate("INSERT INTO estimates VALUES ('e-" + t[0] + "', 'j-" + t[0] + "', '" + t[0] + "', 'u', 'pump', 1, "
+                        + t[3] + ", " + t[1] + ", " + t[1] + " + 2, 1.0, '', '" + document + "')");
+                // Written with the estimate by version 6 too; V7 keeps this table as it is.
+                st.executeUpdate("INSERT INTO estimate_states (estimate_id, state, value) VALUES ('e-" + t[0] + "', 'x', 1.0)");
+            }
+        }
+        try (SqliteStore migrated = new SqliteStore(file, fx.clock)) {
+            assertEquals("e-recent", migrated.latestEstimate("u").orElseThrow().id());
+            assertEquals(java.time.Instant.ofEpochMilli(30), migrated.findEstimate("e-late").orElseThrow().receivedAt());
+            assertEquals(List.of("e-recent"), migrated.fleetUnits(new UnitFilter("pump", null, null), UnitSort.UNIT_ID, null, 5)
+                    .items().stream().map(UnitLatestRow::estimateId).toList());
+            assertEquals(List.of("e-recent", "e-late"), migrated.stateTrend("u", "x", "pump", null, TimeFilter.NONE, 5).stream()
+                    .map(StatePoint::estimateId).toList());
+            FleetSummary recordedEarly = migrated.fleetSummary(new FleetSummaryQuery("pump", java.util.Map.of(1, List.of("pos")),
+                    TimeFilter.recorded(java.time.Instant.ofEpochSecond(0), java.time.Instant.ofEpochSecond(1500)), null,
+                    java.time.Instant.ofEpochSecond(0), 5));
+            assertEquals(List.of(1L, 1L, 1), List.of(recordedEarly.versions().get(0).estimates(),
+                    recordedEarly.versions().get(0).traces(), recordedEarly.versions().get(0).channelRms().get("pos").count()));
         }
     }
 

@@ -1,0 +1,110 @@
+package backstate.formats;
+
+import backstate.estimation.ModelException;
+
+/**
+ * A trace's time column while it is read, and the clock it is written on. A trace writes its
+ * times in one of three forms, decided by its first time and its declaration of a start:
+ * <ul>
+ *   <li>RFC 3339 times ({@link RecordingTime#RFC_3339});
+ *   <li>numbers with no start declared: seconds since 1970-01-01T00:00:00Z;
+ *   <li>numbers with a start declared (RFC 3339): seconds since that start.
+ * </ul>
+ * All become epoch seconds on the microsecond grid ({@link RecordingTime}) when the trace is
+ * assembled. A trace that mixes numbers and RFC 3339 times is refused (400) at the first time of
+ * the other kind, and a time not after the one before it (422) where it stands; the reader names
+ * the row.
+ */
+final class TraceTimes {
+    /** How the trace writes its times; decided by the first. */
+    private enum Kind { UNDECIDED, SECONDS, TIMESTAMPS }
+
+    private final DoubleColumn values;
+    private Kind kind = Kind.UNDECIDED;
+    private Long startMicros;
+    private String startField;
+
+    TraceTimes(int limit) {
+        this.values = new DoubleColumn("time", limit);
+    }
+
+    int size() {
+        return values.size();
+    }
+
+    /**
+     * Adds the next time: a number of seconds, or an RFC 3339 time in epoch seconds. False, adding
+     * nothing, when it is of the other kind than the first time or not after the time before it;
+     * the caller then throws {@link #refusal} naming the row.
+     */
+    boolean add(double seconds, boolean timestamp) {
+        Kind k = timestamp ? Kind.TIMESTAMPS : Kind.SECONDS;
+        if (k != kind) {
+            if (kind != Kind.UNDECIDED) {
+                return false;
+            }
+            kind = k;
+        }
+        int n = values.size();
+        if (n > 0 && !(seconds > values.get(n - 1))) {
+            return false;
+        }
+        values.add(seconds);
+        return true;
+    }
+
+    /** Why {@link #add} refused this time, as the exception for the row named {@code field}. */
+    RuntimeException refusal(String field, double seconds, boolean timestamp) {
+        if (kind != (timestamp ? Kind.TIMESTAMPS : Kind.SECONDS)) {
+            return new InputException(field, "got " + (timestamp ? "an RFC 3339 time" : "a number")
+                    + " where the trace's first time is " + (timestamp ? "a number" : "an RFC 3339 time")
+                    + ", expected every time of a trace in one form");
+        }
+        double before = values.get(values.size() - 1);
+        return new ModelException(field, "got " + show(seconds) + " after " + show(before)
+                + ", expected strictly increasing times");
+    }
+
+    /** Declares the start that numeric times count from. */
+    void declareStart(long micros, String field) {
+        if (startMicros != null) {
+            throw new InputException(field, "got a second start, expected at most one");
+        }
+        startMicros = micros;
+        startField = field;
+    }
+
+    /**
+     * A number in the trace's own frame (seconds since the start, or since 1970 without one) as
+     * epoch seconds on the microsecond grid, as the times themselves become.
+     */
+    double normalise(double seconds) {
+        return startMicros == null ? RecordingTime.toMicrosecond(seconds) : RecordingTime.toMicrosecond(startMicros, seconds);
+    }
+
+    /** The times as epoch seconds on the microsecond grid, checked to be writable and increasing there. */
+    double[] normalised() {
+        if (kind == Kind.TIMESTAMPS && startMicros != null) {
+            throw new InputException(startField, "got a start with RFC 3339 times, expected a start only with times"
+                    + " in seconds since it");
+        }
+        double[] out = new double[values.size()];
+        for (int k = 0; k < out.length; k++) {
+            double v = values.get(k);
+            out[k] = kind == Kind.TIMESTAMPS ? v : normalise(v);
+            if (!RecordingTime.writable(out[k])) {
+                throw new InputException("time[" + k + "]", "got " + v + (startMicros == null ? " s since 1970" : " s after the start")
+                        + ", expected a time in the years 0000 to 9999");
+            }
+            if (k > 0 && !(out[k] > out[k - 1])) {
+                throw new ModelException("time[" + k + "]", "got " + show(v) + ", within 1 µs of the time before it,"
+                        + " expected times at least 1 µs apart");
+            }
+        }
+        return out;
+    }
+
+    private String show(double seconds) {
+        return kind == Kind.TIMESTAMPS ? RecordingTime.format(seconds) : Double.toString(seconds);
+    }
+}
