@@ -13,6 +13,7 @@ import java.nio.charset.StandardCharsets;
 import java.nio.file.Files;
 import java.nio.file.Path;
 import java.util.ArrayList;
+import java.util.Arrays;
 import java.util.List;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.io.TempDir;
@@ -53,10 +54,12 @@ class SolveExitCodesTest {
         assertEquals("sampled", estimate.get("formulation").asText());
         // The numbers: the demo generator's numpy lstsq solution for this unit (test-data/demo/fleet.json).
         JsonNode reference = demoUnit(UNIT);
-        double[] x0 = doubles(reference.get("referenceEstimate"));
-        assertArrayEquals(x0, numbers(estimate.get("states"), "estimate"), REFERENCE_TOLERANCE * maxAbs(x0));
-        double[] se = doubles(reference.get("referenceStdErrors"));
-        assertArrayEquals(se, numbers(estimate.get("states"), "standardError"), REFERENCE_TOLERANCE * maxAbs(se));
+        for (String[] pair : new String[][] {{"referenceEstimate", "estimate"}, {"referenceStdErrors", "standardError"}}) {
+            double[] expected = json.convertValue(reference.get(pair[0]), double[].class);
+            double[] got = texts(estimate.get("states"), pair[1]).stream().mapToDouble(Double::parseDouble).toArray();
+            double scale = Arrays.stream(expected).map(Math::abs).max().orElseThrow();
+            assertArrayEquals(expected, got, REFERENCE_TOLERANCE * scale, pair[1]);
+        }
         double chi2 = reference.get("referenceChiSquare").asDouble();
         assertEquals(chi2, estimate.get("residuals").get("chiSquare").asDouble(), REFERENCE_TOLERANCE * chi2);
         assertEquals(reference.get("referenceDegreesOfFreedom").asInt(), estimate.get("residuals").get("degreesOfFreedom").asInt());
@@ -149,29 +152,5 @@ class SolveExitCodesTest {
         object.fieldNames().forEachRemaining(out::add);
         out.sort(null);
         return out;
-    }
-
-    private static double[] numbers(JsonNode items, String field) {
-        double[] out = new double[items.size()];
-        for (int i = 0; i < out.length; i++) {
-            out[i] = items.get(i).get(field).asDouble();
-        }
-        return out;
-    }
-
-    private static double[] doubles(JsonNode array) {
-        double[] out = new double[array.size()];
-        for (int i = 0; i < out.length; i++) {
-            out[i] = array.get(i).asDouble();
-        }
-        return out;
-    }
-
-    private static double maxAbs(double[] values) {
-        double m = 0;
-        for (double v : values) {
-            m = Math.max(m, Math.abs(v));
-        }
-        return m;
     }
 }
