@@ -1,7 +1,9 @@
 #!/usr/bin/env bash
 # Stored-trace codec: bytes and encode/decode times of format 1 (row-wise doubles) against format 2
-# (column-wise decimal-delta or raw), for demo-like traces of 10^3 and 10^6 samples and a 10^6-sample
-# trace of arbitrary doubles. Prints a Markdown table (also saved to bench/out/codec.md).
+# (column-wise decimal-delta or raw) and against the JDK's Deflater on the format-1 bytes, for
+# demo-like traces of 10^3 and 10^6 samples and a 10^6-sample trace of arbitrary doubles; before
+# that, the CSV parse of the demo-like traces by our reader and by jackson-dataformat-csv.
+# Prints Markdown tables (also saved to bench/out/codec.md).
 # The bench class lives in the service's test sources, beside the format-1 encoder it compares with.
 #
 #   bench/codec.sh              # 15 timed runs a case (and as many warm-up runs)

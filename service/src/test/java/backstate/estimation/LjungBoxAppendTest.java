@@ -3,15 +3,20 @@ package backstate.estimation;
 import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertThrows;
 
+import com.fasterxml.jackson.databind.JsonNode;
+import com.fasterxml.jackson.databind.ObjectMapper;
+import java.io.IOException;
 import java.util.Random;
 import java.util.stream.Stream;
+import java.util.stream.StreamSupport;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.params.ParameterizedTest;
 import org.junit.jupiter.params.provider.Arguments;
 import org.junit.jupiter.params.provider.MethodSource;
 
 /**
- * The streaming Ljung–Box statistic, whole and joined from consecutive pieces, against the
+ * The streaming Ljung–Box statistic against numpy and scipy (reference cases written by
+ * test-data/reference/generate_ljung_box.py), and joined from consecutive pieces against the
  * textbook two-pass computation (what numpy would do: centre, then sum lagged products).
  */
 class LjungBoxAppendTest {
@@ -22,22 +27,31 @@ class LjungBoxAppendTest {
      */
     private static final double RELATIVE = 1e-12;
     /**
-     * p = Q(h/2, Q/2) moves by (Q/2)·δQ/Q relative for a relative change δQ/Q in Q, ~100× here,
-     * and Commons Math's incomplete gamma is accurate to ~1e-14 relative at these arguments.
+     * p = Q(h/2, Q/2) moves by about (Q/2)·δQ/Q relative for a relative change δQ/Q in Q, at most
+     * ~150× here (Q ≤ 293 in the reference cases), and Commons Math's incomplete gamma is accurate
+     * to ~1e-14 relative at these arguments.
      */
     private static final double P_RELATIVE = 1e-9;
 
-    @Test
-    void statistic_of_a_fixed_series_matches_numpy() {
-        // r_t = sin(0.7 t) + 0.1 t, t = 0..49; h = 10. Q and its χ²(10) tail from numpy 2.4 / scipy
-        // (centre by the mean, ρ_k = Σ c_t c_{t−k} / Σ c_t², Q = N(N+2) Σ ρ_k²/(N−k)).
-        LjungBox box = new LjungBox(50);
-        for (int t = 0; t < 50; t++) {
-            box.add(Math.sin(0.7 * t) + 0.1 * t);
+    /** The cases of test-data/reference/ljung-box.json, written by generate_ljung_box.py (numpy and scipy). */
+    static Stream<Arguments> referenceCases() throws IOException {
+        JsonNode cases = new ObjectMapper().readTree(EstimateCases.root().resolveSibling("ljung-box.json").toFile()).get("cases");
+        return StreamSupport.stream(cases.spliterator(), false).map(c -> Arguments.of(c.get("name").asText(), c));
+    }
+
+    @ParameterizedTest(name = "{0}")
+    @MethodSource("referenceCases")
+    void statistic_and_p_value_match_numpy_and_scipy(String name, JsonNode reference) {
+        JsonNode values = reference.get("values");
+        LjungBox box = new LjungBox(values.size());
+        for (JsonNode v : values) {
+            box.add(v.asDouble());
         }
-        assertEquals(10, box.lags());
-        assertEquals(189.18472452262472, box.statistic(), RELATIVE * 189.2);
-        assertEquals(2.889546330010246e-35, box.pValue(), P_RELATIVE * 2.89e-35);
+        double q = reference.get("statistic").asDouble();
+        double p = reference.get("pValue").asDouble();
+        assertEquals(reference.get("lags").asInt(), box.lags(), "h = min(10, floor(N/5))");
+        assertEquals(q, box.statistic(), RELATIVE * q, "Q against numpy");
+        assertEquals(p, box.pValue(), P_RELATIVE * p, "p against scipy.stats.chi2.sf");
     }
 
     static Stream<Arguments> splits() {

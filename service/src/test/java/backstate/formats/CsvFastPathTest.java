@@ -5,6 +5,7 @@ import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertThrows;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
+import backstate.estimation.ModelException;
 import java.io.ByteArrayInputStream;
 import java.io.ByteArrayOutputStream;
 import java.io.IOException;
@@ -16,21 +17,36 @@ import java.nio.file.Path;
 import java.util.Arrays;
 import java.util.List;
 import java.util.Locale;
+import java.util.regex.Pattern;
 import net.jqwik.api.Arbitraries;
 import net.jqwik.api.Arbitrary;
+import net.jqwik.api.Assume;
+import net.jqwik.api.Combinators;
+import net.jqwik.api.EdgeCasesMode;
 import net.jqwik.api.Example;
 import net.jqwik.api.ForAll;
 import net.jqwik.api.Property;
 import net.jqwik.api.Provide;
 
 /**
- * The byte-level CSV path ({@link CsvRecords}, {@link PlainDecimal}) against the reader it
- * replaced ({@link ReferenceCsvReader}, kept as the oracle): the same traces, bit for bit, and
- * the same refusals, word for word — for the corners one by one, and for generated bodies.
+ * The byte-level CSV path ({@link CsvRecords}, {@link PlainDecimal}) against an oracle built from
+ * outside parts ({@link JacksonCsvOracle}: jackson-dataformat-csv for RFC 4180 records, the JDK for
+ * UTF-8 and for decimals): the same traces, bit for bit, and a refusal where the oracle refuses —
+ * for the corners one by one, with the reader's own words, and for generated bodies.
+ *
+ * <p>One difference is known and kept: jackson-dataformat-csv skips blanks between a closing quote
+ * and the next comma or line end ({@code "1" ,}), where RFC 4180 (section 2, rules 4-7) has a quoted
+ * field end at its closing quote and counts spaces as part of a field, so our reader refuses the
+ * text after the quote. Generated bodies with a quote followed by blanks and a separator are left
+ * out of the comparison; {@link #blanks_after_a_closing_quote_are_refused_where_jackson_skips_them}
+ * pins both sides.
  */
 class CsvFastPathTest {
     static final String HEADER = "time,return_air,supply_air,cooling_power,ambient\n";
     static final ModelDocument MODEL = reeferModel();
+    static final String REFUSED = "refused";
+    /** A quote, blanks, then a comma, a line end or the end: where jackson-dataformat-csv is laxer than RFC 4180. */
+    static final Pattern BLANK_AFTER_QUOTE = Pattern.compile("\"[ \t]+(?=[,\r\n]|$)");
 
     // ---- corners, with the values they must give
 
@@ -44,7 +60,7 @@ class CsvFastPathTest {
     }
 
     @Example
-    void quoted_fields_crlf_and_blank_lines_read_as_before() {
+    void quoted_fields_crlf_and_blank_lines_read_as_rfc_4180_says() {
         String csv = "\"time\",\"return_air\",supply_air,cooling_power,ambient\r\n\r\n"
                 + "\"0\",\" 2.5 \",\"-1\",6,27\r\n\n60,,\"\",6,27\r";
         ParsedTrace t = same(csv);
@@ -105,7 +121,7 @@ class CsvFastPathTest {
                 refusedAlike(HEADER + "0,\"1\"x,1,1,1\n").getMessage());
         assertEquals("line 2: got more than 5 fields, expected at most 5", refusedAlike(HEADER + "0,1,1,1,1,1\n").getMessage());
         assertEquals("line 2: got 4 fields, expected 5", refusedAlike(HEADER + "0,1,1,1\n").getMessage());
-        // A quoted line break does not count as a line, as before.
+        // A quoted line break does not count as a line.
         assertEquals("line 3: got 4 fields, expected 5", refusedAlike(HEADER + "0,\"1\n\",1,1,1\n0,1,1,1\n").getMessage());
     }
 
@@ -130,7 +146,17 @@ class CsvFastPathTest {
     }
 
     @Example
-    void header_errors_read_as_before() {
+    void blanks_after_a_closing_quote_are_refused_where_jackson_skips_them() throws IOException {
+        String csv = HEADER + "0,\"1\" ,1,1,1\n";
+        assertEquals("line 2: got text after a closing quote, expected a comma or line end",
+                assertThrows(InputException.class, () -> read(csv)).getMessage());
+        assertEquals(1.0, JacksonCsvOracle.readCsv(csv.getBytes(StandardCharsets.UTF_8), MODEL, Limits.DEFAULTS).trace().output(0, 0),
+                "jackson-dataformat-csv reads the field as 1");
+        assertTrue(BLANK_AFTER_QUOTE.matcher(csv).find(), "and such bodies are left out of the generated comparison");
+    }
+
+    @Example
+    void header_errors_are_refused() {
         assertEquals("header", refusedAlike("").field());
         assertEquals("header", refusedAlike("\n\r\n").field());
         assertEquals("header", refusedAlike("return_air,supply_air\n1,2\n").field());
@@ -153,13 +179,12 @@ class CsvFastPathTest {
     }
 
     @Example
-    void the_sample_limit_is_checked_per_cell_as_before() {
+    void the_sample_limit_is_checked_per_cell() {
         Limits two = new Limits(2, 64, 16);
-        String csv = HEADER + "0,1,1,1,1\n60,1,1,1,1\n120,x,1,1,1\n";
-        InputException e = assertThrows(InputException.class, () -> read(csv.getBytes(StandardCharsets.UTF_8), two));
-        assertEquals(outcome(() -> ReferenceCsvReader.readCsv(stream(csv.getBytes(StandardCharsets.UTF_8)), MODEL, two)),
-                outcome(() -> read(csv.getBytes(StandardCharsets.UTF_8), two)));
-        assertEquals("time", e.field());
+        byte[] csv = (HEADER + "0,1,1,1,1\n60,1,1,1,1\n120,x,1,1,1\n").getBytes(StandardCharsets.UTF_8);
+        InputException e = assertThrows(InputException.class, () -> read(csv, two));
+        assertEquals(REFUSED, outcome(() -> JacksonCsvOracle.readCsv(csv, MODEL, two)));
+        assertEquals("time: got more than 2 samples, expected at most 2", e.getMessage(), "the third time, before the bad cell");
     }
 
     @Example
@@ -173,12 +198,22 @@ class CsvFastPathTest {
         assertEquals(1.125, t.trace().output(4999, 0), "4999 % 7 = 1");
     }
 
-    // ---- generated bodies: both readers give the same outcome
+    // ---- generated bodies: the reader and the oracle give the same outcome
 
     @Property(tries = 3000)
     void generated_bodies_read_alike(@ForAll("bodies") byte[] body) {
-        assertEquals(outcome(() -> ReferenceCsvReader.readCsv(stream(body), MODEL, Limits.DEFAULTS)),
+        Assume.that(!BLANK_AFTER_QUOTE.matcher(new String(body, StandardCharsets.ISO_8859_1)).find());
+        assertEquals(outcome(() -> JacksonCsvOracle.readCsv(body, MODEL, Limits.DEFAULTS)),
                 outcome(() -> read(body, Limits.DEFAULTS)));
+    }
+
+    /** Well-formed traces in many spellings, so that values, not only refusals, are compared. */
+    @Property(tries = 1000, edgeCases = EdgeCasesMode.NONE)
+    void generated_traces_read_alike_value_for_value(@ForAll("traces") String csv) {
+        byte[] body = csv.getBytes(StandardCharsets.UTF_8);
+        String oracle = outcome(() -> JacksonCsvOracle.readCsv(body, MODEL, Limits.DEFAULTS));
+        assertTrue(oracle.startsWith("read "), "a well-formed trace is read by the oracle");
+        assertEquals(oracle, outcome(() -> read(body, Limits.DEFAULTS)));
     }
 
     @Property(tries = 3000)
@@ -227,6 +262,54 @@ class CsvFastPathTest {
                 net.jqwik.api.Combinators.combine(header, rows).as((h, r) -> concat(List.of(h, r))));
     }
 
+    /**
+     * A trace the model accepts: the header's columns in any order (supply_air, an output, may be
+     * left out), increasing times, decimals in many spellings, quoted or padded cells, blank or
+     * quoted-empty outputs (missing), CRLF, LF or CR line ends, and blank lines between records.
+     */
+    @Provide
+    Arbitrary<String> traces() {
+        Arbitrary<List<String>> header = Arbitraries.of(
+                List.of("time", "return_air", "supply_air", "cooling_power", "ambient"),
+                List.of("ambient", "time", "cooling_power", "return_air"),
+                List.of("supply_air", "cooling_power", "ambient", "return_air", "time"));
+        Arbitrary<String> end = Arbitraries.of("\n", "\r\n", "\r", "\n\n", "\r\n\r\n");
+        // Nothing above 1e250: "%.3f" spells such a value in more than 256 characters (and "%.4E"
+        // rounds Double.MAX_VALUE past the largest double). No flatMap: jqwik builds those slowly.
+        Arbitrary<Double> number = Arbitraries.oneOf(
+                Arbitraries.doubles().between(-1e6, 1e6).ofScale(6), Arbitraries.doubles().between(-1e-3, 1e-3).ofScale(12),
+                Arbitraries.of(0.0, -0.0, 0.1, 1e22, 1e23, 9007199254740993.0, Double.MIN_VALUE, 2.2250738585072014E-308,
+                        1.5e200, 4.35, 2.675));
+        Arbitrary<String> spelling = Arbitraries.of("%.3f", "%.17g", "%e", "%s", "%+.2f", "%.4E");
+        Arbitrary<String> wrapping = Arbitraries.of("%s", "%s", "%s", "\"%s\"", " %s\t", "missing", "\"\"");
+        Arbitrary<String> cell = Combinators.combine(number, spelling, wrapping).as((v, format, wrap) -> {
+            String text = format.equals("%s") ? Double.toString(v) : String.format(Locale.ROOT, format, v);
+            return wrap.equals("missing") ? "" : String.format(Locale.ROOT, wrap, text.replace("E+0", "e"));
+        });
+        int maxRows = 30;
+        return Combinators.combine(header, Arbitraries.integers().between(1, maxRows), cell.list().ofSize(5 * maxRows),
+                end.list().ofSize(maxRows + 1), Arbitraries.of("%d", "%.1f", "%.3e", "+%d", "\"%d\"").list().ofSize(maxRows))
+                .as((columns, rows, cells, ends, timeFormats) -> {
+                    StringBuilder csv = new StringBuilder(String.join(",", columns)).append(ends.get(0));
+                    for (int k = 0; k < rows; k++) {
+                        for (int i = 0; i < columns.size(); i++) {
+                            String name = columns.get(i);
+                            String text = cells.get(5 * k + i);
+                            // Only outputs may be missing; an input's blank cell is made a zero.
+                            boolean blank = text.isBlank() || text.equals("\"\"");
+                            csv.append(i == 0 ? "" : ",").append(name.equals("time") ? timeCell(timeFormats.get(k), 60 * k)
+                                    : name.endsWith("_air") || !blank ? text : "0");
+                        }
+                        csv.append(ends.get(k + 1));
+                    }
+                    return csv.toString();
+                });
+    }
+
+    private static String timeCell(String format, int seconds) {
+        return format.contains("d") ? String.format(Locale.ROOT, format, seconds) : String.format(Locale.ROOT, format, (double) seconds);
+    }
+
     /** A mostly valid row: increasing-ish times, decimals in many spellings, now and then a quote, blank or odd cell. */
     private Arbitrary<String> row() {
         Arbitrary<String> cell = Arbitraries.oneOf(decimals(), decimals().map(s -> "\"" + s + "\""), decimals().map(s -> " " + s + "\t"),
@@ -255,7 +338,11 @@ class CsvFastPathTest {
         ParsedTrace run() throws IOException;
     }
 
-    /** What a reader made of a body: the trace's values bit for bit, or the refusal's class and words. */
+    /**
+     * What a reader made of a body: the trace's values bit for bit, or {@link #REFUSED} for a refusal
+     * that names a field (a malformed body or a trace the model's checks refuse). Anything else
+     * thrown is a bug, and fails the test.
+     */
     static String outcome(Read read) {
         try {
             ParsedTrace t = read.run();
@@ -272,14 +359,20 @@ class CsvFastPathTest {
             return s.toString();
         } catch (IOException e) {
             throw new UncheckedIOException(e);
-        } catch (RuntimeException e) {
-            return e.getClass().getSimpleName() + ": " + e.getMessage();
+        } catch (InputException e) {
+            assertTrue(!e.field().isBlank() && e.getMessage().length() > e.field().length() + 2, e.getMessage());
+            return REFUSED;
+        } catch (ModelException e) {
+            assertTrue(!e.field().isBlank(), e.getMessage());
+            return REFUSED;
         }
     }
 
     private static ParsedTrace same(String csv) {
         byte[] body = csv.getBytes(StandardCharsets.UTF_8);
-        assertEquals(outcome(() -> ReferenceCsvReader.readCsv(stream(body), MODEL, Limits.DEFAULTS)), outcome(() -> read(body, Limits.DEFAULTS)));
+        String oracle = outcome(() -> JacksonCsvOracle.readCsv(body, MODEL, Limits.DEFAULTS));
+        assertTrue(oracle.startsWith("read "), "the oracle reads it");
+        assertEquals(oracle, outcome(() -> read(body, Limits.DEFAULTS)));
         return read(csv);
     }
 
@@ -288,8 +381,7 @@ class CsvFastPathTest {
     }
 
     private static InputException refusedAlike(byte[] body) {
-        String reference = outcome(() -> ReferenceCsvReader.readCsv(stream(body), MODEL, Limits.DEFAULTS));
-        assertEquals(reference, outcome(() -> read(body, Limits.DEFAULTS)));
+        assertEquals(REFUSED, outcome(() -> JacksonCsvOracle.readCsv(body, MODEL, Limits.DEFAULTS)), "the oracle refuses it");
         return assertThrows(InputException.class, () -> read(body, Limits.DEFAULTS));
     }
 

@@ -20,6 +20,7 @@ import java.util.Map;
 import java.util.concurrent.ConcurrentHashMap;
 import java.util.concurrent.CountDownLatch;
 import java.util.concurrent.CyclicBarrier;
+import java.util.concurrent.Semaphore;
 import java.util.concurrent.atomic.AtomicInteger;
 import org.junit.jupiter.api.Test;
 
@@ -172,10 +173,16 @@ class WorkerPoolTest extends StoreTestBase {
         try (WorkerPool pool = new WorkerPool(queue, handler, 1, fx.clock, IDLE_POLL, registry,
                 WorkerPool.DEFAULT_SHUTDOWN_GRACE, STUCK_AFTER)) {
             pool.start();
+            // Counted, not timed: each wake is followed by a read of the queue's length, and the
+            // read after the fifth shows the dispatcher finished that round (a claim would come
+            // between the two reads, on the one dispatcher thread).
             for (int i = 0; i < 5; i++) {
+                queue.lengthReads().drainPermits();
                 pool.wake();
-                Thread.sleep(IDLE_POLL.toMillis());
+                assertTrue(queue.lengthReads().tryAcquire(HANG_GUARD_SECONDS, SECONDS), "no read of the queue's length");
             }
+            queue.lengthReads().drainPermits();
+            assertTrue(queue.lengthReads().tryAcquire(HANG_GUARD_SECONDS, SECONDS), "no read after the last round");
             assertEquals(List.of(), queue.claimLimits(), "polls and wakes of an idle pool read the queue's length only");
             submitAndWake(pool, "unit-1", 1);
             awaitSucceeded(1);
@@ -307,12 +314,12 @@ class WorkerPoolTest extends StoreTestBase {
 
     /**
      * The store as a queue whose completions wait until released (a write stuck behind a batch),
-     * recording the limit of every claim.
+     * recording the limit of every claim and releasing a permit at every read of the queue's length.
      */
     private record HeldOutcomes(SqliteStore store, CountDownLatch writeStarted, CountDownLatch release,
-                                List<Integer> claimLimits) implements JobQueue {
+                                List<Integer> claimLimits, Semaphore lengthReads) implements JobQueue {
         HeldOutcomes(SqliteStore store, CountDownLatch writeStarted, CountDownLatch release) {
-            this(store, writeStarted, release, new java.util.concurrent.CopyOnWriteArrayList<>());
+            this(store, writeStarted, release, new java.util.concurrent.CopyOnWriteArrayList<>(), new Semaphore(0));
         }
 
         @Override
@@ -357,7 +364,9 @@ class WorkerPoolTest extends StoreTestBase {
 
         @Override
         public int queuedCount() {
-            return store.queuedCount();
+            int queued = store.queuedCount();
+            lengthReads.release();
+            return queued;
         }
 
         @Override

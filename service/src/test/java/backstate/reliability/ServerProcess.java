@@ -101,7 +101,17 @@ final class ServerProcess implements AutoCloseable {
 
     /** SIGTERM, then waits up to {@code bound} for the exit; returns the exit code, or null if still running. */
     Integer terminate(Duration bound) throws InterruptedException {
+        signalTerm();
+        return awaitExit(bound);
+    }
+
+    /** SIGTERM, without waiting: the graceful stop runs in the server from here. */
+    void signalTerm() {
         process.destroy();
+    }
+
+    /** Waits up to {@code bound} for the exit; returns the exit code, or null if still running. */
+    Integer awaitExit(Duration bound) throws InterruptedException {
         return process.waitFor(bound.toMillis(), TimeUnit.MILLISECONDS) ? process.exitValue() : null;
     }
 

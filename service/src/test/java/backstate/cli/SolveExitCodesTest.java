@@ -1,0 +1,156 @@
+package backstate.cli;
+
+import static org.junit.jupiter.api.Assertions.assertArrayEquals;
+import static org.junit.jupiter.api.Assertions.assertEquals;
+import static org.junit.jupiter.api.Assertions.assertTrue;
+
+import backstate.api.TestServer;
+import backstate.formats.EstimateCaution;
+import com.fasterxml.jackson.databind.JsonNode;
+import com.fasterxml.jackson.databind.ObjectMapper;
+import java.io.IOException;
+import java.nio.charset.StandardCharsets;
+import java.nio.file.Files;
+import java.nio.file.Path;
+import java.util.ArrayList;
+import java.util.Arrays;
+import java.util.List;
+import org.junit.jupiter.api.Test;
+import org.junit.jupiter.api.io.TempDir;
+
+/**
+ * {@code solve} as the README states it: "It prints the estimate as JSON with the same
+ * {@code caution} the API sends (exit 0), or the unobservable directions (exit 3); bad input
+ * exits 2." Each exit code with the output that goes with it, and nothing else on the other stream.
+ */
+class SolveExitCodesTest {
+    /**
+     * numpy lstsq (test-data/demo/generate_demo.py, the demo fleet's reference values) against our
+     * QR on the demo's κ ≈ 1e3 problems: agreement to 1e-9 relative, as in OpenApiContractTest.
+     */
+    static final double REFERENCE_TOLERANCE = 1e-9;
+    static final String UNIT = "RCX-85159";
+    /** Two tanks, one probe on the first: the second tank's state never reaches the output. */
+    static final String PAIR_MODEL = "{\"timeDomain\":\"continuous\",\"states\":[{\"name\":\"seen\",\"unit\":\"degC\"},"
+            + "{\"name\":\"hidden\",\"unit\":\"degC\"}],\"outputs\":[{\"name\":\"probe\",\"unit\":\"degC\",\"noiseSigma\":0.1}],"
+            + "\"a\":[[-0.001,0],[0,-0.002]],\"c\":[[1,0]]}";
+
+    final ObjectMapper json = new ObjectMapper();
+
+    @TempDir
+    Path dir;
+
+    @Test
+    void a_solved_trace_prints_the_estimate_as_json_with_the_api_caution_and_exits_0() throws IOException {
+        CommandRun run = CommandRun.of(SolveCommand::run, "--model", SolveCommandTest.MODEL.toString(),
+                "--trace", TestServer.TEST_DATA.resolve("demo/traces/" + UNIT + ".csv").toString());
+
+        assertEquals(0, run.exit(), run.err());
+        assertEquals("", run.err());
+        JsonNode estimate = json.readTree(run.out());
+        assertTrue(estimate.isObject(), run.out());
+        assertEquals(EstimateCaution.TEXT, estimate.get("caution").asText());
+        assertEquals(List.of("wall", "air", "cargo_surface", "cargo_core"), texts(estimate.get("states"), "name"));
+        assertEquals("sampled", estimate.get("formulation").asText());
+        // The numbers: the demo generator's numpy lstsq solution for this unit (test-data/demo/fleet.json).
+        JsonNode reference = demoUnit(UNIT);
+        for (String[] pair : new String[][] {{"referenceEstimate", "estimate"}, {"referenceStdErrors", "standardError"}}) {
+            double[] expected = json.convertValue(reference.get(pair[0]), double[].class);
+            double[] got = texts(estimate.get("states"), pair[1]).stream().mapToDouble(Double::parseDouble).toArray();
+            double scale = Arrays.stream(expected).map(Math::abs).max().orElseThrow();
+            assertArrayEquals(expected, got, REFERENCE_TOLERANCE * scale, pair[1]);
+        }
+        double chi2 = reference.get("referenceChiSquare").asDouble();
+        assertEquals(chi2, estimate.get("residuals").get("chiSquare").asDouble(), REFERENCE_TOLERANCE * chi2);
+        assertEquals(reference.get("referenceDegreesOfFreedom").asInt(), estimate.get("residuals").get("degreesOfFreedom").asInt());
+    }
+
+    @Test
+    void an_unobservable_trace_prints_the_directions_and_exits_3() throws IOException {
+        Path model = write("pair.json", PAIR_MODEL);
+        Path trace = write("pair-trace.json", "{\"time\":[0,60,120,180],\"outputs\":{\"probe\":[5,4.9,4.8,4.75]}}");
+
+        CommandRun run = CommandRun.of(SolveCommand::run, "--model", model.toString(), "--trace", trace.toString());
+
+        assertEquals(3, run.exit(), run.out() + run.err());
+        assertEquals("", run.err());
+        JsonNode answer = json.readTree(run.out());
+        assertEquals(List.of("error", "unobservableDirections"), fieldNames(answer));
+        assertEquals("unobservable: the trace does not determine 1 direction of the unknowns (mostly along [hidden]);"
+                + " add a prior, measure another output, or record longer", answer.get("error").asText());
+        // Closed form: with C = [1 0] and A diagonal, [C; CA] = [[1, 0], [-0.001, 0]] has the null
+        // space span{(0, 1)}: the hidden tank. A direction's sign is arbitrary.
+        JsonNode directions = answer.get("unobservableDirections");
+        assertEquals(1, directions.size());
+        JsonNode components = directions.get(0).get("components");
+        assertEquals(List.of("seen", "hidden"), texts(components, "name"));
+        assertEquals(List.of("state", "state"), texts(components, "kind"));
+        assertEquals(0.0, components.get(0).get("value").asDouble(), 1e-12);
+        assertEquals(1.0, Math.abs(components.get(1).get("value").asDouble()), 1e-12);
+    }
+
+    @Test
+    void bad_input_exits_2_with_one_line_on_stderr_and_nothing_on_stdout() throws IOException {
+        String model = SolveCommandTest.MODEL.toString();
+        String trace = SolveCommandTest.TRACE.toString();
+        Path badCell = write("bad-cell.csv", "time,return_air,supply_air,cooling_power,ambient\n0,warm,1,1,1\n");
+        Path unknownColumn = write("unknown-column.csv", "time,return_air,humidity\n0,1,1\n");
+        Path notJson = write("model.json", "{\"timeDomain\":");
+
+        assertRefused("backstate solve: missing --trace FILE", "--model", model);
+        assertRefused("backstate solve: got --speed, expected --model FILE --trace FILE [--formulation sampled|continuous]"
+                + " [--offsets] [--reference-time SECONDS]", "--model", model, "--trace", trace, "--speed", "fast");
+        assertRefused("backstate solve: line 2, column return_air: got \"warm\", expected a decimal number",
+                "--model", model, "--trace", badCell.toString());
+        assertTrue(refused("--model", model, "--trace", unknownColumn.toString())
+                .startsWith("backstate solve: header[2]: got an unknown column \"humidity\""));
+        // A model file that is not JSON: exit 2 and nothing on stdout, but the words are Jackson's
+        // own and run to two lines (its location on the second), so only the start is checked.
+        CommandRun malformed = CommandRun.of(SolveCommand::run, "--model", notJson.toString(), "--trace", trace);
+        assertEquals(List.of(2, ""), List.of(malformed.exit(), malformed.out()));
+        assertTrue(malformed.err().startsWith("backstate solve: "), malformed.err());
+        assertTrue(refused("--model", model, "--trace", dir.resolve("absent.csv").toString()).contains("absent.csv"),
+                "a missing file is named");
+    }
+
+    private void assertRefused(String line, String... args) {
+        assertEquals(line, refused(args));
+    }
+
+    /** Runs solve, requires exit 2 with an empty stdout and one line on stderr, and returns that line. */
+    private static String refused(String... args) {
+        CommandRun run = CommandRun.of(SolveCommand::run, args);
+        assertEquals(2, run.exit(), run.out() + run.err());
+        assertEquals("", run.out());
+        assertTrue(run.err().endsWith(System.lineSeparator()), run.err());
+        String line = run.err().substring(0, run.err().length() - System.lineSeparator().length());
+        assertTrue(!line.contains("\n"), "one line: " + run.err());
+        return line;
+    }
+
+    private Path write(String name, String text) throws IOException {
+        return Files.writeString(dir.resolve(name), text, StandardCharsets.UTF_8);
+    }
+
+    private JsonNode demoUnit(String unitId) throws IOException {
+        for (JsonNode unit : json.readTree(TestServer.TEST_DATA.resolve("demo/fleet.json").toFile()).get("units")) {
+            if (unit.get("unitId").asText().equals(unitId)) {
+                return unit;
+            }
+        }
+        throw new AssertionError(unitId + " is not in the demo fleet");
+    }
+
+    private static List<String> texts(JsonNode items, String field) {
+        List<String> out = new ArrayList<>();
+        items.forEach(item -> out.add(item.get(field).asText()));
+        return out;
+    }
+
+    private static List<String> fieldNames(JsonNode object) {
+        List<String> out = new ArrayList<>();
+        object.fieldNames().forEachRemaining(out::add);
+        out.sort(null);
+        return out;
+    }
+}
