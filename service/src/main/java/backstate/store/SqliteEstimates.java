@@ -1,5 +1,6 @@
 package backstate.store;
 
+import backstate.jobs.NewEstimate;
 import java.sql.Connection;
 import java.sql.PreparedStatement;
 import java.sql.ResultSet;
@@ -83,12 +84,15 @@ final class SqliteEstimates {
         });
     }
 
-    static void insertEstimate(Connection c, String jobId, NewEstimate e, Instant now) throws SQLException {
-        try (PreparedStatement ps = Sql.bind(c.prepareStatement(INSERT_ESTIMATE), Sql.newId(), jobId,
+    /** Writes the estimate and returns its ID; the fleet rows follow in the same transaction. */
+    static String insertEstimate(Connection c, String jobId, NewEstimate e, Instant now) throws SQLException {
+        String id = Sql.newId();
+        try (PreparedStatement ps = Sql.bind(c.prepareStatement(INSERT_ESTIMATE), id, jobId,
                 e.traceId(), e.unitId(), e.family(), e.version(), Sql.millis(now), e.traceId(), e.windowStart(),
                 e.windowEnd(), e.chi2PerDof(), Sql.joinFlags(e.flags()), e.summaryJson())) {
             ps.executeUpdate();
         }
+        return id;
     }
 
     private static List<EstimateRow> listHistory(Connection c, String unitId, EstimateFilter f,

@@ -1,6 +1,7 @@
 package backstate.store;
 
 import backstate.estimation.SampleQuantiles;
+import backstate.jobs.NewEstimate;
 import java.sql.Connection;
 import java.sql.PreparedStatement;
 import java.sql.ResultSet;
@@ -41,16 +42,15 @@ final class SqliteFleet {
     /** First capacity of a column read; it doubles as needed. */
     private static final int FIRST_CAPACITY = 1024;
 
-    // Written with every estimate, in the completing job's transaction. Keep in step with the
-    // backfill at the end of V7__recording_time.sql, which runs the same SELECTs for every estimate.
-    private static final String RECORD_STATES = "INSERT INTO estimate_states"
-            + " (estimate_id, state, value, standard_error, lower, upper)"
-            + " SELECT estimate_id, state, value, standard_error, lower, upper FROM estimate_document_states"
-            + " WHERE job_id = ? ON CONFLICT DO NOTHING";
-    private static final String RECORD_CHANNELS = "INSERT INTO estimate_channels"
+    // Written with every estimate, in the completing job's transaction, from the estimate's typed
+    // figures (NewEstimate): the JSON document is never read back here. A name repeated in one
+    // document keeps its first row, as the V2/V7 backfills did.
+    private static final String RECORD_STATE = "INSERT INTO estimate_states"
+            + " (estimate_id, state, value, standard_error, lower, upper) VALUES (?, ?, ?, ?, ?, ?)"
+            + " ON CONFLICT DO NOTHING";
+    private static final String RECORD_CHANNEL = "INSERT INTO estimate_channels"
             + " (family, version, channel, window_start, estimate_id, received_at, rms)"
-            + " SELECT family, version, channel, window_start, estimate_id, received_at, rms"
-            + " FROM estimate_document_channels WHERE job_id = ? ON CONFLICT DO NOTHING";
+            + " VALUES (?, ?, ?, ?, ?, (SELECT received_at FROM estimates WHERE id = ?), ?) ON CONFLICT DO NOTHING";
     private static final String LATEST_COLUMNS = "unit_id, family, version, estimate_id, window_start, window_end,"
             + " received_at, created_at, chi2_per_dof, flags";
     // A unit's newest estimate is its newest recording (then newest written, then id): a late
@@ -58,7 +58,7 @@ final class SqliteFleet {
     // only when the incoming (window_start, created_at, id) is greater. Same syntax on PostgreSQL.
     private static final String RECORD_UNIT_LATEST = "INSERT INTO unit_latest (" + LATEST_COLUMNS + ")"
             + " SELECT unit_id, family, version, id, window_start, window_end, received_at, created_at, chi2_per_dof,"
-            + " flags FROM estimates WHERE job_id = ?"
+            + " flags FROM estimates WHERE id = ?"
             + " ON CONFLICT (family, unit_id) DO UPDATE SET version = excluded.version,"
             + " estimate_id = excluded.estimate_id, window_start = excluded.window_start,"
             + " window_end = excluded.window_end, received_at = excluded.received_at, created_at = excluded.created_at,"
@@ -67,7 +67,7 @@ final class SqliteFleet {
             + " > (unit_latest.window_start, unit_latest.created_at, unit_latest.estimate_id)";
     private static final String RECORD_UNIT_VERSION_LATEST = "INSERT INTO unit_version_latest (" + LATEST_COLUMNS + ")"
             + " SELECT unit_id, family, version, id, window_start, window_end, received_at, created_at, chi2_per_dof,"
-            + " flags FROM estimates WHERE job_id = ?"
+            + " flags FROM estimates WHERE id = ?"
             + " ON CONFLICT (family, version, unit_id) DO UPDATE SET"
             + " estimate_id = excluded.estimate_id, window_start = excluded.window_start,"
             + " window_end = excluded.window_end, received_at = excluded.received_at, created_at = excluded.created_at,"
@@ -128,10 +128,22 @@ final class SqliteFleet {
         return statements;
     }
 
-    /** Writes the derived rows of the estimate the job just wrote; call in the same transaction. */
-    static void recordEstimate(Connection c, String jobId) throws SQLException {
-        for (String sql : List.of(RECORD_STATES, RECORD_CHANNELS, RECORD_UNIT_LATEST, RECORD_UNIT_VERSION_LATEST)) {
-            try (PreparedStatement ps = Sql.bind(c.prepareStatement(sql), jobId)) {
+    /** Writes the derived rows of the estimate just written as {@code estimateId}; call in the same transaction. */
+    static void recordEstimate(Connection c, String estimateId, NewEstimate e) throws SQLException {
+        for (NewEstimate.StateFigure s : e.states()) {
+            try (PreparedStatement ps = Sql.bind(c.prepareStatement(RECORD_STATE), estimateId, s.state(), s.value(),
+                    s.standardError(), s.lower(), s.upper())) {
+                ps.executeUpdate();
+            }
+        }
+        for (NewEstimate.ChannelFigure ch : e.channels()) {
+            try (PreparedStatement ps = Sql.bind(c.prepareStatement(RECORD_CHANNEL), e.family(), e.version(),
+                    ch.channel(), e.windowStart(), estimateId, estimateId, ch.rms())) {
+                ps.executeUpdate();
+            }
+        }
+        for (String sql : List.of(RECORD_UNIT_LATEST, RECORD_UNIT_VERSION_LATEST)) {
+            try (PreparedStatement ps = Sql.bind(c.prepareStatement(sql), estimateId)) {
                 ps.executeUpdate();
             }
         }

@@ -1,5 +1,6 @@
 package backstate.store;
 
+import backstate.jobs.NewEstimate;
 import backstate.jobs.ClaimedJob;
 import com.fasterxml.jackson.core.JsonProcessingException;
 import com.fasterxml.jackson.core.type.TypeReference;
@@ -118,8 +119,8 @@ final class SqliteJobs {
                 return false;
             }
             if (estimateOrNull != null) {
-                SqliteEstimates.insertEstimate(c, jobId, estimateOrNull, now);
-                SqliteFleet.recordEstimate(c, jobId); // the fleet views' rows, in the same transaction
+                String estimateId = SqliteEstimates.insertEstimate(c, jobId, estimateOrNull, now);
+                SqliteFleet.recordEstimate(c, estimateId, estimateOrNull); // the fleet views' rows, same transaction
             }
             return true;
         });

@@ -1,5 +1,6 @@
 package backstate.store;
 
+import backstate.jobs.NewEstimate;
 import backstate.jobs.ClaimedJob;
 import backstate.jobs.JobQueue;
 import java.nio.file.Path;

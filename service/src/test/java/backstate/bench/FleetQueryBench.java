@@ -329,8 +329,6 @@ public final class FleetQueryBench {
         statements.put("trend", "SELECT e.id, s.value FROM estimates e JOIN estimate_states s ON s.estimate_id = e.id"
                 + " AND s.state = 'cargo_core' WHERE e.unit_id = 'RCX-00001' AND e.family = 'reefer-40'"
                 + " ORDER BY e.window_start DESC, e.created_at DESC, e.id DESC LIMIT 100");
-        statements.put("write path: states of one job", "INSERT INTO estimate_states SELECT estimate_id, state, value,"
-                + " standard_error, lower, upper FROM estimate_document_states WHERE job_id = 'x'");
         System.out.println("Query plans (EXPLAIN QUERY PLAN):");
         try (Connection c = DriverManager.getConnection("jdbc:sqlite:" + database); Statement s = c.createStatement()) {
             for (Map.Entry<String, String> e : statements.entrySet()) {

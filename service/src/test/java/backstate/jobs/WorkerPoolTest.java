@@ -6,7 +6,6 @@ import static org.junit.jupiter.api.Assertions.assertFalse;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
 import backstate.store.JobRow;
-import backstate.store.NewEstimate;
 import backstate.store.SqliteStore;
 import backstate.store.StoreFixture;
 import backstate.store.StoreTestBase;

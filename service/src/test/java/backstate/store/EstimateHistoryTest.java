@@ -1,5 +1,6 @@
 package backstate.store;
 
+import backstate.jobs.NewEstimate;
 import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertNull;
 import static org.junit.jupiter.api.Assertions.assertThrows;
@@ -100,7 +101,7 @@ class EstimateHistoryTest extends StoreTestBase {
         Instant at = StoreFixture.T0.plusSeconds(500);
         Submission s = store.submitTrace(StoreFixture.trace("unit-C"), null, 10, at);
         ClaimedJob job = store.claimNext(1, at).get(0);
-        NewEstimate given = new NewEstimate(s.traceId(), "unit-C", "pump", 2, -1.5, 4.25, null,
+        NewEstimate given = StoreFixture.estimate(s.traceId(), "unit-C", "pump", 2, -1.5, 4.25, null,
                 List.of("clipped", "low_excitation"), "{\"x0\":[1,2]}");
         store.completeIfRunning(job.id(), job.attempt(), given, null, at.plusMillis(7));
 
@@ -175,7 +176,7 @@ class EstimateHistoryTest extends StoreTestBase {
         double start = recorded.getEpochSecond();
         Submission s = store.submitTrace(new NewTrace(unit, family, version, 3, start, start + 2, new byte[] {1}), null, 10, at);
         ClaimedJob job = store.claimNext(1, at).get(0);
-        store.completeIfRunning(job.id(), job.attempt(), new NewEstimate(s.traceId(), unit, family, version, start,
+        store.completeIfRunning(job.id(), job.attempt(), StoreFixture.estimate(s.traceId(), unit, family, version, start,
                 start + 2, 1.25, flags, "{\"at\":\"" + at + "\"}"), null, at);
         return store.findEstimateForJob(job.id()).orElseThrow();
     }

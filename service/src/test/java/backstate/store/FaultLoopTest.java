@@ -1,5 +1,6 @@
 package backstate.store;
 
+import backstate.jobs.NewEstimate;
 import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertFalse;
 import static org.junit.jupiter.api.Assertions.assertThrows;
@@ -69,7 +70,7 @@ class FaultLoopTest {
     void a_completion_failing_at_any_call_leaves_the_job_running_and_then_writes_one_estimate() throws Exception {
         Submission s = store.submitTrace(StoreFixture.trace("unit-1"), null, 10, StoreFixture.T0);
         ClaimedJob job = store.claimNext(1, StoreFixture.T0).get(0);
-        NewEstimate estimate = StoreFixture.estimate(s.traceId(), "unit-1", "pump", 1, List.of(), "{}");
+        NewEstimate estimate = StoreFixture.estimate(s.traceId(), "unit-1", "pump", 1, List.of(), FleetStoreTest.DOCUMENT);
         int failures = 0;
         for (int n = 1; n <= MAX_CALLS; n++) {
             faults.failCall(n);
@@ -79,16 +80,18 @@ class FaultLoopTest {
                 assertFailedCleanly(e);
                 assertEquals("running", store.findJob(job.id()).orElseThrow().state());
                 assertEquals(0, fx.rows("estimates"));
-                assertEquals(0, fx.rows("unit_latest") + fx.rows("unit_version_latest"));
+                assertEquals(0, fx.rows("unit_latest") + fx.rows("unit_version_latest") + fx.rows("estimate_states")
+                        + fx.rows("estimate_channels"));
                 failures++;
                 continue;
             }
             break;
         }
-        assertEquals(10, failures,
-                "BEGIN, SAVEPOINT, job update, estimate insert, 4 fleet-view inserts, RELEASE, COMMIT");
+        assertEquals(12, failures, "BEGIN, SAVEPOINT, job update, estimate insert, 2 state rows, 2 channel rows,"
+                + " 2 newest-estimate upserts, RELEASE, COMMIT");
         assertEquals("succeeded", store.findJob(job.id()).orElseThrow().state());
-        assertEquals(1, fx.rows("estimates"));
+        assertEquals(List.of(1L, 2L, 2L), List.of(fx.rows("estimates"), fx.rows("estimate_states"),
+                fx.rows("estimate_channels")));
     }
 
     @Test

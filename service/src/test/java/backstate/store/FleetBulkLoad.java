@@ -1,5 +1,6 @@
 package backstate.store;
 
+import backstate.jobs.NewEstimate;
 import java.nio.file.Path;
 import java.sql.Connection;
 import java.sql.DriverManager;
@@ -12,7 +13,7 @@ import java.util.List;
 /**
  * Bulk writer for benchmarks: stores a trace, its succeeded job and its estimate with the same
  * rows the service writes, and the fleet views' derived rows through the service's own
- * statement ({@link SqliteFleet#recordEstimate}), on one raw connection in large transactions.
+ * statements ({@link SqliteFleet#recordEstimate}), on one raw connection in large transactions.
  * Synchronous writes are off (a benchmark fill need not survive a power cut); everything else
  * is the service's schema, indexes and SQL.
  */
@@ -63,10 +64,13 @@ public final class FleetBulkLoad implements AutoCloseable {
         double windowStart = windowEnd - WINDOW_SECONDS;
         Sql.bind(trace, traceId, unitId, family, version, receivedAt, 361, windowStart, windowEnd, PAYLOAD).executeUpdate();
         Sql.bind(job, jobId, traceId, receivedAt, at - 500, at).executeUpdate();
-        Sql.bind(estimate, Sql.newId(), jobId, traceId, unitId, family, version, at, receivedAt, windowStart, windowEnd,
+        String estimateId = Sql.newId();
+        Sql.bind(estimate, estimateId, jobId, traceId, unitId, family, version, at, receivedAt, windowStart, windowEnd,
                 chi2PerDof, Sql.joinFlags(flags), summaryJson).executeUpdate();
+        NewEstimate typed = StoreFixture.estimate(traceId, unitId, family, version, windowStart, windowEnd, chi2PerDof,
+                flags, summaryJson);
         long t1 = System.nanoTime();
-        SqliteFleet.recordEstimate(c, jobId);
+        SqliteFleet.recordEstimate(c, estimateId, typed);
         deriveNanos += System.nanoTime() - t1;
         insertNanos += t1 - t0;
         rows++;

@@ -1,5 +1,6 @@
 package backstate.store;
 
+import backstate.jobs.NewEstimate;
 import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertFalse;
 import static org.junit.jupiter.api.Assertions.assertThrows;
@@ -238,7 +239,7 @@ class FleetStoreTest extends StoreTestBase {
         double start = recorded.getEpochSecond();
         Submission s = store.submitTrace(new NewTrace(unit, "pump", 1, 3, start, start + 2, new byte[] {1}), null, 100, received);
         ClaimedJob job = store.claimNext(1, received).get(0);
-        assertTrue(store.completeIfRunning(job.id(), job.attempt(), new NewEstimate(s.traceId(), unit, "pump", 1, start,
+        assertTrue(store.completeIfRunning(job.id(), job.attempt(), StoreFixture.estimate(s.traceId(), unit, "pump", 1, start,
                 start + 2, chi2, flags, summary), null, received));
         return store.findEstimateForJob(job.id()).orElseThrow();
     }

@@ -1,5 +1,9 @@
 package backstate.store;
 
+import backstate.jobs.NewEstimate;
+import backstate.formats.EstimateDocument;
+import com.fasterxml.jackson.core.JsonProcessingException;
+import com.fasterxml.jackson.databind.ObjectMapper;
 import java.nio.charset.StandardCharsets;
 import java.nio.file.Path;
 import java.sql.Connection;
@@ -16,6 +20,8 @@ import java.util.List;
  * JDBC access to the same file for counting rows and checking integrity behind the store's back.
  */
 public final class StoreFixture implements AutoCloseable {
+
+    private static final ObjectMapper DOCUMENTS = new ObjectMapper();
 
     public static final Instant T0 = Instant.parse("2025-03-01T12:00:00Z");
     public static final String FAMILY = "pump";
@@ -65,7 +71,26 @@ public final class StoreFixture implements AutoCloseable {
 
     public static NewEstimate estimate(String traceId, String unitId, String family, int version,
                                        List<String> flags, String summaryJson) {
-        return new NewEstimate(traceId, unitId, family, version, 0.0, 2.0, 1.25, flags, summaryJson);
+        return estimate(traceId, unitId, family, version, 0.0, 2.0, 1.25, flags, summaryJson);
+    }
+
+    /**
+     * An estimate stored with {@code summaryJson}, its fleet figures typed from that text read as an
+     * {@link EstimateDocument}, as a job's are from the document it serialises; text that is not such
+     * a document gives no figures.
+     */
+    public static NewEstimate estimate(String traceId, String unitId, String family, int version, double windowStart,
+                                       double windowEnd, Double chi2PerDof, List<String> flags, String summaryJson) {
+        return NewEstimate.of(traceId, unitId, family, version, windowStart, windowEnd, chi2PerDof, flags,
+                documentOrNull(summaryJson), summaryJson);
+    }
+
+    private static EstimateDocument documentOrNull(String json) {
+        try {
+            return DOCUMENTS.readValue(json, EstimateDocument.class);
+        } catch (JsonProcessingException notADocument) {
+            return null;
+        }
     }
 
     public Connection raw() throws SQLException {
