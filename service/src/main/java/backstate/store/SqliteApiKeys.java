@@ -1,6 +1,5 @@
 package backstate.store;
 
-import java.sql.Connection;
 import java.sql.PreparedStatement;
 import java.sql.ResultSet;
 import java.sql.SQLException;
@@ -42,10 +41,9 @@ final class SqliteApiKeys {
     static boolean insertApiKey(SqliteConnections db, NewApiKey k, Instant now) {
         Expect.notNull("key", k);
         return db.write(c -> {
-            try (PreparedStatement ps = Sql.bind(c.prepareStatement(INSERT_KEY), k.id(), k.role(), k.unitPattern(),
-                    k.label(), k.salt(), k.hash(), Sql.millis(now), k.createdByOrNull())) {
-                return ps.executeUpdate() == 1;
-            }
+            PreparedStatement ps = Sql.bind(c.prepare(INSERT_KEY), k.id(), k.role(), k.unitPattern(),
+                    k.label(), k.salt(), k.hash(), Sql.millis(now), k.createdByOrNull());
+            return ps.executeUpdate() == 1;
         });
     }
 
@@ -55,9 +53,8 @@ final class SqliteApiKeys {
 
     static List<ApiKeyRow> listApiKeys(SqliteConnections db) {
         return db.read(c -> {
-            try (PreparedStatement ps = c.prepareStatement(LIST_KEYS)) {
-                return Sql.list(ps, SqliteApiKeys::keyRow);
-            }
+            PreparedStatement ps = c.prepare(LIST_KEYS);
+            return Sql.list(ps, SqliteApiKeys::keyRow);
         });
     }
 
@@ -70,32 +67,28 @@ final class SqliteApiKeys {
             if (row.revoked()) {
                 return KeyRevocation.ALREADY_REVOKED;
             }
-            try (PreparedStatement ps = Sql.bind(c.prepareStatement(REVOKE_UNLESS_LAST_ADMIN), Sql.millis(now), id)) {
-                return ps.executeUpdate() == 1 ? KeyRevocation.REVOKED : KeyRevocation.LAST_ADMIN;
-            }
+            PreparedStatement ps = Sql.bind(c.prepare(REVOKE_UNLESS_LAST_ADMIN), Sql.millis(now), id);
+            return ps.executeUpdate() == 1 ? KeyRevocation.REVOKED : KeyRevocation.LAST_ADMIN;
         });
     }
 
     static boolean hasActiveAdminKey(SqliteConnections db) {
         return db.read(c -> {
-            try (PreparedStatement ps = c.prepareStatement(HAS_ACTIVE_ADMIN)) {
-                return Sql.firstOrNull(ps, rs -> rs.getBoolean("present"));
-            }
+            PreparedStatement ps = c.prepare(HAS_ACTIVE_ADMIN);
+            return Sql.firstOrNull(ps, rs -> rs.getBoolean("present"));
         });
     }
 
     static Optional<String> unitOfJob(SqliteConnections db, String jobId) {
         return db.read(c -> {
-            try (PreparedStatement ps = Sql.bind(c.prepareStatement(UNIT_OF_JOB), jobId)) {
-                return Optional.ofNullable(Sql.firstOrNull(ps, rs -> rs.getString("unit_id")));
-            }
+            PreparedStatement ps = Sql.bind(c.prepare(UNIT_OF_JOB), jobId);
+            return Optional.ofNullable(Sql.firstOrNull(ps, rs -> rs.getString("unit_id")));
         });
     }
 
-    private static ApiKeyRow findApiKey(Connection c, String id) throws SQLException {
-        try (PreparedStatement ps = Sql.bind(c.prepareStatement(FIND_KEY), id)) {
-            return Sql.firstOrNull(ps, SqliteApiKeys::keyRow);
-        }
+    private static ApiKeyRow findApiKey(Statements c, String id) throws SQLException {
+        PreparedStatement ps = Sql.bind(c.prepare(FIND_KEY), id);
+        return Sql.firstOrNull(ps, SqliteApiKeys::keyRow);
     }
 
     private static ApiKeyRow keyRow(ResultSet rs) throws SQLException {

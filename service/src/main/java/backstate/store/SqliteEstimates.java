@@ -1,7 +1,6 @@
 package backstate.store;
 
 import backstate.jobs.NewEstimate;
-import java.sql.Connection;
 import java.sql.PreparedStatement;
 import java.sql.ResultSet;
 import java.sql.SQLException;
@@ -78,24 +77,22 @@ final class SqliteEstimates {
 
     private Optional<EstimateRow> findOne(String sql, String key) {
         return db.read(c -> {
-            try (PreparedStatement ps = Sql.bind(c.prepareStatement(sql), key)) {
-                return Optional.ofNullable(Sql.firstOrNull(ps, SqliteEstimates::estimateRow));
-            }
+            PreparedStatement ps = Sql.bind(c.prepare(sql), key);
+            return Optional.ofNullable(Sql.firstOrNull(ps, SqliteEstimates::estimateRow));
         });
     }
 
     /** Writes the estimate and returns its ID; the fleet rows follow in the same transaction. */
-    static String insertEstimate(Connection c, String jobId, NewEstimate e, Instant now) throws SQLException {
+    static String insertEstimate(Statements c, String jobId, NewEstimate e, Instant now) throws SQLException {
         String id = Sql.newId();
-        try (PreparedStatement ps = Sql.bind(c.prepareStatement(INSERT_ESTIMATE), id, jobId,
+        PreparedStatement ps = Sql.bind(c.prepare(INSERT_ESTIMATE), id, jobId,
                 e.traceId(), e.unitId(), e.family(), e.version(), Sql.millis(now), e.traceId(), e.windowStart(),
-                e.windowEnd(), e.chi2PerDof(), Sql.joinFlags(e.flags()), e.summaryJson())) {
-            ps.executeUpdate();
-        }
+                e.windowEnd(), e.chi2PerDof(), Sql.joinFlags(e.flags()), e.summaryJson());
+        ps.executeUpdate();
         return id;
     }
 
-    private static List<EstimateRow> listHistory(Connection c, String unitId, EstimateFilter f,
+    private static List<EstimateRow> listHistory(Statements c, String unitId, EstimateFilter f,
                                                  RecordingCursor after, int rows) throws SQLException {
         Double afterStart = after == null ? null : after.windowStart();
         Long afterMillis = after == null ? null : after.createdAtMillis();
@@ -104,9 +101,8 @@ final class SqliteEstimates {
         Collections.addAll(values, f.familyOrNull(), f.familyOrNull(), f.versionOrNull(), f.versionOrNull());
         TimeConditions.bind(values, f.times());
         Collections.addAll(values, f.flagOrNull(), f.flagOrNull(), afterStart, afterStart, afterMillis, afterId, rows);
-        try (PreparedStatement ps = Sql.bind(c.prepareStatement(LIST_ESTIMATE_HISTORY), values.toArray())) {
-            return Sql.list(ps, SqliteEstimates::estimateRow);
-        }
+        PreparedStatement ps = Sql.bind(c.prepare(LIST_ESTIMATE_HISTORY), values.toArray());
+        return Sql.list(ps, SqliteEstimates::estimateRow);
     }
 
     private static EstimateRow estimateRow(ResultSet rs) throws SQLException {

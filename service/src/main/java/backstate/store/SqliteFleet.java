@@ -2,11 +2,9 @@ package backstate.store;
 
 import backstate.estimation.SampleQuantiles;
 import backstate.jobs.NewEstimate;
-import java.sql.Connection;
 import java.sql.PreparedStatement;
 import java.sql.ResultSet;
 import java.sql.SQLException;
-import java.time.Instant;
 import java.util.ArrayList;
 import java.util.Arrays;
 import java.util.EnumMap;
@@ -129,34 +127,32 @@ final class SqliteFleet {
     }
 
     /** Writes the derived rows of the estimate just written as {@code estimateId}; call in the same transaction. */
-    static void recordEstimate(Connection c, String estimateId, NewEstimate e) throws SQLException {
+    static void recordEstimate(Statements c, String estimateId, NewEstimate e) throws SQLException {
         for (NewEstimate.StateFigure s : e.states()) {
-            try (PreparedStatement ps = Sql.bind(c.prepareStatement(RECORD_STATE), estimateId, s.state(), s.value(),
-                    s.standardError(), s.lower(), s.upper())) {
-                ps.executeUpdate();
-            }
+            PreparedStatement ps = Sql.bind(c.prepare(RECORD_STATE), estimateId, s.state(), s.value(),
+                    s.standardError(), s.lower(), s.upper());
+            ps.executeUpdate();
         }
         for (NewEstimate.ChannelFigure ch : e.channels()) {
-            try (PreparedStatement ps = Sql.bind(c.prepareStatement(RECORD_CHANNEL), e.family(), e.version(),
-                    ch.channel(), e.windowStart(), estimateId, estimateId, ch.rms())) {
-                ps.executeUpdate();
-            }
+            PreparedStatement ps = Sql.bind(c.prepare(RECORD_CHANNEL), e.family(), e.version(),
+                    ch.channel(), e.windowStart(), estimateId, estimateId, ch.rms());
+            ps.executeUpdate();
         }
         for (String sql : List.of(RECORD_UNIT_LATEST, RECORD_UNIT_VERSION_LATEST)) {
-            try (PreparedStatement ps = Sql.bind(c.prepareStatement(sql), estimateId)) {
-                ps.executeUpdate();
-            }
+            PreparedStatement ps = Sql.bind(c.prepare(sql), estimateId);
+            ps.executeUpdate();
         }
     }
 
     static FleetSummary summary(SqliteConnections db, FleetSummaryQuery q) {
-        return db.read(c -> inOneSnapshot(c, () -> {
+        // One snapshot, so counts and distributions agree even while estimates are being written.
+        return db.readInOneSnapshot(c -> {
             List<FleetSummary.VersionActivity> versions = new ArrayList<>();
             for (Map.Entry<Integer, List<String>> v : q.channelsByVersion().entrySet()) {
                 versions.add(versionActivity(c, q, v.getKey(), v.getValue()));
             }
             return new FleetSummary(versions, stale(c, q));
-        }));
+        });
     }
 
     static UnitPage units(SqliteConnections db, UnitFilter filter, UnitSort sort, String cursorOrNull, int limit) {
@@ -178,9 +174,8 @@ final class SqliteFleet {
         values.add(limit + 1); // one row more than asked tells whether another page follows
         String sql = (filter.versionOrNull() == null ? LIST_UNITS : LIST_UNITS_OF_VERSION).get(sort);
         List<UnitLatestRow> rows = db.read(c -> {
-            try (PreparedStatement ps = Sql.bind(c.prepareStatement(sql), values.toArray())) {
-                return Sql.list(ps, SqliteFleet::latestRow);
-            }
+            PreparedStatement ps = Sql.bind(c.prepare(sql), values.toArray());
+            return Sql.list(ps, SqliteFleet::latestRow);
         });
         if (rows.size() <= limit) {
             return new UnitPage(rows, null);
@@ -203,13 +198,12 @@ final class SqliteFleet {
         TimeConditions.bind(values, times);
         values.add(limit);
         return db.read(c -> {
-            try (PreparedStatement ps = Sql.bind(c.prepareStatement(LIST_STATE_TREND), values.toArray())) {
-                return Sql.list(ps, SqliteFleet::statePoint);
-            }
+            PreparedStatement ps = Sql.bind(c.prepare(LIST_STATE_TREND), values.toArray());
+            return Sql.list(ps, SqliteFleet::statePoint);
         });
     }
 
-    private static FleetSummary.VersionActivity versionActivity(Connection c, FleetSummaryQuery q, int version,
+    private static FleetSummary.VersionActivity versionActivity(Statements c, FleetSummaryQuery q, int version,
                                                                 List<String> channels) throws SQLException {
         TimeFilter t = q.times();
         double from = t.recordedFromOrNull() == null ? OPEN_START_SECONDS : Sql.recordingSeconds(t.recordedFromOrNull());
@@ -217,29 +211,16 @@ final class SqliteFleet {
         long receivedFrom = t.receivedFromOrNull() == null ? OPEN_START : Sql.millis(t.receivedFromOrNull());
         long receivedTo = t.receivedToOrNull() == null ? OPEN_END : Sql.millis(t.receivedToOrNull());
         Object[] window = {q.family(), version, from, to, receivedFrom, receivedTo};
-        long[] counts;
-        try (PreparedStatement ps = Sql.bind(c.prepareStatement(COUNT_ESTIMATES), window)) {
-            counts = Sql.firstOrNull(ps, rs -> new long[] {rs.getLong(1), rs.getLong(2)});
-        }
-        long traces;
-        try (PreparedStatement ps = Sql.bind(c.prepareStatement(COUNT_TRACES), window)) {
-            traces = Sql.firstOrNull(ps, rs -> rs.getLong(1));
-        }
-        FleetSummary.Distribution chi2;
-        try (PreparedStatement ps = Sql.bind(c.prepareStatement(LIST_CHI2), window)) {
-            chi2 = distribution(ps);
-        }
+        long[] counts = Sql.firstOrNull(Sql.bind(c.prepare(COUNT_ESTIMATES), window),
+                rs -> new long[] {rs.getLong(1), rs.getLong(2)});
+        long traces = Sql.firstOrNull(Sql.bind(c.prepare(COUNT_TRACES), window), rs -> rs.getLong(1));
+        FleetSummary.Distribution chi2 = distribution(Sql.bind(c.prepare(LIST_CHI2), window));
         Map<String, FleetSummary.Distribution> rms = new LinkedHashMap<>();
         for (String channel : channels) {
-            try (PreparedStatement ps = Sql.bind(c.prepareStatement(LIST_CHANNEL_RMS), q.family(), version, channel,
-                    from, to, receivedFrom, receivedTo)) {
-                rms.put(channel, distribution(ps));
-            }
+            rms.put(channel, distribution(Sql.bind(c.prepare(LIST_CHANNEL_RMS), q.family(), version, channel,
+                    from, to, receivedFrom, receivedTo)));
         }
-        Map<String, FleetSummary.FlaggedUnits> flags;
-        try (PreparedStatement ps = Sql.bind(c.prepareStatement(LIST_FLAGGED), window)) {
-            flags = flagged(ps, q.listLimit());
-        }
+        Map<String, FleetSummary.FlaggedUnits> flags = flagged(Sql.bind(c.prepare(LIST_FLAGGED), window), q.listLimit());
         return new FleetSummary.VersionActivity(version, counts[1], traces, counts[0], chi2, rms, flags);
     }
 
@@ -285,38 +266,16 @@ final class SqliteFleet {
         return out;
     }
 
-    private static FleetSummary.StaleUnits stale(Connection c, FleetSummaryQuery q) throws SQLException {
+    private static FleetSummary.StaleUnits stale(Statements c, FleetSummaryQuery q) throws SQLException {
         double before = Sql.recordingSeconds(q.staleBefore());
         Integer version = q.staleVersionOrNull();
         Object[] key = version == null ? new Object[] {q.family(), before} : new Object[] {q.family(), version, before};
-        long count;
-        try (PreparedStatement ps = Sql.bind(c.prepareStatement(version == null ? COUNT_STALE : COUNT_STALE_OF_VERSION), key)) {
-            count = Sql.firstOrNull(ps, rs -> rs.getLong(1));
-        }
+        long count = Sql.firstOrNull(Sql.bind(c.prepare(version == null ? COUNT_STALE : COUNT_STALE_OF_VERSION), key),
+                rs -> rs.getLong(1));
         Object[] listKey = Arrays.copyOf(key, key.length + 1);
         listKey[key.length] = q.listLimit();
-        try (PreparedStatement ps = Sql.bind(c.prepareStatement(version == null ? LIST_STALE : LIST_STALE_OF_VERSION),
-                listKey)) {
-            return new FleetSummary.StaleUnits(count, Sql.list(ps, SqliteFleet::latestRow));
-        }
-    }
-
-    /** Work that needs one consistent view over several statements: a read transaction on the connection. */
-    private static <T> T inOneSnapshot(Connection c, SnapshotWork<T> work) throws SQLException {
-        // In WAL mode a read transaction sees the database as of its first read, so counts and
-        // distributions agree even while estimates are being written. PostgreSQL: REPEATABLE READ.
-        c.setAutoCommit(false);
-        try {
-            return work.run();
-        } finally {
-            c.rollback();
-            c.setAutoCommit(true);
-        }
-    }
-
-    @FunctionalInterface
-    private interface SnapshotWork<T> {
-        T run() throws SQLException;
+        PreparedStatement ps = Sql.bind(c.prepare(version == null ? LIST_STALE : LIST_STALE_OF_VERSION), listKey);
+        return new FleetSummary.StaleUnits(count, Sql.list(ps, SqliteFleet::latestRow));
     }
 
     private static UnitLatestRow latestRow(ResultSet rs) throws SQLException {

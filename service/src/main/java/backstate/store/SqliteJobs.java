@@ -5,7 +5,6 @@ import backstate.jobs.ClaimedJob;
 import com.fasterxml.jackson.core.JsonProcessingException;
 import com.fasterxml.jackson.core.type.TypeReference;
 import com.fasterxml.jackson.databind.ObjectMapper;
-import java.sql.Connection;
 import java.sql.PreparedStatement;
 import java.sql.ResultSet;
 import java.sql.SQLException;
@@ -89,9 +88,8 @@ final class SqliteJobs {
 
     Optional<JobRow> findJob(String id) {
         return db.read(c -> {
-            try (PreparedStatement ps = Sql.bind(c.prepareStatement(FIND_JOB), id)) {
-                return Optional.ofNullable(Sql.firstOrNull(ps, this::jobRow));
-            }
+            PreparedStatement ps = Sql.bind(c.prepare(FIND_JOB), id);
+            return Optional.ofNullable(Sql.firstOrNull(ps, this::jobRow));
         });
     }
 
@@ -106,9 +104,8 @@ final class SqliteJobs {
     List<ClaimedJob> claimNext(int limit, Instant now) {
         Expect.atLeast("limit", limit, 1);
         return db.writeForWorker(c -> {
-            try (PreparedStatement ps = Sql.bind(c.prepareStatement(CLAIM_NEXT), Sql.millis(now), limit)) {
-                return Sql.list(ps, SqliteJobs::claimedJob);
-            }
+            PreparedStatement ps = Sql.bind(c.prepare(CLAIM_NEXT), Sql.millis(now), limit);
+            return Sql.list(ps, SqliteJobs::claimedJob);
         });
     }
 
@@ -152,29 +149,26 @@ final class SqliteJobs {
         return rescueStartedBefore(Long.MAX_VALUE);
     }
 
-    static int countQueued(Connection c) throws SQLException {
-        try (PreparedStatement ps = c.prepareStatement(COUNT_QUEUED)) {
-            return Sql.firstOrNull(ps, rs -> rs.getInt(1));
-        }
+    static int countQueued(Statements c) throws SQLException {
+        PreparedStatement ps = c.prepare(COUNT_QUEUED);
+        return Sql.firstOrNull(ps, rs -> rs.getInt(1));
     }
 
-    static String insertJob(Connection c, String kind, String traceIdOrNull, String paramsJsonOrNull, Instant now)
+    static String insertJob(Statements c, String kind, String traceIdOrNull, String paramsJsonOrNull, Instant now)
             throws SQLException {
         String id = Sql.newId();
-        try (PreparedStatement ps = Sql.bind(c.prepareStatement(INSERT_JOB),
-                id, kind, traceIdOrNull, paramsJsonOrNull, Sql.millis(now))) {
-            ps.executeUpdate();
-        }
+        PreparedStatement ps = Sql.bind(c.prepare(INSERT_JOB),
+                id, kind, traceIdOrNull, paramsJsonOrNull, Sql.millis(now));
+        ps.executeUpdate();
         return id;
     }
 
     private int rescueStartedBefore(long startedBeforeMillis) {
         long now = Sql.millis(clock.instant());
         return db.writeForWorker(c -> {
-            try (PreparedStatement ps = Sql.bind(c.prepareStatement(RESCUE_STUCK),
-                    maxAttempts, maxAttempts, now, RESCUE_MESSAGE, startedBeforeMillis)) {
-                return ps.executeUpdate();
-            }
+            PreparedStatement ps = Sql.bind(c.prepare(RESCUE_STUCK),
+                    maxAttempts, maxAttempts, now, RESCUE_MESSAGE, startedBeforeMillis);
+            return ps.executeUpdate();
         });
     }
 
@@ -183,10 +177,9 @@ final class SqliteJobs {
         return db.writeForWorker(c -> updatedOne(c, sql, values));
     }
 
-    private static boolean updatedOne(Connection c, String sql, Object... values) throws SQLException {
-        try (PreparedStatement ps = Sql.bind(c.prepareStatement(sql), values)) {
-            return ps.executeUpdate() == 1;
-        }
+    private static boolean updatedOne(Statements c, String sql, Object... values) throws SQLException {
+        PreparedStatement ps = Sql.bind(c.prepare(sql), values);
+        return ps.executeUpdate() == 1;
     }
 
     private static ClaimedJob claimedJob(ResultSet rs) throws SQLException {

@@ -1,7 +1,6 @@
 package backstate.store;
 
 import com.fasterxml.jackson.core.io.JsonStringEncoder;
-import java.sql.Connection;
 import java.sql.PreparedStatement;
 import java.sql.ResultSet;
 import java.sql.SQLException;
@@ -72,10 +71,9 @@ final class SqliteRegressions {
         TimeConditions.bind(values, s.times());
         Collections.addAll(values, latest, latest, s.maxRows());
         return db.read(c -> {
-            try (PreparedStatement ps = Sql.bind(c.prepareStatement(SELECT_TRACES), values.toArray())) {
-                return Sql.list(ps, rs -> new TraceRef(rs.getString("id"), rs.getString("unit_id"),
-                        rs.getString("family"), rs.getInt("version"), Sql.instant(rs, "received_at")));
-            }
+            PreparedStatement ps = Sql.bind(c.prepare(SELECT_TRACES), values.toArray());
+            return Sql.list(ps, rs -> new TraceRef(rs.getString("id"), rs.getString("unit_id"),
+                    rs.getString("family"), rs.getInt("version"), Sql.instant(rs, "received_at")));
         });
     }
 
@@ -93,10 +91,9 @@ final class SqliteRegressions {
                 return null;
             }
             String jobId = SqliteJobs.insertJob(c, KIND_REGRESSION, null, r.paramsJson(), now);
-            try (PreparedStatement ps = Sql.bind(c.prepareStatement(INSERT_REGRESSION), jobId, r.family(),
-                    r.baseline(), r.candidate(), Sql.millis(now))) {
-                ps.executeUpdate();
-            }
+            PreparedStatement ps = Sql.bind(c.prepare(INSERT_REGRESSION), jobId, r.family(),
+                    r.baseline(), r.candidate(), Sql.millis(now));
+            ps.executeUpdate();
             return jobId;
         });
         if (id == null) {
@@ -107,9 +104,8 @@ final class SqliteRegressions {
 
     static Optional<RegressionRow> findRegression(SqliteConnections db, String id) {
         return db.read(c -> {
-            try (PreparedStatement ps = Sql.bind(c.prepareStatement(FIND_REGRESSION), id)) {
-                return Optional.ofNullable(Sql.firstOrNull(ps, SqliteRegressions::regressionRow));
-            }
+            PreparedStatement ps = Sql.bind(c.prepare(FIND_REGRESSION), id);
+            return Optional.ofNullable(Sql.firstOrNull(ps, SqliteRegressions::regressionRow));
         });
     }
 
@@ -121,10 +117,9 @@ final class SqliteRegressions {
         Long afterMillis = after == null ? null : after.createdAtMillis();
         String afterId = after == null ? null : after.id();
         List<RegressionRow> rows = db.read(c -> {
-            try (PreparedStatement ps = Sql.bind(c.prepareStatement(LIST_REGRESSIONS), familyOrNull, familyOrNull,
-                    afterMillis, afterMillis, afterId, limit + 1)) {
-                return Sql.list(ps, SqliteRegressions::regressionRow);
-            }
+            PreparedStatement ps = Sql.bind(c.prepare(LIST_REGRESSIONS), familyOrNull, familyOrNull,
+                    afterMillis, afterMillis, afterId, limit + 1);
+            return Sql.list(ps, SqliteRegressions::regressionRow);
         });
         if (rows.size() <= limit) {
             return new RegressionPage(rows, null);
@@ -140,10 +135,9 @@ final class SqliteRegressions {
 
     static boolean cancelRequested(SqliteConnections db, String id) {
         return db.read(c -> {
-            try (PreparedStatement ps = Sql.bind(c.prepareStatement(CANCEL_REQUESTED), id)) {
-                Boolean requested = Sql.firstOrNull(ps, rs -> rs.getBoolean(1));
-                return Boolean.TRUE.equals(requested);
-            }
+            PreparedStatement ps = Sql.bind(c.prepare(CANCEL_REQUESTED), id);
+            Boolean requested = Sql.firstOrNull(ps, rs -> rs.getBoolean(1));
+            return Boolean.TRUE.equals(requested);
         });
     }
 
@@ -153,10 +147,9 @@ final class SqliteRegressions {
                 c -> updatedOne(c, CANCEL_IF_RUNNING, Sql.millis(now), resultJsonOrNull, id, attempt));
     }
 
-    private static boolean updatedOne(Connection c, String sql, Object... values) throws SQLException {
-        try (PreparedStatement ps = Sql.bind(c.prepareStatement(sql), values)) {
-            return ps.executeUpdate() == 1;
-        }
+    private static boolean updatedOne(Statements c, String sql, Object... values) throws SQLException {
+        PreparedStatement ps = Sql.bind(c.prepare(sql), values);
+        return ps.executeUpdate() == 1;
     }
 
     /** A JSON array of strings, for json_each. */

@@ -5,8 +5,6 @@ import backstate.jobs.ClaimedJob;
 import backstate.jobs.JobQueue;
 import java.nio.file.Path;
 import java.sql.Connection;
-import java.sql.ResultSet;
-import java.sql.Statement;
 import java.time.Clock;
 import java.time.Instant;
 import java.util.List;
@@ -145,11 +143,7 @@ public final class SqliteStore implements Store, JobQueue {
     @Override
     public boolean isReachable() {
         try {
-            return db.read(c -> {
-                try (Statement s = c.createStatement(); ResultSet rs = s.executeQuery("SELECT 1")) {
-                    return rs.next();
-                }
-            });
+            return db.read(c -> Sql.firstOrNull(c.prepare("SELECT 1"), rs -> true) != null);
         } catch (RuntimeException e) {
             return false;
         }

@@ -30,6 +30,7 @@ public final class FleetBulkLoad implements AutoCloseable {
     private static final byte[] PAYLOAD = new byte[16];
 
     private final Connection c;
+    private final Statements statements;
     private final PreparedStatement trace;
     private final PreparedStatement job;
     private final PreparedStatement estimate;
@@ -47,6 +48,7 @@ public final class FleetBulkLoad implements AutoCloseable {
             s.execute("PRAGMA cache_size = -262144"); // 256 MiB page cache for the fill
         }
         c.setAutoCommit(false);
+        this.statements = new Statements(c);
         this.trace = c.prepareStatement(INSERT_TRACE);
         this.job = c.prepareStatement(INSERT_JOB);
         this.estimate = c.prepareStatement(INSERT_ESTIMATE);
@@ -70,7 +72,7 @@ public final class FleetBulkLoad implements AutoCloseable {
         NewEstimate typed = StoreFixture.estimate(traceId, unitId, family, version, windowStart, windowEnd, chi2PerDof,
                 flags, summaryJson);
         long t1 = System.nanoTime();
-        SqliteFleet.recordEstimate(c, estimateId, typed);
+        SqliteFleet.recordEstimate(statements, estimateId, typed);
         deriveNanos += System.nanoTime() - t1;
         insertNanos += t1 - t0;
         rows++;
@@ -98,6 +100,7 @@ public final class FleetBulkLoad implements AutoCloseable {
         trace.close();
         job.close();
         estimate.close();
+        statements.close();
         c.close();
     }
 }
