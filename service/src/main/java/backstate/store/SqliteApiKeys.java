@@ -11,7 +11,7 @@ import java.util.Optional;
  * API keys (hashes only) and the one join access control needs: which unit a job is for.
  * Stateless: each statement runs on the store's connections, passed in.
  */
-final class SqliteApiKeys {
+final class SqliteApiKeys implements ApiKeyStore {
 
     private static final String KEY_COLUMNS =
             "id, role, unit_pattern, label, salt, hash, created_at, created_by, revoked_at";
@@ -35,10 +35,14 @@ final class SqliteApiKeys {
     private static final String UNIT_OF_JOB =
             "SELECT t.unit_id FROM jobs j JOIN traces t ON t.id = j.trace_id WHERE j.id = ?";
 
-    private SqliteApiKeys() {
+    private final SqliteConnections db;
+
+    SqliteApiKeys(SqliteConnections db) {
+        this.db = db;
     }
 
-    static boolean insertApiKey(SqliteConnections db, NewApiKey k, Instant now) {
+    @Override
+    public boolean insertApiKey(NewApiKey k, Instant now) {
         Expect.notNull("key", k);
         return db.write(c -> {
             PreparedStatement ps = Sql.bind(c.prepare(INSERT_KEY), k.id(), k.role(), k.unitPattern(),
@@ -47,18 +51,21 @@ final class SqliteApiKeys {
         });
     }
 
-    static Optional<ApiKeyRow> findApiKey(SqliteConnections db, String id) {
+    @Override
+    public Optional<ApiKeyRow> findApiKey(String id) {
         return db.read(c -> Optional.ofNullable(findApiKey(c, id)));
     }
 
-    static List<ApiKeyRow> listApiKeys(SqliteConnections db) {
+    @Override
+    public List<ApiKeyRow> listApiKeys() {
         return db.read(c -> {
             PreparedStatement ps = c.prepare(LIST_KEYS);
             return Sql.list(ps, SqliteApiKeys::keyRow);
         });
     }
 
-    static KeyRevocation revokeApiKey(SqliteConnections db, String id, Instant now) {
+    @Override
+    public KeyRevocation revokeApiKey(String id, Instant now) {
         return db.write(c -> {
             ApiKeyRow row = findApiKey(c, id);
             if (row == null) {
@@ -72,14 +79,16 @@ final class SqliteApiKeys {
         });
     }
 
-    static boolean hasActiveAdminKey(SqliteConnections db) {
+    @Override
+    public boolean hasActiveAdminKey() {
         return db.read(c -> {
             PreparedStatement ps = c.prepare(HAS_ACTIVE_ADMIN);
             return Sql.firstOrNull(ps, rs -> rs.getBoolean("present"));
         });
     }
 
-    static Optional<String> unitOfJob(SqliteConnections db, String jobId) {
+    @Override
+    public Optional<String> unitOfJob(String jobId) {
         return db.read(c -> {
             PreparedStatement ps = Sql.bind(c.prepare(UNIT_OF_JOB), jobId);
             return Optional.ofNullable(Sql.firstOrNull(ps, rs -> rs.getString("unit_id")));

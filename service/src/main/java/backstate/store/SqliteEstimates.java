@@ -14,7 +14,7 @@ import java.util.Optional;
  * Estimates: written with their job's completion, read newest recording first per unit (window
  * start, then time written, then id; see V7__recording_time.sql).
  */
-final class SqliteEstimates {
+final class SqliteEstimates implements EstimateStore {
 
     private static final String ESTIMATE_COLUMNS = "id, job_id, trace_id, unit_id, family, version, created_at,"
             + " received_at, window_start, window_end, chi2_per_dof, flags, summary_json";
@@ -48,19 +48,23 @@ final class SqliteEstimates {
         this.db = db;
     }
 
-    Optional<EstimateRow> findEstimate(String id) {
+    @Override
+    public Optional<EstimateRow> findEstimate(String id) {
         return findOne(FIND_ESTIMATE, id);
     }
 
-    Optional<EstimateRow> findEstimateForJob(String jobId) {
+    @Override
+    public Optional<EstimateRow> findEstimateForJob(String jobId) {
         return findOne(FIND_ESTIMATE_FOR_JOB, jobId);
     }
 
-    Optional<EstimateRow> latestEstimate(String unitId) {
+    @Override
+    public Optional<EstimateRow> latestEstimate(String unitId) {
         return findOne(FIND_LATEST_ESTIMATE, unitId);
     }
 
-    EstimatePage estimateHistory(String unitId, EstimateFilter filter, String cursorOrNull, int limit) {
+    @Override
+    public EstimatePage estimateHistory(String unitId, EstimateFilter filter, String cursorOrNull, int limit) {
         Expect.notBlank("unitId", unitId);
         Expect.notNull("filter", filter);
         Expect.atLeast("limit", limit, 1);

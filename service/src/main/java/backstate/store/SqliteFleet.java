@@ -27,7 +27,7 @@ import java.util.TreeSet;
  * its ORDER BY … OFFSET route sorts in a temporary B-tree, which FleetQueryBench measures as
  * slower (see docs/fleet-and-planning.md).
  */
-final class SqliteFleet {
+final class SqliteFleet implements FleetStore {
 
     /** The bounds bound when a side of a range is open: no stored time reaches them. */
     private static final double OPEN_START_SECONDS = -Double.MAX_VALUE;
@@ -111,7 +111,10 @@ final class SqliteFleet {
             + TimeConditions.RECORDED_AND_RECEIVED
             + " ORDER BY e.window_start DESC, e.created_at DESC, e.id DESC LIMIT ?";
 
-    private SqliteFleet() {
+    private final SqliteConnections db;
+
+    SqliteFleet(SqliteConnections db) {
+        this.db = db;
     }
 
     private static Map<UnitSort, String> unitListStatements(String table, String versionCondition) {
@@ -144,7 +147,8 @@ final class SqliteFleet {
         }
     }
 
-    static FleetSummary summary(SqliteConnections db, FleetSummaryQuery q) {
+    @Override
+    public FleetSummary fleetSummary(FleetSummaryQuery q) {
         // One snapshot, so counts and distributions agree even while estimates are being written.
         return db.readInOneSnapshot(c -> {
             List<FleetSummary.VersionActivity> versions = new ArrayList<>();
@@ -155,7 +159,8 @@ final class SqliteFleet {
         });
     }
 
-    static UnitPage units(SqliteConnections db, UnitFilter filter, UnitSort sort, String cursorOrNull, int limit) {
+    @Override
+    public UnitPage fleetUnits(UnitFilter filter, UnitSort sort, String cursorOrNull, int limit) {
         Expect.notNull("filter", filter);
         Expect.notNull("sort", sort);
         Expect.atLeast("limit", limit, 1);
@@ -185,7 +190,8 @@ final class SqliteFleet {
     }
 
     /** The {@code limit} estimates of one state with the newest recordings in the time filter, newest first. */
-    static List<StatePoint> stateTrend(SqliteConnections db, String unitId, String state, String family,
+    @Override
+    public List<StatePoint> stateTrend(String unitId, String state, String family,
                                        Integer versionOrNull, TimeFilter times, int limit) {
         Expect.notBlank("unitId", unitId);
         Expect.notBlank("state", state);

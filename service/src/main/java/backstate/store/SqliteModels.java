@@ -8,7 +8,7 @@ import java.util.List;
 import java.util.Optional;
 
 /** Model families and versions: named statements and the transactions that use them. */
-final class SqliteModels {
+final class SqliteModels implements ModelCatalogue {
 
     private static final String VERSION_COLUMNS = "family, version, status, time_domain, states, outputs, inputs,"
             + " document_json, observability_json, created_at";
@@ -41,7 +41,8 @@ final class SqliteModels {
         this.db = db;
     }
 
-    boolean createFamily(String name, String description, Instant now) {
+    @Override
+    public boolean createFamily(String name, String description, Instant now) {
         Expect.notBlank("name", name);
         Expect.notNull("description", description);
         return db.write(c -> {
@@ -51,18 +52,21 @@ final class SqliteModels {
         });
     }
 
-    Optional<FamilyRow> findFamily(String name) {
+    @Override
+    public Optional<FamilyRow> findFamily(String name) {
         return db.read(c -> Optional.ofNullable(findFamily(c, name)));
     }
 
-    List<FamilyRow> listFamilies() {
+    @Override
+    public List<FamilyRow> listFamilies() {
         return db.read(c -> {
             PreparedStatement ps = c.prepare(LIST_FAMILIES);
             return Sql.list(ps, SqliteModels::familyRow);
         });
     }
 
-    ModelVersionRow publishVersion(NewModelVersion v, Instant now) {
+    @Override
+    public ModelVersionRow publishVersion(NewModelVersion v, Instant now) {
         Expect.notNull("model version", v);
         return db.write(c -> {
             if (findFamily(c, v.family()) == null) {
@@ -73,18 +77,21 @@ final class SqliteModels {
         });
     }
 
-    Optional<ModelVersionRow> findVersion(String family, int version) {
+    @Override
+    public Optional<ModelVersionRow> findVersion(String family, int version) {
         return db.read(c -> Optional.ofNullable(findVersion(c, family, version)));
     }
 
-    List<ModelVersionRow> listVersions(String family) {
+    @Override
+    public List<ModelVersionRow> listVersions(String family) {
         return db.read(c -> {
             PreparedStatement ps = Sql.bind(c.prepare(LIST_VERSIONS), family);
             return Sql.list(ps, SqliteModels::versionRow);
         });
     }
 
-    boolean retireVersion(String family, int version) {
+    @Override
+    public boolean retireVersion(String family, int version) {
         return db.write(c -> {
             PreparedStatement ps = Sql.bind(c.prepare(RETIRE_VERSION), family, version);
             return ps.executeUpdate() == 1;

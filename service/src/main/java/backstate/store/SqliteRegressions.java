@@ -15,7 +15,7 @@ import java.util.Optional;
  * the cancel request a running job polls, and finishing a running job as cancelled. Stateless:
  * every call names the connections it uses.
  */
-final class SqliteRegressions {
+final class SqliteRegressions implements RegressionStore {
 
     private static final String KIND_REGRESSION = "regression";
 
@@ -59,10 +59,14 @@ final class SqliteRegressions {
     private static final String CANCEL_IF_RUNNING = "UPDATE jobs SET state = 'cancelled', finished_at = ?,"
             + " result_json = ? WHERE id = ? AND kind = 'regression' AND state = 'running' AND attempt = ?";
 
-    private SqliteRegressions() {
+    private final SqliteConnections db;
+
+    SqliteRegressions(SqliteConnections db) {
+        this.db = db;
     }
 
-    static List<TraceRef> selectTraces(SqliteConnections db, TraceSelection s) {
+    @Override
+    public List<TraceRef> selectTraces(TraceSelection s) {
         Expect.notNull("selection", s);
         String units = s.unitsOrNull() == null ? null : jsonArray(s.unitsOrNull());
         Integer latest = s.latestPerUnitOrNull();
@@ -77,7 +81,8 @@ final class SqliteRegressions {
         });
     }
 
-    static String createRegression(SqliteConnections db, NewRegression r, int maxQueued, Instant now)
+    @Override
+    public String createRegression(NewRegression r, int maxQueued, Instant now)
             throws QueueFullException {
         Expect.notNull("regression", r);
         Expect.atLeast("maxQueued", maxQueued, 0);
@@ -102,14 +107,16 @@ final class SqliteRegressions {
         return id;
     }
 
-    static Optional<RegressionRow> findRegression(SqliteConnections db, String id) {
+    @Override
+    public Optional<RegressionRow> findRegression(String id) {
         return db.read(c -> {
             PreparedStatement ps = Sql.bind(c.prepare(FIND_REGRESSION), id);
             return Optional.ofNullable(Sql.firstOrNull(ps, SqliteRegressions::regressionRow));
         });
     }
 
-    static RegressionPage listRegressions(SqliteConnections db, String familyOrNull, String cursorOrNull,
+    @Override
+    public RegressionPage listRegressions(String familyOrNull, String cursorOrNull,
                                           int limit) {
         Expect.atLeast("limit", limit, 1);
         // Same keyset shape as estimate history: (created_at, id) of the last row returned.
@@ -129,11 +136,13 @@ final class SqliteRegressions {
         return new RegressionPage(page, new EstimateCursor(Sql.millis(last.createdAt()), last.id()).encode());
     }
 
-    static boolean requestCancel(SqliteConnections db, String id, Instant now) {
+    @Override
+    public boolean requestRegressionCancel(String id, Instant now) {
         return db.write(c -> updatedOne(c, REQUEST_CANCEL, Sql.millis(now), id, id));
     }
 
-    static boolean cancelRequested(SqliteConnections db, String id) {
+    @Override
+    public boolean regressionCancelRequested(String id) {
         return db.read(c -> {
             PreparedStatement ps = Sql.bind(c.prepare(CANCEL_REQUESTED), id);
             Boolean requested = Sql.firstOrNull(ps, rs -> rs.getBoolean(1));
@@ -141,7 +150,8 @@ final class SqliteRegressions {
         });
     }
 
-    static boolean cancelIfRunning(SqliteConnections db, String id, int attempt, String resultJsonOrNull,
+    @Override
+    public boolean cancelRegressionIfRunning(String id, int attempt, String resultJsonOrNull,
                                    Instant now) {
         return db.writeForWorker(
                 c -> updatedOne(c, CANCEL_IF_RUNNING, Sql.millis(now), resultJsonOrNull, id, attempt));

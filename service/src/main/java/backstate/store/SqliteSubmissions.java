@@ -7,7 +7,7 @@ import java.time.Instant;
 import java.util.Optional;
 
 /** Trace submission: the trace, its queued estimate job and its idempotency key, written together. */
-final class SqliteSubmissions {
+final class SqliteSubmissions implements TraceIntakeStore {
 
     private static final String FIND_IDEMPOTENCY_KEY =
             "SELECT trace_id, job_id, fingerprint FROM idempotency_keys WHERE unit_id = ? AND key = ?";
@@ -25,7 +25,8 @@ final class SqliteSubmissions {
         this.db = db;
     }
 
-    Submission submitTrace(NewTrace trace, IdempotencyKey keyOrNull, int maxQueued, Instant now)
+    @Override
+    public Submission submitTrace(NewTrace trace, IdempotencyKey keyOrNull, int maxQueued, Instant now)
             throws QueueFullException {
         Expect.notNull("trace", trace);
         Expect.atLeast("maxQueued", maxQueued, 0);
@@ -39,7 +40,8 @@ final class SqliteSubmissions {
         return ((Accepted) outcome).submission();
     }
 
-    Optional<TraceRow> findTrace(String id) {
+    @Override
+    public Optional<TraceRow> findTrace(String id) {
         return db.read(c -> {
             PreparedStatement ps = Sql.bind(c.prepare(FIND_TRACE), id);
             return Optional.ofNullable(Sql.firstOrNull(ps, SqliteSubmissions::traceRow));

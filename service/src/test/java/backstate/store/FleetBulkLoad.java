@@ -38,7 +38,7 @@ public final class FleetBulkLoad implements AutoCloseable {
     private long deriveNanos;
     private long rows;
 
-    /** Opens a file whose schema is migrated already (open and close a SqliteStore on it first). */
+    /** Opens a file whose schema is migrated already (open and close a SqliteDatabase on it first). */
     public FleetBulkLoad(Path file) throws SQLException {
         this.c = DriverManager.getConnection("jdbc:sqlite:" + file.toAbsolutePath());
         try (Statement s = c.createStatement()) {

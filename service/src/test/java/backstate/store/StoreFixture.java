@@ -29,7 +29,7 @@ public final class StoreFixture implements AutoCloseable {
 
     public final Path file;
     public final TestClock clock = new TestClock(T0);
-    public final SqliteStore store;
+    public final SqliteDatabase store;
 
     public StoreFixture(Path dir) {
         this(dir, SqliteSettings.defaults());
@@ -37,13 +37,13 @@ public final class StoreFixture implements AutoCloseable {
 
     public StoreFixture(Path dir, SqliteSettings settings) {
         this.file = dir.resolve("backstate.db");
-        this.store = new SqliteStore(file, clock, settings);
+        this.store = new SqliteDatabase(file, clock, settings);
         publishPump(store);
     }
 
-    public static void publishPump(Store store) {
-        store.createFamily(FAMILY, "test pumps", T0);
-        store.publishVersion(pumpVersion(), T0);
+    public static void publishPump(Database store) {
+        store.models().createFamily(FAMILY, "test pumps", T0);
+        store.models().publishVersion(pumpVersion(), T0);
     }
 
     public static NewModelVersion pumpVersion() {
