@@ -9,6 +9,7 @@ import java.util.Queue;
 import java.util.concurrent.CountDownLatch;
 import java.util.concurrent.locks.Condition;
 import java.util.concurrent.locks.ReentrantLock;
+import java.util.function.BooleanSupplier;
 
 /**
  * The one write connection, owned by one thread ({@code backstate-writer}) with its prepared
@@ -101,10 +102,21 @@ final class SqliteWriter implements AutoCloseable {
         if (Thread.currentThread() == thread) {
             return; // closed from inside a write: the thread ends after this batch
         }
+        awaitUninterruptibly(() -> !thread.isAlive(), thread::join);
+    }
+
+    /** A blocking wait that an interrupt may cut short. */
+    @FunctionalInterface
+    private interface Wait {
+        void await() throws InterruptedException;
+    }
+
+    /** Waits until {@code done}, through interrupts, which are kept for the caller to see afterwards. */
+    private static void awaitUninterruptibly(BooleanSupplier done, Wait wait) {
         boolean interrupted = false;
-        while (thread.isAlive()) {
+        while (!done.getAsBoolean()) {
             try {
-                thread.join();
+                wait.await();
             } catch (InterruptedException e) {
                 interrupted = true;
             }
@@ -152,17 +164,7 @@ final class SqliteWriter implements AutoCloseable {
 
         /** Waits, through interrupts (kept for the caller), for the answer; returns or throws it. */
         T outcome() {
-            boolean interrupted = false;
-            while (answered.getCount() > 0) {
-                try {
-                    answered.await();
-                } catch (InterruptedException e) {
-                    interrupted = true;
-                }
-            }
-            if (interrupted) {
-                Thread.currentThread().interrupt();
-            }
+            awaitUninterruptibly(() -> answered.getCount() == 0, answered::await);
             if (failure instanceof RuntimeException e) {
                 throw e;
             }
