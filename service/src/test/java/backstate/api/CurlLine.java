@@ -18,19 +18,31 @@ import java.util.zip.GZIPOutputStream;
  * One documented curl command read as the HTTP request it sends, so doc examples run without
  * curl installed. It knows the few things the docs use and fails on anything else, so an
  * example cannot silently mean more than the test sends: {@code $B} (the server), shell quoting,
- * {@code -s}, {@code -X}, {@code -H}, {@code -d}, {@code --data-binary @FILE} and
- * {@code gzip -c FILE | curl ... --data-binary @-}. Files are relative to the repository root.
+ * {@code -s}, {@code -X}, {@code -H}, {@code -d}, {@code --data-binary @FILE},
+ * {@code gzip -c FILE | curl ... --data-binary @-} and {@code sed '1s/^OLD/NEW/' FILE | curl ...}
+ * (a new start for the first line only). Files are relative to the repository root.
  */
 record CurlLine(String method, String url, Map<String, String> headers, byte[] body) {
     private static final String GZIP_PIPE = "gzip -c ";
+    /** The one sed program the docs use: replace a prefix of the first line. */
+    private static final java.util.regex.Pattern FIRST_LINE_SED =
+            java.util.regex.Pattern.compile("sed '1s/\\^([^/]*)/([^/]*)/' (\\S+) \\| (curl .*)");
 
     static CurlLine parse(String command, String base, Path root) {
         byte[] piped = null;
         String curl = command;
+        java.util.regex.Matcher sed = FIRST_LINE_SED.matcher(command);
         if (command.startsWith(GZIP_PIPE)) {
             int bar = command.indexOf(" | ");
             piped = gzip(read(root, command.substring(GZIP_PIPE.length(), bar).strip()));
             curl = command.substring(bar + 3);
+        } else if (sed.matches()) {
+            String text = new String(read(root, sed.group(3)), StandardCharsets.UTF_8);
+            if (!text.startsWith(sed.group(1))) {
+                throw new IllegalArgumentException(sed.group(3) + " does not start with " + sed.group(1));
+            }
+            piped = (sed.group(2) + text.substring(sed.group(1).length())).getBytes(StandardCharsets.UTF_8);
+            curl = sed.group(4);
         }
         List<String> words = words(curl.replace("$B", base));
         if (words.isEmpty() || !words.get(0).equals("curl")) {
