@@ -13,8 +13,9 @@ import backstate.jobs.JobHandler;
 import backstate.jobs.RegressionJobHandler;
 import backstate.jobs.StoredTraceSolver;
 import backstate.jobs.WorkerPool;
+import backstate.store.Database;
 import backstate.store.DatabaseFile;
-import backstate.store.SqliteStore;
+import backstate.store.SqliteDatabase;
 import backstate.store.StoreException;
 import com.fasterxml.jackson.databind.ObjectMapper;
 import io.micrometer.prometheusmetrics.PrometheusConfig;
@@ -30,7 +31,7 @@ public final class App implements AutoCloseable {
     /** How often an idle worker looks for jobs that arrived without a wake-up (e.g. after a restart). */
     static final Duration IDLE_POLL = Duration.ofMillis(500);
 
-    private final SqliteStore store;
+    private final Database database;
     private final WorkerPool workers;
     private final ApiServer api;
     private final ProcessMeters processMeters;
@@ -39,25 +40,26 @@ public final class App implements AutoCloseable {
         Limits limits = new Limits(settings.maxSamples(), Limits.DEFAULTS.maxNameLength(), Limits.DEFAULTS.maxJsonDepth());
         ObjectMapper mapper = Json.mapper(limits);
         PrometheusMeterRegistry registry = new PrometheusMeterRegistry(PrometheusConfig.DEFAULT);
-        this.store = openStore(settings.database(), clock);
+        this.database = openDatabase(settings.database(), clock);
         this.processMeters = ProcessMeters.bind(registry);
-        StoredTraceSolver stored = new StoredTraceSolver(store, mapper, limits);
+        StoredTraceSolver stored = new StoredTraceSolver(database.traces(), database.models(), mapper, limits);
         JobHandler handlers = new HandlersByKind(Map.of(
                 "estimate", new EstimateJobHandler(stored, mapper, registry),
-                "regression", new RegressionJobHandler(store, store, stored, mapper, limits, clock)));
-        this.workers = new WorkerPool(store, handlers, settings.workers(), clock, IDLE_POLL, registry);
-        ApiKeys keys = new ApiKeys(store, clock, new SecureRandom());
+                "regression", new RegressionJobHandler(database.regressions(), database.models(), database.queue(), stored, mapper,
+                        limits, clock)));
+        this.workers = new WorkerPool(database.queue(), handlers, settings.workers(), clock, IDLE_POLL, registry);
+        ApiKeys keys = new ApiKeys(database.keys(), clock, new SecureRandom());
         if (settings.auth()) {
             try {
-                new FirstAdminKey(store, keys).ensure(settings.adminKey());
+                new FirstAdminKey(database.keys(), keys).ensure(settings.adminKey());
             } catch (RuntimeException e) {
-                store.close(); // a refused BACKSTATE_ADMIN_KEY stops the start; leave the file closed
+                database.close(); // a refused BACKSTATE_ADMIN_KEY stops the start; leave the file closed
                 processMeters.close();
                 throw e;
             }
         }
-        this.api = new ApiServer(new ApiServer.Wiring(store, mapper, clock, registry, limits, settings.maxBodyBytes(),
-                settings.maxQueued(), store::queuedCount, workers::wake, keys, settings.auth(), stored));
+        this.api = new ApiServer(new ApiServer.Wiring(database, mapper, clock, registry, limits, settings.maxBodyBytes(),
+                settings.maxQueued(), database.queue()::queuedCount, workers::wake, keys, settings.auth(), stored));
     }
 
     /** Starts the workers and the HTTP edge; if either fails (the port is taken, say), everything is closed again. */
@@ -72,11 +74,11 @@ public final class App implements AutoCloseable {
         return this;
     }
 
-    /** The store on a checked path; a failure names the file, so the start stops with one line saying why. */
-    private static SqliteStore openStore(Path file, Clock clock) {
+    /** The database on a checked path; a failure names the file, so the start stops with one line saying why. */
+    private static Database openDatabase(Path file, Clock clock) {
         Path usable = DatabaseFile.usable(file);
         try {
-            return new SqliteStore(usable, clock);
+            return new SqliteDatabase(usable, clock);
         } catch (StoreException e) {
             throw new IllegalStateException("database " + usable + ": " + e.getMessage(), e);
         }
@@ -96,7 +98,7 @@ public final class App implements AutoCloseable {
     public void close() {
         api.close();
         workers.close();
-        store.close();
+        database.close();
         processMeters.close();
     }
 

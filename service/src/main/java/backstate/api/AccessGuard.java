@@ -3,7 +3,7 @@ package backstate.api;
 import backstate.auth.ApiKeys;
 import backstate.auth.Caller;
 import backstate.auth.Role;
-import backstate.store.Store;
+import backstate.store.ApiKeyStore;
 import io.javalin.http.Context;
 import io.javalin.http.Handler;
 import java.util.Optional;
@@ -27,11 +27,11 @@ final class AccessGuard {
     static final String JOB_PARAM = "jobId";
 
     private final ApiKeys keys;
-    private final Store store;
+    private final ApiKeyStore store;
     private final boolean enabled;
 
     /** @param enabled false runs every handler unguarded (--auth off: demo and local use) */
-    AccessGuard(ApiKeys keys, Store store, boolean enabled) {
+    AccessGuard(ApiKeys keys, ApiKeyStore store, boolean enabled) {
         this.keys = keys;
         this.store = store;
         this.enabled = enabled;

@@ -3,7 +3,7 @@ package backstate.api;
 import backstate.auth.ApiKeys;
 import backstate.formats.Limits;
 import backstate.jobs.StoredTraceSolver;
-import backstate.store.Store;
+import backstate.store.Database;
 import com.fasterxml.jackson.databind.ObjectMapper;
 import io.javalin.Javalin;
 import io.javalin.http.HandlerType;
@@ -36,22 +36,23 @@ public final class ApiServer implements AutoCloseable {
      * What the routes need; wired by hand in App. {@code stored} is shared with the estimate jobs,
      * which take the traces the posts keep fresh for them.
      */
-    public record Wiring(Store store, ObjectMapper mapper, Clock clock, PrometheusMeterRegistry registry, Limits limits,
+    public record Wiring(Database database, ObjectMapper mapper, Clock clock, PrometheusMeterRegistry registry, Limits limits,
                          long maxBodyBytes, int maxQueued, IntSupplier queued, Runnable wakeWorkers,
                          ApiKeys keys, boolean auth, StoredTraceSolver stored) {
 
         /** Access control off and no workers here (tests that drive the API directly); key management still works on the store. */
-        public Wiring(Store store, ObjectMapper mapper, Clock clock, PrometheusMeterRegistry registry, Limits limits,
+        public Wiring(Database database, ObjectMapper mapper, Clock clock, PrometheusMeterRegistry registry, Limits limits,
                       long maxBodyBytes, int maxQueued, IntSupplier queued, Runnable wakeWorkers) {
-            this(store, mapper, clock, registry, limits, maxBodyBytes, maxQueued, queued, wakeWorkers,
-                    new ApiKeys(store, clock, new SecureRandom()), false, new StoredTraceSolver(store, mapper, limits));
+            this(database, mapper, clock, registry, limits, maxBodyBytes, maxQueued, queued, wakeWorkers,
+                    new ApiKeys(database.keys(), clock, new SecureRandom()), false,
+                    new StoredTraceSolver(database.traces(), database.models(), mapper, limits));
         }
     }
 
     public ApiServer(Wiring w) {
         this.routes = routes(w);
         ProblemMapper problems = new ProblemMapper(w.mapper());
-        AccessGuard guard = new AccessGuard(w.keys(), w.store(), w.auth());
+        AccessGuard guard = new AccessGuard(w.keys(), w.database().keys(), w.auth());
         this.app = Javalin.create(config -> {
             config.startup.showJavalinBanner = false;
             config.jsonMapper(new JavalinJackson(w.mapper(), false));
@@ -85,17 +86,18 @@ public final class ApiServer implements AutoCloseable {
 
     /** The route table: a reader sees the whole API here. */
     static List<Route> routes(Wiring w) {
-        ModelRoutes models = new ModelRoutes(w.store(), w.mapper(), w.clock(), w.limits(), w.maxBodyBytes());
-        TraceRoutes traces = new TraceRoutes(w.store(), w.stored(), w.mapper(), w.clock(), w.limits(), w.maxBodyBytes(),
-                w.maxQueued(), w.wakeWorkers());
-        JobRoutes jobs = new JobRoutes(w.store(), w.mapper(), w.clock());
-        EstimateRoutes estimates = new EstimateRoutes(w.store(), w.stored());
-        ServiceRoutes service = new ServiceRoutes(w.store(), w.registry(), w.queued(), w.maxQueued());
+        Database db = w.database();
+        ModelRoutes models = new ModelRoutes(db.models(), w.mapper(), w.clock(), w.limits(), w.maxBodyBytes());
+        TraceRoutes traces = new TraceRoutes(db.traces(), db.models(), w.stored(), w.mapper(), w.clock(), w.limits(),
+                w.maxBodyBytes(), w.maxQueued(), w.wakeWorkers());
+        JobRoutes jobs = new JobRoutes(db.jobs(), db.estimates(), w.mapper(), w.clock());
+        EstimateRoutes estimates = new EstimateRoutes(db.estimates(), w.stored());
+        ServiceRoutes service = new ServiceRoutes(db, w.registry(), w.queued(), w.maxQueued());
         KeyRoutes keys = new KeyRoutes(w.keys(), w.mapper());
-        RegressionRoutes regressions = new RegressionRoutes(w.store(), w.mapper(), w.clock(), w.maxBodyBytes(),
-                w.maxQueued(), w.wakeWorkers());
-        FleetRoutes fleet = new FleetRoutes(w.store(), w.mapper(), w.clock());
-        PlanRoutes plans = new PlanRoutes(w.store(), w.mapper(), w.limits());
+        RegressionRoutes regressions = new RegressionRoutes(db.models(), db.regressions(), db.jobs(), w.mapper(), w.clock(),
+                w.maxBodyBytes(), w.maxQueued(), w.wakeWorkers());
+        FleetRoutes fleet = new FleetRoutes(db.fleet(), db.estimates(), db.models(), w.mapper(), w.clock());
+        PlanRoutes plans = new PlanRoutes(db.models(), w.mapper(), w.limits());
         HandlerType get = HandlerType.GET;
         HandlerType post = HandlerType.POST;
         return List.of(

@@ -6,7 +6,7 @@ import backstate.jobs.StoredTraceSolver;
 import backstate.store.EstimateFilter;
 import backstate.store.EstimatePage;
 import backstate.store.EstimateRow;
-import backstate.store.Store;
+import backstate.store.EstimateStore;
 import io.javalin.http.Context;
 import java.util.ArrayList;
 import java.util.LinkedHashMap;
@@ -27,10 +27,10 @@ final class EstimateRoutes {
     /** Most points one series answer carries: plots want a few thousand at most. */
     static final int MAX_POINTS = 20_000;
 
-    private final Store store;
+    private final EstimateStore store;
     private final StoredTraceSolver solver;
 
-    EstimateRoutes(Store store, StoredTraceSolver solver) {
+    EstimateRoutes(EstimateStore store, StoredTraceSolver solver) {
         this.store = store;
         this.solver = solver;
     }

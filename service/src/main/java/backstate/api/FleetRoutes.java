@@ -4,10 +4,12 @@ import backstate.estimation.InitialStateEstimator;
 import backstate.formats.ModelDocument;
 import backstate.formats.Quantity;
 import backstate.store.EstimateRow;
+import backstate.store.EstimateStore;
+import backstate.store.FleetStore;
 import backstate.store.FleetSummary;
 import backstate.store.FleetSummaryQuery;
+import backstate.store.ModelCatalogue;
 import backstate.store.ModelVersionRow;
-import backstate.store.Store;
 import backstate.store.TimeFilter;
 import backstate.store.UnitFilter;
 import backstate.store.UnitPage;
@@ -47,12 +49,16 @@ final class FleetRoutes {
     /** The sort parameter's words; a leading '-' reverses the order. */
     static final Map<String, UnitSort> SORTS = sorts();
 
-    private final Store store;
+    private final FleetStore fleet;
+    private final EstimateStore estimates;
+    private final ModelCatalogue models;
     private final ObjectMapper mapper;
     private final Clock clock;
 
-    FleetRoutes(Store store, ObjectMapper mapper, Clock clock) {
-        this.store = store;
+    FleetRoutes(FleetStore fleet, EstimateStore estimates, ModelCatalogue models, ObjectMapper mapper, Clock clock) {
+        this.fleet = fleet;
+        this.estimates = estimates;
+        this.models = models;
         this.mapper = mapper;
         this.clock = clock;
     }
@@ -68,7 +74,7 @@ final class FleetRoutes {
         for (ModelVersionRow v : versions) {
             channels.put(v.version(), names(document(v).outputs()));
         }
-        FleetSummary s = store.fleetSummary(new FleetSummaryQuery(family, channels, times, version,
+        FleetSummary s = fleet.fleetSummary(new FleetSummaryQuery(family, channels, times, version,
                 now.minus(staleAfter), SUMMARY_LIST_LIMIT));
         List<FleetViews.Version> views = s.versions().stream().map(a -> FleetViews.Version.of(a,
                 status(versions, a.version()), channels.get(a.version()))).toList();
@@ -87,7 +93,7 @@ final class FleetRoutes {
             throw ApiProblem.invalid("cursor", "not a cursor from this API");
         }
         int limit = Params.intOrDefault(ctx, "limit", DEFAULT_UNITS_PAGE, MAX_UNITS_PAGE);
-        UnitPage page = store.fleetUnits(new UnitFilter(family, version, flag(ctx)), sort, cursor, limit);
+        UnitPage page = fleet.fleetUnits(new UnitFilter(family, version, flag(ctx)), sort, cursor, limit);
         ctx.json(new Views.Page<>(page.items().stream().map(FleetViews.Unit::of).toList(), page.nextCursorOrNull()));
     }
 
@@ -95,16 +101,16 @@ final class FleetRoutes {
         String unitId = Params.identifier(ctx, "unitId");
         String state = Params.requiredQuery(ctx, "state");
         String model = ctx.queryParam("model");
-        String family = model == null ? store.latestEstimate(unitId).map(EstimateRow::family)
+        String family = model == null ? estimates.latestEstimate(unitId).map(EstimateRow::family)
                 .orElseThrow(() -> ApiProblem.notFound("an estimate for unit " + unitId)) : Params.identifier("model", model);
-        if (model != null && store.findFamily(family).isEmpty()) {
+        if (model != null && models.findFamily(family).isEmpty()) {
             throw ApiProblem.unprocessable("model", "got " + Params.quoted(model) + ", expected an existing model family");
         }
         List<ModelVersionRow> versions = versions(ctx, family);
         Integer version = Params.optionalInt(ctx, "version");
         String unit = unitOf(state, family, versions);
         int limit = Params.intOrDefault(ctx, "limit", DEFAULT_TREND_POINTS, MAX_TREND_POINTS);
-        List<FleetViews.Point> points = FleetViews.chronological(store.stateTrend(unitId, state, family, version,
+        List<FleetViews.Point> points = FleetViews.chronological(fleet.stateTrend(unitId, state, family, version,
                 Params.timeFilter(ctx), limit));
         ctx.json(new FleetViews.Trend(unitId, family, version, state, unit, InitialStateEstimator.CONFIDENCE, points,
                 Views.CAUTION));
@@ -112,7 +118,7 @@ final class FleetRoutes {
 
     private String family(Context ctx) {
         String family = Params.identifier(ctx, "family");
-        if (store.findFamily(family).isEmpty()) {
+        if (models.findFamily(family).isEmpty()) {
             throw ApiProblem.notFound("model family " + family);
         }
         return family;
@@ -120,7 +126,7 @@ final class FleetRoutes {
 
     /** The family's versions; narrowed to the one the {@code version} parameter names, which must exist. */
     private List<ModelVersionRow> versions(Context ctx, String family) {
-        List<ModelVersionRow> all = store.listVersions(family);
+        List<ModelVersionRow> all = models.listVersions(family);
         Integer version = Params.optionalInt(ctx, "version");
         if (version == null) {
             return all;

@@ -1,8 +1,9 @@
 package backstate.api;
 
 import backstate.formats.FailureDetails;
+import backstate.store.EstimateStore;
 import backstate.store.JobRow;
-import backstate.store.Store;
+import backstate.store.JobStore;
 import com.fasterxml.jackson.core.JsonProcessingException;
 import com.fasterxml.jackson.databind.ObjectMapper;
 import io.javalin.http.Context;
@@ -10,12 +11,14 @@ import java.time.Clock;
 
 /** Job state, and cancelling a job no worker has claimed. */
 final class JobRoutes {
-    private final Store store;
+    private final JobStore jobs;
+    private final EstimateStore estimates;
     private final ObjectMapper mapper;
     private final Clock clock;
 
-    JobRoutes(Store store, ObjectMapper mapper, Clock clock) {
-        this.store = store;
+    JobRoutes(JobStore jobs, EstimateStore estimates, ObjectMapper mapper, Clock clock) {
+        this.jobs = jobs;
+        this.estimates = estimates;
         this.mapper = mapper;
         this.clock = clock;
     }
@@ -26,22 +29,22 @@ final class JobRoutes {
 
     void cancel(Context ctx) throws JsonProcessingException {
         JobRow job = find(ctx);
-        if (!store.cancelIfQueued(job.id(), clock.instant())) {
-            throw ApiProblem.conflict("job " + job.id() + " is " + store.findJob(job.id()).map(JobRow::state).orElse(job.state())
+        if (!jobs.cancelIfQueued(job.id(), clock.instant())) {
+            throw ApiProblem.conflict("job " + job.id() + " is " + jobs.findJob(job.id()).map(JobRow::state).orElse(job.state())
                     + "; only a queued job can be cancelled");
         }
-        ctx.json(view(store.findJob(job.id()).orElseThrow()));
+        ctx.json(view(jobs.findJob(job.id()).orElseThrow()));
     }
 
     private Views.Job view(JobRow job) throws JsonProcessingException {
         String estimateId = "succeeded".equals(job.state()) && "estimate".equals(job.kind())
-                ? store.findEstimateForJob(job.id()).map(e -> e.id()).orElse(null) : null;
+                ? estimates.findEstimateForJob(job.id()).map(e -> e.id()).orElse(null) : null;
         FailureDetails failure = job.failureJson() == null ? null : mapper.readValue(job.failureJson(), FailureDetails.class);
         return Views.Job.of(job, estimateId, failure);
     }
 
     private JobRow find(Context ctx) {
         String id = Params.identifier(ctx, "jobId");
-        return store.findJob(id).orElseThrow(() -> ApiProblem.notFound("job " + id));
+        return jobs.findJob(id).orElseThrow(() -> ApiProblem.notFound("job " + id));
     }
 }

@@ -6,7 +6,7 @@ import backstate.formats.Limits;
 import backstate.formats.ModelDocument;
 import backstate.store.ModelVersionRow;
 import backstate.store.NewModelVersion;
-import backstate.store.Store;
+import backstate.store.ModelCatalogue;
 import com.fasterxml.jackson.databind.DeserializationFeature;
 import com.fasterxml.jackson.databind.ObjectMapper;
 import io.javalin.http.Context;
@@ -24,13 +24,13 @@ final class ModelRoutes {
      */
     static final long MAX_MODEL_BODY_BYTES = 4L << 20;
 
-    private final Store store;
+    private final ModelCatalogue store;
     private final ObjectMapper mapper;
     private final Clock clock;
     private final Limits limits;
     private final long maxBodyBytes;
 
-    ModelRoutes(Store store, ObjectMapper mapper, Clock clock, Limits limits, long maxBodyBytes) {
+    ModelRoutes(ModelCatalogue store, ObjectMapper mapper, Clock clock, Limits limits, long maxBodyBytes) {
         this.store = store;
         this.mapper = mapper;
         this.clock = clock;

@@ -6,7 +6,7 @@ import backstate.formats.Limits;
 import backstate.formats.ModelDocument;
 import backstate.formats.Quantity;
 import backstate.store.ModelVersionRow;
-import backstate.store.Store;
+import backstate.store.ModelCatalogue;
 import com.fasterxml.jackson.databind.DeserializationFeature;
 import com.fasterxml.jackson.databind.ObjectMapper;
 import io.javalin.http.Context;
@@ -18,11 +18,11 @@ final class PlanRoutes {
     /** A plan body is a few names and numbers; 64 KiB is generous. */
     static final long MAX_PLAN_BODY_BYTES = 64 * 1024;
 
-    private final Store store;
+    private final ModelCatalogue store;
     private final ObjectMapper mapper;
     private final Limits limits;
 
-    PlanRoutes(Store store, ObjectMapper mapper, Limits limits) {
+    PlanRoutes(ModelCatalogue store, ObjectMapper mapper, Limits limits) {
         this.store = store;
         this.mapper = mapper;
         this.limits = limits;

@@ -6,12 +6,14 @@ import backstate.regression.RegressionParams;
 import backstate.regression.Selection;
 import backstate.regression.Tolerances;
 import backstate.store.JobRow;
+import backstate.store.JobStore;
+import backstate.store.ModelCatalogue;
 import backstate.store.ModelVersionRow;
 import backstate.store.NewRegression;
 import backstate.store.RegressionRow;
-import backstate.store.Store;
-import backstate.store.TraceRef;
+import backstate.store.RegressionStore;
 import backstate.store.TimeFilter;
+import backstate.store.TraceRef;
 import backstate.store.TraceSelection;
 import com.fasterxml.jackson.databind.DeserializationFeature;
 import com.fasterxml.jackson.databind.ObjectMapper;
@@ -44,16 +46,20 @@ final class RegressionRoutes {
     static final Instant LATEST = Instant.ofEpochMilli(Long.MAX_VALUE);
     static final int MAX_PAGE = 500;
 
-    private final Store store;
+    private final ModelCatalogue models;
+    private final RegressionStore regressions;
+    private final JobStore jobs;
     private final ObjectMapper mapper;
     private final Clock clock;
     private final long maxBodyBytes;
     private final int maxQueued;
     private final Runnable wakeWorkers;
 
-    RegressionRoutes(Store store, ObjectMapper mapper, Clock clock, long maxBodyBytes, int maxQueued,
-                     Runnable wakeWorkers) {
-        this.store = store;
+    RegressionRoutes(ModelCatalogue models, RegressionStore regressions, JobStore jobs, ObjectMapper mapper, Clock clock,
+                     long maxBodyBytes, int maxQueued, Runnable wakeWorkers) {
+        this.models = models;
+        this.regressions = regressions;
+        this.jobs = jobs;
         this.mapper = mapper;
         this.clock = clock;
         this.maxBodyBytes = maxBodyBytes;
@@ -76,7 +82,7 @@ final class RegressionRoutes {
         }
         Tolerances tolerances = Tolerances.resolve(body.tolerances());
         Selection selection = normalized(body.traces() == null ? Selection.ALL : body.traces());
-        if (store.findFamily(family).isEmpty()) {
+        if (models.findFamily(family).isEmpty()) {
             throw ApiProblem.unprocessable("family", "model family " + family + " does not exist");
         }
         ModelDocument baselineModel = document(existing("baseline", family, baseline));
@@ -86,7 +92,7 @@ final class RegressionRoutes {
         requireStoredColumns(family, traces, baselineModel, candidateModel);
         RegressionParams params = new RegressionParams(family, baseline, candidate, selection, tolerances,
                 traces.stream().map(TraceRef::id).toList());
-        String id = store.createRegression(new NewRegression(family, baseline, candidate,
+        String id = regressions.createRegression(new NewRegression(family, baseline, candidate,
                 mapper.writeValueAsString(params)), maxQueued, clock.instant());
         wakeWorkers.run();
         ctx.status(202).header("Location", "/v1/regressions/" + id).json(view(find(id)));
@@ -102,7 +108,7 @@ final class RegressionRoutes {
         if (cursor != null && (cursor.isEmpty() || cursor.length() > 512)) {
             throw ApiProblem.invalid("cursor", "not a cursor from this API");
         }
-        var page = store.listRegressions(family, cursor, Params.intOrDefault(ctx, "limit", DEFAULT_PAGE, MAX_PAGE));
+        var page = regressions.listRegressions(family, cursor, Params.intOrDefault(ctx, "limit", DEFAULT_PAGE, MAX_PAGE));
         ctx.json(new Views.Page<>(page.items().stream().map(RegressionViews.Summary::of).toList(),
                 page.nextCursorOrNull()));
     }
@@ -110,11 +116,11 @@ final class RegressionRoutes {
     /** Queued: cancelled at once (200). Running: a cancel request its worker acts on between traces (202). */
     void cancel(Context ctx) throws Exception {
         RegressionRow run = find(ctx);
-        if (store.cancelIfQueued(run.id(), clock.instant())) {
+        if (jobs.cancelIfQueued(run.id(), clock.instant())) {
             ctx.json(view(find(run.id())));
             return;
         }
-        if (store.requestRegressionCancel(run.id(), clock.instant())) {
+        if (regressions.requestRegressionCancel(run.id(), clock.instant())) {
             ctx.status(202).json(view(find(run.id())));
             return;
         }
@@ -123,7 +129,7 @@ final class RegressionRoutes {
     }
 
     private RegressionViews.Regression view(RegressionRow run) throws Exception {
-        JobRow job = store.findJob(run.id()).orElseThrow();
+        JobRow job = jobs.findJob(run.id()).orElseThrow();
         return RegressionViews.Regression.of(run, job, mapper.readValue(job.paramsJson(), RegressionParams.class));
     }
 
@@ -193,7 +199,7 @@ final class RegressionRoutes {
     }
 
     private ModelVersionRow existing(String field, String family, int version) {
-        return store.findVersion(family, version).orElseThrow(() ->
+        return models.findVersion(family, version).orElseThrow(() ->
                 ApiProblem.unprocessable(field, "model version " + family + "/" + version + " does not exist"));
     }
 
@@ -215,7 +221,7 @@ final class RegressionRoutes {
     private List<TraceRef> select(String family, Selection s) {
         TraceSelection selection = new TraceSelection(family, s.units(), new TimeFilter(instant(s.from()),
                 instant(s.to()), instant(s.receivedFrom()), instant(s.receivedTo())), s.latestPerUnit(), MAX_TRACES + 1);
-        List<TraceRef> traces = store.selectTraces(selection);
+        List<TraceRef> traces = regressions.selectTraces(selection);
         if (traces.isEmpty()) {
             throw ApiProblem.unprocessable("traces", "no stored traces of model family " + family + " match the selection");
         }
@@ -292,6 +298,6 @@ final class RegressionRoutes {
     }
 
     private RegressionRow find(String id) {
-        return store.findRegression(id).orElseThrow(() -> ApiProblem.notFound("regression " + id));
+        return regressions.findRegression(id).orElseThrow(() -> ApiProblem.notFound("regression " + id));
     }
 }

@@ -1,7 +1,7 @@
 package backstate.api;
 
 import backstate.formats.EstimateCaution;
-import backstate.store.Store;
+import backstate.store.Database;
 import io.javalin.http.Context;
 import io.micrometer.prometheusmetrics.PrometheusMeterRegistry;
 import java.io.IOException;
@@ -20,14 +20,14 @@ final class ServiceRoutes {
     /** Where the start page takes the caution every estimate carries. */
     static final String CAUTION_SLOT = "CAUTION";
 
-    private final Store store;
+    private final Database store;
     private final PrometheusMeterRegistry registry;
     private final IntSupplier queued;
     private final int jammedAt;
     private final byte[] spec;
     private final String index;
 
-    ServiceRoutes(Store store, PrometheusMeterRegistry registry, IntSupplier queued, int jammedAt) {
+    ServiceRoutes(Database store, PrometheusMeterRegistry registry, IntSupplier queued, int jammedAt) {
         this.store = store;
         this.registry = registry;
         this.queued = queued;

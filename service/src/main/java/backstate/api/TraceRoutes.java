@@ -12,10 +12,11 @@ import backstate.formats.TraceCodec;
 import backstate.formats.TraceOptions;
 import backstate.formats.TraceReader;
 import backstate.jobs.StoredTraceSolver;
+import backstate.store.ModelCatalogue;
 import backstate.store.ModelVersionRow;
 import backstate.store.NewTrace;
-import backstate.store.Store;
 import backstate.store.Submission;
+import backstate.store.TraceIntakeStore;
 import backstate.store.TraceRef;
 import com.fasterxml.jackson.databind.ObjectMapper;
 import io.javalin.http.Context;
@@ -34,7 +35,8 @@ final class TraceRoutes {
     /** Marks an answer that replays an earlier post with the same Idempotency-Key; backstate's own header. */
     static final String REPLAYED_HEADER = "Backstate-Replayed";
 
-    private final Store store;
+    private final TraceIntakeStore traces;
+    private final ModelCatalogue models;
     private final StoredTraceSolver stored;
     private final TraceReader reader;
     private final TraceCodec codec;
@@ -43,9 +45,10 @@ final class TraceRoutes {
     private final int maxQueued;
     private final Runnable wakeWorkers;
 
-    TraceRoutes(Store store, StoredTraceSolver stored, ObjectMapper mapper, Clock clock, Limits limits,
-                long maxBodyBytes, int maxQueued, Runnable wakeWorkers) {
-        this.store = store;
+    TraceRoutes(TraceIntakeStore traces, ModelCatalogue models, StoredTraceSolver stored, ObjectMapper mapper,
+                Clock clock, Limits limits, long maxBodyBytes, int maxQueued, Runnable wakeWorkers) {
+        this.traces = traces;
+        this.models = models;
         this.stored = stored;
         this.reader = new TraceReader(limits);
         this.codec = new TraceCodec(mapper);
@@ -73,7 +76,7 @@ final class TraceRoutes {
         Future<DocumentSolver.Outcome> solvedAhead = stored.solveAhead(model, parsed);
         Submission submission;
         try {
-            submission = store.submitTrace(trace, key == null ? null : fingerprint.withKey(key), maxQueued, receivedAt);
+            submission = traces.submitTrace(trace, key == null ? null : fingerprint.withKey(key), maxQueued, receivedAt);
         } catch (Exception | Error e) {
             cancel(solvedAhead);
             throw e;
@@ -102,7 +105,7 @@ final class TraceRoutes {
     private ModelVersionRow activeVersion(Context ctx) {
         String family = Params.identifier("model", Params.requiredQuery(ctx, "model"));
         int number = Params.positiveInt("version", Params.requiredQuery(ctx, "version"));
-        ModelVersionRow version = store.findVersion(family, number)
+        ModelVersionRow version = models.findVersion(family, number)
                 .orElseThrow(() -> ApiProblem.unprocessable("version", "model version " + family + "/" + number + " does not exist"));
         if (!"active".equals(version.status())) {
             throw ApiProblem.conflict("model version " + family + "/" + number + " is retired and takes no new traces");

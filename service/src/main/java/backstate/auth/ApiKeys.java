@@ -3,7 +3,7 @@ package backstate.auth;
 import backstate.store.ApiKeyRow;
 import backstate.store.KeyRevocation;
 import backstate.store.NewApiKey;
-import backstate.store.Store;
+import backstate.store.ApiKeyStore;
 import java.security.SecureRandom;
 import java.time.Clock;
 import java.util.List;
@@ -24,11 +24,11 @@ public final class ApiKeys {
     /** A fresh 64-bit ID colliding with a stored one is a ~n/2^64 event; a few tries make failure impossible in practice. */
     private static final int ID_TRIES = 3;
 
-    private final Store store;
+    private final ApiKeyStore store;
     private final Clock clock;
     private final SecureRandom random;
 
-    public ApiKeys(Store store, Clock clock, SecureRandom random) {
+    public ApiKeys(ApiKeyStore store, Clock clock, SecureRandom random) {
         this.store = store;
         this.clock = clock;
         this.random = random;

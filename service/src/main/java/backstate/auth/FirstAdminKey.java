@@ -2,7 +2,7 @@ package backstate.auth;
 
 import backstate.config.Secret;
 import backstate.store.ApiKeyRow;
-import backstate.store.Store;
+import backstate.store.ApiKeyStore;
 import java.util.Optional;
 import org.slf4j.Logger;
 import org.slf4j.LoggerFactory;
@@ -19,10 +19,10 @@ public final class FirstAdminKey {
     private static final Logger LOG = LoggerFactory.getLogger(FirstAdminKey.class);
     static final String SETTING = "BACKSTATE_ADMIN_KEY";
 
-    private final Store store;
+    private final ApiKeyStore store;
     private final ApiKeys keys;
 
-    public FirstAdminKey(Store store, ApiKeys keys) {
+    public FirstAdminKey(ApiKeyStore store, ApiKeys keys) {
         this.store = store;
         this.keys = keys;
     }

@@ -6,8 +6,6 @@ import backstate.formats.DocumentSolver;
 import backstate.formats.EstimateDocument;
 import backstate.formats.FailureDetails;
 import backstate.formats.InputException;
-import backstate.store.NewEstimate;
-import backstate.store.TraceRef;
 import com.fasterxml.jackson.databind.ObjectMapper;
 import io.micrometer.core.instrument.MeterRegistry;
 import io.micrometer.core.instrument.Timer;
@@ -53,8 +51,9 @@ public final class EstimateJobHandler implements JobHandler {
     private NewEstimate toRow(StoredTraceSolver.Loaded trace, DocumentSolver.Outcome.Solved solved) throws Exception {
         Estimate e = solved.estimate();
         Double chi2PerDof = e.degreesOfFreedom() > 0 ? EstimateDocument.num(e.chiSquare() / e.degreesOfFreedom()) : null;
-        TraceRef ref = trace.ref();
-        return new NewEstimate(ref.id(), ref.unitId(), ref.family(), ref.version(), trace.windowStart(),
-                trace.windowEnd(), chi2PerDof, EstimateDocument.flagNames(e), mapper.writeValueAsString(solved.document()));
+        var ref = trace.ref();
+        return NewEstimate.of(ref.id(), ref.unitId(), ref.family(), ref.version(), trace.windowStart(),
+                trace.windowEnd(), chi2PerDof, EstimateDocument.flagNames(e), solved.document(),
+                mapper.writeValueAsString(solved.document()));
     }
 }

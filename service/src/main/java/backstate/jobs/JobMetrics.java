@@ -2,7 +2,6 @@ package backstate.jobs;
 
 import backstate.estimation.Flag;
 import backstate.formats.EstimateDocument;
-import backstate.store.NewEstimate;
 import io.micrometer.core.instrument.Counter;
 import io.micrometer.core.instrument.Gauge;
 import io.micrometer.core.instrument.MeterRegistry;

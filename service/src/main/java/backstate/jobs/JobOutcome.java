@@ -1,6 +1,5 @@
 package backstate.jobs;
 
-import backstate.store.NewEstimate;
 
 /** What a handler made of a job. */
 public sealed interface JobOutcome {

@@ -1,6 +1,5 @@
 package backstate.jobs;
 
-import backstate.store.NewEstimate;
 import java.time.Instant;
 import java.util.List;
 

@@ -6,8 +6,9 @@ import backstate.regression.RegressionParams;
 import backstate.regression.RegressionReport;
 import backstate.regression.RegressionResult;
 import backstate.regression.VersionPair;
+import backstate.store.ModelCatalogue;
 import backstate.store.ModelVersionRow;
-import backstate.store.Store;
+import backstate.store.RegressionStore;
 import backstate.store.TraceRef;
 import com.fasterxml.jackson.databind.ObjectMapper;
 import java.time.Clock;
@@ -27,16 +28,18 @@ public final class RegressionJobHandler implements JobHandler {
      */
     static final int PROGRESS_WRITES = 200;
 
-    private final Store store;
+    private final RegressionStore regressions;
+    private final ModelCatalogue models;
     private final JobQueue queue;
     private final ObjectMapper mapper;
     private final StoredTraceSolver stored;
     private final Limits limits;
     private final Clock clock;
 
-    public RegressionJobHandler(Store store, JobQueue queue, StoredTraceSolver stored, ObjectMapper mapper,
-                                Limits limits, Clock clock) {
-        this.store = store;
+    public RegressionJobHandler(RegressionStore regressions, ModelCatalogue models, JobQueue queue,
+                                StoredTraceSolver stored, ObjectMapper mapper, Limits limits, Clock clock) {
+        this.regressions = regressions;
+        this.models = models;
         this.queue = queue;
         this.stored = stored;
         this.mapper = mapper;
@@ -64,7 +67,7 @@ public final class RegressionJobHandler implements JobHandler {
             return new JobOutcome.Failed("job " + job.id() + " was no longer running at attempt " + job.attempt());
         }
         for (int done = 0; done < total; done++) {
-            if (store.regressionCancelRequested(job.id())) {
+            if (regressions.regressionCancelRequested(job.id())) {
                 return cancel(job, report, done, total);
             }
             String traceId = traceIds.get(done);
@@ -83,14 +86,14 @@ public final class RegressionJobHandler implements JobHandler {
 
     private JobOutcome cancel(ClaimedJob job, RegressionReport report, int done, int total) throws Exception {
         String partial = mapper.writeValueAsString(report.build(false));
-        store.cancelRegressionIfRunning(job.id(), job.attempt(), partial, clock.instant());
+        regressions.cancelRegressionIfRunning(job.id(), job.attempt(), partial, clock.instant());
         // The job is cancelled (or was taken from this attempt): the runner will find it no longer
         // running and drop this outcome.
         return new JobOutcome.Failed("cancelled on request after " + done + " of " + total + " traces");
     }
 
     private ModelVersionRow version(String family, int version) {
-        return store.findVersion(family, version).orElseThrow(() ->
+        return models.findVersion(family, version).orElseThrow(() ->
                 new IllegalStateException("model version " + family + "/" + version + " is gone"));
     }
 

@@ -1,13 +1,14 @@
 package backstate.jobs;
 
+import backstate.formats.CheckedModel;
 import backstate.formats.DocumentSolver;
 import backstate.formats.Limits;
-import backstate.formats.CheckedModel;
 import backstate.formats.ModelDocument;
 import backstate.formats.ParsedTrace;
 import backstate.formats.TraceCodec;
+import backstate.store.ModelCatalogue;
 import backstate.store.ModelVersionRow;
-import backstate.store.Store;
+import backstate.store.TraceIntakeStore;
 import backstate.store.TraceRef;
 import backstate.store.TraceRow;
 import com.fasterxml.jackson.core.JsonProcessingException;
@@ -33,7 +34,8 @@ public final class StoredTraceSolver {
     /** Traces this long are solved while their post's write is under way (~0.01 s of solve and up). */
     public static final int SOLVE_AHEAD_SAMPLES = 100_000;
 
-    private final Store store;
+    private final TraceIntakeStore traces;
+    private final ModelCatalogue catalogue;
     private final ObjectMapper mapper;
     private final TraceCodec codec;
     private final Limits limits;
@@ -46,8 +48,9 @@ public final class StoredTraceSolver {
         return t;
     });
 
-    public StoredTraceSolver(Store store, ObjectMapper mapper, Limits limits) {
-        this.store = store;
+    public StoredTraceSolver(TraceIntakeStore traces, ModelCatalogue catalogue, ObjectMapper mapper, Limits limits) {
+        this.traces = traces;
+        this.catalogue = catalogue;
         this.mapper = mapper;
         this.codec = new TraceCodec(mapper);
         this.limits = limits;
@@ -73,9 +76,9 @@ public final class StoredTraceSolver {
 
     /** Reads and decodes a trace; a missing trace or version is a broken database, not bad input. */
     public Loaded load(String traceId) {
-        TraceRow row = store.findTrace(traceId)
+        TraceRow row = traces.findTrace(traceId)
                 .orElseThrow(() -> new IllegalStateException("trace " + traceId + " is missing"));
-        ModelVersionRow version = store.findVersion(row.family(), row.version()).orElseThrow(() ->
+        ModelVersionRow version = catalogue.findVersion(row.family(), row.version()).orElseThrow(() ->
                 new IllegalStateException("model version " + row.family() + "/" + row.version() + " is missing"));
         TraceRef ref = new TraceRef(row.id(), row.unitId(), row.family(), row.version(), row.receivedAt());
         return new Loaded(ref, model(version), codec.decode(row.payload()));

@@ -1,10 +1,9 @@
 package backstate.store;
 
-import java.sql.Connection;
 import java.sql.SQLException;
 
-/** Work done on one connection, inside a transaction when it writes. */
+/** Work done on one connection's statements, inside a transaction when it writes. */
 @FunctionalInterface
 interface SqlWork<T> {
-    T run(Connection connection) throws SQLException;
+    T run(Statements statements) throws SQLException;
 }

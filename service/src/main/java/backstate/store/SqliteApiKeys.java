@@ -1,6 +1,5 @@
 package backstate.store;
 
-import java.sql.Connection;
 import java.sql.PreparedStatement;
 import java.sql.ResultSet;
 import java.sql.SQLException;
@@ -12,7 +11,7 @@ import java.util.Optional;
  * API keys (hashes only) and the one join access control needs: which unit a job is for.
  * Stateless: each statement runs on the store's connections, passed in.
  */
-final class SqliteApiKeys {
+final class SqliteApiKeys implements ApiKeyStore {
 
     private static final String KEY_COLUMNS =
             "id, role, unit_pattern, label, salt, hash, created_at, created_by, revoked_at";
@@ -36,32 +35,37 @@ final class SqliteApiKeys {
     private static final String UNIT_OF_JOB =
             "SELECT t.unit_id FROM jobs j JOIN traces t ON t.id = j.trace_id WHERE j.id = ?";
 
-    private SqliteApiKeys() {
+    private final SqliteConnections db;
+
+    SqliteApiKeys(SqliteConnections db) {
+        this.db = db;
     }
 
-    static boolean insertApiKey(SqliteConnections db, NewApiKey k, Instant now) {
+    @Override
+    public boolean insertApiKey(NewApiKey k, Instant now) {
         Expect.notNull("key", k);
         return db.write(c -> {
-            try (PreparedStatement ps = Sql.bind(c.prepareStatement(INSERT_KEY), k.id(), k.role(), k.unitPattern(),
-                    k.label(), k.salt(), k.hash(), Sql.millis(now), k.createdByOrNull())) {
-                return ps.executeUpdate() == 1;
-            }
+            PreparedStatement ps = Sql.bind(c.prepare(INSERT_KEY), k.id(), k.role(), k.unitPattern(),
+                    k.label(), k.salt(), k.hash(), Sql.millis(now), k.createdByOrNull());
+            return ps.executeUpdate() == 1;
         });
     }
 
-    static Optional<ApiKeyRow> findApiKey(SqliteConnections db, String id) {
+    @Override
+    public Optional<ApiKeyRow> findApiKey(String id) {
         return db.read(c -> Optional.ofNullable(findApiKey(c, id)));
     }
 
-    static List<ApiKeyRow> listApiKeys(SqliteConnections db) {
+    @Override
+    public List<ApiKeyRow> listApiKeys() {
         return db.read(c -> {
-            try (PreparedStatement ps = c.prepareStatement(LIST_KEYS)) {
-                return Sql.list(ps, SqliteApiKeys::keyRow);
-            }
+            PreparedStatement ps = c.prepare(LIST_KEYS);
+            return Sql.list(ps, SqliteApiKeys::keyRow);
         });
     }
 
-    static KeyRevocation revokeApiKey(SqliteConnections db, String id, Instant now) {
+    @Override
+    public KeyRevocation revokeApiKey(String id, Instant now) {
         return db.write(c -> {
             ApiKeyRow row = findApiKey(c, id);
             if (row == null) {
@@ -70,32 +74,30 @@ final class SqliteApiKeys {
             if (row.revoked()) {
                 return KeyRevocation.ALREADY_REVOKED;
             }
-            try (PreparedStatement ps = Sql.bind(c.prepareStatement(REVOKE_UNLESS_LAST_ADMIN), Sql.millis(now), id)) {
-                return ps.executeUpdate() == 1 ? KeyRevocation.REVOKED : KeyRevocation.LAST_ADMIN;
-            }
+            PreparedStatement ps = Sql.bind(c.prepare(REVOKE_UNLESS_LAST_ADMIN), Sql.millis(now), id);
+            return ps.executeUpdate() == 1 ? KeyRevocation.REVOKED : KeyRevocation.LAST_ADMIN;
         });
     }
 
-    static boolean hasActiveAdminKey(SqliteConnections db) {
+    @Override
+    public boolean hasActiveAdminKey() {
         return db.read(c -> {
-            try (PreparedStatement ps = c.prepareStatement(HAS_ACTIVE_ADMIN)) {
-                return Sql.firstOrNull(ps, rs -> rs.getBoolean("present"));
-            }
+            PreparedStatement ps = c.prepare(HAS_ACTIVE_ADMIN);
+            return Sql.firstOrNull(ps, rs -> rs.getBoolean("present"));
         });
     }
 
-    static Optional<String> unitOfJob(SqliteConnections db, String jobId) {
+    @Override
+    public Optional<String> unitOfJob(String jobId) {
         return db.read(c -> {
-            try (PreparedStatement ps = Sql.bind(c.prepareStatement(UNIT_OF_JOB), jobId)) {
-                return Optional.ofNullable(Sql.firstOrNull(ps, rs -> rs.getString("unit_id")));
-            }
+            PreparedStatement ps = Sql.bind(c.prepare(UNIT_OF_JOB), jobId);
+            return Optional.ofNullable(Sql.firstOrNull(ps, rs -> rs.getString("unit_id")));
         });
     }
 
-    private static ApiKeyRow findApiKey(Connection c, String id) throws SQLException {
-        try (PreparedStatement ps = Sql.bind(c.prepareStatement(FIND_KEY), id)) {
-            return Sql.firstOrNull(ps, SqliteApiKeys::keyRow);
-        }
+    private static ApiKeyRow findApiKey(Statements c, String id) throws SQLException {
+        PreparedStatement ps = Sql.bind(c.prepare(FIND_KEY), id);
+        return Sql.firstOrNull(ps, SqliteApiKeys::keyRow);
     }
 
     private static ApiKeyRow keyRow(ResultSet rs) throws SQLException {

@@ -14,9 +14,10 @@ import org.sqlite.SQLiteConfig;
 import org.sqlite.SQLiteDataSource;
 
 /**
- * The connections to one SQLite file: a single write connection owned by {@link SqliteWriter},
- * which commits the writes waiting at any moment together (group commit), and a fixed set of
- * read connections handed out one caller at a time.
+ * The connections to one SQLite file: a single write connection owned by the writer thread of
+ * {@link SqliteWriter}, which commits the writes waiting at any moment together (group commit),
+ * and a fixed set of read connections handed out one caller at a time. Work on either sees a
+ * connection only as its {@link Statements}.
  *
  * <p>SQLite admits one writer at a time, so writes queue in Java (cheap, and visible in a thread
  * dump) rather than on SQLite's file lock; every write transaction starts with
@@ -53,7 +54,7 @@ final class SqliteConnections implements AutoCloseable {
             Connection raw = dataSource.getConnection();
             writerConnection = raw;
             WalCheckpoints.raiseWriterThreshold(raw);
-            writerConnection = writerDecorator.apply(ReusedStatements.wrap(raw));
+            writerConnection = writerDecorator.apply(raw);
             for (int i = 0; i < settings.readConnections(); i++) {
                 Connection reader = openReader();
                 allReaders.add(reader);
@@ -77,8 +78,30 @@ final class SqliteConnections implements AutoCloseable {
     /** Runs read-only work on an idle read connection, outside any explicit transaction. */
     <T> T read(SqlWork<T> work) {
         Connection reader = borrowReader();
-        try {
-            return work.run(reader);
+        try (Statements statements = new Statements(reader)) {
+            return work.run(statements);
+        } catch (SQLException e) {
+            throw SqliteErrors.translate(e);
+        } finally {
+            idleReaders.add(reader);
+        }
+    }
+
+    /**
+     * Runs read-only work that needs one consistent view over several statements in a read
+     * transaction: in WAL mode it sees the database as of its first read, so figures read
+     * together agree even while writes commit. (PostgreSQL: REPEATABLE READ.)
+     */
+    <T> T readInOneSnapshot(SqlWork<T> work) {
+        Connection reader = borrowReader();
+        try (Statements statements = new Statements(reader)) {
+            reader.setAutoCommit(false);
+            try {
+                return work.run(statements);
+            } finally {
+                reader.rollback();
+                reader.setAutoCommit(true);
+            }
         } catch (SQLException e) {
             throw SqliteErrors.translate(e);
         } finally {

@@ -1,6 +1,6 @@
 package backstate.store;
 
-import java.sql.Connection;
+import backstate.jobs.NewEstimate;
 import java.sql.PreparedStatement;
 import java.sql.ResultSet;
 import java.sql.SQLException;
@@ -14,7 +14,7 @@ import java.util.Optional;
  * Estimates: written with their job's completion, read newest recording first per unit (window
  * start, then time written, then id; see V7__recording_time.sql).
  */
-final class SqliteEstimates {
+final class SqliteEstimates implements EstimateStore {
 
     private static final String ESTIMATE_COLUMNS = "id, job_id, trace_id, unit_id, family, version, created_at,"
             + " received_at, window_start, window_end, chi2_per_dof, flags, summary_json";
@@ -48,19 +48,23 @@ final class SqliteEstimates {
         this.db = db;
     }
 
-    Optional<EstimateRow> findEstimate(String id) {
+    @Override
+    public Optional<EstimateRow> findEstimate(String id) {
         return findOne(FIND_ESTIMATE, id);
     }
 
-    Optional<EstimateRow> findEstimateForJob(String jobId) {
+    @Override
+    public Optional<EstimateRow> findEstimateForJob(String jobId) {
         return findOne(FIND_ESTIMATE_FOR_JOB, jobId);
     }
 
-    Optional<EstimateRow> latestEstimate(String unitId) {
+    @Override
+    public Optional<EstimateRow> latestEstimate(String unitId) {
         return findOne(FIND_LATEST_ESTIMATE, unitId);
     }
 
-    EstimatePage estimateHistory(String unitId, EstimateFilter filter, String cursorOrNull, int limit) {
+    @Override
+    public EstimatePage estimateHistory(String unitId, EstimateFilter filter, String cursorOrNull, int limit) {
         Expect.notBlank("unitId", unitId);
         Expect.notNull("filter", filter);
         Expect.atLeast("limit", limit, 1);
@@ -77,21 +81,22 @@ final class SqliteEstimates {
 
     private Optional<EstimateRow> findOne(String sql, String key) {
         return db.read(c -> {
-            try (PreparedStatement ps = Sql.bind(c.prepareStatement(sql), key)) {
-                return Optional.ofNullable(Sql.firstOrNull(ps, SqliteEstimates::estimateRow));
-            }
+            PreparedStatement ps = Sql.bind(c.prepare(sql), key);
+            return Optional.ofNullable(Sql.firstOrNull(ps, SqliteEstimates::estimateRow));
         });
     }
 
-    static void insertEstimate(Connection c, String jobId, NewEstimate e, Instant now) throws SQLException {
-        try (PreparedStatement ps = Sql.bind(c.prepareStatement(INSERT_ESTIMATE), Sql.newId(), jobId,
+    /** Writes the estimate and returns its ID; the fleet rows follow in the same transaction. */
+    static String insertEstimate(Statements c, String jobId, NewEstimate e, Instant now) throws SQLException {
+        String id = Sql.newId();
+        PreparedStatement ps = Sql.bind(c.prepare(INSERT_ESTIMATE), id, jobId,
                 e.traceId(), e.unitId(), e.family(), e.version(), Sql.millis(now), e.traceId(), e.windowStart(),
-                e.windowEnd(), e.chi2PerDof(), Sql.joinFlags(e.flags()), e.summaryJson())) {
-            ps.executeUpdate();
-        }
+                e.windowEnd(), e.chi2PerDof(), Sql.joinFlags(e.flags()), e.summaryJson());
+        ps.executeUpdate();
+        return id;
     }
 
-    private static List<EstimateRow> listHistory(Connection c, String unitId, EstimateFilter f,
+    private static List<EstimateRow> listHistory(Statements c, String unitId, EstimateFilter f,
                                                  RecordingCursor after, int rows) throws SQLException {
         Double afterStart = after == null ? null : after.windowStart();
         Long afterMillis = after == null ? null : after.createdAtMillis();
@@ -100,9 +105,8 @@ final class SqliteEstimates {
         Collections.addAll(values, f.familyOrNull(), f.familyOrNull(), f.versionOrNull(), f.versionOrNull());
         TimeConditions.bind(values, f.times());
         Collections.addAll(values, f.flagOrNull(), f.flagOrNull(), afterStart, afterStart, afterMillis, afterId, rows);
-        try (PreparedStatement ps = Sql.bind(c.prepareStatement(LIST_ESTIMATE_HISTORY), values.toArray())) {
-            return Sql.list(ps, SqliteEstimates::estimateRow);
-        }
+        PreparedStatement ps = Sql.bind(c.prepare(LIST_ESTIMATE_HISTORY), values.toArray());
+        return Sql.list(ps, SqliteEstimates::estimateRow);
     }
 
     private static EstimateRow estimateRow(ResultSet rs) throws SQLException {

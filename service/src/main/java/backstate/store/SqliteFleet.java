@@ -1,11 +1,10 @@
 package backstate.store;
 
 import backstate.estimation.SampleQuantiles;
-import java.sql.Connection;
+import backstate.jobs.NewEstimate;
 import java.sql.PreparedStatement;
 import java.sql.ResultSet;
 import java.sql.SQLException;
-import java.time.Instant;
 import java.util.ArrayList;
 import java.util.Arrays;
 import java.util.EnumMap;
@@ -28,7 +27,7 @@ import java.util.TreeSet;
  * its ORDER BY … OFFSET route sorts in a temporary B-tree, which FleetQueryBench measures as
  * slower (see docs/fleet-and-planning.md).
  */
-final class SqliteFleet {
+final class SqliteFleet implements FleetStore {
 
     /** The bounds bound when a side of a range is open: no stored time reaches them. */
     private static final double OPEN_START_SECONDS = -Double.MAX_VALUE;
@@ -41,16 +40,15 @@ final class SqliteFleet {
     /** First capacity of a column read; it doubles as needed. */
     private static final int FIRST_CAPACITY = 1024;
 
-    // Written with every estimate, in the completing job's transaction. Keep in step with the
-    // backfill at the end of V7__recording_time.sql, which runs the same SELECTs for every estimate.
-    private static final String RECORD_STATES = "INSERT INTO estimate_states"
-            + " (estimate_id, state, value, standard_error, lower, upper)"
-            + " SELECT estimate_id, state, value, standard_error, lower, upper FROM estimate_document_states"
-            + " WHERE job_id = ? ON CONFLICT DO NOTHING";
-    private static final String RECORD_CHANNELS = "INSERT INTO estimate_channels"
+    // Written with every estimate, in the completing job's transaction, from the estimate's typed
+    // figures (NewEstimate): the JSON document is never read back here. A name repeated in one
+    // document keeps its first row, as the V2/V7 backfills did.
+    private static final String RECORD_STATE = "INSERT INTO estimate_states"
+            + " (estimate_id, state, value, standard_error, lower, upper) VALUES (?, ?, ?, ?, ?, ?)"
+            + " ON CONFLICT DO NOTHING";
+    private static final String RECORD_CHANNEL = "INSERT INTO estimate_channels"
             + " (family, version, channel, window_start, estimate_id, received_at, rms)"
-            + " SELECT family, version, channel, window_start, estimate_id, received_at, rms"
-            + " FROM estimate_document_channels WHERE job_id = ? ON CONFLICT DO NOTHING";
+            + " VALUES (?, ?, ?, ?, ?, (SELECT received_at FROM estimates WHERE id = ?), ?) ON CONFLICT DO NOTHING";
     private static final String LATEST_COLUMNS = "unit_id, family, version, estimate_id, window_start, window_end,"
             + " received_at, created_at, chi2_per_dof, flags";
     // A unit's newest estimate is its newest recording (then newest written, then id): a late
@@ -58,7 +56,7 @@ final class SqliteFleet {
     // only when the incoming (window_start, created_at, id) is greater. Same syntax on PostgreSQL.
     private static final String RECORD_UNIT_LATEST = "INSERT INTO unit_latest (" + LATEST_COLUMNS + ")"
             + " SELECT unit_id, family, version, id, window_start, window_end, received_at, created_at, chi2_per_dof,"
-            + " flags FROM estimates WHERE job_id = ?"
+            + " flags FROM estimates WHERE id = ?"
             + " ON CONFLICT (family, unit_id) DO UPDATE SET version = excluded.version,"
             + " estimate_id = excluded.estimate_id, window_start = excluded.window_start,"
             + " window_end = excluded.window_end, received_at = excluded.received_at, created_at = excluded.created_at,"
@@ -67,7 +65,7 @@ final class SqliteFleet {
             + " > (unit_latest.window_start, unit_latest.created_at, unit_latest.estimate_id)";
     private static final String RECORD_UNIT_VERSION_LATEST = "INSERT INTO unit_version_latest (" + LATEST_COLUMNS + ")"
             + " SELECT unit_id, family, version, id, window_start, window_end, received_at, created_at, chi2_per_dof,"
-            + " flags FROM estimates WHERE job_id = ?"
+            + " flags FROM estimates WHERE id = ?"
             + " ON CONFLICT (family, version, unit_id) DO UPDATE SET"
             + " estimate_id = excluded.estimate_id, window_start = excluded.window_start,"
             + " window_end = excluded.window_end, received_at = excluded.received_at, created_at = excluded.created_at,"
@@ -113,7 +111,10 @@ final class SqliteFleet {
             + TimeConditions.RECORDED_AND_RECEIVED
             + " ORDER BY e.window_start DESC, e.created_at DESC, e.id DESC LIMIT ?";
 
-    private SqliteFleet() {
+    private final SqliteConnections db;
+
+    SqliteFleet(SqliteConnections db) {
+        this.db = db;
     }
 
     private static Map<UnitSort, String> unitListStatements(String table, String versionCondition) {
@@ -128,26 +129,38 @@ final class SqliteFleet {
         return statements;
     }
 
-    /** Writes the derived rows of the estimate the job just wrote; call in the same transaction. */
-    static void recordEstimate(Connection c, String jobId) throws SQLException {
-        for (String sql : List.of(RECORD_STATES, RECORD_CHANNELS, RECORD_UNIT_LATEST, RECORD_UNIT_VERSION_LATEST)) {
-            try (PreparedStatement ps = Sql.bind(c.prepareStatement(sql), jobId)) {
-                ps.executeUpdate();
-            }
+    /** Writes the derived rows of the estimate just written as {@code estimateId}; call in the same transaction. */
+    static void recordEstimate(Statements c, String estimateId, NewEstimate e) throws SQLException {
+        for (NewEstimate.StateFigure s : e.states()) {
+            PreparedStatement ps = Sql.bind(c.prepare(RECORD_STATE), estimateId, s.state(), s.value(),
+                    s.standardError(), s.lower(), s.upper());
+            ps.executeUpdate();
+        }
+        for (NewEstimate.ChannelFigure ch : e.channels()) {
+            PreparedStatement ps = Sql.bind(c.prepare(RECORD_CHANNEL), e.family(), e.version(),
+                    ch.channel(), e.windowStart(), estimateId, estimateId, ch.rms());
+            ps.executeUpdate();
+        }
+        for (String sql : List.of(RECORD_UNIT_LATEST, RECORD_UNIT_VERSION_LATEST)) {
+            PreparedStatement ps = Sql.bind(c.prepare(sql), estimateId);
+            ps.executeUpdate();
         }
     }
 
-    static FleetSummary summary(SqliteConnections db, FleetSummaryQuery q) {
-        return db.read(c -> inOneSnapshot(c, () -> {
+    @Override
+    public FleetSummary fleetSummary(FleetSummaryQuery q) {
+        // One snapshot, so counts and distributions agree even while estimates are being written.
+        return db.readInOneSnapshot(c -> {
             List<FleetSummary.VersionActivity> versions = new ArrayList<>();
             for (Map.Entry<Integer, List<String>> v : q.channelsByVersion().entrySet()) {
                 versions.add(versionActivity(c, q, v.getKey(), v.getValue()));
             }
             return new FleetSummary(versions, stale(c, q));
-        }));
+        });
     }
 
-    static UnitPage units(SqliteConnections db, UnitFilter filter, UnitSort sort, String cursorOrNull, int limit) {
+    @Override
+    public UnitPage fleetUnits(UnitFilter filter, UnitSort sort, String cursorOrNull, int limit) {
         Expect.notNull("filter", filter);
         Expect.notNull("sort", sort);
         Expect.atLeast("limit", limit, 1);
@@ -166,9 +179,8 @@ final class SqliteFleet {
         values.add(limit + 1); // one row more than asked tells whether another page follows
         String sql = (filter.versionOrNull() == null ? LIST_UNITS : LIST_UNITS_OF_VERSION).get(sort);
         List<UnitLatestRow> rows = db.read(c -> {
-            try (PreparedStatement ps = Sql.bind(c.prepareStatement(sql), values.toArray())) {
-                return Sql.list(ps, SqliteFleet::latestRow);
-            }
+            PreparedStatement ps = Sql.bind(c.prepare(sql), values.toArray());
+            return Sql.list(ps, SqliteFleet::latestRow);
         });
         if (rows.size() <= limit) {
             return new UnitPage(rows, null);
@@ -178,7 +190,8 @@ final class SqliteFleet {
     }
 
     /** The {@code limit} estimates of one state with the newest recordings in the time filter, newest first. */
-    static List<StatePoint> stateTrend(SqliteConnections db, String unitId, String state, String family,
+    @Override
+    public List<StatePoint> stateTrend(String unitId, String state, String family,
                                        Integer versionOrNull, TimeFilter times, int limit) {
         Expect.notBlank("unitId", unitId);
         Expect.notBlank("state", state);
@@ -191,13 +204,12 @@ final class SqliteFleet {
         TimeConditions.bind(values, times);
         values.add(limit);
         return db.read(c -> {
-            try (PreparedStatement ps = Sql.bind(c.prepareStatement(LIST_STATE_TREND), values.toArray())) {
-                return Sql.list(ps, SqliteFleet::statePoint);
-            }
+            PreparedStatement ps = Sql.bind(c.prepare(LIST_STATE_TREND), values.toArray());
+            return Sql.list(ps, SqliteFleet::statePoint);
         });
     }
 
-    private static FleetSummary.VersionActivity versionActivity(Connection c, FleetSummaryQuery q, int version,
+    private static FleetSummary.VersionActivity versionActivity(Statements c, FleetSummaryQuery q, int version,
                                                                 List<String> channels) throws SQLException {
         TimeFilter t = q.times();
         double from = t.recordedFromOrNull() == null ? OPEN_START_SECONDS : Sql.recordingSeconds(t.recordedFromOrNull());
@@ -205,29 +217,16 @@ final class SqliteFleet {
         long receivedFrom = t.receivedFromOrNull() == null ? OPEN_START : Sql.millis(t.receivedFromOrNull());
         long receivedTo = t.receivedToOrNull() == null ? OPEN_END : Sql.millis(t.receivedToOrNull());
         Object[] window = {q.family(), version, from, to, receivedFrom, receivedTo};
-        long[] counts;
-        try (PreparedStatement ps = Sql.bind(c.prepareStatement(COUNT_ESTIMATES), window)) {
-            counts = Sql.firstOrNull(ps, rs -> new long[] {rs.getLong(1), rs.getLong(2)});
-        }
-        long traces;
-        try (PreparedStatement ps = Sql.bind(c.prepareStatement(COUNT_TRACES), window)) {
-            traces = Sql.firstOrNull(ps, rs -> rs.getLong(1));
-        }
-        FleetSummary.Distribution chi2;
-        try (PreparedStatement ps = Sql.bind(c.prepareStatement(LIST_CHI2), window)) {
-            chi2 = distribution(ps);
-        }
+        long[] counts = Sql.firstOrNull(Sql.bind(c.prepare(COUNT_ESTIMATES), window),
+                rs -> new long[] {rs.getLong(1), rs.getLong(2)});
+        long traces = Sql.firstOrNull(Sql.bind(c.prepare(COUNT_TRACES), window), rs -> rs.getLong(1));
+        FleetSummary.Distribution chi2 = distribution(Sql.bind(c.prepare(LIST_CHI2), window));
         Map<String, FleetSummary.Distribution> rms = new LinkedHashMap<>();
         for (String channel : channels) {
-            try (PreparedStatement ps = Sql.bind(c.prepareStatement(LIST_CHANNEL_RMS), q.family(), version, channel,
-                    from, to, receivedFrom, receivedTo)) {
-                rms.put(channel, distribution(ps));
-            }
+            rms.put(channel, distribution(Sql.bind(c.prepare(LIST_CHANNEL_RMS), q.family(), version, channel,
+                    from, to, receivedFrom, receivedTo)));
         }
-        Map<String, FleetSummary.FlaggedUnits> flags;
-        try (PreparedStatement ps = Sql.bind(c.prepareStatement(LIST_FLAGGED), window)) {
-            flags = flagged(ps, q.listLimit());
-        }
+        Map<String, FleetSummary.FlaggedUnits> flags = flagged(Sql.bind(c.prepare(LIST_FLAGGED), window), q.listLimit());
         return new FleetSummary.VersionActivity(version, counts[1], traces, counts[0], chi2, rms, flags);
     }
 
@@ -273,38 +272,16 @@ final class SqliteFleet {
         return out;
     }
 
-    private static FleetSummary.StaleUnits stale(Connection c, FleetSummaryQuery q) throws SQLException {
+    private static FleetSummary.StaleUnits stale(Statements c, FleetSummaryQuery q) throws SQLException {
         double before = Sql.recordingSeconds(q.staleBefore());
         Integer version = q.staleVersionOrNull();
         Object[] key = version == null ? new Object[] {q.family(), before} : new Object[] {q.family(), version, before};
-        long count;
-        try (PreparedStatement ps = Sql.bind(c.prepareStatement(version == null ? COUNT_STALE : COUNT_STALE_OF_VERSION), key)) {
-            count = Sql.firstOrNull(ps, rs -> rs.getLong(1));
-        }
+        long count = Sql.firstOrNull(Sql.bind(c.prepare(version == null ? COUNT_STALE : COUNT_STALE_OF_VERSION), key),
+                rs -> rs.getLong(1));
         Object[] listKey = Arrays.copyOf(key, key.length + 1);
         listKey[key.length] = q.listLimit();
-        try (PreparedStatement ps = Sql.bind(c.prepareStatement(version == null ? LIST_STALE : LIST_STALE_OF_VERSION),
-                listKey)) {
-            return new FleetSummary.StaleUnits(count, Sql.list(ps, SqliteFleet::latestRow));
-        }
-    }
-
-    /** Work that needs one consistent view over several statements: a read transaction on the connection. */
-    private static <T> T inOneSnapshot(Connection c, SnapshotWork<T> work) throws SQLException {
-        // In WAL mode a read transaction sees the database as of its first read, so counts and
-        // distributions agree even while estimates are being written. PostgreSQL: REPEATABLE READ.
-        c.setAutoCommit(false);
-        try {
-            return work.run();
-        } finally {
-            c.rollback();
-            c.setAutoCommit(true);
-        }
-    }
-
-    @FunctionalInterface
-    private interface SnapshotWork<T> {
-        T run() throws SQLException;
+        PreparedStatement ps = Sql.bind(c.prepare(version == null ? LIST_STALE : LIST_STALE_OF_VERSION), listKey);
+        return new FleetSummary.StaleUnits(count, Sql.list(ps, SqliteFleet::latestRow));
     }
 
     private static UnitLatestRow latestRow(ResultSet rs) throws SQLException {

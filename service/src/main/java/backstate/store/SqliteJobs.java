@@ -1,10 +1,11 @@
 package backstate.store;
 
+import backstate.jobs.NewEstimate;
 import backstate.jobs.ClaimedJob;
+import backstate.jobs.JobQueue;
 import com.fasterxml.jackson.core.JsonProcessingException;
 import com.fasterxml.jackson.core.type.TypeReference;
 import com.fasterxml.jackson.databind.ObjectMapper;
-import java.sql.Connection;
 import java.sql.PreparedStatement;
 import java.sql.ResultSet;
 import java.sql.SQLException;
@@ -19,7 +20,7 @@ import java.util.Set;
  * job only {@code WHERE state = 'running' AND attempt = ?}, so zero rows means the job was
  * taken from the caller (rescued, or finished by another attempt) and nothing is overwritten.
  */
-final class SqliteJobs {
+final class SqliteJobs implements JobQueue, JobStore {
 
     static final String KIND_ESTIMATE = "estimate";
     static final Set<String> KINDS = Set.of(KIND_ESTIMATE, "regression");
@@ -76,7 +77,8 @@ final class SqliteJobs {
         this.maxAttempts = maxAttempts;
     }
 
-    String enqueue(String kind, String traceIdOrNull, String paramsJsonOrNull, Instant now) {
+    @Override
+    public String enqueue(String kind, String traceIdOrNull, String paramsJsonOrNull, Instant now) {
         if (!KINDS.contains(kind)) {
             throw new IllegalArgumentException("got kind '" + kind + "', expected one of " + KINDS);
         }
@@ -86,63 +88,70 @@ final class SqliteJobs {
         return db.write(c -> insertJob(c, kind, traceIdOrNull, paramsJsonOrNull, now));
     }
 
-    Optional<JobRow> findJob(String id) {
+    @Override
+    public Optional<JobRow> findJob(String id) {
         return db.read(c -> {
-            try (PreparedStatement ps = Sql.bind(c.prepareStatement(FIND_JOB), id)) {
-                return Optional.ofNullable(Sql.firstOrNull(ps, this::jobRow));
-            }
+            PreparedStatement ps = Sql.bind(c.prepare(FIND_JOB), id);
+            return Optional.ofNullable(Sql.firstOrNull(ps, this::jobRow));
         });
     }
 
-    int queuedCount() {
+    @Override
+    public int queuedCount() {
         return db.read(SqliteJobs::countQueued);
     }
 
-    boolean cancelIfQueued(String jobId, Instant now) {
+    @Override
+    public boolean cancelIfQueued(String jobId, Instant now) {
         return db.write(c -> updatedOne(c, CANCEL_IF_QUEUED, Sql.millis(now), jobId));
     }
 
-    List<ClaimedJob> claimNext(int limit, Instant now) {
+    @Override
+    public List<ClaimedJob> claimNext(int limit, Instant now) {
         Expect.atLeast("limit", limit, 1);
         return db.writeForWorker(c -> {
-            try (PreparedStatement ps = Sql.bind(c.prepareStatement(CLAIM_NEXT), Sql.millis(now), limit)) {
-                return Sql.list(ps, SqliteJobs::claimedJob);
-            }
+            PreparedStatement ps = Sql.bind(c.prepare(CLAIM_NEXT), Sql.millis(now), limit);
+            return Sql.list(ps, SqliteJobs::claimedJob);
         });
     }
 
-    boolean completeIfRunning(String jobId, int attempt, NewEstimate estimateOrNull, String resultJsonOrNull,
+    @Override
+    public boolean completeIfRunning(String jobId, int attempt, NewEstimate estimateOrNull, String resultJsonOrNull,
                               Instant now) {
         return db.writeForWorker(c -> {
             if (!updatedOne(c, COMPLETE_IF_RUNNING, Sql.millis(now), resultJsonOrNull, jobId, attempt)) {
                 return false;
             }
             if (estimateOrNull != null) {
-                SqliteEstimates.insertEstimate(c, jobId, estimateOrNull, now);
-                SqliteFleet.recordEstimate(c, jobId); // the fleet views' rows, in the same transaction
+                String estimateId = SqliteEstimates.insertEstimate(c, jobId, estimateOrNull, now);
+                SqliteFleet.recordEstimate(c, estimateId, estimateOrNull); // the fleet views' rows, same transaction
             }
             return true;
         });
     }
 
-    boolean failIfRunning(String jobId, int attempt, String error, String detailsJsonOrNull, Instant now) {
+    @Override
+    public boolean failIfRunning(String jobId, int attempt, String error, String detailsJsonOrNull, Instant now) {
         Expect.notNull("error", error);
         return workerUpdatedOne(FAIL_IF_RUNNING, Sql.millis(now), detailsJsonOrNull, error, jobId, attempt);
     }
 
-    boolean retryIfRunning(String jobId, int attempt, String error, Instant now) {
+    @Override
+    public boolean retryIfRunning(String jobId, int attempt, String error, Instant now) {
         Expect.notNull("error", error);
         return workerUpdatedOne(RETRY_IF_RUNNING, maxAttempts, maxAttempts, Sql.millis(now), error, jobId, attempt);
     }
 
-    boolean reportProgress(String jobId, int attempt, int done, int total) {
+    @Override
+    public boolean reportProgress(String jobId, int attempt, int done, int total) {
         if (done < 0 || done > total) {
             throw new IllegalArgumentException("got progress " + done + "/" + total + ", expected 0 <= done <= total");
         }
         return workerUpdatedOne(REPORT_PROGRESS, done, total, jobId, attempt);
     }
 
-    int rescueStuck(Instant startedBefore) {
+    @Override
+    public int rescueStuck(Instant startedBefore) {
         return rescueStartedBefore(Sql.millis(startedBefore));
     }
 
@@ -151,29 +160,26 @@ final class SqliteJobs {
         return rescueStartedBefore(Long.MAX_VALUE);
     }
 
-    static int countQueued(Connection c) throws SQLException {
-        try (PreparedStatement ps = c.prepareStatement(COUNT_QUEUED)) {
-            return Sql.firstOrNull(ps, rs -> rs.getInt(1));
-        }
+    static int countQueued(Statements c) throws SQLException {
+        PreparedStatement ps = c.prepare(COUNT_QUEUED);
+        return Sql.firstOrNull(ps, rs -> rs.getInt(1));
     }
 
-    static String insertJob(Connection c, String kind, String traceIdOrNull, String paramsJsonOrNull, Instant now)
+    static String insertJob(Statements c, String kind, String traceIdOrNull, String paramsJsonOrNull, Instant now)
             throws SQLException {
         String id = Sql.newId();
-        try (PreparedStatement ps = Sql.bind(c.prepareStatement(INSERT_JOB),
-                id, kind, traceIdOrNull, paramsJsonOrNull, Sql.millis(now))) {
-            ps.executeUpdate();
-        }
+        PreparedStatement ps = Sql.bind(c.prepare(INSERT_JOB),
+                id, kind, traceIdOrNull, paramsJsonOrNull, Sql.millis(now));
+        ps.executeUpdate();
         return id;
     }
 
     private int rescueStartedBefore(long startedBeforeMillis) {
         long now = Sql.millis(clock.instant());
         return db.writeForWorker(c -> {
-            try (PreparedStatement ps = Sql.bind(c.prepareStatement(RESCUE_STUCK),
-                    maxAttempts, maxAttempts, now, RESCUE_MESSAGE, startedBeforeMillis)) {
-                return ps.executeUpdate();
-            }
+            PreparedStatement ps = Sql.bind(c.prepare(RESCUE_STUCK),
+                    maxAttempts, maxAttempts, now, RESCUE_MESSAGE, startedBeforeMillis);
+            return ps.executeUpdate();
         });
     }
 
@@ -182,10 +188,9 @@ final class SqliteJobs {
         return db.writeForWorker(c -> updatedOne(c, sql, values));
     }
 
-    private static boolean updatedOne(Connection c, String sql, Object... values) throws SQLException {
-        try (PreparedStatement ps = Sql.bind(c.prepareStatement(sql), values)) {
-            return ps.executeUpdate() == 1;
-        }
+    private static boolean updatedOne(Statements c, String sql, Object... values) throws SQLException {
+        PreparedStatement ps = Sql.bind(c.prepare(sql), values);
+        return ps.executeUpdate() == 1;
     }
 
     private static ClaimedJob claimedJob(ResultSet rs) throws SQLException {

@@ -1,6 +1,5 @@
 package backstate.store;
 
-import java.sql.Connection;
 import java.sql.PreparedStatement;
 import java.sql.ResultSet;
 import java.sql.SQLException;
@@ -9,7 +8,7 @@ import java.util.List;
 import java.util.Optional;
 
 /** Model families and versions: named statements and the transactions that use them. */
-final class SqliteModels {
+final class SqliteModels implements ModelCatalogue {
 
     private static final String VERSION_COLUMNS = "family, version, status, time_domain, states, outputs, inputs,"
             + " document_json, observability_json, created_at";
@@ -42,30 +41,32 @@ final class SqliteModels {
         this.db = db;
     }
 
-    boolean createFamily(String name, String description, Instant now) {
+    @Override
+    public boolean createFamily(String name, String description, Instant now) {
         Expect.notBlank("name", name);
         Expect.notNull("description", description);
         return db.write(c -> {
-            try (PreparedStatement ps = Sql.bind(c.prepareStatement(CREATE_FAMILY),
-                    name, description, Sql.millis(now))) {
-                return ps.executeUpdate() == 1;
-            }
+            PreparedStatement ps = Sql.bind(c.prepare(CREATE_FAMILY),
+                    name, description, Sql.millis(now));
+            return ps.executeUpdate() == 1;
         });
     }
 
-    Optional<FamilyRow> findFamily(String name) {
+    @Override
+    public Optional<FamilyRow> findFamily(String name) {
         return db.read(c -> Optional.ofNullable(findFamily(c, name)));
     }
 
-    List<FamilyRow> listFamilies() {
+    @Override
+    public List<FamilyRow> listFamilies() {
         return db.read(c -> {
-            try (PreparedStatement ps = c.prepareStatement(LIST_FAMILIES)) {
-                return Sql.list(ps, SqliteModels::familyRow);
-            }
+            PreparedStatement ps = c.prepare(LIST_FAMILIES);
+            return Sql.list(ps, SqliteModels::familyRow);
         });
     }
 
-    ModelVersionRow publishVersion(NewModelVersion v, Instant now) {
+    @Override
+    public ModelVersionRow publishVersion(NewModelVersion v, Instant now) {
         Expect.notNull("model version", v);
         return db.write(c -> {
             if (findFamily(c, v.family()) == null) {
@@ -76,45 +77,43 @@ final class SqliteModels {
         });
     }
 
-    Optional<ModelVersionRow> findVersion(String family, int version) {
+    @Override
+    public Optional<ModelVersionRow> findVersion(String family, int version) {
         return db.read(c -> Optional.ofNullable(findVersion(c, family, version)));
     }
 
-    List<ModelVersionRow> listVersions(String family) {
+    @Override
+    public List<ModelVersionRow> listVersions(String family) {
         return db.read(c -> {
-            try (PreparedStatement ps = Sql.bind(c.prepareStatement(LIST_VERSIONS), family)) {
-                return Sql.list(ps, SqliteModels::versionRow);
-            }
+            PreparedStatement ps = Sql.bind(c.prepare(LIST_VERSIONS), family);
+            return Sql.list(ps, SqliteModels::versionRow);
         });
     }
 
-    boolean retireVersion(String family, int version) {
+    @Override
+    public boolean retireVersion(String family, int version) {
         return db.write(c -> {
-            try (PreparedStatement ps = Sql.bind(c.prepareStatement(RETIRE_VERSION), family, version)) {
-                return ps.executeUpdate() == 1;
-            }
+            PreparedStatement ps = Sql.bind(c.prepare(RETIRE_VERSION), family, version);
+            return ps.executeUpdate() == 1;
         });
     }
 
     /** Looks a version up on the caller's connection, so a write transaction sees its own rows. */
-    static ModelVersionRow findVersion(Connection c, String family, int version) throws SQLException {
-        try (PreparedStatement ps = Sql.bind(c.prepareStatement(FIND_VERSION), family, version)) {
-            return Sql.firstOrNull(ps, SqliteModels::versionRow);
-        }
+    static ModelVersionRow findVersion(Statements c, String family, int version) throws SQLException {
+        PreparedStatement ps = Sql.bind(c.prepare(FIND_VERSION), family, version);
+        return Sql.firstOrNull(ps, SqliteModels::versionRow);
     }
 
-    private static FamilyRow findFamily(Connection c, String name) throws SQLException {
-        try (PreparedStatement ps = Sql.bind(c.prepareStatement(FIND_FAMILY), name)) {
-            return Sql.firstOrNull(ps, SqliteModels::familyRow);
-        }
+    private static FamilyRow findFamily(Statements c, String name) throws SQLException {
+        PreparedStatement ps = Sql.bind(c.prepare(FIND_FAMILY), name);
+        return Sql.firstOrNull(ps, SqliteModels::familyRow);
     }
 
-    private static int insertNextVersion(Connection c, NewModelVersion v, Instant now) throws SQLException {
-        try (PreparedStatement ps = Sql.bind(c.prepareStatement(PUBLISH_VERSION), v.family(), v.timeDomain(),
+    private static int insertNextVersion(Statements c, NewModelVersion v, Instant now) throws SQLException {
+        PreparedStatement ps = Sql.bind(c.prepare(PUBLISH_VERSION), v.family(), v.timeDomain(),
                 v.states(), v.outputs(), v.inputs(), v.documentJson(), v.observabilityJson(), Sql.millis(now),
-                v.family())) {
-            return Sql.firstOrNull(ps, rs -> rs.getInt("version"));
-        }
+                v.family());
+        return Sql.firstOrNull(ps, rs -> rs.getInt("version"));
     }
 
     private static FamilyRow familyRow(ResultSet rs) throws SQLException {

@@ -1,7 +1,6 @@
 package backstate.store;
 
 import com.fasterxml.jackson.core.io.JsonStringEncoder;
-import java.sql.Connection;
 import java.sql.PreparedStatement;
 import java.sql.ResultSet;
 import java.sql.SQLException;
@@ -16,7 +15,7 @@ import java.util.Optional;
  * the cancel request a running job polls, and finishing a running job as cancelled. Stateless:
  * every call names the connections it uses.
  */
-final class SqliteRegressions {
+final class SqliteRegressions implements RegressionStore {
 
     private static final String KIND_REGRESSION = "regression";
 
@@ -60,10 +59,14 @@ final class SqliteRegressions {
     private static final String CANCEL_IF_RUNNING = "UPDATE jobs SET state = 'cancelled', finished_at = ?,"
             + " result_json = ? WHERE id = ? AND kind = 'regression' AND state = 'running' AND attempt = ?";
 
-    private SqliteRegressions() {
+    private final SqliteConnections db;
+
+    SqliteRegressions(SqliteConnections db) {
+        this.db = db;
     }
 
-    static List<TraceRef> selectTraces(SqliteConnections db, TraceSelection s) {
+    @Override
+    public List<TraceRef> selectTraces(TraceSelection s) {
         Expect.notNull("selection", s);
         String units = s.unitsOrNull() == null ? null : jsonArray(s.unitsOrNull());
         Integer latest = s.latestPerUnitOrNull();
@@ -72,14 +75,14 @@ final class SqliteRegressions {
         TimeConditions.bind(values, s.times());
         Collections.addAll(values, latest, latest, s.maxRows());
         return db.read(c -> {
-            try (PreparedStatement ps = Sql.bind(c.prepareStatement(SELECT_TRACES), values.toArray())) {
-                return Sql.list(ps, rs -> new TraceRef(rs.getString("id"), rs.getString("unit_id"),
-                        rs.getString("family"), rs.getInt("version"), Sql.instant(rs, "received_at")));
-            }
+            PreparedStatement ps = Sql.bind(c.prepare(SELECT_TRACES), values.toArray());
+            return Sql.list(ps, rs -> new TraceRef(rs.getString("id"), rs.getString("unit_id"),
+                    rs.getString("family"), rs.getInt("version"), Sql.instant(rs, "received_at")));
         });
     }
 
-    static String createRegression(SqliteConnections db, NewRegression r, int maxQueued, Instant now)
+    @Override
+    public String createRegression(NewRegression r, int maxQueued, Instant now)
             throws QueueFullException {
         Expect.notNull("regression", r);
         Expect.atLeast("maxQueued", maxQueued, 0);
@@ -93,10 +96,9 @@ final class SqliteRegressions {
                 return null;
             }
             String jobId = SqliteJobs.insertJob(c, KIND_REGRESSION, null, r.paramsJson(), now);
-            try (PreparedStatement ps = Sql.bind(c.prepareStatement(INSERT_REGRESSION), jobId, r.family(),
-                    r.baseline(), r.candidate(), Sql.millis(now))) {
-                ps.executeUpdate();
-            }
+            PreparedStatement ps = Sql.bind(c.prepare(INSERT_REGRESSION), jobId, r.family(),
+                    r.baseline(), r.candidate(), Sql.millis(now));
+            ps.executeUpdate();
             return jobId;
         });
         if (id == null) {
@@ -105,15 +107,16 @@ final class SqliteRegressions {
         return id;
     }
 
-    static Optional<RegressionRow> findRegression(SqliteConnections db, String id) {
+    @Override
+    public Optional<RegressionRow> findRegression(String id) {
         return db.read(c -> {
-            try (PreparedStatement ps = Sql.bind(c.prepareStatement(FIND_REGRESSION), id)) {
-                return Optional.ofNullable(Sql.firstOrNull(ps, SqliteRegressions::regressionRow));
-            }
+            PreparedStatement ps = Sql.bind(c.prepare(FIND_REGRESSION), id);
+            return Optional.ofNullable(Sql.firstOrNull(ps, SqliteRegressions::regressionRow));
         });
     }
 
-    static RegressionPage listRegressions(SqliteConnections db, String familyOrNull, String cursorOrNull,
+    @Override
+    public RegressionPage listRegressions(String familyOrNull, String cursorOrNull,
                                           int limit) {
         Expect.atLeast("limit", limit, 1);
         // Same keyset shape as estimate history: (created_at, id) of the last row returned.
@@ -121,10 +124,9 @@ final class SqliteRegressions {
         Long afterMillis = after == null ? null : after.createdAtMillis();
         String afterId = after == null ? null : after.id();
         List<RegressionRow> rows = db.read(c -> {
-            try (PreparedStatement ps = Sql.bind(c.prepareStatement(LIST_REGRESSIONS), familyOrNull, familyOrNull,
-                    afterMillis, afterMillis, afterId, limit + 1)) {
-                return Sql.list(ps, SqliteRegressions::regressionRow);
-            }
+            PreparedStatement ps = Sql.bind(c.prepare(LIST_REGRESSIONS), familyOrNull, familyOrNull,
+                    afterMillis, afterMillis, afterId, limit + 1);
+            return Sql.list(ps, SqliteRegressions::regressionRow);
         });
         if (rows.size() <= limit) {
             return new RegressionPage(rows, null);
@@ -134,29 +136,30 @@ final class SqliteRegressions {
         return new RegressionPage(page, new EstimateCursor(Sql.millis(last.createdAt()), last.id()).encode());
     }
 
-    static boolean requestCancel(SqliteConnections db, String id, Instant now) {
+    @Override
+    public boolean requestRegressionCancel(String id, Instant now) {
         return db.write(c -> updatedOne(c, REQUEST_CANCEL, Sql.millis(now), id, id));
     }
 
-    static boolean cancelRequested(SqliteConnections db, String id) {
+    @Override
+    public boolean regressionCancelRequested(String id) {
         return db.read(c -> {
-            try (PreparedStatement ps = Sql.bind(c.prepareStatement(CANCEL_REQUESTED), id)) {
-                Boolean requested = Sql.firstOrNull(ps, rs -> rs.getBoolean(1));
-                return Boolean.TRUE.equals(requested);
-            }
+            PreparedStatement ps = Sql.bind(c.prepare(CANCEL_REQUESTED), id);
+            Boolean requested = Sql.firstOrNull(ps, rs -> rs.getBoolean(1));
+            return Boolean.TRUE.equals(requested);
         });
     }
 
-    static boolean cancelIfRunning(SqliteConnections db, String id, int attempt, String resultJsonOrNull,
+    @Override
+    public boolean cancelRegressionIfRunning(String id, int attempt, String resultJsonOrNull,
                                    Instant now) {
         return db.writeForWorker(
                 c -> updatedOne(c, CANCEL_IF_RUNNING, Sql.millis(now), resultJsonOrNull, id, attempt));
     }
 
-    private static boolean updatedOne(Connection c, String sql, Object... values) throws SQLException {
-        try (PreparedStatement ps = Sql.bind(c.prepareStatement(sql), values)) {
-            return ps.executeUpdate() == 1;
-        }
+    private static boolean updatedOne(Statements c, String sql, Object... values) throws SQLException {
+        PreparedStatement ps = Sql.bind(c.prepare(sql), values);
+        return ps.executeUpdate() == 1;
     }
 
     /** A JSON array of strings, for json_each. */

@@ -1,6 +1,5 @@
 package backstate.store;
 
-import java.sql.Connection;
 import java.sql.PreparedStatement;
 import java.sql.ResultSet;
 import java.sql.SQLException;
@@ -8,7 +7,7 @@ import java.time.Instant;
 import java.util.Optional;
 
 /** Trace submission: the trace, its queued estimate job and its idempotency key, written together. */
-final class SqliteSubmissions {
+final class SqliteSubmissions implements TraceIntakeStore {
 
     private static final String FIND_IDEMPOTENCY_KEY =
             "SELECT trace_id, job_id, fingerprint FROM idempotency_keys WHERE unit_id = ? AND key = ?";
@@ -26,7 +25,8 @@ final class SqliteSubmissions {
         this.db = db;
     }
 
-    Submission submitTrace(NewTrace trace, IdempotencyKey keyOrNull, int maxQueued, Instant now)
+    @Override
+    public Submission submitTrace(NewTrace trace, IdempotencyKey keyOrNull, int maxQueued, Instant now)
             throws QueueFullException {
         Expect.notNull("trace", trace);
         Expect.atLeast("maxQueued", maxQueued, 0);
@@ -40,11 +40,11 @@ final class SqliteSubmissions {
         return ((Accepted) outcome).submission();
     }
 
-    Optional<TraceRow> findTrace(String id) {
+    @Override
+    public Optional<TraceRow> findTrace(String id) {
         return db.read(c -> {
-            try (PreparedStatement ps = Sql.bind(c.prepareStatement(FIND_TRACE), id)) {
-                return Optional.ofNullable(Sql.firstOrNull(ps, SqliteSubmissions::traceRow));
-            }
+            PreparedStatement ps = Sql.bind(c.prepare(FIND_TRACE), id);
+            return Optional.ofNullable(Sql.firstOrNull(ps, SqliteSubmissions::traceRow));
         });
     }
 
@@ -65,7 +65,7 @@ final class SqliteSubmissions {
     private record KeyReused() implements Outcome {
     }
 
-    private static Outcome submitInTransaction(Connection c, NewTrace trace, IdempotencyKey keyOrNull, int maxQueued,
+    private static Outcome submitInTransaction(Statements c, NewTrace trace, IdempotencyKey keyOrNull, int maxQueued,
                                               Instant now) throws SQLException {
         if (keyOrNull != null) {
             Outcome earlier = findByKey(c, trace.unitId(), keyOrNull);
@@ -87,36 +87,33 @@ final class SqliteSubmissions {
     }
 
     /** The first submission made with this key, replayed; refused if it was another request; null if none. */
-    private static Outcome findByKey(Connection c, String unitId, IdempotencyKey key) throws SQLException {
-        try (PreparedStatement ps = Sql.bind(c.prepareStatement(FIND_IDEMPOTENCY_KEY), unitId, key.key())) {
-            return Sql.firstOrNull(ps, rs -> key.sameRequestAs(rs.getBytes("fingerprint"))
-                    ? new Accepted(new Submission(rs.getString("trace_id"), rs.getString("job_id"), true))
-                    : new KeyReused());
-        }
+    private static Outcome findByKey(Statements c, String unitId, IdempotencyKey key) throws SQLException {
+        PreparedStatement ps = Sql.bind(c.prepare(FIND_IDEMPOTENCY_KEY), unitId, key.key());
+        return Sql.firstOrNull(ps, rs -> key.sameRequestAs(rs.getBytes("fingerprint"))
+                ? new Accepted(new Submission(rs.getString("trace_id"), rs.getString("job_id"), true))
+                : new KeyReused());
     }
 
-    private static void requirePublishedVersion(Connection c, NewTrace trace) throws SQLException {
+    private static void requirePublishedVersion(Statements c, NewTrace trace) throws SQLException {
         if (SqliteModels.findVersion(c, trace.family(), trace.version()) == null) {
             throw new IllegalArgumentException("got model " + trace.family() + " version " + trace.version()
                     + ", expected a published version");
         }
     }
 
-    private static String insertTrace(Connection c, NewTrace t, Instant now) throws SQLException {
+    private static String insertTrace(Statements c, NewTrace t, Instant now) throws SQLException {
         String id = Sql.newId();
-        try (PreparedStatement ps = Sql.bind(c.prepareStatement(INSERT_TRACE), id, t.unitId(), t.family(),
-                t.version(), Sql.millis(now), t.samples(), t.windowStart(), t.windowEnd(), t.payload())) {
-            ps.executeUpdate();
-        }
+        PreparedStatement ps = Sql.bind(c.prepare(INSERT_TRACE), id, t.unitId(), t.family(),
+                t.version(), Sql.millis(now), t.samples(), t.windowStart(), t.windowEnd(), t.payload());
+        ps.executeUpdate();
         return id;
     }
 
-    private static void insertKey(Connection c, String unitId, IdempotencyKey key, String traceId, String jobId,
+    private static void insertKey(Statements c, String unitId, IdempotencyKey key, String traceId, String jobId,
                                   Instant now) throws SQLException {
-        try (PreparedStatement ps = Sql.bind(c.prepareStatement(INSERT_IDEMPOTENCY_KEY),
-                unitId, key.key(), traceId, jobId, Sql.millis(now), key.fingerprint())) {
-            ps.executeUpdate();
-        }
+        PreparedStatement ps = Sql.bind(c.prepare(INSERT_IDEMPOTENCY_KEY),
+                unitId, key.key(), traceId, jobId, Sql.millis(now), key.fingerprint());
+        ps.executeUpdate();
     }
 
     private static TraceRow traceRow(ResultSet rs) throws SQLException {

@@ -2,31 +2,28 @@ package backstate.store;
 
 import java.sql.Connection;
 import java.sql.SQLException;
-import java.sql.Statement;
 import java.util.ArrayDeque;
 import java.util.ArrayList;
 import java.util.List;
 import java.util.Queue;
+import java.util.concurrent.CountDownLatch;
 import java.util.concurrent.locks.Condition;
 import java.util.concurrent.locks.ReentrantLock;
+import java.util.function.BooleanSupplier;
 
 /**
- * The one write connection, and group commit on it: the writes waiting at any moment share one
- * {@code COMMIT} and its fsync.
+ * The one write connection, owned by one thread ({@code backstate-writer}) with its prepared
+ * statements ({@link Statements}); callers hand it work and wait for the outcome.
  *
  * <p>Group commit as in Gray and Reuter, <i>Transaction Processing: Concepts and Techniques</i>
- * (1993), §9.4 (cited from memory): the log force is the cost of a commit, so the commits that
- * arrive while one force is under way wait and share the next. Here every write joins a queue,
- * and one caller at a time leads: it takes everything waiting (at most {@link #MAX_BATCH}), runs
- * it in one {@code BEGIN IMMEDIATE … COMMIT}, each caller's work inside its own
- * {@code SAVEPOINT}, and answers the callers only after {@code COMMIT} returned. A leader whose
- * own write is answered hands the lead to the first caller still waiting, or gives it up when
- * none is; so a lone write runs on its caller's thread at once, with no timer and no hand-off,
- * and under load each caller leads at most about one batch.
+ * (1993), §9.4 (cited from memory): the log force is the cost of a commit, so the writes that
+ * arrive while one commit is under way share the next. The thread takes everything waiting (at
+ * most {@link #MAX_BATCH}), runs it in one {@code BEGIN IMMEDIATE … COMMIT}, each request's work
+ * inside its own {@code SAVEPOINT}, and answers the callers only after {@code COMMIT} returned.
  *
  * <ul>
- *   <li>Durability is unchanged: with {@code synchronous=FULL} the COMMIT fsyncs the WAL, and no
- *       caller learns of success before that, so an acknowledged write survives power loss.</li>
+ *   <li>Durability: with {@code synchronous=FULL} the COMMIT fsyncs the WAL, and no caller learns
+ *       of success before that, so an acknowledged write survives power loss.</li>
  *   <li>Isolation between callers: work that throws is rolled back to its savepoint and its
  *       caller gets its own exception; the rest of the batch goes on. The outcome is the same as
  *       running the batch's work one transaction at a time, in batch order, minus the failed
@@ -34,16 +31,17 @@ import java.util.concurrent.locks.ReentrantLock;
  *   <li>If {@code BEGIN} or {@code COMMIT} fails, or SQLite ends the transaction by itself (it
  *       may after {@code SQLITE_FULL}, {@code SQLITE_IOERR}, {@code SQLITE_BUSY} or
  *       {@code SQLITE_NOMEM}; https://sqlite.org/lang_transaction.html), the whole batch is
- *       rolled back and every caller gets that failure, translated as before (work that had
- *       failed on its own keeps its own exception); no caller has been told anything else.</li>
- *   <li>Two lanes: the job queue's consumers ({@link #writeForWorker}) go ahead of clients in
- *       every batch, so a burst of posts cannot starve the workers that drain the queue. Each
- *       lane is first in, first out.</li>
+ *       rolled back and every caller gets that failure (work that had failed on its own keeps
+ *       its own exception); no caller has been told anything else.</li>
+ *   <li>Priority: two lanes, each first in, first out. The job queue's consumers
+ *       ({@link #writeForWorker}) go ahead of clients in every batch, so a burst of posts cannot
+ *       starve the workers that drain the queue.</li>
+ *   <li>Shutdown: {@link #close} refuses new work, lets the thread drain everything already
+ *       handed over, then closes the statements and the connection.</li>
  * </ul>
  *
- * <p>Only the leader touches the connection (sqlite-jdbc connections are not thread-safe), and
- * the lead passes under this class's lock. Callers wait without being interruptible, as they did
- * on the lock this replaced: once queued, work is done, and its caller hears how it went.
+ * <p>Callers wait without being interruptible: once handed over, work is done, and its caller
+ * hears how it went (an interrupt is kept for the caller to see afterwards).
  */
 final class SqliteWriter implements AutoCloseable {
 
@@ -55,27 +53,30 @@ final class SqliteWriter implements AutoCloseable {
     static final int MAX_BATCH = 64;
 
     private final Connection connection;
+    private final Statements statements;
+    private final Thread thread;
     private final ReentrantLock lock = new ReentrantLock();
-    private final Condition idle = lock.newCondition();
-    private final Queue<Request> workers = new ArrayDeque<>();
-    private final Queue<Request> clients = new ArrayDeque<>();
-    /** True while some caller leads, or has been asked to; never false while writes wait. */
-    private boolean led;
+    private final Condition arrived = lock.newCondition();
+    private final Queue<Request<?>> workers = new ArrayDeque<>();
+    private final Queue<Request<?>> clients = new ArrayDeque<>();
     private boolean closed;
-    private volatile Thread leader;
 
     SqliteWriter(Connection connection) {
         this.connection = connection;
+        this.statements = new Statements(connection);
+        this.thread = new Thread(this::commitUntilClosed, "backstate-writer");
+        thread.setDaemon(true);
+        thread.start();
     }
 
     /** Runs work in a write transaction, committed before this returns, or throws its failure. */
     <T> T write(SqlWork<T> work) {
-        return run(clients, work);
+        return submit(clients, work).outcome();
     }
 
     /** As {@link #write}, ahead of every client write waiting for the same batch. */
     <T> T writeForWorker(SqlWork<T> work) {
-        return run(workers, work);
+        return submit(workers, work).outcome();
     }
 
     /** How many writes are waiting for a batch (not counting those being committed); for tests. */
@@ -88,154 +89,138 @@ final class SqliteWriter implements AutoCloseable {
         }
     }
 
-    /** Refuses new work, waits for the writes already queued, then closes the connection. */
+    /** Refuses new work, waits until the writes already handed over are done, then closes the connection. */
     @Override
     public void close() {
         lock.lock();
         try {
             closed = true;
-            while (led) {
-                idle.awaitUninterruptibly();
-            }
+            arrived.signalAll();
         } finally {
             lock.unlock();
         }
-        try {
-            connection.close();
-        } catch (SQLException ignored) {
-            // Closing is best effort: every batch is already committed or rolled back.
+        if (Thread.currentThread() == thread) {
+            return; // closed from inside a write: the thread ends after this batch
+        }
+        awaitUninterruptibly(() -> !thread.isAlive(), thread::join);
+    }
+
+    /** A blocking wait that an interrupt may cut short. */
+    @FunctionalInterface
+    private interface Wait {
+        void await() throws InterruptedException;
+    }
+
+    /** Waits until {@code done}, through interrupts, which are kept for the caller to see afterwards. */
+    private static void awaitUninterruptibly(BooleanSupplier done, Wait wait) {
+        boolean interrupted = false;
+        while (!done.getAsBoolean()) {
+            try {
+                wait.await();
+            } catch (InterruptedException e) {
+                interrupted = true;
+            }
+        }
+        if (interrupted) {
+            Thread.currentThread().interrupt();
         }
     }
 
     /** One caller's work, and where its outcome waits until its batch has committed. */
-    private static final class Request {
-        final SqlWork<?> work;
-        Object result;
-        Throwable failure;
-        private boolean answered;
-        private boolean askedToLead;
+    private static final class Request<T> {
+        final SqlWork<T> work;
+        private final CountDownLatch answered = new CountDownLatch(1);
+        private T result;
+        private Throwable failure;
 
-        Request(SqlWork<?> work) {
+        Request(SqlWork<T> work) {
             this.work = work;
         }
 
-        synchronized void answer() {
-            answered = true;
-            notifyAll();
+        /** Runs the work on the writer thread, keeping its result or its failure. */
+        void run(Statements s) throws SQLException {
+            result = work.run(s);
         }
 
-        /** Fails the request with its batch, unless its own work failed first or it was answered. */
-        synchronized void failIfUnanswered(Throwable batchFailure) {
-            if (!answered) {
-                failure = failure != null ? failure : batchFailure;
-                answer();
+        boolean failed() {
+            return failure != null;
+        }
+
+        void fail(Throwable t) {
+            failure = t instanceof SQLException e ? SqliteErrors.translate(e) : t;
+        }
+
+        /** Fails the request with its batch, unless its own work failed first. */
+        void failWithBatch(Throwable batchFailure) {
+            if (failure == null) {
+                fail(batchFailure);
             }
+            answered.countDown();
         }
 
-        synchronized boolean isAnswered() {
-            return answered;
+        void answer() {
+            answered.countDown();
         }
 
-        synchronized void askToLead() {
-            askedToLead = true;
-            notifyAll();
-        }
-
-        /** Waits, through interrupts (kept for the caller), until answered: false; or asked to lead: true. */
-        synchronized boolean awaitAnswerOrLead() {
-            boolean interrupted = false;
-            while (!answered && !askedToLead) {
-                try {
-                    wait();
-                } catch (InterruptedException e) {
-                    interrupted = true;
-                }
+        /** Waits, through interrupts (kept for the caller), for the answer; returns or throws it. */
+        T outcome() {
+            awaitUninterruptibly(() -> answered.getCount() == 0, answered::await);
+            if (failure instanceof RuntimeException e) {
+                throw e;
             }
-            if (interrupted) {
-                Thread.currentThread().interrupt();
+            if (failure != null) {
+                throw (Error) failure;
             }
-            boolean lead = askedToLead;
-            askedToLead = false;
-            return lead;
+            return result;
         }
     }
 
-    @SuppressWarnings("unchecked")
-    private <T> T run(Queue<Request> lane, SqlWork<T> work) {
-        if (Thread.currentThread() == leader) {
+    private <T> Request<T> submit(Queue<Request<?>> lane, SqlWork<T> work) {
+        if (Thread.currentThread() == thread) {
             throw new IllegalStateException("got a write inside a write, expected one transaction at a time");
         }
-        Request mine = new Request(work);
-        boolean lead = enqueue(lane, mine);
-        while (lead || mine.awaitAnswerOrLead()) {
-            lead(mine);
-            lead = false;
-        }
-        if (mine.failure instanceof RuntimeException e) {
-            throw e;
-        }
-        if (mine.failure != null) {
-            throw (Error) mine.failure;
-        }
-        return (T) mine.result;
-    }
-
-    /** Queues the request; returns true if nobody leads, so that its caller must. */
-    private boolean enqueue(Queue<Request> lane, Request r) {
+        Request<T> r = new Request<>(work);
         lock.lock();
         try {
             if (closed) {
                 throw new IllegalStateException("got a call on a closed store, expected an open one");
             }
             lane.add(r);
-            boolean lead = !led;
-            led = true;
-            return lead;
+            arrived.signal();
         } finally {
             lock.unlock();
         }
+        return r;
     }
 
-    /** Commits batches until {@code mine} is answered, then passes the lead on. */
-    private void lead(Request mine) {
-        leader = Thread.currentThread();
+    private void commitUntilClosed() {
         try {
-            while (!mine.isAnswered()) {
-                List<Request> batch = nextBatch();
+            for (List<Request<?>> batch = nextBatch(); !batch.isEmpty(); batch = nextBatch()) {
                 try {
                     commit(batch);
                 } catch (RuntimeException | Error e) {
-                    batch.forEach(r -> r.failIfUnanswered(e)); // a bug here must not leave callers waiting
+                    batch.forEach(r -> r.failWithBatch(e)); // a bug here must not leave callers waiting
                 }
             }
         } finally {
-            leader = null;
-            passLead();
-        }
-    }
-
-    /** To the first write waiting, in batch order; or, with none waiting, nobody leads. */
-    private void passLead() {
-        lock.lock();
-        try {
-            Request next = workers.isEmpty() ? clients.peek() : workers.peek();
-            if (next != null) {
-                next.askToLead();
-            } else {
-                led = false;
-                idle.signalAll();
+            statements.close();
+            try {
+                connection.close();
+            } catch (SQLException ignored) {
+                // Closing is best effort: every batch is already committed or rolled back.
             }
-        } finally {
-            lock.unlock();
         }
     }
 
-    /** Workers' writes first, then clients', up to the bound. */
-    private List<Request> nextBatch() {
+    /** Waits for work; then workers' writes first, then clients', up to the bound. Empty once closed and drained. */
+    private List<Request<?>> nextBatch() {
         lock.lock();
         try {
-            List<Request> batch = new ArrayList<>();
-            for (Queue<Request> lane : List.of(workers, clients)) {
+            while (workers.isEmpty() && clients.isEmpty() && !closed) {
+                arrived.awaitUninterruptibly();
+            }
+            List<Request<?>> batch = new ArrayList<>();
+            for (Queue<Request<?>> lane : List.of(workers, clients)) {
                 while (batch.size() < MAX_BATCH && !lane.isEmpty()) {
                     batch.add(lane.remove());
                 }
@@ -246,23 +231,21 @@ final class SqliteWriter implements AutoCloseable {
         }
     }
 
-    private void commit(List<Request> batch) {
+    private void commit(List<Request<?>> batch) {
         try {
             // BEGIN IMMEDIATE is SQLite's; PostgreSQL's plain BEGIN plus row locks does the same job.
-            execute("BEGIN IMMEDIATE");
+            statements.execute("BEGIN IMMEDIATE");
             try {
-                for (Request r : batch) {
+                for (Request<?> r : batch) {
                     runInSavepoint(r);
                 }
-                execute("COMMIT");
+                statements.execute("COMMIT");
             } catch (SQLException | RuntimeException | Error e) {
                 rollbackAfter(e);
                 throw e;
             }
         } catch (SQLException e) {
-            for (Request r : batch) {
-                r.failIfUnanswered(SqliteErrors.translate(e));
-            }
+            batch.forEach(r -> r.failWithBatch(e));
             return;
         }
         batch.forEach(Request::answer);
@@ -272,21 +255,22 @@ final class SqliteWriter implements AutoCloseable {
      * Runs one request's work between SAVEPOINT and RELEASE, recording its result or failure.
      * Throws only when the transaction itself is lost, and then the whole batch fails.
      */
-    private void runInSavepoint(Request r) throws SQLException {
-        execute("SAVEPOINT request");
+    private void runInSavepoint(Request<?> r) throws SQLException {
+        statements.execute("SAVEPOINT request");
         try {
-            r.result = r.work.run(connection);
-            execute("RELEASE request");
+            r.run(statements);
+            statements.execute("RELEASE request");
         } catch (SQLException | RuntimeException | Error e) {
-            r.failure = e instanceof SQLException s ? SqliteErrors.translate(s) : e;
+            r.fail(e);
+            statements.close(); // SQLite may have left a statement mid-step
             rollBackRequest(e);
         }
     }
 
     private void rollBackRequest(Throwable failure) throws SQLException {
         try {
-            execute("ROLLBACK TO request");
-            execute("RELEASE request");
+            statements.execute("ROLLBACK TO request");
+            statements.execute("RELEASE request");
         } catch (SQLException lost) {
             // SQLite has rolled the whole transaction back by itself, savepoint and all, so the
             // batch's earlier work is gone too: fail the batch with the cause, if it was SQL.
@@ -300,17 +284,11 @@ final class SqliteWriter implements AutoCloseable {
 
     private void rollbackAfter(Throwable failure) {
         try {
-            execute("ROLLBACK");
+            statements.execute("ROLLBACK");
         } catch (SQLException rollbackFailure) {
             // After SQLite rolled back by itself, ROLLBACK reports that no transaction is
             // active: keep it, but as a footnote.
             failure.addSuppressed(rollbackFailure);
-        }
-    }
-
-    private void execute(String sql) throws SQLException {
-        try (Statement s = connection.createStatement()) {
-            s.execute(sql);
         }
     }
 }

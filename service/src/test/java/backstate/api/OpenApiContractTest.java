@@ -8,7 +8,7 @@ import static org.junit.jupiter.api.Assertions.assertTrue;
 import backstate.config.Settings;
 import backstate.formats.Json;
 import backstate.formats.Limits;
-import backstate.store.SqliteStore;
+import backstate.store.SqliteDatabase;
 import com.fasterxml.jackson.databind.JsonNode;
 import com.fasterxml.jackson.databind.ObjectMapper;
 import io.micrometer.prometheusmetrics.PrometheusConfig;
@@ -966,15 +966,15 @@ class OpenApiContractTest {
      * until a test acts on them: cancelling succeeds, and a queue limit of 1 fills deterministically.
      */
     private static final class QueueOnlyServer implements AutoCloseable {
-        final SqliteStore store;
+        final SqliteDatabase store;
         final ApiServer api;
 
         QueueOnlyServer(Path folder, int maxQueued) {
             Clock clock = Clock.systemUTC();
-            this.store = new SqliteStore(folder.resolve("queue.db"), clock);
+            this.store = new SqliteDatabase(folder.resolve("queue.db"), clock);
             this.api = new ApiServer(new ApiServer.Wiring(store, Json.mapper(Limits.DEFAULTS), clock,
                     new PrometheusMeterRegistry(PrometheusConfig.DEFAULT), Limits.DEFAULTS, Settings.DEFAULT_MAX_BODY,
-                    maxQueued, store::queuedCount, () -> { })).start("127.0.0.1", 0);
+                    maxQueued, store.queue()::queuedCount, () -> { })).start("127.0.0.1", 0);
         }
 
         String base() {

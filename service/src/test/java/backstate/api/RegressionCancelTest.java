@@ -14,7 +14,7 @@ import backstate.jobs.JobOutcome;
 import backstate.jobs.JobQueue;
 import backstate.jobs.RegressionJobHandler;
 import backstate.jobs.StoredTraceSolver;
-import backstate.store.SqliteStore;
+import backstate.store.SqliteDatabase;
 import com.fasterxml.jackson.databind.JsonNode;
 import com.fasterxml.jackson.databind.ObjectMapper;
 import io.micrometer.prometheusmetrics.PrometheusConfig;
@@ -49,16 +49,16 @@ class RegressionCancelTest {
 
     final ObjectMapper mapper = Json.mapper(Limits.DEFAULTS);
     final HttpClient http = HttpClient.newHttpClient();
-    SqliteStore store;
+    SqliteDatabase store;
     ApiServer api;
     String base;
 
     @BeforeEach
     void start(@TempDir Path dir) throws Exception {
-        store = new SqliteStore(dir.resolve("test.db"), Clock.systemUTC());
+        store = new SqliteDatabase(dir.resolve("test.db"), Clock.systemUTC());
         api = new ApiServer(new ApiServer.Wiring(store, mapper, Clock.systemUTC(),
                 new PrometheusMeterRegistry(PrometheusConfig.DEFAULT), Limits.DEFAULTS, Settings.DEFAULT_MAX_BODY,
-                10_000, store::queuedCount, () -> { })).start("127.0.0.1", 0);
+                10_000, store.queue()::queuedCount, () -> { })).start("127.0.0.1", 0);
         base = "http://127.0.0.1:" + api.port();
         new DemoLoader(base).load(); // 20 traces; their estimate jobs stay queued
     }
@@ -115,7 +115,7 @@ class RegressionCancelTest {
         assertFalse(result.has("verdict"));
         assertFalse(run.has("pass"));
         // What the worker's runner does next with the handler's outcome is refused: the job stays cancelled.
-        assertFalse(store.failIfRunning(id, job.attempt(), outcome.toString(), null, Clock.systemUTC().instant()));
+        assertFalse(store.queue().failIfRunning(id, job.attempt(), outcome.toString(), null, Clock.systemUTC().instant()));
         assertEquals("cancelled", get("/v1/regressions/" + id).get("state").asText());
     }
 
@@ -125,7 +125,7 @@ class RegressionCancelTest {
         claim(id);
         post("/v1/regressions/" + id + "/cancel", 202);
         // The worker died: rescue puts the job back in the queue, and the next attempt claims it.
-        assertTrue(store.rescueStuck(Clock.systemUTC().instant().plus(Duration.ofMinutes(1))) >= 1);
+        assertTrue(store.queue().rescueStuck(Clock.systemUTC().instant().plus(Duration.ofMinutes(1))) >= 1);
         ClaimedJob second = claim(id);
         assertEquals(2, second.attempt());
         handler(reportingTo(done -> { })).handle(second);
@@ -147,7 +147,7 @@ class RegressionCancelTest {
         }
         assertEquals(expected, progress);
         JobOutcome.Succeeded done = assertInstanceOf(JobOutcome.Succeeded.class, outcome);
-        assertTrue(store.completeIfRunning(id, job.attempt(), null, done.resultJsonOrNull(), Clock.systemUTC().instant()));
+        assertTrue(store.queue().completeIfRunning(id, job.attempt(), null, done.resultJsonOrNull(), Clock.systemUTC().instant()));
         JsonNode run = get("/v1/regressions/" + id);
         assertEquals("succeeded", run.get("state").asText());
         assertEquals(TRACES, run.get("progress").get("done").asInt());
@@ -157,7 +157,8 @@ class RegressionCancelTest {
     }
 
     private RegressionJobHandler handler(JobQueue queue) {
-        return new RegressionJobHandler(store, queue, new StoredTraceSolver(store, mapper, Limits.DEFAULTS), mapper,
+        return new RegressionJobHandler(store.regressions(), store.models(), queue,
+                new StoredTraceSolver(store.traces(), store.models(), mapper, Limits.DEFAULTS), mapper,
                 Limits.DEFAULTS, Clock.systemUTC());
     }
 
@@ -167,7 +168,7 @@ class RegressionCancelTest {
                 (proxy, method, args) -> {
                     Object answer;
                     try {
-                        answer = method.invoke(store, args);
+                        answer = method.invoke(store.queue(), args);
                     } catch (InvocationTargetException e) {
                         throw e.getCause();
                     }
@@ -187,7 +188,7 @@ class RegressionCancelTest {
 
     /** Claims every queued job (the demo's estimate jobs among them) and returns the run's. */
     private ClaimedJob claim(String id) {
-        return store.claimNext(1000, Clock.systemUTC().instant()).stream().filter(j -> j.id().equals(id))
+        return store.queue().claimNext(1000, Clock.systemUTC().instant()).stream().filter(j -> j.id().equals(id))
                 .findFirst().orElseThrow(() -> new AssertionError("run " + id + " was not queued"));
     }
 

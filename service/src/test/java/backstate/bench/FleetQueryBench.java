@@ -12,7 +12,7 @@ import backstate.store.FleetBulkLoad;
 import backstate.store.FleetSummaryQuery;
 import backstate.store.TimeFilter;
 import backstate.store.NewModelVersion;
-import backstate.store.SqliteStore;
+import backstate.store.SqliteDatabase;
 import backstate.store.UnitFilter;
 import backstate.store.UnitPage;
 import backstate.store.UnitSort;
@@ -110,11 +110,11 @@ public final class FleetQueryBench {
         ObjectMapper mapper = Json.mapper(limits);
         ModelDocument v1 = mapper.readValue(testData.resolve("demo/models/reefer-40.v1.json").toFile(), ModelDocument.class);
         ModelDocument v2 = mapper.readValue(testData.resolve("demo/models/reefer-40.v2.json").toFile(), ModelDocument.class);
-        try (SqliteStore store = new SqliteStore(database, Clock.systemUTC())) {
-            store.createFamily(FAMILY, "fleet bench", end);
+        try (SqliteDatabase store = new SqliteDatabase(database, Clock.systemUTC())) {
+            store.models().createFamily(FAMILY, "fleet bench", end);
             for (ModelDocument d : List.of(v1, v2)) {
                 var model = d.toModel(limits);
-                store.publishVersion(new NewModelVersion(FAMILY, d.timeDomain(), model.states(), model.outputs(),
+                store.models().publishVersion(new NewModelVersion(FAMILY, d.timeDomain(), model.states(), model.outputs(),
                         model.inputs(), mapper.writeValueAsString(d), "{}"), end);
             }
         }
@@ -219,35 +219,35 @@ public final class FleetQueryBench {
         Instant dayAgo = end.minus(Duration.ofDays(1));
         Instant weekAgo = end.minus(Duration.ofDays(7));
         String middle = unitId(units / 2);
-        try (SqliteStore store = new SqliteStore(database, Clock.systemUTC())) {
+        try (SqliteDatabase store = new SqliteDatabase(database, Clock.systemUTC())) {
             Map<Integer, List<String>> both = new LinkedHashMap<>();
             both.put(1, List.of("return_air", "supply_air"));
             both.put(2, List.of("return_air", "supply_air"));
             Map<Integer, List<String>> v2 = Map.of(2, List.of("return_air", "supply_air"));
             Instant stale = Instant.now().minus(Duration.ofHours(24));
             time("store: summary, last 24 h, both versions", units + " estimates",
-                    () -> store.fleetSummary(new FleetSummaryQuery(FAMILY, both, TimeFilter.recorded(dayAgo, null), null, stale, 50)));
+                    () -> store.fleet().fleetSummary(new FleetSummaryQuery(FAMILY, both, TimeFilter.recorded(dayAgo, null), null, stale, 50)));
             time("store: summary, last 7 days, both versions", 7 * units + " estimates",
-                    () -> store.fleetSummary(new FleetSummaryQuery(FAMILY, both, TimeFilter.recorded(weekAgo, null), null, stale, 50)));
+                    () -> store.fleet().fleetSummary(new FleetSummaryQuery(FAMILY, both, TimeFilter.recorded(weekAgo, null), null, stale, 50)));
             time("store: summary, all time, both versions", estimates + " estimates",
-                    () -> store.fleetSummary(new FleetSummaryQuery(FAMILY, both, TimeFilter.NONE, null, stale, 50)));
+                    () -> store.fleet().fleetSummary(new FleetSummaryQuery(FAMILY, both, TimeFilter.NONE, null, stale, 50)));
             time("store: summary, all time, version 2", Math.round(estimates * (1 - VERSION_1_SHARE)) + " estimates",
-                    () -> store.fleetSummary(new FleetSummaryQuery(FAMILY, v2, TimeFilter.NONE, 2, stale, 50)));
+                    () -> store.fleet().fleetSummary(new FleetSummaryQuery(FAMILY, v2, TimeFilter.NONE, 2, stale, 50)));
             time("store: units, worst χ²/dof first, 50", units + " units",
-                    () -> store.fleetUnits(new UnitFilter(FAMILY, null, null), UnitSort.CHI_SQUARE_DESC, null, 50));
-            UnitPage first = store.fleetUnits(new UnitFilter(FAMILY, null, null), UnitSort.CHI_SQUARE_DESC, null, 50);
+                    () -> store.fleet().fleetUnits(new UnitFilter(FAMILY, null, null), UnitSort.CHI_SQUARE_DESC, null, 50));
+            UnitPage first = store.fleet().fleetUnits(new UnitFilter(FAMILY, null, null), UnitSort.CHI_SQUARE_DESC, null, 50);
             time("store: units, worst first, next page (cursor)", units + " units",
-                    () -> store.fleetUnits(new UnitFilter(FAMILY, null, null), UnitSort.CHI_SQUARE_DESC, first.nextCursorOrNull(), 50));
+                    () -> store.fleet().fleetUnits(new UnitFilter(FAMILY, null, null), UnitSort.CHI_SQUARE_DESC, first.nextCursorOrNull(), 50));
             time("store: units of version 1, model_mismatch, worst first", units + " units",
-                    () -> store.fleetUnits(new UnitFilter(FAMILY, 1, "model_mismatch"), UnitSort.CHI_SQUARE_DESC, null, 50));
+                    () -> store.fleet().fleetUnits(new UnitFilter(FAMILY, 1, "model_mismatch"), UnitSort.CHI_SQUARE_DESC, null, 50));
             time("store: units by unit ID, 500", units + " units",
-                    () -> store.fleetUnits(new UnitFilter(FAMILY, null, null), UnitSort.UNIT_ID, null, 500));
+                    () -> store.fleet().fleetUnits(new UnitFilter(FAMILY, null, null), UnitSort.UNIT_ID, null, 500));
             time("store: units, stalest first, 50", units + " units",
-                    () -> store.fleetUnits(new UnitFilter(FAMILY, null, null), UnitSort.LATEST, null, 50));
+                    () -> store.fleet().fleetUnits(new UnitFilter(FAMILY, null, null), UnitSort.LATEST, null, 50));
             time("store: trend of one state, 100 points", perUnit + " estimates",
-                    () -> store.stateTrend(middle, "cargo_core", FAMILY, null, TimeFilter.NONE, 100));
+                    () -> store.fleet().stateTrend(middle, "cargo_core", FAMILY, null, TimeFilter.NONE, 100));
             time("store: trend of one state, version 1 only", perUnit + " estimates",
-                    () -> store.stateTrend(middle, "cargo_core", FAMILY, 1, TimeFilter.NONE, 100));
+                    () -> store.fleet().stateTrend(middle, "cargo_core", FAMILY, 1, TimeFilter.NONE, 100));
             percentileRoutes(estimates);
         }
         http(dayAgo, middle);
@@ -329,8 +329,6 @@ public final class FleetQueryBench {
         statements.put("trend", "SELECT e.id, s.value FROM estimates e JOIN estimate_states s ON s.estimate_id = e.id"
                 + " AND s.state = 'cargo_core' WHERE e.unit_id = 'RCX-00001' AND e.family = 'reefer-40'"
                 + " ORDER BY e.window_start DESC, e.created_at DESC, e.id DESC LIMIT 100");
-        statements.put("write path: states of one job", "INSERT INTO estimate_states SELECT estimate_id, state, value,"
-                + " standard_error, lower, upper FROM estimate_document_states WHERE job_id = 'x'");
         System.out.println("Query plans (EXPLAIN QUERY PLAN):");
         try (Connection c = DriverManager.getConnection("jdbc:sqlite:" + database); Statement s = c.createStatement()) {
             for (Map.Entry<String, String> e : statements.entrySet()) {

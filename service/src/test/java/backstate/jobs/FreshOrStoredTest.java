@@ -61,7 +61,7 @@ class FreshOrStoredTest {
     void a_long_trace_solved_ahead_equals_the_solve_of_its_stored_row() throws Exception {
         ModelDocument model = mapper.readValue(DEMO.resolve("models/reefer-40.v1.json").toFile(), ModelDocument.class);
         CheckedModel checked = CheckedModel.of(model, Limits.DEFAULTS);
-        StoredTraceSolver solver = new StoredTraceSolver(null, mapper, Limits.DEFAULTS);
+        StoredTraceSolver solver = new StoredTraceSolver(null, null, mapper, Limits.DEFAULTS);
         byte[] csv = new ReeferTraces(DEMO.getParent()).csv(StoredTraceSolver.SOLVE_AHEAD_SAMPLES, 7);
         ParsedTrace parsed = new TraceReader(Limits.DEFAULTS).readCsv(new ByteArrayInputStream(csv), model, TraceOptions.NONE);
 

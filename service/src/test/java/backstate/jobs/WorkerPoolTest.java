@@ -6,8 +6,7 @@ import static org.junit.jupiter.api.Assertions.assertFalse;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
 import backstate.store.JobRow;
-import backstate.store.NewEstimate;
-import backstate.store.SqliteStore;
+import backstate.store.SqliteDatabase;
 import backstate.store.StoreFixture;
 import backstate.store.StoreTestBase;
 import backstate.store.Submission;
@@ -54,7 +53,7 @@ class WorkerPoolTest extends StoreTestBase {
             }
             runs.computeIfAbsent(job.id(), id -> new AtomicInteger()).incrementAndGet();
             allRun.countDown();
-            return new JobOutcome.Succeeded(estimateFor(store.findTrace(job.traceId()).orElseThrow()), "{\"ok\":true}");
+            return new JobOutcome.Succeeded(estimateFor(store.traces().findTrace(job.traceId()).orElseThrow()), "{\"ok\":true}");
         };
 
         try (WorkerPool pool = pool(handler, 3, WorkerPool.DEFAULT_SHUTDOWN_GRACE)) {
@@ -91,7 +90,7 @@ class WorkerPoolTest extends StoreTestBase {
         JobQueue slowWrites = new HeldOutcomes(store, aWriteStarted, releaseWrites);
         JobHandler handler = job -> {
             bothHandled.countDown();
-            return new JobOutcome.Succeeded(estimateFor(store.findTrace(job.traceId()).orElseThrow()), "{}");
+            return new JobOutcome.Succeeded(estimateFor(store.traces().findTrace(job.traceId()).orElseThrow()), "{}");
         };
 
         try (WorkerPool pool = new WorkerPool(slowWrites, handler, 1, fx.clock, IDLE_POLL, registry,
@@ -104,8 +103,8 @@ class WorkerPoolTest extends StoreTestBase {
             releaseWrites.countDown();
             awaitSucceeded(2);
         }
-        assertEquals("succeeded", store.findJob(first.jobId()).orElseThrow().state());
-        assertEquals("succeeded", store.findJob(second.jobId()).orElseThrow().state());
+        assertEquals("succeeded", store.jobs().findJob(first.jobId()).orElseThrow().state());
+        assertEquals("succeeded", store.jobs().findJob(second.jobId()).orElseThrow().state());
         assertEquals(2, fx.rows("estimates"));
     }
 
@@ -124,7 +123,7 @@ class WorkerPoolTest extends StoreTestBase {
         JobHandler handler = job -> {
             mostAtOnce.accumulateAndGet(running.incrementAndGet(), Math::max);
             try {
-                return new JobOutcome.Succeeded(estimateFor(store.findTrace(job.traceId()).orElseThrow()), "{}");
+                return new JobOutcome.Succeeded(estimateFor(store.traces().findTrace(job.traceId()).orElseThrow()), "{}");
             } finally {
                 running.decrementAndGet();
                 inFlightHandled.countDown();
@@ -154,7 +153,7 @@ class WorkerPoolTest extends StoreTestBase {
         }
         CountDownLatch released = new CountDownLatch(0);
         HeldOutcomes queue = new HeldOutcomes(store, new CountDownLatch(1), released);
-        JobHandler handler = job -> new JobOutcome.Succeeded(estimateFor(store.findTrace(job.traceId()).orElseThrow()), "{}");
+        JobHandler handler = job -> new JobOutcome.Succeeded(estimateFor(store.traces().findTrace(job.traceId()).orElseThrow()), "{}");
         try (WorkerPool pool = new WorkerPool(queue, handler, 1, fx.clock, IDLE_POLL, registry,
                 WorkerPool.DEFAULT_SHUTDOWN_GRACE, STUCK_AFTER)) {
             pool.start();
@@ -169,7 +168,7 @@ class WorkerPoolTest extends StoreTestBase {
     @Test
     void an_empty_queue_costs_no_claim_writes_and_a_queued_job_is_still_claimed() throws Exception {
         HeldOutcomes queue = new HeldOutcomes(store, new CountDownLatch(1), new CountDownLatch(0));
-        JobHandler handler = job -> new JobOutcome.Succeeded(estimateFor(store.findTrace(job.traceId()).orElseThrow()), "{}");
+        JobHandler handler = job -> new JobOutcome.Succeeded(estimateFor(store.traces().findTrace(job.traceId()).orElseThrow()), "{}");
         try (WorkerPool pool = new WorkerPool(queue, handler, 1, fx.clock, IDLE_POLL, registry,
                 WorkerPool.DEFAULT_SHUTDOWN_GRACE, STUCK_AFTER)) {
             pool.start();
@@ -204,7 +203,7 @@ class WorkerPoolTest extends StoreTestBase {
             assertTrue(threeRuns.await(HANG_GUARD_SECONDS, SECONDS));
         }
 
-        JobRow row = store.findJob(s.jobId()).orElseThrow();
+        JobRow row = store.jobs().findJob(s.jobId()).orElseThrow();
         assertEquals(List.of("failed", 3), List.of(row.state(), row.attempt()));
         assertEquals(List.of("attempt 1: java.lang.IllegalStateException: boom",
                 "attempt 2: java.lang.IllegalStateException: boom",
@@ -226,7 +225,7 @@ class WorkerPoolTest extends StoreTestBase {
             assertTrue(ran.await(HANG_GUARD_SECONDS, SECONDS));
         }
 
-        JobRow row = store.findJob(s.jobId()).orElseThrow();
+        JobRow row = store.jobs().findJob(s.jobId()).orElseThrow();
         assertEquals(List.of("failed", 1, List.of("attempt 1: no convergence"), fx.clock.instant()),
                 List.of(row.state(), row.attempt(), row.errors(), row.finishedAt()));
         assertEquals(0, fx.rows("estimates"));
@@ -249,10 +248,10 @@ class WorkerPoolTest extends StoreTestBase {
         assertTrue(started.await(HANG_GUARD_SECONDS, SECONDS));
         pool.close();
 
-        assertEquals("running", store.findJob(s.jobId()).orElseThrow().state());
+        assertEquals("running", store.jobs().findJob(s.jobId()).orElseThrow().state());
         fx.close();
-        try (SqliteStore reopened = new SqliteStore(fx.file, fx.clock)) {
-            JobRow row = reopened.findJob(s.jobId()).orElseThrow();
+        try (SqliteDatabase reopened = new SqliteDatabase(fx.file, fx.clock)) {
+            JobRow row = reopened.jobs().findJob(s.jobId()).orElseThrow();
             assertEquals(List.of("queued", 1), List.of(row.state(), row.attempt()));
             assertEquals(List.of("attempt 1: rescued: left running by a worker that crashed, stopped or hung"),
                     row.errors());
@@ -262,7 +261,7 @@ class WorkerPoolTest extends StoreTestBase {
     @Test
     void a_hung_job_is_rescued_on_the_timer_and_its_late_result_is_refused() throws Exception {
         Submission s = submit("unit-1");
-        TraceRow trace = store.findTrace(s.traceId()).orElseThrow();
+        TraceRow trace = store.traces().findTrace(s.traceId()).orElseThrow();
         CountDownLatch firstStarted = new CountDownLatch(1);
         CountDownLatch releaseFirst = new CountDownLatch(1);
         CountDownLatch secondDone = new CountDownLatch(1);
@@ -285,7 +284,7 @@ class WorkerPoolTest extends StoreTestBase {
             releaseFirst.countDown();
         }
 
-        JobRow row = store.findJob(s.jobId()).orElseThrow();
+        JobRow row = store.jobs().findJob(s.jobId()).orElseThrow();
         assertEquals(List.of("succeeded", 2, "{\"attempt\":2}"), List.of(row.state(), row.attempt(), row.resultJson()));
         assertEquals(1, fx.rows("estimates"));
         assertEquals(1, timerCount("estimate", JobMetrics.SUCCEEDED));
@@ -316,9 +315,9 @@ class WorkerPoolTest extends StoreTestBase {
      * The store as a queue whose completions wait until released (a write stuck behind a batch),
      * recording the limit of every claim and releasing a permit at every read of the queue's length.
      */
-    private record HeldOutcomes(SqliteStore store, CountDownLatch writeStarted, CountDownLatch release,
+    private record HeldOutcomes(SqliteDatabase store, CountDownLatch writeStarted, CountDownLatch release,
                                 List<Integer> claimLimits, Semaphore lengthReads) implements JobQueue {
-        HeldOutcomes(SqliteStore store, CountDownLatch writeStarted, CountDownLatch release) {
+        HeldOutcomes(SqliteDatabase store, CountDownLatch writeStarted, CountDownLatch release) {
             this(store, writeStarted, release, new java.util.concurrent.CopyOnWriteArrayList<>(), new Semaphore(0));
         }
 
@@ -332,55 +331,55 @@ class WorkerPoolTest extends StoreTestBase {
                 Thread.currentThread().interrupt();
                 throw new IllegalStateException(e);
             }
-            return store.completeIfRunning(jobId, attempt, estimateOrNull, resultJsonOrNull, now);
+            return store.queue().completeIfRunning(jobId, attempt, estimateOrNull, resultJsonOrNull, now);
         }
 
         @Override
         public List<ClaimedJob> claimNext(int limit, java.time.Instant now) {
             claimLimits.add(limit);
-            return store.claimNext(limit, now);
+            return store.queue().claimNext(limit, now);
         }
 
         @Override
         public boolean failIfRunning(String jobId, int attempt, String error, String detailsJsonOrNull,
                                      java.time.Instant now) {
-            return store.failIfRunning(jobId, attempt, error, detailsJsonOrNull, now);
+            return store.queue().failIfRunning(jobId, attempt, error, detailsJsonOrNull, now);
         }
 
         @Override
         public boolean retryIfRunning(String jobId, int attempt, String error, java.time.Instant now) {
-            return store.retryIfRunning(jobId, attempt, error, now);
+            return store.queue().retryIfRunning(jobId, attempt, error, now);
         }
 
         @Override
         public boolean reportProgress(String jobId, int attempt, int done, int total) {
-            return store.reportProgress(jobId, attempt, done, total);
+            return store.queue().reportProgress(jobId, attempt, done, total);
         }
 
         @Override
         public int rescueStuck(java.time.Instant startedBefore) {
-            return store.rescueStuck(startedBefore);
+            return store.queue().rescueStuck(startedBefore);
         }
 
         @Override
         public int queuedCount() {
-            int queued = store.queuedCount();
+            int queued = store.queue().queuedCount();
             lengthReads.release();
             return queued;
         }
 
         @Override
         public String enqueue(String kind, String traceIdOrNull, String paramsJsonOrNull, java.time.Instant now) {
-            return store.enqueue(kind, traceIdOrNull, paramsJsonOrNull, now);
+            return store.queue().enqueue(kind, traceIdOrNull, paramsJsonOrNull, now);
         }
     }
 
     private WorkerPool pool(JobHandler handler, int workers, Duration grace) {
-        return new WorkerPool(store, handler, workers, fx.clock, IDLE_POLL, registry, grace, STUCK_AFTER);
+        return new WorkerPool(store.queue(), handler, workers, fx.clock, IDLE_POLL, registry, grace, STUCK_AFTER);
     }
 
     private Submission submit(String unit) throws Exception {
-        return store.submitTrace(StoreFixture.trace(unit), null, ROOMY, fx.clock.instant());
+        return store.traces().submitTrace(StoreFixture.trace(unit), null, ROOMY, fx.clock.instant());
     }
 
     private void submitAndWake(WorkerPool pool, String unit, int count) {

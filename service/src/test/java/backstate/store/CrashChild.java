@@ -13,14 +13,14 @@ public final class CrashChild {
     }
 
     public static void main(String[] args) throws Exception {
-        SqliteStore store = new SqliteStore(Path.of(args[0]), Clock.systemUTC());
+        SqliteDatabase store = new SqliteDatabase(Path.of(args[0]), Clock.systemUTC());
         Clock clock = Clock.systemUTC();
         for (int i = 0; ; i++) {
-            Submission s = store.submitTrace(StoreFixture.trace("unit-crash"), StoreFixture.key("k-" + i), Integer.MAX_VALUE,
+            Submission s = store.traces().submitTrace(StoreFixture.trace("unit-crash"), StoreFixture.key("k-" + i), Integer.MAX_VALUE,
                     clock.instant());
             System.out.println("ACK " + i + " " + s.jobId());
             if (i % 3 == 0) {
-                store.claimNext(1, clock.instant()).forEach(job -> System.out.println("CLAIMED " + job.id()));
+                store.queue().claimNext(1, clock.instant()).forEach(job -> System.out.println("CLAIMED " + job.id()));
             }
             System.out.flush();
         }

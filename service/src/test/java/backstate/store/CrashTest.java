@@ -44,14 +44,14 @@ class CrashTest {
         assertEquals("ok", fx.integrityCheck());
         long traces = fx.rows("traces");
         assertTrue(traces == acked.size() || traces == acked.size() + 1, traces + " traces for " + acked.size() + " acks");
-        try (SqliteStore reopened = new SqliteStore(fx.file, fx.clock)) {
+        try (SqliteDatabase reopened = new SqliteDatabase(fx.file, fx.clock)) {
             for (Map.Entry<Integer, String> ack : acked.entrySet()) {
-                Submission replay = reopened.submitTrace(StoreFixture.trace("unit-crash"), StoreFixture.key("k-" + ack.getKey()),
+                Submission replay = reopened.traces().submitTrace(StoreFixture.trace("unit-crash"), StoreFixture.key("k-" + ack.getKey()),
                         Integer.MAX_VALUE, StoreFixture.T0);
                 assertEquals(ack.getValue(), replay.jobId(), "key k-" + ack.getKey());
             }
             for (String jobId : claimed) {
-                assertEquals("queued", reopened.findJob(jobId).orElseThrow().state());
+                assertEquals("queued", reopened.jobs().findJob(jobId).orElseThrow().state());
             }
         }
         assertEquals(0, fx.count("SELECT COUNT(*) FROM jobs WHERE state = 'running'"));

@@ -1,5 +1,6 @@
 package backstate.store;
 
+import backstate.jobs.NewEstimate;
 import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertNull;
 import static org.junit.jupiter.api.Assertions.assertThrows;
@@ -31,9 +32,9 @@ class EstimateHistoryTest extends StoreTestBase {
 
     @BeforeEach
     void seed() throws Exception {
-        store.publishVersion(StoreFixture.pumpVersion(), StoreFixture.T0);
-        store.createFamily("fan", "", StoreFixture.T0);
-        store.publishVersion(new NewModelVersion("fan", "continuous", 1, 1, 0, "{}", "{}"), StoreFixture.T0);
+        store.models().publishVersion(StoreFixture.pumpVersion(), StoreFixture.T0);
+        store.models().createFamily("fan", "", StoreFixture.T0);
+        store.models().publishVersion(new NewModelVersion("fan", "continuous", 1, 1, 0, "{}", "{}"), StoreFixture.T0);
         for (int i = 0; i < ESTIMATES_FOR_UNIT; i++) {
             // Uploaded in another order than recorded; two estimates share each recording and upload
             // time, so ties on window start are broken by created_at and those on both by id.
@@ -81,14 +82,14 @@ class EstimateHistoryTest extends StoreTestBase {
 
     @Test
     void pages_stay_stable_while_newer_estimates_arrive() throws Exception {
-        EstimatePage first = store.estimateHistory(UNIT, EstimateFilter.NONE, null, 5);
+        EstimatePage first = store.estimates().estimateHistory(UNIT, EstimateFilter.NONE, null, 5);
         List<String> seen = new ArrayList<>(ids(first.items()));
         for (int i = 0; i < 3; i++) {
             writeEstimate(UNIT, recording(-1 - i), StoreFixture.T0.plusSeconds(100 + i), "pump", 1, List.of());
         }
         String cursor = first.nextCursorOrNull();
         while (cursor != null) {
-            EstimatePage page = store.estimateHistory(UNIT, EstimateFilter.NONE, cursor, 5);
+            EstimatePage page = store.estimates().estimateHistory(UNIT, EstimateFilter.NONE, cursor, 5);
             seen.addAll(ids(page.items()));
             cursor = page.nextCursorOrNull();
         }
@@ -98,30 +99,30 @@ class EstimateHistoryTest extends StoreTestBase {
     @Test
     void an_estimate_reads_back_field_for_field_by_id_job_and_unit() throws Exception {
         Instant at = StoreFixture.T0.plusSeconds(500);
-        Submission s = store.submitTrace(StoreFixture.trace("unit-C"), null, 10, at);
-        ClaimedJob job = store.claimNext(1, at).get(0);
-        NewEstimate given = new NewEstimate(s.traceId(), "unit-C", "pump", 2, -1.5, 4.25, null,
+        Submission s = store.traces().submitTrace(StoreFixture.trace("unit-C"), null, 10, at);
+        ClaimedJob job = store.queue().claimNext(1, at).get(0);
+        NewEstimate given = StoreFixture.estimate(s.traceId(), "unit-C", "pump", 2, -1.5, 4.25, null,
                 List.of("clipped", "low_excitation"), "{\"x0\":[1,2]}");
-        store.completeIfRunning(job.id(), job.attempt(), given, null, at.plusMillis(7));
+        store.queue().completeIfRunning(job.id(), job.attempt(), given, null, at.plusMillis(7));
 
-        EstimateRow row = store.latestEstimate("unit-C").orElseThrow();
+        EstimateRow row = store.estimates().latestEstimate("unit-C").orElseThrow();
         assertEquals(List.of(job.id(), s.traceId(), "unit-C", "pump", 2, at.plusMillis(7), at, -1.5, 4.25,
                         List.of("clipped", "low_excitation"), "{\"x0\":[1,2]}"),
                 List.of(row.jobId(), row.traceId(), row.unitId(), row.family(), row.version(), row.createdAt(),
                         row.receivedAt(), row.windowStart(), row.windowEnd(), row.flags(), row.summaryJson()));
         assertNull(row.chi2PerDof());
-        assertEquals(row.id(), store.findEstimate(row.id()).orElseThrow().id());
-        assertEquals(row.id(), store.findEstimateForJob(job.id()).orElseThrow().id());
+        assertEquals(row.id(), store.estimates().findEstimate(row.id()).orElseThrow().id());
+        assertEquals(row.id(), store.estimates().findEstimateForJob(job.id()).orElseThrow().id());
     }
 
     @Test
     void the_latest_estimate_is_the_newest_recording_with_ties_broken_by_time_written_then_id() {
-        assertEquals(expected(row -> true).get(0).id(), store.latestEstimate(UNIT).orElseThrow().id());
+        assertEquals(expected(row -> true).get(0).id(), store.estimates().latestEstimate(UNIT).orElseThrow().id());
     }
 
     @Test
     void the_last_page_has_no_cursor() {
-        EstimatePage all = store.estimateHistory(UNIT, EstimateFilter.NONE, null, ESTIMATES_FOR_UNIT);
+        EstimatePage all = store.estimates().estimateHistory(UNIT, EstimateFilter.NONE, null, ESTIMATES_FOR_UNIT);
         assertEquals(ESTIMATES_FOR_UNIT, all.items().size());
         assertNull(all.nextCursorOrNull());
     }
@@ -133,22 +134,22 @@ class EstimateHistoryTest extends StoreTestBase {
         String notANumber = Base64.getUrlEncoder().encodeToString("soon:abc".getBytes(StandardCharsets.UTF_8));
         for (String cursor : List.of(notBase64, noSeparator, notANumber)) {
             InvalidCursorException e = assertThrows(InvalidCursorException.class,
-                    () -> store.estimateHistory(UNIT, EstimateFilter.NONE, cursor, 4));
+                    () -> store.estimates().estimateHistory(UNIT, EstimateFilter.NONE, cursor, 4));
             assertEquals("got cursor '" + cursor + "', expected one returned by a previous page", e.getMessage());
         }
     }
 
     @Test
     void a_unit_without_estimates_has_an_empty_history() {
-        assertEquals(new EstimatePage(List.of(), null), store.estimateHistory("unit-Z", EstimateFilter.NONE, null, 4));
-        assertEquals(java.util.Optional.empty(), store.latestEstimate("unit-Z"));
+        assertEquals(new EstimatePage(List.of(), null), store.estimates().estimateHistory("unit-Z", EstimateFilter.NONE, null, 4));
+        assertEquals(java.util.Optional.empty(), store.estimates().latestEstimate("unit-Z"));
     }
 
     private List<EstimateRow> walk(EstimateFilter filter, int limit) {
         List<EstimateRow> rows = new ArrayList<>();
         String cursor = null;
         do {
-            EstimatePage page = store.estimateHistory(UNIT, filter, cursor, limit);
+            EstimatePage page = store.estimates().estimateHistory(UNIT, filter, cursor, limit);
             rows.addAll(page.items());
             cursor = page.nextCursorOrNull();
         } while (cursor != null);
@@ -173,11 +174,11 @@ class EstimateHistoryTest extends StoreTestBase {
     private EstimateRow writeEstimate(String unit, Instant recorded, Instant at, String family, int version,
                                       List<String> flags) throws QueueFullException {
         double start = recorded.getEpochSecond();
-        Submission s = store.submitTrace(new NewTrace(unit, family, version, 3, start, start + 2, new byte[] {1}), null, 10, at);
-        ClaimedJob job = store.claimNext(1, at).get(0);
-        store.completeIfRunning(job.id(), job.attempt(), new NewEstimate(s.traceId(), unit, family, version, start,
+        Submission s = store.traces().submitTrace(new NewTrace(unit, family, version, 3, start, start + 2, new byte[] {1}), null, 10, at);
+        ClaimedJob job = store.queue().claimNext(1, at).get(0);
+        store.queue().completeIfRunning(job.id(), job.attempt(), StoreFixture.estimate(s.traceId(), unit, family, version, start,
                 start + 2, 1.25, flags, "{\"at\":\"" + at + "\"}"), null, at);
-        return store.findEstimateForJob(job.id()).orElseThrow();
+        return store.estimates().findEstimateForJob(job.id()).orElseThrow();
     }
 
     /** The start of recording k: ten minutes apart, counting back from recording 0 (k < 0 are later ones). */

@@ -1,5 +1,6 @@
 package backstate.store;
 
+import backstate.jobs.NewEstimate;
 import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertFalse;
 import static org.junit.jupiter.api.Assertions.assertThrows;
@@ -28,13 +29,13 @@ class FaultLoopTest {
     Path dir;
     FaultInjector faults = new FaultInjector();
     StoreFixture fx;
-    SqliteStore store;
+    SqliteDatabase store;
 
     @BeforeEach
     void open() {
         fx = new StoreFixture(dir);
         fx.close();
-        store = new SqliteStore(fx.file, fx.clock, SqliteSettings.defaults(), faults::wrap);
+        store = new SqliteDatabase(fx.file, fx.clock, SqliteSettings.defaults(), faults::wrap);
     }
 
     @AfterEach
@@ -48,7 +49,7 @@ class FaultLoopTest {
         for (int n = 1; n <= MAX_CALLS; n++) {
             faults.failCall(n);
             try {
-                store.submitTrace(StoreFixture.trace("unit-1"), StoreFixture.key("key-1"), 10, StoreFixture.T0);
+                store.traces().submitTrace(StoreFixture.trace("unit-1"), StoreFixture.key("key-1"), 10, StoreFixture.T0);
             } catch (StoreUnavailableException e) {
                 assertFailedCleanly(e);
                 assertEquals(List.of(0L, 0L, 0L), counts());
@@ -62,47 +63,49 @@ class FaultLoopTest {
                 "BEGIN, SAVEPOINT, key lookup, queue count, version lookup, 3 inserts, RELEASE, COMMIT");
         assertEquals(List.of(1L, 1L, 1L), counts());
         faults.failCall(0);
-        assertTrue(store.submitTrace(StoreFixture.trace("unit-1"), StoreFixture.key("key-1"), 10, StoreFixture.T0).replayed());
+        assertTrue(store.traces().submitTrace(StoreFixture.trace("unit-1"), StoreFixture.key("key-1"), 10, StoreFixture.T0).replayed());
     }
 
     @Test
     void a_completion_failing_at_any_call_leaves_the_job_running_and_then_writes_one_estimate() throws Exception {
-        Submission s = store.submitTrace(StoreFixture.trace("unit-1"), null, 10, StoreFixture.T0);
-        ClaimedJob job = store.claimNext(1, StoreFixture.T0).get(0);
-        NewEstimate estimate = StoreFixture.estimate(s.traceId(), "unit-1", "pump", 1, List.of(), "{}");
+        Submission s = store.traces().submitTrace(StoreFixture.trace("unit-1"), null, 10, StoreFixture.T0);
+        ClaimedJob job = store.queue().claimNext(1, StoreFixture.T0).get(0);
+        NewEstimate estimate = StoreFixture.estimate(s.traceId(), "unit-1", "pump", 1, List.of(), FleetStoreTest.DOCUMENT);
         int failures = 0;
         for (int n = 1; n <= MAX_CALLS; n++) {
             faults.failCall(n);
             try {
-                assertTrue(store.completeIfRunning(job.id(), job.attempt(), estimate, "{}", StoreFixture.T0));
+                assertTrue(store.queue().completeIfRunning(job.id(), job.attempt(), estimate, "{}", StoreFixture.T0));
             } catch (StoreUnavailableException e) {
                 assertFailedCleanly(e);
-                assertEquals("running", store.findJob(job.id()).orElseThrow().state());
+                assertEquals("running", store.jobs().findJob(job.id()).orElseThrow().state());
                 assertEquals(0, fx.rows("estimates"));
-                assertEquals(0, fx.rows("unit_latest") + fx.rows("unit_version_latest"));
+                assertEquals(0, fx.rows("unit_latest") + fx.rows("unit_version_latest") + fx.rows("estimate_states")
+                        + fx.rows("estimate_channels"));
                 failures++;
                 continue;
             }
             break;
         }
-        assertEquals(10, failures,
-                "BEGIN, SAVEPOINT, job update, estimate insert, 4 fleet-view inserts, RELEASE, COMMIT");
-        assertEquals("succeeded", store.findJob(job.id()).orElseThrow().state());
-        assertEquals(1, fx.rows("estimates"));
+        assertEquals(12, failures, "BEGIN, SAVEPOINT, job update, estimate insert, 2 state rows, 2 channel rows,"
+                + " 2 newest-estimate upserts, RELEASE, COMMIT");
+        assertEquals("succeeded", store.jobs().findJob(job.id()).orElseThrow().state());
+        assertEquals(List.of(1L, 2L, 2L), List.of(fx.rows("estimates"), fx.rows("estimate_states"),
+                fx.rows("estimate_channels")));
     }
 
     @Test
     void a_claim_failing_at_any_call_claims_nothing_and_then_claims_the_job_once() throws Exception {
-        store.submitTrace(StoreFixture.trace("unit-1"), null, 10, StoreFixture.T0);
+        store.traces().submitTrace(StoreFixture.trace("unit-1"), null, 10, StoreFixture.T0);
         int failures = 0;
         List<ClaimedJob> claimed = List.of();
         for (int n = 1; n <= MAX_CALLS && claimed.isEmpty(); n++) {
             faults.failCall(n);
             try {
-                claimed = store.claimNext(1, StoreFixture.T0);
+                claimed = store.queue().claimNext(1, StoreFixture.T0);
             } catch (StoreUnavailableException e) {
                 assertFailedCleanly(e);
-                assertEquals(1, store.queuedCount());
+                assertEquals(1, store.queue().queuedCount());
                 failures++;
             }
         }

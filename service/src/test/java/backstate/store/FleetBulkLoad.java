@@ -1,5 +1,6 @@
 package backstate.store;
 
+import backstate.jobs.NewEstimate;
 import java.nio.file.Path;
 import java.sql.Connection;
 import java.sql.DriverManager;
@@ -12,7 +13,7 @@ import java.util.List;
 /**
  * Bulk writer for benchmarks: stores a trace, its succeeded job and its estimate with the same
  * rows the service writes, and the fleet views' derived rows through the service's own
- * statement ({@link SqliteFleet#recordEstimate}), on one raw connection in large transactions.
+ * statements ({@link SqliteFleet#recordEstimate}), on one raw connection in large transactions.
  * Synchronous writes are off (a benchmark fill need not survive a power cut); everything else
  * is the service's schema, indexes and SQL.
  */
@@ -29,6 +30,7 @@ public final class FleetBulkLoad implements AutoCloseable {
     private static final byte[] PAYLOAD = new byte[16];
 
     private final Connection c;
+    private final Statements statements;
     private final PreparedStatement trace;
     private final PreparedStatement job;
     private final PreparedStatement estimate;
@@ -36,7 +38,7 @@ public final class FleetBulkLoad implements AutoCloseable {
     private long deriveNanos;
     private long rows;
 
-    /** Opens a file whose schema is migrated already (open and close a SqliteStore on it first). */
+    /** Opens a file whose schema is migrated already (open and close a SqliteDatabase on it first). */
     public FleetBulkLoad(Path file) throws SQLException {
         this.c = DriverManager.getConnection("jdbc:sqlite:" + file.toAbsolutePath());
         try (Statement s = c.createStatement()) {
@@ -46,6 +48,7 @@ public final class FleetBulkLoad implements AutoCloseable {
             s.execute("PRAGMA cache_size = -262144"); // 256 MiB page cache for the fill
         }
         c.setAutoCommit(false);
+        this.statements = new Statements(c);
         this.trace = c.prepareStatement(INSERT_TRACE);
         this.job = c.prepareStatement(INSERT_JOB);
         this.estimate = c.prepareStatement(INSERT_ESTIMATE);
@@ -63,10 +66,13 @@ public final class FleetBulkLoad implements AutoCloseable {
         double windowStart = windowEnd - WINDOW_SECONDS;
         Sql.bind(trace, traceId, unitId, family, version, receivedAt, 361, windowStart, windowEnd, PAYLOAD).executeUpdate();
         Sql.bind(job, jobId, traceId, receivedAt, at - 500, at).executeUpdate();
-        Sql.bind(estimate, Sql.newId(), jobId, traceId, unitId, family, version, at, receivedAt, windowStart, windowEnd,
+        String estimateId = Sql.newId();
+        Sql.bind(estimate, estimateId, jobId, traceId, unitId, family, version, at, receivedAt, windowStart, windowEnd,
                 chi2PerDof, Sql.joinFlags(flags), summaryJson).executeUpdate();
+        NewEstimate typed = StoreFixture.estimate(traceId, unitId, family, version, windowStart, windowEnd, chi2PerDof,
+                flags, summaryJson);
         long t1 = System.nanoTime();
-        SqliteFleet.recordEstimate(c, jobId);
+        SqliteFleet.recordEstimate(statements, estimateId, typed);
         deriveNanos += System.nanoTime() - t1;
         insertNanos += t1 - t0;
         rows++;
@@ -94,6 +100,7 @@ public final class FleetBulkLoad implements AutoCloseable {
         trace.close();
         job.close();
         estimate.close();
+        statements.close();
         c.close();
     }
 }

@@ -1,5 +1,6 @@
 package backstate.store;
 
+import backstate.jobs.NewEstimate;
 import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertFalse;
 import static org.junit.jupiter.api.Assertions.assertThrows;
@@ -61,9 +62,9 @@ class FleetStoreTest extends StoreTestBase {
 
     @Test
     void a_completion_that_lost_its_job_writes_no_derived_rows() throws Exception {
-        Submission s = store.submitTrace(StoreFixture.trace("unit-1"), null, 10, StoreFixture.T0);
-        ClaimedJob job = store.claimNext(1, StoreFixture.T0).get(0);
-        assertFalse(store.completeIfRunning(job.id(), job.attempt() + 1,
+        Submission s = store.traces().submitTrace(StoreFixture.trace("unit-1"), null, 10, StoreFixture.T0);
+        ClaimedJob job = store.queue().claimNext(1, StoreFixture.T0).get(0);
+        assertFalse(store.queue().completeIfRunning(job.id(), job.attempt() + 1,
                 StoreFixture.estimate(s.traceId(), "unit-1", "pump", 1, List.of(), DOCUMENT), null, StoreFixture.T0));
         for (String table : List.of("estimate_states", "estimate_channels", "unit_latest", "unit_version_latest")) {
             assertEquals(0, fx.rows(table), table);
@@ -84,12 +85,12 @@ class FleetStoreTest extends StoreTestBase {
         EstimateRow newer = complete("unit-1", StoreFixture.T0.plusSeconds(60), 2.0, List.of(), DOCUMENT);
         // Recorded at T0, received and estimated at T0 + 120 s: a late upload.
         complete("unit-1", StoreFixture.T0, StoreFixture.T0.plusSeconds(120), 9.0, List.of("model_mismatch"));
-        UnitLatestRow latest = store.fleetUnits(new UnitFilter("pump", null, null), UnitSort.UNIT_ID, null, 10).items().get(0);
+        UnitLatestRow latest = store.fleet().fleetUnits(new UnitFilter("pump", null, null), UnitSort.UNIT_ID, null, 10).items().get(0);
         assertEquals(List.of(newer.id(), 2.0, List.of(), (double) StoreFixture.T0.plusSeconds(60).getEpochSecond()),
                 List.of(latest.estimateId(), latest.chi2PerDof(), latest.flags(), latest.windowStart()));
-        assertEquals(newer.id(), store.latestEstimate("unit-1").orElseThrow().id());
+        assertEquals(newer.id(), store.estimates().latestEstimate("unit-1").orElseThrow().id());
         EstimateRow newest = complete("unit-1", StoreFixture.T0.plusSeconds(180), 3.0, List.of(), DOCUMENT);
-        assertEquals(newest.id(), store.fleetUnits(new UnitFilter("pump", 1, null), UnitSort.UNIT_ID, null, 10)
+        assertEquals(newest.id(), store.fleet().fleetUnits(new UnitFilter("pump", 1, null), UnitSort.UNIT_ID, null, 10)
                 .items().get(0).estimateId());
     }
 
@@ -97,7 +98,7 @@ class FleetStoreTest extends StoreTestBase {
     void the_same_recording_estimated_again_replaces_the_earlier_estimate() throws Exception {
         complete("unit-1", StoreFixture.T0, StoreFixture.T0, 2.0, List.of());
         EstimateRow again = complete("unit-1", StoreFixture.T0, StoreFixture.T0.plusSeconds(30), 4.0, List.of());
-        assertEquals(again.id(), store.fleetUnits(new UnitFilter("pump", null, null), UnitSort.UNIT_ID, null, 10)
+        assertEquals(again.id(), store.fleet().fleetUnits(new UnitFilter("pump", null, null), UnitSort.UNIT_ID, null, 10)
                 .items().get(0).estimateId());
     }
 
@@ -135,7 +136,7 @@ class FleetStoreTest extends StoreTestBase {
     void a_cursor_of_another_order_or_made_up_is_refused() {
         String other = new UnitCursor(UnitSort.LATEST, List.of(1.0, "u")).encode();
         for (String cursor : List.of(other, "***", "Q0hJX1NRVUFSRQ")) {
-            assertThrows(InvalidCursorException.class, () -> store.fleetUnits(new UnitFilter("pump", null, null),
+            assertThrows(InvalidCursorException.class, () -> store.fleet().fleetUnits(new UnitFilter("pump", null, null),
                     UnitSort.CHI_SQUARE, cursor, 5), cursor);
         }
     }
@@ -145,7 +146,7 @@ class FleetStoreTest extends StoreTestBase {
         complete("unit-1", StoreFixture.T0, 1.0, List.of("model_mismatch"), DOCUMENT);
         complete("unit-2", StoreFixture.T0.plusSeconds(10), 3.0, List.of("model_mismatch", "few_samples"), DOCUMENT);
         complete("unit-2", StoreFixture.T0.plusSeconds(20), 5.0, List.of(), DOCUMENT);
-        FleetSummary s = store.fleetSummary(new FleetSummaryQuery("pump", Map.of(1, List.of("pos", "vel")),
+        FleetSummary s = store.fleet().fleetSummary(new FleetSummaryQuery("pump", Map.of(1, List.of("pos", "vel")),
                 TimeFilter.recorded(StoreFixture.T0, StoreFixture.T0.plusSeconds(20)), null, StoreFixture.T0.plusSeconds(15), 1));
         FleetSummary.VersionActivity v = s.versions().get(0);
         // [T0, T0 + 20 s) holds the first two recordings; the traces were recorded at T0, T0 + 10 s and T0 + 20 s.
@@ -167,15 +168,15 @@ class FleetStoreTest extends StoreTestBase {
         complete("unit-2", StoreFixture.T0, StoreFixture.T0.plusSeconds(200), 3.0, List.of("model_mismatch"));
         Map<Integer, List<String>> pos = Map.of(1, List.of("pos"));
         Instant stale = StoreFixture.T0;
-        FleetSummary.VersionActivity recordedFirst = store.fleetSummary(new FleetSummaryQuery("pump", pos,
+        FleetSummary.VersionActivity recordedFirst = store.fleet().fleetSummary(new FleetSummaryQuery("pump", pos,
                 TimeFilter.recorded(StoreFixture.T0, StoreFixture.T0.plusSeconds(50)), null, stale, 5)).versions().get(0);
         assertEquals(List.of(1L, 1L, 1L, 3.0), List.of(recordedFirst.estimates(), recordedFirst.units(),
                 recordedFirst.traces(), recordedFirst.chiSquarePerDof().max()));
-        FleetSummary.VersionActivity receivedLast = store.fleetSummary(new FleetSummaryQuery("pump", pos,
+        FleetSummary.VersionActivity receivedLast = store.fleet().fleetSummary(new FleetSummaryQuery("pump", pos,
                 TimeFilter.received(StoreFixture.T0.plusSeconds(150), null), null, stale, 5)).versions().get(0);
         assertEquals(List.of(1L, 1L, 1L, 3.0, 1), List.of(receivedLast.estimates(), receivedLast.units(),
                 receivedLast.traces(), receivedLast.chiSquarePerDof().max(), receivedLast.channelRms().get("pos").count()));
-        FleetSummary.VersionActivity both = store.fleetSummary(new FleetSummaryQuery("pump", pos,
+        FleetSummary.VersionActivity both = store.fleet().fleetSummary(new FleetSummaryQuery("pump", pos,
                 new TimeFilter(StoreFixture.T0.plusSeconds(50), null, StoreFixture.T0.plusSeconds(150), null), null, stale,
                 5)).versions().get(0);
         assertEquals(List.of(0L, 0L, 0), List.of(both.estimates(), both.traces(), both.channelRms().get("pos").count()));
@@ -198,16 +199,16 @@ class FleetStoreTest extends StoreTestBase {
                         "e" + i, "j" + i, "t" + i, at + i * 1000L, 1.0 + i, DOCUMENT);
             }
         }
-        try (SqliteStore migrated = new SqliteStore(file, fx.clock)) {
+        try (SqliteDatabase migrated = new SqliteDatabase(file, fx.clock)) {
             // One recording window for all three: the newest written wins the tie.
-            assertEquals(List.of("e2"), migrated.fleetUnits(new UnitFilter("pump", 1, null), UnitSort.UNIT_ID, null, 5)
+            assertEquals(List.of("e2"), migrated.fleet().fleetUnits(new UnitFilter("pump", 1, null), UnitSort.UNIT_ID, null, 5)
                     .items().stream().map(UnitLatestRow::estimateId).toList());
-            assertEquals(List.of("e2", "e1", "e0"), migrated.stateTrend("unit-1", "x", "pump", null, TimeFilter.NONE, 5)
+            assertEquals(List.of("e2", "e1", "e0"), migrated.fleet().stateTrend("unit-1", "x", "pump", null, TimeFilter.NONE, 5)
                     .stream().map(StatePoint::estimateId).toList());
-            assertEquals(3, migrated.fleetSummary(new FleetSummaryQuery("pump", Map.of(1, List.of("pos")), TimeFilter.NONE,
+            assertEquals(3, migrated.fleet().fleetSummary(new FleetSummaryQuery("pump", Map.of(1, List.of("pos")), TimeFilter.NONE,
                     null, StoreFixture.T0, 5)).versions().get(0).channelRms().get("pos").count());
             // V7 copied each trace's received time onto its estimate.
-            assertEquals(StoreFixture.T0, migrated.findEstimate("e1").orElseThrow().receivedAt());
+            assertEquals(StoreFixture.T0, migrated.estimates().findEstimate("e1").orElseThrow().receivedAt());
         }
     }
 
@@ -215,7 +216,7 @@ class FleetStoreTest extends StoreTestBase {
         List<String> ids = new ArrayList<>();
         String cursor = null;
         do {
-            UnitPage page = store.fleetUnits(new UnitFilter("pump", null, null), sort, cursor, limit);
+            UnitPage page = store.fleet().fleetUnits(new UnitFilter("pump", null, null), sort, cursor, limit);
             page.items().forEach(r -> ids.add(r.unitId()));
             cursor = page.nextCursorOrNull();
         } while (cursor != null);
@@ -236,11 +237,11 @@ class FleetStoreTest extends StoreTestBase {
     private EstimateRow complete(String unit, Instant recorded, Instant received, Double chi2, List<String> flags,
                                  String summary) throws Exception {
         double start = recorded.getEpochSecond();
-        Submission s = store.submitTrace(new NewTrace(unit, "pump", 1, 3, start, start + 2, new byte[] {1}), null, 100, received);
-        ClaimedJob job = store.claimNext(1, received).get(0);
-        assertTrue(store.completeIfRunning(job.id(), job.attempt(), new NewEstimate(s.traceId(), unit, "pump", 1, start,
+        Submission s = store.traces().submitTrace(new NewTrace(unit, "pump", 1, 3, start, start + 2, new byte[] {1}), null, 100, received);
+        ClaimedJob job = store.queue().claimNext(1, received).get(0);
+        assertTrue(store.queue().completeIfRunning(job.id(), job.attempt(), StoreFixture.estimate(s.traceId(), unit, "pump", 1, start,
                 start + 2, chi2, flags, summary), null, received));
-        return store.findEstimateForJob(job.id()).orElseThrow();
+        return store.estimates().findEstimateForJob(job.id()).orElseThrow();
     }
 
     private List<List<String>> rows(String sql, Object... params) throws SQLException {

@@ -1,5 +1,6 @@
 package backstate.store;
 
+import backstate.jobs.NewEstimate;
 import static java.util.stream.Collectors.toSet;
 import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertFalse;
@@ -29,33 +30,33 @@ class JobQueueTest extends StoreTestBase {
         Submission newer = submit("unit-2", T1);
         submit("unit-3", T2);
 
-        List<ClaimedJob> claimed = store.claimNext(2, T3);
+        List<ClaimedJob> claimed = store.queue().claimNext(2, T3);
 
         assertEquals(Set.of(older.jobId(), newer.jobId()), claimed.stream().map(ClaimedJob::id).collect(toSet()));
         assertEquals(new ClaimedJob(older.jobId(), "estimate", older.traceId(), null, 1),
                 claimed.stream().filter(j -> j.id().equals(older.jobId())).findFirst().orElseThrow());
-        JobRow row = store.findJob(older.jobId()).orElseThrow();
+        JobRow row = store.jobs().findJob(older.jobId()).orElseThrow();
         assertEquals(List.of("running", 1, T3), List.of(row.state(), row.attempt(), row.startedAt()));
-        assertEquals(1, store.queuedCount());
+        assertEquals(1, store.queue().queuedCount());
     }
 
     @Test
     void claim_on_an_empty_queue_returns_nothing() {
-        assertEquals(List.of(), store.claimNext(5, T1));
+        assertEquals(List.of(), store.queue().claimNext(5, T1));
     }
 
     @Test
     void complete_writes_exactly_one_estimate_and_a_second_complete_writes_nothing() throws Exception {
         Submission s = submit("unit-1", StoreFixture.T0);
-        ClaimedJob job = store.claimNext(1, T1).get(0);
+        ClaimedJob job = store.queue().claimNext(1, T1).get(0);
 
-        assertTrue(store.completeIfRunning(job.id(), job.attempt(), estimateOf(s, "first"), "{\"ok\":1}", T2));
-        assertFalse(store.completeIfRunning(job.id(), job.attempt(), estimateOf(s, "second"), "{\"ok\":2}", T3));
+        assertTrue(store.queue().completeIfRunning(job.id(), job.attempt(), estimateOf(s, "first"), "{\"ok\":1}", T2));
+        assertFalse(store.queue().completeIfRunning(job.id(), job.attempt(), estimateOf(s, "second"), "{\"ok\":2}", T3));
 
-        JobRow row = store.findJob(job.id()).orElseThrow();
+        JobRow row = store.jobs().findJob(job.id()).orElseThrow();
         assertEquals(List.of("succeeded", T2, "{\"ok\":1}"), List.of(row.state(), row.finishedAt(), row.resultJson()));
         assertEquals(1, fx.rows("estimates"));
-        EstimateRow estimate = store.latestEstimate("unit-1").orElseThrow();
+        EstimateRow estimate = store.estimates().latestEstimate("unit-1").orElseThrow();
         assertEquals(List.of(job.id(), s.traceId(), "first", T2),
                 List.of(estimate.jobId(), estimate.traceId(), estimate.summaryJson(), estimate.createdAt()));
     }
@@ -63,31 +64,31 @@ class JobQueueTest extends StoreTestBase {
     @Test
     void a_stale_attempt_cannot_complete_fail_or_report_progress() throws Exception {
         Submission s = submit("unit-1", StoreFixture.T0);
-        ClaimedJob first = store.claimNext(1, T1).get(0);
-        store.rescueStuck(T2);
-        ClaimedJob second = store.claimNext(1, T2).get(0);
+        ClaimedJob first = store.queue().claimNext(1, T1).get(0);
+        store.queue().rescueStuck(T2);
+        ClaimedJob second = store.queue().claimNext(1, T2).get(0);
         assertEquals(2, second.attempt());
 
-        assertFalse(store.completeIfRunning(first.id(), first.attempt(), estimateOf(s, "stale"), null, T3));
-        assertFalse(store.failIfRunning(first.id(), first.attempt(), "stale", null, T3));
-        assertFalse(store.reportProgress(first.id(), first.attempt(), 1, 2));
+        assertFalse(store.queue().completeIfRunning(first.id(), first.attempt(), estimateOf(s, "stale"), null, T3));
+        assertFalse(store.queue().failIfRunning(first.id(), first.attempt(), "stale", null, T3));
+        assertFalse(store.queue().reportProgress(first.id(), first.attempt(), 1, 2));
 
         assertEquals(0, fx.rows("estimates"));
-        JobRow row = store.findJob(first.id()).orElseThrow();
+        JobRow row = store.jobs().findJob(first.id()).orElseThrow();
         assertEquals(List.of("running", 2, 0), List.of(row.state(), row.attempt(), row.progressDone()));
     }
 
     @Test
     void fail_marks_the_job_failed_and_appends_to_earlier_errors() throws Exception {
         submit("unit-1", StoreFixture.T0);
-        ClaimedJob first = store.claimNext(1, T1).get(0);
-        assertTrue(store.retryIfRunning(first.id(), first.attempt(), "disk hiccup", T1));
-        ClaimedJob second = store.claimNext(1, T2).get(0);
+        ClaimedJob first = store.queue().claimNext(1, T1).get(0);
+        assertTrue(store.queue().retryIfRunning(first.id(), first.attempt(), "disk hiccup", T1));
+        ClaimedJob second = store.queue().claimNext(1, T2).get(0);
 
         String details = "{\"unobservableDirections\":[{\"components\":[{\"name\":\"x\",\"kind\":\"state\",\"value\":1.0}]}]}";
-        assertTrue(store.failIfRunning(second.id(), second.attempt(), "singular Gramian", details, T3));
+        assertTrue(store.queue().failIfRunning(second.id(), second.attempt(), "singular Gramian", details, T3));
 
-        JobRow row = store.findJob(first.id()).orElseThrow();
+        JobRow row = store.jobs().findJob(first.id()).orElseThrow();
         assertEquals(List.of("failed", 2, T3), List.of(row.state(), row.attempt(), row.finishedAt()));
         assertEquals(List.of("attempt 1: disk hiccup", "attempt 2: singular Gramian"), row.errors());
         assertEquals(details, row.failureJson(), "the failure's details are kept as given");
@@ -97,12 +98,12 @@ class JobQueueTest extends StoreTestBase {
     void retry_requeues_until_the_attempts_run_out_then_fails() throws Exception {
         Submission s = submit("unit-1", StoreFixture.T0);
         for (int attempt = 1; attempt <= SqliteSettings.DEFAULT_MAX_ATTEMPTS; attempt++) {
-            ClaimedJob job = store.claimNext(1, T1).get(0);
+            ClaimedJob job = store.queue().claimNext(1, T1).get(0);
             assertEquals(attempt, job.attempt());
-            assertTrue(store.retryIfRunning(job.id(), job.attempt(), "boom " + attempt, T2));
+            assertTrue(store.queue().retryIfRunning(job.id(), job.attempt(), "boom " + attempt, T2));
         }
-        assertEquals(List.of(), store.claimNext(1, T3));
-        JobRow row = store.findJob(s.jobId()).orElseThrow();
+        assertEquals(List.of(), store.queue().claimNext(1, T3));
+        JobRow row = store.jobs().findJob(s.jobId()).orElseThrow();
         assertEquals(List.of("failed", T2), List.of(row.state(), row.finishedAt()));
         assertEquals(List.of("attempt 1: boom 1", "attempt 2: boom 2", "attempt 3: boom 3"), row.errors());
     }
@@ -111,31 +112,31 @@ class JobQueueTest extends StoreTestBase {
     void rescue_requeues_only_jobs_started_before_the_cutoff() throws Exception {
         submit("unit-1", StoreFixture.T0);
         submit("unit-2", StoreFixture.T0);
-        ClaimedJob early = store.claimNext(1, T1).get(0);
-        ClaimedJob late = store.claimNext(1, T3).get(0);
+        ClaimedJob early = store.queue().claimNext(1, T1).get(0);
+        ClaimedJob late = store.queue().claimNext(1, T3).get(0);
 
-        assertEquals(1, store.rescueStuck(T2));
+        assertEquals(1, store.queue().rescueStuck(T2));
 
-        JobRow rescued = store.findJob(early.id()).orElseThrow();
+        JobRow rescued = store.jobs().findJob(early.id()).orElseThrow();
         assertEquals(List.of("queued", 1), List.of(rescued.state(), rescued.attempt()));
         assertEquals(List.of("attempt 1: rescued: left running by a worker that crashed, stopped or hung"),
                 rescued.errors());
-        assertEquals("running", store.findJob(late.id()).orElseThrow().state());
+        assertEquals("running", store.jobs().findJob(late.id()).orElseThrow().state());
     }
 
     @Test
     void rescue_fails_a_job_that_has_used_all_its_attempts() throws Exception {
         submit("unit-1", StoreFixture.T0);
         for (int attempt = 1; attempt < SqliteSettings.DEFAULT_MAX_ATTEMPTS; attempt++) {
-            store.claimNext(1, T1);
-            store.rescueStuck(T2);
+            store.queue().claimNext(1, T1);
+            store.queue().rescueStuck(T2);
         }
-        ClaimedJob last = store.claimNext(1, T1).get(0);
+        ClaimedJob last = store.queue().claimNext(1, T1).get(0);
         fx.clock.advance(Duration.ofMinutes(5));
 
-        assertEquals(1, store.rescueStuck(T2));
+        assertEquals(1, store.queue().rescueStuck(T2));
 
-        JobRow row = store.findJob(last.id()).orElseThrow();
+        JobRow row = store.jobs().findJob(last.id()).orElseThrow();
         assertEquals(List.of("failed", SqliteSettings.DEFAULT_MAX_ATTEMPTS, fx.clock.instant()),
                 List.of(row.state(), row.attempt(), row.finishedAt()));
         assertEquals(SqliteSettings.DEFAULT_MAX_ATTEMPTS, row.errors().size());
@@ -144,51 +145,51 @@ class JobQueueTest extends StoreTestBase {
     @Test
     void opening_the_store_rescues_jobs_a_crash_left_running() throws Exception {
         Submission s = submit("unit-1", StoreFixture.T0);
-        store.claimNext(1, T1);
+        store.queue().claimNext(1, T1);
         fx.close();
 
-        try (SqliteStore reopened = new SqliteStore(fx.file, fx.clock)) {
-            JobRow row = reopened.findJob(s.jobId()).orElseThrow();
+        try (SqliteDatabase reopened = new SqliteDatabase(fx.file, fx.clock)) {
+            JobRow row = reopened.jobs().findJob(s.jobId()).orElseThrow();
             assertEquals(List.of("queued", 1), List.of(row.state(), row.attempt()));
-            assertEquals(1, reopened.claimNext(1, T2).size());
+            assertEquals(1, reopened.queue().claimNext(1, T2).size());
         }
     }
 
     @Test
     void cancel_succeeds_only_from_queued() throws Exception {
         Submission queued = submit("unit-1", StoreFixture.T0);
-        assertTrue(store.cancelIfQueued(queued.jobId(), T1));
-        assertFalse(store.cancelIfQueued(queued.jobId(), T2));
-        JobRow cancelled = store.findJob(queued.jobId()).orElseThrow();
+        assertTrue(store.jobs().cancelIfQueued(queued.jobId(), T1));
+        assertFalse(store.jobs().cancelIfQueued(queued.jobId(), T2));
+        JobRow cancelled = store.jobs().findJob(queued.jobId()).orElseThrow();
         assertEquals(List.of("cancelled", T1), List.of(cancelled.state(), cancelled.finishedAt()));
 
         Submission running = submit("unit-2", T1);
-        store.claimNext(1, T2);
-        assertFalse(store.cancelIfQueued(running.jobId(), T3));
-        assertEquals("running", store.findJob(running.jobId()).orElseThrow().state());
-        assertFalse(store.cancelIfQueued("no-such-job", T3));
+        store.queue().claimNext(1, T2);
+        assertFalse(store.jobs().cancelIfQueued(running.jobId(), T3));
+        assertEquals("running", store.jobs().findJob(running.jobId()).orElseThrow().state());
+        assertFalse(store.jobs().cancelIfQueued("no-such-job", T3));
     }
 
     @Test
     void a_cancelled_job_is_never_claimed() throws Exception {
         Submission s = submit("unit-1", StoreFixture.T0);
-        store.cancelIfQueued(s.jobId(), T1);
-        assertEquals(List.of(), store.claimNext(1, T2));
+        store.jobs().cancelIfQueued(s.jobId(), T1);
+        assertEquals(List.of(), store.queue().claimNext(1, T2));
     }
 
     @Test
     void progress_is_recorded_for_the_running_attempt() throws Exception {
         submit("unit-1", StoreFixture.T0);
-        ClaimedJob job = store.claimNext(1, T1).get(0);
-        assertTrue(store.reportProgress(job.id(), job.attempt(), 3, 8));
-        JobRow row = store.findJob(job.id()).orElseThrow();
+        ClaimedJob job = store.queue().claimNext(1, T1).get(0);
+        assertTrue(store.queue().reportProgress(job.id(), job.attempt(), 3, 8));
+        JobRow row = store.jobs().findJob(job.id()).orElseThrow();
         assertEquals(List.of(3, 8), List.of(row.progressDone(), row.progressTotal()));
     }
 
     @Test
     void progress_beyond_its_total_is_a_programmer_error() {
         IllegalArgumentException e = assertThrows(IllegalArgumentException.class,
-                () -> store.reportProgress("any", 1, 9, 8));
+                () -> store.queue().reportProgress("any", 1, 9, 8));
         assertEquals("got progress 9/8, expected 0 <= done <= total", e.getMessage());
     }
 
@@ -206,15 +207,15 @@ class JobQueueTest extends StoreTestBase {
             now = now.plusSeconds(1);
             switch (random.nextInt(8)) {
                 case 0 -> queued.add(submit("unit-" + random.nextInt(5), now).jobId());
-                case 1 -> queued.add(store.enqueue("regression", null, "{}", now));
-                case 2, 3 -> running.addAll(store.claimNext(1 + random.nextInt(2), now));
-                case 4 -> store.cancelIfQueued(queued.isEmpty() ? "none" : queued.get(random.nextInt(queued.size())), now);
+                case 1 -> queued.add(store.queue().enqueue("regression", null, "{}", now));
+                case 2, 3 -> running.addAll(store.queue().claimNext(1 + random.nextInt(2), now));
+                case 4 -> store.jobs().cancelIfQueued(queued.isEmpty() ? "none" : queued.get(random.nextInt(queued.size())), now);
                 case 5, 6 -> finishOne(running, random, now);
-                default -> store.rescueStuck(now.minusSeconds(random.nextInt(30)));
+                default -> store.queue().rescueStuck(now.minusSeconds(random.nextInt(30)));
             }
-            assertEquals(fx.count("SELECT COUNT(*) FROM jobs WHERE state = 'queued'"), store.queuedCount(), "step " + step);
+            assertEquals(fx.count("SELECT COUNT(*) FROM jobs WHERE state = 'queued'"), store.queue().queuedCount(), "step " + step);
         }
-        assertTrue(store.queuedCount() > 0 && fx.count("SELECT COUNT(*) FROM jobs WHERE state <> 'queued'") > 0,
+        assertTrue(store.queue().queuedCount() > 0 && fx.count("SELECT COUNT(*) FROM jobs WHERE state <> 'queued'") > 0,
                 "the walk left jobs both in and out of the queue");
     }
 
@@ -225,31 +226,31 @@ class JobQueueTest extends StoreTestBase {
         }
         ClaimedJob job = running.remove(random.nextInt(running.size()));
         switch (random.nextInt(3)) {
-            case 0 -> store.retryIfRunning(job.id(), job.attempt(), "again", now);
-            case 1 -> store.failIfRunning(job.id(), job.attempt(), "no", null, now);
-            default -> store.completeIfRunning(job.id(), job.attempt(), null, "{}", now);
+            case 0 -> store.queue().retryIfRunning(job.id(), job.attempt(), "again", now);
+            case 1 -> store.queue().failIfRunning(job.id(), job.attempt(), "no", null, now);
+            default -> store.queue().completeIfRunning(job.id(), job.attempt(), null, "{}", now);
         }
     }
 
     @Test
     void enqueue_adds_a_regression_job_with_its_params() {
-        String id = store.enqueue("regression", null, "{\"suite\":\"nightly\"}", T1);
-        JobRow row = store.findJob(id).orElseThrow();
+        String id = store.queue().enqueue("regression", null, "{\"suite\":\"nightly\"}", T1);
+        JobRow row = store.jobs().findJob(id).orElseThrow();
         assertEquals(List.of("regression", "queued", "{\"suite\":\"nightly\"}", T1),
                 List.of(row.kind(), row.state(), row.paramsJson(), row.createdAt()));
         assertNull(row.traceId());
-        assertEquals(1, store.queuedCount());
+        assertEquals(1, store.queue().queuedCount());
     }
 
     @Test
     void enqueue_of_an_unknown_kind_names_the_kinds_expected() {
         IllegalArgumentException e = assertThrows(IllegalArgumentException.class,
-                () -> store.enqueue("train", null, null, T1));
+                () -> store.queue().enqueue("train", null, null, T1));
         assertTrue(e.getMessage().startsWith("got kind 'train', expected one of "), e.getMessage());
     }
 
     private Submission submit(String unit, Instant at) throws QueueFullException {
-        return store.submitTrace(StoreFixture.trace(unit), null, ROOMY, at);
+        return store.traces().submitTrace(StoreFixture.trace(unit), null, ROOMY, at);
     }
 
     private static NewEstimate estimateOf(Submission s, String summary) {

@@ -17,48 +17,48 @@ class ModelCatalogueTest extends StoreTestBase {
 
     @Test
     void creating_an_existing_family_returns_false_and_keeps_the_first() {
-        assertFalse(store.createFamily("pump", "another description", StoreFixture.T0.plusSeconds(5)));
-        assertEquals(Optional.of(new FamilyRow("pump", "test pumps", StoreFixture.T0)), store.findFamily("pump"));
+        assertFalse(store.models().createFamily("pump", "another description", StoreFixture.T0.plusSeconds(5)));
+        assertEquals(Optional.of(new FamilyRow("pump", "test pumps", StoreFixture.T0)), store.models().findFamily("pump"));
     }
 
     @Test
     void families_are_listed_by_name() {
-        assertTrue(store.createFamily("fan", "", StoreFixture.T0));
-        assertEquals(List.of("fan", "pump"), store.listFamilies().stream().map(FamilyRow::name).toList());
+        assertTrue(store.models().createFamily("fan", "", StoreFixture.T0));
+        assertEquals(List.of("fan", "pump"), store.models().listFamilies().stream().map(FamilyRow::name).toList());
     }
 
     @Test
     void publishing_allocates_versions_one_two_three_per_family() {
-        store.createFamily("fan", "", StoreFixture.T0);
+        store.models().createFamily("fan", "", StoreFixture.T0);
         Instant later = StoreFixture.T0.plus(Duration.ofMinutes(1));
-        assertEquals(2, store.publishVersion(StoreFixture.pumpVersion(), later).version());
-        assertEquals(1, store.publishVersion(fanVersion(), later).version());
-        assertEquals(3, store.publishVersion(StoreFixture.pumpVersion(), later).version());
-        assertEquals(List.of(1, 2, 3), store.listVersions("pump").stream().map(ModelVersionRow::version).toList());
+        assertEquals(2, store.models().publishVersion(StoreFixture.pumpVersion(), later).version());
+        assertEquals(1, store.models().publishVersion(fanVersion(), later).version());
+        assertEquals(3, store.models().publishVersion(StoreFixture.pumpVersion(), later).version());
+        assertEquals(List.of(1, 2, 3), store.models().listVersions("pump").stream().map(ModelVersionRow::version).toList());
     }
 
     @Test
     void a_published_version_reads_back_field_for_field() {
-        ModelVersionRow published = store.publishVersion(fanVersionIn("pump"), StoreFixture.T0.plusMillis(1500));
+        ModelVersionRow published = store.models().publishVersion(fanVersionIn("pump"), StoreFixture.T0.plusMillis(1500));
         ModelVersionRow expected = new ModelVersionRow("pump", 2, "active", "continuous", 3, 2, 0,
                 "{\"doc\":true}", "{\"obs\":true}", StoreFixture.T0.plusMillis(1500));
         assertEquals(expected, published);
-        assertEquals(Optional.of(expected), store.findVersion("pump", 2));
+        assertEquals(Optional.of(expected), store.models().findVersion("pump", 2));
     }
 
     @Test
     void publishing_into_a_missing_family_names_the_family() {
         IllegalArgumentException e = assertThrows(IllegalArgumentException.class,
-                () -> store.publishVersion(fanVersion(), StoreFixture.T0));
+                () -> store.models().publishVersion(fanVersion(), StoreFixture.T0));
         assertEquals("got family 'fan', expected an existing family", e.getMessage());
     }
 
     @Test
     void retiring_changes_only_the_status_and_is_false_for_a_missing_version() {
-        assertTrue(store.retireVersion("pump", 1));
-        assertEquals("retired", store.findVersion("pump", 1).orElseThrow().status());
-        assertEquals(2, store.findVersion("pump", 1).orElseThrow().states());
-        assertFalse(store.retireVersion("pump", 9));
+        assertTrue(store.models().retireVersion("pump", 1));
+        assertEquals("retired", store.models().findVersion("pump", 1).orElseThrow().status());
+        assertEquals(2, store.models().findVersion("pump", 1).orElseThrow().states());
+        assertFalse(store.models().retireVersion("pump", 9));
     }
 
     @Test

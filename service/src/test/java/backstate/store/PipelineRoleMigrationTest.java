@@ -41,8 +41,8 @@ class PipelineRoleMigrationTest {
         }
         List<List<String>> before = rows(file);
 
-        try (SqliteStore migrated = new SqliteStore(file, new TestClock(StoreFixture.T0))) {
-            assertTrue(migrated.hasActiveAdminKey());
+        try (SqliteDatabase migrated = new SqliteDatabase(file, new TestClock(StoreFixture.T0))) {
+            assertTrue(migrated.keys().hasActiveAdminKey());
         }
 
         assertEquals(before, rows(file));

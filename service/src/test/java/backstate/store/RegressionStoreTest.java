@@ -38,7 +38,7 @@ class RegressionStoreTest {
     @BeforeEach
     void open() throws Exception {
         fx = new StoreFixture(dir);
-        fx.store.publishVersion(StoreFixture.pumpVersion(), StoreFixture.T0); // version 2
+        fx.store.models().publishVersion(StoreFixture.pumpVersion(), StoreFixture.T0); // version 2
         a0 = submit("A", StoreFixture.T0, StoreFixture.T0);
         a1 = submit("A", T1, T1);
         b1 = submit("B", T1, T1);
@@ -54,12 +54,12 @@ class RegressionStoreTest {
     /** A trace recorded from {@code recorded} for 2 s and received at {@code received}. */
     String submit(String unit, Instant recorded, Instant received) throws QueueFullException {
         double start = recorded.getEpochSecond();
-        return fx.store.submitTrace(new NewTrace(unit, StoreFixture.FAMILY, StoreFixture.VERSION, 3, start, start + 2,
+        return fx.store.traces().submitTrace(new NewTrace(unit, StoreFixture.FAMILY, StoreFixture.VERSION, 3, start, start + 2,
                 new byte[] {1}), null, 1000, received).traceId();
     }
 
     List<String> select(List<String> units, TimeFilter times, Integer latest, int maxRows) {
-        return fx.store.selectTraces(new TraceSelection(StoreFixture.FAMILY, units, times, latest, maxRows))
+        return fx.store.regressions().selectTraces(new TraceSelection(StoreFixture.FAMILY, units, times, latest, maxRows))
                 .stream().map(TraceRef::id).toList();
     }
 
@@ -68,7 +68,7 @@ class RegressionStoreTest {
         assertEquals(List.of(late, a0, a1, a2, b1), select(null, TimeFilter.NONE, null, 100));
         assertEquals(List.of(late, a0), select(null, TimeFilter.NONE, null, 2));
         assertEquals(List.of(b1), select(List.of("B", "C"), TimeFilter.NONE, null, 100));
-        assertEquals(List.of(), fx.store.selectTraces(new TraceSelection("other", null, TimeFilter.NONE, null, 100)));
+        assertEquals(List.of(), fx.store.regressions().selectTraces(new TraceSelection("other", null, TimeFilter.NONE, null, 100)));
     }
 
     @Test
@@ -90,43 +90,43 @@ class RegressionStoreTest {
     @Test
     void a_full_queue_refuses_a_run_and_writes_nothing() throws Exception {
         long jobs = fx.rows("jobs");
-        assertThrows(QueueFullException.class, () -> fx.store.createRegression(run(), 4, T2));
+        assertThrows(QueueFullException.class, () -> fx.store.regressions().createRegression(run(), 4, T2));
         assertEquals(jobs, fx.rows("jobs"));
         assertEquals(0, fx.rows("regressions"));
     }
 
     @Test
     void cancel_request_is_kept_for_queued_and_running_runs_only() throws Exception {
-        String id = fx.store.createRegression(run(), 1000, T2);
-        assertFalse(fx.store.regressionCancelRequested(id));
-        ClaimedJob job = fx.store.claimNext(100, T2).stream().filter(j -> j.id().equals(id)).findFirst().orElseThrow();
-        assertTrue(fx.store.requestRegressionCancel(id, T2));
-        assertTrue(fx.store.regressionCancelRequested(id));
-        assertFalse(fx.store.cancelRegressionIfRunning(id, job.attempt() + 1, "{}", T2), "another attempt's");
-        assertTrue(fx.store.cancelRegressionIfRunning(id, job.attempt(), "{\"complete\":false}", T2));
-        RegressionRow row = fx.store.findRegression(id).orElseThrow();
+        String id = fx.store.regressions().createRegression(run(), 1000, T2);
+        assertFalse(fx.store.regressions().regressionCancelRequested(id));
+        ClaimedJob job = fx.store.queue().claimNext(100, T2).stream().filter(j -> j.id().equals(id)).findFirst().orElseThrow();
+        assertTrue(fx.store.regressions().requestRegressionCancel(id, T2));
+        assertTrue(fx.store.regressions().regressionCancelRequested(id));
+        assertFalse(fx.store.regressions().cancelRegressionIfRunning(id, job.attempt() + 1, "{}", T2), "another attempt's");
+        assertTrue(fx.store.regressions().cancelRegressionIfRunning(id, job.attempt(), "{\"complete\":false}", T2));
+        RegressionRow row = fx.store.regressions().findRegression(id).orElseThrow();
         assertEquals("cancelled", row.state());
         assertEquals(T2, row.cancelRequestedAtOrNull());
         assertNull(row.passOrNull());
-        assertEquals("{\"complete\":false}", fx.store.findJob(id).orElseThrow().resultJson());
-        assertFalse(fx.store.requestRegressionCancel(id, T2), "a finished run takes no cancel request");
-        assertFalse(fx.store.findRegression(a0).isPresent(), "a trace ID is not a run");
+        assertEquals("{\"complete\":false}", fx.store.jobs().findJob(id).orElseThrow().resultJson());
+        assertFalse(fx.store.regressions().requestRegressionCancel(id, T2), "a finished run takes no cancel request");
+        assertFalse(fx.store.regressions().findRegression(a0).isPresent(), "a trace ID is not a run");
     }
 
     @Test
     void runs_list_newest_first_with_the_verdict_read_from_the_result() throws Exception {
-        String older = fx.store.createRegression(run(), 1000, T1);
-        String newer = fx.store.createRegression(run(), 1000, T2);
-        ClaimedJob job = fx.store.claimNext(100, T2).stream().filter(j -> j.id().equals(older)).findFirst().orElseThrow();
-        assertTrue(fx.store.completeIfRunning(older, job.attempt(), null, "{\"verdict\":{\"pass\":true}}", T2));
-        RegressionPage first = fx.store.listRegressions(StoreFixture.FAMILY, null, 1);
+        String older = fx.store.regressions().createRegression(run(), 1000, T1);
+        String newer = fx.store.regressions().createRegression(run(), 1000, T2);
+        ClaimedJob job = fx.store.queue().claimNext(100, T2).stream().filter(j -> j.id().equals(older)).findFirst().orElseThrow();
+        assertTrue(fx.store.queue().completeIfRunning(older, job.attempt(), null, "{\"verdict\":{\"pass\":true}}", T2));
+        RegressionPage first = fx.store.regressions().listRegressions(StoreFixture.FAMILY, null, 1);
         assertEquals(List.of(newer), ids(first));
-        RegressionPage second = fx.store.listRegressions(StoreFixture.FAMILY, first.nextCursorOrNull(), 1);
+        RegressionPage second = fx.store.regressions().listRegressions(StoreFixture.FAMILY, first.nextCursorOrNull(), 1);
         assertEquals(List.of(older), ids(second));
         assertEquals(Boolean.TRUE, second.items().get(0).passOrNull());
         assertNull(second.nextCursorOrNull());
-        assertEquals(List.of(), ids(fx.store.listRegressions("other", null, 10)));
-        assertThrows(InvalidCursorException.class, () -> fx.store.listRegressions(null, "!!", 10));
+        assertEquals(List.of(), ids(fx.store.regressions().listRegressions("other", null, 10)));
+        assertThrows(InvalidCursorException.class, () -> fx.store.regressions().listRegressions(null, "!!", 10));
     }
 
     static NewRegression run() {

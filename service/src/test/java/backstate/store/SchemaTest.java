@@ -52,7 +52,7 @@ class SchemaTest {
         // journal_mode belongs to the file; the others are per connection, so ask a store's own.
         assertEquals(List.of("wal"), strings("PRAGMA journal_mode"));
         Connection[] writer = new Connection[1];
-        try (SqliteStore second = new SqliteStore(fx.file, fx.clock, SqliteSettings.defaults(), c -> writer[0] = c)) {
+        try (SqliteDatabase second = new SqliteDatabase(fx.file, fx.clock, SqliteSettings.defaults(), c -> writer[0] = c)) {
             assertEquals("2", pragma(writer[0], "synchronous")); // 2 = FULL
             assertEquals("1", pragma(writer[0], "foreign_keys"));
             assertEquals(String.valueOf(SqliteSettings.DEFAULT_BUSY_TIMEOUT.toMillis()),
@@ -71,8 +71,8 @@ class SchemaTest {
     void reopening_keeps_rows_and_does_not_migrate_again() throws SQLException {
         fx.close();
         long migrations = fx.count("SELECT COUNT(*) FROM flyway_schema_history WHERE success = 1");
-        try (SqliteStore reopened = new SqliteStore(fx.file, fx.clock)) {
-            assertEquals(1, reopened.listVersions(StoreFixture.FAMILY).size());
+        try (SqliteDatabase reopened = new SqliteDatabase(fx.file, fx.clock)) {
+            assertEquals(1, reopened.models().listVersions(StoreFixture.FAMILY).size());
         }
         assertEquals(migrations, fx.count("SELECT COUNT(*) FROM flyway_schema_history WHERE success = 1"));
     }
@@ -134,7 +134,7 @@ class SchemaTest {
     /** V9: a request fingerprint is a SHA-256, 32 bytes. */
     @Test
     void a_fingerprint_that_is_not_32_bytes_is_rejected() throws Exception {
-        Submission s = fx.store.submitTrace(StoreFixture.trace("unit-1"), StoreFixture.key("k"), 10, StoreFixture.T0);
+        Submission s = fx.store.traces().submitTrace(StoreFixture.trace("unit-1"), StoreFixture.key("k"), 10, StoreFixture.T0);
         assertRejected("UPDATE idempotency_keys SET fingerprint = x'00' WHERE job_id = '" + s.jobId() + "'");
     }
 
@@ -147,7 +147,7 @@ class SchemaTest {
     @Test
     void a_published_version_cannot_be_edited_or_unretired() throws SQLException {
         assertRejected("UPDATE model_versions SET states = 3 WHERE family = 'pump'");
-        assertTrue(fx.store.retireVersion(StoreFixture.FAMILY, StoreFixture.VERSION));
+        assertTrue(fx.store.models().retireVersion(StoreFixture.FAMILY, StoreFixture.VERSION));
         assertRejected("UPDATE model_versions SET status = 'active' WHERE family = 'pump'");
     }
 
@@ -189,9 +189,9 @@ class SchemaTest {
                         + (running || done ? "1" : "NULL") + ", " + (done ? "2" : "NULL") + ")");
             }
         }
-        try (SqliteStore migrated = new SqliteStore(file, fx.clock)) {
+        try (SqliteDatabase migrated = new SqliteDatabase(file, fx.clock)) {
             // 3 queued, plus the running one: opening the store rescues it (a crash left it running).
-            assertEquals(4, migrated.queuedCount());
+            assertEquals(4, migrated.queue().queuedCount());
         }
         try (Connection c = java.sql.DriverManager.getConnection("jdbc:sqlite:" + file);
              ResultSet rs = c.createStatement().executeQuery("SELECT COUNT(*) FROM jobs WHERE state = 'queued'")) {
@@ -226,14 +226,14 @@ class SchemaTest {
                 st.executeUpdate("INSERT INTO estimate_states (estimate_id, state, value) VALUES ('e-" + t[0] + "', 'x', 1.0)");
             }
         }
-        try (SqliteStore migrated = new SqliteStore(file, fx.clock)) {
-            assertEquals("e-recent", migrated.latestEstimate("u").orElseThrow().id());
-            assertEquals(java.time.Instant.ofEpochMilli(30), migrated.findEstimate("e-late").orElseThrow().receivedAt());
-            assertEquals(List.of("e-recent"), migrated.fleetUnits(new UnitFilter("pump", null, null), UnitSort.UNIT_ID, null, 5)
+        try (SqliteDatabase migrated = new SqliteDatabase(file, fx.clock)) {
+            assertEquals("e-recent", migrated.estimates().latestEstimate("u").orElseThrow().id());
+            assertEquals(java.time.Instant.ofEpochMilli(30), migrated.estimates().findEstimate("e-late").orElseThrow().receivedAt());
+            assertEquals(List.of("e-recent"), migrated.fleet().fleetUnits(new UnitFilter("pump", null, null), UnitSort.UNIT_ID, null, 5)
                     .items().stream().map(UnitLatestRow::estimateId).toList());
-            assertEquals(List.of("e-recent", "e-late"), migrated.stateTrend("u", "x", "pump", null, TimeFilter.NONE, 5).stream()
+            assertEquals(List.of("e-recent", "e-late"), migrated.fleet().stateTrend("u", "x", "pump", null, TimeFilter.NONE, 5).stream()
                     .map(StatePoint::estimateId).toList());
-            FleetSummary recordedEarly = migrated.fleetSummary(new FleetSummaryQuery("pump", java.util.Map.of(1, List.of("pos")),
+            FleetSummary recordedEarly = migrated.fleet().fleetSummary(new FleetSummaryQuery("pump", java.util.Map.of(1, List.of("pos")),
                     TimeFilter.recorded(java.time.Instant.ofEpochSecond(0), java.time.Instant.ofEpochSecond(1500)), null,
                     java.time.Instant.ofEpochSecond(0), 5));
             assertEquals(List.of(1L, 1L, 1), List.of(recordedEarly.versions().get(0).estimates(),

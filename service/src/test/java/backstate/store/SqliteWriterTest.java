@@ -3,6 +3,8 @@ package backstate.store;
 import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertFalse;
 import static org.junit.jupiter.api.Assertions.assertInstanceOf;
+import static org.junit.jupiter.api.Assertions.assertNotSame;
+import static org.junit.jupiter.api.Assertions.assertSame;
 import static org.junit.jupiter.api.Assertions.assertThrows;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
@@ -12,6 +14,7 @@ import java.lang.reflect.Proxy;
 import java.nio.file.Path;
 import java.sql.Connection;
 import java.sql.DriverManager;
+import java.sql.PreparedStatement;
 import java.sql.ResultSet;
 import java.sql.SQLException;
 import java.sql.Statement;
@@ -34,9 +37,9 @@ import org.sqlite.SQLiteErrorCode;
 import org.sqlite.SQLiteException;
 
 /**
- * Group commit on its own table: the leading caller is held inside its write while others queue
- * up, so each test knows exactly which writes share the next batch. The connection records the
- * SQL of every {@code Statement.execute} and can fail a chosen one.
+ * The writer thread and group commit on its own table: the writer thread is held inside one
+ * write while others queue up, so each test knows exactly which writes share the next batch. The
+ * connection records the SQL of every {@code Statement.execute} and can fail a chosen one.
  */
 class SqliteWriterTest {
 
@@ -74,9 +77,38 @@ class SqliteWriterTest {
     }
 
     @Test
-    void a_lone_write_runs_on_its_callers_thread_in_its_own_transaction() {
-        assertEquals(Thread.currentThread(), writer.write(c -> Thread.currentThread()));
+    void a_lone_write_runs_on_the_writer_thread_in_its_own_transaction() {
+        assertEquals("backstate-writer", writer.write(c -> Thread.currentThread().getName()));
         assertEquals(List.of(BEGIN, SAVEPOINT, RELEASE, COMMIT), log);
+    }
+
+    @Test
+    void the_writer_keeps_its_prepared_statements_across_writes_and_drops_them_after_a_failure() throws Exception {
+        PreparedStatement first = writer.write(c -> c.prepare("SELECT count(*) FROM t"));
+        assertSame(first, writer.write(c -> c.prepare("SELECT count(*) FROM t")));
+        assertThrows(IllegalArgumentException.class, () -> writer.write(insertThenThrow(1)));
+        assertTrue(first.isClosed(), "SQLite may have left a statement mid-step: all are compiled again");
+        PreparedStatement fresh = writer.write(c -> c.prepare("SELECT count(*) FROM t"));
+        assertNotSame(first, fresh);
+        assertEquals(List.of(), ids());
+    }
+
+    @Test
+    void writes_handed_over_one_after_another_commit_in_that_order() throws Exception {
+        holdLeader();
+        List<Future<Object>> writes = new ArrayList<>();
+        for (int id = 1; id <= 5; id++) {
+            writes.add(queue(c -> {
+                long before = Sql.firstOrNull(c.prepare("SELECT count(*) FROM t"), rs -> rs.getLong(1));
+                insert((int) before + 1).run(c);
+                return before;
+            }));
+        }
+        release.countDown();
+        for (int i = 0; i < 5; i++) {
+            assertEquals((long) i, writes.get(i).get(WAIT_SECONDS, TimeUnit.SECONDS), "each write sees those before it");
+        }
+        assertEquals(List.of(1, 2, 3, 4, 5), ids());
     }
 
     @Test
@@ -203,9 +235,7 @@ class SqliteWriterTest {
         Future<Object> before = queue(insert(1));
         // What SQLite does after SQLITE_FULL or SQLITE_IOERR: roll the whole transaction back.
         Future<Object> full = queue(c -> {
-            try (Statement s = c.createStatement()) {
-                s.execute("ROLLBACK");
-            }
+            c.execute("ROLLBACK");
             throw new SQLiteException("injected: database or disk is full", SQLiteErrorCode.SQLITE_FULL);
         });
         Future<Object> after = queue(insert(3));
@@ -253,7 +283,7 @@ class SqliteWriterTest {
 
     // ---- helpers
 
-    /** Starts a write that blocks until {@link #release}, and waits until it runs: its caller leads. */
+    /** Starts a write that blocks until {@link #release}, and waits until it runs: the writer thread is held. */
     private void holdLeader() throws Exception {
         CountDownLatch started = new CountDownLatch(1);
         callers.submit(() -> writer.write(c -> {
@@ -302,9 +332,7 @@ class SqliteWriterTest {
 
     private static SqlWork<Integer> insert(int id) {
         return c -> {
-            try (Statement s = c.createStatement()) {
-                s.execute(insertSql(id));
-            }
+            c.execute(insertSql(id));
             return id;
         };
     }

@@ -33,12 +33,12 @@ class StoreErrorsTest {
             s.execute("BEGIN IMMEDIATE");
 
             StoreUnavailableException e = assertThrows(StoreUnavailableException.class,
-                    () -> fx.store.createFamily("fan", "", StoreFixture.T0));
+                    () -> fx.store.models().createFamily("fan", "", StoreFixture.T0));
             assertEquals("database busy", e.reason());
-            assertTrue(fx.store.findFamily("pump").isPresent(), "WAL readers are not blocked by the writer");
+            assertTrue(fx.store.models().findFamily("pump").isPresent(), "WAL readers are not blocked by the writer");
 
             s.execute("ROLLBACK");
-            assertTrue(fx.store.createFamily("fan", "", StoreFixture.T0));
+            assertTrue(fx.store.models().createFamily("fan", "", StoreFixture.T0));
         }
     }
 
@@ -47,12 +47,12 @@ class StoreErrorsTest {
         Connection[] writer = new Connection[1];
         StoreFixture fx = new StoreFixture(dir);
         fx.close();
-        try (SqliteStore store = new SqliteStore(fx.file, fx.clock, SqliteSettings.defaults(), c -> writer[0] = c)) {
+        try (SqliteDatabase store = new SqliteDatabase(fx.file, fx.clock, SqliteSettings.defaults(), c -> writer[0] = c)) {
             capDatabaseAtItsCurrentSize(writer[0]);
             NewTrace big = new NewTrace("unit-1", "pump", 1, 3, 0.0, 1.0, new byte[PAYLOAD_PAGES_WORTH]);
 
             StoreUnavailableException e = assertThrows(StoreUnavailableException.class,
-                    () -> store.submitTrace(big, StoreFixture.key("key-1"), 10, StoreFixture.T0));
+                    () -> store.traces().submitTrace(big, StoreFixture.key("key-1"), 10, StoreFixture.T0));
             assertEquals("disk full", e.reason());
             assertEquals(0, fx.rows("traces") + fx.rows("jobs"));
             assertEquals("ok", fx.integrityCheck());
@@ -81,7 +81,7 @@ class StoreErrorsTest {
         StoreFixture fx = new StoreFixture(dir);
         fx.close();
         assertFalse(fx.store.isReachable());
-        IllegalStateException e = assertThrows(IllegalStateException.class, () -> fx.store.listFamilies());
+        IllegalStateException e = assertThrows(IllegalStateException.class, () -> fx.store.models().listFamilies());
         assertEquals("got a call on a closed store, expected an open one", e.getMessage());
     }
 

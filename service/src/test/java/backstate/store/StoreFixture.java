@@ -1,5 +1,9 @@
 package backstate.store;
 
+import backstate.jobs.NewEstimate;
+import backstate.formats.EstimateDocument;
+import com.fasterxml.jackson.core.JsonProcessingException;
+import com.fasterxml.jackson.databind.ObjectMapper;
 import java.nio.charset.StandardCharsets;
 import java.nio.file.Path;
 import java.sql.Connection;
@@ -17,13 +21,15 @@ import java.util.List;
  */
 public final class StoreFixture implements AutoCloseable {
 
+    private static final ObjectMapper DOCUMENTS = new ObjectMapper();
+
     public static final Instant T0 = Instant.parse("2025-03-01T12:00:00Z");
     public static final String FAMILY = "pump";
     public static final int VERSION = 1;
 
     public final Path file;
     public final TestClock clock = new TestClock(T0);
-    public final SqliteStore store;
+    public final SqliteDatabase store;
 
     public StoreFixture(Path dir) {
         this(dir, SqliteSettings.defaults());
@@ -31,13 +37,13 @@ public final class StoreFixture implements AutoCloseable {
 
     public StoreFixture(Path dir, SqliteSettings settings) {
         this.file = dir.resolve("backstate.db");
-        this.store = new SqliteStore(file, clock, settings);
+        this.store = new SqliteDatabase(file, clock, settings);
         publishPump(store);
     }
 
-    public static void publishPump(Store store) {
-        store.createFamily(FAMILY, "test pumps", T0);
-        store.publishVersion(pumpVersion(), T0);
+    public static void publishPump(Database store) {
+        store.models().createFamily(FAMILY, "test pumps", T0);
+        store.models().publishVersion(pumpVersion(), T0);
     }
 
     public static NewModelVersion pumpVersion() {
@@ -65,7 +71,26 @@ public final class StoreFixture implements AutoCloseable {
 
     public static NewEstimate estimate(String traceId, String unitId, String family, int version,
                                        List<String> flags, String summaryJson) {
-        return new NewEstimate(traceId, unitId, family, version, 0.0, 2.0, 1.25, flags, summaryJson);
+        return estimate(traceId, unitId, family, version, 0.0, 2.0, 1.25, flags, summaryJson);
+    }
+
+    /**
+     * An estimate stored with {@code summaryJson}, its fleet figures typed from that text read as an
+     * {@link EstimateDocument}, as a job's are from the document it serialises; text that is not such
+     * a document gives no figures.
+     */
+    public static NewEstimate estimate(String traceId, String unitId, String family, int version, double windowStart,
+                                       double windowEnd, Double chi2PerDof, List<String> flags, String summaryJson) {
+        return NewEstimate.of(traceId, unitId, family, version, windowStart, windowEnd, chi2PerDof, flags,
+                documentOrNull(summaryJson), summaryJson);
+    }
+
+    private static EstimateDocument documentOrNull(String json) {
+        try {
+            return DOCUMENTS.readValue(json, EstimateDocument.class);
+        } catch (JsonProcessingException notADocument) {
+            return null;
+        }
     }
 
     public Connection raw() throws SQLException {

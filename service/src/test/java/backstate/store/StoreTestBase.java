@@ -10,7 +10,7 @@ public abstract class StoreTestBase {
     @TempDir
     protected Path dir;
     protected StoreFixture fx;
-    protected SqliteStore store;
+    protected SqliteDatabase store;
 
     @BeforeEach
     void openStore() {

@@ -1,0 +1,114 @@
+package backstate.store;
+
+import backstate.jobs.JobQueue;
+import java.nio.file.Path;
+import java.sql.Connection;
+import java.time.Clock;
+import java.util.function.UnaryOperator;
+
+/**
+ * One SQLite file and its stores. Opening migrates the schema with Flyway and rescues every job
+ * left {@code running}: only one process serves a file, so such a job was abandoned by a crash or
+ * a shutdown that timed out.
+ *
+ * <p>Connections ({@link SqliteConnections}): one write connection owned by the writer thread
+ * ({@link SqliteWriter}: group commit, job-queue writes first), and a fixed set of read
+ * connections that WAL lets read alongside it. Each aggregate's class holds its named SQL:
+ * {@link SqliteModels}, {@link SqliteSubmissions}, {@link SqliteJobs}, {@link SqliteEstimates},
+ * {@link SqliteFleet}, {@link SqliteApiKeys}, {@link SqliteRegressions}.
+ */
+public final class SqliteDatabase implements Database {
+
+    private final SqliteConnections db;
+    private final SqliteModels models;
+    private final SqliteSubmissions traces;
+    private final SqliteJobs jobs;
+    private final SqliteEstimates estimates;
+    private final SqliteFleet fleet;
+    private final SqliteApiKeys keys;
+    private final SqliteRegressions regressions;
+
+    public SqliteDatabase(Path file, Clock clock) {
+        this(file, clock, SqliteSettings.defaults());
+    }
+
+    public SqliteDatabase(Path file, Clock clock, SqliteSettings settings) {
+        this(file, clock, settings, UnaryOperator.identity());
+    }
+
+    /** For fault tests: {@code writerDecorator} wraps the write connection once it is open. */
+    SqliteDatabase(Path file, Clock clock, SqliteSettings settings, UnaryOperator<Connection> writerDecorator) {
+        Expect.notNull("file", file);
+        Expect.notNull("clock", clock);
+        Expect.notNull("settings", settings);
+        this.db = new SqliteConnections(file, settings, writerDecorator);
+        try {
+            SqliteMigrations.migrate(db.dataSource());
+            this.models = new SqliteModels(db);
+            this.traces = new SqliteSubmissions(db);
+            this.jobs = new SqliteJobs(db, clock, settings.maxAttempts());
+            this.estimates = new SqliteEstimates(db);
+            this.fleet = new SqliteFleet(db);
+            this.keys = new SqliteApiKeys(db);
+            this.regressions = new SqliteRegressions(db);
+            jobs.rescueAllRunning();
+        } catch (RuntimeException e) {
+            db.close();
+            throw e;
+        }
+    }
+
+    @Override
+    public ModelCatalogue models() {
+        return models;
+    }
+
+    @Override
+    public TraceIntakeStore traces() {
+        return traces;
+    }
+
+    @Override
+    public JobQueue queue() {
+        return jobs;
+    }
+
+    @Override
+    public JobStore jobs() {
+        return jobs;
+    }
+
+    @Override
+    public EstimateStore estimates() {
+        return estimates;
+    }
+
+    @Override
+    public FleetStore fleet() {
+        return fleet;
+    }
+
+    @Override
+    public ApiKeyStore keys() {
+        return keys;
+    }
+
+    @Override
+    public RegressionStore regressions() {
+        return regressions;
+    }
+
+    @Override
+    public boolean isReachable() {
+        try {
+            return db.read(c -> Sql.firstOrNull(c.prepare("SELECT 1"), rs -> true) != null);
+        } catch (RuntimeException e) {
+            return false;
+        }
+    }
+
+    @Override
+    public void close() {
+        db.close();
+    }
+}

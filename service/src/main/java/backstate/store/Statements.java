@@ -1,0 +1,61 @@
+package backstate.store;
+
+import java.sql.Connection;
+import java.sql.PreparedStatement;
+import java.sql.SQLException;
+import java.sql.Statement;
+import java.util.HashMap;
+import java.util.Map;
+
+/**
+ * What the statement classes get of a connection: statements prepared by their SQL text, owned
+ * here, so callers bind and execute them but never close them. On the write connection
+ * ({@link SqliteWriter}) they are kept for the connection's life: sqlite-jdbc compiles a statement
+ * again on every {@code prepareStatement}, which cost about a quarter of the writer's CPU per
+ * trace. On a read connection they live for one read ({@link SqliteConnections#read}).
+ *
+ * <p>One thread at a time uses an instance. Results are read to the end or closed
+ * ({@link Sql#list}, {@link Sql#firstOrNull}) before the same SQL is prepared again, since
+ * preparing it again hands out the same statement.
+ */
+final class Statements implements AutoCloseable {
+    private final Connection connection;
+    private final Map<String, PreparedStatement> prepared = new HashMap<>();
+
+    Statements(Connection connection) {
+        this.connection = connection;
+    }
+
+    /** The statement for {@code sql}, compiled on first use. */
+    PreparedStatement prepare(String sql) throws SQLException {
+        PreparedStatement ps = prepared.get(sql);
+        if (ps == null) {
+            ps = connection.prepareStatement(sql);
+            prepared.put(sql, ps);
+        }
+        return ps;
+    }
+
+    /** Runs SQL that is not kept (transaction control, pragmas). */
+    void execute(String sql) throws SQLException {
+        try (Statement s = connection.createStatement()) {
+            s.execute(sql);
+        }
+    }
+
+    /**
+     * Closes every statement, to be compiled afresh on next use: after a failure SQLite may have
+     * left one mid-step, and closing all is simpler than finding it (failures are rare).
+     */
+    @Override
+    public void close() {
+        for (PreparedStatement ps : prepared.values()) {
+            try {
+                ps.close();
+            } catch (SQLException ignored) {
+                // Best effort: a statement that cannot close is dropped all the same.
+            }
+        }
+        prepared.clear();
+    }
+}
