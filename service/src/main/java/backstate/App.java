@@ -2,11 +2,14 @@ package backstate;
 
 import backstate.api.ApiServer;
 import backstate.api.ProcessMeters;
+import backstate.api.SeriesSolves;
 import backstate.auth.ApiKeys;
 import backstate.auth.FirstAdminKey;
 import backstate.config.Settings;
+import backstate.formats.CheckedModels;
 import backstate.formats.Json;
 import backstate.formats.Limits;
+import backstate.intake.TraceIntake;
 import backstate.jobs.EstimateJobHandler;
 import backstate.jobs.HandlersByKind;
 import backstate.jobs.JobHandler;
@@ -41,7 +44,8 @@ public final class App implements AutoCloseable {
         PrometheusMeterRegistry registry = new PrometheusMeterRegistry(PrometheusConfig.DEFAULT);
         this.store = openStore(settings.database(), clock);
         this.processMeters = ProcessMeters.bind(registry);
-        StoredTraceSolver stored = new StoredTraceSolver(store, mapper, limits);
+        CheckedModels models = new CheckedModels(mapper, limits);
+        StoredTraceSolver stored = new StoredTraceSolver(store, models, mapper);
         JobHandler handlers = new HandlersByKind(Map.of(
                 "estimate", new EstimateJobHandler(stored, mapper, registry),
                 "regression", new RegressionJobHandler(store, store, stored, mapper, limits, clock)));
@@ -56,8 +60,10 @@ public final class App implements AutoCloseable {
                 throw e;
             }
         }
+        TraceIntake intake = new TraceIntake(store, models, limits, mapper, clock, settings.maxQueued(), workers::wake);
         this.api = new ApiServer(new ApiServer.Wiring(store, mapper, clock, registry, limits, settings.maxBodyBytes(),
-                settings.maxQueued(), store::queuedCount, workers::wake, keys, settings.auth(), stored));
+                settings.maxQueued(), store::queuedCount, workers::wake, keys, settings.auth(), intake, stored,
+                new SeriesSolves(settings.seriesThreads(), settings.seriesQueue())));
     }
 
     /** Starts the workers and the HTTP edge; if either fails (the port is taken, say), everything is closed again. */

@@ -1,7 +1,10 @@
 package backstate.api;
 
 import backstate.auth.ApiKeys;
+import backstate.config.Settings;
+import backstate.formats.CheckedModels;
 import backstate.formats.Limits;
+import backstate.intake.TraceIntake;
 import backstate.jobs.StoredTraceSolver;
 import backstate.store.Store;
 import com.fasterxml.jackson.databind.ObjectMapper;
@@ -31,25 +34,36 @@ public final class ApiServer implements AutoCloseable {
 
     private final Javalin app;
     private final List<Route> routes;
+    private final SeriesSolves series;
 
     /**
-     * What the routes need; wired by hand in App. {@code stored} is shared with the estimate jobs,
-     * which take the traces the posts keep fresh for them.
+     * What the routes need; wired by hand in App. {@code intake} takes trace posts, {@code stored}
+     * rebuilds series on the {@code series} pool (which {@link #close()} shuts down).
      */
     public record Wiring(Store store, ObjectMapper mapper, Clock clock, PrometheusMeterRegistry registry, Limits limits,
                          long maxBodyBytes, int maxQueued, IntSupplier queued, Runnable wakeWorkers,
-                         ApiKeys keys, boolean auth, StoredTraceSolver stored) {
+                         ApiKeys keys, boolean auth, TraceIntake intake, StoredTraceSolver stored, SeriesSolves series) {
 
         /** Access control off and no workers here (tests that drive the API directly); key management still works on the store. */
         public Wiring(Store store, ObjectMapper mapper, Clock clock, PrometheusMeterRegistry registry, Limits limits,
                       long maxBodyBytes, int maxQueued, IntSupplier queued, Runnable wakeWorkers) {
             this(store, mapper, clock, registry, limits, maxBodyBytes, maxQueued, queued, wakeWorkers,
-                    new ApiKeys(store, clock, new SecureRandom()), false, new StoredTraceSolver(store, mapper, limits));
+                    new CheckedModels(mapper, limits));
+        }
+
+        private Wiring(Store store, ObjectMapper mapper, Clock clock, PrometheusMeterRegistry registry, Limits limits,
+                       long maxBodyBytes, int maxQueued, IntSupplier queued, Runnable wakeWorkers, CheckedModels models) {
+            this(store, mapper, clock, registry, limits, maxBodyBytes, maxQueued, queued, wakeWorkers,
+                    new ApiKeys(store, clock, new SecureRandom()), false,
+                    new TraceIntake(store, models, limits, mapper, clock, maxQueued, wakeWorkers),
+                    new StoredTraceSolver(store, models, mapper),
+                    new SeriesSolves(Settings.DEFAULT_SERIES_THREADS, Settings.DEFAULT_SERIES_QUEUE));
         }
     }
 
     public ApiServer(Wiring w) {
         this.routes = routes(w);
+        this.series = w.series();
         ProblemMapper problems = new ProblemMapper(w.mapper());
         AccessGuard guard = new AccessGuard(w.keys(), w.store(), w.auth());
         this.app = Javalin.create(config -> {
@@ -86,10 +100,9 @@ public final class ApiServer implements AutoCloseable {
     /** The route table: a reader sees the whole API here. */
     static List<Route> routes(Wiring w) {
         ModelRoutes models = new ModelRoutes(w.store(), w.mapper(), w.clock(), w.limits(), w.maxBodyBytes());
-        TraceRoutes traces = new TraceRoutes(w.store(), w.stored(), w.mapper(), w.clock(), w.limits(), w.maxBodyBytes(),
-                w.maxQueued(), w.wakeWorkers());
+        TraceRoutes traces = new TraceRoutes(w.intake(), w.maxBodyBytes());
         JobRoutes jobs = new JobRoutes(w.store(), w.mapper(), w.clock());
-        EstimateRoutes estimates = new EstimateRoutes(w.store(), w.stored());
+        EstimateRoutes estimates = new EstimateRoutes(w.store(), w.stored(), w.series());
         ServiceRoutes service = new ServiceRoutes(w.store(), w.registry(), w.queued(), w.maxQueued());
         KeyRoutes keys = new KeyRoutes(w.keys(), w.mapper());
         RegressionRoutes regressions = new RegressionRoutes(w.store(), w.mapper(), w.clock(), w.maxBodyBytes(),
@@ -150,8 +163,14 @@ public final class ApiServer implements AutoCloseable {
         return app.port();
     }
 
+    /** The series pool, for tests that fill it. */
+    SeriesSolves series() {
+        return series;
+    }
+
     @Override
     public void close() {
         app.stop();
+        series.close();
     }
 }

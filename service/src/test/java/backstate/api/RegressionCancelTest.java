@@ -14,6 +14,7 @@ import backstate.jobs.JobOutcome;
 import backstate.jobs.JobQueue;
 import backstate.jobs.RegressionJobHandler;
 import backstate.jobs.StoredTraceSolver;
+import backstate.formats.CheckedModels;
 import backstate.store.SqliteStore;
 import com.fasterxml.jackson.databind.JsonNode;
 import com.fasterxml.jackson.databind.ObjectMapper;
@@ -157,7 +158,7 @@ class RegressionCancelTest {
     }
 
     private RegressionJobHandler handler(JobQueue queue) {
-        return new RegressionJobHandler(store, queue, new StoredTraceSolver(store, mapper, Limits.DEFAULTS), mapper,
+        return new RegressionJobHandler(store, queue, new StoredTraceSolver(store, new CheckedModels(mapper, Limits.DEFAULTS), mapper), mapper,
                 Limits.DEFAULTS, Clock.systemUTC());
     }
 
