@@ -106,7 +106,7 @@ final class ProblemMapper {
     private void write(Context ctx, Problem problem) {
         try {
             // Bytes, not a String: Jetty would encode a String as ISO-8859-1 for this media type,
-            // and JSON is UTF-8 (a detail quoting the client's non-ASCII input broke it).
+            // and JSON is UTF-8, so a detail quoting a client's non-ASCII input must stay UTF-8.
             ctx.status(problem.status()).contentType(Problem.MEDIA_TYPE).result(mapper.writeValueAsBytes(problem));
         } catch (JsonProcessingException e) {
             throw new IllegalStateException("problem document could not be written", e);

@@ -18,11 +18,13 @@ import java.util.zip.GZIPOutputStream;
  * One documented curl command read as the HTTP request it sends, so doc examples run without
  * curl installed. It knows the few things the docs use and fails on anything else, so an
  * example cannot silently mean more than the test sends: {@code $B} (the server), shell quoting,
- * {@code -s}, {@code -X}, {@code -H}, {@code -d}, {@code --data-binary @FILE} and
- * {@code gzip -c FILE | curl ... --data-binary @-}. Files are relative to the repository root.
+ * {@code -s}, {@code -X}, {@code -H}, {@code -d}, {@code --data-binary @FILE},
+ * {@code gzip -c FILE | curl ... --data-binary @-} and {@code sed '1s/^OLD/NEW/' FILE | curl ...
+ * --data-binary @-} (the first line's prefix replaced). Files are relative to the repository root.
  */
 record CurlLine(String method, String url, Map<String, String> headers, byte[] body) {
     private static final String GZIP_PIPE = "gzip -c ";
+    private static final String FIRST_LINE_SED = "sed '1s/^";
 
     static CurlLine parse(String command, String base, Path root) {
         byte[] piped = null;
@@ -30,6 +32,10 @@ record CurlLine(String method, String url, Map<String, String> headers, byte[] b
         if (command.startsWith(GZIP_PIPE)) {
             int bar = command.indexOf(" | ");
             piped = gzip(read(root, command.substring(GZIP_PIPE.length(), bar).strip()));
+            curl = command.substring(bar + 3);
+        } else if (command.startsWith(FIRST_LINE_SED)) {
+            int bar = command.indexOf(" | ");
+            piped = firstLineReplaced(root, command.substring(0, bar));
             curl = command.substring(bar + 3);
         }
         List<String> words = words(curl.replace("$B", base));
@@ -68,6 +74,21 @@ record CurlLine(String method, String url, Map<String, String> headers, byte[] b
             throw new IllegalArgumentException("no URL in " + command);
         }
         return new CurlLine(method != null ? method : body != null ? "POST" : "GET", url, headers, body);
+    }
+
+    /** {@code sed '1s/^OLD/NEW/' FILE}: the file with OLD at the start of its first line replaced by NEW. */
+    private static byte[] firstLineReplaced(Path root, String sed) {
+        List<String> words = words(sed);
+        String[] parts = words.get(1).split("/", -1);
+        if (words.size() != 3 || parts.length != 4 || !parts[0].equals("1s") || !parts[1].startsWith("^") || !parts[3].isEmpty()) {
+            throw new IllegalArgumentException("got " + sed + ", expected sed '1s/^OLD/NEW/' FILE");
+        }
+        String text = new String(read(root, words.get(2)), StandardCharsets.UTF_8);
+        String old = parts[1].substring(1);
+        if (!text.startsWith(old)) {
+            throw new IllegalArgumentException("the first line of " + words.get(2) + " does not start with " + old);
+        }
+        return (parts[2] + text.substring(old.length())).getBytes(StandardCharsets.UTF_8);
     }
 
     HttpRequest.Builder request() {
