@@ -12,7 +12,7 @@ set -euo pipefail
 cd "$(dirname "$0")/.."
 OUT=bench/out
 RUNS=${RUNS:-11}
-HEAP_OPTS=${HEAP_OPTS:--Xms1g -Xmx1g}
+HEAP_OPTS=${HEAP_OPTS:--Xms2g -Xmx2g -XX:+AlwaysPreTouch}
 mkdir -p "$OUT"
 
 echo "== build" >&2

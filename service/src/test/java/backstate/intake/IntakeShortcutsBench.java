@@ -1,5 +1,10 @@
 package backstate.intake;
 
+import static backstate.bench.CallTimes.median;
+import static backstate.bench.CallTimes.millis;
+import static backstate.bench.CallTimes.minAndMedian;
+import static backstate.bench.CallTimes.sorted;
+
 import backstate.formats.CheckedModel;
 import backstate.formats.DocumentSolver;
 import backstate.formats.Json;
@@ -18,11 +23,9 @@ import java.io.ByteArrayInputStream;
 import java.io.IOException;
 import java.nio.file.Files;
 import java.nio.file.Path;
-import java.util.Arrays;
 import java.util.Locale;
 import java.util.Map;
 import java.util.concurrent.ConcurrentHashMap;
-import java.util.function.Supplier;
 
 /**
  * What the two intake shortcuts could save a trace's estimate job, against what the job does
@@ -61,25 +64,26 @@ public final class IntakeShortcutsBench {
                         new ByteArrayInputStream(reefer.csv(n, 7)), document, TraceOptions.NONE);
                 byte[] payload = codec.encode(parsed);
                 Map<String, ParsedTrace> memory = new ConcurrentHashMap<>();
-                double[] decode = time(runs, batch, () -> codec.decode(payload));
-                double[] take = time(runs, batch, () -> {
+                double[] decode = sorted(runs, batch, () -> codec.decode(payload));
+                double[] take = sorted(runs, batch, () -> {
                     memory.put("t", parsed);
                     return memory.remove("t");
                 });
-                double[] solve = time(runs, batch, () -> DocumentSolver.solve(model, parsed, false));
+                double[] solve = sorted(runs, batch, () -> DocumentSolver.solve(model, parsed, false));
                 int[] unit = {0};
-                double[] write = time(runs, batch, () -> store(db, new NewTrace("U-" + n + "-" + unit[0]++,
+                double[] write = sorted(runs, batch, () -> store(db, new NewTrace("U-" + n + "-" + unit[0]++,
                         StoreFixture.FAMILY, StoreFixture.VERSION, n, 0, n, payload)));
                 double cacheSaves = median(decode) - median(take);
                 double aheadSaves = Math.min(median(solve), median(write));
                 System.out.printf(Locale.ROOT, "| 10^%d | %d | %s | %s | %.5f | %s | %s (%.0f %%) | %s | %s (%.0f %%) |%n",
-                        Math.round(Math.log10(n)), payload.length, text(decode), text(take), median(take) / median(decode),
-                        text(solve), millis(cacheSaves), 100 * cacheSaves / (median(decode) + median(solve)), text(write),
-                        millis(aheadSaves), 100 * aheadSaves / (median(solve) + median(write)));
+                        Math.round(Math.log10(n)), payload.length, minAndMedian(decode), minAndMedian(take),
+                        median(take) / median(decode), minAndMedian(solve), millis(cacheSaves),
+                        100 * cacheSaves / (median(decode) + median(solve)), minAndMedian(write), millis(aheadSaves),
+                        100 * aheadSaves / (median(solve) + median(write)));
             }
         }
         System.out.println();
-        System.out.println("Times are min / median per call in ms. The cache saves a job its decode (medians); a solve-ahead"
+        System.out.println("Times are min / median per call. The cache saves a job its decode (medians); a solve-ahead"
                 + " saves at most the shorter of solve and write (medians), the overlap if both ran at once on free cores.");
     }
 
@@ -89,37 +93,5 @@ public final class IntakeShortcutsBench {
         } catch (QueueFullException e) {
             throw new IllegalStateException("no queue limit was set", e);
         }
-    }
-
-    /** Per-call times of {@code runs} timed runs of {@code batch} calls, after as many warm-up runs, sorted. */
-    private static double[] time(int runs, int batch, Supplier<Object> call) {
-        double[] perCall = new double[runs];
-        Object sink = null;
-        for (int r = -runs; r < runs; r++) {
-            long start = System.nanoTime();
-            for (int i = 0; i < batch; i++) {
-                sink = call.get();
-            }
-            if (r >= 0) {
-                perCall[r] = (System.nanoTime() - start) / (double) batch;
-            }
-        }
-        if (sink == null) {
-            throw new IllegalStateException("no result");
-        }
-        Arrays.sort(perCall);
-        return perCall;
-    }
-
-    private static double median(double[] sorted) {
-        return sorted[sorted.length / 2];
-    }
-
-    private static String text(double[] sorted) {
-        return millis(sorted[0]) + " / " + millis(median(sorted));
-    }
-
-    private static String millis(double nanos) {
-        return nanos >= 1e6 ? String.format(Locale.ROOT, "%.1f", nanos * 1e-6) : String.format(Locale.ROOT, "%.4f", nanos * 1e-6);
     }
 }
