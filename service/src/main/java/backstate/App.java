@@ -2,11 +2,14 @@ package backstate;
 
 import backstate.api.ApiServer;
 import backstate.api.ProcessMeters;
+import backstate.api.SeriesSolves;
 import backstate.auth.ApiKeys;
 import backstate.auth.FirstAdminKey;
 import backstate.config.Settings;
+import backstate.formats.CheckedModels;
 import backstate.formats.Json;
 import backstate.formats.Limits;
+import backstate.intake.TraceIntake;
 import backstate.jobs.EstimateJobHandler;
 import backstate.jobs.HandlersByKind;
 import backstate.jobs.JobHandler;
@@ -42,7 +45,8 @@ public final class App implements AutoCloseable {
         PrometheusMeterRegistry registry = new PrometheusMeterRegistry(PrometheusConfig.DEFAULT);
         this.database = openDatabase(settings.database(), clock);
         this.processMeters = ProcessMeters.bind(registry);
-        StoredTraceSolver stored = new StoredTraceSolver(database.traces(), database.models(), mapper, limits);
+        CheckedModels models = new CheckedModels(mapper, limits);
+        StoredTraceSolver stored = new StoredTraceSolver(database.traces(), database.models(), models, mapper);
         JobHandler handlers = new HandlersByKind(Map.of(
                 "estimate", new EstimateJobHandler(stored, mapper, registry),
                 "regression", new RegressionJobHandler(database.regressions(), database.models(), database.queue(), stored, mapper,
@@ -58,8 +62,11 @@ public final class App implements AutoCloseable {
                 throw e;
             }
         }
+        TraceIntake intake = new TraceIntake(database.traces(), database.models(), models, limits, mapper, clock,
+                settings.maxQueued(), workers::wake);
         this.api = new ApiServer(new ApiServer.Wiring(database, mapper, clock, registry, limits, settings.maxBodyBytes(),
-                settings.maxQueued(), database.queue()::queuedCount, workers::wake, keys, settings.auth(), stored));
+                settings.maxQueued(), database.queue()::queuedCount, workers::wake, keys, settings.auth(), intake, stored,
+                new SeriesSolves(settings.seriesThreads(), settings.seriesQueue())));
     }
 
     /** Starts the workers and the HTTP edge; if either fails (the port is taken, say), everything is closed again. */

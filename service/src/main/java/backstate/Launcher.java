@@ -42,6 +42,8 @@ final class Launcher {
               --max-queued N          queued jobs before trace posts get 503 (BACKSTATE_MAX_QUEUED)
               --max-samples N         samples per trace (BACKSTATE_MAX_SAMPLES)
               --auth on|off           API keys on or off (BACKSTATE_AUTH, default on; demo: always off)
+              --series-threads N      series re-solves at once (BACKSTATE_SERIES_THREADS, default 2)
+              --series-queue N        series requests waiting before more get 503 (BACKSTATE_SERIES_QUEUE, default 8)
             The first admin key comes from BACKSTATE_ADMIN_KEY (environment only), or is generated and
             printed once at the first start.""";
     private static final Logger LOG = LoggerFactory.getLogger(Launcher.class);

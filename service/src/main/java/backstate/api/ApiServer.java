@@ -1,7 +1,10 @@
 package backstate.api;
 
 import backstate.auth.ApiKeys;
+import backstate.config.Settings;
+import backstate.formats.CheckedModels;
 import backstate.formats.Limits;
+import backstate.intake.TraceIntake;
 import backstate.jobs.StoredTraceSolver;
 import backstate.store.Database;
 import com.fasterxml.jackson.databind.ObjectMapper;
@@ -31,26 +34,38 @@ public final class ApiServer implements AutoCloseable {
 
     private final Javalin app;
     private final List<Route> routes;
+    private final SeriesSolves series;
 
     /**
-     * What the routes need; wired by hand in App. {@code stored} is shared with the estimate jobs,
-     * which take the traces the posts keep fresh for them.
+     * What the routes need; wired by hand in App. {@code intake} takes trace posts, {@code stored}
+     * rebuilds series on the {@code series} pool (which {@link #close()} shuts down).
      */
     public record Wiring(Database database, ObjectMapper mapper, Clock clock, PrometheusMeterRegistry registry, Limits limits,
                          long maxBodyBytes, int maxQueued, IntSupplier queued, Runnable wakeWorkers,
-                         ApiKeys keys, boolean auth, StoredTraceSolver stored) {
+                         ApiKeys keys, boolean auth, TraceIntake intake, StoredTraceSolver stored, SeriesSolves series) {
 
         /** Access control off and no workers here (tests that drive the API directly); key management still works on the store. */
         public Wiring(Database database, ObjectMapper mapper, Clock clock, PrometheusMeterRegistry registry, Limits limits,
                       long maxBodyBytes, int maxQueued, IntSupplier queued, Runnable wakeWorkers) {
             this(database, mapper, clock, registry, limits, maxBodyBytes, maxQueued, queued, wakeWorkers,
+                    new CheckedModels(mapper, limits));
+        }
+
+        private Wiring(Database database, ObjectMapper mapper, Clock clock, PrometheusMeterRegistry registry,
+                       Limits limits, long maxBodyBytes, int maxQueued, IntSupplier queued, Runnable wakeWorkers,
+                       CheckedModels models) {
+            this(database, mapper, clock, registry, limits, maxBodyBytes, maxQueued, queued, wakeWorkers,
                     new ApiKeys(database.keys(), clock, new SecureRandom()), false,
-                    new StoredTraceSolver(database.traces(), database.models(), mapper, limits));
+                    new TraceIntake(database.traces(), database.models(), models, limits, mapper, clock, maxQueued,
+                            wakeWorkers),
+                    new StoredTraceSolver(database.traces(), database.models(), models, mapper),
+                    new SeriesSolves(Settings.DEFAULT_SERIES_THREADS, Settings.DEFAULT_SERIES_QUEUE));
         }
     }
 
     public ApiServer(Wiring w) {
         this.routes = routes(w);
+        this.series = w.series();
         ProblemMapper problems = new ProblemMapper(w.mapper());
         AccessGuard guard = new AccessGuard(w.keys(), w.database().keys(), w.auth());
         this.app = Javalin.create(config -> {
@@ -88,10 +103,9 @@ public final class ApiServer implements AutoCloseable {
     static List<Route> routes(Wiring w) {
         Database db = w.database();
         ModelRoutes models = new ModelRoutes(db.models(), w.mapper(), w.clock(), w.limits(), w.maxBodyBytes());
-        TraceRoutes traces = new TraceRoutes(db.traces(), db.models(), w.stored(), w.mapper(), w.clock(), w.limits(),
-                w.maxBodyBytes(), w.maxQueued(), w.wakeWorkers());
+        TraceRoutes traces = new TraceRoutes(w.intake(), w.maxBodyBytes());
         JobRoutes jobs = new JobRoutes(db.jobs(), db.estimates(), w.mapper(), w.clock());
-        EstimateRoutes estimates = new EstimateRoutes(db.estimates(), w.stored());
+        EstimateRoutes estimates = new EstimateRoutes(db.estimates(), w.stored(), w.series());
         ServiceRoutes service = new ServiceRoutes(db, w.registry(), w.queued(), w.maxQueued());
         KeyRoutes keys = new KeyRoutes(w.keys(), w.mapper());
         RegressionRoutes regressions = new RegressionRoutes(db.models(), db.regressions(), db.jobs(), w.mapper(), w.clock(),
@@ -152,8 +166,14 @@ public final class ApiServer implements AutoCloseable {
         return app.port();
     }
 
+    /** The series pool, for tests that fill it. */
+    SeriesSolves series() {
+        return series;
+    }
+
     @Override
     public void close() {
         app.stop();
+        series.close();
     }
 }

@@ -29,10 +29,12 @@ final class EstimateRoutes {
 
     private final EstimateStore store;
     private final StoredTraceSolver solver;
+    private final SeriesSolves solves;
 
-    EstimateRoutes(EstimateStore store, StoredTraceSolver solver) {
+    EstimateRoutes(EstimateStore store, StoredTraceSolver solver, SeriesSolves solves) {
         this.store = store;
         this.solver = solver;
+        this.solves = solves;
     }
 
     void latest(Context ctx) {
@@ -63,18 +65,23 @@ final class EstimateRoutes {
 
     /**
      * Rebuilt from the stored trace by solving it again ({@link StoredTraceSolver}); the series is
-     * not stored. The engine keeps every s-th sample, s = ⌈N / maxPoints⌉.
+     * not stored. The engine keeps every s-th sample, s = ⌈N / maxPoints⌉. The load and solve run
+     * on the bounded {@link SeriesSolves} pool, not on the request thread.
      */
-    void series(Context ctx) {
+    void series(Context ctx) throws Exception {
         EstimateRow row = find(ctx);
         int maxPoints = Params.intOrDefault(ctx, "maxPoints", DEFAULT_POINTS, MAX_POINTS);
-        StoredTraceSolver.Loaded loaded = solver.load(row.traceId());
+        ctx.json(solves.run(() -> rebuild(row.traceId(), maxPoints)));
+    }
+
+    private Views.Series rebuild(String traceId, int maxPoints) {
+        StoredTraceSolver.Loaded loaded = solver.load(traceId);
         if (!(solver.solveWithSeries(loaded, maxPoints) instanceof DocumentSolver.Outcome.Solved solved)) {
-            throw new IllegalStateException("trace " + row.traceId() + " solved once but not again");
+            throw new IllegalStateException("trace " + traceId + " solved once but not again");
         }
         List<String> outputs = loaded.model().document().outputs().stream().map(q -> q.name()).toList();
         List<String> states = loaded.model().document().states().stream().map(q -> q.name()).toList();
-        ctx.json(view(solved.estimate().series(), outputs, states));
+        return view(solved.estimate().series(), outputs, states);
     }
 
     /** The engine's kept series by output and state name; non-finite values (missing samples) as null. */

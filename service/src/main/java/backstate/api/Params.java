@@ -1,16 +1,13 @@
 package backstate.api;
 
+import backstate.formats.FieldValues;
 import backstate.store.TimeFilter;
 import io.javalin.http.Context;
 import java.time.Instant;
 import java.time.format.DateTimeParseException;
-import java.util.regex.Pattern;
 
 /** Reads and checks path and query parameters; a bad one is a 400 naming it. */
 final class Params {
-    /** Unit IDs and family names: 1–64 of letters, digits, '_', '-', '.', starting with a letter or digit. */
-    static final Pattern IDENTIFIER = Pattern.compile("[A-Za-z0-9][A-Za-z0-9_.\\-]{0,63}");
-
     /** Times outside these years cannot be stored as epoch milliseconds or are surely typos. */
     static final Instant EARLIEST = Instant.parse("1970-01-01T00:00:00Z");
     static final Instant LATEST = Instant.parse("9999-12-31T23:59:59Z");
@@ -23,8 +20,8 @@ final class Params {
     }
 
     static String identifier(String name, String value) {
-        if (value == null || !IDENTIFIER.matcher(value).matches()) {
-            throw ApiProblem.invalid(name, "expected 1-64 characters: letters, digits, _ - . (starting with a letter or digit)");
+        if (!FieldValues.isIdentifier(value)) {
+            throw ApiProblem.invalid(name, FieldValues.IDENTIFIER_RULE);
         }
         return value;
     }
@@ -112,9 +109,6 @@ final class Params {
     }
 
     static String quoted(String v) {
-        if (v == null) {
-            return "nothing";
-        }
-        return "\"" + (v.length() > 40 ? v.substring(0, 40) + "…" : v) + "\"";
+        return FieldValues.quoted(v);
     }
 }

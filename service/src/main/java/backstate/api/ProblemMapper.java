@@ -4,6 +4,8 @@ import backstate.estimation.ModelException;
 import backstate.formats.InputException;
 import backstate.formats.JsonPaths;
 import backstate.formats.MatrixEntryException;
+import backstate.intake.TraceRefused;
+import backstate.regression.RegressionRefused;
 import backstate.store.IdempotencyKeyReusedException;
 import backstate.store.InvalidCursorException;
 import backstate.store.QueueFullException;
@@ -46,6 +48,8 @@ final class ProblemMapper {
         });
         routes.exception(InputException.class, (e, ctx) -> write(ctx, ApiProblem.invalid(e.field(), detail(e)).toProblem()));
         routes.exception(ModelException.class, (e, ctx) -> write(ctx, ApiProblem.unprocessable(e.field(), detail(e)).toProblem()));
+        routes.exception(TraceRefused.class, (e, ctx) -> write(ctx, problem(e).toProblem()));
+        routes.exception(RegressionRefused.class, (e, ctx) -> write(ctx, ApiProblem.unprocessable(e.field(), e.detail()).toProblem()));
         routes.exception(InvalidCursorException.class, (e, ctx) -> write(ctx, ApiProblem.invalid("cursor", "not a cursor from this API").toProblem()));
         routes.exception(UnrecognizedPropertyException.class, (e, ctx) -> write(ctx, ApiProblem.invalid("body" + JsonPaths.of(e),
                 "got an unknown field \"" + e.getPropertyName() + "\", expected one of " + e.getKnownPropertyIds()).toProblem()));
@@ -75,6 +79,14 @@ final class ProblemMapper {
         routes.error(405, "*", ctx -> write(ctx, fromStatus(405, "method " + ctx.method() + " is not allowed here")));
     }
 
+    private static ApiProblem problem(TraceRefused e) {
+        return switch (e.reason()) {
+            case UNKNOWN_VERSION -> ApiProblem.unprocessable(e.field(), e.getMessage());
+            case RETIRED_VERSION -> ApiProblem.conflict(e.getMessage());
+            case UNSUPPORTED_MEDIA_TYPE -> ApiProblem.unsupportedMediaType(e.getMessage(), TraceRefused.ACCEPTED_TYPES);
+        };
+    }
+
     private void busy(Context ctx, String detail) {
         ctx.header("Retry-After", Integer.toString(ApiProblem.RETRY_AFTER_SECONDS));
         write(ctx, ApiProblem.busy(detail).toProblem());
@@ -94,7 +106,7 @@ final class ProblemMapper {
     private void write(Context ctx, Problem problem) {
         try {
             // Bytes, not a String: Jetty would encode a String as ISO-8859-1 for this media type,
-            // and JSON is UTF-8 (a detail quoting the client's non-ASCII input broke it).
+            // and JSON is UTF-8, so a detail quoting a client's non-ASCII input must stay UTF-8.
             ctx.status(problem.status()).contentType(Problem.MEDIA_TYPE).result(mapper.writeValueAsBytes(problem));
         } catch (JsonProcessingException e) {
             throw new IllegalStateException("problem document could not be written", e);

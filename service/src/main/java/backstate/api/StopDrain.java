@@ -11,8 +11,8 @@ import org.eclipse.jetty.util.Callback;
  * Graceful HTTP stop: once a stop begins the listener takes no new connections, requests already
  * being read or handled run to their end (up to {@link #DRAIN_MILLIS}), and a request that arrives
  * afterwards on a kept-alive connection gets 503 problem+json with Retry-After and
- * {@code Connection: close}, so a gateway retries it elsewhere or after the restart. Without this
- * Jetty closed connections under requests whose bodies were still arriving.
+ * {@code Connection: close}, so a gateway retries it elsewhere or after the restart. Jetty's own
+ * stop would close connections under requests whose bodies are still arriving.
  */
 final class StopDrain extends GracefulHandler {
     /** How long a stop waits for in-flight requests; WorkerPool's grace for jobs comes after it. */

@@ -10,9 +10,16 @@ import java.util.Optional;
  * ({@code BACKSTATE_PORT}) over defaults, validated once at start.
  */
 public record Settings(String host, int port, Path database, int workers, long maxBodyBytes, int maxQueued,
-                       int maxSamples, boolean auth, Optional<Secret> adminKey) {
+                       int maxSamples, boolean auth, Optional<Secret> adminKey, int seriesThreads, int seriesQueue) {
     /** Default body limit: 256 MiB holds a 10⁶-sample, 5-channel CSV with room to spare. */
     public static final long DEFAULT_MAX_BODY = 256L * 1024 * 1024;
+    /**
+     * Series re-solves at once: a 10⁶-sample series takes a core for ~0.2 s, so two keep plots
+     * moving without taking the cores the workers solve on.
+     */
+    public static final int DEFAULT_SERIES_THREADS = 2;
+    /** Series requests waiting for a thread; past them a request is answered 503 with Retry-After. */
+    public static final int DEFAULT_SERIES_QUEUE = 8;
 
     /** Reads flags and environment; a bad value throws naming the setting. */
     public static Settings from(String[] flags, Map<String, String> env) {
@@ -25,6 +32,8 @@ public record Settings(String host, int port, Path database, int workers, long m
         values.put("max-queued", env.getOrDefault("BACKSTATE_MAX_QUEUED", "10000"));
         values.put("max-samples", env.getOrDefault("BACKSTATE_MAX_SAMPLES", "2000000"));
         values.put("auth", env.getOrDefault("BACKSTATE_AUTH", "on"));
+        values.put("series-threads", env.getOrDefault("BACKSTATE_SERIES_THREADS", Integer.toString(DEFAULT_SERIES_THREADS)));
+        values.put("series-queue", env.getOrDefault("BACKSTATE_SERIES_QUEUE", Integer.toString(DEFAULT_SERIES_QUEUE)));
         for (int i = 0; i < flags.length; i++) {
             String flag = flags[i];
             if (!flag.startsWith("--") || !values.containsKey(flag.substring(2)) || i + 1 == flags.length) {
@@ -35,14 +44,16 @@ public record Settings(String host, int port, Path database, int workers, long m
         return new Settings(values.get("host"), range("port", values, 0, 65535), Path.of(values.get("database")),
                 range("workers", values, 1, 256), longRange("max-body-bytes", values, 1024, Long.MAX_VALUE),
                 range("max-queued", values, 1, 10_000_000), range("max-samples", values, 2, 100_000_000),
-                onOff("auth", values), adminKey(env));
+                onOff("auth", values), adminKey(env), range("series-threads", values, 1, 64),
+                range("series-queue", values, 0, 10_000));
     }
 
     /** One line per setting, for the start-up log. */
     public String describe() {
         return "host=" + host + " port=" + port + " database=" + database.toAbsolutePath() + " workers=" + workers
                 + " max-body-bytes=" + maxBodyBytes + " max-queued=" + maxQueued + " max-samples=" + maxSamples
-                + " auth=" + (auth ? "on" : "off") + " admin-key=" + (adminKey.isPresent() ? "set" : "unset");
+                + " auth=" + (auth ? "on" : "off") + " admin-key=" + (adminKey.isPresent() ? "set" : "unset")
+                + " series-threads=" + seriesThreads + " series-queue=" + seriesQueue;
     }
 
     /** Access control on or off; the admin key comes from the environment only, never a flag (flags show in ps). */

@@ -14,14 +14,14 @@ import java.io.UncheckedIOException;
  * n, p and m as big-endian ints, the samples, the p noise σ as big-endian doubles (NaN: not given),
  * then the options as JSON in {@code DataOutputStream.writeUTF} form.
  *
- * <p>The samples, format 2 (written now): {@link ColumnarSamples}, column by column — time, each
+ * <p>The samples, format 2 (the one written): {@link ColumnarSamples}, column by column — time, each
  * output, each input — each a {@link StoredColumn}: decimal-delta (a few bits to about 1.5 bytes a
- * value for decimals read from text) or raw doubles. Format 1 (read only; rows stored before format
- * 2 still hold it): row by row, time then the p outputs then the m inputs, each an 8-byte big-endian
+ * value for decimals read from text) or raw doubles. Format 1 (read, never written; older stored
+ * rows hold it): row by row, time then the p outputs then the m inputs, each an 8-byte big-endian
  * double.
  */
 public final class TraceCodec {
-    /** Row-wise doubles; still read, no longer written. */
+    /** Row-wise doubles; read, never written. */
     static final int ROWS_FORMAT = 1;
     /** Column-wise, decimal-delta or raw per column. */
     static final int COLUMNS_FORMAT = 2;

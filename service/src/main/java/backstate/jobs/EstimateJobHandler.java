@@ -32,11 +32,10 @@ public final class EstimateJobHandler implements JobHandler {
         if (!"estimate".equals(job.kind())) {
             return new JobOutcome.Failed("no handler for job kind " + job.kind());
         }
-        StoredTraceSolver.Loaded loaded = solver.loadForJob(job.traceId());
+        StoredTraceSolver.Loaded loaded = solver.load(job.traceId());
         DocumentSolver.Outcome outcome;
         try {
-            // For a trace solved ahead, the time this job waited for that solve.
-            outcome = solveTimer.recordCallable(() -> solver.solveForJob(loaded));
+            outcome = solveTimer.recordCallable(() -> solver.solve(loaded, false));
         } catch (ModelException | InputException e) {
             // Deterministic: the same trace fails the same way on every attempt, so do not retry.
             return new JobOutcome.Failed("the trace does not fit its model version: " + e.getMessage());

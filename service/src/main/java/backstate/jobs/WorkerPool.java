@@ -18,21 +18,21 @@ import org.slf4j.Logger;
 import org.slf4j.LoggerFactory;
 
 /**
- * Runs queued jobs on a fixed number of worker threads.
+ * Runs queued jobs: a fixed number of solving slots (the {@code workers} setting), and
+ * {@link #JOBS_IN_FLIGHT_PER_SLOT} job threads per slot.
  *
- * <p>{@code workers} handlers run at once, and up to {@link #JOBS_IN_FLIGHT_PER_WORKER} times as
- * many jobs are in flight: claimed and waiting for a handler slot, in a handler, or done and
- * waiting for their outcome to be written. Claims and outcomes are committed in batches
- * ({@code store.SqliteWriter}), and under a flood of trace posts each such write waits tens of
- * milliseconds behind the batch under way; a worker that claimed one job at a time and waited
- * for its own write before taking the next left its core idle for most of each job. Now a claim
- * brings several jobs, the next handler runs while earlier outcomes wait, and the waiting writes
- * share a commit. "running" therefore means claimed by this process: a job may wait there for a
- * handler slot, behind at most {@code JOBS_IN_FLIGHT_PER_WORKER - 1} others per slot.
+ * <p>{@code solvingSlots} handlers run at once, and up to {@link #JOBS_IN_FLIGHT_PER_SLOT} times
+ * as many jobs are in flight, each on a job thread: claimed and waiting for a solving slot, in a
+ * handler, or done and waiting for its outcome to be written. Claims and outcomes are committed in
+ * batches ({@code store.SqliteWriter}), and under a flood of trace posts each such write waits tens
+ * of milliseconds behind the batch under way; so a claim brings several jobs, the next handler runs
+ * while earlier outcomes wait, and the waiting writes share a commit, instead of a slot idling
+ * while its own write waits. "running" therefore means claimed by this process: a job may wait
+ * there for a solving slot, behind at most {@code JOBS_IN_FLIGHT_PER_SLOT - 1} others per slot.
  *
- * <p>One dispatcher thread claims as many jobs as there are free threads, in one
- * {@link JobQueue#claimNext} call, and hands them to the workers. It sleeps for {@code idlePoll}
- * when the queue is empty or every worker is busy, and wakes early when a worker finishes or
+ * <p>One dispatcher thread claims as many jobs as there are free job threads, in one
+ * {@link JobQueue#claimNext} call, and hands them to the job threads. It sleeps for {@code idlePoll}
+ * when the queue is empty or every job thread is busy, and wakes early when a job finishes or
  * {@link #wake()} is called after an enqueue. Every {@code stuckAfter / 4} it also rescues jobs
  * running longer than {@code stuckAfter} (a hung handler): their late results are refused by the
  * attempt check, so rescue never lets a job complete twice.
@@ -46,13 +46,13 @@ public final class WorkerPool implements AutoCloseable {
     /** Far longer than any estimation should run: a job running this long is taken to be hung. */
     public static final Duration DEFAULT_STUCK_AFTER = Duration.ofHours(1);
     /**
-     * Jobs in flight per handler slot: claimed and waiting for the slot, in the handler, or
-     * waiting for their outcome's write. Under a flood of posts one commit batch takes ~30 ms on
-     * 2 cores, and a small job solves in under 1 ms, so a slot needs a dozen or more outcomes
-     * waiting for each batch to stay busy; with 4 the workers solved ~90 jobs/s while posts
-     * arrived at ~450/s, with 16 they keep pace (measured with bench/load/ingest.sh).
+     * Jobs in flight (job threads) per solving slot: claimed and waiting for the slot, in the
+     * handler, or waiting for their outcome's write. Under a flood of posts one commit batch takes
+     * ~30 ms on 2 cores, and a small job solves in under 1 ms, so a slot needs a dozen or more
+     * outcomes waiting for each batch to stay busy: with 4 per slot the pool solved ~90 jobs/s
+     * while posts arrived at ~450/s, with 16 it keeps pace (measured with bench/load/ingest.sh).
      */
-    static final int JOBS_IN_FLIGHT_PER_WORKER = 16;
+    static final int JOBS_IN_FLIGHT_PER_SLOT = 16;
     /** A hung job is rescued at most a quarter of stuckAfter late. */
     private static final int RESCUE_CHECKS_PER_STUCK_WINDOW = 4;
 
@@ -66,28 +66,28 @@ public final class WorkerPool implements AutoCloseable {
     private final Duration stuckAfter;
     private final Duration rescueInterval;
     private final JobMetrics metrics;
-    /** Threads: a job holds one from its claim until its outcome is written. */
-    private final int threads;
-    private final Semaphore freeThreads;
-    private final ExecutorService workers;
+    /** Job threads: a job holds one from its claim until its outcome is written. */
+    private final int jobThreadCount;
+    private final Semaphore freeJobThreads;
+    private final ExecutorService jobThreads;
     private final Thread dispatcher;
     private final AtomicBoolean started = new AtomicBoolean();
     private final AtomicBoolean closed = new AtomicBoolean();
     private volatile boolean stopping;
     private volatile boolean abandoned;
 
-    public WorkerPool(JobQueue q, JobHandler h, int workers, Clock clock, Duration idlePoll, MeterRegistry registry) {
-        this(q, h, workers, clock, idlePoll, registry, DEFAULT_SHUTDOWN_GRACE, DEFAULT_STUCK_AFTER);
+    public WorkerPool(JobQueue q, JobHandler h, int solvingSlots, Clock clock, Duration idlePoll, MeterRegistry registry) {
+        this(q, h, solvingSlots, clock, idlePoll, registry, DEFAULT_SHUTDOWN_GRACE, DEFAULT_STUCK_AFTER);
     }
 
-    public WorkerPool(JobQueue q, JobHandler h, int workers, Clock clock, Duration idlePoll, MeterRegistry registry,
+    public WorkerPool(JobQueue q, JobHandler h, int solvingSlots, Clock clock, Duration idlePoll, MeterRegistry registry,
                       Duration shutdownGrace, Duration stuckAfter) {
         requireNonNull("queue", q);
         requireNonNull("handler", h);
         requireNonNull("clock", clock);
         requireNonNull("registry", registry);
-        if (workers < 1) {
-            throw new IllegalArgumentException("got workers " + workers + ", expected >= 1");
+        if (solvingSlots < 1) {
+            throw new IllegalArgumentException("got solvingSlots " + solvingSlots + ", expected >= 1");
         }
         requirePositive("idlePoll", idlePoll);
         requirePositive("shutdownGrace", shutdownGrace);
@@ -98,13 +98,13 @@ public final class WorkerPool implements AutoCloseable {
         this.shutdownGrace = shutdownGrace;
         this.stuckAfter = stuckAfter;
         this.rescueInterval = stuckAfter.dividedBy(RESCUE_CHECKS_PER_STUCK_WINDOW);
-        this.threads = workers * JOBS_IN_FLIGHT_PER_WORKER;
-        this.freeThreads = new Semaphore(threads);
-        this.workers = Executors.newFixedThreadPool(threads, namedDaemons("backstate-worker-"));
+        this.jobThreadCount = solvingSlots * JOBS_IN_FLIGHT_PER_SLOT;
+        this.freeJobThreads = new Semaphore(jobThreadCount);
+        this.jobThreads = Executors.newFixedThreadPool(jobThreadCount, namedDaemons("backstate-worker-"));
         this.dispatcher = namedDaemons("backstate-dispatcher-").newThread(this::dispatchUntilStopped);
         this.metrics = new JobMetrics(registry, q);
-        // Handler slots: at most `workers` handlers run at once, so CPU and memory stay as configured.
-        this.runner = new JobRunner(q, h, clock, metrics, () -> abandoned, new Semaphore(workers));
+        // At most `solvingSlots` handlers run at once, so CPU and memory stay as configured.
+        this.runner = new JobRunner(q, h, clock, metrics, () -> abandoned, new Semaphore(solvingSlots));
     }
 
     public void start() {
@@ -132,11 +132,11 @@ public final class WorkerPool implements AutoCloseable {
         stopping = true;
         wake();
         awaitDispatcher();
-        workers.shutdown();
-        if (!awaitWorkers()) {
+        jobThreads.shutdown();
+        if (!awaitJobThreads()) {
             abandoned = true;
             LOG.warn("jobs still running after {}; leaving them for rescue at next start", shutdownGrace);
-            workers.shutdownNow();
+            jobThreads.shutdownNow();
         }
         metrics.close();
     }
@@ -155,21 +155,21 @@ public final class WorkerPool implements AutoCloseable {
     }
 
     /**
-     * Claims up to one job per free thread, once at least half the threads are free and the queue
+     * Claims up to one job per free job thread, once at least half of them are free and the queue
      * holds a job; returns how many were claimed. Each claim is a write of its own, so claiming in
      * halves rather than one job per finished job keeps claims to a few per batch (the half still
-     * in flight keeps every handler slot busy meanwhile), and a read of the queue's length first
+     * in flight keeps every solving slot busy meanwhile), and a read of the queue's length first
      * spares the writer the claims that would find nothing: half of all claims at 300 posts/s,
      * when every post and every finished job wakes the dispatcher.
      */
     private int claimAndDispatch() {
-        int free = freeThreads.availablePermits(); // only this thread takes permits, so they stay free
-        if (free < Math.max(1, threads / 2) || queueLooksEmpty()) {
+        int free = freeJobThreads.availablePermits(); // only this thread takes permits, so they stay free
+        if (free < Math.max(1, jobThreadCount / 2) || queueLooksEmpty()) {
             return 0;
         }
         List<ClaimedJob> claimed = claimOrNothing(free);
         for (ClaimedJob job : claimed) {
-            freeThreads.acquireUninterruptibly();
+            freeJobThreads.acquireUninterruptibly();
             dispatch(job);
         }
         return claimed.size();
@@ -195,9 +195,9 @@ public final class WorkerPool implements AutoCloseable {
 
     private void dispatch(ClaimedJob job) {
         try {
-            workers.execute(() -> runAndFreeWorker(job));
+            jobThreads.execute(() -> runAndFreeJobThread(job));
         } catch (RejectedExecutionException e) {
-            freeThreads.release();
+            freeJobThreads.release();
             LOG.warn("job {} claimed while shutting down; left running for rescue", job.id());
         }
     }
@@ -213,11 +213,11 @@ public final class WorkerPool implements AutoCloseable {
         }
     }
 
-    private void runAndFreeWorker(ClaimedJob job) {
+    private void runAndFreeJobThread(ClaimedJob job) {
         try {
             runner.run(job);
         } finally {
-            freeThreads.release();
+            freeJobThreads.release();
             wake();
         }
     }
@@ -230,9 +230,9 @@ public final class WorkerPool implements AutoCloseable {
         }
     }
 
-    private boolean awaitWorkers() {
+    private boolean awaitJobThreads() {
         try {
-            return workers.awaitTermination(shutdownGrace.toMillis(), TimeUnit.MILLISECONDS);
+            return jobThreads.awaitTermination(shutdownGrace.toMillis(), TimeUnit.MILLISECONDS);
         } catch (InterruptedException e) {
             Thread.currentThread().interrupt();
             return false;

@@ -14,6 +14,7 @@ import backstate.jobs.JobOutcome;
 import backstate.jobs.JobQueue;
 import backstate.jobs.RegressionJobHandler;
 import backstate.jobs.StoredTraceSolver;
+import backstate.formats.CheckedModels;
 import backstate.store.SqliteDatabase;
 import com.fasterxml.jackson.databind.JsonNode;
 import com.fasterxml.jackson.databind.ObjectMapper;
@@ -158,7 +159,7 @@ class RegressionCancelTest {
 
     private RegressionJobHandler handler(JobQueue queue) {
         return new RegressionJobHandler(store.regressions(), store.models(), queue,
-                new StoredTraceSolver(store.traces(), store.models(), mapper, Limits.DEFAULTS), mapper,
+                new StoredTraceSolver(store.traces(), store.models(), new CheckedModels(mapper, Limits.DEFAULTS), mapper), mapper,
                 Limits.DEFAULTS, Clock.systemUTC());
     }
 

@@ -1,5 +1,6 @@
 package backstate.formats;
 
+import backstate.bench.CallTimes;
 import backstate.estimation.Trace;
 import backstate.reliability.ReeferTraces;
 import com.fasterxml.jackson.core.JsonParser;
@@ -188,22 +189,7 @@ public final class TraceCodecBench {
 
     /** Min and median over {@code runs} timed runs of {@code batch} calls each, per call, after as many warm-up runs. */
     private static String time(int runs, int batch, Supplier<Object> call) {
-        double[] perCall = new double[runs];
-        Object sink = null;
-        for (int r = -runs; r < runs; r++) {
-            long start = System.nanoTime();
-            for (int i = 0; i < batch; i++) {
-                sink = call.get();
-            }
-            if (r >= 0) {
-                perCall[r] = (System.nanoTime() - start) / (double) batch;
-            }
-        }
-        if (sink == null) {
-            throw new IllegalStateException("no result");
-        }
-        Arrays.sort(perCall);
-        return millis(perCall[0]) + " / " + millis(perCall[runs / 2]);
+        return CallTimes.minAndMedian(CallTimes.sorted(runs, batch, call));
     }
 
     private static String allocated(TraceCodec codec, byte[] stored) {
@@ -213,10 +199,6 @@ public final class TraceCodecBench {
         long bytes = THREADS.getThreadAllocatedBytes(id) - before;
         return decoded.trace().samples() >= 1_000_000 ? String.format(Locale.ROOT, "%.1f MB", bytes * 1e-6)
                 : String.format(Locale.ROOT, "%.1f KB", bytes * 1e-3);
-    }
-
-    private static String millis(double nanos) {
-        return nanos >= 1e6 ? String.format(Locale.ROOT, "%.1f ms", nanos * 1e-6) : String.format(Locale.ROOT, "%.3f ms", nanos * 1e-6);
     }
 
     private static ParsedTrace readCsv(byte[] csv, ModelDocument model) {

@@ -111,7 +111,7 @@ class WorkerPoolTest extends StoreTestBase {
     @Test
     void handlers_stay_within_the_workers_and_jobs_in_flight_within_their_bound() throws Exception {
         int workers = 2;
-        int inFlight = workers * WorkerPool.JOBS_IN_FLIGHT_PER_WORKER;
+        int inFlight = workers * WorkerPool.JOBS_IN_FLIGHT_PER_SLOT;
         int jobs = inFlight + 4;
         for (int i = 0; i < jobs; i++) {
             submit("unit-" + i);
@@ -146,7 +146,7 @@ class WorkerPoolTest extends StoreTestBase {
 
     @Test
     void jobs_are_claimed_once_at_least_half_the_threads_are_free() throws Exception {
-        int threads = WorkerPool.JOBS_IN_FLIGHT_PER_WORKER;
+        int threads = WorkerPool.JOBS_IN_FLIGHT_PER_SLOT;
         int jobs = 5 * threads;
         for (int i = 0; i < jobs; i++) {
             submit("unit-" + i);

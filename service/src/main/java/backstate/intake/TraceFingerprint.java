@@ -1,8 +1,7 @@
-package backstate.api;
+package backstate.intake;
 
 import backstate.store.IdempotencyKey;
 import backstate.store.ModelVersionRow;
-import io.javalin.http.Context;
 import java.io.IOException;
 import java.io.InputStream;
 import java.io.OutputStream;
@@ -20,9 +19,6 @@ import java.util.Locale;
  * Idempotency-Key HTTP Header Field" (draft-ietf-httpapi-idempotency-key-header-07, section 2.4).
  */
 final class TraceFingerprint {
-    /** Query parameters that change what a CSV post asks for. */
-    private static final String[] OPTION_PARAMETERS = {"formulation", "estimateOffsets", "referenceTime"};
-
     private final MessageDigest digest;
     private byte[] value;
 
@@ -31,16 +27,15 @@ final class TraceFingerprint {
     }
 
     /** Starts the fingerprint with everything but the body. */
-    static TraceFingerprint start(Context ctx, String unitId, ModelVersionRow version) {
+    static TraceFingerprint start(TracePost post, ModelVersionRow version) {
         TraceFingerprint f = new TraceFingerprint(sha256());
-        f.field(unitId);
+        f.field(post.unitId());
         f.field(version.family());
         f.field(Integer.toString(version.version()));
-        f.field(mediaType(ctx.contentType()));
-        for (String name : OPTION_PARAMETERS) {
-            String value = ctx.queryParam(name);
-            f.field(value == null ? "" : name + "=" + value);
-        }
+        f.field(mediaType(post.contentTypeOrNull()));
+        f.option("formulation", post.query().formulation());
+        f.option("estimateOffsets", post.query().estimateOffsets());
+        f.option("referenceTime", post.query().referenceTime());
         return f;
     }
 
@@ -64,6 +59,11 @@ final class TraceFingerprint {
             throw new IllegalStateException("got a fingerprint without its body, expected finish() first");
         }
         return new IdempotencyKey(key, value);
+    }
+
+    /** A query option that changes what a CSV post asks for: empty when absent, else name=value. */
+    private void option(String name, String valueOrNull) {
+        field(valueOrNull == null ? "" : name + "=" + valueOrNull);
     }
 
     /** A length-prefixed field, so no two different sequences of fields hash the same bytes. */

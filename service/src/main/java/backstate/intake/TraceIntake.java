@@ -1,0 +1,131 @@
+package backstate.intake;
+
+import backstate.estimation.InitialStateEstimator;
+import backstate.estimation.StateSpaceModel;
+import backstate.estimation.Trace;
+import backstate.formats.CheckedModel;
+import backstate.formats.CheckedModels;
+import backstate.formats.FieldValues;
+import backstate.formats.InputException;
+import backstate.formats.Limits;
+import backstate.formats.ModelDocument;
+import backstate.formats.ParsedTrace;
+import backstate.formats.TraceCodec;
+import backstate.formats.TraceOptions;
+import backstate.formats.TraceReader;
+import backstate.store.ModelVersionRow;
+import backstate.store.NewTrace;
+import backstate.store.QueueFullException;
+import backstate.store.ModelCatalogue;
+import backstate.store.Submission;
+import backstate.store.TraceIntakeStore;
+import com.fasterxml.jackson.databind.ObjectMapper;
+import java.io.IOException;
+import java.io.InputStream;
+import java.time.Clock;
+import java.util.Locale;
+
+/**
+ * Trace ingest, the one path from a posted body to a stored trace with its queued estimate job:
+ * the model version (it must exist and be active), its checked model, the parse by media type,
+ * the checks the solver would make, the stored encoding, and the write, which stores the trace and
+ * queues its job in one transaction (or replays the first post with the same Idempotency-Key).
+ * Knows nothing of HTTP: the edge hands it a {@link TracePost} and answers with the submission.
+ */
+public final class TraceIntake {
+    private final TraceIntakeStore traces;
+    private final ModelCatalogue catalogue;
+    private final CheckedModels models;
+    private final TraceReader reader;
+    private final TraceCodec codec;
+    private final Clock clock;
+    private final int maxQueued;
+    private final Runnable wakeWorkers;
+
+    /**
+     * @param maxQueued   a post is refused (queue full) while this many jobs wait
+     * @param wakeWorkers called after every write, so an idle worker pool claims at once
+     */
+    public TraceIntake(TraceIntakeStore traces, ModelCatalogue catalogue, CheckedModels models, Limits limits,
+                       ObjectMapper mapper, Clock clock, int maxQueued, Runnable wakeWorkers) {
+        this.traces = traces;
+        this.catalogue = catalogue;
+        this.models = models;
+        this.reader = new TraceReader(limits);
+        this.codec = new TraceCodec(mapper);
+        this.clock = clock;
+        this.maxQueued = maxQueued;
+        this.wakeWorkers = wakeWorkers;
+    }
+
+    /**
+     * Stores the trace and queues its estimate job; returns what was created, or what the first
+     * post with the same Idempotency-Key created (marked replayed).
+     *
+     * @throws TraceRefused    for a missing or retired version, or a body type it does not read
+     * @throws InputException  for a body or option that does not read (naming the field)
+     * @throws QueueFullException when {@code maxQueued} jobs wait
+     */
+    public Submission submit(TracePost post) throws IOException, QueueFullException {
+        ModelVersionRow version = activeVersion(post.family(), post.version());
+        CheckedModel model = models.of(version.family(), version.version(), version.documentJson());
+        TraceFingerprint fingerprint = post.idempotencyKeyOrNull() == null ? null : TraceFingerprint.start(post, version);
+        ParsedTrace parsed = parse(post, model.document(), fingerprint);
+        StateSpaceModel engine = model.engine();
+        InitialStateEstimator.validate(engine, parsed.trace(), parsed.options().toEstimationOptions(engine.states(), false));
+        Trace t = parsed.trace();
+        NewTrace trace = new NewTrace(post.unitId(), version.family(), version.version(), t.samples(), t.time(0),
+                t.time(t.samples() - 1), codec.encode(parsed));
+        Submission submission = traces.submitTrace(trace,
+                fingerprint == null ? null : fingerprint.withKey(post.idempotencyKeyOrNull()), maxQueued, clock.instant());
+        wakeWorkers.run();
+        return submission;
+    }
+
+    private ModelVersionRow activeVersion(String family, int number) {
+        ModelVersionRow version = catalogue.findVersion(family, number)
+                .orElseThrow(() -> TraceRefused.unknownVersion(family, number));
+        if (!"active".equals(version.status())) {
+            throw TraceRefused.retiredVersion(family, number);
+        }
+        return version;
+    }
+
+    /** Reads the body as its media type says, into the fingerprint too when the post has an Idempotency-Key. */
+    private ParsedTrace parse(TracePost post, ModelDocument model, TraceFingerprint fingerprintOrNull) throws IOException {
+        try (InputStream raw = post.body().open()) {
+            InputStream body = fingerprintOrNull == null ? raw : fingerprintOrNull.reading(raw);
+            ParsedTrace parsed = read(post, body, model);
+            if (fingerprintOrNull != null) {
+                fingerprintOrNull.finish(body);
+            }
+            return parsed;
+        }
+    }
+
+    private ParsedTrace read(TracePost post, InputStream body, ModelDocument model) throws IOException {
+        String type = post.contentTypeOrNull() == null ? "" : post.contentTypeOrNull().toLowerCase(Locale.ROOT);
+        if (type.startsWith("application/json")) {
+            if (post.query().any()) {
+                throw new InputException("formulation", "with a JSON body, put options in its \"options\" object, not the query");
+            }
+            return reader.readJson(body, model);
+        }
+        if (type.startsWith("text/csv")) {
+            return reader.readCsv(body, model, csvOptions(post.query()), post.query().referenceTime());
+        }
+        throw TraceRefused.unsupportedMediaType(type.isEmpty() ? "no Content-Type" : type);
+    }
+
+    /** The CSV options of the query; its referenceTime (seconds or RFC 3339) is read with the trace's clock. */
+    private static TraceOptions csvOptions(TracePost.CsvQuery query) {
+        return new TraceOptions(query.formulation(), bool("estimateOffsets", query.estimateOffsets()), null, null);
+    }
+
+    private static Boolean bool(String field, String textOrNull) {
+        if (textOrNull == null || textOrNull.equals("true") || textOrNull.equals("false")) {
+            return textOrNull == null ? null : Boolean.valueOf(textOrNull);
+        }
+        throw new InputException(field, "got " + FieldValues.quoted(textOrNull) + ", expected true or false");
+    }
+}

@@ -1,0 +1,174 @@
+package backstate.intake;
+
+import static org.junit.jupiter.api.Assertions.assertEquals;
+import static org.junit.jupiter.api.Assertions.assertFalse;
+import static org.junit.jupiter.api.Assertions.assertNotEquals;
+import static org.junit.jupiter.api.Assertions.assertThrows;
+import static org.junit.jupiter.api.Assertions.assertTrue;
+
+import backstate.estimation.Trace;
+import backstate.formats.CheckedModels;
+import backstate.formats.InputException;
+import backstate.formats.Json;
+import backstate.formats.Limits;
+import backstate.formats.ModelDocument;
+import backstate.formats.TraceCodec;
+import backstate.formats.TraceOptions;
+import backstate.formats.TraceReader;
+import backstate.reliability.ReeferTraces;
+import backstate.store.IdempotencyKeyReusedException;
+import backstate.store.NewModelVersion;
+import backstate.store.QueueFullException;
+import backstate.store.SqliteStore;
+import backstate.store.Submission;
+import backstate.store.TraceRow;
+import com.fasterxml.jackson.databind.ObjectMapper;
+import java.io.ByteArrayInputStream;
+import java.nio.file.Files;
+import java.nio.file.Path;
+import java.time.Clock;
+import java.time.Instant;
+import java.time.ZoneOffset;
+import java.util.concurrent.atomic.AtomicInteger;
+import org.junit.jupiter.api.AfterEach;
+import org.junit.jupiter.api.BeforeEach;
+import org.junit.jupiter.api.Test;
+import org.junit.jupiter.api.io.TempDir;
+
+/** The intake without HTTP: a post in, a stored trace with its queued job out, or a refusal naming the field. */
+class TraceIntakeTest {
+    static final Path TEST_DATA = Path.of(System.getProperty("backstate.testData", "../test-data"));
+    static final String FAMILY = "reefer-40";
+    static final Instant NOW = Instant.parse("2026-03-01T12:00:00Z");
+    static final int SAMPLES = 200;
+
+    final ObjectMapper mapper = Json.mapper(Limits.DEFAULTS);
+    final AtomicInteger wakes = new AtomicInteger();
+    final byte[] csv = new ReeferTraces(TEST_DATA).csv(SAMPLES, 3);
+    SqliteStore store;
+    ModelDocument model;
+
+    @BeforeEach
+    void open(@TempDir Path dir) throws Exception {
+        store = new SqliteStore(dir.resolve("intake.db"), Clock.fixed(NOW, ZoneOffset.UTC));
+        String json = Files.readString(ReeferTraces.modelFile(TEST_DATA));
+        model = mapper.readValue(json, ModelDocument.class);
+        store.createFamily(FAMILY, "reefers", NOW);
+        store.publishVersion(new NewModelVersion(FAMILY, "continuous", 4, 2, 2, json, "{}"), NOW);
+    }
+
+    @AfterEach
+    void close() {
+        store.close();
+    }
+
+    TraceIntake intake(int maxQueued) {
+        return new TraceIntake(store, new CheckedModels(mapper, Limits.DEFAULTS), Limits.DEFAULTS, mapper,
+                Clock.fixed(NOW, ZoneOffset.UTC), maxQueued, wakes::incrementAndGet);
+    }
+
+    static TracePost csvPost(String unit, int version, String key, byte[] body) {
+        return new TracePost(unit, FAMILY, version, "text/csv; charset=utf-8", key, TracePost.CsvQuery.NONE,
+                () -> new ByteArrayInputStream(body));
+    }
+
+    /** A body the intake must refuse before reading. */
+    static TracePost.Body unread() {
+        return () -> {
+            throw new AssertionError("the body was opened, expected a refusal before it");
+        };
+    }
+
+    @Test
+    void a_csv_post_stores_exactly_the_parsed_trace_and_queues_its_job() throws Exception {
+        Submission s = intake(10).submit(csvPost("RCX-1", 1, null, csv));
+        assertFalse(s.replayed());
+        assertEquals(1, store.queuedCount());
+        assertEquals(1, wakes.get(), "the workers are woken once per write");
+        TraceRow row = store.findTrace(s.traceId()).orElseThrow();
+        assertEquals("RCX-1", row.unitId());
+        assertEquals(SAMPLES, row.samples());
+        // ReeferTraces samples once a minute: the window spans (N - 1) periods.
+        assertEquals((SAMPLES - 1) * ReeferTraces.PERIOD_SECONDS, row.windowEnd() - row.windowStart(), 0.0);
+        Trace stored = new TraceCodec(mapper).decode(row.payload()).trace();
+        Trace parsed = new TraceReader(Limits.DEFAULTS).readCsv(new ByteArrayInputStream(csv), model, TraceOptions.NONE).trace();
+        assertEquals(parsed.samples(), stored.samples());
+        for (int k = 0; k < parsed.samples(); k += 37) {
+            assertEquals(parsed.time(k), stored.time(k), 0.0, "time " + k);
+        }
+        assertEquals(row.windowStart(), parsed.time(0), 0.0);
+    }
+
+    @Test
+    void the_same_key_and_body_replay_the_first_post_and_another_body_is_refused() throws Exception {
+        TraceIntake intake = intake(10);
+        Submission first = intake.submit(csvPost("RCX-2", 1, "k-1", csv));
+        Submission again = intake.submit(csvPost("RCX-2", 1, "k-1", csv));
+        assertTrue(again.replayed());
+        assertEquals(first.jobId(), again.jobId());
+        assertEquals(first.traceId(), again.traceId());
+        byte[] other = new ReeferTraces(TEST_DATA).csv(SAMPLES, 4);
+        assertThrows(IdempotencyKeyReusedException.class, () -> intake.submit(csvPost("RCX-2", 1, "k-1", other)));
+        assertEquals(1, store.queuedCount());
+    }
+
+    @Test
+    void a_missing_or_retired_version_is_refused_before_the_body_is_read() throws Exception {
+        TraceRefused missing = assertThrows(TraceRefused.class, () -> intake(10).submit(new TracePost("RCX-3", FAMILY, 9,
+                "text/csv", null, TracePost.CsvQuery.NONE, unread())));
+        assertEquals(TraceRefused.Reason.UNKNOWN_VERSION, missing.reason());
+        assertEquals("version", missing.field());
+        assertEquals("model version reefer-40/9 does not exist", missing.getMessage());
+
+        store.retireVersion(FAMILY, 1);
+        TraceRefused retired = assertThrows(TraceRefused.class, () -> intake(10).submit(new TracePost("RCX-3", FAMILY, 1,
+                "text/csv", null, TracePost.CsvQuery.NONE, unread())));
+        assertEquals(TraceRefused.Reason.RETIRED_VERSION, retired.reason());
+        assertEquals(0, store.queuedCount());
+        assertEquals(0, wakes.get());
+    }
+
+    @Test
+    void a_body_of_another_media_type_or_with_misplaced_options_is_refused_naming_the_field() {
+        TraceRefused plain = assertThrows(TraceRefused.class, () -> intake(10).submit(new TracePost("RCX-4", FAMILY, 1,
+                "text/plain", null, TracePost.CsvQuery.NONE, () -> new ByteArrayInputStream(csv))));
+        assertEquals(TraceRefused.Reason.UNSUPPORTED_MEDIA_TYPE, plain.reason());
+        assertEquals("text/plain", plain.getMessage());
+
+        TraceRefused none = assertThrows(TraceRefused.class, () -> intake(10).submit(new TracePost("RCX-4", FAMILY, 1,
+                null, null, TracePost.CsvQuery.NONE, () -> new ByteArrayInputStream(csv))));
+        assertEquals("no Content-Type", none.getMessage());
+
+        InputException json = assertThrows(InputException.class, () -> intake(10).submit(new TracePost("RCX-4", FAMILY, 1,
+                "application/json", null, new TracePost.CsvQuery("discrete", null, null),
+                () -> new ByteArrayInputStream(new ReeferTraces(TEST_DATA).json(SAMPLES, 3)))));
+        assertEquals("formulation", json.field());
+
+        InputException offsets = assertThrows(InputException.class, () -> intake(10).submit(new TracePost("RCX-4", FAMILY, 1,
+                "text/csv", null, new TracePost.CsvQuery(null, "maybe", null), () -> new ByteArrayInputStream(csv))));
+        assertEquals("estimateOffsets", offsets.field());
+        assertEquals("estimateOffsets: got \"maybe\", expected true or false", offsets.getMessage());
+        assertEquals(0, store.queuedCount());
+    }
+
+    @Test
+    void a_json_post_is_stored_like_the_same_trace_in_csv() throws Exception {
+        TraceIntake intake = intake(10);
+        TraceRow fromCsv = store.findTrace(intake.submit(csvPost("RCX-5", 1, null, csv)).traceId()).orElseThrow();
+        TraceRow fromJson = store.findTrace(intake.submit(new TracePost("RCX-5", FAMILY, 1, "application/json", null,
+                TracePost.CsvQuery.NONE, () -> new ByteArrayInputStream(new ReeferTraces(TEST_DATA).json(SAMPLES, 3))))
+                .traceId()).orElseThrow();
+        assertNotEquals(fromCsv.id(), fromJson.id());
+        assertEquals(fromCsv.samples(), fromJson.samples());
+        assertEquals(fromCsv.windowStart(), fromJson.windowStart(), 0.0);
+        assertEquals(fromCsv.windowEnd(), fromJson.windowEnd(), 0.0);
+    }
+
+    @Test
+    void a_post_past_the_queue_limit_is_refused_and_stores_nothing() throws Exception {
+        TraceIntake intake = intake(1);
+        intake.submit(csvPost("RCX-6", 1, null, csv));
+        assertThrows(QueueFullException.class, () -> intake.submit(csvPost("RCX-7", 1, null, csv)));
+        assertEquals(1, store.queuedCount());
+    }
+}
