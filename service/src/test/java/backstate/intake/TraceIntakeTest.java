@@ -19,7 +19,7 @@ import backstate.reliability.ReeferTraces;
 import backstate.store.IdempotencyKeyReusedException;
 import backstate.store.NewModelVersion;
 import backstate.store.QueueFullException;
-import backstate.store.SqliteStore;
+import backstate.store.SqliteDatabase;
 import backstate.store.Submission;
 import backstate.store.TraceRow;
 import com.fasterxml.jackson.databind.ObjectMapper;
@@ -45,16 +45,16 @@ class TraceIntakeTest {
     final ObjectMapper mapper = Json.mapper(Limits.DEFAULTS);
     final AtomicInteger wakes = new AtomicInteger();
     final byte[] csv = new ReeferTraces(TEST_DATA).csv(SAMPLES, 3);
-    SqliteStore store;
+    SqliteDatabase store;
     ModelDocument model;
 
     @BeforeEach
     void open(@TempDir Path dir) throws Exception {
-        store = new SqliteStore(dir.resolve("intake.db"), Clock.fixed(NOW, ZoneOffset.UTC));
+        store = new SqliteDatabase(dir.resolve("intake.db"), Clock.fixed(NOW, ZoneOffset.UTC));
         String json = Files.readString(ReeferTraces.modelFile(TEST_DATA));
         model = mapper.readValue(json, ModelDocument.class);
-        store.createFamily(FAMILY, "reefers", NOW);
-        store.publishVersion(new NewModelVersion(FAMILY, "continuous", 4, 2, 2, json, "{}"), NOW);
+        store.models().createFamily(FAMILY, "reefers", NOW);
+        store.models().publishVersion(new NewModelVersion(FAMILY, "continuous", 4, 2, 2, json, "{}"), NOW);
     }
 
     @AfterEach
@@ -63,7 +63,7 @@ class TraceIntakeTest {
     }
 
     TraceIntake intake(int maxQueued) {
-        return new TraceIntake(store, new CheckedModels(mapper, Limits.DEFAULTS), Limits.DEFAULTS, mapper,
+        return new TraceIntake(store.traces(), store.models(), new CheckedModels(mapper, Limits.DEFAULTS), Limits.DEFAULTS, mapper,
                 Clock.fixed(NOW, ZoneOffset.UTC), maxQueued, wakes::incrementAndGet);
     }
 
@@ -83,9 +83,9 @@ class TraceIntakeTest {
     void a_csv_post_stores_exactly_the_parsed_trace_and_queues_its_job() throws Exception {
         Submission s = intake(10).submit(csvPost("RCX-1", 1, null, csv));
         assertFalse(s.replayed());
-        assertEquals(1, store.queuedCount());
+        assertEquals(1, store.queue().queuedCount());
         assertEquals(1, wakes.get(), "the workers are woken once per write");
-        TraceRow row = store.findTrace(s.traceId()).orElseThrow();
+        TraceRow row = store.traces().findTrace(s.traceId()).orElseThrow();
         assertEquals("RCX-1", row.unitId());
         assertEquals(SAMPLES, row.samples());
         // ReeferTraces samples once a minute: the window spans (N - 1) periods.
@@ -109,7 +109,7 @@ class TraceIntakeTest {
         assertEquals(first.traceId(), again.traceId());
         byte[] other = new ReeferTraces(TEST_DATA).csv(SAMPLES, 4);
         assertThrows(IdempotencyKeyReusedException.class, () -> intake.submit(csvPost("RCX-2", 1, "k-1", other)));
-        assertEquals(1, store.queuedCount());
+        assertEquals(1, store.queue().queuedCount());
     }
 
     @Test
@@ -120,11 +120,11 @@ class TraceIntakeTest {
         assertEquals("version", missing.field());
         assertEquals("model version reefer-40/9 does not exist", missing.getMessage());
 
-        store.retireVersion(FAMILY, 1);
+        store.models().retireVersion(FAMILY, 1);
         TraceRefused retired = assertThrows(TraceRefused.class, () -> intake(10).submit(new TracePost("RCX-3", FAMILY, 1,
                 "text/csv", null, TracePost.CsvQuery.NONE, unread())));
         assertEquals(TraceRefused.Reason.RETIRED_VERSION, retired.reason());
-        assertEquals(0, store.queuedCount());
+        assertEquals(0, store.queue().queuedCount());
         assertEquals(0, wakes.get());
     }
 
@@ -148,14 +148,14 @@ class TraceIntakeTest {
                 "text/csv", null, new TracePost.CsvQuery(null, "maybe", null), () -> new ByteArrayInputStream(csv))));
         assertEquals("estimateOffsets", offsets.field());
         assertEquals("estimateOffsets: got \"maybe\", expected true or false", offsets.getMessage());
-        assertEquals(0, store.queuedCount());
+        assertEquals(0, store.queue().queuedCount());
     }
 
     @Test
     void a_json_post_is_stored_like_the_same_trace_in_csv() throws Exception {
         TraceIntake intake = intake(10);
-        TraceRow fromCsv = store.findTrace(intake.submit(csvPost("RCX-5", 1, null, csv)).traceId()).orElseThrow();
-        TraceRow fromJson = store.findTrace(intake.submit(new TracePost("RCX-5", FAMILY, 1, "application/json", null,
+        TraceRow fromCsv = store.traces().findTrace(intake.submit(csvPost("RCX-5", 1, null, csv)).traceId()).orElseThrow();
+        TraceRow fromJson = store.traces().findTrace(intake.submit(new TracePost("RCX-5", FAMILY, 1, "application/json", null,
                 TracePost.CsvQuery.NONE, () -> new ByteArrayInputStream(new ReeferTraces(TEST_DATA).json(SAMPLES, 3))))
                 .traceId()).orElseThrow();
         assertNotEquals(fromCsv.id(), fromJson.id());
@@ -169,6 +169,6 @@ class TraceIntakeTest {
         TraceIntake intake = intake(1);
         intake.submit(csvPost("RCX-6", 1, null, csv));
         assertThrows(QueueFullException.class, () -> intake.submit(csvPost("RCX-7", 1, null, csv)));
-        assertEquals(1, store.queuedCount());
+        assertEquals(1, store.queue().queuedCount());
     }
 }
