@@ -89,7 +89,7 @@ public final class IntakeShortcutsBench {
 
     private static Object store(StoreFixture db, NewTrace trace) {
         try {
-            return db.store.submitTrace(trace, null, Integer.MAX_VALUE, StoreFixture.T0);
+            return db.store.traces().submitTrace(trace, null, Integer.MAX_VALUE, StoreFixture.T0);
         } catch (QueueFullException e) {
             throw new IllegalStateException("no queue limit was set", e);
         }
