@@ -5,7 +5,7 @@ import backstate.config.Settings;
 import backstate.formats.CheckedModels;
 import backstate.formats.Limits;
 import backstate.intake.TraceIntake;
-import backstate.jobs.StoredTraceSolver;
+import backstate.solving.StoredTraceSolver;
 import backstate.store.Database;
 import com.fasterxml.jackson.databind.ObjectMapper;
 import io.javalin.Javalin;

@@ -2,7 +2,7 @@ package backstate.api;
 
 import backstate.estimation.Estimate;
 import backstate.formats.DocumentSolver;
-import backstate.jobs.StoredTraceSolver;
+import backstate.solving.StoredTraceSolver;
 import backstate.store.EstimateFilter;
 import backstate.store.EstimatePage;
 import backstate.store.EstimateRow;

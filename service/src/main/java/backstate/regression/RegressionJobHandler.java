@@ -1,11 +1,12 @@
-package backstate.jobs;
+package backstate.regression;
 
 import backstate.formats.Limits;
 import backstate.formats.ModelDocument;
-import backstate.regression.RegressionParams;
-import backstate.regression.RegressionReport;
-import backstate.regression.RegressionResult;
-import backstate.regression.VersionPair;
+import backstate.jobs.ClaimedJob;
+import backstate.jobs.JobHandler;
+import backstate.jobs.JobOutcome;
+import backstate.jobs.JobQueue;
+import backstate.solving.StoredTraceSolver;
 import backstate.store.ModelCatalogue;
 import backstate.store.ModelVersionRow;
 import backstate.store.RegressionStore;
@@ -19,7 +20,8 @@ import java.util.List;
  * version, reporting progress (traces done / total) as it goes, and returns the comparison as the
  * job's result. Between traces it polls for a cancel request; on one it finishes the job as
  * cancelled with the partial result, so the runner's later attempt to complete it finds the job
- * no longer running and drops its outcome.
+ * no longer running and drops its outcome. Registered for the kind 'regression' in
+ * {@link backstate.jobs.HandlersByKind} by App.
  */
 public final class RegressionJobHandler implements JobHandler {
     /**

@@ -1,4 +1,4 @@
-package backstate.jobs;
+package backstate.solving;
 
 import backstate.formats.CheckedModel;
 import backstate.formats.CheckedModels;

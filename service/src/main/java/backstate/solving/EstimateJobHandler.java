@@ -1,4 +1,4 @@
-package backstate.jobs;
+package backstate.solving;
 
 import backstate.estimation.Estimate;
 import backstate.estimation.ModelException;
@@ -6,6 +6,10 @@ import backstate.formats.DocumentSolver;
 import backstate.formats.EstimateDocument;
 import backstate.formats.FailureDetails;
 import backstate.formats.InputException;
+import backstate.jobs.ClaimedJob;
+import backstate.jobs.JobHandler;
+import backstate.jobs.JobOutcome;
+import backstate.jobs.NewEstimate;
 import com.fasterxml.jackson.databind.ObjectMapper;
 import io.micrometer.core.instrument.MeterRegistry;
 import io.micrometer.core.instrument.Timer;
@@ -14,7 +18,8 @@ import io.micrometer.core.instrument.Timer;
  * Runs an 'estimate' job: loads the stored trace and its model version, solves, and returns the
  * estimate row. The fitted and residual series are not kept: the series route rebuilds them from
  * the same stored trace ({@link StoredTraceSolver}), which keeps ~16 bytes per sample and output
- * out of every job's write.
+ * out of every job's write. Registered for the kind 'estimate' in
+ * {@link backstate.jobs.HandlersByKind} by App.
  */
 public final class EstimateJobHandler implements JobHandler {
     private final StoredTraceSolver solver;
