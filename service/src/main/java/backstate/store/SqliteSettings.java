@@ -3,7 +3,7 @@ package backstate.store;
 import java.time.Duration;
 
 /**
- * Tuning for {@link SqliteStore}.
+ * Tuning for {@link SqliteDatabase}.
  *
  * @param readConnections connections kept for reads; WAL lets them read while the one writer writes
  * @param busyTimeout     how long a statement waits for a lock held by another process before
