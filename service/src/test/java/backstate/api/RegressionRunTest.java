@@ -232,9 +232,12 @@ class RegressionRunTest {
 
     @Test
     void latest_per_unit_and_a_unit_list_select_exactly_those_traces() throws Exception {
-        // A second trace for one unit, posted now: the latest per unit is that one.
+        // A second trace for one unit, posted now with the demo's recording start: the same recording
+        // time, written later, so the latest per unit is that one.
         String unit = "RCX-85159";
-        byte[] csv = java.nio.file.Files.readAllBytes(DemoVersions.DEMO.resolve("traces/" + unit + ".csv"));
+        String demoCsv = java.nio.file.Files.readString(DemoVersions.DEMO.resolve("traces/" + unit + ".csv"));
+        byte[] csv = ("time since " + backstate.cli.DemoLoader.DEMO_START + demoCsv.substring("time".length()))
+                .getBytes(java.nio.charset.StandardCharsets.UTF_8);
         TestServer.Reply second = server.post("/v1/units/" + unit + "/traces?model=" + FAMILY + "&version=1",
                 "text/csv", csv);
         assertEquals(202, second.status(), second.body());

@@ -67,13 +67,13 @@ class CompareVersionsCommandTest {
 
     @Test
     void recording_time_flags_select_traces_by_when_they_were_recorded() {
-        // The demo's times are seconds since 1970; RCX-24000's first sample, at 540 s, is the demo's earliest.
+        // The demo's clock starts at DemoLoader.DEMO_START; RCX-24000's first sample, 540 s on, is the demo's earliest.
         CommandRun first = compareVersions("--server", server.base(), "--family", "reefer-40", "--baseline", "1",
-                "--candidate", Integer.toString(copyOfV1), "--to", "1970-01-01T00:10:00Z");
+                "--candidate", Integer.toString(copyOfV1), "--to", "2026-11-30T00:10:00Z");
         assertEquals(CompareVersionsCommand.PASS, first.exit(), first.out() + first.err());
         assertTrue(first.out().contains("over 1 traces"), first.out());
         CommandRun none = compareVersions("--server", server.base(), "--family", "reefer-40", "--baseline", "1",
-                "--candidate", Integer.toString(copyOfV1), "--from", "1970-01-02T06:00:00Z");
+                "--candidate", Integer.toString(copyOfV1), "--from", "2026-12-01T06:00:00Z");
         assertEquals(CompareVersionsCommand.BAD_INPUT, none.exit(), none.out() + none.err());
         assertTrue(none.err().contains("no stored traces"), none.err());
     }
