@@ -22,6 +22,7 @@ final class WeightedFactors {
     /** The same object as {@link #estimate} when every weight is 1. */
     final SquareRootInformation perSample;
     private final double[] scaledRow;
+    private final double[] scaledRhs;
     private final double[] zeros;
 
     private WeightedFactors(SquareRootInformation estimate, SquareRootInformation spread,
@@ -31,6 +32,7 @@ final class WeightedFactors {
         this.perSample = perSample;
         int q = estimate.unknowns();
         this.scaledRow = new double[q * q];
+        this.scaledRhs = new double[q];
         this.zeros = new double[q];
     }
 
@@ -68,7 +70,7 @@ final class WeightedFactors {
 
     /**
      * Adds a block of {@code represented} whitened equations of one weight w, already reduced by an
-     * orthogonal transformation to {@code count} rows (see {@link SquareRootInformation#addReduced}).
+     * orthogonal transformation to {@code count} ≤ q rows (see {@link SquareRootInformation#addReduced}).
      * Scaling every row of a block by one constant commutes with the reduction, so one reduction
      * serves all three factors.
      */
@@ -88,7 +90,6 @@ final class WeightedFactors {
         for (int i = 0; i < size; i++) {
             scaledRow[i] = rows[i] * root;
         }
-        double[] scaledRhs = new double[count];
         for (int r = 0; r < count; r++) {
             scaledRhs[r] = rhs[r] * root;
         }
