@@ -48,7 +48,7 @@ public final class SolveCommand {
         try {
             Map<String, String> flags = flags(args);
             ObjectMapper mapper = Json.mapper(Limits.DEFAULTS);
-            ModelDocument model = mapper.readValue(Path.of(require(flags, "model")).toFile(), ModelDocument.class);
+            ModelDocument model = readModel(mapper, Path.of(require(flags, "model")));
             ParsedTrace trace = readTrace(Path.of(require(flags, "trace")), model, options(flags));
             DocumentSolver.Outcome outcome = DocumentSolver.solve(model, trace, false, Limits.DEFAULTS);
             ObjectMapper pretty = mapper.copy().enable(SerializationFeature.INDENT_OUTPUT);
@@ -64,6 +64,17 @@ public final class SolveCommand {
         } catch (InputException | IllegalArgumentException | IOException e) {
             err.println("backstate solve: " + e.getMessage());
             return BAD_INPUT;
+        }
+    }
+
+    /** The model file; JSON that does not parse is named with its line and column, in one line. */
+    private static ModelDocument readModel(ObjectMapper mapper, Path path) throws IOException {
+        try {
+            return mapper.readValue(path.toFile(), ModelDocument.class);
+        } catch (com.fasterxml.jackson.core.JsonParseException e) {
+            com.fasterxml.jackson.core.JsonLocation at = e.getLocation();
+            String where = at == null ? "" : " at line " + at.getLineNr() + ", column " + at.getColumnNr();
+            throw new InputException("model", path + " is not a model document: its JSON does not read" + where);
         }
     }
 

@@ -104,11 +104,9 @@ class SolveExitCodesTest {
                 "--model", model, "--trace", badCell.toString());
         assertTrue(refused("--model", model, "--trace", unknownColumn.toString())
                 .startsWith("backstate solve: header[2]: got an unknown column \"humidity\""));
-        // A model file that is not JSON: exit 2 and nothing on stdout, but the words are Jackson's
-        // own and run to two lines (its location on the second), so only the start is checked.
-        CommandRun malformed = CommandRun.of(SolveCommand::run, "--model", notJson.toString(), "--trace", trace);
-        assertEquals(List.of(2, ""), List.of(malformed.exit(), malformed.out()));
-        assertTrue(malformed.err().startsWith("backstate solve: "), malformed.err());
+        // A model file that is not JSON (it ends after the first key): one line naming the file and where.
+        assertRefused("backstate solve: model: " + notJson + " is not a model document: its JSON does not read"
+                + " at line 1, column 15", "--model", notJson.toString(), "--trace", trace);
         assertTrue(refused("--model", model, "--trace", dir.resolve("absent.csv").toString()).contains("absent.csv"),
                 "a missing file is named");
     }
