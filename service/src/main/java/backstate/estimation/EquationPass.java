@@ -56,7 +56,7 @@ final class EquationPass {
         this.phiNext = new double[n * n];
         this.forced = new double[n];
         this.trapezoid = continuous ? new TrapezoidWeights(ctx, start) : null;
-        this.blocks = new UniformBlocks(ctx, end);
+        this.blocks = new UniformBlocks(ctx, end, continuous);
     }
 
     /** Accumulates every data equation; returns the information factor and per-channel counts. */
@@ -84,7 +84,7 @@ final class EquationPass {
                 advance(k, ctx.transitions.over(units - previousUnits));
             }
             if (k >= nextBlockTry) {
-                int outcome = checkBlock(k);
+                int outcome = blocks.check(k);
                 if (outcome == UniformBlocks.UNIFORM) {
                     k = foldBlock(k, units - startUnits);
                     previousUnits = ctx.units(k);
@@ -98,34 +98,6 @@ final class EquationPass {
             k++;
         }
         return new Result(factors, counts, forced.clone());
-    }
-
-    /**
-     * {@link UniformBlocks#check}; with trapezoid weights a block must also have one weight
-     * throughout, so its neighbours before and after must be present in every channel one step
-     * away. When they are not, the next try is one sample on (a neighbour that fails now may not
-     * fail for a later block).
-     */
-    private int checkBlock(int k) {
-        int outcome = blocks.check(k);
-        if (outcome != UniformBlocks.UNIFORM || trapezoid == null) {
-            return outcome;
-        }
-        long step = ctx.units(k + 1) - ctx.units(k);
-        int after = k + UniformBlocks.SAMPLES;
-        boolean evenBefore = k > 0 && allPresent(k - 1) && ctx.units(k) - ctx.units(k - 1) == step;
-        boolean evenAfter = after < ctx.trace.samples() && allPresent(after)
-                && ctx.units(after) - ctx.units(after - 1) == step;
-        return evenBefore && evenAfter ? UniformBlocks.UNIFORM : k + 1;
-    }
-
-    private boolean allPresent(int k) {
-        for (int j = 0; j < p; j++) {
-            if (Double.isNaN(ctx.trace.output(k, j))) {
-                return false;
-            }
-        }
-        return true;
     }
 
     /** Steps G (when current) and the forced response from sample k−1 to k. */

@@ -22,6 +22,7 @@ final class UniformBlocks {
 
     private final SolveContext ctx;
     private final int end;
+    private final boolean evenNeighbours;
     private final int rows;
     private final double[] b;
     private final double[] reduced;
@@ -36,10 +37,15 @@ final class UniformBlocks {
         }
     };
 
-    /** @param end one past the last sample a block may use */
-    UniformBlocks(SolveContext ctx, int end) {
+    /**
+     * @param end            one past the last sample a block may use
+     * @param evenNeighbours a block also needs the samples just before and after it present, one
+     *                       step away (so that every trapezoid weight in it is the same)
+     */
+    UniformBlocks(SolveContext ctx, int end, boolean evenNeighbours) {
         this.ctx = ctx;
         this.end = end;
+        this.evenNeighbours = evenNeighbours;
         this.rows = SAMPLES * ctx.p;
         this.b = new double[rows];
         this.reduced = new double[ctx.q * ctx.q];
@@ -50,8 +56,9 @@ final class UniformBlocks {
     }
 
     /**
-     * {@link #UNIFORM} when samples k … k+B−1 exist, share one step and have every output present;
-     * otherwise the first sample index at which a block could next start.
+     * {@link #UNIFORM} when samples k … k+B−1 exist, share one step and have every output present
+     * (with even neighbours: so do samples k−1 and k+B, one step away); otherwise the first sample
+     * index at which a block could next start.
      */
     int check(int k) {
         int blockEnd = k + SAMPLES;
@@ -61,10 +68,8 @@ final class UniformBlocks {
         long step = ctx.units(k + 1) - ctx.units(k);
         long previous = ctx.units(k);
         for (int i = k; i < blockEnd; i++) {
-            for (int j = 0; j < ctx.p; j++) {
-                if (Double.isNaN(ctx.trace.output(i, j))) {
-                    return i + 1;
-                }
+            if (!allPresent(i)) {
+                return i + 1;
             }
             long units = ctx.units(i);
             if (i > k && units - previous != step) {
@@ -72,7 +77,22 @@ final class UniformBlocks {
             }
             previous = units;
         }
-        return UNIFORM;
+        return !evenNeighbours || evenStepTo(k, step) && evenStepTo(blockEnd, step) ? UNIFORM : k + 1;
+    }
+
+    /** True when sample i exists, has every output present, and lies one step of {@code step} units after sample i−1. */
+    private boolean evenStepTo(int i, long step) {
+        return i > 0 && i < ctx.trace.samples() && allPresent(i - 1) && allPresent(i)
+                && ctx.units(i) - ctx.units(i - 1) == step;
+    }
+
+    private boolean allPresent(int i) {
+        for (int j = 0; j < ctx.p; j++) {
+            if (Double.isNaN(ctx.trace.output(i, j))) {
+                return false;
+            }
+        }
+        return true;
     }
 
     /**
