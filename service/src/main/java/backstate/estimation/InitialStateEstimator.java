@@ -69,9 +69,10 @@ public final class InitialStateEstimator {
         SquareRootInformation info = factors.estimate;
         double[] r = info.factorR();
         double[] solution = Triangular.solveUpper(r, info.rhs(), q);
+        double[] rInverse = Triangular.invertUpper(r, q);
         double[] covariance = factors.weighted()
-                ? Sandwich.covariance(r, factors.spread.factorR(), q)
-                : Triangular.timesOwnTranspose(Triangular.invertUpper(r, q), q);
+                ? Sandwich.covariance(rInverse, factors.spread.factorR(), q)
+                : Triangular.timesOwnTranspose(rInverse, q);
         double chiSquare = factors.perSample.residualSquares();
         int dof = (int) (factors.perSample.equations() - q);
         double sigmaScale = dof > 0 ? Math.sqrt(chiSquare / dof) : Double.NaN;
@@ -84,7 +85,7 @@ public final class InitialStateEstimator {
             conditioning = Sandwich.withWeakestSpread(conditioning, covariance, q);
         }
         Set<Flag> flags = flags(ctx, conditioning, residuals.channels(), chiSquareP, dof);
-        if (OffsetSeparation.worstInflation(r, ctx.n, q) > Conditioning.OFFSET_INFLATION_LIMIT) {
+        if (OffsetSeparation.worstInflation(r, rInverse, ctx.n, q) > Conditioning.OFFSET_INFLATION_LIMIT) {
             flags.add(Flag.OFFSET_CONFOUNDED);
         }
         StateUncertainty.Rule rule = intervalRule(ctx, sigmaScale, dof);

@@ -11,12 +11,8 @@ final class OffsetSeparation {
     private OffsetSeparation() {
     }
 
-    /** The largest VIF over the offsets (unknowns n … q−1); 1 when there are none. */
-    static double worstInflation(double[] r, int n, int q) {
-        if (q == n) {
-            return 1.0;
-        }
-        double[] inverse = Triangular.invertUpper(r, q);
+    /** The largest VIF over the offsets (unknowns n … q−1), given R and R⁻¹; 1 when there are none. */
+    static double worstInflation(double[] r, double[] inverse, int n, int q) {
         double worst = 1.0;
         for (int j = n; j < q; j++) {
             double column = 0.0;

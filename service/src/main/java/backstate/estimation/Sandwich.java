@@ -13,9 +13,9 @@ final class Sandwich {
     private Sandwich() {
     }
 
-    /** B⁻¹ M B⁻¹ for upper-triangular q×q factors R of B and S of M (row-major). */
-    static double[] covariance(double[] r, double[] s, int q) {
-        double[] bInverse = Triangular.timesOwnTranspose(Triangular.invertUpper(r, q), q);
+    /** B⁻¹ M B⁻¹ from R⁻¹ (R the upper-triangular factor of B) and the upper-triangular factor S of M, q×q row-major. */
+    static double[] covariance(double[] rInverse, double[] s, int q) {
+        double[] bInverse = Triangular.timesOwnTranspose(rInverse, q);
         double[] half = Matrices.multiply(s, bInverse, q, q, q);
         double[] out = new double[q * q];
         for (int i = 0; i < q; i++) {

@@ -37,7 +37,8 @@ class OffsetSeparationTest {
         double closedForm = 1.0 / (1.0 - cosine2);
         // R from Commons Math's Householder QR of the stacked columns, as an independent factor.
         double[][] r = new QRDecomposition(MatrixUtils.createRealMatrix(columns)).getR().getSubMatrix(0, 1, 0, 1).getData();
-        double inflation = OffsetSeparation.worstInflation(Matrices.flatten(r, 2, 2), 1, 2);
+        double[] factor = Matrices.flatten(r, 2, 2);
+        double inflation = OffsetSeparation.worstInflation(factor, Triangular.invertUpper(factor, 2), 1, 2);
         // Relative accuracy: cancellation in 1 − cos² costs ~VIF·ε (common practice, no source).
         assertEquals(closedForm, inflation, 1e-12 * closedForm * closedForm, "VIF vs 1/(1 − cos²θ)");
         assertEquals(confounded, inflation > Conditioning.OFFSET_INFLATION_LIMIT, "VIF " + inflation);
