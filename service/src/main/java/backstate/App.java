@@ -5,6 +5,8 @@ import backstate.api.ProcessMeters;
 import backstate.api.SeriesSolves;
 import backstate.auth.ApiKeys;
 import backstate.auth.FirstAdminKey;
+import backstate.config.DatabaseTarget;
+import backstate.config.Secret;
 import backstate.config.Settings;
 import backstate.formats.CheckedModels;
 import backstate.formats.Json;
@@ -18,7 +20,10 @@ import backstate.solving.EstimateJobHandler;
 import backstate.solving.StoredTraceSolver;
 import backstate.store.Database;
 import backstate.store.DatabaseFile;
+import backstate.store.PostgresDatabase;
+import backstate.store.PostgresSettings;
 import backstate.store.SqliteDatabase;
+import backstate.store.SqliteSettings;
 import backstate.store.StoreException;
 import com.fasterxml.jackson.databind.ObjectMapper;
 import io.micrometer.prometheusmetrics.PrometheusConfig;
@@ -43,7 +48,7 @@ public final class App implements AutoCloseable {
         Limits limits = new Limits(settings.maxSamples(), Limits.DEFAULTS.maxNameLength(), Limits.DEFAULTS.maxJsonDepth());
         ObjectMapper mapper = Json.mapper(limits);
         PrometheusMeterRegistry registry = new PrometheusMeterRegistry(PrometheusConfig.DEFAULT);
-        this.database = openDatabase(settings.database(), clock);
+        this.database = openDatabase(settings, clock);
         this.processMeters = ProcessMeters.bind(registry);
         CheckedModels models = new CheckedModels(mapper, limits);
         StoredTraceSolver stored = new StoredTraceSolver(database.traces(), database.models(), models, mapper);
@@ -51,7 +56,11 @@ public final class App implements AutoCloseable {
                 "estimate", new EstimateJobHandler(stored, mapper, registry),
                 "regression", new RegressionJobHandler(database.regressions(), database.models(), database.queue(), stored, mapper,
                         limits, clock)));
-        this.workers = new WorkerPool(database.queue(), handlers, settings.workers(), clock, IDLE_POLL, registry);
+        WorkerPool.Policy claims = database.sharedByReplicas() ? WorkerPool.Policy.replicas(settings.jobLease())
+                : WorkerPool.Policy.singleProcess(settings.jobLease());
+        this.workers = new WorkerPool(database.queue(), handlers, settings.workers(), clock, IDLE_POLL, registry,
+                WorkerPool.DEFAULT_SHUTDOWN_GRACE, WorkerPool.DEFAULT_STUCK_AFTER, claims);
+        database.onJobsQueued(workers::wake);
         ApiKeys keys = new ApiKeys(database.keys(), clock, new SecureRandom());
         if (settings.auth()) {
             try {
@@ -81,13 +90,22 @@ public final class App implements AutoCloseable {
         return this;
     }
 
-    /** The database on a checked path; a failure names the file, so the start stops with one line saying why. */
-    private static Database openDatabase(Path file, Clock clock) {
-        Path usable = DatabaseFile.usable(file);
+    /**
+     * The SQLite file on a checked path, or the PostgreSQL server; a failure names the file or
+     * URL, so the start stops with one line saying why.
+     */
+    private static Database openDatabase(Settings settings, Clock clock) {
+        DatabaseTarget target = settings.database();
         try {
+            if (target instanceof DatabaseTarget.PostgresServer server) {
+                return new PostgresDatabase(new PostgresSettings(server.jdbcUrl(), server.user(),
+                        server.password().map(Secret::value).orElse(null), settings.databasePool(),
+                        PostgresSettings.DEFAULT_CONNECTION_TIMEOUT, SqliteSettings.DEFAULT_MAX_ATTEMPTS), clock);
+            }
+            Path usable = DatabaseFile.usable(((DatabaseTarget.SqliteFile) target).file());
             return new SqliteDatabase(usable, clock);
         } catch (StoreException e) {
-            throw new IllegalStateException("database " + usable + ": " + e.getMessage(), e);
+            throw new IllegalStateException("database " + target.describe() + ": " + e.getMessage(), e);
         }
     }
 

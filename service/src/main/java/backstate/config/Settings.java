@@ -1,6 +1,6 @@
 package backstate.config;
 
-import java.nio.file.Path;
+import java.time.Duration;
 import java.util.LinkedHashMap;
 import java.util.Map;
 import java.util.Optional;
@@ -9,8 +9,9 @@ import java.util.Optional;
  * Service settings from command-line flags ({@code --port 8080}) over environment variables
  * ({@code BACKSTATE_PORT}) over defaults, validated once at start.
  */
-public record Settings(String host, int port, Path database, int workers, long maxBodyBytes, int maxQueued,
-                       int maxSamples, boolean auth, Optional<Secret> adminKey, int seriesThreads, int seriesQueue) {
+public record Settings(String host, int port, DatabaseTarget database, int workers, long maxBodyBytes, int maxQueued,
+                       int maxSamples, boolean auth, Optional<Secret> adminKey, int seriesThreads, int seriesQueue,
+                       Duration jobLease, int databasePool) {
     /** Default body limit: 256 MiB holds a 10⁶-sample, 5-channel CSV with room to spare. */
     public static final long DEFAULT_MAX_BODY = 256L * 1024 * 1024;
     /**
@@ -20,6 +21,10 @@ public record Settings(String host, int port, Path database, int workers, long m
     public static final int DEFAULT_SERIES_THREADS = 2;
     /** Series requests waiting for a thread; past them a request is answered 503 with Retry-After. */
     public static final int DEFAULT_SERIES_QUEUE = 8;
+    /** Seconds a claimed job stays reserved without a renewal (its holder renews every third). */
+    public static final int DEFAULT_JOB_LEASE_SECONDS = 15;
+    /** PostgreSQL connections per replica. */
+    public static final int DEFAULT_DATABASE_POOL = 8;
 
     /** Reads flags and environment; a bad value throws naming the setting. */
     public static Settings from(String[] flags, Map<String, String> env) {
@@ -34,6 +39,8 @@ public record Settings(String host, int port, Path database, int workers, long m
         values.put("auth", env.getOrDefault("BACKSTATE_AUTH", "on"));
         values.put("series-threads", env.getOrDefault("BACKSTATE_SERIES_THREADS", Integer.toString(DEFAULT_SERIES_THREADS)));
         values.put("series-queue", env.getOrDefault("BACKSTATE_SERIES_QUEUE", Integer.toString(DEFAULT_SERIES_QUEUE)));
+        values.put("job-lease", env.getOrDefault("BACKSTATE_JOB_LEASE", Integer.toString(DEFAULT_JOB_LEASE_SECONDS)));
+        values.put("database-pool", env.getOrDefault("BACKSTATE_DATABASE_POOL", Integer.toString(DEFAULT_DATABASE_POOL)));
         for (int i = 0; i < flags.length; i++) {
             String flag = flags[i];
             if (!flag.startsWith("--") || !values.containsKey(flag.substring(2)) || i + 1 == flags.length) {
@@ -41,19 +48,22 @@ public record Settings(String host, int port, Path database, int workers, long m
             }
             values.put(flag.substring(2), flags[++i]);
         }
-        return new Settings(values.get("host"), range("port", values, 0, 65535), Path.of(values.get("database")),
+        return new Settings(values.get("host"), range("port", values, 0, 65535),
+                DatabaseTarget.parse(values.get("database"), env),
                 range("workers", values, 1, 256), longRange("max-body-bytes", values, 1024, Long.MAX_VALUE),
                 range("max-queued", values, 1, 10_000_000), range("max-samples", values, 2, 100_000_000),
                 onOff("auth", values), adminKey(env), range("series-threads", values, 1, 64),
-                range("series-queue", values, 0, 10_000));
+                range("series-queue", values, 0, 10_000), Duration.ofSeconds(range("job-lease", values, 3, 3600)),
+                range("database-pool", values, 2, 500));
     }
 
     /** One line per setting, for the start-up log. */
     public String describe() {
-        return "host=" + host + " port=" + port + " database=" + database.toAbsolutePath() + " workers=" + workers
+        return "host=" + host + " port=" + port + " database=" + database.describe() + " workers=" + workers
                 + " max-body-bytes=" + maxBodyBytes + " max-queued=" + maxQueued + " max-samples=" + maxSamples
                 + " auth=" + (auth ? "on" : "off") + " admin-key=" + (adminKey.isPresent() ? "set" : "unset")
-                + " series-threads=" + seriesThreads + " series-queue=" + seriesQueue;
+                + " series-threads=" + seriesThreads + " series-queue=" + seriesQueue
+                + " job-lease=" + jobLease.toSeconds() + "s database-pool=" + databasePool;
     }
 
     /** Access control on or off; the admin key comes from the environment only, never a flag (flags show in ps). */

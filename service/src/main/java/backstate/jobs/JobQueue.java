@@ -1,5 +1,6 @@
 package backstate.jobs;
 
+import java.time.Duration;
 import java.time.Instant;
 import java.util.List;
 
@@ -10,8 +11,31 @@ import java.util.List;
  */
 public interface JobQueue {
 
-    /** Claims up to {@code limit} queued jobs, oldest first, in one statement; each gets attempt + 1. */
-    List<ClaimedJob> claimNext(int limit, Instant now);
+    /** How long a claim holds a job when the caller names no lease (tests and single-process use). */
+    Duration DEFAULT_LEASE = Duration.ofSeconds(30);
+
+    /**
+     * Claims up to {@code limit} queued jobs, oldest first, in one statement; each gets attempt + 1
+     * and a lease until {@code leaseUntil}. Concurrent claimers (other replicas) never get the same job.
+     */
+    List<ClaimedJob> claimNext(int limit, Instant now, Instant leaseUntil);
+
+    /** {@link #claimNext(int, Instant, Instant)} with the {@link #DEFAULT_LEASE}. */
+    default List<ClaimedJob> claimNext(int limit, Instant now) {
+        return claimNext(limit, now, now.plus(DEFAULT_LEASE));
+    }
+
+    /**
+     * Extends the lease of each job still running at the attempt held; returns how many were
+     * renewed (a job missing from the count was rescued or finished by someone else).
+     */
+    int renewLeases(List<ClaimedJob> held, Instant leaseUntil);
+
+    /**
+     * Returns to the queue (or fails, when out of attempts) every running job whose lease ran out
+     * before {@code now}: its holder died or lost the database. Returns how many left 'running'.
+     */
+    int rescueExpiredLeases(Instant now);
 
     /** Marks the job succeeded and, in the same transaction, writes its estimate if given. */
     boolean completeIfRunning(String jobId, int attempt, NewEstimate estimateOrNull, String resultJsonOrNull,

@@ -5,6 +5,8 @@ import java.time.Clock;
 import java.time.Duration;
 import java.time.Instant;
 import java.util.List;
+import java.util.Map;
+import java.util.concurrent.ConcurrentHashMap;
 import java.util.concurrent.ExecutorService;
 import java.util.concurrent.Executors;
 import java.util.concurrent.RejectedExecutionException;
@@ -37,6 +39,12 @@ import org.slf4j.LoggerFactory;
  * running longer than {@code stuckAfter} (a hung handler): their late results are refused by the
  * attempt check, so rescue never lets a job complete twice.
  *
+ * <p>Every claim takes a lease ({@link Policy#lease()}); a heartbeat thread renews the leases of
+ * the jobs this pool holds every third of it, and returns to the queue any running job whose
+ * lease ran out: its holder was killed, froze or lost the database. With replicas sharing one
+ * queue ({@link Policy#replicas}) each pool holds only the jobs its solving slots can start, so an
+ * idle replica is never starved by a busy one's backlog.
+ *
  * <p>What a job's outcome does to it is {@link JobRunner}'s concern.
  */
 public final class WorkerPool implements AutoCloseable {
@@ -53,6 +61,34 @@ public final class WorkerPool implements AutoCloseable {
      * while posts arrived at ~450/s, with 16 it keeps pace (measured with bench/load/ingest.sh).
      */
     static final int JOBS_IN_FLIGHT_PER_SLOT = 16;
+    /** Renewals per lease: two may fail (a slow commit, a short outage) before the lease runs out. */
+    private static final int RENEWALS_PER_LEASE = 3;
+
+    /**
+     * How a pool claims: jobs in flight per solving slot, and how long a claim holds a job without
+     * a renewal.
+     */
+    public record Policy(int jobsInFlightPerSlot, Duration lease) {
+        /** Long enough to ride out a stop-the-world pause or a slow commit; short enough to notice a kill. */
+        public static final Duration DEFAULT_LEASE = Duration.ofSeconds(15);
+
+        public Policy {
+            if (jobsInFlightPerSlot < 1) {
+                throw new IllegalArgumentException("got jobsInFlightPerSlot " + jobsInFlightPerSlot + ", expected >= 1");
+            }
+            requirePositive("lease", lease);
+        }
+
+        /** The only process on its store: claims in batches, as the SQLite writer rewards. */
+        public static Policy singleProcess(Duration lease) {
+            return new Policy(JOBS_IN_FLIGHT_PER_SLOT, lease);
+        }
+
+        /** One of several replicas on a shared store: claims only what its slots can start. */
+        public static Policy replicas(Duration lease) {
+            return new Policy(1, lease);
+        }
+    }
     /** A hung job is rescued at most a quarter of stuckAfter late. */
     private static final int RESCUE_CHECKS_PER_STUCK_WINDOW = 4;
 
@@ -71,6 +107,10 @@ public final class WorkerPool implements AutoCloseable {
     private final Semaphore freeJobThreads;
     private final ExecutorService jobThreads;
     private final Thread dispatcher;
+    private final Duration lease;
+    private final Thread heartbeat;
+    /** The jobs this pool holds (claimed, outcome not yet written), by ID: their leases are renewed. */
+    private final Map<String, ClaimedJob> held = new ConcurrentHashMap<>();
     private final AtomicBoolean started = new AtomicBoolean();
     private final AtomicBoolean closed = new AtomicBoolean();
     private volatile boolean stopping;
@@ -82,6 +122,12 @@ public final class WorkerPool implements AutoCloseable {
 
     public WorkerPool(JobQueue q, JobHandler h, int solvingSlots, Clock clock, Duration idlePoll, MeterRegistry registry,
                       Duration shutdownGrace, Duration stuckAfter) {
+        this(q, h, solvingSlots, clock, idlePoll, registry, shutdownGrace, stuckAfter,
+                Policy.singleProcess(Policy.DEFAULT_LEASE));
+    }
+
+    public WorkerPool(JobQueue q, JobHandler h, int solvingSlots, Clock clock, Duration idlePoll, MeterRegistry registry,
+                      Duration shutdownGrace, Duration stuckAfter, Policy policy) {
         requireNonNull("queue", q);
         requireNonNull("handler", h);
         requireNonNull("clock", clock);
@@ -92,16 +138,19 @@ public final class WorkerPool implements AutoCloseable {
         requirePositive("idlePoll", idlePoll);
         requirePositive("shutdownGrace", shutdownGrace);
         requirePositive("stuckAfter", stuckAfter);
+        requireNonNull("policy", policy);
         this.queue = q;
         this.clock = clock;
         this.idlePoll = idlePoll;
         this.shutdownGrace = shutdownGrace;
         this.stuckAfter = stuckAfter;
         this.rescueInterval = stuckAfter.dividedBy(RESCUE_CHECKS_PER_STUCK_WINDOW);
-        this.jobThreadCount = solvingSlots * JOBS_IN_FLIGHT_PER_SLOT;
+        this.jobThreadCount = solvingSlots * policy.jobsInFlightPerSlot();
+        this.lease = policy.lease();
         this.freeJobThreads = new Semaphore(jobThreadCount);
         this.jobThreads = Executors.newFixedThreadPool(jobThreadCount, namedDaemons("backstate-worker-"));
         this.dispatcher = namedDaemons("backstate-dispatcher-").newThread(this::dispatchUntilStopped);
+        this.heartbeat = namedDaemons("backstate-lease-").newThread(this::renewUntilStopped);
         this.metrics = new JobMetrics(registry, q);
         // At most `solvingSlots` handlers run at once, so CPU and memory stay as configured.
         this.runner = new JobRunner(q, h, clock, metrics, () -> abandoned, new Semaphore(solvingSlots));
@@ -112,6 +161,7 @@ public final class WorkerPool implements AutoCloseable {
             throw new IllegalStateException("got a second start(), expected one");
         }
         dispatcher.start();
+        heartbeat.start();
     }
 
     /** Lets an idle pool claim at once, instead of at its next poll; call it after an enqueue. */
@@ -135,9 +185,10 @@ public final class WorkerPool implements AutoCloseable {
         jobThreads.shutdown();
         if (!awaitJobThreads()) {
             abandoned = true;
-            LOG.warn("jobs still running after {}; leaving them for rescue at next start", shutdownGrace);
+            LOG.warn("jobs still running after {}; leaving them for rescue when their lease runs out", shutdownGrace);
             jobThreads.shutdownNow();
         }
+        heartbeat.interrupt(); // after the grace: jobs finishing in it keep their leases
         metrics.close();
     }
 
@@ -186,7 +237,8 @@ public final class WorkerPool implements AutoCloseable {
 
     private List<ClaimedJob> claimOrNothing(int limit) {
         try {
-            return queue.claimNext(limit, clock.instant());
+            Instant now = clock.instant();
+            return queue.claimNext(limit, now, now.plus(lease));
         } catch (RuntimeException e) {
             LOG.warn("claiming jobs failed; retrying after {}", idlePoll, e);
             return List.of();
@@ -194,9 +246,11 @@ public final class WorkerPool implements AutoCloseable {
     }
 
     private void dispatch(ClaimedJob job) {
+        held.put(job.id(), job);
         try {
             jobThreads.execute(() -> runAndFreeJobThread(job));
         } catch (RejectedExecutionException e) {
+            held.remove(job.id());
             freeJobThreads.release();
             LOG.warn("job {} claimed while shutting down; left running for rescue", job.id());
         }
@@ -217,8 +271,43 @@ public final class WorkerPool implements AutoCloseable {
         try {
             runner.run(job);
         } finally {
+            held.remove(job.id());
             freeJobThreads.release();
             wake();
+        }
+    }
+
+    /**
+     * Every third of a lease: renews the leases of the jobs held, then rescues jobs whose lease
+     * ran out. Runs until close, and keeps renewing while running jobs finish during the grace.
+     */
+    private void renewUntilStopped() {
+        long pauseNanos = lease.dividedBy(RENEWALS_PER_LEASE).toNanos();
+        while (!Thread.currentThread().isInterrupted()) {
+            LockSupport.parkNanos(this, pauseNanos);
+            if (Thread.currentThread().isInterrupted()) {
+                return;
+            }
+            renewAndRescue();
+        }
+    }
+
+    private void renewAndRescue() {
+        Instant now = clock.instant();
+        List<ClaimedJob> mine = List.copyOf(held.values());
+        try {
+            int renewed = queue.renewLeases(mine, now.plus(lease));
+            if (renewed < mine.size()) {
+                LOG.warn("{} of {} held jobs were taken back (lease ran out or job finished elsewhere)",
+                        mine.size() - renewed, mine.size());
+            }
+            int rescued = queue.rescueExpiredLeases(now);
+            if (rescued > 0) {
+                LOG.warn("returned {} jobs whose lease ran out to the queue", rescued);
+                wake();
+            }
+        } catch (RuntimeException e) {
+            LOG.warn("renewing job leases failed; trying again in {}", lease.dividedBy(RENEWALS_PER_LEASE), e);
         }
     }
 

@@ -4,8 +4,8 @@ import backstate.jobs.JobQueue;
 
 /**
  * One open database and its stores, one per aggregate; App hands each to the code that needs it.
- * A second backend (PostgreSQL) implements this and the aggregate interfaces, and nothing else
- * changes: no SQL or JDBC type appears in them.
+ * Two backends implement it: {@link SqliteDatabase} (one file, one process) and
+ * {@link PostgresDatabase} (one server, any number of replicas). No SQL or JDBC type appears here.
  */
 public interface Database extends AutoCloseable {
 
@@ -26,6 +26,21 @@ public interface Database extends AutoCloseable {
     ApiKeyStore keys();
 
     RegressionStore regressions();
+
+    /**
+     * True when other processes may work on the same jobs at the same time (replicas): then a
+     * process claims only what its solving slots can start, and never rescues another's running
+     * jobs but by their lease. False for a store only this process opens.
+     */
+    boolean sharedByReplicas();
+
+    /**
+     * Registers a wake-up run when another process queues a job (this process's own enqueues wake
+     * its workers directly). A store only this process opens never calls it.
+     */
+    default void onJobsQueued(Runnable wakeUp) {
+        // Nothing to listen for: every enqueue is this process's own.
+    }
 
     /** True when a trivial query succeeds; never throws. */
     boolean isReachable();

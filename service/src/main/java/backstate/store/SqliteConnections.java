@@ -32,7 +32,7 @@ import org.sqlite.SQLiteDataSource;
  * locks held by other processes. Read connections also set {@code query_only}. Checkpoints run
  * on a connection and thread of their own ({@link WalCheckpoints}), not in the writer's commits.
  */
-final class SqliteConnections implements AutoCloseable {
+final class SqliteConnections implements Connections {
 
     /** How long close() waits for a borrowed read connection to come back before closing anyway. */
     private static final long CLOSE_WAIT_SECONDS = 5;
@@ -75,8 +75,14 @@ final class SqliteConnections implements AutoCloseable {
         return dataSource;
     }
 
+    @Override
+    public Dialect dialect() {
+        return Dialect.SQLITE;
+    }
+
     /** Runs read-only work on an idle read connection, outside any explicit transaction. */
-    <T> T read(SqlWork<T> work) {
+    @Override
+    public <T> T read(SqlWork<T> work) {
         Connection reader = borrowReader();
         try (Statements statements = new Statements(reader)) {
             return work.run(statements);
@@ -92,7 +98,8 @@ final class SqliteConnections implements AutoCloseable {
      * transaction: in WAL mode it sees the database as of its first read, so figures read
      * together agree even while writes commit. (PostgreSQL: REPEATABLE READ.)
      */
-    <T> T readInOneSnapshot(SqlWork<T> work) {
+    @Override
+    public <T> T readInOneSnapshot(SqlWork<T> work) {
         Connection reader = borrowReader();
         try (Statements statements = new Statements(reader)) {
             reader.setAutoCommit(false);
@@ -113,7 +120,8 @@ final class SqliteConnections implements AutoCloseable {
      * Runs work in a write transaction, shared with other waiting writes but rolled back alone if
      * it throws; returns once the transaction has committed.
      */
-    <T> T write(SqlWork<T> work) {
+    @Override
+    public <T> T write(SqlWork<T> work) {
         return writer.write(work);
     }
 
@@ -121,7 +129,8 @@ final class SqliteConnections implements AutoCloseable {
      * As {@link #write}, for the job queue's consumers (claim, complete, fail, retry, progress,
      * rescue): ahead of client writes, so a burst of posts cannot starve the workers.
      */
-    <T> T writeForWorker(SqlWork<T> work) {
+    @Override
+    public <T> T writeForWorker(SqlWork<T> work) {
         return writer.writeForWorker(work);
     }
 

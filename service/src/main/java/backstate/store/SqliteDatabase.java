@@ -14,19 +14,19 @@ import java.util.function.UnaryOperator;
  * <p>Connections ({@link SqliteConnections}): one write connection owned by the writer thread
  * ({@link SqliteWriter}: group commit, job-queue writes first), and a fixed set of read
  * connections that WAL lets read alongside it. Each aggregate's class holds its named SQL:
- * {@link SqliteModels}, {@link SqliteSubmissions}, {@link SqliteJobs}, {@link SqliteEstimates},
- * {@link SqliteFleet}, {@link SqliteApiKeys}, {@link SqliteRegressions}.
+ * {@link SqlModels}, {@link SqlSubmissions}, {@link SqlJobs}, {@link SqlEstimates},
+ * {@link SqlFleet}, {@link SqlApiKeys}, {@link SqlRegressions}.
  */
 public final class SqliteDatabase implements Database {
 
     private final SqliteConnections db;
-    private final SqliteModels models;
-    private final SqliteSubmissions traces;
-    private final SqliteJobs jobs;
-    private final SqliteEstimates estimates;
-    private final SqliteFleet fleet;
-    private final SqliteApiKeys keys;
-    private final SqliteRegressions regressions;
+    private final SqlModels models;
+    private final SqlSubmissions traces;
+    private final SqlJobs jobs;
+    private final SqlEstimates estimates;
+    private final SqlFleet fleet;
+    private final SqlApiKeys keys;
+    private final SqlRegressions regressions;
 
     public SqliteDatabase(Path file, Clock clock) {
         this(file, clock, SqliteSettings.defaults());
@@ -43,14 +43,14 @@ public final class SqliteDatabase implements Database {
         Expect.notNull("settings", settings);
         this.db = new SqliteConnections(file, settings, writerDecorator);
         try {
-            SqliteMigrations.migrate(db.dataSource());
-            this.models = new SqliteModels(db);
-            this.traces = new SqliteSubmissions(db);
-            this.jobs = new SqliteJobs(db, clock, settings.maxAttempts());
-            this.estimates = new SqliteEstimates(db);
-            this.fleet = new SqliteFleet(db);
-            this.keys = new SqliteApiKeys(db);
-            this.regressions = new SqliteRegressions(db);
+            Migrations.migrate(db.dataSource(), Migrations.SQLITE);
+            this.models = new SqlModels(db);
+            this.traces = new SqlSubmissions(db);
+            this.jobs = new SqlJobs(db, clock, settings.maxAttempts());
+            this.estimates = new SqlEstimates(db);
+            this.fleet = new SqlFleet(db);
+            this.keys = new SqlApiKeys(db);
+            this.regressions = new SqlRegressions(db);
             jobs.rescueAllRunning();
         } catch (RuntimeException e) {
             db.close();
@@ -96,6 +96,11 @@ public final class SqliteDatabase implements Database {
     @Override
     public RegressionStore regressions() {
         return regressions;
+    }
+
+    @Override
+    public boolean sharedByReplicas() {
+        return false;
     }
 
     @Override

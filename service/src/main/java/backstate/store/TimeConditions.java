@@ -8,11 +8,11 @@ import java.util.List;
  * and received_at (epoch milliseconds), and its values in placeholder order.
  */
 final class TimeConditions {
-    /** Each "? IS NULL OR ..." is bound twice with the same value, as in SqliteEstimates. */
-    static final String RECORDED_AND_RECEIVED = " AND (? IS NULL OR window_start >= ?)"
-            + " AND (? IS NULL OR window_start < ?)"
-            + " AND (? IS NULL OR received_at >= ?)"
-            + " AND (? IS NULL OR received_at < ?)";
+    /** Each "CAST(? AS TEXT) IS NULL OR ..." is bound twice with the same value, as in SqlEstimates. */
+    static final String RECORDED_AND_RECEIVED = " AND (CAST(? AS TEXT) IS NULL OR window_start >= ?)"
+            + " AND (CAST(? AS TEXT) IS NULL OR window_start < ?)"
+            + " AND (CAST(? AS TEXT) IS NULL OR received_at >= ?)"
+            + " AND (CAST(? AS TEXT) IS NULL OR received_at < ?)";
 
     private TimeConditions() {
     }

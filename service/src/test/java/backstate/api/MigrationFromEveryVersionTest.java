@@ -43,7 +43,7 @@ import org.junit.jupiter.params.provider.MethodSource;
  * regression runs arrived in V3, API keys in V4, the pipeline role in V8, failure details in V9.
  */
 class MigrationFromEveryVersionTest {
-    /** Where the service's SQLite migrations live (store.SqliteMigrations.LOCATION). */
+    /** Where the service's SQLite migrations live (store.Migrations.SQLITE). */
     static final String MIGRATIONS = "classpath:db/migration/sqlite";
     static final int REGRESSIONS_SINCE = 3;
     static final int KEYS_SINCE = 4;

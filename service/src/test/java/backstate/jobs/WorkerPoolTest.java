@@ -335,9 +335,19 @@ class WorkerPoolTest extends StoreTestBase {
         }
 
         @Override
-        public List<ClaimedJob> claimNext(int limit, java.time.Instant now) {
+        public List<ClaimedJob> claimNext(int limit, java.time.Instant now, java.time.Instant leaseUntil) {
             claimLimits.add(limit);
-            return store.queue().claimNext(limit, now);
+            return store.queue().claimNext(limit, now, leaseUntil);
+        }
+
+        @Override
+        public int renewLeases(List<ClaimedJob> held, java.time.Instant leaseUntil) {
+            return store.queue().renewLeases(held, leaseUntil);
+        }
+
+        @Override
+        public int rescueExpiredLeases(java.time.Instant now) {
+            return store.queue().rescueExpiredLeases(now);
         }
 
         @Override

@@ -13,7 +13,7 @@ import java.util.List;
 /**
  * Bulk writer for benchmarks: stores a trace, its succeeded job and its estimate with the same
  * rows the service writes, and the fleet views' derived rows through the service's own
- * statements ({@link SqliteFleet#recordEstimate}), on one raw connection in large transactions.
+ * statements ({@link SqlFleet#recordEstimate}), on one raw connection in large transactions.
  * Synchronous writes are off (a benchmark fill need not survive a power cut); everything else
  * is the service's schema, indexes and SQL.
  */
@@ -72,7 +72,7 @@ public final class FleetBulkLoad implements AutoCloseable {
         NewEstimate typed = StoreFixture.estimate(traceId, unitId, family, version, windowStart, windowEnd, chi2PerDof,
                 flags, summaryJson);
         long t1 = System.nanoTime();
-        SqliteFleet.recordEstimate(statements, estimateId, typed);
+        SqlFleet.recordEstimate(statements, estimateId, typed);
         deriveNanos += System.nanoTime() - t1;
         insertNanos += t1 - t0;
         rows++;

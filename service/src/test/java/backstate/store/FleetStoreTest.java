@@ -185,7 +185,7 @@ class FleetStoreTest extends StoreTestBase {
     @Test
     void migrating_a_version_1_file_fills_the_derived_rows_of_its_estimates() throws Exception {
         Path file = dir.resolve("v1.db");
-        Flyway.configure().dataSource("jdbc:sqlite:" + file, null, null).locations(SqliteMigrations.LOCATION)
+        Flyway.configure().dataSource("jdbc:sqlite:" + file, null, null).locations(Migrations.SQLITE)
                 .target("1").load().migrate();
         long at = StoreFixture.T0.toEpochMilli();
         try (Connection c = DriverManager.getConnection("jdbc:sqlite:" + file)) {

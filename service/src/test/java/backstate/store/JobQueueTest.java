@@ -79,6 +79,34 @@ class JobQueueTest extends StoreTestBase {
     }
 
     @Test
+    void a_job_whose_lease_ran_out_returns_to_the_queue_and_its_late_holder_cannot_finish_it() throws Exception {
+        Submission s = submit("unit-1", StoreFixture.T0);
+        ClaimedJob held = store.queue().claimNext(1, T1, T1.plusSeconds(15)).get(0);
+
+        assertEquals(0, store.queue().rescueExpiredLeases(T1.plusSeconds(14)));
+        assertEquals(1, store.queue().renewLeases(List.of(held), T1.plusSeconds(30)));
+        assertEquals(0, store.queue().rescueExpiredLeases(T1.plusSeconds(29)));
+        assertEquals(1, store.queue().rescueExpiredLeases(T1.plusSeconds(31)));
+
+        JobRow row = store.jobs().findJob(held.id()).orElseThrow();
+        assertEquals("queued", row.state());
+        assertTrue(row.errors().get(0).startsWith("attempt 1: rescued: its lease ran out"), row.errors().toString());
+        assertEquals(0, store.queue().renewLeases(List.of(held), T1.plusSeconds(60)));
+        assertFalse(store.queue().completeIfRunning(held.id(), held.attempt(), estimateOf(s, "late"), null, T3));
+        ClaimedJob again = store.queue().claimNext(1, T3, T3.plusSeconds(15)).get(0);
+        assertEquals(List.of(held.id(), 2), List.of(again.id(), again.attempt()));
+        assertTrue(store.queue().completeIfRunning(again.id(), again.attempt(), estimateOf(s, "on time"), null, T3));
+        assertEquals(1, fx.rows("estimates"));
+    }
+
+    @Test
+    void a_claim_refuses_a_lease_that_ends_before_it_starts() {
+        IllegalArgumentException e = assertThrows(IllegalArgumentException.class,
+                () -> store.queue().claimNext(1, T1, T1));
+        assertTrue(e.getMessage().contains("expected after now"), e.getMessage());
+    }
+
+    @Test
     void fail_marks_the_job_failed_and_appends_to_earlier_errors() throws Exception {
         submit("unit-1", StoreFixture.T0);
         ClaimedJob first = store.queue().claimNext(1, T1).get(0);

@@ -31,7 +31,7 @@ class PipelineRoleMigrationTest {
     @Test
     void keys_from_a_version_6_file_survive_and_the_new_role_is_admitted() throws Exception {
         Path file = dir.resolve("v6.db");
-        Flyway.configure().dataSource("jdbc:sqlite:" + file, null, null).locations(SqliteMigrations.LOCATION)
+        Flyway.configure().dataSource("jdbc:sqlite:" + file, null, null).locations(Migrations.SQLITE)
                 .target("6").load().migrate();
         try (Connection c = open(file); Statement s = c.createStatement()) {
             s.executeUpdate(insert("00000000000000a1", "admin", null, "first admin", 10, null, null));

@@ -39,7 +39,7 @@ class SchemaTest {
         assertEquals(List.of("api_keys", "api_keys_are_immutable", "api_keys_stay_revoked",
                 "estimate_channels", "estimate_states",
                 "estimates", "estimates_by_model_recorded", "estimates_by_unit_recorded", "idempotency_keys",
-                "jobs", "jobs_by_state_and_age", "model_families", "model_versions",
+                "jobs", "jobs_by_state_and_age", "jobs_running_by_lease", "model_families", "model_versions",
                 "model_versions_are_immutable", "model_versions_stay_retired",
                 "queue_length", "queue_length_on_delete", "queue_length_on_insert", "queue_length_on_leaving",
                 "queue_length_on_return", "regressions", "regressions_by_family_newest", "regressions_newest", "traces",
@@ -179,7 +179,7 @@ class SchemaTest {
     void migrating_a_version_5_file_starts_the_queue_length_at_its_queued_jobs() throws Exception {
         Path file = dir.resolve("v5.db");
         org.flywaydb.core.Flyway.configure().dataSource("jdbc:sqlite:" + file, null, null)
-                .locations(SqliteMigrations.LOCATION).target("5").load().migrate();
+                .locations(Migrations.SQLITE).target("5").load().migrate();
         try (Connection c = java.sql.DriverManager.getConnection("jdbc:sqlite:" + file); Statement st = c.createStatement()) {
             for (String state : List.of("queued", "queued", "running", "failed", "queued")) {
                 boolean running = state.equals("running");
@@ -207,7 +207,7 @@ class SchemaTest {
     void migrating_a_version_6_file_orders_its_estimates_by_recording_time() throws Exception {
         Path file = dir.resolve("v6.db");
         org.flywaydb.core.Flyway.configure().dataSource("jdbc:sqlite:" + file, null, null)
-                .locations(SqliteMigrations.LOCATION).target("6").load().migrate();
+                .locations(Migrations.SQLITE).target("6").load().migrate();
         String document = "{\"states\":[{\"name\":\"x\",\"estimate\":1.0}],"
                 + "\"residuals\":{\"channels\":[{\"output\":\"pos\",\"rms\":0.5}]}}";
         try (Connection c = java.sql.DriverManager.getConnection("jdbc:sqlite:" + file); Statement st = c.createStatement()) {

@@ -14,7 +14,7 @@ import java.util.Optional;
  * Estimates: written with their job's completion, read newest recording first per unit (window
  * start, then time written, then id; see V7__recording_time.sql).
  */
-final class SqliteEstimates implements EstimateStore {
+final class SqlEstimates implements EstimateStore {
 
     private static final String ESTIMATE_COLUMNS = "id, job_id, trace_id, unit_id, family, version, created_at,"
             + " received_at, window_start, window_end, chi2_per_dof, flags, summary_json";
@@ -29,22 +29,22 @@ final class SqliteEstimates implements EstimateStore {
     private static final String NEWEST_RECORDING_FIRST = " ORDER BY window_start DESC, created_at DESC, id DESC";
     private static final String FIND_LATEST_ESTIMATE = "SELECT " + ESTIMATE_COLUMNS
             + " FROM estimates WHERE unit_id = ?" + NEWEST_RECORDING_FIRST + " LIMIT 1";
-    // One statement for every combination of filters: each "? IS NULL OR ..." pair is bound
-    // twice with the same value. PostgreSQL cannot infer a type for a bare "? IS NULL", so there
-    // each first placeholder needs a cast (CAST(? AS text), CAST(? AS bigint)); and instr is
-    // spelled strpos. The keyset condition uses row values, which both support.
+    // One statement for every combination of filters: each "CAST(? AS TEXT) IS NULL OR ..." pair
+    // is bound twice with the same value (the cast because PostgreSQL cannot infer a type for a
+    // bare "? IS NULL"). instr is SQLite's; the PostgreSQL schema defines it over strpos. The
+    // keyset condition uses row values, which both support.
     private static final String LIST_ESTIMATE_HISTORY = "SELECT " + ESTIMATE_COLUMNS + " FROM estimates"
             + " WHERE unit_id = ?"
-            + " AND (? IS NULL OR family = ?)"
-            + " AND (? IS NULL OR version = ?)"
+            + " AND (CAST(? AS TEXT) IS NULL OR family = ?)"
+            + " AND (CAST(? AS TEXT) IS NULL OR version = ?)"
             + TimeConditions.RECORDED_AND_RECEIVED
-            + " AND (? IS NULL OR instr(',' || flags || ',', ',' || ? || ',') > 0)"
-            + " AND (? IS NULL OR (window_start, created_at, id) < (?, ?, ?))"
+            + " AND (CAST(? AS TEXT) IS NULL OR instr(',' || flags || ',', ',' || ? || ',') > 0)"
+            + " AND (CAST(? AS TEXT) IS NULL OR (window_start, created_at, id) < (?, ?, ?))"
             + NEWEST_RECORDING_FIRST + " LIMIT ?";
 
-    private final SqliteConnections db;
+    private final Connections db;
 
-    SqliteEstimates(SqliteConnections db) {
+    SqlEstimates(Connections db) {
         this.db = db;
     }
 
@@ -82,7 +82,7 @@ final class SqliteEstimates implements EstimateStore {
     private Optional<EstimateRow> findOne(String sql, String key) {
         return db.read(c -> {
             PreparedStatement ps = Sql.bind(c.prepare(sql), key);
-            return Optional.ofNullable(Sql.firstOrNull(ps, SqliteEstimates::estimateRow));
+            return Optional.ofNullable(Sql.firstOrNull(ps, SqlEstimates::estimateRow));
         });
     }
 
@@ -106,7 +106,7 @@ final class SqliteEstimates implements EstimateStore {
         TimeConditions.bind(values, f.times());
         Collections.addAll(values, f.flagOrNull(), f.flagOrNull(), afterStart, afterStart, afterMillis, afterId, rows);
         PreparedStatement ps = Sql.bind(c.prepare(LIST_ESTIMATE_HISTORY), values.toArray());
-        return Sql.list(ps, SqliteEstimates::estimateRow);
+        return Sql.list(ps, SqlEstimates::estimateRow);
     }
 
     private static EstimateRow estimateRow(ResultSet rs) throws SQLException {

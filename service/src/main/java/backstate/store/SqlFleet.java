@@ -27,7 +27,7 @@ import java.util.TreeSet;
  * its ORDER BY … OFFSET route sorts in a temporary B-tree, which FleetQueryBench measures as
  * slower (see docs/fleet-and-planning.md).
  */
-final class SqliteFleet implements FleetStore {
+final class SqlFleet implements FleetStore {
 
     /** The bounds bound when a side of a range is open: no stored time reaches them. */
     private static final double OPEN_START_SECONDS = -Double.MAX_VALUE;
@@ -107,13 +107,13 @@ final class SqliteFleet implements FleetStore {
     private static final String LIST_STATE_TREND = "SELECT e.id, e.created_at, e.received_at, e.version,"
             + " e.window_start, e.window_end, s.value, s.standard_error, s.lower, s.upper"
             + " FROM estimates e JOIN estimate_states s ON s.estimate_id = e.id AND s.state = ?"
-            + " WHERE e.unit_id = ? AND e.family = ? AND (? IS NULL OR e.version = ?)"
+            + " WHERE e.unit_id = ? AND e.family = ? AND (CAST(? AS TEXT) IS NULL OR e.version = ?)"
             + TimeConditions.RECORDED_AND_RECEIVED
             + " ORDER BY e.window_start DESC, e.created_at DESC, e.id DESC LIMIT ?";
 
-    private final SqliteConnections db;
+    private final Connections db;
 
-    SqliteFleet(SqliteConnections db) {
+    SqlFleet(Connections db) {
         this.db = db;
     }
 
@@ -122,8 +122,8 @@ final class SqliteFleet implements FleetStore {
         for (UnitSort sort : UnitSort.values()) {
             statements.put(sort, "SELECT " + LATEST_COLUMNS + " FROM " + table
                     + " WHERE family = ?" + versionCondition
-                    + " AND (? IS NULL OR instr(',' || flags || ',', ',' || ? || ',') > 0)"
-                    + " AND (? IS NULL OR " + sort.after() + ")"
+                    + " AND (CAST(? AS TEXT) IS NULL OR instr(',' || flags || ',', ',' || ? || ',') > 0)"
+                    + " AND (CAST(? AS TEXT) IS NULL OR " + sort.after() + ")"
                     + " ORDER BY " + sort.orderBy() + " LIMIT ?");
         }
         return statements;
@@ -180,7 +180,7 @@ final class SqliteFleet implements FleetStore {
         String sql = (filter.versionOrNull() == null ? LIST_UNITS : LIST_UNITS_OF_VERSION).get(sort);
         List<UnitLatestRow> rows = db.read(c -> {
             PreparedStatement ps = Sql.bind(c.prepare(sql), values.toArray());
-            return Sql.list(ps, SqliteFleet::latestRow);
+            return Sql.list(ps, SqlFleet::latestRow);
         });
         if (rows.size() <= limit) {
             return new UnitPage(rows, null);
@@ -205,7 +205,7 @@ final class SqliteFleet implements FleetStore {
         values.add(limit);
         return db.read(c -> {
             PreparedStatement ps = Sql.bind(c.prepare(LIST_STATE_TREND), values.toArray());
-            return Sql.list(ps, SqliteFleet::statePoint);
+            return Sql.list(ps, SqlFleet::statePoint);
         });
     }
 
@@ -281,7 +281,7 @@ final class SqliteFleet implements FleetStore {
         Object[] listKey = Arrays.copyOf(key, key.length + 1);
         listKey[key.length] = q.listLimit();
         PreparedStatement ps = Sql.bind(c.prepare(version == null ? LIST_STALE : LIST_STALE_OF_VERSION), listKey);
-        return new FleetSummary.StaleUnits(count, Sql.list(ps, SqliteFleet::latestRow));
+        return new FleetSummary.StaleUnits(count, Sql.list(ps, SqlFleet::latestRow));
     }
 
     private static UnitLatestRow latestRow(ResultSet rs) throws SQLException {

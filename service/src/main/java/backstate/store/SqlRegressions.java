@@ -15,40 +15,34 @@ import java.util.Optional;
  * the cancel request a running job polls, and finishing a running job as cancelled. Stateless:
  * every call names the connections it uses.
  */
-final class SqliteRegressions implements RegressionStore {
+final class SqlRegressions implements RegressionStore {
 
     private static final String KIND_REGRESSION = "regression";
 
     // ROW_NUMBER ranks each unit's traces newest recording first; both SQLite (3.25+) and
-    // PostgreSQL have it. The unit list is bound as one JSON array and opened with SQLite's
-    // json_each; on PostgreSQL bind a text[] and write "unit_id = ANY(?)" instead. Each "? IS NULL
-    // OR ..." pair is bound twice with the same value (PostgreSQL needs casts on the first, as in
-    // estimates).
-    private static final String SELECT_TRACES = """
-            SELECT id, unit_id, family, version, received_at FROM (
-                SELECT id, unit_id, family, version, received_at, window_start,
-                       ROW_NUMBER() OVER (PARTITION BY unit_id
-                                          ORDER BY window_start DESC, received_at DESC, id DESC) AS recency
-                FROM traces
-                WHERE family = ?
-                  AND (? IS NULL OR unit_id IN (SELECT value FROM json_each(?)))""" + TimeConditions.RECORDED_AND_RECEIVED + """
-            )
-            WHERE (? IS NULL OR recency <= ?)
-            ORDER BY unit_id, window_start, received_at, id
-            LIMIT ?""";
+    // PostgreSQL have it. The unit list is bound as one JSON array, opened by the dialect's
+    // subquery. Each "CAST(? AS TEXT) IS NULL OR ..." pair is bound twice with the same value.
+    private static String selectTraces(Dialect dialect) {
+        return "SELECT id, unit_id, family, version, received_at FROM ("
+                + " SELECT id, unit_id, family, version, received_at, window_start,"
+                + " ROW_NUMBER() OVER (PARTITION BY unit_id"
+                + " ORDER BY window_start DESC, received_at DESC, id DESC) AS recency"
+                + " FROM traces WHERE family = ?"
+                + " AND (CAST(? AS TEXT) IS NULL OR unit_id IN (" + dialect.unitsOfJsonArray() + "))"
+                + TimeConditions.RECORDED_AND_RECEIVED
+                + ") ranked"
+                + " WHERE (CAST(? AS TEXT) IS NULL OR recency <= ?)"
+                + " ORDER BY unit_id, window_start, received_at, id LIMIT ?";
+    }
+
     private static final String INSERT_REGRESSION = "INSERT INTO regressions"
             + " (job_id, family, baseline, candidate, created_at) VALUES (?, ?, ?, ?, ?)";
-    // json_extract is SQLite's JSON1 (0/1/NULL for a JSON boolean); PostgreSQL reads the JSONB
-    // column as (result_json -> 'verdict' ->> 'pass')::boolean.
     private static final String REGRESSION_COLUMNS = "r.job_id, r.family, r.baseline, r.candidate, r.created_at,"
-            + " r.cancel_requested_at, j.state, j.progress_done, j.progress_total, j.finished_at,"
-            + " json_extract(j.result_json, '$.verdict.pass') AS pass";
-    private static final String FIND_REGRESSION = "SELECT " + REGRESSION_COLUMNS
-            + " FROM regressions r JOIN jobs j ON j.id = r.job_id WHERE r.job_id = ?";
-    private static final String LIST_REGRESSIONS = "SELECT " + REGRESSION_COLUMNS
-            + " FROM regressions r JOIN jobs j ON j.id = r.job_id"
-            + " WHERE (? IS NULL OR r.family = ?)"
-            + " AND (? IS NULL OR (r.created_at, r.job_id) < (?, ?))"
+            + " r.cancel_requested_at, j.state, j.progress_done, j.progress_total, j.finished_at, ";
+    private static final String FIND_REGRESSION_WHERE = " FROM regressions r JOIN jobs j ON j.id = r.job_id WHERE r.job_id = ?";
+    private static final String LIST_REGRESSIONS_WHERE = " FROM regressions r JOIN jobs j ON j.id = r.job_id"
+            + " WHERE (CAST(? AS TEXT) IS NULL OR r.family = ?)"
+            + " AND (CAST(? AS TEXT) IS NULL OR (r.created_at, r.job_id) < (?, ?))"
             + " ORDER BY r.created_at DESC, r.job_id DESC LIMIT ?";
     // The first request's time is kept; a request for a finished run changes nothing.
     private static final String REQUEST_CANCEL = "UPDATE regressions"
@@ -59,10 +53,18 @@ final class SqliteRegressions implements RegressionStore {
     private static final String CANCEL_IF_RUNNING = "UPDATE jobs SET state = 'cancelled', finished_at = ?,"
             + " result_json = ? WHERE id = ? AND kind = 'regression' AND state = 'running' AND attempt = ?";
 
-    private final SqliteConnections db;
+    private final Connections db;
+    // With the dialect's fragments: the unit list's subquery and the verdict's pass (1, 0 or NULL).
+    private final String selectTraces;
+    private final String findRegression;
+    private final String listRegressions;
 
-    SqliteRegressions(SqliteConnections db) {
+    SqlRegressions(Connections db) {
         this.db = db;
+        this.selectTraces = selectTraces(db.dialect());
+        String columns = REGRESSION_COLUMNS + db.dialect().verdictPass() + " AS pass";
+        this.findRegression = "SELECT " + columns + FIND_REGRESSION_WHERE;
+        this.listRegressions = "SELECT " + columns + LIST_REGRESSIONS_WHERE;
     }
 
     @Override
@@ -75,7 +77,7 @@ final class SqliteRegressions implements RegressionStore {
         TimeConditions.bind(values, s.times());
         Collections.addAll(values, latest, latest, s.maxRows());
         return db.read(c -> {
-            PreparedStatement ps = Sql.bind(c.prepare(SELECT_TRACES), values.toArray());
+            PreparedStatement ps = Sql.bind(c.prepare(selectTraces), values.toArray());
             return Sql.list(ps, rs -> new TraceRef(rs.getString("id"), rs.getString("unit_id"),
                     rs.getString("family"), rs.getInt("version"), Sql.instant(rs, "received_at")));
         });
@@ -90,12 +92,12 @@ final class SqliteRegressions implements RegressionStore {
         // exception cannot cross the lambda).
         Integer[] queuedWhenRefused = new Integer[1];
         String id = db.write(c -> {
-            int queued = SqliteJobs.countQueued(c);
+            int queued = SqlJobs.countQueued(c);
             if (queued >= maxQueued) {
                 queuedWhenRefused[0] = queued;
                 return null;
             }
-            String jobId = SqliteJobs.insertJob(c, KIND_REGRESSION, null, r.paramsJson(), now);
+            String jobId = SqlJobs.insertJob(c, KIND_REGRESSION, null, r.paramsJson(), now);
             PreparedStatement ps = Sql.bind(c.prepare(INSERT_REGRESSION), jobId, r.family(),
                     r.baseline(), r.candidate(), Sql.millis(now));
             ps.executeUpdate();
@@ -110,8 +112,8 @@ final class SqliteRegressions implements RegressionStore {
     @Override
     public Optional<RegressionRow> findRegression(String id) {
         return db.read(c -> {
-            PreparedStatement ps = Sql.bind(c.prepare(FIND_REGRESSION), id);
-            return Optional.ofNullable(Sql.firstOrNull(ps, SqliteRegressions::regressionRow));
+            PreparedStatement ps = Sql.bind(c.prepare(findRegression), id);
+            return Optional.ofNullable(Sql.firstOrNull(ps, SqlRegressions::regressionRow));
         });
     }
 
@@ -124,9 +126,9 @@ final class SqliteRegressions implements RegressionStore {
         Long afterMillis = after == null ? null : after.createdAtMillis();
         String afterId = after == null ? null : after.id();
         List<RegressionRow> rows = db.read(c -> {
-            PreparedStatement ps = Sql.bind(c.prepare(LIST_REGRESSIONS), familyOrNull, familyOrNull,
+            PreparedStatement ps = Sql.bind(c.prepare(listRegressions), familyOrNull, familyOrNull,
                     afterMillis, afterMillis, afterId, limit + 1);
-            return Sql.list(ps, SqliteRegressions::regressionRow);
+            return Sql.list(ps, SqlRegressions::regressionRow);
         });
         if (rows.size() <= limit) {
             return new RegressionPage(rows, null);

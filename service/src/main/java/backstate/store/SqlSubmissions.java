@@ -7,7 +7,7 @@ import java.time.Instant;
 import java.util.Optional;
 
 /** Trace submission: the trace, its queued estimate job and its idempotency key, written together. */
-final class SqliteSubmissions implements TraceIntakeStore {
+final class SqlSubmissions implements TraceIntakeStore {
 
     private static final String FIND_IDEMPOTENCY_KEY =
             "SELECT trace_id, job_id, fingerprint FROM idempotency_keys WHERE unit_id = ? AND key = ?";
@@ -19,9 +19,9 @@ final class SqliteSubmissions implements TraceIntakeStore {
     private static final String FIND_TRACE = "SELECT id, unit_id, family, version, received_at, samples,"
             + " window_start, window_end, payload FROM traces WHERE id = ?";
 
-    private final SqliteConnections db;
+    private final Connections db;
 
-    SqliteSubmissions(SqliteConnections db) {
+    SqlSubmissions(Connections db) {
         this.db = db;
     }
 
@@ -44,7 +44,7 @@ final class SqliteSubmissions implements TraceIntakeStore {
     public Optional<TraceRow> findTrace(String id) {
         return db.read(c -> {
             PreparedStatement ps = Sql.bind(c.prepare(FIND_TRACE), id);
-            return Optional.ofNullable(Sql.firstOrNull(ps, SqliteSubmissions::traceRow));
+            return Optional.ofNullable(Sql.firstOrNull(ps, SqlSubmissions::traceRow));
         });
     }
 
@@ -73,13 +73,13 @@ final class SqliteSubmissions implements TraceIntakeStore {
                 return earlier;
             }
         }
-        int queued = SqliteJobs.countQueued(c);
+        int queued = SqlJobs.countQueued(c);
         if (queued >= maxQueued) {
             return new Refused(queued);
         }
         requirePublishedVersion(c, trace);
         String traceId = insertTrace(c, trace, now);
-        String jobId = SqliteJobs.insertJob(c, SqliteJobs.KIND_ESTIMATE, traceId, null, now);
+        String jobId = SqlJobs.insertJob(c, SqlJobs.KIND_ESTIMATE, traceId, null, now);
         if (keyOrNull != null) {
             insertKey(c, trace.unitId(), keyOrNull, traceId, jobId, now);
         }
@@ -95,7 +95,7 @@ final class SqliteSubmissions implements TraceIntakeStore {
     }
 
     private static void requirePublishedVersion(Statements c, NewTrace trace) throws SQLException {
-        if (SqliteModels.findVersion(c, trace.family(), trace.version()) == null) {
+        if (SqlModels.findVersion(c, trace.family(), trace.version()) == null) {
             throw new IllegalArgumentException("got model " + trace.family() + " version " + trace.version()
                     + ", expected a published version");
         }

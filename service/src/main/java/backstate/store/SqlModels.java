@@ -8,7 +8,7 @@ import java.util.List;
 import java.util.Optional;
 
 /** Model families and versions: named statements and the transactions that use them. */
-final class SqliteModels implements ModelCatalogue {
+final class SqlModels implements ModelCatalogue {
 
     private static final String VERSION_COLUMNS = "family, version, status, time_domain, states, outputs, inputs,"
             + " document_json, observability_json, created_at";
@@ -35,9 +35,9 @@ final class SqliteModels implements ModelCatalogue {
     private static final String RETIRE_VERSION =
             "UPDATE model_versions SET status = 'retired' WHERE family = ? AND version = ?";
 
-    private final SqliteConnections db;
+    private final Connections db;
 
-    SqliteModels(SqliteConnections db) {
+    SqlModels(Connections db) {
         this.db = db;
     }
 
@@ -61,7 +61,7 @@ final class SqliteModels implements ModelCatalogue {
     public List<FamilyRow> listFamilies() {
         return db.read(c -> {
             PreparedStatement ps = c.prepare(LIST_FAMILIES);
-            return Sql.list(ps, SqliteModels::familyRow);
+            return Sql.list(ps, SqlModels::familyRow);
         });
     }
 
@@ -86,7 +86,7 @@ final class SqliteModels implements ModelCatalogue {
     public List<ModelVersionRow> listVersions(String family) {
         return db.read(c -> {
             PreparedStatement ps = Sql.bind(c.prepare(LIST_VERSIONS), family);
-            return Sql.list(ps, SqliteModels::versionRow);
+            return Sql.list(ps, SqlModels::versionRow);
         });
     }
 
@@ -101,12 +101,12 @@ final class SqliteModels implements ModelCatalogue {
     /** Looks a version up on the caller's connection, so a write transaction sees its own rows. */
     static ModelVersionRow findVersion(Statements c, String family, int version) throws SQLException {
         PreparedStatement ps = Sql.bind(c.prepare(FIND_VERSION), family, version);
-        return Sql.firstOrNull(ps, SqliteModels::versionRow);
+        return Sql.firstOrNull(ps, SqlModels::versionRow);
     }
 
     private static FamilyRow findFamily(Statements c, String name) throws SQLException {
         PreparedStatement ps = Sql.bind(c.prepare(FIND_FAMILY), name);
-        return Sql.firstOrNull(ps, SqliteModels::familyRow);
+        return Sql.firstOrNull(ps, SqlModels::familyRow);
     }
 
     private static int insertNextVersion(Statements c, NewModelVersion v, Instant now) throws SQLException {

@@ -20,18 +20,13 @@ import java.util.Set;
  * job only {@code WHERE state = 'running' AND attempt = ?}, so zero rows means the job was
  * taken from the caller (rescued, or finished by another attempt) and nothing is overwritten.
  */
-final class SqliteJobs implements JobQueue, JobStore {
+final class SqlJobs implements JobQueue, JobStore {
 
     static final String KIND_ESTIMATE = "estimate";
     static final Set<String> KINDS = Set.of(KIND_ESTIMATE, "regression");
 
     private static final String JOB_COLUMNS = "id, kind, state, trace_id, params_json, result_json, attempt,"
             + " created_at, started_at, finished_at, errors, progress_done, progress_total, failure_json";
-    // Appends "attempt N: <message>" to the JSON array of errors. json_insert with '$[#]' is
-    // SQLite's JSON1; on PostgreSQL the column is JSONB and the same append reads
-    // COALESCE(errors, '[]'::jsonb) || to_jsonb('attempt ' || attempt || ': ' || ?::text).
-    private static final String APPEND_ERROR =
-            "json_insert(COALESCE(errors, '[]'), '$[#]', 'attempt ' || attempt || ': ' || ?)";
     // Back to the queue while attempts remain, otherwise failed for good; bound as
     // (maxAttempts, maxAttempts, now).
     private static final String REQUEUE_OR_FAIL = "state = CASE WHEN attempt < ? THEN 'queued' ELSE 'failed' END,"
@@ -45,33 +40,44 @@ final class SqliteJobs implements JobQueue, JobStore {
     private static final String FIND_JOB = "SELECT " + JOB_COLUMNS + " FROM jobs WHERE id = ?";
     private static final String CANCEL_IF_QUEUED =
             "UPDATE jobs SET state = 'cancelled', finished_at = ? WHERE id = ? AND state = 'queued'";
-    // SQLite has one writer, so the inner SELECT cannot race another claimer. PostgreSQL needs
-    // "... ORDER BY created_at LIMIT ? FOR UPDATE SKIP LOCKED" in the inner SELECT instead.
-    // RETURNING gives rows in no particular order on either.
-    private static final String CLAIM_NEXT = """
-            UPDATE jobs SET state = 'running', attempt = attempt + 1, started_at = ?
-            WHERE id IN (SELECT id FROM jobs WHERE state = 'queued' ORDER BY created_at, id LIMIT ?)
-            RETURNING id, kind, trace_id, params_json, attempt""";
     private static final String COMPLETE_IF_RUNNING = "UPDATE jobs SET state = 'succeeded', finished_at = ?,"
             + " result_json = ? WHERE id = ? AND state = 'running' AND attempt = ?";
-    private static final String FAIL_IF_RUNNING = "UPDATE jobs SET state = 'failed', finished_at = ?, failure_json = ?,"
-            + " errors = " + APPEND_ERROR + " WHERE id = ? AND state = 'running' AND attempt = ?";
-    private static final String RETRY_IF_RUNNING = "UPDATE jobs SET " + REQUEUE_OR_FAIL + ", errors = "
-            + APPEND_ERROR + " WHERE id = ? AND state = 'running' AND attempt = ?";
     private static final String REPORT_PROGRESS = "UPDATE jobs SET progress_done = ?, progress_total = ?"
             + " WHERE id = ? AND state = 'running' AND attempt = ?";
-    private static final String RESCUE_STUCK = "UPDATE jobs SET " + REQUEUE_OR_FAIL + ", errors = "
-            + APPEND_ERROR + " WHERE state = 'running' AND started_at < ?";
+    private static final String RENEW_LEASE = "UPDATE jobs SET lease_expires_at = ?"
+            + " WHERE id = ? AND state = 'running' AND attempt = ?";
+    private static final String LEASE_MESSAGE =
+            "rescued: its lease ran out (the worker holding it crashed, was killed or lost the database)";
+
+    // Statements with an engine-specific fragment (Dialect), built once per store.
+    // RETURNING gives the claimed rows in no particular order on either engine.
+    private final String claimNext;
+    private final String failIfRunning;
+    private final String retryIfRunning;
+    private final String rescueStuck;
+    private final String rescueExpiredLeases;
 
     private static final TypeReference<List<String>> STRING_LIST = new TypeReference<>() {
     };
 
-    private final SqliteConnections db;
+    private final Connections db;
     private final Clock clock;
     private final int maxAttempts;
     private final ObjectMapper json = new ObjectMapper();
 
-    SqliteJobs(SqliteConnections db, Clock clock, int maxAttempts) {
+    SqlJobs(Connections db, Clock clock, int maxAttempts) {
+        String appendError = db.dialect().appendError();
+        this.claimNext = "UPDATE jobs SET state = 'running', attempt = attempt + 1, started_at = ?,"
+                + " lease_expires_at = ? WHERE " + db.dialect().jobsToClaim()
+                + " RETURNING id, kind, trace_id, params_json, attempt";
+        this.failIfRunning = "UPDATE jobs SET state = 'failed', finished_at = ?, failure_json = ?, errors = "
+                + appendError + " WHERE id = ? AND state = 'running' AND attempt = ?";
+        this.retryIfRunning = "UPDATE jobs SET " + REQUEUE_OR_FAIL + ", errors = " + appendError
+                + " WHERE id = ? AND state = 'running' AND attempt = ?";
+        this.rescueStuck = "UPDATE jobs SET " + REQUEUE_OR_FAIL + ", errors = " + appendError
+                + " WHERE state = 'running' AND started_at < ?";
+        this.rescueExpiredLeases = "UPDATE jobs SET " + REQUEUE_OR_FAIL + ", errors = " + appendError
+                + " WHERE state = 'running' AND lease_expires_at < ?";
         this.db = db;
         this.clock = clock;
         this.maxAttempts = maxAttempts;
@@ -98,7 +104,7 @@ final class SqliteJobs implements JobQueue, JobStore {
 
     @Override
     public int queuedCount() {
-        return db.read(SqliteJobs::countQueued);
+        return db.read(SqlJobs::countQueued);
     }
 
     @Override
@@ -107,11 +113,14 @@ final class SqliteJobs implements JobQueue, JobStore {
     }
 
     @Override
-    public List<ClaimedJob> claimNext(int limit, Instant now) {
+    public List<ClaimedJob> claimNext(int limit, Instant now, Instant leaseUntil) {
         Expect.atLeast("limit", limit, 1);
+        if (!leaseUntil.isAfter(now)) {
+            throw new IllegalArgumentException("got leaseUntil " + leaseUntil + ", expected after now " + now);
+        }
         return db.writeForWorker(c -> {
-            PreparedStatement ps = Sql.bind(c.prepare(CLAIM_NEXT), Sql.millis(now), limit);
-            return Sql.list(ps, SqliteJobs::claimedJob);
+            PreparedStatement ps = Sql.bind(c.prepare(claimNext), Sql.millis(now), Sql.millis(leaseUntil), limit);
+            return Sql.list(ps, SqlJobs::claimedJob);
         });
     }
 
@@ -123,8 +132,8 @@ final class SqliteJobs implements JobQueue, JobStore {
                 return false;
             }
             if (estimateOrNull != null) {
-                String estimateId = SqliteEstimates.insertEstimate(c, jobId, estimateOrNull, now);
-                SqliteFleet.recordEstimate(c, estimateId, estimateOrNull); // the fleet views' rows, same transaction
+                String estimateId = SqlEstimates.insertEstimate(c, jobId, estimateOrNull, now);
+                SqlFleet.recordEstimate(c, estimateId, estimateOrNull); // the fleet views' rows, same transaction
             }
             return true;
         });
@@ -133,13 +142,13 @@ final class SqliteJobs implements JobQueue, JobStore {
     @Override
     public boolean failIfRunning(String jobId, int attempt, String error, String detailsJsonOrNull, Instant now) {
         Expect.notNull("error", error);
-        return workerUpdatedOne(FAIL_IF_RUNNING, Sql.millis(now), detailsJsonOrNull, error, jobId, attempt);
+        return workerUpdatedOne(failIfRunning, Sql.millis(now), detailsJsonOrNull, error, jobId, attempt);
     }
 
     @Override
     public boolean retryIfRunning(String jobId, int attempt, String error, Instant now) {
         Expect.notNull("error", error);
-        return workerUpdatedOne(RETRY_IF_RUNNING, maxAttempts, maxAttempts, Sql.millis(now), error, jobId, attempt);
+        return workerUpdatedOne(retryIfRunning, maxAttempts, maxAttempts, Sql.millis(now), error, jobId, attempt);
     }
 
     @Override
@@ -153,6 +162,31 @@ final class SqliteJobs implements JobQueue, JobStore {
     @Override
     public int rescueStuck(Instant startedBefore) {
         return rescueStartedBefore(Sql.millis(startedBefore));
+    }
+
+    @Override
+    public int renewLeases(List<ClaimedJob> held, Instant leaseUntil) {
+        Expect.notNull("held", held);
+        if (held.isEmpty()) {
+            return 0;
+        }
+        return db.writeForWorker(c -> {
+            int renewed = 0;
+            for (ClaimedJob job : held) {
+                renewed += updatedOne(c, RENEW_LEASE, Sql.millis(leaseUntil), job.id(), job.attempt()) ? 1 : 0;
+            }
+            return renewed;
+        });
+    }
+
+    @Override
+    public int rescueExpiredLeases(Instant now) {
+        long nowMillis = Sql.millis(now);
+        return db.writeForWorker(c -> {
+            PreparedStatement ps = Sql.bind(c.prepare(rescueExpiredLeases),
+                    maxAttempts, maxAttempts, nowMillis, LEASE_MESSAGE, nowMillis);
+            return ps.executeUpdate();
+        });
     }
 
     /** At start-up every running job was left so by a process that is gone. */
@@ -177,13 +211,13 @@ final class SqliteJobs implements JobQueue, JobStore {
     private int rescueStartedBefore(long startedBeforeMillis) {
         long now = Sql.millis(clock.instant());
         return db.writeForWorker(c -> {
-            PreparedStatement ps = Sql.bind(c.prepare(RESCUE_STUCK),
+            PreparedStatement ps = Sql.bind(c.prepare(rescueStuck),
                     maxAttempts, maxAttempts, now, RESCUE_MESSAGE, startedBeforeMillis);
             return ps.executeUpdate();
         });
     }
 
-    /** A claimed job's update, ahead of client writes (see {@link SqliteConnections#writeForWorker}). */
+    /** A claimed job's update, ahead of client writes (see {@link Connections#writeForWorker}). */
     private boolean workerUpdatedOne(String sql, Object... values) {
         return db.writeForWorker(c -> updatedOne(c, sql, values));
     }

@@ -11,7 +11,7 @@ import java.util.Optional;
  * API keys (hashes only) and the one join access control needs: which unit a job is for.
  * Stateless: each statement runs on the store's connections, passed in.
  */
-final class SqliteApiKeys implements ApiKeyStore {
+final class SqlApiKeys implements ApiKeyStore {
 
     private static final String KEY_COLUMNS =
             "id, role, unit_pattern, label, salt, hash, created_at, created_by, revoked_at";
@@ -35,9 +35,9 @@ final class SqliteApiKeys implements ApiKeyStore {
     private static final String UNIT_OF_JOB =
             "SELECT t.unit_id FROM jobs j JOIN traces t ON t.id = j.trace_id WHERE j.id = ?";
 
-    private final SqliteConnections db;
+    private final Connections db;
 
-    SqliteApiKeys(SqliteConnections db) {
+    SqlApiKeys(Connections db) {
         this.db = db;
     }
 
@@ -60,7 +60,7 @@ final class SqliteApiKeys implements ApiKeyStore {
     public List<ApiKeyRow> listApiKeys() {
         return db.read(c -> {
             PreparedStatement ps = c.prepare(LIST_KEYS);
-            return Sql.list(ps, SqliteApiKeys::keyRow);
+            return Sql.list(ps, SqlApiKeys::keyRow);
         });
     }
 
@@ -97,7 +97,7 @@ final class SqliteApiKeys implements ApiKeyStore {
 
     private static ApiKeyRow findApiKey(Statements c, String id) throws SQLException {
         PreparedStatement ps = Sql.bind(c.prepare(FIND_KEY), id);
-        return Sql.firstOrNull(ps, SqliteApiKeys::keyRow);
+        return Sql.firstOrNull(ps, SqlApiKeys::keyRow);
     }
 
     private static ApiKeyRow keyRow(ResultSet rs) throws SQLException {
