@@ -48,7 +48,7 @@ public final class App implements AutoCloseable {
         Limits limits = new Limits(settings.maxSamples(), Limits.DEFAULTS.maxNameLength(), Limits.DEFAULTS.maxJsonDepth());
         ObjectMapper mapper = Json.mapper(limits);
         PrometheusMeterRegistry registry = new PrometheusMeterRegistry(PrometheusConfig.DEFAULT);
-        this.database = openDatabase(settings, clock);
+        this.database = openDatabase(settings, clock, registry);
         this.processMeters = ProcessMeters.bind(registry);
         CheckedModels models = new CheckedModels(mapper, limits);
         StoredTraceSolver stored = new StoredTraceSolver(database.traces(), database.models(), models, mapper);
@@ -94,13 +94,13 @@ public final class App implements AutoCloseable {
      * The SQLite file on a checked path, or the PostgreSQL server; a failure names the file or
      * URL, so the start stops with one line saying why.
      */
-    private static Database openDatabase(Settings settings, Clock clock) {
+    private static Database openDatabase(Settings settings, Clock clock, PrometheusMeterRegistry registry) {
         DatabaseTarget target = settings.database();
         try {
             if (target instanceof DatabaseTarget.PostgresServer server) {
                 return new PostgresDatabase(new PostgresSettings(server.jdbcUrl(), server.user(),
                         server.password().map(Secret::value).orElse(null), settings.databasePool(),
-                        PostgresSettings.DEFAULT_CONNECTION_TIMEOUT, SqliteSettings.DEFAULT_MAX_ATTEMPTS), clock);
+                        PostgresSettings.DEFAULT_CONNECTION_TIMEOUT, SqliteSettings.DEFAULT_MAX_ATTEMPTS), clock, registry);
             }
             Path usable = DatabaseFile.usable(((DatabaseTarget.SqliteFile) target).file());
             return new SqliteDatabase(usable, clock);

@@ -2,6 +2,8 @@ package backstate.store;
 
 import com.zaxxer.hikari.HikariConfig;
 import com.zaxxer.hikari.HikariDataSource;
+import com.zaxxer.hikari.metrics.micrometer.MicrometerMetricsTrackerFactory;
+import io.micrometer.core.instrument.MeterRegistry;
 import java.sql.Connection;
 import java.sql.SQLException;
 import javax.sql.DataSource;
@@ -25,7 +27,15 @@ final class PostgresConnections implements Connections {
     private final HikariDataSource pool;
 
     PostgresConnections(PostgresSettings settings) {
+        this(settings, null);
+    }
+
+    /** With {@code registryOrNull}, the pool's gauges and timers are published (hikaricp_connections_*). */
+    PostgresConnections(PostgresSettings settings, MeterRegistry registryOrNull) {
         HikariConfig config = new HikariConfig();
+        if (registryOrNull != null) {
+            config.setMetricsTrackerFactory(new MicrometerMetricsTrackerFactory(registryOrNull));
+        }
         config.setJdbcUrl(settings.jdbcUrl());
         config.setUsername(settings.user());
         if (settings.passwordOrNull() != null) {

@@ -1,6 +1,7 @@
 package backstate.store;
 
 import backstate.jobs.JobQueue;
+import io.micrometer.core.instrument.MeterRegistry;
 import java.time.Clock;
 
 /**
@@ -28,9 +29,14 @@ public final class PostgresDatabase implements Database {
     private final SqlRegressions regressions;
 
     public PostgresDatabase(PostgresSettings settings, Clock clock) {
+        this(settings, clock, null);
+    }
+
+    /** With {@code registryOrNull}, the connection pool's meters are published in it. */
+    public PostgresDatabase(PostgresSettings settings, Clock clock, MeterRegistry registryOrNull) {
         Expect.notNull("settings", settings);
         Expect.notNull("clock", clock);
-        this.db = new PostgresConnections(settings);
+        this.db = new PostgresConnections(settings, registryOrNull);
         try {
             Migrations.migrate(db.dataSource(), Migrations.POSTGRESQL);
             this.models = new SqlModels(db);
