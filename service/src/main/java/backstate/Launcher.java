@@ -36,7 +36,9 @@ final class Launcher {
     static final String SERVICE_FLAGS = """
               --host ADDRESS          listen address (BACKSTATE_HOST, default 0.0.0.0)
               --port N                listen port, 0 for any free one (BACKSTATE_PORT, default 8080)
-              --database FILE         SQLite file (BACKSTATE_DATABASE, default backstate.db)
+              --database FILE|URL     SQLite file, or postgresql://USER@HOST:PORT/DB for replicas
+                                      (BACKSTATE_DATABASE, default backstate.db; the PostgreSQL password
+                                      from BACKSTATE_DATABASE_PASSWORD or BACKSTATE_DATABASE_PASSWORD_FILE)
               --workers N             jobs solved at once (BACKSTATE_WORKERS, default: number of cores)
               --max-body-bytes N      request body limit after decompression (BACKSTATE_MAX_BODY_BYTES)
               --max-queued N          queued jobs before trace posts get 503 (BACKSTATE_MAX_QUEUED)
@@ -44,6 +46,8 @@ final class Launcher {
               --auth on|off           API keys on or off (BACKSTATE_AUTH, default on; demo: always off)
               --series-threads N      series re-solves at once (BACKSTATE_SERIES_THREADS, default 2)
               --series-queue N        series requests waiting before more get 503 (BACKSTATE_SERIES_QUEUE, default 8)
+              --job-lease SECONDS     a claimed job's lease, renewed every third (BACKSTATE_JOB_LEASE, default 15)
+              --database-pool N       PostgreSQL connections per replica (BACKSTATE_DATABASE_POOL, default 8)
             The first admin key comes from BACKSTATE_ADMIN_KEY (environment only), or is generated and
             printed once at the first start.""";
     private static final Logger LOG = LoggerFactory.getLogger(Launcher.class);
