@@ -14,7 +14,9 @@ enum Dialect {
             "SELECT value FROM json_each(?)",
             "json_extract(j.result_json, '$.verdict.pass')",
             // SQLite has one writer, so the inner SELECT cannot race another claimer.
-            "id IN (SELECT id FROM jobs WHERE state = 'queued' ORDER BY created_at, id LIMIT ?)"),
+            "id IN (SELECT id FROM jobs WHERE state = 'queued' ORDER BY created_at, id LIMIT ?)",
+            // SQLite has one writer: no other transaction can change the rows read.
+            ""),
     /** PostgreSQL 14+; jobs.errors is JSONB there, the other JSON columns TEXT as on SQLite. */
     POSTGRESQL(
             "COALESCE(errors, '[]'::jsonb) || to_jsonb('attempt ' || attempt || ': ' || CAST(? AS TEXT))",
@@ -24,18 +26,23 @@ enum Dialect {
             // for. ARRAY(...) runs the locking SELECT once, as an init plan, whatever the planner
             // would do with an IN subquery.
             "id = ANY(ARRAY(SELECT id FROM jobs WHERE state = 'queued' ORDER BY created_at, id LIMIT ?"
-                    + " FOR UPDATE SKIP LOCKED))");
+                    + " FOR UPDATE SKIP LOCKED))",
+            // READ COMMITTED lets another transaction change a row between this read and the write
+            // that depends on it; the row lock makes it wait, and re-read the row, instead.
+            " FOR UPDATE");
 
     private final String appendError;
     private final String unitsOfJsonArray;
     private final String verdictPass;
     private final String jobsToClaim;
+    private final String lockRowsRead;
 
-    Dialect(String appendError, String unitsOfJsonArray, String verdictPass, String jobsToClaim) {
+    Dialect(String appendError, String unitsOfJsonArray, String verdictPass, String jobsToClaim, String lockRowsRead) {
         this.appendError = appendError;
         this.unitsOfJsonArray = unitsOfJsonArray;
         this.verdictPass = verdictPass;
         this.jobsToClaim = jobsToClaim;
+        this.lockRowsRead = lockRowsRead;
     }
 
     /** jobs.errors with "attempt N: &lt;bound message&gt;" appended to its JSON array. */
@@ -59,5 +66,13 @@ enum Dialect {
      */
     String jobsToClaim() {
         return jobsToClaim;
+    }
+
+    /**
+     * Appended to a SELECT in a write transaction whose later writes depend on the rows it read:
+     * those rows stay as read until the commit.
+     */
+    String lockRowsRead() {
+        return lockRowsRead;
     }
 }

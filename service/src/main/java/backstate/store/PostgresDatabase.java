@@ -38,7 +38,7 @@ public final class PostgresDatabase implements Database {
         Expect.notNull("clock", clock);
         this.db = new PostgresConnections(settings, registryOrNull);
         try {
-            Migrations.migrate(db.dataSource(), Migrations.POSTGRESQL);
+            migrate(settings);
             this.models = new SqlModels(db);
             this.traces = new SqlSubmissions(db);
             this.jobs = new SqlJobs(db, clock, settings.maxAttempts());
@@ -50,6 +50,24 @@ public final class PostgresDatabase implements Database {
         } catch (RuntimeException e) {
             db.close();
             throw e;
+        }
+    }
+
+    /**
+     * Flyway reports an unreachable server as the pool's timeout; the cause at the bottom of the
+     * chain (connection refused, unknown host, authentication failed, no such database) is what
+     * an operator needs, so the failure names it and the server.
+     */
+    private void migrate(PostgresSettings settings) {
+        try {
+            Migrations.migrate(db.dataSource(), Migrations.POSTGRESQL);
+        } catch (StoreException e) {
+            Throwable root = e;
+            while (root.getCause() != null && root.getCause() != root) {
+                root = root.getCause();
+            }
+            throw new StoreException("opening the PostgreSQL database " + settings.jdbcUrl() + " as " + settings.user()
+                    + " failed: " + root.getMessage(), e);
         }
     }
 

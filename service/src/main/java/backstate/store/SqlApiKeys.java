@@ -21,9 +21,13 @@ final class SqlApiKeys implements ApiKeyStore {
             + " created_at, created_by) VALUES (?, ?, ?, ?, ?, ?, ?, ?) ON CONFLICT (id) DO NOTHING";
     private static final String FIND_KEY = "SELECT " + KEY_COLUMNS + " FROM api_keys WHERE id = ?";
     private static final String LIST_KEYS = "SELECT " + KEY_COLUMNS + " FROM api_keys ORDER BY created_at, id";
-    // The last-admin rule sits in the statement itself, so no second writer can slip in between
-    // a count and the update (SQLite has one writer anyway; on PostgreSQL lock the admin rows
-    // with SELECT ... FOR UPDATE first, since the EXISTS would not see a concurrent revoke).
+    // The last-admin rule sits in the statement itself. SQLite has one writer, so nothing changes
+    // between the EXISTS and the update. On PostgreSQL two transactions revoking the last two
+    // admin keys would each see the other's key still valid; LOCK_ACTIVE_ADMINS (with the
+    // dialect's FOR UPDATE, in ID order so two revokes lock alike) makes the second wait for the
+    // first to commit, and its EXISTS then sees the first revocation.
+    private static final String LOCK_ACTIVE_ADMINS =
+            "SELECT id FROM api_keys WHERE role = 'admin' AND revoked_at IS NULL ORDER BY id";
     private static final String REVOKE_UNLESS_LAST_ADMIN = """
             UPDATE api_keys SET revoked_at = ?
             WHERE id = ? AND revoked_at IS NULL
@@ -36,9 +40,11 @@ final class SqlApiKeys implements ApiKeyStore {
             "SELECT t.unit_id FROM jobs j JOIN traces t ON t.id = j.trace_id WHERE j.id = ?";
 
     private final Connections db;
+    private final String lockActiveAdmins;
 
     SqlApiKeys(Connections db) {
         this.db = db;
+        this.lockActiveAdmins = LOCK_ACTIVE_ADMINS + db.dialect().lockRowsRead();
     }
 
     @Override
@@ -74,6 +80,7 @@ final class SqlApiKeys implements ApiKeyStore {
             if (row.revoked()) {
                 return KeyRevocation.ALREADY_REVOKED;
             }
+            Sql.list(c.prepare(lockActiveAdmins), rs -> rs.getString(1));
             PreparedStatement ps = Sql.bind(c.prepare(REVOKE_UNLESS_LAST_ADMIN), Sql.millis(now), id);
             return ps.executeUpdate() == 1 ? KeyRevocation.REVOKED : KeyRevocation.LAST_ADMIN;
         });

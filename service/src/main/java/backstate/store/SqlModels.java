@@ -21,9 +21,9 @@ final class SqlModels implements ModelCatalogue {
             "SELECT name, description, created_at FROM model_families WHERE name = ?";
     private static final String LIST_FAMILIES =
             "SELECT name, description, created_at FROM model_families ORDER BY name";
-    // max + 1 inside the write transaction. SQLite's single writer makes this race-free; on
-    // PostgreSQL lock the family row first (SELECT ... FROM model_families ... FOR UPDATE) or
-    // two concurrent publishes would both compute the same number and one would hit the key.
+    // max + 1 inside the write transaction. SQLite's single writer makes this race-free. On
+    // PostgreSQL two concurrent publishes may compute the same number: the second hits the
+    // primary key (23505), and PostgresConnections runs its transaction again, now seeing the first.
     private static final String PUBLISH_VERSION = "INSERT INTO model_versions (" + VERSION_COLUMNS + ")"
             + " SELECT ?, COALESCE(MAX(version), 0) + 1, 'active', ?, ?, ?, ?, ?, ?, ?"
             + " FROM model_versions WHERE family = ?"

@@ -17,7 +17,7 @@ import org.junit.jupiter.api.BeforeEach;
 import org.junit.jupiter.api.Test;
 
 /** A unit's history in recording order (window start, then time written, then id), its filters and its cursor. */
-class EstimateHistoryTest extends StoreTestBase {
+class EstimateHistoryTest extends StoreContractTestBase {
 
     private static final String UNIT = "unit-A";
     private static final String OTHER_UNIT = "unit-B";

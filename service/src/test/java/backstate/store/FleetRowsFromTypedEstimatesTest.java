@@ -27,6 +27,10 @@ import org.junit.jupiter.api.io.TempDir;
  * from the stored JSON document: the demo fleet is loaded through the API, then the views of
  * V2__fleet_views.sql (states) and V7__recording_time.sql (channels), as those migrations define
  * them, are created as temporary views over the same estimates and compared row for row.
+ *
+ * <p>SQLite only: the views are SQLite SQL (json_each, json_extract) and the demo fleet comes in
+ * through the HTTP test server, which opens a SQLite file. PostgreSQL's derived rows are compared
+ * with SQLite's row for row in {@link FleetViewsAgreeAcrossEnginesTest}, so they equal these too.
  */
 class FleetRowsFromTypedEstimatesTest {
 

@@ -7,9 +7,7 @@ import static org.junit.jupiter.api.Assertions.assertThrows;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
 import backstate.jobs.ClaimedJob;
-import java.nio.file.Path;
 import java.sql.Connection;
-import java.sql.DriverManager;
 import java.sql.PreparedStatement;
 import java.sql.ResultSet;
 import java.sql.SQLException;
@@ -19,16 +17,16 @@ import java.util.Comparator;
 import java.util.List;
 import java.util.Map;
 import java.util.Random;
-import org.flywaydb.core.Flyway;
 import org.junit.jupiter.api.Test;
 
 /**
  * The fleet views' derived rows: written with the estimate in its transaction and only then,
  * newest recording wins under late uploads and late writes, filled for estimates older than the
  * migrations, and the unit list's keyset paging in every order. Traces here record from the
- * moment they are received unless a test says otherwise.
+ * moment they are received unless a test says otherwise. Runs on both engines; filling the rows of
+ * a file from before the fleet views is SQLite's migration, tested in {@link SchemaTest}.
  */
-class FleetStoreTest extends StoreTestBase {
+class FleetStoreTest extends StoreContractTestBase {
 
     /** An estimate document as EstimateDocument writes it (only the fields the fleet views read matter). */
     static final String DOCUMENT = """
@@ -182,36 +180,6 @@ class FleetStoreTest extends StoreTestBase {
         assertEquals(List.of(0L, 0L, 0), List.of(both.estimates(), both.traces(), both.channelRms().get("pos").count()));
     }
 
-    @Test
-    void migrating_a_version_1_file_fills_the_derived_rows_of_its_estimates() throws Exception {
-        Path file = dir.resolve("v1.db");
-        Flyway.configure().dataSource("jdbc:sqlite:" + file, null, null).locations(Migrations.SQLITE)
-                .target("1").load().migrate();
-        long at = StoreFixture.T0.toEpochMilli();
-        try (Connection c = DriverManager.getConnection("jdbc:sqlite:" + file)) {
-            execute(c, "INSERT INTO model_families VALUES ('pump', '', ?)", at);
-            execute(c, "INSERT INTO model_versions VALUES ('pump', 1, 'active', 'continuous', 2, 2, 0, '{}', '{}', ?)", at);
-            for (int i = 0; i < 3; i++) {
-                execute(c, "INSERT INTO traces VALUES (?, 'unit-1', 'pump', 1, ?, 3, 0, 2, x'00')", "t" + i, at);
-                execute(c, "INSERT INTO jobs (id, kind, state, trace_id, attempt, created_at, started_at, finished_at)"
-                        + " VALUES (?, 'estimate', 'succeeded', ?, 1, ?, ?, ?)", "j" + i, "t" + i, at, at, at);
-                execute(c, "INSERT INTO estimates VALUES (?, ?, ?, 'unit-1', 'pump', 1, ?, 0, 2, ?, '', ?, NULL)",
-                        "e" + i, "j" + i, "t" + i, at + i * 1000L, 1.0 + i, DOCUMENT);
-            }
-        }
-        try (SqliteDatabase migrated = new SqliteDatabase(file, fx.clock)) {
-            // One recording window for all three: the newest written wins the tie.
-            assertEquals(List.of("e2"), migrated.fleet().fleetUnits(new UnitFilter("pump", 1, null), UnitSort.UNIT_ID, null, 5)
-                    .items().stream().map(UnitLatestRow::estimateId).toList());
-            assertEquals(List.of("e2", "e1", "e0"), migrated.fleet().stateTrend("unit-1", "x", "pump", null, TimeFilter.NONE, 5)
-                    .stream().map(StatePoint::estimateId).toList());
-            assertEquals(3, migrated.fleet().fleetSummary(new FleetSummaryQuery("pump", Map.of(1, List.of("pos")), TimeFilter.NONE,
-                    null, StoreFixture.T0, 5)).versions().get(0).channelRms().get("pos").count());
-            // V7 copied each trace's received time onto its estimate.
-            assertEquals(StoreFixture.T0, migrated.estimates().findEstimate("e1").orElseThrow().receivedAt());
-        }
-    }
-
     private List<String> walk(UnitSort sort, int limit) {
         List<String> ids = new ArrayList<>();
         String cursor = null;
@@ -258,11 +226,5 @@ class FleetStoreTest extends StoreTestBase {
             }
         }
         return out;
-    }
-
-    private static void execute(Connection c, String sql, Object... params) throws SQLException {
-        try (PreparedStatement ps = Sql.bind(c.prepareStatement(sql), params)) {
-            ps.executeUpdate();
-        }
     }
 }

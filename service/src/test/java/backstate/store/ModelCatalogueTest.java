@@ -11,7 +11,7 @@ import java.util.List;
 import java.util.Optional;
 import org.junit.jupiter.api.Test;
 
-class ModelCatalogueTest extends StoreTestBase {
+class ModelCatalogueTest extends StoreContractTestBase {
 
 
 

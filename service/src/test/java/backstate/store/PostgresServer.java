@@ -41,6 +41,15 @@ public final class PostgresServer {
         return jdbcUrl(name);
     }
 
+    /**
+     * Drops a database {@link #newDatabase} made, once its stores are closed; FORCE ends any
+     * connection a failed test left open (PostgreSQL 13+).
+     */
+    public static synchronized void dropDatabase(String jdbcUrl) {
+        String name = jdbcUrl.substring(jdbcUrl.lastIndexOf('/') + 1);
+        execute(adminUrl(), "DROP DATABASE IF EXISTS " + name + " WITH (FORCE)");
+    }
+
     public static PostgresSettings settings(String jdbcUrl) {
         return PostgresSettings.of(jdbcUrl, USER, null);
     }

@@ -7,27 +7,21 @@ import static org.junit.jupiter.api.Assertions.assertThrows;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
 import backstate.jobs.ClaimedJob;
-import java.nio.file.Path;
 import java.time.Duration;
 import java.time.Instant;
 import java.util.ArrayList;
 import java.util.List;
-import org.junit.jupiter.api.AfterEach;
 import org.junit.jupiter.api.BeforeEach;
 import org.junit.jupiter.api.Test;
-import org.junit.jupiter.api.io.TempDir;
 
 /**
  * The regression statements: trace selection by unit, recording window, received time and
  * recency of recording; runs, their list, cancel requests.
  */
-class RegressionStoreTest {
+class RegressionStoreTest extends StoreContractTestBase {
     static final Instant T1 = StoreFixture.T0.plus(Duration.ofHours(1));
     static final Instant T2 = StoreFixture.T0.plus(Duration.ofHours(2));
 
-    @TempDir
-    Path dir;
-    StoreFixture fx;
     String a0;
     String a1;
     String a2;
@@ -36,19 +30,13 @@ class RegressionStoreTest {
     String late;
 
     @BeforeEach
-    void open() throws Exception {
-        fx = new StoreFixture(dir);
+    void seed() throws Exception {
         fx.store.models().publishVersion(StoreFixture.pumpVersion(), StoreFixture.T0); // version 2
         a0 = submit("A", StoreFixture.T0, StoreFixture.T0);
         a1 = submit("A", T1, T1);
         b1 = submit("B", T1, T1);
         a2 = submit("A", T2, T2);
         late = submit("A", StoreFixture.T0.minus(Duration.ofHours(1)), T2.plus(Duration.ofHours(1)));
-    }
-
-    @AfterEach
-    void close() {
-        fx.close();
     }
 
     /** A trace recorded from {@code recorded} for 2 s and received at {@code received}. */

@@ -1,21 +1,25 @@
 package backstate.store;
 
 import static org.junit.jupiter.api.Assertions.assertEquals;
-import static org.junit.jupiter.api.Assertions.assertThrows;
-import static org.junit.jupiter.api.Assertions.assertTrue;
 
 import java.nio.file.Path;
 import java.sql.Connection;
+import java.sql.PreparedStatement;
 import java.sql.ResultSet;
 import java.sql.SQLException;
 import java.sql.Statement;
 import java.util.ArrayList;
 import java.util.List;
+import java.util.Map;
 import org.junit.jupiter.api.AfterEach;
 import org.junit.jupiter.api.BeforeEach;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.io.TempDir;
 
+/**
+ * SQLite's own side of the schema: its objects, pragmas and the migrations of files made by
+ * earlier versions. The rules the schema enforces are checked on both engines by {@link SchemaRulesTest}.
+ */
 class SchemaTest {
 
     @TempDir
@@ -75,103 +79,6 @@ class SchemaTest {
             assertEquals(1, reopened.models().listVersions(StoreFixture.FAMILY).size());
         }
         assertEquals(migrations, fx.count("SELECT COUNT(*) FROM flyway_schema_history WHERE success = 1"));
-    }
-
-    @Test
-    void finished_at_on_a_queued_job_is_rejected() {
-        assertRejected("INSERT INTO jobs (id, kind, state, attempt, created_at, finished_at)"
-                + " VALUES ('j', 'regression', 'queued', 0, 1, 2)");
-    }
-
-    @Test
-    void a_succeeded_job_without_finished_at_is_rejected() {
-        assertRejected("INSERT INTO jobs (id, kind, state, attempt, created_at, started_at)"
-                + " VALUES ('j', 'regression', 'succeeded', 1, 1, 2)");
-    }
-
-    @Test
-    void a_running_job_without_started_at_is_rejected() {
-        assertRejected("INSERT INTO jobs (id, kind, state, attempt, created_at)"
-                + " VALUES ('j', 'regression', 'running', 1, 1)");
-    }
-
-    @Test
-    void an_unknown_job_state_or_kind_is_rejected() {
-        assertRejected("INSERT INTO jobs (id, kind, state, attempt, created_at) VALUES ('j', 'regression', 'paused', 0, 1)");
-        assertRejected("INSERT INTO jobs (id, kind, state, attempt, created_at) VALUES ('j', 'train', 'queued', 0, 1)");
-    }
-
-    @Test
-    void an_estimate_job_without_a_trace_is_rejected() {
-        assertRejected("INSERT INTO jobs (id, kind, state, attempt, created_at) VALUES ('j', 'estimate', 'queued', 0, 1)");
-    }
-
-    @Test
-    void progress_beyond_its_total_is_rejected() {
-        assertRejected("INSERT INTO jobs (id, kind, state, attempt, created_at, progress_done, progress_total)"
-                + " VALUES ('j', 'regression', 'queued', 0, 1, 5, 4)");
-    }
-
-    @Test
-    void errors_that_are_not_a_json_array_are_rejected() {
-        assertRejected("INSERT INTO jobs (id, kind, state, attempt, created_at, errors)"
-                + " VALUES ('j', 'regression', 'queued', 0, 1, '\"boom\"')");
-    }
-
-    /** V9: failure details only on a failed job, and only valid JSON. */
-    @Test
-    void failure_details_on_a_job_that_did_not_fail_or_that_are_not_json_are_rejected() throws SQLException {
-        assertRejected("INSERT INTO jobs (id, kind, state, attempt, created_at, failure_json)"
-                + " VALUES ('j', 'regression', 'queued', 0, 1, '{}')");
-        assertRejected("INSERT INTO jobs (id, kind, state, attempt, created_at, started_at, finished_at, failure_json)"
-                + " VALUES ('j', 'regression', 'failed', 1, 1, 1, 2, '{not json')");
-        try (Connection c = fx.raw(); Statement s = c.createStatement()) {
-            s.execute("INSERT INTO jobs (id, kind, state, attempt, created_at, started_at, finished_at, failure_json)"
-                    + " VALUES ('j', 'regression', 'failed', 1, 1, 1, 2, '{\"unobservableDirections\":[]}')");
-        }
-    }
-
-    /** V9: a request fingerprint is a SHA-256, 32 bytes. */
-    @Test
-    void a_fingerprint_that_is_not_32_bytes_is_rejected() throws Exception {
-        Submission s = fx.store.traces().submitTrace(StoreFixture.trace("unit-1"), StoreFixture.key("k"), 10, StoreFixture.T0);
-        assertRejected("UPDATE idempotency_keys SET fingerprint = x'00' WHERE job_id = '" + s.jobId() + "'");
-    }
-
-    @Test
-    void a_text_where_an_integer_belongs_is_rejected() {
-        assertRejected("INSERT INTO jobs (id, kind, state, attempt, created_at)"
-                + " VALUES ('j', 'regression', 'queued', 'zero', 1)");
-    }
-
-    @Test
-    void a_published_version_cannot_be_edited_or_unretired() throws SQLException {
-        assertRejected("UPDATE model_versions SET states = 3 WHERE family = 'pump'");
-        assertTrue(fx.store.models().retireVersion(StoreFixture.FAMILY, StoreFixture.VERSION));
-        assertRejected("UPDATE model_versions SET status = 'active' WHERE family = 'pump'");
-    }
-
-    @Test
-    void a_second_estimate_for_one_job_is_rejected() throws SQLException {
-        try (Connection c = fx.raw(); Statement s = c.createStatement()) {
-            s.execute("INSERT INTO jobs (id, kind, state, attempt, created_at) VALUES ('j', 'regression', 'queued', 0, 1)");
-            s.execute("INSERT INTO traces VALUES ('t', 'u', 'pump', 1, 1, 3, 0.0, 1.0, x'00')");
-            s.execute(estimateInsert("e1"));
-        }
-        assertRejected(estimateInsert("e2"));
-    }
-
-    private static String estimateInsert(String id) {
-        return "INSERT INTO estimates (id, job_id, trace_id, unit_id, family, version, created_at, window_start,"
-                + " window_end, flags, summary_json) VALUES ('" + id + "', 'j', 't', 'u', 'pump', 1, 1, 0.0, 1.0, '', '{}')";
-    }
-
-    private void assertRejected(String sql) {
-        assertThrows(SQLException.class, () -> {
-            try (Connection c = fx.raw(); Statement s = c.createStatement()) {
-                s.execute(sql);
-            }
-        }, sql);
     }
 
     /** V6 starts the kept queue length from the jobs already queued in a file made before it. */
@@ -238,6 +145,42 @@ class SchemaTest {
                     java.time.Instant.ofEpochSecond(0), 5));
             assertEquals(List.of(1L, 1L, 1), List.of(recordedEarly.versions().get(0).estimates(),
                     recordedEarly.versions().get(0).traces(), recordedEarly.versions().get(0).channelRms().get("pos").count()));
+        }
+    }
+
+    @Test
+    void migrating_a_version_1_file_fills_the_derived_rows_of_its_estimates() throws Exception {
+        Path file = dir.resolve("v1.db");
+        org.flywaydb.core.Flyway.configure().dataSource("jdbc:sqlite:" + file, null, null).locations(Migrations.SQLITE)
+                .target("1").load().migrate();
+        long at = StoreFixture.T0.toEpochMilli();
+        try (Connection c = java.sql.DriverManager.getConnection("jdbc:sqlite:" + file)) {
+            execute(c, "INSERT INTO model_families VALUES ('pump', '', ?)", at);
+            execute(c, "INSERT INTO model_versions VALUES ('pump', 1, 'active', 'continuous', 2, 2, 0, '{}', '{}', ?)", at);
+            for (int i = 0; i < 3; i++) {
+                execute(c, "INSERT INTO traces VALUES (?, 'unit-1', 'pump', 1, ?, 3, 0, 2, x'00')", "t" + i, at);
+                execute(c, "INSERT INTO jobs (id, kind, state, trace_id, attempt, created_at, started_at, finished_at)"
+                        + " VALUES (?, 'estimate', 'succeeded', ?, 1, ?, ?, ?)", "j" + i, "t" + i, at, at, at);
+                execute(c, "INSERT INTO estimates VALUES (?, ?, ?, 'unit-1', 'pump', 1, ?, 0, 2, ?, '', ?, NULL)",
+                        "e" + i, "j" + i, "t" + i, at + i * 1000L, 1.0 + i, FleetStoreTest.DOCUMENT);
+            }
+        }
+        try (SqliteDatabase migrated = new SqliteDatabase(file, fx.clock)) {
+            // One recording window for all three: the newest written wins the tie.
+            assertEquals(List.of("e2"), migrated.fleet().fleetUnits(new UnitFilter("pump", 1, null), UnitSort.UNIT_ID, null, 5)
+                    .items().stream().map(UnitLatestRow::estimateId).toList());
+            assertEquals(List.of("e2", "e1", "e0"), migrated.fleet().stateTrend("unit-1", "x", "pump", null, TimeFilter.NONE, 5)
+                    .stream().map(StatePoint::estimateId).toList());
+            assertEquals(3, migrated.fleet().fleetSummary(new FleetSummaryQuery("pump", Map.of(1, List.of("pos")), TimeFilter.NONE,
+                    null, StoreFixture.T0, 5)).versions().get(0).channelRms().get("pos").count());
+            // V7 copied each trace's received time onto its estimate.
+            assertEquals(StoreFixture.T0, migrated.estimates().findEstimate("e1").orElseThrow().receivedAt());
+        }
+    }
+
+    private static void execute(Connection c, String sql, Object... params) throws SQLException {
+        try (PreparedStatement ps = Sql.bind(c.prepareStatement(sql), params)) {
+            ps.executeUpdate();
         }
     }
 

@@ -16,8 +16,9 @@ import java.time.Instant;
 import java.util.List;
 
 /**
- * A store on a fresh file with one published model ("pump" version 1), a test clock, and raw
- * JDBC access to the same file for counting rows and checking integrity behind the store's back.
+ * A store on a fresh database with one published model ("pump" version 1), a test clock, and raw
+ * JDBC access to the same database for counting rows behind the store's back: a SQLite file in
+ * the given folder, or a fresh database on the embedded PostgreSQL server ({@link Backend}).
  */
 public final class StoreFixture implements AutoCloseable {
 
@@ -27,18 +28,50 @@ public final class StoreFixture implements AutoCloseable {
     public static final String FAMILY = "pump";
     public static final int VERSION = 1;
 
+    public final Backend backend;
+    /** The SQLite file; null on PostgreSQL. */
     public final Path file;
+    /** The PostgreSQL database's JDBC URL; null on SQLite. */
+    public final String jdbcUrl;
     public final TestClock clock = new TestClock(T0);
-    public final SqliteDatabase store;
+    public final Database store;
 
     public StoreFixture(Path dir) {
         this(dir, SqliteSettings.defaults());
     }
 
     public StoreFixture(Path dir, SqliteSettings settings) {
+        this.backend = Backend.SQLITE;
         this.file = dir.resolve("backstate.db");
+        this.jdbcUrl = null;
         this.store = new SqliteDatabase(file, clock, settings);
         publishPump(store);
+    }
+
+    /** A store on {@code backend}: a file in {@code dir} for SQLite, a fresh database for PostgreSQL. */
+    public StoreFixture(Path dir, Backend backend) {
+        this.backend = backend;
+        this.file = backend == Backend.SQLITE ? dir.resolve("backstate.db") : null;
+        this.jdbcUrl = backend == Backend.POSTGRESQL ? PostgresServer.newDatabase() : null;
+        this.store = open();
+        publishPump(store);
+    }
+
+    /**
+     * Another store on the same database, with the same clock: on PostgreSQL a second replica.
+     * (On SQLite a second store on one file is a second process's view, which the service never opens.)
+     */
+    public Database open() {
+        return backend == Backend.SQLITE ? new SqliteDatabase(file, clock)
+                : new PostgresDatabase(PostgresServer.settings(jdbcUrl), clock);
+    }
+
+    /** The SQLite store, for tests of what only SQLite has (its writer, its file, its crash recovery). */
+    public SqliteDatabase sqlite() {
+        if (!(store instanceof SqliteDatabase sqlite)) {
+            throw new IllegalStateException("got a " + backend + " store, expected SQLite");
+        }
+        return sqlite;
     }
 
     public static void publishPump(Database store) {
@@ -93,8 +126,10 @@ public final class StoreFixture implements AutoCloseable {
         }
     }
 
+    /** A connection of its own to the store's database, outside the store. */
     public Connection raw() throws SQLException {
-        return DriverManager.getConnection("jdbc:sqlite:" + file.toAbsolutePath());
+        return backend == Backend.SQLITE ? DriverManager.getConnection("jdbc:sqlite:" + file.toAbsolutePath())
+                : PostgresServer.connect(jdbcUrl);
     }
 
     public long count(String sql, Object... params) throws SQLException {
@@ -113,7 +148,9 @@ public final class StoreFixture implements AutoCloseable {
         return count("SELECT COUNT(*) FROM " + table);
     }
 
+    /** SQLite's own check of the file's structure; SQLite only. */
     public String integrityCheck() throws SQLException {
+        sqlite();
         return integrityCheck(file);
     }
 
@@ -129,5 +166,8 @@ public final class StoreFixture implements AutoCloseable {
     @Override
     public void close() {
         store.close();
+        if (jdbcUrl != null) {
+            PostgresServer.dropDatabase(jdbcUrl);
+        }
     }
 }

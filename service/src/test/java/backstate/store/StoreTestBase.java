@@ -5,7 +5,11 @@ import org.junit.jupiter.api.AfterEach;
 import org.junit.jupiter.api.BeforeEach;
 import org.junit.jupiter.api.io.TempDir;
 
-/** A fresh {@link StoreFixture} in a temporary folder for each test, closed after it. */
+/**
+ * A fresh SQLite {@link StoreFixture} in a temporary folder for each test, closed after it; for
+ * tests of SQLite's own machinery. Tests of the store's contract extend {@link StoreContractTestBase},
+ * which runs them on both engines.
+ */
 public abstract class StoreTestBase {
     @TempDir
     protected Path dir;
@@ -15,7 +19,7 @@ public abstract class StoreTestBase {
     @BeforeEach
     void openStore() {
         fx = new StoreFixture(dir);
-        store = fx.store;
+        store = fx.sqlite();
     }
 
     @AfterEach

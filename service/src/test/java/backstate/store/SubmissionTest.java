@@ -12,7 +12,7 @@ import java.sql.SQLException;
 import java.util.List;
 import org.junit.jupiter.api.Test;
 
-class SubmissionTest extends StoreTestBase {
+class SubmissionTest extends StoreContractTestBase {
 
     private static final int ROOMY = 100;
 

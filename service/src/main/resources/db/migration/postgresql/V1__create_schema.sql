@@ -8,27 +8,30 @@
 --   jobs.errors, a JSONB array that statements append to.
 -- * Rules SQLite states with RAISE in a trigger body need a trigger function here.
 -- * instr(text, text) is defined below over strpos, as SQLite spells it.
+-- * Every text column collates "C" (byte order of the UTF-8 text), as SQLite's BINARY does, so
+--   keys, lists and keyset cursors sort the same on both engines whatever the database's
+--   default collation (en_US.UTF-8 would put 'unit_a' before 'unit-B').
 
 CREATE FUNCTION instr(haystack TEXT, needle TEXT) RETURNS INTEGER
     LANGUAGE sql IMMUTABLE STRICT PARALLEL SAFE
     AS 'SELECT strpos(haystack, needle)';
 
 CREATE TABLE model_families (
-    name        TEXT   NOT NULL PRIMARY KEY,
-    description TEXT   NOT NULL,
+    name        TEXT COLLATE "C"   NOT NULL PRIMARY KEY,
+    description TEXT COLLATE "C"   NOT NULL,
     created_at  BIGINT NOT NULL
 );
 
 CREATE TABLE model_versions (
-    family             TEXT    NOT NULL REFERENCES model_families (name),
+    family             TEXT COLLATE "C"    NOT NULL REFERENCES model_families (name),
     version            INTEGER NOT NULL CHECK (version >= 1),
-    status             TEXT    NOT NULL CHECK (status IN ('active', 'retired')),
-    time_domain        TEXT    NOT NULL CHECK (time_domain IN ('continuous', 'discrete')),
+    status             TEXT COLLATE "C"    NOT NULL CHECK (status IN ('active', 'retired')),
+    time_domain        TEXT COLLATE "C"    NOT NULL CHECK (time_domain IN ('continuous', 'discrete')),
     states             INTEGER NOT NULL CHECK (states >= 1),
     outputs            INTEGER NOT NULL CHECK (outputs >= 1),
     inputs             INTEGER NOT NULL CHECK (inputs >= 0),
-    document_json      TEXT    NOT NULL,
-    observability_json TEXT    NOT NULL,
+    document_json      TEXT COLLATE "C"    NOT NULL,
+    observability_json TEXT COLLATE "C"    NOT NULL,
     created_at         BIGINT  NOT NULL,
     PRIMARY KEY (family, version)
 );
@@ -52,9 +55,9 @@ CREATE TRIGGER model_versions_guard BEFORE UPDATE ON model_versions
     FOR EACH ROW EXECUTE FUNCTION model_versions_guard();
 
 CREATE TABLE traces (
-    id           TEXT             NOT NULL PRIMARY KEY,
-    unit_id      TEXT             NOT NULL,
-    family       TEXT             NOT NULL,
+    id           TEXT COLLATE "C"             NOT NULL PRIMARY KEY,
+    unit_id      TEXT COLLATE "C"             NOT NULL,
+    family       TEXT COLLATE "C"             NOT NULL,
     version      INTEGER          NOT NULL,
     received_at  BIGINT           NOT NULL,
     samples      INTEGER          NOT NULL CHECK (samples >= 1),
@@ -69,13 +72,13 @@ CREATE INDEX traces_by_family_unit_recorded ON traces (family, unit_id, window_s
 CREATE INDEX traces_by_model_recorded ON traces (family, version, window_start, received_at);
 
 CREATE TABLE jobs (
-    id               TEXT    NOT NULL PRIMARY KEY,
-    kind             TEXT    NOT NULL CHECK (kind IN ('estimate', 'regression')),
-    state            TEXT    NOT NULL
+    id               TEXT COLLATE "C"    NOT NULL PRIMARY KEY,
+    kind             TEXT COLLATE "C"    NOT NULL CHECK (kind IN ('estimate', 'regression')),
+    state            TEXT COLLATE "C"    NOT NULL
                      CHECK (state IN ('queued', 'running', 'succeeded', 'failed', 'cancelled')),
-    trace_id         TEXT    REFERENCES traces (id),
-    params_json      TEXT,
-    result_json      TEXT,
+    trace_id         TEXT COLLATE "C"    REFERENCES traces (id),
+    params_json      TEXT COLLATE "C",
+    result_json      TEXT COLLATE "C",
     attempt          INTEGER NOT NULL CHECK (attempt >= 0),
     created_at       BIGINT  NOT NULL,
     started_at       BIGINT,
@@ -84,7 +87,7 @@ CREATE TABLE jobs (
     errors           JSONB   CHECK (errors IS NULL OR jsonb_typeof(errors) = 'array'),
     progress_done    INTEGER NOT NULL DEFAULT 0,
     progress_total   INTEGER NOT NULL DEFAULT 0,
-    failure_json     TEXT    CHECK (failure_json IS NULL OR (state = 'failed' AND failure_json::jsonb IS NOT NULL)),
+    failure_json     TEXT COLLATE "C"    CHECK (failure_json IS NULL OR (state = 'failed' AND failure_json::jsonb IS NOT NULL)),
     -- Meaningful only while running: when the holder's claim runs out unless renewed.
     lease_expires_at BIGINT,
     CHECK ((finished_at IS NOT NULL) = (state IN ('succeeded', 'failed', 'cancelled'))),
@@ -130,20 +133,20 @@ CREATE TRIGGER queue_length_keep AFTER INSERT OR UPDATE OF state OR DELETE ON jo
     FOR EACH ROW EXECUTE FUNCTION queue_length_keep();
 
 CREATE TABLE estimates (
-    id           TEXT             NOT NULL PRIMARY KEY,
+    id           TEXT COLLATE "C"             NOT NULL PRIMARY KEY,
     -- UNIQUE: a job's result is written exactly once.
-    job_id       TEXT             NOT NULL UNIQUE REFERENCES jobs (id),
-    trace_id     TEXT             NOT NULL REFERENCES traces (id),
-    unit_id      TEXT             NOT NULL,
-    family       TEXT             NOT NULL,
+    job_id       TEXT COLLATE "C"             NOT NULL UNIQUE REFERENCES jobs (id),
+    trace_id     TEXT COLLATE "C"             NOT NULL REFERENCES traces (id),
+    unit_id      TEXT COLLATE "C"             NOT NULL,
+    family       TEXT COLLATE "C"             NOT NULL,
     version      INTEGER          NOT NULL,
     created_at   BIGINT           NOT NULL,
     window_start DOUBLE PRECISION NOT NULL,
     window_end   DOUBLE PRECISION NOT NULL,
     chi2_per_dof DOUBLE PRECISION CHECK (chi2_per_dof IS NULL OR chi2_per_dof >= 0),
     -- Comma-separated, '' when there are none; no flag contains a comma.
-    flags        TEXT             NOT NULL DEFAULT '',
-    summary_json TEXT             NOT NULL,
+    flags        TEXT COLLATE "C"             NOT NULL DEFAULT '',
+    summary_json TEXT COLLATE "C"             NOT NULL,
     received_at  BIGINT           NOT NULL DEFAULT 0,
     CHECK (window_end >= window_start),
     FOREIGN KEY (family, version) REFERENCES model_versions (family, version)
@@ -154,8 +157,8 @@ CREATE INDEX estimates_by_model_recorded ON estimates (family, version, window_s
 CREATE INDEX estimates_by_unit_recorded ON estimates (unit_id, window_start DESC, created_at DESC, id DESC);
 
 CREATE TABLE estimate_states (
-    estimate_id    TEXT NOT NULL REFERENCES estimates (id),
-    state          TEXT NOT NULL,
+    estimate_id    TEXT COLLATE "C" NOT NULL REFERENCES estimates (id),
+    state          TEXT COLLATE "C" NOT NULL,
     value          DOUBLE PRECISION,
     standard_error DOUBLE PRECISION,
     lower          DOUBLE PRECISION,
@@ -164,11 +167,11 @@ CREATE TABLE estimate_states (
 );
 
 CREATE TABLE estimate_channels (
-    family       TEXT             NOT NULL,
+    family       TEXT COLLATE "C"             NOT NULL,
     version      INTEGER          NOT NULL,
-    channel      TEXT             NOT NULL,
+    channel      TEXT COLLATE "C"             NOT NULL,
     window_start DOUBLE PRECISION NOT NULL,
-    estimate_id  TEXT             NOT NULL REFERENCES estimates (id),
+    estimate_id  TEXT COLLATE "C"             NOT NULL REFERENCES estimates (id),
     received_at  BIGINT           NOT NULL,
     -- NULL when the channel had no present sample.
     rms          DOUBLE PRECISION CHECK (rms IS NULL OR rms >= 0),
@@ -176,50 +179,50 @@ CREATE TABLE estimate_channels (
 );
 
 CREATE TABLE unit_latest (
-    family       TEXT             NOT NULL,
-    unit_id      TEXT             NOT NULL,
+    family       TEXT COLLATE "C"             NOT NULL,
+    unit_id      TEXT COLLATE "C"             NOT NULL,
     version      INTEGER          NOT NULL,
-    estimate_id  TEXT             NOT NULL REFERENCES estimates (id),
+    estimate_id  TEXT COLLATE "C"             NOT NULL REFERENCES estimates (id),
     window_start DOUBLE PRECISION NOT NULL,
     window_end   DOUBLE PRECISION NOT NULL,
     received_at  BIGINT           NOT NULL,
     created_at   BIGINT           NOT NULL,
     chi2_per_dof DOUBLE PRECISION,
-    flags        TEXT             NOT NULL,
+    flags        TEXT COLLATE "C"             NOT NULL,
     PRIMARY KEY (family, unit_id)
 );
 
 CREATE INDEX unit_latest_by_recording ON unit_latest (family, window_start, unit_id);
 
 CREATE TABLE unit_version_latest (
-    family       TEXT             NOT NULL,
+    family       TEXT COLLATE "C"             NOT NULL,
     version      INTEGER          NOT NULL,
-    unit_id      TEXT             NOT NULL,
-    estimate_id  TEXT             NOT NULL REFERENCES estimates (id),
+    unit_id      TEXT COLLATE "C"             NOT NULL,
+    estimate_id  TEXT COLLATE "C"             NOT NULL REFERENCES estimates (id),
     window_start DOUBLE PRECISION NOT NULL,
     window_end   DOUBLE PRECISION NOT NULL,
     received_at  BIGINT           NOT NULL,
     created_at   BIGINT           NOT NULL,
     chi2_per_dof DOUBLE PRECISION,
-    flags        TEXT             NOT NULL,
+    flags        TEXT COLLATE "C"             NOT NULL,
     PRIMARY KEY (family, version, unit_id)
 );
 
 CREATE INDEX unit_version_latest_by_recording ON unit_version_latest (family, version, window_start, unit_id);
 
 CREATE TABLE idempotency_keys (
-    unit_id     TEXT   NOT NULL,
-    key         TEXT   NOT NULL,
-    trace_id    TEXT   NOT NULL REFERENCES traces (id),
-    job_id      TEXT   NOT NULL REFERENCES jobs (id),
+    unit_id     TEXT COLLATE "C"   NOT NULL,
+    key         TEXT COLLATE "C"   NOT NULL,
+    trace_id    TEXT COLLATE "C"   NOT NULL REFERENCES traces (id),
+    job_id      TEXT COLLATE "C"   NOT NULL REFERENCES jobs (id),
     created_at  BIGINT NOT NULL,
     fingerprint BYTEA  CHECK (fingerprint IS NULL OR length(fingerprint) = 32),
     PRIMARY KEY (unit_id, key)
 );
 
 CREATE TABLE regressions (
-    job_id              TEXT    NOT NULL PRIMARY KEY REFERENCES jobs (id),
-    family              TEXT    NOT NULL,
+    job_id              TEXT COLLATE "C"    NOT NULL PRIMARY KEY REFERENCES jobs (id),
+    family              TEXT COLLATE "C"    NOT NULL,
     baseline            INTEGER NOT NULL,
     candidate           INTEGER NOT NULL,
     created_at          BIGINT  NOT NULL,
@@ -234,16 +237,16 @@ CREATE INDEX regressions_by_family_newest ON regressions (family, created_at DES
 CREATE INDEX regressions_newest ON regressions (created_at DESC, job_id DESC);
 
 CREATE TABLE api_keys (
-    id           TEXT   NOT NULL PRIMARY KEY CHECK (length(id) = 16),
-    role         TEXT   NOT NULL CHECK (role IN ('admin', 'gateway', 'reader', 'pipeline')),
+    id           TEXT COLLATE "C"   NOT NULL PRIMARY KEY CHECK (length(id) = 16),
+    role         TEXT COLLATE "C"   NOT NULL CHECK (role IN ('admin', 'gateway', 'reader', 'pipeline')),
     -- A glob over unit IDs; exactly the gateway keys have one.
-    unit_pattern TEXT,
-    label        TEXT   NOT NULL,
+    unit_pattern TEXT COLLATE "C",
+    label        TEXT COLLATE "C"   NOT NULL,
     salt         BYTEA  NOT NULL CHECK (length(salt) = 16),
     hash         BYTEA  NOT NULL CHECK (length(hash) = 32),
     created_at   BIGINT NOT NULL,
     -- The admin key that issued this one; NULL for the first admin key and with access control off.
-    created_by   TEXT,
+    created_by   TEXT COLLATE "C",
     revoked_at   BIGINT,
     CHECK ((role = 'gateway') = (unit_pattern IS NOT NULL)),
     CHECK (revoked_at IS NULL OR revoked_at >= created_at)
