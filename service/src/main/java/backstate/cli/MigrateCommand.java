@@ -75,6 +75,7 @@ public final class MigrateCommand {
                     + result.leftRunningFailed() + " as failed (out of attempts), as a service start does");
         }
         long rows = 0;
+        out.println(String.format("%-20s %8s  %-16s  %s", "table", "rows", "sha256 (start)", "verified"));
         for (DatabaseCopyCheck check : result.checks()) {
             out.println(line(check));
             rows += check.sourceRows();

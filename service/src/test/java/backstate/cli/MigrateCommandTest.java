@@ -82,7 +82,8 @@ class MigrateCommandTest {
         List<String> lines = run.out().lines().toList();
         assertEquals("note: a stopped service left 1 job(s) running: 1 copied as queued with the attempt kept,"
                 + " 0 as failed (out of attempts), as a service start does", lines.get(0));
-        List<String> tableLines = lines.subList(1, lines.size() - 1);
+        assertEquals("table                    rows  sha256 (start)    verified", lines.get(1));
+        List<String> tableLines = lines.subList(2, lines.size() - 1);
         assertEquals(rows.size(), tableLines.size(), run.out());
         int i = 0;
         for (Map.Entry<String, Integer> table : rows.entrySet()) {

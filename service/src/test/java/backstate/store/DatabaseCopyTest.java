@@ -79,6 +79,29 @@ class DatabaseCopyTest extends StoreTestBase {
     }
 
     @Test
+    void a_table_of_several_batches_is_copied_whole_with_its_last_partial_batch() throws Exception {
+        int traces = 2 * DatabaseCopy.BATCH_ROWS + 7;
+        try (Connection c = fx.raw(); PreparedStatement ps = c.prepareStatement("INSERT INTO traces (id, unit_id, family,"
+                + " version, received_at, samples, window_start, window_end, payload) VALUES (?, ?, 'pump', 1, ?, 3, ?, ?, ?)")) {
+            c.setAutoCommit(false);
+            for (int i = 0; i < traces; i++) {
+                Sql.bind(ps, String.format("t%05d", i), "unit-" + i % 17, StoreFixture.T0.toEpochMilli() + i, i / 3.0,
+                        i / 3.0 + 2, new byte[] {(byte) i, (byte) (i >> 8)});
+                ps.addBatch();
+            }
+            ps.executeBatch();
+            c.commit();
+        }
+        fx.close();
+        List<String> progress = new ArrayList<>();
+        DatabaseCopy.Result result = DatabaseCopy.copy(fx.file, PostgresServer.settings(PostgresServer.newEmptyDatabase()),
+                fx.clock, progress::add);
+        assertTrue(result.verified(), result.checks().toString());
+        assertTrue(progress.contains("copied traces: " + traces + " rows"), progress.toString());
+        assertEquals(traces, result.checks().get(2).targetRows());
+    }
+
+    @Test
     void a_copy_postgresql_rejects_half_way_leaves_the_target_empty() throws Exception {
         // PostgreSQL's TEXT cannot hold the NUL character SQLite's can; api_keys is copied last.
         assertTrue(store.keys().insertApiKey(new NewApiKey("nulkey0000000001", "admin", null, "a\u0000b", new byte[16],
