@@ -33,7 +33,7 @@ final class Launcher {
               demo              run the service with the invented demo reefer fleet loaded, keys off
               solve             solve one trace on this machine, no server: --model FILE --trace FILE
               compare-versions  compare two model versions over a server's stored traces, for CI
-              migrate           copy a SQLite database into an empty PostgreSQL one, verified: --from FILE --to URL
+              migrate           copy a SQLite database into an empty PostgreSQL one: --from FILE --to URL
               help              this text""";
     static final String SERVICE_FLAGS = """
               --host ADDRESS          listen address (BACKSTATE_HOST, default 0.0.0.0)

@@ -156,7 +156,7 @@ public final class DatabaseCopy {
     private static void refuseUnlessEmpty(Connection pg) throws SQLException {
         for (DatabaseCopyTable table : DatabaseCopyTable.COPIED) {
             try (Statement s = pg.createStatement();
-                 ResultSet rs = s.executeQuery("SELECT EXISTS (SELECT 1 FROM " + table.name() + ")")) {
+                 ResultSet rs = s.executeQuery(table.selectWhetherAnyRow())) {
                 rs.next();
                 if (rs.getBoolean(1)) {
                     throw new DatabaseCopyRefusedException("the target already holds rows in " + table.name()

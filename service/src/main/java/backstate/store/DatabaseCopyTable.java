@@ -65,6 +65,11 @@ record DatabaseCopyTable(String name, List<Column> columns, List<String> primary
                 .map(key -> key + textOrder(dialect, key)).collect(Collectors.joining(", "));
     }
 
+    /** Whether the table holds any row at all, without counting them. */
+    String selectWhetherAnyRow() {
+        return "SELECT EXISTS (SELECT 1 FROM " + name + ")";
+    }
+
     /** One row's insert, a parameter per column in the order listed. */
     String insert() {
         return "INSERT INTO " + name + " (" + columnList() + ") VALUES ("
