@@ -2,6 +2,7 @@ package backstate;
 
 import backstate.cli.CompareVersionsCommand;
 import backstate.cli.DemoLoader;
+import backstate.cli.MigrateCommand;
 import backstate.cli.SolveCommand;
 import backstate.config.Settings;
 import java.io.IOException;
@@ -18,7 +19,7 @@ import org.slf4j.LoggerFactory;
  * service refuses (a bad flag, a database path it cannot use, a port in use) into one line on
  * stderr and an exit code, never a stack trace.
  * Exit codes of serve and demo: 0 usage shown, 1 the service could not start, 2 bad command line;
- * solve and compare-versions document their own.
+ * solve, compare-versions and migrate document their own.
  */
 final class Launcher {
     static final int USAGE_SHOWN = 0;
@@ -32,6 +33,7 @@ final class Launcher {
               demo              run the service with the invented demo reefer fleet loaded, keys off
               solve             solve one trace on this machine, no server: --model FILE --trace FILE
               compare-versions  compare two model versions over a server's stored traces, for CI
+              migrate           copy a SQLite database into an empty PostgreSQL one: --from FILE --to URL
               help              this text""";
     static final String SERVICE_FLAGS = """
               --host ADDRESS          listen address (BACKSTATE_HOST, default 0.0.0.0)
@@ -79,6 +81,7 @@ final class Launcher {
             case "demo" -> service("demo", rest, true);
             case "solve" -> new Outcome.Exited(SolveCommand.run(rest, out, err));
             case CompareVersionsCommand.NAME -> new Outcome.Exited(CompareVersionsCommand.run(rest, out, err));
+            case MigrateCommand.NAME -> new Outcome.Exited(MigrateCommand.run(rest, out, err, env));
             case OLD_COMPARE_NAME -> {
                 err.println("backstate: '" + OLD_COMPARE_NAME + "' is now called '" + CompareVersionsCommand.NAME
                         + "'; the old name will be removed");
@@ -90,7 +93,7 @@ final class Launcher {
             }
             default -> {
                 err.println("backstate: got command " + command + ", expected serve, demo, solve, "
-                        + CompareVersionsCommand.NAME + " or help");
+                        + CompareVersionsCommand.NAME + ", " + MigrateCommand.NAME + " or help");
                 yield new Outcome.Exited(BAD_COMMAND_LINE);
             }
         };

@@ -121,7 +121,7 @@ class StartErrorsTest {
 
     @Test
     void an_unknown_command_is_one_line_and_exits_2() throws Exception {
-        assertEquals("backstate: got command estimate, expected serve, demo, solve, compare-versions or help",
+        assertEquals("backstate: got command estimate, expected serve, demo, solve, compare-versions, migrate or help",
                 oneLine(backstate("estimate"), Launcher.BAD_COMMAND_LINE));
     }
 
