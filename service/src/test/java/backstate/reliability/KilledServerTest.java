@@ -163,7 +163,8 @@ class KilledServerTest {
         }
     }
 
-    private static String quotedIds(Map<Integer, Ack> acked, boolean traces) {
+    /** The acknowledged trace IDs (or job IDs), quoted and comma-separated for an SQL IN list. */
+    static String quotedIds(Map<Integer, Ack> acked, boolean traces) {
         StringBuilder s = new StringBuilder();
         for (Ack a : acked.values()) {
             s.append(s.length() == 0 ? "'" : ",'").append(traces ? a.traceId() : a.jobId()).append('\'');

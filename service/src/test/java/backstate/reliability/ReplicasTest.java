@@ -150,9 +150,9 @@ class ReplicasTest {
         int all = TRACES + BACKLOG_JOBS;
         assertEquals(all, db.count("SELECT COUNT(*) FROM jobs"));
         assertEquals(all, db.count("SELECT COUNT(*) FROM jobs WHERE state = 'succeeded'"));
-        assertEquals(TRACES, db.count("SELECT COUNT(DISTINCT id) FROM traces WHERE id IN (" + ids(true) + ")"));
-        assertEquals(TRACES, db.count("SELECT COUNT(*) FROM jobs WHERE state = 'succeeded' AND id IN (" + ids(false) + ")"));
-        assertEquals(TRACES, db.count("SELECT COUNT(*) FROM estimates WHERE job_id IN (" + ids(false) + ")"),
+        assertEquals(TRACES, db.count("SELECT COUNT(DISTINCT id) FROM traces WHERE id IN (" + KilledServerTest.quotedIds(acked, true) + ")"));
+        assertEquals(TRACES, db.count("SELECT COUNT(*) FROM jobs WHERE state = 'succeeded' AND id IN (" + KilledServerTest.quotedIds(acked, false) + ")"));
+        assertEquals(TRACES, db.count("SELECT COUNT(*) FROM estimates WHERE job_id IN (" + KilledServerTest.quotedIds(acked, false) + ")"),
                 "an estimate is missing or duplicated");
         assertEquals(all, db.count("SELECT COUNT(*) FROM estimates"), "an estimate is missing or duplicated");
         assertEquals(all, db.count("SELECT COUNT(DISTINCT job_id) FROM estimates"));
@@ -274,13 +274,5 @@ class ReplicasTest {
             }
             Thread.sleep(10);
         }
-    }
-
-    private String ids(boolean traces) {
-        StringBuilder s = new StringBuilder();
-        for (KilledServerTest.Ack a : acked.values()) {
-            s.append(s.length() == 0 ? "'" : ",'").append(traces ? a.traceId() : a.jobId()).append('\'');
-        }
-        return s.toString();
     }
 }
