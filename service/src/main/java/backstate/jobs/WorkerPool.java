@@ -297,9 +297,13 @@ public final class WorkerPool implements AutoCloseable {
         List<ClaimedJob> mine = List.copyOf(held.values());
         try {
             int renewed = queue.renewLeases(mine, now.plus(lease));
-            if (renewed < mine.size()) {
+            // A job whose outcome was written after the copy above is no longer renewable, and
+            // not lost: only the shortfall beyond those is jobs taken from this pool.
+            long finishedMeanwhile = mine.stream().filter(job -> !held.containsKey(job.id())).count();
+            long takenBack = mine.size() - renewed - finishedMeanwhile;
+            if (takenBack > 0) {
                 LOG.warn("{} of {} held jobs were taken back (lease ran out or job finished elsewhere)",
-                        mine.size() - renewed, mine.size());
+                        takenBack, mine.size());
             }
             int rescued = queue.rescueExpiredLeases(now);
             if (rescued > 0) {

@@ -9,7 +9,6 @@ import static org.junit.jupiter.api.Assertions.assertTrue;
 import com.fasterxml.jackson.databind.JsonNode;
 import java.nio.file.Path;
 import java.sql.Connection;
-import java.sql.DriverManager;
 import java.sql.Statement;
 import java.util.ArrayList;
 import java.util.EnumSet;
@@ -20,20 +19,26 @@ import java.util.function.Predicate;
 import java.util.regex.Matcher;
 import java.util.regex.Pattern;
 import java.util.stream.Collectors;
-import org.junit.jupiter.api.AfterAll;
-import org.junit.jupiter.api.BeforeAll;
 import org.junit.jupiter.api.DynamicTest;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.TestFactory;
 import org.junit.jupiter.api.TestInstance;
 import org.junit.jupiter.api.io.TempDir;
+import org.junit.jupiter.params.AfterParameterizedClassInvocation;
+import org.junit.jupiter.params.BeforeParameterizedClassInvocation;
+import org.junit.jupiter.params.Parameter;
+import org.junit.jupiter.params.ParameterizedClass;
+import org.junit.jupiter.params.provider.EnumSource;
 
 /**
  * Every route in the server's own route table × every kind of caller × the subjects the rule
  * depends on, through real HTTP. The expected answer is written from the rules documented on
  * {@link Access} as a function of (access, role, scope), not from a list of paths, so routes
- * added to the table later are walked and checked without touching this test.
+ * added to the table later are walked and checked without touching this test. The whole matrix
+ * runs on each database engine: keys are looked up in the store, so each engine must refuse alike.
  */
+@ParameterizedClass
+@EnumSource(Engine.class)
 @TestInstance(TestInstance.Lifecycle.PER_CLASS)
 class AccessMatrixTest {
     static final String UNIT_IN = "RCX-100";
@@ -62,9 +67,15 @@ class AccessMatrixTest {
     List<Subject> jobs;
     List<Subject> units;
 
-    @BeforeAll
-    void start(@TempDir Path dir) throws Exception {
-        server = new TestServer(dir, AuthFixture.env());
+    @Parameter
+    Engine engine;
+    /** Static, so it exists before the first invocation starts its server (SQLite's file goes here). */
+    @TempDir
+    static Path dir;
+
+    @BeforeParameterizedClassInvocation
+    void start() throws Exception {
+        server = new TestServer(engine, dir, AuthFixture.env());
         AuthFixture.publishDemoModels(server);
         AuthFixture.Key gatewayIn = AuthFixture.issue(server, "gateway", "RCX-1*", "gateway north");
         AuthFixture.Key gatewayOut = AuthFixture.issue(server, "gateway", "RCX-2*", "gateway south");
@@ -83,7 +94,7 @@ class AccessMatrixTest {
                 new Caller("wrong secret", "Bearer bsk_" + ADMIN_ID + "_" + "f".repeat(64), null, none),
                 new Caller("malformed key", "Bearer not-a-key", null, none),
                 new Caller("revoked admin key", "Bearer " + revoked.text(), null, none));
-        String regression = insertRegressionJob(dir.resolve("test.db"));
+        String regression = insertRegressionJob(server.database());
         jobs = List.of(
                 new Subject("job of " + UNIT_IN, FILLER, AuthFixture.jobFor(server, UNIT_IN), UNIT_IN),
                 new Subject("job of " + UNIT_OUT, FILLER, AuthFixture.jobFor(server, UNIT_OUT), UNIT_OUT),
@@ -91,7 +102,7 @@ class AccessMatrixTest {
         units = List.of(new Subject(UNIT_IN, UNIT_IN, FILLER, UNIT_IN), new Subject(UNIT_OUT, UNIT_OUT, FILLER, UNIT_OUT));
     }
 
-    @AfterAll
+    @AfterParameterizedClassInvocation
     void stop() {
         server.close();
     }
@@ -222,11 +233,10 @@ class AccessMatrixTest {
         return names;
     }
 
-    /** A job with no trace, as regressions are: written straight to the file, already finished so no worker takes it. */
-    static String insertRegressionJob(Path db) throws Exception {
+    /** A job with no trace, as regressions are: written straight to the database, already finished so no worker takes it. */
+    static String insertRegressionJob(TestDatabase db) throws Exception {
         String id = "regression-job-1";
-        try (Connection c = DriverManager.getConnection("jdbc:sqlite:" + db); Statement s = c.createStatement()) {
-            s.execute("PRAGMA busy_timeout = 10000");
+        try (Connection c = db.connect(); Statement s = c.createStatement()) {
             s.executeUpdate("INSERT INTO jobs (id, kind, state, trace_id, params_json, attempt, created_at, finished_at)"
                     + " VALUES ('" + id + "', 'regression', 'failed', NULL, '{}', 0, 0, 0)");
         }

@@ -15,7 +15,10 @@ import java.time.Clock;
 import java.time.Duration;
 import java.util.Map;
 
-/** A real server on a free loopback port with a temporary SQLite file, and a small HTTP client for tests. */
+/**
+ * A real server on a free loopback port with a fresh database (a temporary SQLite file unless an
+ * {@link Engine} is named), and a small HTTP client for tests.
+ */
 public final class TestServer implements AutoCloseable {
     /** Where the demo fleet and reference data live (set by surefire; falls back to the module's parent). */
     public static final Path TEST_DATA = Path.of(System.getProperty("backstate.testData", "../test-data"));
@@ -24,6 +27,7 @@ public final class TestServer implements AutoCloseable {
     private final App app;
     private final HttpClient http = HttpClient.newBuilder().connectTimeout(Duration.ofSeconds(5)).build();
     private final String base;
+    private final TestDatabase database;
 
     public TestServer(Path folder) {
         this(folder, Map.of());
@@ -31,11 +35,22 @@ public final class TestServer implements AutoCloseable {
 
     /** Access control is off unless {@code env} sets BACKSTATE_AUTH (functional tests need no keys). */
     public TestServer(Path folder, Map<String, String> env) {
+        this(Engine.SQLITE, folder, env);
+    }
+
+    /** On a fresh database of {@code engine} (SQLite: {@code folder}/test.db); {@code env} as above. */
+    public TestServer(Engine engine, Path folder, Map<String, String> env) {
+        this.database = engine.newDatabase(folder, "test");
         Settings settings = Settings.from(new String[] {"--host", "127.0.0.1", "--port", "0", "--database",
-                folder.resolve("test.db").toString(), "--workers", "2",
+                database.serviceValue(), "--workers", "2",
                 "--auth", env.getOrDefault("BACKSTATE_AUTH", "off")}, env);
         this.app = new App(settings, Clock.systemUTC()).start(settings);
         this.base = "http://127.0.0.1:" + app.port();
+    }
+
+    /** The database the server runs on, for checks from outside it. */
+    public TestDatabase database() {
+        return database;
     }
 
     public String base() {

@@ -82,7 +82,7 @@ class GracefulStopTest {
                 Thread.sleep(10);
             }
             assertTrue(ackedTraces.size() >= ACKS_BEFORE_STOP, "acknowledged posts: " + ackedTraces.size());
-            try (LockedBacklog backlog = new LockedBacklog(db.file(), ackedTraces.values().iterator().next(), BACKLOG_JOBS)) {
+            try (LockedBacklog backlog = new LockedBacklog(db.database(), ackedTraces.values().iterator().next(), BACKLOG_JOBS)) {
                 pendingAtSignal = backlog.pending();
                 server.signalTerm();
             }

@@ -3,6 +3,7 @@ package backstate.reliability;
 import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
+import backstate.api.Engine;
 import backstate.api.TestServer;
 import java.io.IOException;
 import java.nio.charset.StandardCharsets;
@@ -10,19 +11,24 @@ import java.nio.file.Files;
 import java.nio.file.Path;
 import java.util.Map;
 import java.util.stream.Stream;
-import org.junit.jupiter.api.AfterAll;
-import org.junit.jupiter.api.BeforeAll;
 import org.junit.jupiter.api.TestInstance;
 import org.junit.jupiter.api.io.TempDir;
+import org.junit.jupiter.params.AfterParameterizedClassInvocation;
+import org.junit.jupiter.params.BeforeParameterizedClassInvocation;
+import org.junit.jupiter.params.Parameter;
+import org.junit.jupiter.params.ParameterizedClass;
 import org.junit.jupiter.params.ParameterizedTest;
 import org.junit.jupiter.params.provider.Arguments;
+import org.junit.jupiter.params.provider.EnumSource;
 import org.junit.jupiter.params.provider.MethodSource;
 
 /**
  * Every input that once broke something at the HTTP edge, kept as a regression case (after
  * SQLite's harness): what it broke is in the case's name. Each must now get the stated 4xx as
- * problem+json naming the field, store nothing, and leave the server up.
+ * problem+json naming the field, store nothing, and leave the server up, on either database engine.
  */
+@ParameterizedClass
+@EnumSource(Engine.class)
 @TestInstance(TestInstance.Lifecycle.PER_CLASS)
 class HostileInputRegressionTest {
     static final String TRACES = HostileRequests.TRACES;
@@ -31,14 +37,20 @@ class HostileInputRegressionTest {
     TestServer server;
     ServerDb db;
 
-    @BeforeAll
-    void start(@TempDir Path dir) throws Exception {
-        server = new TestServer(dir, Map.of("BACKSTATE_MAX_BODY_BYTES", Integer.toString(HostileRequests.MAX_BODY)));
-        db = new ServerDb(dir.resolve("test.db"));
+    @Parameter
+    Engine engine;
+    /** Static, so it exists before the first invocation starts its server (SQLite's file goes here). */
+    @TempDir
+    static Path dir;
+
+    @BeforeParameterizedClassInvocation
+    void start() throws Exception {
+        server = new TestServer(engine, dir, Map.of("BACKSTATE_MAX_BODY_BYTES", Integer.toString(HostileRequests.MAX_BODY)));
+        db = new ServerDb(server.database());
         server.publishDemoModels();
     }
 
-    @AfterAll
+    @AfterParameterizedClassInvocation
     void stop() {
         server.close();
     }

@@ -1,8 +1,8 @@
 package backstate.reliability;
 
-import java.nio.file.Path;
+import backstate.api.Engine;
+import backstate.api.TestDatabase;
 import java.sql.Connection;
-import java.sql.DriverManager;
 import java.sql.ResultSet;
 import java.sql.SQLException;
 import java.sql.Statement;
@@ -15,6 +15,10 @@ import java.sql.Statement;
  * frozen: the test signals the server then, and {@link #close()} commits afterwards. A WAL reader
  * is never blocked, and the server's writes wait on its busy timeout (5 s) rather than fail, so
  * the lock is held only for the inserts and the signal.
+ *
+ * <p>On PostgreSQL there is no database-wide write lock to take, and none is needed: the jobs
+ * are added in a transaction left open until {@link #close()}, so they exist for the server only
+ * from that commit on, after the signal, whatever the server did meanwhile.
  */
 final class LockedBacklog implements AutoCloseable {
     /** Longer than any write of the server under test: taking the lock waits for the one under way. */
@@ -24,11 +28,15 @@ final class LockedBacklog implements AutoCloseable {
     private final long pending;
 
     /** Takes the write lock and queues {@code jobs} more estimate jobs on copies of trace {@code traceId}. */
-    LockedBacklog(Path file, String traceId, int jobs) throws SQLException {
-        this.connection = DriverManager.getConnection("jdbc:sqlite:" + file.toAbsolutePath());
+    LockedBacklog(TestDatabase db, String traceId, int jobs) throws SQLException {
+        this.connection = db.connect();
         try (Statement s = connection.createStatement()) {
-            s.execute("PRAGMA busy_timeout = " + BUSY_TIMEOUT_MS);
-            s.execute("BEGIN IMMEDIATE");
+            if (db.engine() == Engine.SQLITE) {
+                s.execute("PRAGMA busy_timeout = " + BUSY_TIMEOUT_MS);
+                s.execute("BEGIN IMMEDIATE");
+            } else {
+                connection.setAutoCommit(false);
+            }
             long now = System.currentTimeMillis();
             for (int i = 0; i < jobs; i++) {
                 s.executeUpdate("INSERT INTO traces (id, unit_id, family, version, received_at, samples, window_start, window_end,"
@@ -56,7 +64,11 @@ final class LockedBacklog implements AutoCloseable {
     @Override
     public void close() throws SQLException {
         try (Statement s = connection.createStatement()) {
-            s.execute("COMMIT");
+            if (connection.getAutoCommit()) {
+                s.execute("COMMIT"); // SQLite: the transaction BEGIN IMMEDIATE opened
+            } else {
+                connection.commit();
+            }
         } finally {
             connection.close();
         }

@@ -34,13 +34,23 @@ final class ServerProcess implements AutoCloseable {
         this.port = port;
     }
 
-    /** Starts a server on {@code database}, logging to {@code log}; extra flags go after ours. */
+    /** Starts a server on the SQLite file {@code database}, logging to {@code log}; extra flags go after ours. */
     static ServerProcess start(Path database, Path log, String... extraFlags) throws IOException, InterruptedException {
+        return start(database.toString(), log, extraFlags);
+    }
+
+    /** Starts a server on {@code db} (either engine), logging to {@code log}; extra flags go after ours. */
+    static ServerProcess start(ServerDb db, Path log, String... extraFlags) throws IOException, InterruptedException {
+        return start(db.database().serviceValue(), log, extraFlags);
+    }
+
+    /** Starts a server on {@code database} (a file path or postgresql:// URL), logging to {@code log}. */
+    static ServerProcess start(String database, Path log, String... extraFlags) throws IOException, InterruptedException {
         List<String> command = new ArrayList<>(List.of(Path.of(System.getProperty("java.home"), "bin", "java").toString(),
                 // Info level: the test resources quiet logging to warnings, but we read the "listening" line.
                 "-Xmx256m", "-Dorg.slf4j.simpleLogger.defaultLogLevel=info", "-Dorg.slf4j.simpleLogger.showDateTime=true",
                 "-cp", System.getProperty("java.class.path"), "backstate.App", "serve",
-                "--host", "127.0.0.1", "--port", "0", "--database", database.toString(), "--workers", "2"));
+                "--host", "127.0.0.1", "--port", "0", "--database", database, "--workers", "2"));
         command.addAll(authOff());
         command.addAll(List.of(extraFlags));
         Process process = new ProcessBuilder(command)
