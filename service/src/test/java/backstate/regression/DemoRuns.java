@@ -62,18 +62,24 @@ final class DemoRuns implements AutoCloseable {
 
     /** A handler that splits runs of more than {@code tracesPerChunk} traces, working through {@code queue}. */
     RegressionJobHandler handler(JobQueue queue, int tracesPerChunk) {
-        return new RegressionJobHandler(store.regressions(), store.jobs(), store.models(), queue, solver(), mapper,
-                Limits.DEFAULTS, clock, new Chunking(tracesPerChunk, Duration.ofMillis(20), Duration.ofSeconds(10)));
+        return handler(store, queue, tracesPerChunk);
+    }
+
+    /** As {@link #handler(JobQueue, int)}, on another replica's store. */
+    RegressionJobHandler handler(Database replica, JobQueue queue, int tracesPerChunk) {
+        return new RegressionJobHandler(replica.regressions(), replica.jobs(), replica.models(), queue,
+                solver(replica), mapper, Limits.DEFAULTS, clock,
+                new Chunking(tracesPerChunk, Duration.ofMillis(20), Duration.ofSeconds(10)));
     }
 
     /** A handler that runs every run in one piece. */
     RegressionJobHandler whole() {
-        return new RegressionJobHandler(store.regressions(), store.models(), store.queue(), solver(), mapper,
+        return new RegressionJobHandler(store.regressions(), store.models(), store.queue(), solver(store), mapper,
                 Limits.DEFAULTS, clock);
     }
 
-    private StoredTraceSolver solver() {
-        return new StoredTraceSolver(store.traces(), store.models(), new CheckedModels(mapper, Limits.DEFAULTS),
+    private StoredTraceSolver solver(Database replica) {
+        return new StoredTraceSolver(replica.traces(), replica.models(), new CheckedModels(mapper, Limits.DEFAULTS),
                 mapper);
     }
 
@@ -133,7 +139,11 @@ final class DemoRuns implements AutoCloseable {
 
     /** The store's queue, telling {@code onProgress} of each progress write (job ID, done) after making it. */
     JobQueue watching(ProgressHook onProgress) {
-        JobQueue real = store.queue();
+        return watching(store.queue(), onProgress);
+    }
+
+    /** {@code real}, telling {@code onProgress} of each progress write (job ID, done) after making it. */
+    static JobQueue watching(JobQueue real, ProgressHook onProgress) {
         return (JobQueue) Proxy.newProxyInstance(JobQueue.class.getClassLoader(), new Class<?>[] {JobQueue.class},
                 (proxy, method, args) -> {
                     Object answer;
