@@ -7,13 +7,13 @@ import static org.junit.jupiter.api.Assertions.assertTrue;
 
 import backstate.formats.Json;
 import backstate.formats.Limits;
-import com.fasterxml.jackson.databind.ObjectMapper;
 import backstate.store.JobRow;
 import backstate.store.JobStore;
+import com.fasterxml.jackson.databind.ObjectMapper;
 import java.time.Duration;
 import java.time.Instant;
-import java.util.Optional;
 import java.util.List;
+import java.util.Optional;
 import java.util.UUID;
 import org.junit.jupiter.api.Test;
 

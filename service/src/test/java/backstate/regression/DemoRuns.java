@@ -78,7 +78,7 @@ final class DemoRuns implements AutoCloseable {
                 Limits.DEFAULTS, clock);
     }
 
-    private StoredTraceSolver solver(Database replica) {
+    StoredTraceSolver solver(Database replica) {
         return new StoredTraceSolver(replica.traces(), replica.models(), new CheckedModels(mapper, Limits.DEFAULTS),
                 mapper);
     }
