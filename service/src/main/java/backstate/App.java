@@ -15,6 +15,7 @@ import backstate.intake.TraceIntake;
 import backstate.jobs.HandlersByKind;
 import backstate.jobs.JobHandler;
 import backstate.jobs.WorkerPool;
+import backstate.regression.Chunking;
 import backstate.regression.RegressionJobHandler;
 import backstate.solving.EstimateJobHandler;
 import backstate.solving.StoredTraceSolver;
@@ -54,8 +55,8 @@ public final class App implements AutoCloseable {
         StoredTraceSolver stored = new StoredTraceSolver(database.traces(), database.models(), models, mapper);
         JobHandler handlers = new HandlersByKind(Map.of(
                 "estimate", new EstimateJobHandler(stored, mapper, registry),
-                "regression", new RegressionJobHandler(database.regressions(), database.models(), database.queue(), stored, mapper,
-                        limits, clock)));
+                "regression", new RegressionJobHandler(database.regressions(), database.jobs(), database.models(),
+                        database.queue(), stored, mapper, limits, clock, Chunking.DEFAULTS)));
         WorkerPool.Policy claims = database.sharedByReplicas() ? WorkerPool.Policy.replicas(settings.jobLease())
                 : WorkerPool.Policy.singleProcess(settings.jobLease());
         this.workers = new WorkerPool(database.queue(), handlers, settings.workers(), clock, IDLE_POLL, registry,

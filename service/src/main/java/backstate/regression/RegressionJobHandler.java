@@ -1,19 +1,17 @@
 package backstate.regression;
 
 import backstate.formats.Limits;
-import backstate.formats.ModelDocument;
 import backstate.jobs.ClaimedJob;
 import backstate.jobs.JobHandler;
 import backstate.jobs.JobOutcome;
 import backstate.jobs.JobQueue;
 import backstate.solving.StoredTraceSolver;
+import backstate.store.JobStore;
 import backstate.store.ModelCatalogue;
-import backstate.store.ModelVersionRow;
 import backstate.store.RegressionStore;
-import backstate.store.TraceRef;
+import com.fasterxml.jackson.databind.JsonNode;
 import com.fasterxml.jackson.databind.ObjectMapper;
 import java.time.Clock;
-import java.util.List;
 
 /**
  * Runs a 'regression' job: re-solves each selected trace under the baseline and the candidate
@@ -22,31 +20,33 @@ import java.util.List;
  * cancelled with the partial result, so the runner's later attempt to complete it finds the job
  * no longer running and drops its outcome. Registered for the kind 'regression' in
  * {@link backstate.jobs.HandlersByKind} by App.
+ *
+ * <p>A run of more traces than {@link Chunking#tracesPerChunk()} is split into chunk jobs, also of
+ * kind 'regression', that workers of every replica claim ({@link ChunkedRun}); this handler works
+ * those chunks too ({@link ChunkWorker}). The result is the same, field for field, as the run's
+ * in one piece.
  */
 public final class RegressionJobHandler implements JobHandler {
+    private final RunTools tools;
+    private final ChunkWorker chunks;
+
     /**
-     * Progress is written at most this many times per run (each write is a committed, fsynced
-     * transaction on the one write connection that trace ingest also needs), and always at the end.
+     * A handler that never splits a run (it has no read side of the jobs to follow chunks by),
+     * though it works chunk jobs another handler queued.
      */
-    static final int PROGRESS_WRITES = 200;
-
-    private final RegressionStore regressions;
-    private final ModelCatalogue models;
-    private final JobQueue queue;
-    private final ObjectMapper mapper;
-    private final StoredTraceSolver stored;
-    private final Limits limits;
-    private final Clock clock;
-
     public RegressionJobHandler(RegressionStore regressions, ModelCatalogue models, JobQueue queue,
                                 StoredTraceSolver stored, ObjectMapper mapper, Limits limits, Clock clock) {
-        this.regressions = regressions;
-        this.models = models;
-        this.queue = queue;
-        this.stored = stored;
-        this.mapper = mapper;
-        this.limits = limits;
-        this.clock = clock;
+        this(regressions, null, models, queue, stored, mapper, limits, clock, Chunking.NEVER);
+    }
+
+    /** A handler that splits runs of more than {@code chunking.tracesPerChunk()} traces. */
+    public RegressionJobHandler(RegressionStore regressions, JobStore jobs, ModelCatalogue models, JobQueue queue,
+                                StoredTraceSolver stored, ObjectMapper mapper, Limits limits, Clock clock,
+                                Chunking chunking) {
+        this.tools = new RunTools(regressions, jobs, queue, mapper, clock, chunking,
+                (family, baseline, candidate) -> ComparedVersions.load(models, stored, limits, family, baseline,
+                        candidate));
+        this.chunks = new ChunkWorker(tools);
     }
 
     @Override
@@ -54,53 +54,48 @@ public final class RegressionJobHandler implements JobHandler {
         if (!"regression".equals(job.kind())) {
             return new JobOutcome.Failed("no handler for job kind " + job.kind());
         }
-        RegressionParams params = mapper.readValue(job.paramsJson(), RegressionParams.class);
-        ModelVersionRow baselineRow = version(params.family(), params.baseline());
-        ModelVersionRow candidateRow = version(params.family(), params.candidate());
-        ModelDocument baseline = stored.model(baselineRow).document();
-        ModelDocument candidate = stored.model(candidateRow).document();
-        List<String> traceIds = params.traceIds();
-        int total = traceIds.size();
-        RegressionReport report = new RegressionReport(params.family(), info(baselineRow, baseline),
-                info(candidateRow, candidate), params.tolerances(), total);
-        VersionPair versions = new VersionPair(baseline, candidate, limits);
-        int step = Math.max(1, (total + PROGRESS_WRITES - 1) / PROGRESS_WRITES);
-        if (!queue.reportProgress(job.id(), job.attempt(), 0, total)) {
-            return new JobOutcome.Failed("job " + job.id() + " was no longer running at attempt " + job.attempt());
+        JsonNode json = tools.mapper().readTree(job.paramsJson());
+        if (json.has(ChunkParams.MARKER)) {
+            return chunks.work(job, tools.mapper().treeToValue(json, ChunkParams.class));
         }
-        for (int done = 0; done < total; done++) {
-            if (regressions.regressionCancelRequested(job.id())) {
-                return cancel(job, report, done, total);
-            }
-            String traceId = traceIds.get(done);
-            StoredTraceSolver.Loaded loaded = stored.load(traceId);
-            TraceRef trace = loaded.ref();
-            versions.compare(report, trace.unitId(), trace.id(), trace.receivedAt().toString(), trace.version(),
-                    loaded.model().document(), loaded.parsed());
-            int finished = done + 1;
-            if ((finished % step == 0 || finished == total)
-                    && !queue.reportProgress(job.id(), job.attempt(), finished, total)) {
-                return new JobOutcome.Failed("job " + job.id() + " was no longer running at attempt " + job.attempt());
-            }
+        RegressionParams params = tools.mapper().treeToValue(json, RegressionParams.class);
+        ComparedVersions versions = tools.versions().load(params.family(), params.baseline(), params.candidate());
+        if (tools.splits(params.traceIds().size())) {
+            return new ChunkedRun(tools, job, params, versions).run();
         }
-        return new JobOutcome.Succeeded(null, mapper.writeValueAsString(report.build(true)));
+        return inOnePiece(job, params, versions);
     }
 
-    private JobOutcome cancel(ClaimedJob job, RegressionReport report, int done, int total) throws Exception {
-        String partial = mapper.writeValueAsString(report.build(false));
-        regressions.cancelRegressionIfRunning(job.id(), job.attempt(), partial, clock.instant());
+    private JobOutcome inOnePiece(ClaimedJob job, RegressionParams params, ComparedVersions versions)
+            throws Exception {
+        int total = params.traceIds().size();
+        RegressionReport report = versions.report(params.tolerances(), total);
+        ProgressWriter progress = new ProgressWriter(tools.queue(), job, total);
+        ComparedVersions.Halt halt = versions.walk(params.traceIds(), report, done -> {
+            if (!progress.report(done)) {
+                return ComparedVersions.Halt.LOST;
+            }
+            return done < total && tools.regressions().regressionCancelRequested(job.id())
+                    ? ComparedVersions.Halt.CANCELLED : null;
+        });
+        if (halt == ComparedVersions.Halt.LOST) {
+            return lost(job);
+        }
+        if (halt == ComparedVersions.Halt.CANCELLED) {
+            return cancel(job, report, total);
+        }
+        return new JobOutcome.Succeeded(null, tools.mapper().writeValueAsString(report.build(true)));
+    }
+
+    private JobOutcome cancel(ClaimedJob job, RegressionReport report, int total) throws Exception {
+        String partial = tools.mapper().writeValueAsString(report.build(false));
+        tools.regressions().cancelRegressionIfRunning(job.id(), job.attempt(), partial, tools.clock().instant());
         // The job is cancelled (or was taken from this attempt): the runner will find it no longer
         // running and drop this outcome.
-        return new JobOutcome.Failed("cancelled on request after " + done + " of " + total + " traces");
+        return new JobOutcome.Failed("cancelled on request after " + report.tracesDone() + " of " + total + " traces");
     }
 
-    private ModelVersionRow version(String family, int version) {
-        return models.findVersion(family, version).orElseThrow(() ->
-                new IllegalStateException("model version " + family + "/" + version + " is gone"));
-    }
-
-    private static RegressionResult.VersionInfo info(ModelVersionRow row, ModelDocument doc) {
-        return new RegressionResult.VersionInfo(row.version(), row.status(),
-                doc.states().stream().map(q -> q.name()).toList(), doc.outputs().stream().map(q -> q.name()).toList());
+    static JobOutcome lost(ClaimedJob job) {
+        return new JobOutcome.Failed("job " + job.id() + " was no longer running at attempt " + job.attempt());
     }
 }

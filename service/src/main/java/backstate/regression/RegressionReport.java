@@ -54,9 +54,25 @@ public final class RegressionReport {
     }
 
     void add(String unitId, String traceId, String windowStart, String receivedAt, int storedVersion, Fit b, Fit c) {
-        byUnit.computeIfAbsent(unitId, u -> new ArrayList<>()).add(new TraceComparison(unitId, traceId, windowStart,
-                receivedAt, storedVersion, b, c, statesComparable));
+        add(new TraceComparison(unitId, traceId, windowStart, receivedAt, storedVersion, b, c, statesComparable));
+    }
+
+    /**
+     * Adds a comparison made elsewhere (a chunk of this run, under the same versions). Adding a
+     * run's comparisons in run order gives the report that comparing its traces here would.
+     */
+    void add(TraceComparison comparison) {
+        byUnit.computeIfAbsent(comparison.unitId(), u -> new ArrayList<>()).add(comparison);
         tracesDone++;
+    }
+
+    /** Every comparison so far, unit by unit in the order the units first came, each unit's in the order added. */
+    List<TraceComparison> comparisons() {
+        return byUnit.values().stream().flatMap(List::stream).toList();
+    }
+
+    int tracesDone() {
+        return tracesDone;
     }
 
     /** The result so far; {@code complete} false (a cancelled run) leaves the verdict out. */

@@ -22,6 +22,14 @@ public interface RegressionStore {
      */
     String createRegression(NewRegression regression, int maxQueued, Instant now) throws QueueFullException;
 
+    /**
+     * Queues one chunk of a run: a 'regression' job with the caller's ID and parameters, unless a
+     * job with that ID exists, in which case nothing changes (so a run re-claimed after a crash,
+     * deriving the same chunk IDs, never queues a chunk twice). Not refused when the queue is
+     * full: the run holding the chunk was admitted already. Returns true if the chunk was queued.
+     */
+    boolean queueChunkOnce(String chunkId, String paramsJson, Instant now);
+
     /** A regression run by its job ID; empty for an unknown ID or a job of another kind. */
     Optional<RegressionRow> findRegression(String id);
 

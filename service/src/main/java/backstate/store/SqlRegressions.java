@@ -37,6 +37,11 @@ final class SqlRegressions implements RegressionStore {
 
     private static final String INSERT_REGRESSION = "INSERT INTO regressions"
             + " (job_id, family, baseline, candidate, created_at) VALUES (?, ?, ?, ?, ?)";
+    // ON CONFLICT ... DO NOTHING is the same on both engines (SQLite 3.24+); the queue's triggers
+    // see only a row actually inserted.
+    private static final String INSERT_CHUNK_ONCE = "INSERT INTO jobs (id, kind, state, trace_id, params_json,"
+            + " attempt, created_at, progress_done, progress_total)"
+            + " VALUES (?, 'regression', 'queued', NULL, ?, 0, ?, 0, 0) ON CONFLICT (id) DO NOTHING";
     private static final String REGRESSION_COLUMNS = "r.job_id, r.family, r.baseline, r.candidate, r.created_at,"
             + " r.cancel_requested_at, j.state, j.progress_done, j.progress_total, j.finished_at, ";
     private static final String FIND_REGRESSION_WHERE = " FROM regressions r JOIN jobs j ON j.id = r.job_id WHERE r.job_id = ?";
@@ -107,6 +112,12 @@ final class SqlRegressions implements RegressionStore {
             throw new QueueFullException(queuedWhenRefused[0], maxQueued);
         }
         return id;
+    }
+
+    @Override
+    public boolean queueChunkOnce(String chunkId, String paramsJson, Instant now) {
+        Expect.notBlank("chunkId", chunkId);
+        return db.writeForWorker(c -> updatedOne(c, INSERT_CHUNK_ONCE, chunkId, paramsJson, Sql.millis(now)));
     }
 
     @Override
