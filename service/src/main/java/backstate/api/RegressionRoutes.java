@@ -83,8 +83,17 @@ final class RegressionRoutes {
                 + "; only a queued or running run can be cancelled");
     }
 
-    private RegressionViews.Regression view(RegressionRow run) throws Exception {
-        JobRow job = jobs.findJob(run.id()).orElseThrow();
+    /**
+     * The run with its job, as one state: the job is read first and the run (which carries the
+     * verdict) after it, so the run is at least as new; if the job finished in between, it is read
+     * again (a finished job never changes), so "succeeded" never shows without its verdict.
+     */
+    private RegressionViews.Regression view(RegressionRow seen) throws Exception {
+        JobRow job = jobs.findJob(seen.id()).orElseThrow();
+        RegressionRow run = find(seen.id());
+        if (!run.state().equals(job.state())) {
+            job = jobs.findJob(seen.id()).orElseThrow();
+        }
         return RegressionViews.Regression.of(run, job, mapper.readValue(job.paramsJson(), RegressionParams.class));
     }
 

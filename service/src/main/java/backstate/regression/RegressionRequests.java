@@ -29,12 +29,14 @@ import java.util.TreeSet;
  */
 public final class RegressionRequests {
     /**
-     * Most traces one run may select: their IDs travel in the job's parameters (~40 bytes each).
-     * A pair of solves of a 361-sample demo trace takes about 3 ms, so such a run ends in under a
-     * minute, far inside the worker pool's one-hour stuck-job limit; traces of 10⁵ samples and
-     * more take proportionally longer, and a run past that limit would be rescued and restarted.
+     * Most traces one run may select: their IDs travel in the job's parameters (~40 bytes each,
+     * 4 MB at the limit). A pair of solves of a 361-sample demo trace takes about 3 ms, so a run
+     * at the limit takes about 5 minutes of one solving slot, shared out in chunks over every
+     * replica's idle slots (see Chunking), far inside the worker pool's one-hour stuck-job limit;
+     * traces of 10⁵ samples and more take proportionally longer, and a run past that limit would
+     * be rescued and restarted (its finished chunks are kept).
      */
-    public static final int MAX_TRACES = 10_000;
+    public static final int MAX_TRACES = 100_000;
     /** Times are stored as epoch milliseconds: a bound outside that range cannot be compared. */
     static final Instant EARLIEST = Instant.ofEpochMilli(Long.MIN_VALUE);
     static final Instant LATEST = Instant.ofEpochMilli(Long.MAX_VALUE);
