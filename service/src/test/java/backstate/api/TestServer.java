@@ -40,7 +40,12 @@ public final class TestServer implements AutoCloseable {
 
     /** On a fresh database of {@code engine} (SQLite: {@code folder}/test.db); {@code env} as above. */
     public TestServer(Engine engine, Path folder, Map<String, String> env) {
-        this.database = engine.newDatabase(folder, "test");
+        this(engine.newDatabase(folder, "test"), env);
+    }
+
+    /** On an existing database, e.g. a second replica on another server's PostgreSQL database. */
+    public TestServer(TestDatabase database, Map<String, String> env) {
+        this.database = database;
         Settings settings = Settings.from(new String[] {"--host", "127.0.0.1", "--port", "0", "--database",
                 database.serviceValue(), "--workers", "2",
                 "--auth", env.getOrDefault("BACKSTATE_AUTH", "off")}, env);
