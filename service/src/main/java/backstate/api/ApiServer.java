@@ -9,6 +9,7 @@ import backstate.solving.StoredTraceSolver;
 import backstate.store.Database;
 import com.fasterxml.jackson.databind.ObjectMapper;
 import io.javalin.Javalin;
+import io.javalin.http.staticfiles.Location;
 import io.javalin.http.HandlerType;
 import io.javalin.json.JavalinJackson;
 import io.micrometer.core.instrument.Timer;
@@ -28,6 +29,8 @@ public final class ApiServer implements AutoCloseable {
      * raw path, so unit IDs cannot multiply the series), method and status.
      */
     static final String HTTP_LATENCY = "backstate.http.latency";
+    /** Where the console's static files are served; the console page itself is {@code GET /}. */
+    public static final String CONSOLE_PATH = "/console";
     /** The histogram's buckets span 1 ms to 30 s: a post is answered in milliseconds, a slow series read in seconds. */
     static final Duration LATENCY_RANGE_FROM = Duration.ofMillis(1);
     static final Duration LATENCY_RANGE_TO = Duration.ofSeconds(30);
@@ -70,6 +73,14 @@ public final class ApiServer implements AutoCloseable {
         AccessGuard guard = new AccessGuard(w.keys(), w.database().keys(), w.auth());
         this.app = Javalin.create(config -> {
             config.startup.showJavalinBanner = false;
+            // The web console's scripts and styles, and uPlot from its WebJar: public files that hold
+            // no data (every figure they show comes from /v1 with the caller's key).
+            config.staticFiles.add(files -> {
+                files.hostedPath = CONSOLE_PATH;
+                files.directory = "/console";
+                files.location = Location.CLASSPATH;
+            });
+            config.staticFiles.enableWebjars();
             config.jsonMapper(new JavalinJackson(w.mapper(), false));
             config.http.maxRequestSize = w.maxBodyBytes();
             config.http.prefer405over404 = true;

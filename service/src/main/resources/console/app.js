@@ -1,0 +1,85 @@
+// The console's shell: a hash router over the pages, the key box, and the one message line.
+// Each page module exports render(main, params) and builds its DOM from the public API only.
+import { ApiError, key } from './api.js';
+
+const routes = [
+  { pattern: /^#\/fleet(?:\/([^/]+))?$/, section: 'fleet', load: () => import('./pages/fleet.js'), names: ['family'] },
+  { pattern: /^#\/units\/([^/]+)$/, section: 'fleet', load: () => import('./pages/unit.js'), names: ['unitId'] },
+  { pattern: /^#\/regressions(?:\/([^/]+))?$/, section: 'regressions', load: () => import('./pages/regression.js'), names: ['id'] },
+  { pattern: /^#\/plan(?:\/([^/]+)\/(\d+))?$/, section: 'plan', load: () => import('./pages/plan.js'), names: ['family', 'version'] },
+  { pattern: /^#\/models(?:\/([^/]+))?$/, section: 'models', load: () => import('./pages/models.js'), names: ['family'] },
+];
+
+const main = document.getElementById('page');
+const message = document.getElementById('message');
+let rendering = 0;
+
+/** Shows a message in words (never colour alone); null clears it. */
+export function say(text, kind = 'error') {
+  message.hidden = !text;
+  message.textContent = text ? (kind === 'error' ? 'Problem: ' : '') + text : '';
+  message.dataset.kind = kind;
+}
+
+/** What a page shows when its data cannot be read. */
+export function explain(error) {
+  say(error instanceof ApiError ? error.message : 'Unexpected: ' + error.message);
+}
+
+async function route() {
+  const hash = location.hash || '#/fleet';
+  const match = routes.map(r => ({ r, m: hash.match(r.pattern) })).find(x => x.m);
+  const ticket = ++rendering;
+  say(null);
+  document.querySelectorAll('nav a').forEach(a =>
+    a.setAttribute('aria-current', match && a.dataset.section === match.r.section ? 'page' : 'false'));
+  if (!match) {
+    main.replaceChildren(Object.assign(document.createElement('p'), { textContent: 'No such page: ' + hash }));
+    return;
+  }
+  const params = Object.fromEntries(match.r.names.map((n, i) => [n, match.m[i + 1] && decodeURIComponent(match.m[i + 1])]));
+  main.dataset.state = 'loading';
+  main.setAttribute('aria-busy', 'true');
+  try {
+    const page = await match.r.load();
+    const fresh = document.createElement('div');
+    await page.render(fresh, params);
+    if (ticket === rendering) {
+      main.replaceChildren(...fresh.childNodes);
+      page.mounted?.(main, params);
+    }
+  } catch (error) {
+    if (ticket === rendering) {
+      main.replaceChildren();
+      explain(error);
+    }
+  } finally {
+    if (ticket === rendering) {
+      main.dataset.state = 'ready';
+      main.removeAttribute('aria-busy');
+    }
+  }
+}
+
+function showKeyState() {
+  document.getElementById('key-state').textContent = key.get() ? 'key in use for this tab' : 'no key (fine where keys are off)';
+}
+
+document.getElementById('key-form').addEventListener('submit', event => {
+  event.preventDefault();
+  const input = document.getElementById('key-input');
+  if (input.value.trim()) {
+    key.set(input.value);
+    input.value = '';
+  }
+  showKeyState();
+  route();
+});
+document.getElementById('key-forget').addEventListener('click', () => {
+  key.forget();
+  showKeyState();
+  route();
+});
+window.addEventListener('hashchange', route);
+showKeyState();
+route();

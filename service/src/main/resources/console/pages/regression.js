@@ -1,0 +1,6 @@
+// regression page: to be built.
+import { h } from '../dom.js';
+
+export async function render(root) {
+  root.append(h('h1', {}, 'regression'));
+}
