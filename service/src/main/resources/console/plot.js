@@ -106,17 +106,17 @@ function drawMarks(u, marks) {
   ctx.font = `${11 * devicePixelRatio}px system-ui, sans-serif`;
   ctx.textBaseline = 'top';
   ctx.textAlign = 'left';
-  for (const mark of marks) {
+  marks.forEach((mark, i) => {
     const x = Math.round(u.valToPos(mark.x, 'x', true));
     if (x < u.bbox.left || x > u.bbox.left + u.bbox.width) {
-      continue;
+      return;
     }
     ctx.beginPath();
     ctx.moveTo(x, top);
     ctx.lineTo(x, top + height);
     ctx.stroke();
-    ctx.fillText(mark.label, x + 4 * devicePixelRatio, top + 2 * devicePixelRatio);
-  }
+    ctx.fillText(mark.label, x + 4 * devicePixelRatio, top + (2 + 14 * i) * devicePixelRatio);
+  });
   ctx.restore();
 }
 
@@ -149,16 +149,19 @@ export function logHistogram({ title, edges, counts, xLabel, yLabel = 'units', m
 /**
  * Lines on a logarithmic y axis, e.g. standard error against window length. lines: [{label,
  * values}] differ in dash as well as colour; rule: {value, label} draws a horizontal reference
- * line (recorded in data-plot as rule); xValues formats the x ticks; marks as in logHistogram.
+ * line (recorded in data-plot as rule); xValues formats the x ticks, xSteps (optional) are the tick spacings
+ * allowed; marks as in logHistogram.
  */
-export function logLinePlot({ title, x, lines, xLabel, yLabel, rule, xValues = v => format(v), marks = [], height = 300 }) {
+export function logLinePlot({ title, x, lines, xLabel, yLabel, rule, xValues = v => format(v), xSteps, marks = [],
+  height = 320 }) {
   const data = [x, ...lines.map(line => line.values)];
+  // Earlier lines are drawn wider, so a line that coincides with a later one still shows around its dashes.
   const series = [{ label: xLabel, value: (u, v) => (v === null ? '' : xValues(v)) }, ...lines.map((line, i) => ({
-    label: line.label, stroke: colour(i), width: 2, dash: DASHES[i % DASHES.length],
+    label: line.label, stroke: colour(i), width: 1.5 + 1.5 * (lines.length - 1 - i), dash: DASHES[i % DASHES.length],
     points: { show: true, size: 5, fill: colour(i) } }))];
   if (rule) {
     data.push(x.map(() => rule.value));
-    series.push({ label: rule.label, stroke: getComputedStyle(document.documentElement).getPropertyValue('--warn').trim(),
+    series.push({ label: rule.label, stroke: getComputedStyle(document.documentElement).getPropertyValue('--text').trim(),
       width: 1.5, dash: [14, 4, 2, 4], points: { show: false } });
   }
   const plotted = { ...record(x, lines), ...(rule ? { rule } : {}) };
@@ -166,7 +169,7 @@ export function logLinePlot({ title, x, lines, xLabel, yLabel, rule, xValues = v
   holder.plot = () => new uPlot({
     width: fittedWidth(holder), height, series,
     scales: { x: { time: false }, y: { distr: 3 } },
-    axes: [{ label: xLabel, values: (u, splits) => splits.map(xValues) },
+    axes: [{ label: xLabel, incrs: xSteps, values: (u, splits) => splits.map(xValues) },
       { label: yLabel, size: 60, values: (u, splits) => splits.map(v => (v === null ? '' : format(v))) }],
     legend: { live: false },
     hooks: { draw: [u => drawMarks(u, marks)] },
