@@ -26,7 +26,7 @@ export async function render(root, { family }) {
     h('h1', {}, 'Fleet ', h('span', { class: 'subject' }, name), about ? h('small', {}, about) : null),
     familyNav(families, name),
     overview(summary),
-    summary.versions.length > 1 ? versionPicker(summary.versions, chosen, v => showVersion(detail, name, v)) : null,
+    chosen === null ? null : versionBar(summary.versions, chosen, v => showVersion(detail, name, v)),
     detail].filter(Boolean));
   if (chosen !== null) {
     await fillVersion(detail, name, chosen);
@@ -82,11 +82,16 @@ function flagTally(flags) {
   return h('span', { class: 'flag-raised' }, raised.map((f, i) => [i ? '; ' : '', '⚠ ', words(f), ' ', number(flags[f].units)]));
 }
 
-function versionPicker(versions, chosen, onPick) {
+/** The heading of the version shown below, with a choice of version when there are several. */
+function versionBar(versions, chosen, onPick) {
+  const describe = v => `version ${v.version}: ${v.units} units, ${v.estimates} estimates (${v.status})`;
+  if (versions.length === 1) {
+    return h('h2', { class: 'version-bar' }, describe(versions[0]));
+  }
   const select = h('select', { id: 'fleet-version', name: 'version' }, versions.map(v =>
-    h('option', { value: v.version, selected: v.version === chosen }, `version ${v.version} (${v.status}, ${v.units} units)`)));
+    h('option', { value: v.version, selected: v.version === chosen }, describe(v))));
   select.addEventListener('change', () => onPick(Number(select.value)));
-  return h('p', { class: 'picker' }, h('label', { for: 'fleet-version' }, 'Version shown below: '), select);
+  return h('h2', { class: 'version-bar' }, h('label', { for: 'fleet-version' }, 'Shown below: '), select);
 }
 
 async function showVersion(detail, family, version) {
@@ -108,7 +113,6 @@ async function fillVersion(detail, family, version) {
   ]);
   const v = summary.versions[0];
   detail.replaceChildren(...[
-    h('h2', {}, `Version ${version}: ${v.units} units, ${v.estimates} estimates`),
     v.estimates === 0 ? h('p', { class: 'lede' }, 'No estimate with this version in the window yet.') : null,
     h('div', { class: 'grid' },
       h('div', { class: 'panel' }, fitHistogram(units)),

@@ -23,9 +23,9 @@ export async function render(root, { family, version }) {
   root.append(
     h('h1', {}, 'Window planning ', h('span', { class: 'subject' }, `${family} v${version}`),
       h('small', {}, `${spec.states.length} states, ${spec.outputs.length} outputs`)),
-    h('p', { class: 'lede' }, 'How long must a recording be? Predicted from the model alone, before any data exist: ',
-      'the standard error of the chosen state for each window length and set of sensors.'),
-    form, results);
+    h('p', { class: 'lede' }, 'How long must a recording be? The standard error of a state for each window length and ',
+      'set of sensors, predicted from the model alone, before any data exist.'),
+    h('div', { class: 'plan-layout' }, form, results));
   await fillResults(results, family, version, spec, requestFrom(form, spec));
 }
 
