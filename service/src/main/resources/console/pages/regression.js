@@ -122,10 +122,14 @@ function show(section, run) {
   stateLine.dataset.state = run.state;
   const button = section.querySelector('#cancel-run');
   button.hidden = !ACTIVE.has(run.state);
-  section.querySelector('.cancel-hint').hidden = button.hidden;
+  section.querySelector('.cancel-hint').hidden = button.hidden || Boolean(section.querySelector('#cancel-outcome').textContent);
   button.disabled = run.cancelRequested;
   if (run.state === 'cancelled') {
-    section.querySelector('#cancel-outcome').textContent = `Cancelled after ${done} of ${total} traces; no verdict.`;
+    const text = `Cancelled after ${done} of ${total} traces; no verdict.`;
+    section.querySelector('#cancel-outcome').textContent = text;
+    if (section.dataset.cancelAsked && before !== run.state) {
+      say(text, 'info');
+    }
   }
   if (before !== run.state) {
     section.querySelector('#outcome').replaceChildren(...outcome(run));
@@ -179,6 +183,7 @@ async function cancel(section) {
   button.disabled = true;
   try {
     const run = await api.cancelRegression(section.dataset.run);
+    section.dataset.cancelAsked = 'true';
     const text = run.state === 'cancelled'
       ? 'Cancelled: the run was still queued, so nothing was compared.'
       : 'Cancel requested: the run stops after the trace in hand and keeps what it compared so far.';
@@ -192,6 +197,7 @@ async function cancel(section) {
     button.disabled = false;
     const text = refusal(error);
     outcomeLine.textContent = text;
+    section.querySelector('.cancel-hint').hidden = true;
     say(text);
   }
 }

@@ -78,6 +78,7 @@ class RegressionPageTest {
             assertEquals("cancelled", run.get("state").asText());
             assertEquals(4, run.get("result").get("tracesDone").asInt());
             assertEquals("Cancelled after 4 of 20 traces; no verdict.", browser.find("#cancel-outcome").getText());
+            assertEquals("Cancelled after 4 of 20 traces; no verdict.", browser.message());
             assertTrue(browser.find(".run-state").getText().contains("cancelled"), browser.find(".run-state").getText());
             assertEquals("", browser.find("#verdict").getAttribute("data-pass"), "no verdict on a cancelled run");
             assertEquals(4, browser.findAll(".unit-changes tbody tr").size(), "the units compared before the cancel");
