@@ -103,10 +103,12 @@ function recordingTimeTicks(u, splits, axis, space, step) {
 
 /** A small legend in HTML: a symbol per entry (dash pattern, dot or shaded swatch) and its words. */
 function legendList(entries) {
-  return h('ul', { class: 'plot-legend' }, entries.map(({ label, kind, index }) => {
+  return h('ul', { class: 'plot-legend' }, entries.map(({ label, kind, index, dash: pattern }) => {
     const ink = `var(${PALETTE[index % PALETTE.length]})`;
-    const dash = DASHES[index % DASHES.length].join(' ');
-    const mark = kind === 'band'
+    const dash = pattern.join(' ');
+    const mark = kind === 'whisker'
+      ? `<path d="M12 2V14M9 2H15M9 14H15" stroke="${ink}" stroke-width="1.5"/><circle cx="12" cy="8" r="3" fill="${ink}"/>`
+      : kind === 'band'
       ? `<rect x="1" y="3" width="22" height="10" fill="${ink}" opacity="0.22"/>`
       : kind === 'points' ? `<circle cx="12" cy="8" r="3" fill="${ink}"/>`
         : `<line x1="1" y1="8" x2="23" y2="8" stroke="${ink}" stroke-width="2" stroke-dasharray="${dash}"/>`;
@@ -118,7 +120,8 @@ function legendList(entries) {
 
 /**
  * A plot over recording time (x in epoch seconds, axis in UTC) that fits its container's width.
- * lines: [{label, values, style: 'line' | 'points', band: {lower, upper, label}?, ink?}]. data-plot
+ * lines: [{label, values, style: 'line' | 'points', band: {lower, upper, label}?, ink?, dash?,
+ * whiskers?}] (whiskers: the band drawn as an interval bar at each point instead of an area). data-plot
  * holds x and every drawn series by label (a band as "label lower" / "label upper"), as linePlot's.
  */
 export function timePlot({ title, note, x, lines, yLabel, height = 220 }) {
@@ -126,20 +129,26 @@ export function timePlot({ title, note, x, lines, yLabel, height = 220 }) {
   const series = [{}];
   const bands = [];
   const entries = [];
+  const whiskers = [];
   lines.forEach((line, i) => {
     const index = line.ink ?? i;
     const stroke = colour(index);
     if (line.band) {
       data.push(line.band.lower, line.band.upper);
       series.push({ stroke: 'transparent', points: { show: false } }, { stroke: 'transparent', points: { show: false } });
-      bands.push({ series: [data.length - 1, data.length - 2], fill: stroke + '38' });
-      entries.push({ label: line.band.label, kind: 'band', index });
+      if (line.whiskers) {
+        whiskers.push({ lower: data.length - 2, upper: data.length - 1, stroke });
+      } else {
+        bands.push({ series: [data.length - 1, data.length - 2], fill: stroke + '38' });
+      }
+      entries.push({ label: line.band.label, kind: line.whiskers ? 'whisker' : 'band', index, dash: [] });
     }
     data.push(line.values);
     const dots = line.style === 'points';
-    series.push({ label: line.label, stroke, width: dots ? 0 : 1.5, dash: dots ? [] : DASHES[index % DASHES.length],
-      paths: dots ? () => null : undefined, points: { show: dots, size: 3.5, width: 0, fill: stroke } });
-    entries.push({ label: line.label, kind: dots ? 'points' : 'line', index });
+    const dash = dots ? [] : line.dash ?? DASHES[index % DASHES.length];
+    series.push({ label: line.label, stroke, width: dots ? 0 : 1.5, dash,
+      paths: dots ? () => null : undefined, points: { show: dots, size: line.whiskers ? 7 : 3.5, width: 0, fill: stroke } });
+    entries.push({ label: line.label, kind: dots ? 'points' : 'line', index, dash });
   });
   const holder = h('figure', { class: 'plot time-plot', 'data-plot': JSON.stringify(record(x, lines)) },
     h('figcaption', {}, h('span', { class: 'plot-title' }, title), note ? h('span', { class: 'plot-note' }, note) : null),
@@ -150,6 +159,7 @@ export function timePlot({ title, note, x, lines, yLabel, height = 220 }) {
       scales: { x: { time: true } },
       axes: [{ label: 'recording time (UTC)', labelSize: 22, values: recordingTimeTicks, size: 48 }, { label: yLabel, size: 56, labelSize: 22 }],
       legend: { show: false }, cursor: { drag: { x: true, y: false } },
+      hooks: { draw: [u => whiskers.forEach(w => drawWhiskers(u, w))] },
     }, data, holder);
     if (x.length === 1) {
       plot.setScale('x', { min: x[0] - 43200, max: x[0] + 43200 }); // a day around one time, not uPlot's years
@@ -157,6 +167,29 @@ export function timePlot({ title, note, x, lines, yLabel, height = 220 }) {
     return plot;
   };
   return holder;
+}
+
+/** Vertical bars from lower to upper at each x, with caps: an interval per point. */
+function drawWhiskers(u, { lower, upper, stroke }) {
+  const ctx = u.ctx;
+  ctx.save();
+  ctx.strokeStyle = stroke;
+  ctx.lineWidth = 1.5 * devicePixelRatio;
+  ctx.beginPath();
+  u.data[0].forEach((t, k) => {
+    const [lo, hi] = [u.data[lower][k], u.data[upper][k]];
+    if (lo === null || hi === null) {
+      return;
+    }
+    const x = u.valToPos(t, 'x', true);
+    const [y0, y1] = [u.valToPos(lo, 'y', true), u.valToPos(hi, 'y', true)];
+    const cap = 4 * devicePixelRatio;
+    ctx.moveTo(x, y0); ctx.lineTo(x, y1);
+    ctx.moveTo(x - cap, y0); ctx.lineTo(x + cap, y0);
+    ctx.moveTo(x - cap, y1); ctx.lineTo(x + cap, y1);
+  });
+  ctx.stroke();
+  ctx.restore();
 }
 
 /** Round steps for an axis over [low, high]: about `count` ticks at 1, 2 or 5 × 10^k. */

@@ -84,7 +84,7 @@ function fitWords(estimate) {
 
 function summary(estimate) {
   const r = estimate.result;
-  const fact = (term, value) => [h('dt', {}, term), h('dd', {}, value)];
+  const fact = (term, value) => h('div', { class: 'fact' }, h('dt', {}, term), h('dd', {}, value));
   return h('section', { class: 'unit-summary', 'data-section': 'summary' },
     h('div', { class: 'verdict', 'data-flagged': estimate.flags.length ? 'true' : 'false' },
       h('h2', {}, 'Flags'),
@@ -176,7 +176,7 @@ function channelPanel(name, series, estimate, model) {
     h('h3', {}, name),
     timePlot({ title: `${name}: measured and fitted`, x: series.time, yLabel: unit,
       note: band ? 'shaded: fitted ± 2σ, where about 95 % of measurements fall when the model fits' : 'no noise σ: no band',
-      lines: [{ label: 'measured', values: series.measured[name], style: 'points' }, { label: 'fitted', values: fitted, band, ink: 1 }] }),
+      lines: [{ label: 'measured', values: series.measured[name], style: 'points' }, { label: 'fitted', values: fitted, band, ink: 1, dash: [] }] }),
     timePlot({ title: `${name}: residual (measured − fitted)`, x: series.time, yLabel: unit, height: 150,
       note: band ? 'shaded: ± 2σ around zero' : '',
       lines: [{ label: 'residual', values: series.residual[name], style: 'points', ink: 2,
@@ -204,8 +204,8 @@ function trendPlot(trend) {
   const points = trend.points.filter(p => p.estimate !== undefined);
   const x = points.map(p => Date.parse(p.windowStart) / 1000);
   const figure = timePlot({ title: `${trend.state} at each window start`, x, yLabel: trend.unit ?? '', height: 200,
-    note: `${points.length} estimate${points.length === 1 ? '' : 's'}, oldest recording first; shaded: 95 % interval`,
-    lines: [{ label: trend.state, values: points.map(p => p.estimate), style: points.length < 60 ? 'points' : 'line',
+    note: `${points.length} estimate${points.length === 1 ? '' : 's'}, oldest recording first; bars: 95 % intervals`,
+    lines: [{ label: trend.state, values: points.map(p => p.estimate), style: 'points', whiskers: true,
       band: { lower: points.map(p => p.lower ?? null), upper: points.map(p => p.upper ?? null), label: '95 % interval' } }] });
   return figure;
 }

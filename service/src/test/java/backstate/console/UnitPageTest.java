@@ -95,6 +95,12 @@ class UnitPageTest {
                 .getAttribute("data-value"));
     }
 
+    /** Opens a unit's page from a blank page, so no earlier page's ready state or scroll position is read. */
+    private static void open(String unitId) {
+        browser.driver.get("about:blank");
+        browser.visit(server.base() + "/#/units/" + unitId);
+    }
+
     private JsonNode latest(String unitId) {
         return server.get("/v1/units/" + unitId + "/estimates/latest").json();
     }
@@ -102,7 +108,7 @@ class UnitPageTest {
     @Test
     void the_flagged_unit_shows_the_api_states_intervals_and_flag_in_words() throws Exception {
         JsonNode estimate = latest(FLAGGED);
-        browser.visit(server.base() + "/#/units/" + FLAGGED);
+        open(FLAGGED);
 
         assertEquals(estimate.get("id").asText(), browser.find("header.unit-head").getAttribute("data-estimate"));
         for (String end : List.of("", "end.")) {
@@ -161,7 +167,7 @@ class UnitPageTest {
     @Test
     void the_plotted_fit_residuals_and_trajectory_are_the_api_series() throws Exception {
         JsonNode estimate = latest(FLAGGED);
-        browser.visit(server.base() + "/#/units/" + FLAGGED);
+        open(FLAGGED);
         String maxPoints = browser.find("section[data-section='fit']").getAttribute("data-max-points");
         JsonNode series = server.get("/v1/estimates/" + estimate.get("id").asText() + "/series?maxPoints=" + maxPoints).json();
 
@@ -194,7 +200,7 @@ class UnitPageTest {
 
     @Test
     void the_healthy_unit_shows_no_flags_and_its_earlier_estimates_newest_first() throws Exception {
-        browser.visit(server.base() + "/#/units/" + HEALTHY);
+        open(HEALTHY);
         assertEquals("", browser.find(".verdict [data-flags]").getAttribute("data-flags"));
         assertTrue(browser.find(".verdict").getText().contains("no flags"), browser.find(".verdict").getText());
 
@@ -205,6 +211,7 @@ class UnitPageTest {
         assertEquals(expected, browser.findAll(".history-table tbody tr").stream().map(r -> r.getAttribute("data-estimate")).toList());
         browser.assertNoConsoleErrors();
         browser.screenshot("unit-healthy");
+        reviewWholePage("unit-healthy-full");
 
         browser.find(".history-table tbody tr:last-child a").click();
         browser.awaitRendered();
@@ -218,7 +225,7 @@ class UnitPageTest {
 
     @Test
     void choosing_a_state_by_keyboard_plots_its_trend_as_the_trend_route_gives_it() throws Exception {
-        browser.visit(server.base() + "/#/units/" + HEALTHY);
+        open(HEALTHY);
         WebElement section = browser.find("section[data-section='trend']");
         assertEquals("cargo_core", section.getAttribute("data-trend-state"));
 
