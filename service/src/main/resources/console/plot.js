@@ -124,7 +124,7 @@ function legendList(entries) {
  * whiskers?}] (whiskers: the band drawn as an interval bar at each point instead of an area). data-plot
  * holds x and every drawn series by label (a band as "label lower" / "label upper"), as linePlot's.
  */
-export function timePlot({ title, note, x, lines, yLabel, height = 220 }) {
+export function timePlot({ title, note, x, lines, yLabel, height = 220, padX = false }) {
   const data = [x];
   const series = [{}];
   const bands = [];
@@ -161,8 +161,10 @@ export function timePlot({ title, note, x, lines, yLabel, height = 220 }) {
       legend: { show: false }, cursor: { drag: { x: true, y: false } },
       hooks: { draw: [u => whiskers.forEach(w => drawWhiskers(u, w))] },
     }, data, holder);
-    if (x.length === 1) {
-      plot.setScale('x', { min: x[0] - 43200, max: x[0] + 43200 }); // a day around one time, not uPlot's years
+    if (padX || x.length === 1) {
+      // room so edge points are not cut; a day around a single time instead of uPlot's years
+      const pad = x.length > 1 ? (x[x.length - 1] - x[0]) * 0.04 : 43200;
+      plot.setScale('x', { min: x[0] - pad, max: x[x.length - 1] + pad });
     }
     return plot;
   };

@@ -203,7 +203,7 @@ function trajectoryPlot(name, series, estimate) {
 function trendPlot(trend) {
   const points = trend.points.filter(p => p.estimate !== undefined);
   const x = points.map(p => Date.parse(p.windowStart) / 1000);
-  const figure = timePlot({ title: `${trend.state} at each window start`, x, yLabel: trend.unit ?? '', height: 200,
+  const figure = timePlot({ title: `${trend.state} at each window start`, x, yLabel: trend.unit ?? '', height: 200, padX: true,
     note: `${points.length} estimate${points.length === 1 ? '' : 's'}, oldest recording first; bars: 95 % intervals`,
     lines: [{ label: trend.state, values: points.map(p => p.estimate), style: 'points', whiskers: true,
       band: { lower: points.map(p => p.lower ?? null), upper: points.map(p => p.upper ?? null), label: '95 % interval' } }] });
