@@ -2,7 +2,7 @@
 // data-plot attribute (JSON: x and each series by label), so a browser test compares them with
 // the API's answer instead of reading pixels.
 import uPlot from '/webjars/uplot/1.6.30/dist/uPlot.esm.js';
-import { h } from './dom.js';
+import { format, h } from './dom.js';
 
 const PALETTE = ['--ink-1', '--ink-2', '--ink-3', '--ink-4'];
 const DASHES = [[], [6, 4], [2, 3], [10, 3, 2, 3]];
@@ -84,7 +84,6 @@ export function drawPlots(root) {
   }
 }
 
-import { format } from './dom.js';
 
 // Log-scaled plots (fleet and planning pages): χ²/dof and standard errors span decades, so their
 // axes are logarithmic. Both keep the drawn numbers in data-plot like the plots above, size
@@ -175,4 +174,186 @@ export function logLinePlot({ title, x, lines, xLabel, yLabel, rule, xValues = v
     hooks: { draw: [u => drawMarks(u, marks)] },
   }, data, holder);
   return holder;
+}
+
+// ---- unit page: time plots in UTC with per-line styles, and an interval chart (own SVG) ----
+
+/** Recording times are UTC: time axes show UTC, whatever the browser's zone. */
+const recordingTimeZone = seconds => uPlot.tzDate(new Date(seconds * 1e3), 'Etc/UTC');
+
+/** Tick labels in UTC, 24-hour: the time, with the date under the first tick of each day. */
+function recordingTimeTicks(u, splits, axis, space, step) {
+  const day = s => new Date(s * 1e3).toISOString().slice(0, 10);
+  return splits.map((s, i) => {
+    if (step >= 86400) {
+      return day(s);
+    }
+    const time = new Date(s * 1e3).toISOString().slice(11, step < 60 ? 19 : 16);
+    return i > 0 && day(splits[i - 1]) === day(s) ? time : time + '\n' + day(s);
+  });
+}
+
+/** A small legend in HTML: a symbol per entry (dash pattern, dot or shaded swatch) and its words. */
+function legendList(entries) {
+  return h('ul', { class: 'plot-legend' }, entries.map(({ label, kind, index, dash: pattern }) => {
+    const ink = `var(${PALETTE[index % PALETTE.length]})`;
+    const dash = pattern.join(' ');
+    const mark = kind === 'whisker'
+      ? `<path d="M12 2V14M9 2H15M9 14H15" stroke="${ink}" stroke-width="1.5"/><circle cx="12" cy="8" r="3" fill="${ink}"/>`
+      : kind === 'band'
+      ? `<rect x="1" y="3" width="22" height="10" fill="${ink}" opacity="0.22"/>`
+      : kind === 'points' ? `<circle cx="12" cy="8" r="3" fill="${ink}"/>`
+        : `<line x1="1" y1="8" x2="23" y2="8" stroke="${ink}" stroke-width="2" stroke-dasharray="${dash}"/>`;
+    const symbol = h('span', { class: 'swatch', 'aria-hidden': 'true' });
+    symbol.innerHTML = `<svg width="24" height="16" viewBox="0 0 24 16">${mark}</svg>`;
+    return h('li', {}, symbol, label);
+  }));
+}
+
+/**
+ * A plot over recording time (x in epoch seconds, axis in UTC) that fits its container's width.
+ * lines: [{label, values, style: 'line' | 'points', band: {lower, upper, label}?, ink?, dash?,
+ * whiskers?}] (whiskers: the band drawn as an interval bar at each point instead of an area). data-plot
+ * holds x and every drawn series by label (a band as "label lower" / "label upper"), as linePlot's.
+ */
+export function timePlot({ title, note, x, lines, yLabel, height = 220, padX = false }) {
+  const data = [x];
+  const series = [{}];
+  const bands = [];
+  const entries = [];
+  const whiskers = [];
+  lines.forEach((line, i) => {
+    const index = line.ink ?? i;
+    const stroke = colour(index);
+    if (line.band) {
+      data.push(line.band.lower, line.band.upper);
+      series.push({ stroke: 'transparent', points: { show: false } }, { stroke: 'transparent', points: { show: false } });
+      if (line.whiskers) {
+        whiskers.push({ lower: data.length - 2, upper: data.length - 1, stroke });
+      } else {
+        bands.push({ series: [data.length - 1, data.length - 2], fill: stroke + '38' });
+      }
+      entries.push({ label: line.band.label, kind: line.whiskers ? 'whisker' : 'band', index, dash: [] });
+    }
+    data.push(line.values);
+    const dots = line.style === 'points';
+    const dash = dots ? [] : line.dash ?? DASHES[index % DASHES.length];
+    series.push({ label: line.label, stroke, width: dots ? 0 : 1.5, dash,
+      paths: dots ? () => null : undefined, points: { show: dots, size: line.whiskers ? 7 : 3.5, width: 0, fill: stroke } });
+    entries.push({ label: line.label, kind: dots ? 'points' : 'line', index, dash });
+  });
+  const holder = h('figure', { class: 'plot time-plot', 'data-plot': JSON.stringify(record(x, lines)) },
+    h('figcaption', {}, h('span', { class: 'plot-title' }, title), note ? h('span', { class: 'plot-note' }, note) : null),
+    legendList(entries));
+  holder.plot = () => {
+    const plot = new uPlot({
+      width: Math.max(280, holder.clientWidth - 4), height, series, bands, tzDate: recordingTimeZone,
+      scales: { x: { time: true } },
+      axes: [{ label: 'recording time (UTC)', labelSize: 22, values: recordingTimeTicks, size: 48 }, { label: yLabel, size: 56, labelSize: 22 }],
+      legend: { show: false }, cursor: { drag: { x: true, y: false } },
+      hooks: { draw: [u => whiskers.forEach(w => drawWhiskers(u, w))] },
+    }, data, holder);
+    if (padX || x.length === 1) {
+      // room so edge points are not cut; a day around a single time instead of uPlot's years
+      const pad = x.length > 1 ? (x[x.length - 1] - x[0]) * 0.04 : 43200;
+      plot.setScale('x', { min: x[0] - pad, max: x[x.length - 1] + pad });
+    }
+    return plot;
+  };
+  return holder;
+}
+
+/** Vertical bars from lower to upper at each x, with caps: an interval per point. */
+function drawWhiskers(u, { lower, upper, stroke }) {
+  const ctx = u.ctx;
+  ctx.save();
+  ctx.strokeStyle = stroke;
+  ctx.lineWidth = 1.5 * devicePixelRatio;
+  ctx.beginPath();
+  u.data[0].forEach((t, k) => {
+    const [lo, hi] = [u.data[lower][k], u.data[upper][k]];
+    if (lo === null || hi === null) {
+      return;
+    }
+    const x = u.valToPos(t, 'x', true);
+    const [y0, y1] = [u.valToPos(lo, 'y', true), u.valToPos(hi, 'y', true)];
+    const cap = 4 * devicePixelRatio;
+    ctx.moveTo(x, y0); ctx.lineTo(x, y1);
+    ctx.moveTo(x - cap, y0); ctx.lineTo(x + cap, y0);
+    ctx.moveTo(x - cap, y1); ctx.lineTo(x + cap, y1);
+  });
+  ctx.stroke();
+  ctx.restore();
+}
+
+/** Round steps for an axis over [low, high]: about `count` ticks at 1, 2 or 5 × 10^k. */
+function roundTicks(low, high, count = 6) {
+  const raw = (high - low) / count || 1;
+  const power = 10 ** Math.floor(Math.log10(raw));
+  const step = [1, 2, 5, 10].map(m => m * power).find(s => s >= raw);
+  const out = [];
+  for (let t = Math.ceil(low / step) * step; t <= high + step * 1e-9; t += step) {
+    out.push(Number(t.toPrecision(12)));
+  }
+  return out;
+}
+
+/**
+ * An interval chart drawn in SVG: one row per label, and for each set a marker at its estimate
+ * with a bar from lower to upper (sets differ in marker shape as well as colour). sets: [{label,
+ * shape: 'dot' | 'diamond', estimate: [], lower: [], upper: []}], one value per label, on one axis
+ * (unit). data-plot holds {labels, series: {set label: {estimate, lower, upper}}}.
+ */
+export function intervalChart({ title, note, labels, sets, unit }) {
+  const values = sets.flatMap(s => [...s.lower, ...s.upper, ...s.estimate]).filter(Number.isFinite);
+  const span = Math.max(...values) - Math.min(...values) || 1;
+  const low = Math.min(...values) - span * 0.04;
+  const high = Math.max(...values) + span * 0.04;
+  const [left, right, rowHeight, top] = [130, 620, 40, 8];
+  const height = top + labels.length * rowHeight + 34;
+  const at = v => left + (v - low) / (high - low) * (right - left);
+  const parts = [];
+  for (const t of roundTicks(low, high)) {
+    parts.push(`<line class="grid" x1="${at(t)}" x2="${at(t)}" y1="${top}" y2="${height - 30}"/>`,
+      `<text class="tick" x="${at(t)}" y="${height - 16}" text-anchor="middle">${t}</text>`);
+  }
+  parts.push(`<text class="axis-label" x="${(left + right) / 2}" y="${height - 2}" text-anchor="middle">${unit ?? ''}</text>`);
+  labels.forEach((label, row) => {
+    const middle = top + row * rowHeight + rowHeight / 2;
+    parts.push(`<text class="row-label" x="${left - 10}" y="${middle + 4}" text-anchor="end">${escapeSvgText(label)}</text>`);
+    sets.forEach((set, k) => {
+      const y = middle + (k - (sets.length - 1) / 2) * 12;
+      const [e, lo, hi] = [set.estimate[row], set.lower[row], set.upper[row]];
+      const ink = `var(${PALETTE[k % PALETTE.length]})`;
+      if (Number.isFinite(lo) && Number.isFinite(hi)) {
+        parts.push(`<path d="M${at(lo)} ${y}H${at(hi)}M${at(lo)} ${y - 4}V${y + 4}M${at(hi)} ${y - 4}V${y + 4}" stroke="${ink}" stroke-width="2" fill="none"/>`);
+      }
+      if (Number.isFinite(e)) {
+        parts.push(intervalMarker(set.shape, at(e), y, ink));
+      }
+    });
+  });
+  const svg = `<svg viewBox="0 0 640 ${height}" role="img" aria-label="${escapeSvgText(title)}">${parts.join('')}</svg>`;
+  const holder = h('figure', { class: 'plot interval-chart', 'data-plot': JSON.stringify({ labels, series: Object.fromEntries(
+    sets.map(s => [s.label, { estimate: s.estimate, lower: s.lower, upper: s.upper }])) }) },
+  h('figcaption', {}, h('span', { class: 'plot-title' }, title), note ? h('span', { class: 'plot-note' }, note) : null));
+  const drawing = h('div', { class: 'svg-holder' });
+  drawing.innerHTML = svg;
+  const key = h('ul', { class: 'plot-legend' }, sets.map((s, k) => {
+    const symbol = h('span', { class: 'swatch', 'aria-hidden': 'true' });
+    symbol.innerHTML = `<svg width="24" height="16" viewBox="0 0 24 16"><path d="M2 8H22M2 4V12M22 4V12" stroke="var(${PALETTE[k % PALETTE.length]})" stroke-width="2" fill="none"/>${intervalMarker(s.shape, 12, 8, `var(${PALETTE[k % PALETTE.length]})`)}</svg>`;
+    return h('li', {}, symbol, s.label);
+  }));
+  holder.append(key, drawing);
+  return holder;
+}
+
+function intervalMarker(shape, x, y, ink) {
+  return shape === 'diamond'
+    ? `<path d="M${x} ${y - 5}L${x + 5} ${y}L${x} ${y + 5}L${x - 5} ${y}Z" fill="var(--panel)" stroke="${ink}" stroke-width="2"/>`
+    : `<circle cx="${x}" cy="${y}" r="4.5" fill="${ink}"/>`;
+}
+
+function escapeSvgText(text) {
+  return String(text).replace(/[&<>"]/g, c => ({ '&': '&amp;', '<': '&lt;', '>': '&gt;', '"': '&quot;' })[c]);
 }
