@@ -62,7 +62,7 @@ async function route() {
 }
 
 function showKeyState() {
-  document.getElementById('key-state').textContent = key.get() ? 'key in use for this tab' : 'no key (fine where keys are off)';
+  document.getElementById('key-state').textContent = key.get() ? 'key in use (this tab)' : 'no key';
 }
 
 document.getElementById('key-form').addEventListener('submit', event => {

@@ -56,7 +56,7 @@ class KeysTest {
             versions.get(0).get("observability").get("singularValues").forEach(s -> singularValues.add(s.asDouble()));
             assertEquals(singularValues, browser.findAll("section[data-family='reefer-40'] tbody tr:first-child .num").stream()
                     .map(e -> Double.parseDouble(e.getAttribute("data-value"))).toList());
-            assertEquals("key in use for this tab", browser.find("#key-state").getText());
+            assertEquals("key in use (this tab)", browser.find("#key-state").getText());
 
             browser.find("nav a[data-section='regressions']").click();
             browser.awaitRendered();
