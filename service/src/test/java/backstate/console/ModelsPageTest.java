@@ -35,4 +35,24 @@ class ModelsPageTest {
             browser.screenshot("models");
         }
     }
+
+    @Test
+    void a_model_document_chosen_in_the_file_field_is_published_as_the_next_version(@TempDir Path dir) throws Exception {
+        try (TestServer server = new TestServer(dir); ConsoleBrowser browser = ConsoleBrowser.open()) {
+            server.publishDemoModels();
+            browser.visit(server.base() + "/#/models/reefer-40");
+            Path document = TestServer.TEST_DATA.resolve("demo/models/reefer-40.v2.json").toAbsolutePath().normalize();
+
+            browser.find("section[data-family='reefer-40'] input[type=file]").sendKeys(document.toString());
+            browser.find("section[data-family='reefer-40'] form.publish button[type=submit]").click();
+
+            new org.openqa.selenium.support.ui.WebDriverWait(browser.driver, ConsoleBrowser.PAGE_WAIT).until(d ->
+                    "1,2,3".equals(d.findElement(org.openqa.selenium.By.cssSelector(
+                            "section[data-family='reefer-40'] table")).getAttribute("data-versions")));
+            JsonNode third = server.get("/v1/models/reefer-40/versions/3").json();
+            assertEquals(3, third.get("version").asInt());
+            assertEquals(server.get("/v1/models/reefer-40/versions/2").json().get("document"), third.get("document"));
+            browser.assertNoConsoleErrors();
+        }
+    }
 }
