@@ -60,6 +60,12 @@ public final class ApiProblem extends RuntimeException {
                 "got " + got + ", expected " + expected, List.of(new Problem.FieldError("Content-Type", "expected " + expected)));
     }
 
+    /** The body arrived too slowly or for too long (408); the connection is closed after the answer. */
+    public static ApiProblem bodyTooSlow(String detail) {
+        return new ApiProblem(408, "request-timeout", "Request body too slow", "body: " + detail,
+                List.of(new Problem.FieldError("body", detail)));
+    }
+
     public static ApiProblem busy(String detail) {
         return new ApiProblem(503, "service-busy", "Service busy, retry later", detail, null);
     }

@@ -2,6 +2,7 @@ package backstate.api;
 
 import backstate.auth.ApiKeys;
 import backstate.config.Settings;
+import backstate.config.UploadLimits;
 import backstate.formats.CheckedModels;
 import backstate.formats.Limits;
 import backstate.intake.TraceIntake;
@@ -66,7 +67,13 @@ public final class ApiServer implements AutoCloseable {
         }
     }
 
+    /** With the default upload limits ({@link UploadLimits#DEFAULTS}). */
     public ApiServer(Wiring w) {
+        this(w, UploadLimits.DEFAULTS);
+    }
+
+    /** Request bodies are read under {@code uploads}: caps on uploads at once, a minimum rate and a longest time. */
+    public ApiServer(Wiring w, UploadLimits uploads) {
         this.routes = routes(w);
         this.series = w.series();
         ProblemMapper problems = new ProblemMapper(w.mapper());
@@ -82,6 +89,7 @@ public final class ApiServer implements AutoCloseable {
             });
             config.staticFiles.enableWebjars();
             config.jsonMapper(new JavalinJackson(w.mapper(), false));
+            config.appData(Uploads.KEY, new Uploads(uploads));
             config.http.maxRequestSize = w.maxBodyBytes();
             config.http.prefer405over404 = true;
             config.jetty.modifyServer(server -> {

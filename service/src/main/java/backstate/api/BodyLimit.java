@@ -1,15 +1,20 @@
 package backstate.api;
 
+import backstate.config.UploadLimits;
 import io.javalin.http.Context;
 import java.io.FilterInputStream;
 import java.io.IOException;
 import java.io.InputStream;
+import java.util.concurrent.TimeoutException;
 import java.util.zip.GZIPInputStream;
 
 /**
  * Opens a request body as a stream, decompressing {@code Content-Encoding: gzip}, and answers 413
  * as soon as more than the limit has been read (after decompression, so a small gzip bomb is
- * caught as early as a large plain body).
+ * caught as early as a large plain body). Reading holds an upload permit ({@link Uploads}, 503
+ * when none is free) until the stream is closed, and a body that arrives slower than the minimum
+ * rate, for longer than the longest body time, or not at all until the connection's idle timeout
+ * gets 408.
  */
 final class BodyLimit {
     /** A body that ends before its Content-Length or final chunk: the client's fault, not ours. */
@@ -24,7 +29,18 @@ final class BodyLimit {
         if (length != null && length.matches("\\d{1,19}") && Long.parseLong(length) > maxBytes) {
             throw ApiProblem.tooLarge(maxBytes);
         }
-        InputStream raw = new Capped(ctx.bodyInputStream(), maxBytes, TRUNCATED_BODY);
+        Uploads uploads = ctx.appData(Uploads.KEY);
+        Uploads.Permit permit = uploads.acquire(ctx);
+        try {
+            return decoded(ctx, new Capped(new Paced(ctx.bodyInputStream(), uploads.limits(), permit), maxBytes, TRUNCATED_BODY),
+                    maxBytes);
+        } catch (RuntimeException | IOException e) {
+            permit.close();
+            throw e;
+        }
+    }
+
+    private static InputStream decoded(Context ctx, InputStream raw, long maxBytes) throws IOException {
         String encoding = ctx.header("Content-Encoding");
         if (encoding == null || encoding.isBlank() || encoding.equalsIgnoreCase("identity")) {
             return raw;
@@ -37,6 +53,79 @@ final class BodyLimit {
             }
         }
         throw ApiProblem.invalid("Content-Encoding", "got " + encoding + ", expected gzip or identity");
+    }
+
+    /**
+     * The raw body on the wire: holds the upload permit until closed, and refuses a body that is
+     * too slow. The checks run whenever a read returns, and a read that waits longer than the
+     * connection's idle timeout fails, so a crawling or silent body is cut within the grace, the
+     * longest body time or the idle timeout, whichever comes first.
+     */
+    private static final class Paced extends FilterInputStream {
+        private final UploadLimits limits;
+        private final Uploads.Permit permit;
+        private final long start = System.nanoTime();
+        private long count;
+
+        Paced(InputStream in, UploadLimits limits, Uploads.Permit permit) {
+            super(in);
+            this.limits = limits;
+            this.permit = permit;
+        }
+
+        @Override
+        public int read() throws IOException {
+            byte[] one = new byte[1];
+            int n = read(one, 0, 1);
+            return n == 1 ? one[0] & 0xff : -1;
+        }
+
+        @Override
+        public int read(byte[] buf, int off, int len) throws IOException {
+            int n;
+            try {
+                n = super.read(buf, off, len);
+            } catch (IOException e) {
+                if (causedByTimeout(e)) {
+                    throw ApiProblem.bodyTooSlow("no byte of the body arrived within the connection's idle timeout");
+                }
+                throw e;
+            }
+            count += Math.max(n, 0);
+            check(n < 0);
+            return n;
+        }
+
+        private void check(boolean ended) {
+            long elapsed = System.nanoTime() - start;
+            if (elapsed > limits.maxBodyTime().toNanos()) {
+                throw ApiProblem.bodyTooSlow("the body took over " + limits.maxBodyTime().toSeconds()
+                        + " s to arrive, the most --max-body-seconds allows");
+            }
+            if (!ended && elapsed > UploadLimits.RATE_GRACE.toNanos()
+                    && count < limits.minBodyRate() * (elapsed / 1e9)) {
+                throw ApiProblem.bodyTooSlow("the body arrived at under " + limits.minBodyRate()
+                        + " bytes a second, the least --min-body-rate allows");
+            }
+        }
+
+        @Override
+        public void close() throws IOException {
+            try {
+                super.close();
+            } finally {
+                permit.close();
+            }
+        }
+
+        private static boolean causedByTimeout(Throwable e) {
+            for (Throwable t = e; t != null; t = t.getCause()) {
+                if (t instanceof TimeoutException) {
+                    return true;
+                }
+            }
+            return false;
+        }
     }
 
     /** Counts bytes read and fails with 413 past the cap; a truncated or corrupt stream becomes a 400. */

@@ -93,8 +93,13 @@ final class KeyRoutes {
             }
             return null;
         }
-        return UnitPattern.parse(glob).orElseThrow(() -> ApiProblem.invalid("unitPattern",
+        UnitPattern pattern = UnitPattern.parse(glob).orElseThrow(() -> ApiProblem.invalid("unitPattern",
                 "got " + Params.quoted(glob) + ", expected 1-64 of letters, digits, _ . - and the wildcards * and ?"));
+        if (pattern.stars() > UnitPattern.MAX_STARS) {
+            throw ApiProblem.invalid("unitPattern", "got " + pattern.stars() + " wildcards *, expected at most "
+                    + UnitPattern.MAX_STARS);
+        }
+        return pattern;
     }
 
     private NewKey read(Context ctx) throws Exception {

@@ -19,6 +19,11 @@ import org.eclipse.jetty.util.Callback;
  * name) and a 503 carries Retry-After.
  */
 final class ProtocolErrors extends ErrorHandler {
+    /** The target Jetty substitutes for a request whose path it could not decode. */
+    static final String UNDECODABLE_TARGET = "/badMessage";
+    static final String UNDECODABLE_PATH = "the path could not be decoded: it holds an encoded NUL (%00) or control"
+            + " character, or bad percent-encoding";
+
     private final ObjectMapper mapper;
 
     ProtocolErrors(ObjectMapper mapper) {
@@ -28,7 +33,8 @@ final class ProtocolErrors extends ErrorHandler {
     @Override
     protected void generateResponse(Request request, Response response, int status, String message, Throwable cause,
                                     Callback callback) throws IOException {
-        String detail = detail(status, message);
+        String target = request == null || request.getHttpURI() == null ? "" : request.getHttpURI().toString();
+        String detail = detail(status, message, target);
         if (status == HttpStatus.SERVICE_UNAVAILABLE_503) {
             response.getHeaders().put(HttpHeader.RETRY_AFTER, ApiProblem.RETRY_AFTER_SECONDS);
         }
@@ -40,6 +46,19 @@ final class ProtocolErrors extends ErrorHandler {
     }
 
     static String detail(int status, String message) {
+        return detail(status, message, "");
+    }
+
+    /**
+     * Jetty's reason, or ours where Jetty gives none: a path it cannot decode (an encoded NUL or
+     * control character, bad percent-encoding) reaches this handler as {@link #UNDECODABLE_TARGET}
+     * with the bare reason "Bad Request".
+     */
+    static String detail(int status, String message, String target) {
+        if (status == HttpStatus.BAD_REQUEST_400 && target.equals(UNDECODABLE_TARGET)
+                && (message == null || message.isBlank() || message.equals("Bad Request"))) {
+            return UNDECODABLE_PATH;
+        }
         if (status == HttpStatus.SERVICE_UNAVAILABLE_503) {
             return "the service is stopping or cannot take this request now; retry shortly";
         }
@@ -53,6 +72,7 @@ final class ProtocolErrors extends ErrorHandler {
     private static String title(int status) {
         return switch (status) {
             case 400 -> "Invalid input";
+            case 408 -> "Request body too slow";
             case 413 -> "Payload too large";
             case 503 -> "Service busy, retry later";
             default -> "HTTP " + status;
@@ -62,20 +82,39 @@ final class ProtocolErrors extends ErrorHandler {
     private static String slug(int status) {
         return switch (status) {
             case 400 -> "invalid-input";
+            case 408 -> "request-timeout";
             case 413 -> "payload-too-large";
             case 503 -> "service-busy";
             default -> "http-" + status;
         };
     }
 
-    /** Names the offending part where Jetty's reason makes it plain. */
-    private static List<Problem.FieldError> fields(int status, String detail) {
+    /**
+     * Every 4xx names the offending part, as every other 4xx does: the header, path or body
+     * where Jetty's reason makes it plain, else the request as a whole. A 5xx names none.
+     */
+    static List<Problem.FieldError> fields(int status, String detail) {
+        return status >= 500 ? null : List.of(new Problem.FieldError(field(status, detail), detail));
+    }
+
+    private static String field(int status, String detail) {
         if (status == HttpStatus.REQUEST_HEADER_FIELDS_TOO_LARGE_431) {
-            return List.of(new Problem.FieldError("headers", detail));
+            return "headers";
         }
-        if (detail.contains("Content-Length")) {
-            return List.of(new Problem.FieldError("Content-Length", detail));
+        if (status == HttpStatus.REQUEST_TIMEOUT_408) {
+            return "body";
         }
-        return null;
+        for (String header : List.of("Content-Length", "Transfer-Encoding", "Content-Encoding", "Host")) {
+            if (detail.contains(header)) {
+                return header;
+            }
+        }
+        if (detail.contains("CNTL") || detail.contains("Illegal character") || detail.contains("header")) {
+            return "headers";
+        }
+        if (detail.contains("URI") || detail.contains("Path") || detail.equals(UNDECODABLE_PATH)) {
+            return "path";
+        }
+        return "request";
     }
 }

@@ -11,7 +11,7 @@ import java.util.Optional;
  */
 public record Settings(String host, int port, DatabaseTarget database, int workers, long maxBodyBytes, int maxQueued,
                        int maxSamples, boolean auth, Optional<Secret> adminKey, int seriesThreads, int seriesQueue,
-                       Duration jobLease, int databasePool) {
+                       Duration jobLease, int databasePool, UploadLimits uploads) {
     /** Default body limit: 256 MiB holds a 10⁶-sample, 5-channel CSV with room to spare. */
     public static final long DEFAULT_MAX_BODY = 256L * 1024 * 1024;
     /**
@@ -41,6 +41,12 @@ public record Settings(String host, int port, DatabaseTarget database, int worke
         values.put("series-queue", env.getOrDefault("BACKSTATE_SERIES_QUEUE", Integer.toString(DEFAULT_SERIES_QUEUE)));
         values.put("job-lease", env.getOrDefault("BACKSTATE_JOB_LEASE", Integer.toString(DEFAULT_JOB_LEASE_SECONDS)));
         values.put("database-pool", env.getOrDefault("BACKSTATE_DATABASE_POOL", Integer.toString(DEFAULT_DATABASE_POOL)));
+        values.put("max-uploads", env.getOrDefault("BACKSTATE_MAX_UPLOADS", Integer.toString(UploadLimits.DEFAULT_MAX_UPLOADS)));
+        values.put("max-uploads-per-key", env.getOrDefault("BACKSTATE_MAX_UPLOADS_PER_KEY",
+                Integer.toString(UploadLimits.DEFAULT_MAX_UPLOADS_PER_KEY)));
+        values.put("min-body-rate", env.getOrDefault("BACKSTATE_MIN_BODY_RATE", Integer.toString(UploadLimits.DEFAULT_MIN_BODY_RATE)));
+        values.put("max-body-seconds", env.getOrDefault("BACKSTATE_MAX_BODY_SECONDS",
+                Integer.toString(UploadLimits.DEFAULT_MAX_BODY_SECONDS)));
         for (int i = 0; i < flags.length; i++) {
             String flag = flags[i];
             if (!flag.startsWith("--") || !values.containsKey(flag.substring(2)) || i + 1 == flags.length) {
@@ -54,7 +60,14 @@ public record Settings(String host, int port, DatabaseTarget database, int worke
                 range("max-queued", values, 1, 10_000_000), range("max-samples", values, 2, 100_000_000),
                 onOff("auth", values), adminKey(env), range("series-threads", values, 1, 64),
                 range("series-queue", values, 0, 10_000), Duration.ofSeconds(range("job-lease", values, 3, 3600)),
-                range("database-pool", values, 2, 500));
+                range("database-pool", values, 2, 500), uploads(values));
+    }
+
+    /** Upload caps stay below the HTTP threads so that reads and health checks always find one. */
+    private static UploadLimits uploads(Map<String, String> values) {
+        return new UploadLimits(range("max-uploads", values, 1, UploadLimits.HTTP_THREADS / 2),
+                range("max-uploads-per-key", values, 1, UploadLimits.HTTP_THREADS / 2),
+                range("min-body-rate", values, 0, 1 << 30), Duration.ofSeconds(range("max-body-seconds", values, 1, 86_400)));
     }
 
     /** One line per setting, for the start-up log. */
@@ -63,7 +76,9 @@ public record Settings(String host, int port, DatabaseTarget database, int worke
                 + " max-body-bytes=" + maxBodyBytes + " max-queued=" + maxQueued + " max-samples=" + maxSamples
                 + " auth=" + (auth ? "on" : "off") + " admin-key=" + (adminKey.isPresent() ? "set" : "unset")
                 + " series-threads=" + seriesThreads + " series-queue=" + seriesQueue
-                + " job-lease=" + jobLease.toSeconds() + "s database-pool=" + databasePool;
+                + " job-lease=" + jobLease.toSeconds() + "s database-pool=" + databasePool
+                + " max-uploads=" + uploads.maxUploads() + " max-uploads-per-key=" + uploads.maxUploadsPerKey()
+                + " min-body-rate=" + uploads.minBodyRate() + " max-body-seconds=" + uploads.maxBodyTime().toSeconds();
     }
 
     /** Access control on or off; the admin key comes from the environment only, never a flag (flags show in ps). */

@@ -171,6 +171,7 @@ class KeyManagementTest {
                 Arguments.of("pattern with a slash", "{\"role\":\"gateway\",\"unitPattern\":\"RCX/*\",\"label\":\"x\"}", "unitPattern"),
                 Arguments.of("pattern with regex syntax", "{\"role\":\"gateway\",\"unitPattern\":\"RCX-(1|2).*\",\"label\":\"x\"}", "unitPattern"),
                 Arguments.of("pattern too long", "{\"role\":\"gateway\",\"unitPattern\":\"" + "R".repeat(65) + "\",\"label\":\"x\"}", "unitPattern"),
+                Arguments.of("pattern with more stars than the cap (9)", "{\"role\":\"gateway\",\"unitPattern\":\"" + "*a".repeat(9) + "\",\"label\":\"x\"}", "unitPattern"),
                 Arguments.of("no label", "{\"role\":\"reader\"}", "label"),
                 Arguments.of("blank label", "{\"role\":\"reader\",\"label\":\"  \"}", "label"),
                 Arguments.of("label with a line break", "{\"role\":\"reader\",\"label\":\"a\\nINFO forged\"}", "label"),

@@ -23,4 +23,20 @@ class ProtocolErrorsTest {
         assertFalse(stopping.contains("java.lang"), stopping);
         assertTrue(stopping.contains("retry"), stopping);
     }
+
+    @Test
+    void a_path_jetty_could_not_decode_is_named_as_the_path() {
+        String detail = ProtocolErrors.detail(400, "Bad Request", ProtocolErrors.UNDECODABLE_TARGET);
+        assertTrue(detail.contains("%00"), detail);
+        assertEquals("path", ProtocolErrors.fields(400, detail).get(0).field());
+    }
+
+    @Test
+    void every_4xx_carries_an_errors_array_and_a_5xx_none() {
+        assertEquals("headers", ProtocolErrors.fields(400, "Illegal character CNTL=0x1").get(0).field());
+        assertEquals("body", ProtocolErrors.fields(408, "Request Timeout").get(0).field());
+        assertEquals("Transfer-Encoding", ProtocolErrors.fields(400, "Bad Transfer-Encoding, chunked not last").get(0).field());
+        assertEquals("request", ProtocolErrors.fields(400, "Bad Request").get(0).field());
+        assertEquals(null, ProtocolErrors.fields(505, "Unsupported version"));
+    }
 }

@@ -4,6 +4,13 @@ import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertFalse;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
+import java.nio.file.FileSystems;
+import java.nio.file.Path;
+import java.nio.file.PathMatcher;
+import java.util.ArrayList;
+import java.util.List;
+import org.junit.jupiter.api.Test;
+
 import org.junit.jupiter.params.ParameterizedTest;
 import org.junit.jupiter.params.provider.CsvSource;
 import org.junit.jupiter.params.provider.ValueSource;
@@ -43,5 +50,69 @@ class UnitPatternTest {
     void wildcards_do_not_match_characters_unit_ids_cannot_hold(String unitId) {
         assertFalse(UnitPattern.of("RCX-1*").matches(unitId), unitId);
         assertFalse(UnitPattern.of("*").matches(unitId), unitId);
+    }
+
+    /**
+     * Every glob of up to 5 characters over {a, b, ., *, ?} against every ID of up to 5 characters
+     * over {a, b, .}: the same verdict as the JDK's own glob matcher ({@code FileSystem.getPathMatcher("glob:…")},
+     * whose {@code *} and {@code ?} match any character but '/', which neither side holds here).
+     */
+    @Test
+    void glob_agrees_with_the_jdks_glob_matcher_on_every_small_pattern_and_id() {
+        List<String> ids = words("ab.", 5);
+        int compared = 0;
+        for (String glob : words("ab.*?", 5)) {
+            if (glob.isEmpty()) {
+                continue;
+            }
+            PathMatcher reference = FileSystems.getDefault().getPathMatcher("glob:" + glob);
+            UnitPattern pattern = UnitPattern.of(glob);
+            for (String id : ids) {
+                assertEquals(reference.matches(Path.of(id)), pattern.matches(id), glob + " against '" + id + "'");
+                compared++;
+            }
+        }
+        assertEquals(3905 * 364, compared);
+    }
+
+    /**
+     * Patterns that make a backtracking regular expression take seconds to forever (`*a*a*a*a*a*a*b`
+     * against 64 a's took 11-19 s of CPU as a regex): the walk stays within
+     * (glob length + 1) × (ID length + 1) steps and gives the right verdict.
+     */
+    @ParameterizedTest(name = "{0}")
+    @ValueSource(strings = {"*a*a*a*a*a*a*b", "***************************************************************b",
+            "*a*a*a*a*a*a*a*a*a*a*a*a*a*a*a*a*a*a*a*a*a*a*a*a*a*a*a*a*a*a*a*b", "a*?*?*?*?*?*?*?*?*?*?*?*?*?*?*?*?*?*?*?*?*?*b"})
+    void hostile_patterns_match_in_at_most_glob_times_id_steps(String glob) {
+        UnitPattern pattern = UnitPattern.of(glob);
+        String id = "a".repeat(64);
+        assertFalse(pattern.matches(id), "no 'b' in the ID");
+        assertTrue(pattern.matches("a".repeat(63) + "b"), "ends in 'b'");
+        int steps = pattern.steps(id);
+        assertTrue(steps <= (glob.length() + 1) * (id.length() + 1), steps + " steps");
+    }
+
+    @Test
+    void stars_are_counted_for_the_cap_on_new_keys() {
+        assertEquals(0, UnitPattern.of("RCX-1?").stars());
+        assertEquals(3, UnitPattern.of("*RCX*1*").stars());
+        assertEquals(8, UnitPattern.MAX_STARS);
+    }
+
+    /** Every word over the alphabet of length 0 to maxLength. */
+    static List<String> words(String alphabet, int maxLength) {
+        List<String> all = new ArrayList<>(List.of(""));
+        List<String> last = List.of("");
+        for (int length = 1; length <= maxLength; length++) {
+            List<String> next = new ArrayList<>();
+            for (String w : last) {
+                for (char c : alphabet.toCharArray()) {
+                    next.add(w + c);
+                }
+            }
+            all.addAll(next);
+            last = next;
+        }
+        return all;
     }
 }

@@ -69,10 +69,10 @@ class HostileInputRegressionTest {
                         Raw.request("POST", TRACES, Raw.headers("Content-Type", CSV, "Content-Length", "5", "content-length", "6"), csv)),
                 broke("headers over Jetty's 8 KiB", 431, "headers",
                         Raw.post(TRACES, Raw.headers("Content-Type", CSV, "X-Padding", "p".repeat(9000)), csv)),
-                broke("request line without a target", 400, null, bytes("GARBAGE\r\n\r\n")),
-                broke("request target with a raw 0xFF byte", 400, null,
+                broke("request line without a target", 400, "path", bytes("GARBAGE\r\n\r\n")),
+                broke("request target with a raw 0xFF byte", 400, "path",
                         Raw.request("GET", "/v1/units/\u00ff/estimates", Map.of(), new byte[0])),
-                broke("Transfer-Encoding gzip (chunked not last)", 400, null,
+                broke("Transfer-Encoding gzip (chunked not last)", 400, "Transfer-Encoding",
                         Raw.request("POST", TRACES, Raw.headers("Content-Type", CSV, "Transfer-Encoding", "gzip"), csv)),
                 // 505 is the protocol's own answer to an unknown version; it is kept, as problem+json
                 broke("HTTP/9.9 request line", 505, null, bytes("POST " + TRACES + " HTTP/9.9\r\nHost: x\r\n\r\n")),

@@ -139,7 +139,7 @@ final class Raw {
         return all.toByteArray();
     }
 
-    private static Reply parse(byte[] raw) {
+    static Reply parse(byte[] raw) {
         int end = indexOf(raw, new byte[] {'\r', '\n', '\r', '\n'});
         if (end < 0) {
             return new Reply(-1, Map.of(), raw);
