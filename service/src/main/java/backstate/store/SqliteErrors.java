@@ -25,8 +25,7 @@ final class SqliteErrors {
     static StoreException translate(SQLException e) {
         int primary = e.getErrorCode() & PRIMARY_CODE_MASK;
         if (primary == SQLITE_CORRUPT || primary == SQLITE_NOTADB) {
-            return new CorruptDataException("the database file", "SQLite reports a damaged page (code "
-                    + e.getErrorCode() + ")", e);
+            return new CorruptDataException("the database file", "SQLite reports it damaged: " + e.getMessage(), e);
         }
         String reason = unavailableReason(e.getErrorCode() & PRIMARY_CODE_MASK);
         if (reason != null) {
