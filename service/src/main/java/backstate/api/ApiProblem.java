@@ -74,6 +74,11 @@ public final class ApiProblem extends RuntimeException {
                 item + " is damaged in storage and cannot be shown; the operator has it in the log", null);
     }
 
+    /** The database's start check found damage: not ready (503), until an operator restores the file. */
+    public static ApiProblem databaseDamaged(String detail) {
+        return new ApiProblem(503, "database-damaged", "The database is damaged", detail, null);
+    }
+
     public int status() {
         return status;
     }
