@@ -6,12 +6,18 @@ import static org.junit.jupiter.api.Assertions.assertThrows;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
 import backstate.config.Settings;
+import backstate.store.SqliteDatabase;
 import java.io.IOException;
 import java.net.InetAddress;
 import java.net.ServerSocket;
 import java.nio.charset.StandardCharsets;
 import java.nio.file.Files;
 import java.nio.file.Path;
+import java.sql.Connection;
+import java.sql.DriverManager;
+import java.sql.ResultSet;
+import java.sql.Statement;
+import java.time.Clock;
 import java.util.ArrayList;
 import java.util.List;
 import java.util.Map;
@@ -140,6 +146,28 @@ class StartErrorsTest {
         String line = oneLine(backstate("demo", "--port", "0", "--database", database.toString()), Launcher.START_FAILED);
         assertTrue(line.startsWith("backstate demo: cannot start: database " + database + ": ") && line.contains("not a database"),
                 line);
+    }
+
+    @Test
+    void a_database_migrated_by_a_newer_build_is_refused_with_one_line_naming_both_versions() throws Exception {
+        Path database = dir.resolve("newer.db");
+        new SqliteDatabase(database, Clock.systemUTC()).close();
+        int shipped;
+        try (Connection c = DriverManager.getConnection("jdbc:sqlite:" + database);
+             Statement s = c.createStatement()) {
+            // Flyway's own history table, as a newer build's migration would leave it.
+            try (ResultSet rs = s.executeQuery("SELECT MAX(CAST(version AS INTEGER)) FROM flyway_schema_history")) {
+                rs.next();
+                shipped = rs.getInt(1);
+            }
+            s.executeUpdate("INSERT INTO flyway_schema_history (installed_rank, version, description, type, script,"
+                    + " checksum, installed_by, execution_time, success) VALUES (1000, '" + (shipped + 1)
+                    + "', 'from a newer build', 'SQL', 'V" + (shipped + 1) + "__from_a_newer_build.sql', 0, 'test', 1, 1)");
+        }
+        assertEquals("backstate serve: cannot start: database " + database + ": the schema is at version " + (shipped + 1)
+                        + ", newer than this build's latest " + shipped
+                        + "; run the newer build, or restore a copy made before it migrated",
+                oneLine(backstate("serve", "--port", "0", "--database", database.toString()), Launcher.START_FAILED));
     }
 
     @Test

@@ -70,6 +70,21 @@ public final class ApiProblem extends RuntimeException {
         return new ApiProblem(503, "service-busy", "Service busy, retry later", detail, null);
     }
 
+    /**
+     * A stored item (or the database file) cannot be read back: 500, the one deliberate 5xx that
+     * is not 503, because retrying reads the same damaged bytes and the request was fine. Its own
+     * type lets a dashboard show "this item is damaged" and go on with the rest.
+     */
+    public static ApiProblem storedDataCorrupt(String item) {
+        return new ApiProblem(500, "stored-data-corrupt", "Stored data is corrupt",
+                item + " is damaged in storage and cannot be shown; the operator has it in the log", null);
+    }
+
+    /** The database's start check found damage: not ready (503), until an operator restores the file. */
+    public static ApiProblem databaseDamaged(String detail) {
+        return new ApiProblem(503, "database-damaged", "The database is damaged", detail, null);
+    }
+
     public int status() {
         return status;
     }

@@ -202,8 +202,9 @@ final class FleetRoutes {
         return java.util.Collections.unmodifiableMap(sorts);
     }
 
-    private ModelDocument document(ModelVersionRow v) throws JsonProcessingException {
-        return mapper.readValue(v.documentJson(), ModelDocument.class);
+    private ModelDocument document(ModelVersionRow v) {
+        return StoredJson.read(mapper, v.documentJson(), ModelDocument.class,
+                "model version " + v.family() + "/" + v.version());
     }
 
     private static List<String> names(List<Quantity> quantities) {

@@ -39,7 +39,7 @@ final class JobRoutes {
     private Views.Job view(JobRow job) throws JsonProcessingException {
         String estimateId = "succeeded".equals(job.state()) && "estimate".equals(job.kind())
                 ? estimates.findEstimateForJob(job.id()).map(e -> e.id()).orElse(null) : null;
-        FailureDetails failure = job.failureJson() == null ? null : mapper.readValue(job.failureJson(), FailureDetails.class);
+        FailureDetails failure = StoredJson.read(mapper, job.failureJson(), FailureDetails.class, "the failure of job " + job.id());
         return Views.Job.of(job, estimateId, failure);
     }
 

@@ -33,7 +33,8 @@ final class PlanRoutes {
         int version = Params.pathVersion(ctx);
         ModelVersionRow row = store.findVersion(family, version)
                 .orElseThrow(() -> ApiProblem.notFound("model version " + family + "/" + version));
-        ModelDocument document = mapper.readValue(row.documentJson(), ModelDocument.class);
+        ModelDocument document = StoredJson.read(mapper, row.documentJson(), ModelDocument.class,
+                "model version " + family + "/" + version);
         StateSpaceModel model = document.toModel(limits);
         SamplingPlanner.Plan plan = read(ctx).toPlan(document, model);
         List<SamplingPlanner.SubsetPlan> result = SamplingPlanner.plan(model, plan);

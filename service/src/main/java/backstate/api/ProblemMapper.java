@@ -6,6 +6,7 @@ import backstate.formats.JsonPaths;
 import backstate.formats.MatrixEntryException;
 import backstate.intake.TraceRefused;
 import backstate.regression.RegressionRefused;
+import backstate.store.CorruptDataException;
 import backstate.store.IdempotencyKeyReusedException;
 import backstate.store.InvalidCursorException;
 import backstate.store.QueueFullException;
@@ -62,6 +63,10 @@ final class ProblemMapper {
         routes.exception(StoreUnavailableException.class, (e, ctx) -> {
             LOG.warn("database unavailable: {}", e.getMessage());
             busy(ctx, "the database is unavailable right now; retry later");
+        });
+        routes.exception(CorruptDataException.class, (e, ctx) -> {
+            LOG.error("stored data corrupt ({} {}): {}", ctx.method(), ctx.path(), e.getMessage(), e);
+            write(ctx, ApiProblem.storedDataCorrupt(e.item()).toProblem());
         });
         routes.exception(HttpResponseException.class, (e, ctx) -> write(ctx, fromStatus(e.getStatus(), e.getMessage())));
         routes.exception(Exception.class, (e, ctx) -> {

@@ -94,7 +94,8 @@ final class RegressionRoutes {
         if (!run.state().equals(job.state())) {
             job = jobs.findJob(seen.id()).orElseThrow();
         }
-        return RegressionViews.Regression.of(run, job, mapper.readValue(job.paramsJson(), RegressionParams.class));
+        return RegressionViews.Regression.of(run, job, StoredJson.read(mapper, job.paramsJson(),
+                RegressionParams.class, "the request of regression run " + run.id()));
     }
 
     private RegressionRequest read(Context ctx) throws Exception {

@@ -34,7 +34,8 @@ final class RegressionViews {
             return new Regression(run.id(), run.family(), run.baseline(), run.candidate(), job.state(),
                     new Views.Progress(job.progressDone(), params.traceIds().size()),
                     run.cancelRequestedAtOrNull() != null, text(job.createdAt()), text(job.startedAt()),
-                    text(job.finishedAt()), run.passOrNull(), job.errors(), Request.of(params), job.resultJson(),
+                    text(job.finishedAt()), run.passOrNull(), job.errors(), Request.of(params),
+                    StoredJson.checked(job.resultJson(), "the result of regression run " + run.id()),
                     Map.of("self", "/v1/regressions/" + run.id(), "cancel", "/v1/regressions/" + run.id() + "/cancel"));
         }
     }

@@ -44,10 +44,14 @@ final class ServiceRoutes {
         ctx.json(Map.of("status", "alive"));
     }
 
-    /** Ready when the database answers and the queue is below its limit. */
+    /** Ready when the database answers, its start check found no damage, and the queue is below its limit. */
     void ready(Context ctx) {
         if (!store.isReachable()) {
             throw ApiProblem.busy("the database is not reachable");
+        }
+        String damage = store.damageOrNull();
+        if (damage != null) {
+            throw ApiProblem.databaseDamaged("the database is damaged (" + damage + "); restore it from a backup");
         }
         int depth = queued.getAsInt();
         if (depth >= jammedAt) {

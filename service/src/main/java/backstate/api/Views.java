@@ -41,7 +41,12 @@ final class Views {
                    String createdAt, @JsonRawValue String observability, @JsonRawValue String document) {
         static Version of(ModelVersionRow row) {
             return new Version(row.family(), row.version(), row.status(), row.timeDomain(), row.states(), row.outputs(),
-                    row.inputs(), row.createdAt().toString(), row.observabilityJson(), row.documentJson());
+                    row.inputs(), row.createdAt().toString(),
+                    StoredJson.checked(row.observabilityJson(), item(row)), StoredJson.checked(row.documentJson(), item(row)));
+        }
+
+        private static String item(ModelVersionRow row) {
+            return "model version " + row.family() + "/" + row.version();
         }
     }
 
@@ -60,7 +65,7 @@ final class Views {
             return new Job(row.id(), row.kind(), row.state(), row.traceId(), row.attempt(), text(row.createdAt()),
                     text(row.startedAt()), text(row.finishedAt()), row.errors(),
                     row.progressTotal() > 0 ? new Progress(row.progressDone(), row.progressTotal()) : null,
-                    estimateId, row.resultJson(), directions);
+                    estimateId, StoredJson.checked(row.resultJson(), "the result of job " + row.id()), directions);
         }
     }
 
@@ -92,7 +97,7 @@ final class Views {
             return new Estimate(row.id(), row.unitId(), row.family(), row.version(), row.jobId(), row.traceId(),
                     RecordingTime.format(row.windowStart()), RecordingTime.format(row.windowEnd()),
                     row.receivedAt().toString(), row.createdAt().toString(), row.chi2PerDof(), row.flags(),
-                    row.summaryJson(), CAUTION);
+                    StoredJson.checked(row.summaryJson(), "estimate " + row.id()), CAUTION);
         }
     }
 

@@ -2,11 +2,15 @@ package backstate.regression;
 
 import backstate.formats.Limits;
 import backstate.formats.ModelDocument;
+import backstate.formats.RecordingTime;
+import backstate.solving.CorruptTraceException;
 import backstate.solving.StoredTraceSolver;
 import backstate.store.ModelCatalogue;
 import backstate.store.ModelVersionRow;
 import backstate.store.TraceRef;
 import java.util.List;
+import org.slf4j.Logger;
+import org.slf4j.LoggerFactory;
 
 /**
  * A run's two model versions, loaded once per job: they solve its traces in pairs
@@ -14,6 +18,7 @@ import java.util.List;
  * its own chunks all walk their traces through {@link #walk}, so they compare alike.
  */
 final class ComparedVersions {
+    private static final Logger LOG = LoggerFactory.getLogger(ComparedVersions.class);
 
     /** Why a walk over traces stopped before its end. */
     enum Halt {
@@ -75,11 +80,26 @@ final class ComparedVersions {
             if (halt != null || done == traceIds.size()) {
                 return halt;
             }
-            StoredTraceSolver.Loaded loaded = stored.load(traceIds.get(done));
-            TraceRef trace = loaded.ref();
-            pair.compare(report, trace.unitId(), trace.id(), trace.receivedAt().toString(), trace.version(),
-                    loaded.model().document(), loaded.parsed());
+            compare(traceIds.get(done), report);
         }
+    }
+
+    /** A trace whose stored payload is damaged is compared by neither version, and the walk goes on. */
+    private void compare(String traceId, RegressionReport report) {
+        StoredTraceSolver.Loaded loaded;
+        try {
+            loaded = stored.load(traceId);
+        } catch (CorruptTraceException e) {
+            LOG.error("regression: {}; its unit is reported as not compared", e.getMessage());
+            TraceRef trace = e.ref();
+            Fit unreadable = Fit.notSolved(Fit.Status.UNREADABLE, e.getMessage());
+            report.add(trace.unitId(), trace.id(), RecordingTime.format(e.windowStart()), trace.receivedAt().toString(),
+                    trace.version(), unreadable, unreadable);
+            return;
+        }
+        TraceRef trace = loaded.ref();
+        pair.compare(report, trace.unitId(), trace.id(), trace.receivedAt().toString(), trace.version(),
+                loaded.model().document(), loaded.parsed());
     }
 
     private static ModelVersionRow version(ModelCatalogue models, String family, int version) {

@@ -21,7 +21,9 @@ record Fit(Status status, String message, double chiSquare, int degreesOfFreedom
         /** The trace does not determine x0 under this version. */
         UNOBSERVABLE,
         /** The trace (its stored options, e.g. a prior of another size) does not fit this version. */
-        INVALID
+        INVALID,
+        /** The trace's stored payload is damaged: neither version could read it. */
+        UNREADABLE
     }
 
     static Fit of(DocumentSolver.Outcome outcome, ModelDocument model) {

@@ -140,7 +140,7 @@ public final class RegressionReport {
         List<RegressionResult.TraceResult> results = traces.stream().map(TraceComparison::toResult).toList();
         if (!compared) {
             return new RegressionResult.UnitResult(unitId, false, null, null, null, null, null, false,
-                    List.of("the baseline solved none of this unit's traces"), results);
+                    notComparedReasons(traces), results);
         }
         Double perDofB = dofB > 0 ? EstimateDocument.num(chi2B / dofB) : null;
         Double perDofC = dofC > 0 ? EstimateDocument.num(chi2C / dofC) : null;
@@ -158,6 +158,13 @@ public final class RegressionReport {
                 : UNCHANGED;
         return new RegressionResult.UnitResult(unitId, true, change, perDofB, perDofC, delta,
                 EstimateDocument.num(maxShift), !reasons.isEmpty(), reasons, results);
+    }
+
+    /** Why a unit is not compared: each damaged trace by ID, else that the baseline solved none. */
+    private static List<String> notComparedReasons(List<TraceComparison> traces) {
+        List<String> reasons = traces.stream().filter(t -> t.baseline().status() == Fit.Status.UNREADABLE)
+                .map(t -> "trace " + t.traceId() + " could not be read: its stored payload is damaged").toList();
+        return reasons.isEmpty() ? List.of("the baseline solved none of this unit's traces") : reasons;
     }
 
     private RegressionResult.Verdict verdict(int compared, int beyond) {

@@ -10,9 +10,12 @@ import backstate.jobs.ClaimedJob;
 import backstate.jobs.JobHandler;
 import backstate.jobs.JobOutcome;
 import backstate.jobs.NewEstimate;
+import backstate.store.CorruptDataException;
 import com.fasterxml.jackson.databind.ObjectMapper;
 import io.micrometer.core.instrument.MeterRegistry;
 import io.micrometer.core.instrument.Timer;
+import org.slf4j.Logger;
+import org.slf4j.LoggerFactory;
 
 /**
  * Runs an 'estimate' job: loads the stored trace and its model version, solves, and returns the
@@ -22,6 +25,7 @@ import io.micrometer.core.instrument.Timer;
  * {@link backstate.jobs.HandlersByKind} by App.
  */
 public final class EstimateJobHandler implements JobHandler {
+    private static final Logger LOG = LoggerFactory.getLogger(EstimateJobHandler.class);
     private final StoredTraceSolver solver;
     private final ObjectMapper mapper;
     private final Timer solveTimer;
@@ -37,7 +41,14 @@ public final class EstimateJobHandler implements JobHandler {
         if (!"estimate".equals(job.kind())) {
             return new JobOutcome.Failed("no handler for job kind " + job.kind());
         }
-        StoredTraceSolver.Loaded loaded = solver.load(job.traceId());
+        StoredTraceSolver.Loaded loaded;
+        try {
+            loaded = solver.load(job.traceId());
+        } catch (CorruptDataException e) {
+            // Reading again reads the same damaged bytes: fail now, saying what is damaged.
+            LOG.error("job {}: {}", job.id(), e.getMessage());
+            return new JobOutcome.Failed(e.item() + " is damaged in storage and cannot be solved");
+        }
         DocumentSolver.Outcome outcome;
         try {
             outcome = solveTimer.recordCallable(() -> solver.solve(loaded, false));

@@ -41,14 +41,26 @@ public final class StoredTraceSolver {
         }
     }
 
-    /** Reads and decodes a trace; a missing trace or version is a broken database, not bad input. */
+    /**
+     * Reads and decodes a trace; a missing trace or version is a broken database, not bad input,
+     * and a payload that does not decode is {@link CorruptTraceException}.
+     */
     public Loaded load(String traceId) {
         TraceRow row = traces.findTrace(traceId)
                 .orElseThrow(() -> new IllegalStateException("trace " + traceId + " is missing"));
         ModelVersionRow version = catalogue.findVersion(row.family(), row.version()).orElseThrow(() ->
                 new IllegalStateException("model version " + row.family() + "/" + row.version() + " is missing"));
         TraceRef ref = new TraceRef(row.id(), row.unitId(), row.family(), row.version(), row.receivedAt());
-        return new Loaded(ref, model(version), codec.decode(row.payload()));
+        return new Loaded(ref, model(version), decode(row, ref));
+    }
+
+    /** The codec checks what it reads and throws on bad bytes; whatever it throws, the bytes are bad. */
+    private ParsedTrace decode(TraceRow row, TraceRef ref) {
+        try {
+            return codec.decode(row.payload());
+        } catch (RuntimeException e) {
+            throw new CorruptTraceException(ref, row.windowStart(), e);
+        }
     }
 
     /** A version's model, parsed and checked once ({@link CheckedModels}). */

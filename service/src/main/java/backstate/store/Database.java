@@ -42,6 +42,15 @@ public interface Database extends AutoCloseable {
         // Nothing to listen for: every enqueue is this process's own.
     }
 
+    /**
+     * What the start's integrity check found wrong with the database, on one line; null when it
+     * found nothing. SQLite checks its file at open; PostgreSQL checks its own pages as it reads
+     * them, so a start there runs nothing beyond the trivial query of {@link #isReachable()}.
+     */
+    default String damageOrNull() {
+        return null;
+    }
+
     /** True when a trivial query succeeds; never throws. */
     boolean isReachable();
 

@@ -3,6 +3,9 @@ package backstate.store;
 import javax.sql.DataSource;
 import org.flywaydb.core.Flyway;
 import org.flywaydb.core.api.FlywayException;
+import org.flywaydb.core.api.MigrationInfo;
+import org.flywaydb.core.api.MigrationInfoService;
+import org.flywaydb.core.api.MigrationVersion;
 
 /**
  * Brings a database's schema up to date with the migrations shipped in the jar, one folder per
@@ -22,9 +25,29 @@ final class Migrations {
      */
     static void migrate(DataSource dataSource, String location) {
         try {
-            Flyway.configure().dataSource(dataSource).locations(location).load().migrate();
+            Flyway flyway = Flyway.configure().dataSource(dataSource).locations(location).load();
+            refuseNewerSchema(flyway.info());
+            flyway.migrate();
         } catch (FlywayException e) {
             throw new StoreException("migrating the schema failed: " + e.getMessage(), e);
+        }
+    }
+
+    /**
+     * A database another, newer build migrated past the migrations this jar ships: Flyway would
+     * only warn and go on, and this build would then write rows the newer schema does not expect.
+     */
+    private static void refuseNewerSchema(MigrationInfoService info) {
+        MigrationInfo current = info.current();
+        MigrationVersion shipped = MigrationVersion.EMPTY;
+        for (MigrationInfo m : info.all()) {
+            if (m.getState().isResolved() && m.getVersion() != null && m.getVersion().compareTo(shipped) > 0) {
+                shipped = m.getVersion();
+            }
+        }
+        if (current != null && current.getVersion() != null && current.getVersion().compareTo(shipped) > 0) {
+            throw new StoreException("the schema is at version " + current.getVersion() + ", newer than this build's"
+                    + " latest " + shipped + "; run the newer build, or restore a copy made before it migrated", null);
         }
     }
 }

@@ -27,6 +27,7 @@ public final class SqliteDatabase implements Database {
     private final SqlFleet fleet;
     private final SqlApiKeys keys;
     private final SqlRegressions regressions;
+    private final String damage;
 
     public SqliteDatabase(Path file, Clock clock) {
         this(file, clock, SqliteSettings.defaults());
@@ -43,6 +44,7 @@ public final class SqliteDatabase implements Database {
         Expect.notNull("settings", settings);
         this.db = new SqliteConnections(file, settings, writerDecorator);
         try {
+            this.damage = SqliteQuickCheck.damageOrNull(db.dataSource(), SqliteQuickCheck.DEFAULT_BUDGET);
             Migrations.migrate(db.dataSource(), Migrations.SQLITE);
             this.models = new SqlModels(db);
             this.traces = new SqlSubmissions(db);
@@ -96,6 +98,12 @@ public final class SqliteDatabase implements Database {
     @Override
     public RegressionStore regressions() {
         return regressions;
+    }
+
+    /** What the start's {@code PRAGMA quick_check} found ({@link SqliteQuickCheck}); null when the file is sound. */
+    @Override
+    public String damageOrNull() {
+        return damage;
     }
 
     @Override

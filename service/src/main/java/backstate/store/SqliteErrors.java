@@ -15,12 +15,18 @@ final class SqliteErrors {
     private static final int SQLITE_BUSY = 5;
     private static final int SQLITE_LOCKED = 6;
     private static final int SQLITE_READONLY = 8;
+    private static final int SQLITE_CORRUPT = 11;
     private static final int SQLITE_FULL = 13;
+    private static final int SQLITE_NOTADB = 26;
 
     private SqliteErrors() {
     }
 
     static StoreException translate(SQLException e) {
+        int primary = e.getErrorCode() & PRIMARY_CODE_MASK;
+        if (primary == SQLITE_CORRUPT || primary == SQLITE_NOTADB) {
+            return new CorruptDataException("the database file", "SQLite reports it damaged: " + e.getMessage(), e);
+        }
         String reason = unavailableReason(e.getErrorCode() & PRIMARY_CODE_MASK);
         if (reason != null) {
             return new StoreUnavailableException(reason, e);
