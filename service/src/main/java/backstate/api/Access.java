@@ -1,8 +1,8 @@
 package backstate.api;
 
 /**
- * Who may call a route. Enforced in one place before any handler runs (see the security model in
- * README.md): admin keys may call everything; gateway keys are scoped to a unit-ID pattern.
+ * Who may call a route. Enforced in one place before any handler runs; every route's rule is
+ * listed in docs/security.md ("Who may call what"), which AccessMatrixTest checks the server against.
  */
 public enum Access {
     /** No key needed: the start page, liveness, readiness, metrics and the API document. */
@@ -14,10 +14,15 @@ public enum Access {
     /** Admin, or a gateway key whose unit pattern matches the path's {unitId}: trace posts. */
     GATEWAY_FOR_UNIT,
     /**
-     * Admin, reader, or a gateway key scoped to the job's unit: job state and cancel. Not pipeline
-     * keys: the job routes include cancelling a unit's estimate job.
+     * Admin, reader, or a gateway key scoped to the job's unit: reading a job's state. Not
+     * pipeline keys: a pipeline follows its run at /v1/regressions/{id}.
      */
     JOB_OF_UNIT,
+    /**
+     * Admin, or a gateway key scoped to the job's unit: cancelling a job. Not readers (read-only)
+     * nor pipelines (they cancel nothing).
+     */
+    GATEWAY_FOR_JOB,
     /** Admin, reader or pipeline keys: estimates, fleet views, regression reads, planning. */
     READER,
     /** Admin or pipeline keys: starting a regression run (what a CI pipeline gates a release on). */

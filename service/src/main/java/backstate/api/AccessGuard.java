@@ -46,6 +46,7 @@ final class AccessGuard {
     Handler wrap(Route route) {
         requireParam(route, Access.GATEWAY_FOR_UNIT, UNIT_PARAM);
         requireParam(route, Access.JOB_OF_UNIT, JOB_PARAM);
+        requireParam(route, Access.GATEWAY_FOR_JOB, JOB_PARAM);
         if (!enabled || route.access() == Access.PUBLIC) {
             return route.handler();
         }
@@ -79,11 +80,17 @@ final class AccessGuard {
             case READER -> caller.is(Role.ADMIN) || caller.is(Role.READER) || caller.is(Role.PIPELINE);
             case PIPELINE -> caller.is(Role.ADMIN) || caller.is(Role.PIPELINE);
             case GATEWAY_FOR_UNIT -> caller.is(Role.ADMIN) || caller.gatewayFor(ctx.pathParam(UNIT_PARAM));
-            // Only gateways need the lookup. A job without a trace (a regression) or an unknown
-            // job has no unit, so no gateway may see it, and "unknown" and "not yours" look alike.
-            case JOB_OF_UNIT -> caller.is(Role.ADMIN) || caller.is(Role.READER)
-                    || caller.is(Role.GATEWAY) && store.unitOfJob(ctx.pathParam(JOB_PARAM)).map(caller::gatewayFor).orElse(false);
+            case JOB_OF_UNIT -> caller.is(Role.ADMIN) || caller.is(Role.READER) || gatewayForJob(caller, ctx);
+            case GATEWAY_FOR_JOB -> caller.is(Role.ADMIN) || gatewayForJob(caller, ctx);
         };
+    }
+
+    /**
+     * Only gateways need the lookup. A job without a trace (a regression) or an unknown job has
+     * no unit, so no gateway may reach it, and "unknown" and "not yours" look alike.
+     */
+    private boolean gatewayForJob(Caller caller, Context ctx) {
+        return caller.is(Role.GATEWAY) && store.unitOfJob(ctx.pathParam(JOB_PARAM)).map(caller::gatewayFor).orElse(false);
     }
 
     private static void requireParam(Route route, Access access, String param) {

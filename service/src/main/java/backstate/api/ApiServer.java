@@ -153,7 +153,7 @@ public final class ApiServer implements AutoCloseable {
                 new Route(get, "/v1/units/{unitId}/estimates", Access.READER, estimates::history),
                 new Route(get, "/v1/units/{unitId}/estimates/latest", Access.READER, estimates::latest),
                 new Route(get, "/v1/jobs/{jobId}", Access.JOB_OF_UNIT, jobs::get),
-                new Route(post, "/v1/jobs/{jobId}/cancel", Access.JOB_OF_UNIT, jobs::cancel),
+                new Route(post, "/v1/jobs/{jobId}/cancel", Access.GATEWAY_FOR_JOB, jobs::cancel),
                 new Route(get, "/v1/estimates/{estimateId}", Access.READER, estimates::get),
                 new Route(get, "/v1/estimates/{estimateId}/series", Access.READER, estimates::series),
                 new Route(post, "/v1/regressions", Access.PIPELINE, regressions::create),

@@ -13,6 +13,8 @@ import java.sql.Statement;
 import java.util.ArrayList;
 import java.util.EnumSet;
 import java.util.List;
+import java.util.Locale;
+import java.util.Map;
 import java.util.Set;
 import java.util.TreeSet;
 import java.util.function.Predicate;
@@ -31,11 +33,12 @@ import org.junit.jupiter.params.ParameterizedClass;
 import org.junit.jupiter.params.provider.EnumSource;
 
 /**
- * Every route in the server's own route table × every kind of caller × the subjects the rule
- * depends on, through real HTTP. The expected answer is written from the rules documented on
- * {@link Access} as a function of (access, role, scope), not from a list of paths, so routes
- * added to the table later are walked and checked without touching this test. The whole matrix
- * runs on each database engine: keys are looked up in the store, so each engine must refuse alike.
+ * Every route the server registers × every kind of caller × the subjects the rule depends on,
+ * through real HTTP, against the route × role table of docs/security.md ({@link DocumentedAccess}).
+ * The expected answer never comes from the route table under test, so a route carrying the wrong
+ * {@link Access} value fails here; and a route missing from the documentation, or documented but
+ * not served, fails too. The whole matrix runs on each database engine: keys are looked up in the
+ * store, so each engine must refuse alike.
  */
 @ParameterizedClass
 @EnumSource(Engine.class)
@@ -62,6 +65,7 @@ class AccessMatrixTest {
     record Subject(String name, String unitId, String jobId, String unitOrNull) {
     }
 
+    final Map<String, Map<String, String>> documented = DocumentedAccess.table();
     TestServer server;
     List<Caller> callers;
     List<Subject> jobs;
@@ -108,30 +112,24 @@ class AccessMatrixTest {
     }
 
     /**
-     * The rules of {@link Access}, restated: 0 when the request reaches its handler, else the
-     * status of the refusal. The switch names every Access value, so a new one fails to compile
-     * here until its rule is written down.
+     * The documented cell's verdict: 0 when the request reaches its handler, else the status of
+     * the refusal. A caller without a valid key reads the "no key" column.
      */
-    static int expected(Access access, Caller c, Subject s) {
-        if (access == Access.PUBLIC) {
-            return 0;
-        }
-        if (c.role() == null) {
-            return 401;
-        }
-        boolean admin = c.role() == Role.ADMIN;
-        boolean reader = c.role() == Role.READER;
-        boolean pipeline = c.role() == Role.PIPELINE;
+    static int expected(Map<String, String> row, Caller c, Subject s) {
+        String column = c.role() == null ? "no key" : c.role().name().toLowerCase(Locale.ROOT);
+        String cell = row.get(column);
+        int refusal = c.role() == null ? 401 : 403;
         boolean gatewayForSubject = c.role() == Role.GATEWAY && s.unitOrNull() != null && c.units().test(s.unitOrNull());
-        boolean allowed = switch (access) {
-            case PUBLIC, ANY_KEY -> true;
-            case ADMIN -> admin;
-            case READER -> admin || reader || pipeline;
-            case PIPELINE -> admin || pipeline;
-            case GATEWAY_FOR_UNIT -> admin || gatewayForSubject;
-            case JOB_OF_UNIT -> admin || reader || gatewayForSubject;
+        return switch (cell) {
+            case DocumentedAccess.YES -> 0;
+            case DocumentedAccess.NO -> refusal;
+            case DocumentedAccess.GATEWAY_OWN_UNITS, DocumentedAccess.GATEWAY_OWN_UNITS_JOBS -> gatewayForSubject ? 0 : refusal;
+            default -> throw new AssertionError("docs/security.md: unknown cell '" + cell + "' in column " + column);
         };
-        return allowed ? 0 : 403;
+    }
+
+    static String key(Route r) {
+        return r.method().name() + " " + r.path();
     }
 
     List<Route> routes() {
@@ -155,33 +153,47 @@ class AccessMatrixTest {
     }
 
     @Test
-    void matrix_has_the_expected_refusals_for_the_known_rules() {
-        // Spot checks of the restated rules themselves, so a slip in expected() cannot hide one in the guard.
-        Caller gateway = callers.get(1);
-        Caller reader = callers.get(3);
-        Caller pipeline = callers.get(4);
-        assertEquals(0, expected(Access.GATEWAY_FOR_UNIT, gateway, units.get(0)));
-        assertEquals(403, expected(Access.GATEWAY_FOR_UNIT, gateway, units.get(1)));
-        assertEquals(403, expected(Access.JOB_OF_UNIT, gateway, jobs.get(2)));
-        assertEquals(0, expected(Access.JOB_OF_UNIT, reader, jobs.get(2)));
-        assertEquals(403, expected(Access.ADMIN, reader, units.get(0)));
-        assertEquals(401, expected(Access.ANY_KEY, callers.get(8), units.get(0)));
-        assertEquals(0, expected(Access.PIPELINE, pipeline, units.get(0)));
-        assertEquals(403, expected(Access.PIPELINE, reader, units.get(0)));
-        assertEquals(0, expected(Access.READER, pipeline, units.get(0)));
-        assertEquals(403, expected(Access.JOB_OF_UNIT, pipeline, jobs.get(0)));
-        assertEquals(403, expected(Access.ADMIN, pipeline, units.get(0)));
-        assertEquals(403, expected(Access.GATEWAY_FOR_UNIT, pipeline, units.get(0)));
+    void docs_table_lists_exactly_the_routes_the_server_serves() {
+        Set<String> served = routes().stream().map(AccessMatrixTest::key).collect(Collectors.toCollection(TreeSet::new));
+        assertEquals(served, new TreeSet<>(documented.keySet()));
+    }
+
+    @Test
+    void docs_table_scopes_gateways_only_by_the_parameter_the_route_has() {
+        for (Map.Entry<String, Map<String, String>> row : documented.entrySet()) {
+            for (Map.Entry<String, String> cell : row.getValue().entrySet()) {
+                String scoped = switch (cell.getValue()) {
+                    case DocumentedAccess.GATEWAY_OWN_UNITS -> "{" + AccessGuard.UNIT_PARAM + "}";
+                    case DocumentedAccess.GATEWAY_OWN_UNITS_JOBS -> "{" + AccessGuard.JOB_PARAM + "}";
+                    default -> null;
+                };
+                assertTrue(scoped == null || cell.getKey().equals("gateway") && row.getKey().contains(scoped),
+                        row.getKey() + " " + cell.getKey() + ": " + cell.getValue());
+            }
+        }
+    }
+
+    @Test
+    void docs_table_keeps_readers_read_only_and_lets_gateways_cancel_their_units_jobs() {
+        // The decision of issue 14: a reader changes nothing; a gateway may cancel what it posted.
+        for (Map.Entry<String, Map<String, String>> row : documented.entrySet()) {
+            String reader = row.getValue().get("reader");
+            boolean readOnly = row.getKey().startsWith("GET ") || row.getKey().endsWith("/plans");
+            assertTrue(readOnly || reader.equals(DocumentedAccess.NO), row.getKey() + " reader: " + reader);
+        }
+        assertEquals(Map.of("no key", "—", "admin", "yes", "gateway", "its units' jobs", "reader", "—", "pipeline", "—"),
+                documented.get("POST /v1/jobs/{jobId}/cancel"));
     }
 
     @TestFactory
     List<DynamicTest> every_route_answers_every_caller_by_its_access_rule() {
         List<DynamicTest> cells = new ArrayList<>();
         for (Route r : routes()) {
+            assertTrue(documented.containsKey(key(r)), () -> key(r) + " is not in docs/security.md's table");
             for (Subject s : subjects(r)) {
                 String path = fill(r.path(), s);
                 for (Caller c : callers) {
-                    int denial = expected(r.access(), c, s);
+                    int denial = expected(documented.get(key(r)), c, s);
                     String name = r.method() + " " + r.path() + " [" + s.name() + "] as " + c + " → "
                             + (denial == 0 ? "handler" : Integer.toString(denial));
                     cells.add(DynamicTest.dynamicTest(name, () -> check(name, r, path, c, s, denial)));

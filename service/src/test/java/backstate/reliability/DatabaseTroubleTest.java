@@ -3,7 +3,6 @@ package backstate.reliability;
 import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertFalse;
 import static org.junit.jupiter.api.Assertions.assertTrue;
-import static org.junit.jupiter.api.Assumptions.assumeTrue;
 
 import backstate.api.TestServer;
 import java.io.IOException;
@@ -67,8 +66,7 @@ class DatabaseTroubleTest {
     void a_full_disk_gets_503_with_retry_after_and_leaves_the_file_intact() throws Exception {
         Path mount = dir.resolve("small-disk");
         Files.createDirectories(mount);
-        assumeTrue(run("mount", "-t", "tmpfs", "-o", "size=" + TMPFS_SIZE, "tmpfs", mount.toString()),
-                "needs root with CAP_SYS_ADMIN to mount a small tmpfs; skipped");
+        mountSmallDisk(mount);
         try {
             ServerDb db = new ServerDb(mount.resolve("full.db"));
             ReeferTraces reefer = new ReeferTraces(TestServer.TEST_DATA);
@@ -110,8 +108,7 @@ class DatabaseTroubleTest {
         // this is the read-only case that can happen: the service is started on one.
         Path mount = dir.resolve("read-only");
         Files.createDirectories(mount);
-        assumeTrue(run("mount", "-t", "tmpfs", "-o", "size=" + TMPFS_SIZE, "tmpfs", mount.toString()),
-                "needs root with CAP_SYS_ADMIN to mount a small tmpfs; skipped");
+        mountSmallDisk(mount);
         try {
             ServerDb db = new ServerDb(mount.resolve("ro.db"));
             Path log = dir.resolve("server.log");
@@ -165,15 +162,31 @@ class DatabaseTroubleTest {
         }
     }
 
+    /** Mounts a small tmpfs at {@code mount}; where that cannot be done the test fails on CI, else is skipped. */
+    private static void mountSmallDisk(Path mount) {
+        Outcome mounted = exec("mount", "-t", "tmpfs", "-o", "size=" + TMPFS_SIZE, "tmpfs", mount.toString());
+        FaultConditions.require(mounted.ok(), "a small filesystem: mount -t tmpfs needs root with CAP_SYS_ADMIN, and said: "
+                + mounted.output().strip());
+    }
+
     private static boolean run(String... command) {
+        return exec(command).ok();
+    }
+
+    /** A command's exit status (0 within 30 s is ok) and its output, stdout and stderr together. */
+    private record Outcome(boolean ok, String output) {
+    }
+
+    private static Outcome exec(String... command) {
         try {
-            Process p = new ProcessBuilder(command).redirectErrorStream(true).redirectOutput(ProcessBuilder.Redirect.DISCARD).start();
-            return p.waitFor(30, TimeUnit.SECONDS) && p.exitValue() == 0;
+            Process p = new ProcessBuilder(command).redirectErrorStream(true).start();
+            String output = new String(p.getInputStream().readAllBytes(), java.nio.charset.StandardCharsets.UTF_8);
+            return new Outcome(p.waitFor(30, TimeUnit.SECONDS) && p.exitValue() == 0, output);
         } catch (IOException e) {
-            return false;
+            return new Outcome(false, e.getMessage());
         } catch (InterruptedException e) {
             Thread.currentThread().interrupt();
-            return false;
+            return new Outcome(false, "interrupted");
         }
     }
 }

@@ -24,6 +24,10 @@ class PipelineRoleMigrationTest {
     static final String COLUMNS = "id, role, unit_pattern, label, hex(salt), hex(hash), created_at, created_by, revoked_at";
     static final String SALT = "x'" + "11".repeat(16) + "'";
     static final String HASH = "x'" + "22".repeat(32) + "'";
+    /** The CHECKs as written in V4 and V8; SQLite quotes them in "CHECK constraint failed: …". */
+    static final String V4_ROLES = "CHECK constraint failed: role IN ('admin', 'gateway', 'reader')";
+    static final String V8_ROLES = "CHECK constraint failed: role IN ('admin', 'gateway', 'reader', 'pipeline')";
+    static final String PATTERN_IFF_GATEWAY = "CHECK constraint failed: (role = 'gateway') = (unit_pattern IS NOT NULL)";
 
     @TempDir
     Path dir;
@@ -37,7 +41,7 @@ class PipelineRoleMigrationTest {
             s.executeUpdate(insert("00000000000000a1", "admin", null, "first admin", 10, null, null));
             s.executeUpdate(insert("00000000000000b2", "gateway", "'RCX-1*'", "yard", 20, "'00000000000000a1'", null));
             s.executeUpdate(insert("00000000000000c3", "reader", null, "dashboard", 30, "'00000000000000a1'", "40"));
-            assertRejected(c, insert("00000000000000d4", "pipeline", null, "ci", 50, null, null));
+            assertRejected(c, insert("00000000000000d4", "pipeline", null, "ci", 50, null, null), V4_ROLES);
         }
         List<List<String>> before = rows(file);
 
@@ -48,11 +52,12 @@ class PipelineRoleMigrationTest {
         assertEquals(before, rows(file));
         try (Connection c = open(file); Statement s = c.createStatement()) {
             s.executeUpdate(insert("00000000000000d4", "pipeline", null, "release pipeline", 50, "'00000000000000a1'", null));
-            assertRejected(c, insert("00000000000000e5", "owner", null, "unknown role", 60, null, null));
-            assertRejected(c, insert("00000000000000f6", "gateway", null, "gateway without a pattern", 60, null, null));
-            assertRejected(c, insert("00000000000000f7", "pipeline", "'RCX-*'", "pattern on a pipeline key", 60, null, null));
-            assertRejected(c, "UPDATE api_keys SET role = 'admin' WHERE id = '00000000000000d4'");
-            assertRejected(c, "UPDATE api_keys SET revoked_at = NULL WHERE id = '00000000000000c3'");
+            assertRejected(c, insert("00000000000000e5", "owner", null, "unknown role", 60, null, null), V8_ROLES);
+            assertRejected(c, insert("00000000000000f6", "gateway", null, "gateway without a pattern", 60, null, null), PATTERN_IFF_GATEWAY);
+            assertRejected(c, insert("00000000000000f7", "pipeline", "'RCX-*'", "pattern on a pipeline key", 60, null, null),
+                    PATTERN_IFF_GATEWAY);
+            assertRejected(c, "UPDATE api_keys SET role = 'admin' WHERE id = '00000000000000d4'", "API keys are immutable except their revocation");
+            assertRejected(c, "UPDATE api_keys SET revoked_at = NULL WHERE id = '00000000000000c3'", "a revoked API key stays revoked");
         }
         assertEquals(List.of("api_keys_are_immutable", "api_keys_stay_revoked"),
                 strings(file, "SELECT name FROM sqlite_schema WHERE type = 'trigger' AND tbl_name = 'api_keys' ORDER BY name"));
@@ -70,12 +75,14 @@ class PipelineRoleMigrationTest {
         return DriverManager.getConnection("jdbc:sqlite:" + file);
     }
 
-    static void assertRejected(Connection c, String sql) {
-        assertThrows(SQLException.class, () -> {
+    /** Refused by the rule SQLite names in its message (a CHECK by its expression, a trigger by its RAISE text). */
+    static void assertRejected(Connection c, String sql, String rule) {
+        SQLException e = assertThrows(SQLException.class, () -> {
             try (Statement s = c.createStatement()) {
                 s.executeUpdate(sql);
             }
         }, sql);
+        assertTrue(e.getMessage().contains(rule), sql + " refused by " + e.getMessage() + ", expected " + rule);
     }
 
     static List<List<String>> rows(Path file) throws SQLException {
