@@ -44,7 +44,7 @@ public final class TraceReader {
 
     public TraceReader(Limits limits) {
         this.limits = limits;
-        JsonFactory factory = JsonFactory.builder()
+        JsonFactory factory = Json.strictFactory()
                 .streamReadConstraints(StreamReadConstraints.builder()
                         .maxNestingDepth(limits.maxJsonDepth())
                         .maxNumberLength(MAX_NUMBER_LENGTH)
@@ -86,7 +86,7 @@ public final class TraceReader {
         } catch (StreamConstraintsException e) {
             throw new InputException("body", "got JSON beyond the limits: " + e.getOriginalMessage());
         } catch (JsonProcessingException e) {
-            throw new InputException("body", "got malformed JSON: " + e.getOriginalMessage());
+            throw JsonPaths.duplicateKey(e, "").orElseGet(() -> new InputException("body", "got malformed JSON: " + e.getOriginalMessage()));
         }
         return assemble(columns, options, referenceMicros);
     }
