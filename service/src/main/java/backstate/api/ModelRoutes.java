@@ -71,7 +71,7 @@ final class ModelRoutes {
         }
         ModelDocument document = read(ctx, ModelDocument.class);
         StateSpaceModel model = document.toModel(limits);
-        document.requireDistinctNames();
+        document.requirePublishable();
         String observability = mapper.writeValueAsString(Views.Observability.of(ObservabilityRank.of(model)));
         ModelVersionRow row = store.publishVersion(new NewModelVersion(family, document.timeDomain(), model.states(),
                 model.outputs(), model.inputs(), mapper.writeValueAsString(document), observability), clock.instant());

@@ -50,12 +50,30 @@ public record ModelDocument(String description, String timeDomain, Double sample
     }
 
     /**
-     * What a newly published version must also meet, beyond {@link #toModel}: each name used once
+     * What a newly published version must also meet, beyond {@link #toModel}: matrix entries and
+     * noise σ within {@link Limits#MAX_MAGNITUDE} and {@link Limits#MIN_SIGMA}, each name used once
      * across states, outputs and inputs, and none reserved, so that every trace form (a CSV header
      * names outputs and inputs side by side with time) can address every channel. Stored versions
      * published before this rule are not re-checked.
      */
-    public void requireDistinctNames() {
+    public void requirePublishable() {
+        requireDistinctNames();
+        for (String matrix : List.of("a", "b", "c", "d")) {
+            double[][] rows = matrix.equals("a") ? a : matrix.equals("b") ? b : matrix.equals("c") ? c : d;
+            for (int i = 0; rows != null && i < rows.length; i++) {
+                for (int j = 0; rows[i] != null && j < rows[i].length; j++) {
+                    Limits.requireMagnitude(matrix + "[" + i + "][" + j + "]", rows[i][j]);
+                }
+            }
+        }
+        for (int j = 0; outputs != null && j < outputs.size(); j++) {
+            if (outputs.get(j) != null && outputs.get(j).noiseSigma() != null) {
+                Limits.requireSigma("outputs[" + j + "].noiseSigma", outputs.get(j).noiseSigma());
+            }
+        }
+    }
+
+    private void requireDistinctNames() {
         Map<String, String> firstUse = new HashMap<>();
         for (String group : List.of("states", "outputs", "inputs")) {
             List<Quantity> list = group.equals("states") ? states : group.equals("outputs") ? outputs : inputsOrEmpty();

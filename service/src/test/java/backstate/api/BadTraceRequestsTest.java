@@ -71,6 +71,11 @@ class BadTraceRequestsTest {
                 // were accepted: the media type was matched by prefix
                 Arguments.of("text/csv with letters after it", ok, "text/csvfoo", HEADER + GOOD_ROW, 415, "Content-Type"),
                 Arguments.of("application/json with letters after it", ok, "application/jsonx", DUPLICATE_FREE, 415, "Content-Type"),
+                // were accepted, then the job failed three times (1e300) or came back "unobservable" (1e-320)
+                Arguments.of("an output of 1e300", ok, json, DUPLICATE_FREE.replace("[2.7,2.6]", "[1e300,2.6]"), 400, "outputs.return_air[0]"),
+                Arguments.of("an input of -1e16 in CSV", ok, csv, HEADER + "0,2.7,-0.7,-1e16,27.1\n", 400, "line 2, column cooling_power"),
+                Arguments.of("a noise sigma of 1e-320", ok, json,
+                        DUPLICATE_FREE.replace("}}", "},\"noiseSigma\":{\"return_air\":1e-320}}"), 400, "noiseSigma.return_air"),
                 // were merged: the second "time" appended two more samples (4 stored)
                 Arguments.of("time written twice", ok, json, DUPLICATE_FREE.replace("}}", "},\"time\":[120,180]}"), 400, "time"),
                 Arguments.of("an output written twice", ok, json,

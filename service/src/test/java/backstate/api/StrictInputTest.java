@@ -2,8 +2,10 @@ package backstate.api;
 
 import static backstate.api.AuthFixture.ADMIN_KEY;
 import static org.junit.jupiter.api.Assertions.assertEquals;
+import static org.junit.jupiter.api.Assertions.assertFalse;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
+import com.fasterxml.jackson.databind.JsonNode;
 import java.nio.charset.StandardCharsets;
 import java.nio.file.Path;
 import java.util.stream.Stream;
@@ -74,7 +76,12 @@ class StrictInputTest {
                 Arguments.of("an output named time", versions, "application/json",
                         v1.replace("\"name\": \"supply_air\"", "\"name\": \"time\""), 400, "outputs[1].name"),
                 Arguments.of("a state named time", versions, "application/json",
-                        v1.replace("\"name\": \"wall\"", "\"name\": \"time\""), 400, "states[0].name"));
+                        v1.replace("\"name\": \"wall\"", "\"name\": \"time\""), 400, "states[0].name"),
+                // were published, then every solve came back "unobservable" with components not computed
+                Arguments.of("a noise sigma of 1e-320", versions, "application/json",
+                        v1.replaceFirst("\"noiseSigma\": 0.15", "\"noiseSigma\": 1e-320"), 400, "outputs[0].noiseSigma"),
+                Arguments.of("an entry of 1e300 in a", versions, "application/json",
+                        v1.replace("[-0.000475,", "[1e300,"), 400, "a[0][0]"));
     }
 
     @ParameterizedTest(name = "{0} gets {3}")
@@ -87,6 +94,37 @@ class StrictInputTest {
         assertTrue(r.contentType().startsWith("application/problem+json"), r.contentType());
         assertEquals(field, r.json().get("errors").get(0).get("field").asText(), r.body());
         assertEquals(before, Database.signature(db));
+    }
+
+    @Test
+    void a_model_whose_state_overflows_within_the_trace_fails_its_job_in_words_not_as_unobservable() throws Exception {
+        // a[0][0] = +1000/s: the wall mode grows by e^60000 in one 60 s step, beyond the double range (1.8e308)
+        TestServer.Reply published = admin.post("/v1/models/reefer-40/versions", "application/json",
+                v1().replace("[-0.000475,", "[1000.0,").getBytes(StandardCharsets.UTF_8));
+        assertEquals(201, published.status(), published.body());
+        int version = published.json().get("version").asInt();
+        TestServer.Reply posted = admin.post("/v1/units/RCX-00002/traces?model=reefer-40&version=" + version, "text/csv",
+                AuthFixture.file(AuthFixture.TRACE_FILE));
+        assertEquals(202, posted.status(), posted.body());
+        JsonNode job = awaitJob(posted.json().get("jobId").asText());
+        assertEquals("failed", job.get("state").asText(), job.toString());
+        String error = job.toString();
+        assertTrue(error.contains("leaves the floating-point range"), error);
+        assertFalse(error.contains("unobservable"), error);
+        assertFalse(error.contains("Exception"), error);
+        assertFalse(error.contains("null"), error);
+    }
+
+    JsonNode awaitJob(String jobId) throws InterruptedException {
+        for (int i = 0; i < 3000; i++) {
+            JsonNode job = admin.get("/v1/jobs/" + jobId).json();
+            String state = job.path("state").asText();
+            if (!state.equals("queued") && !state.equals("running")) {
+                return job;
+            }
+            Thread.sleep(20);
+        }
+        throw new AssertionError("job " + jobId + " did not finish within 60 s");
     }
 
     @Test
@@ -105,9 +143,11 @@ class StrictInputTest {
     }
 
     @Test
-    void a_trace_under_text_csv_with_a_charset_parameter_is_accepted() {
+    void a_trace_under_text_csv_with_a_charset_parameter_is_accepted() throws Exception {
         TestServer.Reply r = admin.post("/v1/units/RCX-00001/traces?model=reefer-40&version=1", "text/csv; charset=utf-8",
                 AuthFixture.file(AuthFixture.TRACE_FILE));
         assertEquals(202, r.status(), r.body());
+        // Waited for, so its estimate is not written while another test compares the database before and after.
+        assertEquals("succeeded", awaitJob(r.json().get("jobId").asText()).get("state").asText());
     }
 }

@@ -92,6 +92,10 @@ class HostileInputRegressionTest {
                 broke("JSON trace with time written twice", 400, "time",
                         Raw.post(TRACES, Raw.headers("Content-Type", "application/json"),
                                 json.replaceFirst("\\{", "{\"time\":[0,60],").getBytes(StandardCharsets.UTF_8))),
+                // accepted, then the job failed three times naming a numerical library's exception class
+                broke("JSON trace with an output of 1e300", 400, "outputs.return_air[0]",
+                        Raw.post(TRACES, Raw.headers("Content-Type", "application/json"),
+                                json.replaceFirst("\"return_air\":\\s*\\[", "\"return_air\":[1e300,").getBytes(StandardCharsets.UTF_8))),
                 // media types were matched by prefix
                 broke("Content-Type text/csvfoo", 415, "Content-Type", Raw.post(TRACES, Raw.headers("Content-Type", "text/csvfoo"), csv)),
                 broke("Content-Type application/jsonx", 415, "Content-Type",
