@@ -92,6 +92,8 @@ public final class ApiServer implements AutoCloseable {
             config.appData(Uploads.KEY, new Uploads(uploads));
             config.http.maxRequestSize = w.maxBodyBytes();
             config.http.prefer405over404 = true;
+            // One spelling per resource: "/v1/models/" is not "/v1/models" (404, as the contract says).
+            config.router.ignoreTrailingSlashes = false;
             config.jetty.modifyServer(server -> {
                 server.setErrorHandler(new ProtocolErrors(w.mapper()));
                 StopDrain.install(server);
@@ -108,6 +110,13 @@ public final class ApiServer implements AutoCloseable {
             problems.register(config.routes);
             for (Route r : routes) {
                 config.routes.addEndpoint(new io.javalin.router.Endpoint(r.method(), r.path(), guard.wrap(r), java.util.Set.of()));
+                // Javalin answers HEAD on a GET route with an empty 200 without running any handler,
+                // so a protected GET would answer HEAD to anyone: HEAD runs the GET, guard and all
+                // (Jetty sends no body for HEAD).
+                if (r.method() == HandlerType.GET) {
+                    Route head = new Route(HandlerType.HEAD, r.path(), r.access(), r.handler());
+                    config.routes.addEndpoint(new io.javalin.router.Endpoint(HandlerType.HEAD, r.path(), guard.wrap(head), java.util.Set.of()));
+                }
             }
         });
     }

@@ -3,6 +3,7 @@ package backstate.api;
 import backstate.estimation.ObservabilityRank;
 import backstate.estimation.StateSpaceModel;
 import backstate.formats.Limits;
+import backstate.formats.MediaType;
 import backstate.formats.ModelDocument;
 import backstate.store.ModelVersionRow;
 import backstate.store.NewModelVersion;
@@ -70,6 +71,7 @@ final class ModelRoutes {
         }
         ModelDocument document = read(ctx, ModelDocument.class);
         StateSpaceModel model = document.toModel(limits);
+        document.requirePublishable();
         String observability = mapper.writeValueAsString(Views.Observability.of(ObservabilityRank.of(model)));
         ModelVersionRow row = store.publishVersion(new NewModelVersion(family, document.timeDomain(), model.states(),
                 model.outputs(), model.inputs(), mapper.writeValueAsString(document), observability), clock.instant());
@@ -114,7 +116,7 @@ final class ModelRoutes {
 
     static void requireJson(Context ctx) {
         String type = ctx.contentType();
-        if (type == null || !type.toLowerCase(java.util.Locale.ROOT).startsWith("application/json")) {
+        if (!MediaType.is(type, "application/json")) {
             throw ApiProblem.unsupportedMediaType(type == null ? "no Content-Type" : type, "application/json");
         }
     }

@@ -55,9 +55,10 @@ final class ProblemMapper {
         routes.exception(UnrecognizedPropertyException.class, (e, ctx) -> write(ctx, ApiProblem.invalid("body" + JsonPaths.of(e),
                 "got an unknown field \"" + e.getPropertyName() + "\", expected one of " + e.getKnownPropertyIds()).toProblem()));
         routes.exception(MatrixEntryException.class, (e, ctx) -> write(ctx, ApiProblem.invalid(e.field(), e.problem()).toProblem()));
-        routes.exception(JsonMappingException.class, (e, ctx) -> write(ctx, ApiProblem.invalid("body" + JsonPaths.of(e),
-                "got a value of the wrong type or shape").toProblem()));
-        routes.exception(JsonProcessingException.class, (e, ctx) -> write(ctx, ApiProblem.invalid("body", "malformed JSON: " + e.getOriginalMessage()).toProblem()));
+        routes.exception(JsonMappingException.class, (e, ctx) -> write(ctx, duplicateKeyOr(e,
+                ApiProblem.invalid("body" + JsonPaths.of(e), "got a value of the wrong type or shape"))));
+        routes.exception(JsonProcessingException.class, (e, ctx) -> write(ctx, duplicateKeyOr(e,
+                ApiProblem.invalid("body", "malformed JSON: " + e.getOriginalMessage()))));
         routes.exception(IdempotencyKeyReusedException.class, (e, ctx) -> write(ctx, ApiProblem.idempotencyKeyReused(e.key()).toProblem()));
         routes.exception(QueueFullException.class, (e, ctx) -> busy(ctx, "the job queue is full; retry later"));
         routes.exception(StoreUnavailableException.class, (e, ctx) -> {
@@ -90,6 +91,11 @@ final class ProblemMapper {
             case RETIRED_VERSION -> ApiProblem.conflict(e.getMessage());
             case UNSUPPORTED_MEDIA_TYPE -> ApiProblem.unsupportedMediaType(e.getMessage(), TraceRefused.ACCEPTED_TYPES);
         };
+    }
+
+    /** A key written twice, named, when that is what the error is; else {@code otherwise}. */
+    private static Problem duplicateKeyOr(JsonProcessingException e, ApiProblem otherwise) {
+        return JsonPaths.duplicateKey(e, "body").map(d -> ApiProblem.invalid(d.field(), detail(d))).orElse(otherwise).toProblem();
     }
 
     private void busy(Context ctx, String detail) {

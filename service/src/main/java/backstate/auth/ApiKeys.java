@@ -82,7 +82,7 @@ public final class ApiKeys {
             KeyText.Parsed key = KeyText.generate(random);
             Optional<ApiKeyRow> row = store(key, role, scopeOrNull, label, issuedByOrNull);
             if (row.isPresent()) {
-                LOG.info("issued {} key {} ({}{}) by {}", role.wireName(), key.id(), label,
+                LOG.info("issued {} key {} (label \"{}\"{}) by {}", role.wireName(), key.id(), LogText.escaped(label),
                         scopeOrNull == null ? "" : ", units " + scopeOrNull.glob(),
                         issuedByOrNull == null ? "the service" : "admin key " + issuedByOrNull);
                 return new Issued(key.text(), row.get());

@@ -31,6 +31,7 @@ public final class InitialStateEstimator {
         EquationPass.Result pass = ChunkedEquations.run(ctx);
         WeightedFactors data = pass.factors();
         SquareRootInformation dataInfo = data.estimate;
+        requireFinite(dataInfo, data.perSample.residualSquares(), trace);
         ConditioningAnalysis dataOnly = new ConditioningAnalysis(dataInfo.factorR(), ctx.q, dataInfo.equations());
         if (options.prior() == null) {
             return dataOnly.rank() < ctx.q ? unobservable(ctx, dataOnly) : finish(ctx, pass, data, dataOnly, dataOnly);
@@ -55,6 +56,21 @@ public final class InitialStateEstimator {
                         : "got a sample less than 1 µs after the previous one, expected times at least 1 µs apart");
             }
             previous = units;
+        }
+    }
+
+    /**
+     * Scaling cannot rescue a model whose response leaves the double range within the trace (an
+     * unstable mode e^(λt) beyond 1e308, e.g. a = 1e3/s over 60 s): the equations hold infinities,
+     * and a rank decision on them would report directions that do not exist. It is refused in words
+     * instead, as the model and trace not fitting together (ModelException), not retried.
+     */
+    private static void requireFinite(SquareRootInformation info, double residualSquares, Trace trace) {
+        if (!Matrices.allFinite(info.factorR()) || !Matrices.allFinite(info.rhs()) || !Double.isFinite(residualSquares)) {
+            double window = trace.time(trace.samples() - 1) - trace.time(0);
+            throw new ModelException("a", "the model's response over this trace's " + window + " s leaves the"
+                    + " floating-point range (beyond 1e308): a mode grows too fast (an unstable or mis-scaled a)"
+                    + " for a window this long; check a and its time unit, or send a shorter trace");
         }
     }
 

@@ -12,6 +12,16 @@ public final class Matrices {
     }
 
     /** Returns the n×n identity. */
+    /** Whether every entry is a finite number (no NaN, no infinity). */
+    public static boolean allFinite(double[] a) {
+        for (double v : a) {
+            if (!Double.isFinite(v)) {
+                return false;
+            }
+        }
+        return true;
+    }
+
     public static double[] identity(int n) {
         double[] out = new double[n * n];
         for (int i = 0; i < n; i++) {

@@ -1,17 +1,22 @@
 package backstate.formats;
 
 import com.fasterxml.jackson.core.JsonFactory;
+import com.fasterxml.jackson.core.JsonFactoryBuilder;
 import com.fasterxml.jackson.core.StreamReadConstraints;
+import com.fasterxml.jackson.core.StreamReadFeature;
 import com.fasterxml.jackson.databind.DeserializationFeature;
 import com.fasterxml.jackson.databind.ObjectMapper;
 
-/** The one Jackson configuration: strict on input (no nulls in number arrays, unknown fields rejected, depth-limited). */
+/**
+ * The one Jackson configuration: strict on input (no nulls in number arrays, unknown fields
+ * rejected, a key twice in one object rejected, depth-limited).
+ */
 public final class Json {
     private Json() {
     }
 
     public static ObjectMapper mapper(Limits limits) {
-        JsonFactory factory = JsonFactory.builder()
+        JsonFactory factory = strictFactory()
                 .streamReadConstraints(StreamReadConstraints.builder()
                         .maxNestingDepth(limits.maxJsonDepth())
                         .maxStringLength(1 << 20)
@@ -21,5 +26,13 @@ public final class Json {
                 .enable(DeserializationFeature.FAIL_ON_NULL_FOR_PRIMITIVES)
                 .enable(DeserializationFeature.FAIL_ON_UNKNOWN_PROPERTIES)
                 .disable(DeserializationFeature.ACCEPT_FLOAT_AS_INT);
+    }
+
+    /**
+     * A factory whose parsers refuse a key written twice in one object (Jackson would otherwise
+     * keep the last, or for a streamed trace append both); {@link JsonPaths#duplicateKey} names it.
+     */
+    public static JsonFactoryBuilder strictFactory() {
+        return (JsonFactoryBuilder) JsonFactory.builder().enable(StreamReadFeature.STRICT_DUPLICATE_DETECTION);
     }
 }

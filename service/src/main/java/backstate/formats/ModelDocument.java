@@ -5,8 +5,10 @@ import backstate.estimation.StateSpaceModel;
 import com.fasterxml.jackson.annotation.JsonIgnore;
 import com.fasterxml.jackson.annotation.JsonInclude;
 import com.fasterxml.jackson.databind.annotation.JsonDeserialize;
+import java.util.HashMap;
 import java.util.HashSet;
 import java.util.List;
+import java.util.Map;
 import java.util.Set;
 import java.util.regex.Pattern;
 
@@ -26,6 +28,11 @@ public record ModelDocument(String description, String timeDomain, Double sample
     private static final Pattern NAME = Pattern.compile("[A-Za-z][A-Za-z0-9_.\\-]*");
     /** Longest description accepted (as for a family's); it is a label, not a document. */
     static final int MAX_DESCRIPTION = 2000;
+    /**
+     * Names a channel may not take: a trace CSV header's time column is {@code time} (or
+     * {@code time since <RFC 3339 time>}, which no name can be: names hold no spaces).
+     */
+    static final Set<String> RESERVED_NAMES = Set.of("time");
     /** Longest unit of measure accepted ("degC", "kJ/(kg K)"); a longer one is hostile input. */
     static final int MAX_UNIT = 32;
 
@@ -40,6 +47,49 @@ public record ModelDocument(String description, String timeDomain, Double sample
         requireCount("outputs", outputs, model.outputs(), "rows of c");
         requireCount("inputs", inputs, model.inputs(), "columns of b");
         return model;
+    }
+
+    /**
+     * What a newly published version must also meet, beyond {@link #toModel}: matrix entries and
+     * noise σ within {@link Limits#MAX_MAGNITUDE} and {@link Limits#MIN_SIGMA}, each name used once
+     * across states, outputs and inputs, and none reserved, so that every trace form (a CSV header
+     * names outputs and inputs side by side with time) can address every channel. Stored versions
+     * published before this rule are not re-checked.
+     */
+    public void requirePublishable() {
+        requireDistinctNames();
+        for (String matrix : List.of("a", "b", "c", "d")) {
+            double[][] rows = matrix.equals("a") ? a : matrix.equals("b") ? b : matrix.equals("c") ? c : d;
+            for (int i = 0; rows != null && i < rows.length; i++) {
+                for (int j = 0; rows[i] != null && j < rows[i].length; j++) {
+                    Limits.requireMagnitude(matrix + "[" + i + "][" + j + "]", rows[i][j]);
+                }
+            }
+        }
+        for (int j = 0; outputs != null && j < outputs.size(); j++) {
+            if (outputs.get(j) != null && outputs.get(j).noiseSigma() != null) {
+                Limits.requireSigma("outputs[" + j + "].noiseSigma", outputs.get(j).noiseSigma());
+            }
+        }
+    }
+
+    private void requireDistinctNames() {
+        Map<String, String> firstUse = new HashMap<>();
+        for (String group : List.of("states", "outputs", "inputs")) {
+            List<Quantity> list = group.equals("states") ? states : group.equals("outputs") ? outputs : inputsOrEmpty();
+            for (int i = 0; list != null && i < list.size(); i++) {
+                String name = list.get(i) == null ? null : list.get(i).name();
+                String field = group + "[" + i + "].name";
+                if (RESERVED_NAMES.contains(name)) {
+                    throw new InputException(field, "got \"" + name + "\", a reserved name (the time column), expected another");
+                }
+                String earlier = name == null ? null : firstUse.putIfAbsent(name, field);
+                if (earlier != null) {
+                    throw new InputException(field, "got \"" + name + "\", already the name at " + earlier
+                            + ", expected names unique across states, outputs and inputs");
+                }
+            }
+        }
     }
 
     @JsonIgnore

@@ -44,7 +44,7 @@ public final class TraceReader {
 
     public TraceReader(Limits limits) {
         this.limits = limits;
-        JsonFactory factory = JsonFactory.builder()
+        JsonFactory factory = Json.strictFactory()
                 .streamReadConstraints(StreamReadConstraints.builder()
                         .maxNestingDepth(limits.maxJsonDepth())
                         .maxNumberLength(MAX_NUMBER_LENGTH)
@@ -86,7 +86,7 @@ public final class TraceReader {
         } catch (StreamConstraintsException e) {
             throw new InputException("body", "got JSON beyond the limits: " + e.getOriginalMessage());
         } catch (JsonProcessingException e) {
-            throw new InputException("body", "got malformed JSON: " + e.getOriginalMessage());
+            throw JsonPaths.duplicateKey(e, "").orElseGet(() -> new InputException("body", "got malformed JSON: " + e.getOriginalMessage()));
         }
         return assemble(columns, options, referenceMicros);
     }
@@ -132,7 +132,11 @@ public final class TraceReader {
             csvTime(records, time, times);
             for (int i = 0; i < targets.length; i++) {
                 if (i != time) {
-                    targets[i].add(csvNumber(records, i, names[i], missingAllowed[i]));
+                    double v = csvNumber(records, i, names[i], missingAllowed[i]);
+                    if (Math.abs(v) > Limits.MAX_MAGNITUDE) {
+                        Limits.requireMagnitude("line " + records.line() + ", column " + names[i], v);
+                    }
+                    targets[i].add(v);
                 }
             }
         }
@@ -328,7 +332,7 @@ public final class TraceReader {
                 if (!Double.isFinite(v)) {
                     throw new InputException(at, "got " + parser.getText() + ", expected a finite number");
                 }
-                column.add(v);
+                column.add(Limits.requireMagnitude(at, v));
             } else {
                 throw new InputException(at, "got " + describe(token) + ", expected a number" + (nullAllowed ? " or null" : ""));
             }
@@ -344,11 +348,7 @@ public final class TraceReader {
             if (token != JsonToken.VALUE_NUMBER_INT && token != JsonToken.VALUE_NUMBER_FLOAT) {
                 throw new InputException(field, "got " + describe(token) + ", expected a number > 0");
             }
-            double sigma = parser.getDoubleValue();
-            if (!(sigma > 0.0) || !Double.isFinite(sigma)) {
-                throw new InputException(field, "got " + sigma + ", expected a finite number > 0");
-            }
-            columns.noiseSigma(name, sigma, field);
+            columns.noiseSigma(name, Limits.requireSigma(field, parser.getDoubleValue()), field);
         }
     }
 

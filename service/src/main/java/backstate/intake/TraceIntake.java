@@ -7,6 +7,7 @@ import backstate.formats.CheckedModel;
 import backstate.formats.CheckedModels;
 import backstate.formats.FieldValues;
 import backstate.formats.InputException;
+import backstate.formats.MediaType;
 import backstate.formats.Limits;
 import backstate.formats.ModelDocument;
 import backstate.formats.ParsedTrace;
@@ -23,7 +24,6 @@ import com.fasterxml.jackson.databind.ObjectMapper;
 import java.io.IOException;
 import java.io.InputStream;
 import java.time.Clock;
-import java.util.Locale;
 
 /**
  * Trace ingest, the one path from a posted body to a stored trace with its queued estimate job:
@@ -104,14 +104,14 @@ public final class TraceIntake {
     }
 
     private ParsedTrace read(TracePost post, InputStream body, ModelDocument model) throws IOException {
-        String type = post.contentTypeOrNull() == null ? "" : post.contentTypeOrNull().toLowerCase(Locale.ROOT);
-        if (type.startsWith("application/json")) {
+        String type = post.contentTypeOrNull() == null ? "" : post.contentTypeOrNull();
+        if (MediaType.is(type, "application/json")) {
             if (post.query().any()) {
                 throw new InputException("formulation", "with a JSON body, put options in its \"options\" object, not the query");
             }
             return reader.readJson(body, model);
         }
-        if (type.startsWith("text/csv")) {
+        if (MediaType.is(type, "text/csv")) {
             return reader.readCsv(body, model, csvOptions(post.query()), post.query().referenceTime());
         }
         throw TraceRefused.unsupportedMediaType(type.isEmpty() ? "no Content-Type" : type);

@@ -20,6 +20,9 @@ import org.slf4j.LoggerFactory;
 final class JobRunner {
 
     private static final Logger LOG = LoggerFactory.getLogger(JobRunner.class);
+    /** A failed attempt's error when the handler threw: what happened in words, and where to look. */
+    static final String UNEXPECTED = "the job failed unexpectedly (a bug in the service, not in its input);"
+            + " the service log has the details under job ";
 
     private final JobQueue queue;
     private final JobHandler handler;
@@ -96,6 +99,7 @@ final class JobRunner {
         if (abandoned.getAsBoolean()) {
             return JobMetrics.LOST;
         }
+        LOG.info("job {} attempt {} failed: {}", job.id(), job.attempt(), failed.error());
         boolean recorded = queue.failIfRunning(job.id(), job.attempt(), failed.error(), failed.detailsJsonOrNull(),
                 clock.instant());
         return recordedOrLost(job, recorded, JobMetrics.FAILED);
@@ -105,13 +109,10 @@ final class JobRunner {
         if (abandoned.getAsBoolean()) {
             return JobMetrics.LOST;
         }
-        boolean recorded = queue.retryIfRunning(job.id(), job.attempt(), describe(e), clock.instant());
+        // The exception is for the log; the job's reader gets words, never a class name or a library's message.
+        LOG.error("job {} attempt {}: the handler failed unexpectedly", job.id(), job.attempt(), e);
+        boolean recorded = queue.retryIfRunning(job.id(), job.attempt(), UNEXPECTED + job.id(), clock.instant());
         return recordedOrLost(job, recorded, JobMetrics.ERRORED);
-    }
-
-    private static String describe(Exception e) {
-        String type = e.getClass().getName();
-        return e.getMessage() == null ? type : type + ": " + e.getMessage();
     }
 
     private static String recordedOrLost(ClaimedJob job, boolean recorded, String outcome) {

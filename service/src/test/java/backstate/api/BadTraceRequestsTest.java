@@ -22,6 +22,9 @@ class BadTraceRequestsTest {
     /** Small enough that a 3 KB body is over the limit. */
     static final String BODY_LIMIT = "2048";
     static final String HEADER = "time,return_air,supply_air,cooling_power,ambient\n";
+    /** A valid JSON trace of two samples, before the duplicate cases add a key to it. */
+    static final String DUPLICATE_FREE = "{\"time\":[0,60],\"outputs\":{\"return_air\":[2.7,2.6],\"supply_air\":[-0.7,-0.8]},"
+            + "\"inputs\":{\"cooling_power\":[6.4,6.4],\"ambient\":[27.1,27.1]}}";
     static final String GOOD_ROW = "0,2.7,-0.7,6.4,27.1\n60,2.6,-0.8,6.4,27.1\n";
 
     TestServer server;
@@ -65,6 +68,18 @@ class BadTraceRequestsTest {
                 Arguments.of("version not a number", "?model=reefer-40&version=one", csv, HEADER + GOOD_ROW, 400, "version"),
                 Arguments.of("no model named", "?version=1", csv, HEADER + GOOD_ROW, 400, "model"),
                 Arguments.of("unsupported media type", ok, "text/plain", HEADER + GOOD_ROW, 415, "Content-Type"),
+                // were accepted: the media type was matched by prefix
+                Arguments.of("text/csv with letters after it", ok, "text/csvfoo", HEADER + GOOD_ROW, 415, "Content-Type"),
+                Arguments.of("application/json with letters after it", ok, "application/jsonx", DUPLICATE_FREE, 415, "Content-Type"),
+                // were accepted, then the job failed three times (1e300) or came back "unobservable" (1e-320)
+                Arguments.of("an output of 1e300", ok, json, DUPLICATE_FREE.replace("[2.7,2.6]", "[1e300,2.6]"), 400, "outputs.return_air[0]"),
+                Arguments.of("an input of -1e16 in CSV", ok, csv, HEADER + "0,2.7,-0.7,-1e16,27.1\n", 400, "line 2, column cooling_power"),
+                Arguments.of("a noise sigma of 1e-320", ok, json,
+                        DUPLICATE_FREE.replace("}}", "},\"noiseSigma\":{\"return_air\":1e-320}}"), 400, "noiseSigma.return_air"),
+                // were merged: the second "time" appended two more samples (4 stored)
+                Arguments.of("time written twice", ok, json, DUPLICATE_FREE.replace("}}", "},\"time\":[120,180]}"), 400, "time"),
+                Arguments.of("an output written twice", ok, json,
+                        DUPLICATE_FREE.replace("\"outputs\":{", "\"outputs\":{\"return_air\":[1,1],"), 400, "outputs.return_air"),
                 Arguments.of("reference time outside the window", ok + "&referenceTime=999", csv, HEADER + GOOD_ROW, 422, "referenceTime"),
                 Arguments.of("oversize body", ok, csv, HEADER + GOOD_ROW.repeat(60), 413, null));
     }

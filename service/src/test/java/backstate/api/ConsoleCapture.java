@@ -9,11 +9,11 @@ import java.nio.charset.StandardCharsets;
  * Copies everything written to System.err (where slf4j-simple logs, looking the stream up on
  * each line) while open, and still passes it on; restores the original stream on close.
  */
-final class ConsoleCapture implements AutoCloseable {
+public final class ConsoleCapture implements AutoCloseable {
     private final PrintStream original = System.err;
     private final ByteArrayOutputStream copy = new ByteArrayOutputStream();
 
-    ConsoleCapture() {
+    public ConsoleCapture() {
         System.setErr(new PrintStream(new OutputStream() {
             @Override
             public void write(int b) {
@@ -33,7 +33,7 @@ final class ConsoleCapture implements AutoCloseable {
         }, true, StandardCharsets.UTF_8));
     }
 
-    String text() {
+    public String text() {
         synchronized (copy) {
             return copy.toString(StandardCharsets.UTF_8);
         }

@@ -34,6 +34,9 @@ class SecretsNotLoggedTest {
     /** Bounds how long a broken child can hang the test; not a timing assertion. */
     static final long START_LIMIT_SECONDS = 120;
 
+    /** A label as JSON text: ASCII on the wire, a U+202E, U+2066 and U+0085 once read, ending in a backslash. */
+    static final String HOSTILE_LABEL_JSON = "night\\u202eshift\\u2066 \\u0085ops\\\\";
+
     final HttpClient http = HttpClient.newHttpClient();
     final ObjectMapper json = new ObjectMapper();
 
@@ -42,7 +45,9 @@ class SecretsNotLoggedTest {
         String bodyMarker = "zq-body-marker-7f31";
         String wrongSecret = "9".repeat(64);
         ProcessBuilder pb = new ProcessBuilder(Path.of(System.getProperty("java.home"), "bin", "java").toString(),
-                "-Dorg.slf4j.simpleLogger.defaultLogLevel=info", "-cp", System.getProperty("java.class.path"),
+                "-Dorg.slf4j.simpleLogger.defaultLogLevel=info",
+                // UTF-8 console, so a raw bidirectional control would come through as itself, not '?'
+                "-Dsun.stderr.encoding=UTF-8", "-Dsun.stdout.encoding=UTF-8", "-cp", System.getProperty("java.class.path"),
                 "backstate.App", "serve", "--host", "127.0.0.1", "--port", "0", "--workers", "1",
                 "--database", dir.resolve("child.db").toString());
         pb.environment().put("BACKSTATE_ADMIN_KEY", ADMIN_KEY);
@@ -66,6 +71,9 @@ class SecretsNotLoggedTest {
             assertEquals(201, issued.statusCode(), issued.body());
             gatewayKey = json.readTree(issued.body()).get("key").asText();
             gatewayId = json.readTree(issued.body()).get("id").asText();
+            // A label is printable but may hold a right-to-left override, an isolate and NEL (U+0085)
+            assertEquals(201, send(b, "POST", "/v1/keys", ADMIN_KEY, "application/json",
+                    "{\"role\":\"reader\",\"label\":\"" + HOSTILE_LABEL_JSON + "\"}").statusCode());
             assertEquals(403, send(b, "POST", "/v1/units/RCX-20123/traces?model=reefer-40&version=1", gatewayKey,
                     "text/csv", new String(AuthFixture.file(AuthFixture.TRACE_FILE), StandardCharsets.UTF_8)).statusCode());
             assertEquals(401, send(b, "GET", "/v1/models", "bsk_" + ADMIN_ID + "_" + wrongSecret, null, null).statusCode());
@@ -83,6 +91,10 @@ class SecretsNotLoggedTest {
         assertTrue(logged.contains("issued gateway key " + gatewayId), logged);
         assertTrue(logged.contains("denied POST /v1/units/RCX-20123/traces to gateway key " + gatewayId), logged);
         assertTrue(logged.contains("refused API key " + ADMIN_ID + ": wrong secret"), logged);
+        assertTrue(logged.contains("(label \"night\\u202eshift\\u2066 \\u0085ops\\\\\")"), logged);
+        for (char raw : new char[] {'\u202e', '\u2066', '\u0085'}) {
+            assertEquals(-1, logged.indexOf(raw), "U+" + Integer.toHexString(raw) + " was printed raw");
+        }
         assertFalse(logged.contains(ADMIN_KEY.substring(21)), "the admin key's secret was printed");
         assertFalse(logged.contains(gatewayKey.substring(21)), "the gateway key's secret was printed");
         assertFalse(logged.contains(wrongSecret), "a presented secret was printed");

@@ -86,6 +86,11 @@ class CsvFastPathTest {
         String[] cells = {"12345678901234567890.123", "9007199254740993", "1e22", "1e23", "4.9e-324", "2.2250738585072014E-308",
             "0.1000000000000000055511151231257827", "1e-400", "123456789012345678", "0e99999", "1.7976931348623157e308"};
         for (String cell : cells) {
+            if (Math.abs(Double.parseDouble(cell)) > Limits.MAX_MAGNITUDE) {
+                assertEquals("line 2, column return_air: got " + Double.parseDouble(cell) + ", expected a magnitude of at most 1.0E15",
+                        refusedAlike(HEADER + "0," + cell + ",1,1,1\n").getMessage(), cell);
+                continue;
+            }
             ParsedTrace t = same(HEADER + "0," + cell + ",1,1,1\n");
             assertEquals(Double.parseDouble(cell), t.trace().output(0, 0), cell);
         }
@@ -127,7 +132,7 @@ class CsvFastPathTest {
 
     @Example
     void field_length_is_counted_in_characters() {
-        String ascii256 = "1".repeat(256);
+        String ascii256 = "0." + "1".repeat(254);
         assertEquals(Double.parseDouble(ascii256), same(HEADER + "0,\"" + ascii256 + "\",1,1,1\n").trace().output(0, 0),
                 "256 characters fit");
         assertEquals("line 2: got a field longer than 256 characters", refusedAlike(HEADER + "0," + ascii256 + "1,1,1,1\n").getMessage());
@@ -274,12 +279,12 @@ class CsvFastPathTest {
                 List.of("ambient", "time", "cooling_power", "return_air"),
                 List.of("supply_air", "cooling_power", "ambient", "return_air", "time"));
         Arbitrary<String> end = Arbitraries.of("\n", "\r\n", "\r", "\n\n", "\r\n\r\n");
-        // Nothing above 1e250: "%.3f" spells such a value in more than 256 characters (and "%.4E"
-        // rounds Double.MAX_VALUE past the largest double). No flatMap: jqwik builds those slowly.
+        // Nothing above the sample values' limit (Limits.MAX_MAGNITUDE, 1e15; beyond it a trace is
+        // refused, which the body generator covers). No flatMap: jqwik builds those slowly.
         Arbitrary<Double> number = Arbitraries.oneOf(
                 Arbitraries.doubles().between(-1e6, 1e6).ofScale(6), Arbitraries.doubles().between(-1e-3, 1e-3).ofScale(12),
-                Arbitraries.of(0.0, -0.0, 0.1, 1e22, 1e23, 9007199254740993.0, Double.MIN_VALUE, 2.2250738585072014E-308,
-                        1.5e200, 4.35, 2.675));
+                Arbitraries.of(0.0, -0.0, 0.1, 1e15, -1e15, 999999999999999.9, 4503599627370497.0 / 8, Double.MIN_VALUE,
+                        2.2250738585072014E-308, 4.35, 2.675));
         Arbitrary<String> spelling = Arbitraries.of("%.3f", "%.17g", "%e", "%s", "%+.2f", "%.4E");
         Arbitrary<String> wrapping = Arbitraries.of("%s", "%s", "%s", "\"%s\"", " %s\t", "missing", "\"\"");
         Arbitrary<String> cell = Combinators.combine(number, spelling, wrapping).as((v, format, wrap) -> {

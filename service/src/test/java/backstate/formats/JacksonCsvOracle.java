@@ -143,6 +143,9 @@ final class JacksonCsvOracle {
         if (!Double.isFinite(v)) {
             throw refused("not finite: " + s);
         }
+        if (Math.abs(v) > Limits.MAX_MAGNITUDE) {
+            throw refused("beyond the magnitude limit: " + s);
+        }
         return v;
     }
 

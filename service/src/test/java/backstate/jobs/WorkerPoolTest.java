@@ -5,6 +5,7 @@ import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertFalse;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
+import backstate.api.ConsoleCapture;
 import backstate.store.JobRow;
 import backstate.store.SqliteDatabase;
 import backstate.store.StoreFixture;
@@ -198,16 +199,23 @@ class WorkerPoolTest extends StoreTestBase {
             throw new IllegalStateException("boom");
         };
 
-        try (WorkerPool pool = pool(handler, 2, WorkerPool.DEFAULT_SHUTDOWN_GRACE)) {
+        ConsoleCapture console = new ConsoleCapture();
+        try (console; WorkerPool pool = pool(handler, 2, WorkerPool.DEFAULT_SHUTDOWN_GRACE)) {
             pool.start();
             assertTrue(threeRuns.await(HANG_GUARD_SECONDS, SECONDS));
         }
+        String logged = console.text();
 
         JobRow row = store.jobs().findJob(s.jobId()).orElseThrow();
         assertEquals(List.of("failed", 3), List.of(row.state(), row.attempt()));
-        assertEquals(List.of("attempt 1: java.lang.IllegalStateException: boom",
-                "attempt 2: java.lang.IllegalStateException: boom",
-                "attempt 3: java.lang.IllegalStateException: boom"), row.errors());
+        // Words for the job's reader, never the exception's class or message; the log has those, by job ID.
+        String words = "the job failed unexpectedly (a bug in the service, not in its input);"
+                + " the service log has the details under job " + s.jobId();
+        assertEquals(List.of("attempt 1: " + words, "attempt 2: " + words, "attempt 3: " + words), row.errors());
+        for (int attempt = 1; attempt <= 3; attempt++) {
+            assertTrue(logged.contains("job " + s.jobId() + " attempt " + attempt + ": the handler failed unexpectedly"), logged);
+        }
+        assertTrue(logged.contains("java.lang.IllegalStateException: boom"), logged);
         assertEquals(3, timerCount("estimate", JobMetrics.ERRORED));
     }
 

@@ -57,6 +57,7 @@ class HostileInputRegressionTest {
 
     static Stream<Arguments> onceBroken() throws IOException {
         byte[] csv = HostileRequests.validCsv(0);
+        String json = HostileRequests.text(HostileRequests.validJson(0));
         byte[] model = Files.readAllBytes(ReeferTraces.modelFile(TestServer.TEST_DATA));
         return Stream.of(
                 // was a 400 blaming gzip on a body that was never gzip
@@ -86,7 +87,19 @@ class HostileInputRegressionTest {
                 broke("model with a null row in b", 422, "b[0]",
                         Raw.post("/v1/models/reefer-40/versions", Raw.headers("Content-Type", "application/json"),
                                 new String(model, StandardCharsets.UTF_8).replaceFirst("\"b\"\\s*:\\s*\\[\\s*\\[[^\\]]*\\]", "\"b\": [null")
-                                        .getBytes(StandardCharsets.UTF_8))));
+                                        .getBytes(StandardCharsets.UTF_8))),
+                // a second "time" array was appended to the first: two traces stored as one
+                broke("JSON trace with time written twice", 400, "time",
+                        Raw.post(TRACES, Raw.headers("Content-Type", "application/json"),
+                                json.replaceFirst("\\{", "{\"time\":[0,60],").getBytes(StandardCharsets.UTF_8))),
+                // accepted, then the job failed three times naming a numerical library's exception class
+                broke("JSON trace with an output of 1e300", 400, "outputs.return_air[0]",
+                        Raw.post(TRACES, Raw.headers("Content-Type", "application/json"),
+                                json.replaceFirst("\"return_air\":\\s*\\[", "\"return_air\":[1e300,").getBytes(StandardCharsets.UTF_8))),
+                // media types were matched by prefix
+                broke("Content-Type text/csvfoo", 415, "Content-Type", Raw.post(TRACES, Raw.headers("Content-Type", "text/csvfoo"), csv)),
+                broke("Content-Type application/jsonx", 415, "Content-Type",
+                        Raw.post(TRACES, Raw.headers("Content-Type", "application/jsonx"), json.getBytes(StandardCharsets.UTF_8))));
     }
 
     @ParameterizedTest(name = "{0}")
