@@ -51,7 +51,7 @@ final class Launcher {
               --job-lease SECONDS     a claimed job's lease, renewed every third (BACKSTATE_JOB_LEASE, default 15)
               --database-pool N       PostgreSQL connections per replica (BACKSTATE_DATABASE_POOL, default 8)
               --max-uploads N         request bodies read at once before more get 503 (BACKSTATE_MAX_UPLOADS, default 64)
-              --max-uploads-per-key N the same for one key (BACKSTATE_MAX_UPLOADS_PER_KEY, default 8)
+              --max-uploads-per-key N the same for one key (BACKSTATE_MAX_UPLOADS_PER_KEY, default 32)
               --min-body-rate BYTES   a body slower than this after 5 s gets 408 (BACKSTATE_MIN_BODY_RATE, default 1024)
               --max-body-seconds N    a body still arriving after this gets 408 (BACKSTATE_MAX_BODY_SECONDS, default 300)
             The first admin key comes from BACKSTATE_ADMIN_KEY (environment only), or is generated and

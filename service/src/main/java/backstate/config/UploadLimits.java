@@ -20,7 +20,12 @@ public record UploadLimits(int maxUploads, int maxUploadsPerKey, int minBodyRate
     /** Threads Jetty serves HTTP with (Javalin's default pool), against which the upload cap is sized. */
     public static final int HTTP_THREADS = 250;
     public static final int DEFAULT_MAX_UPLOADS = 64;
-    public static final int DEFAULT_MAX_UPLOADS_PER_KEY = 8;
+    /**
+     * Half the total: one gateway (or, with keys off, one address — a NAT or proxy in front of a
+     * whole site) may post 32 traces at once, as the load driver's 32 clients do, and still
+     * leave half the uploads to everyone else.
+     */
+    public static final int DEFAULT_MAX_UPLOADS_PER_KEY = 32;
     /** 1 KiB/s: a 35 KB demo trace in 35 s on the worst link; a byte every few seconds is far below. */
     public static final int DEFAULT_MIN_BODY_RATE = 1024;
     public static final int DEFAULT_MAX_BODY_SECONDS = 300;

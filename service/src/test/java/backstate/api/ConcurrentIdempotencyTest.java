@@ -42,7 +42,7 @@ class ConcurrentIdempotencyTest {
     @Test
     void thirty_two_posts_at_once_with_one_key_make_one_trace_and_one_job_that_every_answer_names(@TempDir Path dir)
             throws Exception {
-        // All 32 posts come from one address with no key: lift the per-caller upload cap (8 by
+        // All 32 posts come from one address with no key: lift the per-caller upload cap (32 by
         // default) above them, so the race under test is the idempotency key's, not the cap's.
         try (TestServer server = new TestServer(engine, dir, Map.of("BACKSTATE_MAX_UPLOADS_PER_KEY", "64"))) {
             server.publishDemoModels();

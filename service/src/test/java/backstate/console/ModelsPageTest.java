@@ -46,7 +46,9 @@ class ModelsPageTest {
             browser.find("section[data-family='reefer-40'] input[type=file]").sendKeys(document.toString());
             browser.find("section[data-family='reefer-40'] form.publish button[type=submit]").click();
 
-            new org.openqa.selenium.support.ui.WebDriverWait(browser.driver, ConsoleBrowser.PAGE_WAIT).until(d ->
+            // The page re-renders after the publish, so an element found mid-way may go stale: look again.
+            new org.openqa.selenium.support.ui.WebDriverWait(browser.driver, ConsoleBrowser.PAGE_WAIT)
+                    .ignoring(org.openqa.selenium.StaleElementReferenceException.class).until(d ->
                     "1,2,3".equals(d.findElement(org.openqa.selenium.By.cssSelector(
                             "section[data-family='reefer-40'] table")).getAttribute("data-versions")));
             JsonNode third = server.get("/v1/models/reefer-40/versions/3").json();
