@@ -16,7 +16,7 @@ export class ApiError extends Error {
       return 'The service needs an API key for this, or refused the one given (401). Type a valid key above.';
     }
     if (status === 403) {
-      return 'This key may not see this (403): ' + (problem?.detail ?? 'its role does not allow it');
+      return 'This key\'s role does not allow this (403): ' + (problem?.detail ?? 'ask for a key with the right role');
     }
     const fields = (problem?.errors ?? []).map(e => `${e.field}: ${e.message}`);
     const what = problem?.detail ?? problem?.title ?? `HTTP ${status}`;
