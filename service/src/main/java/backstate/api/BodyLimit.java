@@ -56,12 +56,29 @@ final class BodyLimit {
     }
 
     /**
+     * A filter whose single-byte read goes through its block read, so a subclass's counting and
+     * checks in {@code read(byte[], int, int)} see every byte however the caller reads.
+     */
+    private abstract static class BlockReads extends FilterInputStream {
+        BlockReads(InputStream in) {
+            super(in);
+        }
+
+        @Override
+        public int read() throws IOException {
+            byte[] one = new byte[1];
+            int n = read(one, 0, 1);
+            return n == 1 ? one[0] & 0xff : -1;
+        }
+    }
+
+    /**
      * The raw body on the wire: holds the upload permit until closed, and refuses a body that is
      * too slow. The checks run whenever a read returns, and a read that waits longer than the
      * connection's idle timeout fails, so a crawling or silent body is cut within the grace, the
      * longest body time or the idle timeout, whichever comes first.
      */
-    private static final class Paced extends FilterInputStream {
+    private static final class Paced extends BlockReads {
         private final UploadLimits limits;
         private final Uploads.Permit permit;
         private final long start = System.nanoTime();
@@ -71,13 +88,6 @@ final class BodyLimit {
             super(in);
             this.limits = limits;
             this.permit = permit;
-        }
-
-        @Override
-        public int read() throws IOException {
-            byte[] one = new byte[1];
-            int n = read(one, 0, 1);
-            return n == 1 ? one[0] & 0xff : -1;
         }
 
         @Override
@@ -129,7 +139,7 @@ final class BodyLimit {
     }
 
     /** Counts bytes read and fails with 413 past the cap; a truncated or corrupt stream becomes a 400. */
-    private static final class Capped extends FilterInputStream {
+    private static final class Capped extends BlockReads {
         private final long cap;
         private final String brokenStream;
         private long count;
@@ -138,13 +148,6 @@ final class BodyLimit {
             super(in);
             this.cap = cap;
             this.brokenStream = brokenStream;
-        }
-
-        @Override
-        public int read() throws IOException {
-            byte[] one = new byte[1];
-            int n = read(one, 0, 1);
-            return n == 1 ? one[0] & 0xff : -1;
         }
 
         @Override
