@@ -44,7 +44,7 @@ final class ServiceRoutes {
         ctx.json(Map.of("status", "alive"));
     }
 
-    /** Ready when the database answers, its start check found no damage, and the queue is below its limit. */
+    /** Ready when the database answers, no damage was found in it (at start or since), and the queue is below its limit. */
     void ready(Context ctx) {
         if (!store.isReachable()) {
             throw ApiProblem.busy("the database is not reachable");

@@ -43,9 +43,10 @@ public interface Database extends AutoCloseable {
     }
 
     /**
-     * What the start's integrity check found wrong with the database, on one line; null when it
-     * found nothing. SQLite checks its file at open; PostgreSQL checks its own pages as it reads
-     * them, so a start there runs nothing beyond the trivial query of {@link #isReachable()}.
+     * What the start's integrity check, or any statement since, found wrong with the database, on
+     * one line; null while nothing was. SQLite checks its file at open and remembers a damaged
+     * page met later; PostgreSQL checks its own pages as it reads them, so a start there runs
+     * nothing beyond the trivial query of {@link #isReachable()}.
      */
     default String damageOrNull() {
         return null;

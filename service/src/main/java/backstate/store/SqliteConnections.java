@@ -42,6 +42,7 @@ final class SqliteConnections implements Connections {
     private final WalCheckpoints checkpoints;
     private final List<Connection> allReaders = new ArrayList<>();
     private final BlockingQueue<Connection> idleReaders;
+    private final DamageLatch damage = new DamageLatch();
     private volatile boolean closed;
 
     SqliteConnections(Path file, SqliteSettings settings, UnaryOperator<Connection> writerDecorator) {
@@ -87,7 +88,7 @@ final class SqliteConnections implements Connections {
         try (Statements statements = new Statements(reader)) {
             return work.run(statements);
         } catch (SQLException e) {
-            throw SqliteErrors.translate(e);
+            throw damage.noted(SqliteErrors.translate(e));
         } finally {
             idleReaders.add(reader);
         }
@@ -110,7 +111,7 @@ final class SqliteConnections implements Connections {
                 reader.setAutoCommit(true);
             }
         } catch (SQLException e) {
-            throw SqliteErrors.translate(e);
+            throw damage.noted(SqliteErrors.translate(e));
         } finally {
             idleReaders.add(reader);
         }
@@ -122,7 +123,11 @@ final class SqliteConnections implements Connections {
      */
     @Override
     public <T> T write(SqlWork<T> work) {
-        return writer.write(work);
+        try {
+            return writer.write(work);
+        } catch (StoreException e) {
+            throw damage.noted(e);
+        }
     }
 
     /**
@@ -131,7 +136,16 @@ final class SqliteConnections implements Connections {
      */
     @Override
     public <T> T writeForWorker(SqlWork<T> work) {
-        return writer.writeForWorker(work);
+        try {
+            return writer.writeForWorker(work);
+        } catch (StoreException e) {
+            throw damage.noted(e);
+        }
+    }
+
+    /** The first damage to the file SQLite reported since it was opened; null while none was. */
+    String damageReportedOrNull() {
+        return damage.firstOrNull();
     }
 
     @Override

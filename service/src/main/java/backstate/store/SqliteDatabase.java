@@ -100,10 +100,13 @@ public final class SqliteDatabase implements Database {
         return regressions;
     }
 
-    /** What the start's {@code PRAGMA quick_check} found ({@link SqliteQuickCheck}); null when the file is sound. */
+    /**
+     * What the start's {@code PRAGMA quick_check} found ({@link SqliteQuickCheck}), else the first
+     * damage SQLite reported since ({@link DamageLatch}); null while neither found any.
+     */
     @Override
     public String damageOrNull() {
-        return damage;
+        return damage != null ? damage : db.damageReportedOrNull();
     }
 
     @Override

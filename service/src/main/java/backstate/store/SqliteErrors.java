@@ -19,13 +19,16 @@ final class SqliteErrors {
     private static final int SQLITE_FULL = 13;
     private static final int SQLITE_NOTADB = 26;
 
+    /** The item a {@link CorruptDataException} names when SQLite reports the file itself damaged. */
+    static final String DATABASE_FILE = "the database file";
+
     private SqliteErrors() {
     }
 
     static StoreException translate(SQLException e) {
         int primary = e.getErrorCode() & PRIMARY_CODE_MASK;
         if (primary == SQLITE_CORRUPT || primary == SQLITE_NOTADB) {
-            return new CorruptDataException("the database file", "SQLite reports it damaged: " + e.getMessage(), e);
+            return new CorruptDataException(DATABASE_FILE, "SQLite reports it damaged: " + e.getMessage(), e);
         }
         String reason = unavailableReason(e.getErrorCode() & PRIMARY_CODE_MASK);
         if (reason != null) {

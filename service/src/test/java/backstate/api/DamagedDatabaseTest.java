@@ -53,6 +53,35 @@ class DamagedDatabaseTest {
         }
     }
 
+    /**
+     * The same damage made while the service runs: the start's check passed, so readiness must
+     * learn of it from the first statement SQLite refuses (here a trace post, which writes the
+     * damaged table; the test's checkpoint resets the WAL, so no connection keeps the old page
+     * cached, https://sqlite.org/wal.html section 2).
+     */
+    @Test
+    void damage_that_appears_while_running_turns_readyz_503_at_the_first_statement_that_meets_it(@TempDir Path dir)
+            throws Exception {
+        TestDatabase database = Engine.SQLITE.newDatabase(dir, "damaged-later");
+        try (TestServer server = new TestServer(database, Map.of())) {
+            new DemoLoader(server.base()).load();
+            String estimateId = firstEstimate(database);
+            assertEquals(200, server.get("/readyz").status());
+
+            damageRootPage(database, "traces");
+            TestServer.Reply series = server.get("/v1/estimates/" + estimateId + "/series");
+            StoredCorruptionTest.assertCorruptProblem(series, "the database file");
+
+            TestServer.Reply ready = server.get("/readyz");
+            assertEquals(503, ready.status(), ready.body());
+            assertEquals("/problems/database-damaged", ready.json().get("type").asText());
+            assertTrue(ready.json().get("detail").asText().startsWith("the database is damaged (reported while running: "
+                    + "the database file is corrupt in storage: SQLite reports it damaged"), ready.body());
+            assertEquals(200, server.get("/healthz").status());
+            assertEquals(200, server.get("/v1/estimates/" + estimateId).status(), "the estimates table is intact");
+        }
+    }
+
     /** Overwrites the table's root page, but its first 100 bytes when it is page 1 (the file header). */
     private static void damageRootPage(TestDatabase database, String table) throws Exception {
         int page;

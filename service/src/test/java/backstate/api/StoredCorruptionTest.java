@@ -105,6 +105,28 @@ class StoredCorruptionTest {
         assertTrue(run.get("pass").asBoolean(), run.toString());
     }
 
+    /**
+     * A trace damaged between its post and its solve: the job is queued here by hand (one row,
+     * as the intake writes it) for a trace whose payload was overwritten, so the worker meets
+     * the damage. It must fail on its first attempt, saying in words which trace is damaged,
+     * rather than retry the same bytes or hang {@code running}.
+     */
+    @Test
+    void an_estimate_job_for_a_corrupt_trace_fails_at_once_naming_the_trace() throws Exception {
+        String[] damaged = estimates.get(4);
+        execute("UPDATE traces SET payload = ? WHERE id = ?", GARBAGE_PAYLOAD, damaged[2]);
+        String jobId = "corrupt-trace-job";
+        execute("INSERT INTO jobs (id, kind, state, trace_id, params_json, attempt, created_at, progress_done, progress_total)"
+                + " VALUES (?, 'estimate', 'queued', ?, NULL, 0, ?, 0, 0)", jobId, damaged[2], System.currentTimeMillis());
+
+        JsonNode job = server.awaitJob(jobId);
+        assertEquals("failed", job.get("state").asText(), job.toString());
+        assertEquals(1, job.get("attempt").asInt(), job.toString());
+        assertEquals(List.of("attempt 1: trace " + damaged[2] + " is damaged in storage and cannot be solved"),
+                server.mapper.convertValue(job.get("errors"), List.class), job.toString());
+        assertEquals(200, server.get("/readyz").status(), "one damaged item does not make the database unready");
+    }
+
     private JsonNode runV1AgainstItsCopy() throws InterruptedException {
         TestServer.Reply accepted = server.postJson("/v1/regressions", Map.of("family", FAMILY, "baseline", 1,
                 "candidate", copyOfV1, "traces", RegressionRunTest.LATEST));

@@ -39,14 +39,14 @@ class SlowUploadsTest {
     static final Duration CRAWL = Duration.ofSeconds(20);
     /** Far beyond a healthy answer; a read that takes this long is stalled behind the uploads. */
     static final Duration HANG_GUARD = Duration.ofSeconds(2);
+    /** Both upload caps at their highest (125, half the HTTP threads); every crawler shares one address. */
+    static final Map<String, String> WIDEST_CAPS = Map.of("BACKSTATE_MAX_UPLOADS", "125", "BACKSTATE_MAX_UPLOADS_PER_KEY", "125");
     static final String TRACE_POST = "POST " + HostileRequests.TRACES + " HTTP/1.1\r\nHost: 127.0.0.1\r\n"
             + "Content-Type: text/csv\r\nContent-Length: 100000\r\n\r\n" + ReeferTraces.CSV_HEADER;
 
     @Test
     void reads_and_health_answer_while_500_uploads_crawl(@TempDir Path dir) throws Exception {
-        // Both caps at their highest (125, half the HTTP threads); every crawler shares one address.
-        try (TestServer server = new TestServer(dir, Map.of("BACKSTATE_MAX_UPLOADS", "125",
-                "BACKSTATE_MAX_UPLOADS_PER_KEY", "125"))) {
+        try (TestServer server = new TestServer(dir, WIDEST_CAPS)) {
             server.publishDemoModels();
             String estimate = postAndSolveOneTrace(server);
             Crawl crawl = new Crawl(server.app().port());
@@ -93,7 +93,7 @@ class SlowUploadsTest {
         }
     }
 
-    private static String postAndSolveOneTrace(TestServer server) throws InterruptedException {
+    static String postAndSolveOneTrace(TestServer server) throws InterruptedException {
         TestServer.Reply posted = server.post(HostileRequests.TRACES, "text/csv", HostileRequests.validCsv(0));
         assertEquals(202, posted.status(), posted.body());
         assertEquals("succeeded", server.awaitJob(posted.json().path("jobId").asText()).path("state").asText());
