@@ -1,23 +1,36 @@
 #!/usr/bin/env bash
-# (a) 32 clients post small traces (1 000 samples, demo reefer model v1, n = 4): first as fast as
-# the service takes them (the sustained rate, stored AND solved end to end), then open loop at
-# each rate in RATES (default "300 50" traces/s; latency counted from each post's due time).
-# Bounded: TRACES posts per run (default 6 000, ceiling 100 000), then the queue drains.
-# UNPACED_RUNS=2 repeats the unpaced run on the same server: the first includes the JIT's
-# warm-up (a third of the server's CPU in its first 25 s), the second is the warm rate.
+# Ingest (bench/README.md, "Ingest"): 32 clients post small traces (1 000 samples, demo reefer
+# model v1, n = 4) to one server started cold on a fresh SQLite file, with the project's load driver.
+#  1. Unpaced from the cold start: as fast as the service takes them, TRACES posts (default
+#     6 000); the rate is stored AND solved end to end (last job finished), beside its target
+#     (600/s) and baseline (342-387/s).
+#  2. Warm-up: WARMUP_SECONDS (default 20) paced at RATE, printed but not counted.
+#  3. WINDOWS (default 5) consecutive windows of WINDOW_SECONDS (default 20) paced at RATE
+#     (default 300 traces/s offered, open loop: latency counts from each post's due time). Each
+#     window prints p50/p99/max beside the target (p99 <= 50 ms) and the baseline windows
+#     (121, 147, 91 ms), and what else happened in it: the server's GC pauses, safepoints and JIT
+#     compilations (from its -Xlog), the writer's queue wait, statements and COMMIT (fsync) and
+#     the background checkpoints (from /metrics), the server's CPU by thread group, the driver's
+#     own GC and the load average.
 # The driver posts over kept-alive plain sockets (LeanPoster) by default: it shares the 2 cores with
 # the server, and java.net.http costs it ~2.4 ms of CPU a post. DRIVER_CLIENT=jdk uses the JDK client.
+# SERVER_GC: the server's collector flags (default below, see bench/README.md "Ingest").
 source "$(dirname "$0")/common.sh"
+RATE="${RATE:-300}"
 build
+JVM_LOG="$WORK/server-jvm.log"
+SERVER_JAVA_OPTS="${SERVER_JAVA_OPTS:-} ${SERVER_GC-} -Xlog:gc,safepoint,jit+compilation=debug:file=$JVM_LOG:time,tags"
 start_server "${SERVER_HEAP:-1g}"
 echo "load average before: $(cut -d' ' -f1-3 /proc/loadavg) (other work on this machine skews every figure)"
-for _ in $(seq 1 "${UNPACED_RUNS:-1}"); do
-  time driver ingest --clients "${CLIENTS:-32}" --traces "${TRACES:-6000}" --samples "${SAMPLES:-1000}" --client "${DRIVER_CLIENT:-lean}"
-done
-for rate in ${RATES:-300 50}; do
-  # A paced run lasts TRACES / rate seconds at most; keep it near 20 s.
-  time driver ingest --clients "${CLIENTS:-32}" --traces "$((rate * ${PACED_SECONDS:-20}))" --samples "${SAMPLES:-1000}" --rate "$rate" --client "${DRIVER_CLIENT:-lean}"
-done
+common=(--clients "${CLIENTS:-32}" --samples "${SAMPLES:-1000}" --client "${DRIVER_CLIENT:-lean}"
+  --server-pid "$SERVER_PID" --jvm-log "$JVM_LOG")
+echo "== 1. unpaced from a cold start"
+time driver ingest "${common[@]}" --traces "${TRACES:-6000}" --target-rate 600 --baseline-rate 342,387
+echo "== 2. warm-up at $RATE traces/s, not counted"
+driver ingest "${common[@]}" --rate "$RATE" --traces "$((RATE * ${WARMUP_SECONDS:-20}))"
+echo "== 3. ${WINDOWS:-5} windows of ${WINDOW_SECONDS:-20} s at $RATE traces/s offered"
+driver ingest "${common[@]}" --rate "$RATE" --windows "${WINDOWS:-5}" --window-seconds "${WINDOW_SECONDS:-20}" \
+  --target-p99-ms 50 --baseline-p99-ms 121,147,91
 server_metric backstate_solve_duration_seconds
 server_metric backstate_job_duration_seconds
 server_cpu

@@ -23,6 +23,7 @@ import java.util.Set;
 import java.util.concurrent.ConcurrentLinkedQueue;
 import java.util.concurrent.ExecutorService;
 import java.util.concurrent.Executors;
+import java.util.concurrent.ScheduledExecutorService;
 import java.util.concurrent.ThreadLocalRandom;
 import java.util.concurrent.TimeUnit;
 import java.util.concurrent.atomic.AtomicInteger;
@@ -35,6 +36,8 @@ import java.util.concurrent.atomic.AtomicLong;
  *
  * <pre>
  * LoadDriver ingest --base URL --db FILE [--clients 32] [--traces 6000] [--samples 1000] [--rate R] [--client lean]
+ *                   [--windows 5 --window-seconds 20 --target-p99-ms 50 --baseline-p99-ms 121,147,91]
+ *                   [--server-pid PID] [--jvm-log FILE] [--target-rate 600 --baseline-rate 342,387]
  * LoadDriver mixed  --base URL --db FILE [--clients 32] [--seconds 60] [--samples 1000] [--units 64]
  * LoadDriver upload --base URL --db FILE [--samples 1000000] [--client lean]
  * LoadDriver offline [--samples 1000000]      parse + solve of the same CSV in this JVM, no server
@@ -93,11 +96,14 @@ public final class LoadDriver {
 
     private boolean ingest() throws Exception {
         int clients = bounded("clients", 32, MAX_CLIENTS);
-        int traces = bounded("traces", 6000, MAX_TRACES);
         int samples = bounded("samples", 1000, 2_000_000);
         // --rate R: open loop, post i is due at start + i/R and its latency counts from then, so a
         // slow server cannot hide its queueing by slowing the clients down. 0 (default): as fast as taken.
         int rate = flags.containsKey("rate") ? bounded("rate", 1, 100_000) : 0;
+        // --windows W (paced only): W windows of --window-seconds each, reported one by one (IngestWindows).
+        IngestWindows windows = windowsOrNull(rate);
+        int traces = windows == null ? bounded("traces", 6000, MAX_TRACES)
+                : Math.min(MAX_TRACES, rate * bounded("window-seconds", 20, MAX_SECONDS) * bounded("windows", 5, 100));
         List<byte[]> bodies = bodies(samples);
         LeanPoster lean = leanOrNull();
         long[] latency = new long[traces];
@@ -107,6 +113,8 @@ public final class LoadDriver {
         long jobsBefore = db.count("SELECT COUNT(*) FROM jobs");
         long startMillis = System.currentTimeMillis();
         long start = System.nanoTime();
+        ScheduledExecutorService edges = windows == null ? null : windowEdges(windows, start);
+        IngestWindows.Snapshot before = windows == null && flags.containsKey("server-pid") ? snapshot() : null;
         runClients(clients, Duration.ofSeconds(MAX_SECONDS), () -> {
             int i = next.getAndIncrement();
             if (i >= traces) {
@@ -136,6 +144,10 @@ public final class LoadDriver {
             return true;
         });
         double enqueueSeconds = (System.nanoTime() - start) / 1e9;
+        if (windows != null) {
+            edges.shutdownNow();
+            windows.edge(snapshot()); // the last window ends with its last answer
+        }
         awaitDrained();
         double endToEndSeconds = (lastFinishedMillis() - startMillis) / 1000.0;
         long succeeded = succeeded(jobs);
@@ -147,7 +159,73 @@ public final class LoadDriver {
                 endToEndSeconds, traces / endToEndSeconds);
         System.out.printf(Locale.ROOT, "  errors %d, jobs succeeded %d of %d accepted (%d jobs in the database before)%n",
                 errors.get(), succeeded, jobs.size(), jobsBefore);
-        return errors.get() == 0 && succeeded == traces;
+        if (rate == 0 && flags.containsKey("target-rate")) {
+            printRateAgainstTarget(traces / endToEndSeconds);
+        }
+        JvmLog log = JvmLog.read(pathOrNull("jvm-log"));
+        if (before != null) {
+            System.out.println("  from the first post until the queue drained:");
+            IngestWindows.printCauses(before, snapshot(), log);
+        }
+        boolean windowsWithin = windows == null || windows.print(latency, log);
+        return errors.get() == 0 && succeeded == traces && windowsWithin;
+    }
+
+    private IngestWindows windowsOrNull(int rate) {
+        if (!flags.containsKey("windows")) {
+            return null;
+        }
+        if (rate == 0) {
+            throw new IllegalArgumentException("got --windows without --rate, expected windows of a paced run");
+        }
+        int seconds = bounded("window-seconds", 20, MAX_SECONDS);
+        return new IngestWindows(bounded("windows", 5, 100), rate * seconds, seconds,
+                Double.parseDouble(flags.getOrDefault("target-p99-ms", "NaN")), numbers("baseline-p99-ms"));
+    }
+
+    /** A snapshot at the run's start, then one at each window's end but the last (taken when the posts end). */
+    private ScheduledExecutorService windowEdges(IngestWindows windows, long startNanos) {
+        windows.edge(snapshot());
+        ScheduledExecutorService timer = Executors.newSingleThreadScheduledExecutor();
+        long windowNanos = TimeUnit.SECONDS.toNanos(bounded("window-seconds", 20, MAX_SECONDS));
+        for (int w = 1; w < bounded("windows", 5, 100); w++) {
+            timer.schedule(() -> windows.edge(snapshot()), startNanos + w * windowNanos - System.nanoTime(),
+                    TimeUnit.NANOSECONDS);
+        }
+        return timer;
+    }
+
+    private IngestWindows.Snapshot snapshot() {
+        return IngestWindows.snapshot(() -> {
+            try {
+                Http.Reply r = http.get("/metrics");
+                return r.status() == 200 ? MetricsText.parse(r.body()) : MetricsText.EMPTY;
+            } catch (IOException | InterruptedException e) {
+                return MetricsText.EMPTY;
+            }
+        }, Long.parseLong(flags.getOrDefault("server-pid", "0")));
+    }
+
+    /** The sustained rate beside the target and the baseline range given as flags. */
+    private void printRateAgainstTarget(double sustained) {
+        double target = Double.parseDouble(flags.get("target-rate"));
+        double[] baseline = numbers("baseline-rate");
+        System.out.printf(Locale.ROOT, "  sustained %.0f traces/s = %.2f x target %.0f/s; %s x baseline %s traces/s%n",
+                sustained, sustained / target, target,
+                Arrays.stream(baseline).mapToObj(b -> String.format(Locale.ROOT, "%.2f", sustained / b))
+                        .reduce((x, y) -> x + "-" + y).orElse("?"),
+                Arrays.stream(baseline).mapToObj(b -> String.format(Locale.ROOT, "%.0f", b))
+                        .reduce((x, y) -> x + "-" + y).orElse("?"));
+    }
+
+    /** A comma-separated list of numbers; empty when the flag is absent. */
+    private double[] numbers(String name) {
+        String text = flags.get(name);
+        return text == null ? new double[0] : Arrays.stream(text.split(",")).mapToDouble(Double::parseDouble).toArray();
+    }
+
+    private Path pathOrNull(String name) {
+        return flags.containsKey(name) ? Path.of(flags.get(name)) : null;
     }
 
     // ---- (b) mixed: posts and reads for a fixed time
@@ -362,7 +440,7 @@ public final class LoadDriver {
         return v;
     }
 
-    private static double percentile(long[] nanos, int p) {
+    static double percentile(long[] nanos, int p) {
         if (nanos.length == 0) {
             return Double.NaN;
         }
