@@ -4,7 +4,11 @@
 #  1. Unpaced from the cold start: as fast as the service takes them, TRACES posts (default
 #     6 000); the rate is stored AND solved end to end (last job finished), beside its target
 #     (600/s) and baseline (342-387/s).
-#  2. Warm-up: WARMUP_SECONDS (default 20) paced at RATE, printed but not counted.
+#  2. Warm-up, printed but not counted, in the same driver JVM as step 3 and running straight
+#     into it: rounds of one window paced at RATE until one sees fewer than QUIET_JIT (default
+#     200) JIT compilations in the server, at most WARMUP_ROUNDS (default 4). On 2 cores the
+#     server's compiler threads take a third of a core or more for a minute after a cold start,
+#     and a fresh driver JVM spends its own first seconds compiling: start-up, not steady state.
 #  3. WINDOWS (default 5) consecutive windows of WINDOW_SECONDS (default 20) paced at RATE
 #     (default 300 traces/s offered, open loop: latency counts from each post's due time). Each
 #     window prints p50/p99/max beside the target (p99 <= 50 ms) and the baseline windows
@@ -14,23 +18,25 @@
 #     own GC and the load average.
 # The driver posts over kept-alive plain sockets (LeanPoster) by default: it shares the 2 cores with
 # the server, and java.net.http costs it ~2.4 ms of CPU a post. DRIVER_CLIENT=jdk uses the JDK client.
-# SERVER_GC: the server's collector flags (default below, see bench/README.md "Ingest").
+# SERVER_GC: the server's heap and collector flags; by default the heap is fixed at SERVER_HEAP
+# (-Xms = -Xmx), as bench/README.md "Ingest" advises for deployment: G1 then never shrinks the
+# heap under a steady load, which made young collections 7x as frequent and let the odd one stall.
 source "$(dirname "$0")/common.sh"
 RATE="${RATE:-300}"
 build
 JVM_LOG="$WORK/server-jvm.log"
-SERVER_JAVA_OPTS="${SERVER_JAVA_OPTS:-} ${SERVER_GC-} -Xlog:gc,safepoint,jit+compilation=debug:file=$JVM_LOG:time,tags"
+SERVER_GC="${SERVER_GC--Xms${SERVER_HEAP:-1g}}"
+SERVER_JAVA_OPTS="${SERVER_JAVA_OPTS:-} $SERVER_GC -Xlog:gc,safepoint,jit+compilation=debug:file=$JVM_LOG:time,tags"
 start_server "${SERVER_HEAP:-1g}"
 echo "load average before: $(cut -d' ' -f1-3 /proc/loadavg) (other work on this machine skews every figure)"
+echo "server JVM flags: $SERVER_GC -Xmx${SERVER_HEAP:-1g}"
 common=(--clients "${CLIENTS:-32}" --samples "${SAMPLES:-1000}" --client "${DRIVER_CLIENT:-lean}"
   --server-pid "$SERVER_PID" --jvm-log "$JVM_LOG")
 echo "== 1. unpaced from a cold start"
 time driver ingest "${common[@]}" --traces "${TRACES:-6000}" --target-rate 600 --baseline-rate 342,387
-echo "== 2. warm-up at $RATE traces/s, not counted"
-driver ingest "${common[@]}" --rate "$RATE" --traces "$((RATE * ${WARMUP_SECONDS:-20}))"
-echo "== 3. ${WINDOWS:-5} windows of ${WINDOW_SECONDS:-20} s at $RATE traces/s offered"
+echo "== 2. warm-up, then 3. ${WINDOWS:-5} windows of ${WINDOW_SECONDS:-20} s at $RATE traces/s offered"
 driver ingest "${common[@]}" --rate "$RATE" --windows "${WINDOWS:-5}" --window-seconds "${WINDOW_SECONDS:-20}" \
-  --target-p99-ms 50 --baseline-p99-ms 121,147,91
+  --warmup-rounds "${WARMUP_ROUNDS:-4}" --quiet-jit "${QUIET_JIT:-200}" --target-p99-ms 50 --baseline-p99-ms 121,147,91
 server_metric backstate_solve_duration_seconds
 server_metric backstate_job_duration_seconds
 server_cpu

@@ -27,7 +27,7 @@ final class IngestWindows {
 
     /** What was true at a window's edge. */
     record Snapshot(long epochMillis, MetricsText metrics, Map<String, Double> serverCpu, long driverGcCount,
-                    long driverGcMillis, String loadAverage) {
+                    long driverGcMillis, double driverCpuSeconds, String loadAverage) {
     }
 
     private static final Predicate<String> TRACE_POSTS = l -> l.contains("method=\"POST\"") && l.contains("/traces")
@@ -56,7 +56,9 @@ final class IngestWindows {
             millis += Math.max(0, gc.getCollectionTime());
         }
         Map<String, Double> cpu = serverPidOrZero == 0 ? Map.of() : ThreadCpu.of(serverPidOrZero);
-        return new Snapshot(System.currentTimeMillis(), scrape.get(), cpu, count, millis, loadAverage());
+        double driverCpu = ManagementFactory.getOperatingSystemMXBean() instanceof com.sun.management.OperatingSystemMXBean os
+                ? os.getProcessCpuTime() / 1e9 : Double.NaN;
+        return new Snapshot(System.currentTimeMillis(), scrape.get(), cpu, count, millis, driverCpu, loadAverage());
     }
 
     void edge(Snapshot s) {
@@ -102,9 +104,10 @@ final class IngestWindows {
         JvmLog.Tally sp = JvmLog.Tally.of(log.safepoints, a.epochMillis(), b.epochMillis());
         JvmLog.Tally jit = JvmLog.Tally.of(log.compilations, a.epochMillis(), b.epochMillis());
         System.out.printf(Locale.ROOT, "    server GC %d pauses, %.0f ms in all, longest %.1f ms; safepoints %d, %.0f ms,"
-                        + " longest %.1f ms; JIT %d compilations | driver GC %d, %d ms%n",
+                        + " longest %.1f ms; JIT %d compilations | driver GC %d, %d ms, CPU %.1f s%n",
                 gc.count(), gc.totalMillis(), gc.longestMillis(), sp.count(), sp.totalMillis(), sp.longestMillis(),
-                jit.count(), b.driverGcCount() - a.driverGcCount(), b.driverGcMillis() - a.driverGcMillis());
+                jit.count(), b.driverGcCount() - a.driverGcCount(), b.driverGcMillis() - a.driverGcMillis(),
+                b.driverCpuSeconds() - a.driverCpuSeconds());
         MetricsText m0 = a.metrics();
         MetricsText m1 = b.metrics();
         double batches = delta(m0, m1, "backstate_store_write_batch_count");

@@ -28,6 +28,7 @@ import java.util.concurrent.ThreadLocalRandom;
 import java.util.concurrent.TimeUnit;
 import java.util.concurrent.atomic.AtomicInteger;
 import java.util.concurrent.atomic.AtomicLong;
+import java.util.function.LongConsumer;
 
 /**
  * Load against a service on loopback, printing figures (run by bench/load/*.sh, never by the
@@ -37,6 +38,7 @@ import java.util.concurrent.atomic.AtomicLong;
  * <pre>
  * LoadDriver ingest --base URL --db FILE [--clients 32] [--traces 6000] [--samples 1000] [--rate R] [--client lean]
  *                   [--windows 5 --window-seconds 20 --target-p99-ms 50 --baseline-p99-ms 121,147,91]
+ *                   [--warmup-rounds 4 --quiet-jit 200]
  *                   [--server-pid PID] [--jvm-log FILE] [--target-rate 600 --baseline-rate 342,387]
  * LoadDriver mixed  --base URL --db FILE [--clients 32] [--seconds 60] [--samples 1000] [--units 64]
  * LoadDriver upload --base URL --db FILE [--samples 1000000] [--client lean]
@@ -106,15 +108,67 @@ public final class LoadDriver {
                 : Math.min(MAX_TRACES, rate * bounded("window-seconds", 20, MAX_SECONDS) * bounded("windows", 5, 100));
         List<byte[]> bodies = bodies(samples);
         LeanPoster lean = leanOrNull();
+        if (windows != null) {
+            warmUp(clients, rate, bodies, lean);
+        }
+        long jobsBefore = db.count("SELECT COUNT(*) FROM jobs");
+        IngestWindows.Snapshot before = windows == null && flags.containsKey("server-pid") ? snapshot() : null;
+        if (windows != null) {
+            windows.edge(snapshot()); // before the first post is due, so the scrape delays none
+        }
+        ScheduledExecutorService[] edges = new ScheduledExecutorService[1];
+        Posted posted = post(traces, rate, clients, bodies, lean,
+                start -> edges[0] = windows == null ? null : windowEdges(windows, start));
+        if (windows != null) {
+            edges[0].shutdownNow();
+            windows.edge(snapshot()); // the last window ends with its last answer
+        }
+        long[] latency = posted.latency();
+        ConcurrentLinkedQueue<String> jobs = posted.jobs();
+        AtomicInteger errors = posted.errors();
+        long startMillis = posted.startMillis();
+        double enqueueSeconds = posted.seconds();
+        awaitDrained();
+        double endToEndSeconds = (lastFinishedMillis() - startMillis) / 1000.0;
+        long succeeded = succeeded(jobs);
+        System.out.printf(Locale.ROOT, "ingest: %d traces x %d samples, %d clients, %s%n", traces, samples, clients,
+                rate == 0 ? "unpaced (as fast as taken)" : "paced at " + rate + " traces/s offered");
+        System.out.printf(Locale.ROOT, "  enqueue: %.1f s, %.0f traces/s; latency p50 %.1f ms, p99 %.1f ms, max %.1f ms%n",
+                enqueueSeconds, traces / enqueueSeconds, percentile(latency, 50), percentile(latency, 99), percentile(latency, 100));
+        System.out.printf(Locale.ROOT, "  stored and solved: %.1f s end to end, %.0f traces/s sustained%n",
+                endToEndSeconds, traces / endToEndSeconds);
+        System.out.printf(Locale.ROOT, "  errors %d, jobs succeeded %d of %d accepted (%d jobs in the database before)%n",
+                errors.get(), succeeded, jobs.size(), jobsBefore);
+        if (rate == 0 && flags.containsKey("target-rate")) {
+            printRateAgainstTarget(traces / endToEndSeconds);
+        }
+        JvmLog log = JvmLog.read(pathOrNull("jvm-log"));
+        if (before != null) {
+            System.out.println("  from the first post until the queue drained:");
+            IngestWindows.printCauses(before, snapshot(), log);
+        }
+        boolean windowsWithin = windows == null || windows.print(latency, log);
+        return errors.get() == 0 && succeeded == traces && windowsWithin;
+    }
+
+    /** What a run of posts left: each post's latency from its due time, the jobs accepted, the failures. */
+    private record Posted(long[] latency, ConcurrentLinkedQueue<String> jobs, AtomicInteger errors, long startMillis,
+                          double seconds) {
+    }
+
+    /**
+     * {@code traces} posts by {@code clients} threads, paced at {@code rate} a second (0: as fast
+     * as taken); {@code onStart} hears the System.nanoTime the first post is due at.
+     */
+    private Posted post(int traces, int rate, int clients, List<byte[]> bodies, LeanPoster lean, LongConsumer onStart)
+            throws InterruptedException {
         long[] latency = new long[traces];
         AtomicInteger next = new AtomicInteger();
         AtomicInteger errors = new AtomicInteger();
         ConcurrentLinkedQueue<String> jobs = new ConcurrentLinkedQueue<>();
-        long jobsBefore = db.count("SELECT COUNT(*) FROM jobs");
         long startMillis = System.currentTimeMillis();
         long start = System.nanoTime();
-        ScheduledExecutorService edges = windows == null ? null : windowEdges(windows, start);
-        IngestWindows.Snapshot before = windows == null && flags.containsKey("server-pid") ? snapshot() : null;
+        onStart.accept(start);
         runClients(clients, Duration.ofSeconds(MAX_SECONDS), () -> {
             int i = next.getAndIncrement();
             if (i >= traces) {
@@ -143,32 +197,30 @@ public final class LoadDriver {
             }
             return true;
         });
-        double enqueueSeconds = (System.nanoTime() - start) / 1e9;
-        if (windows != null) {
-            edges.shutdownNow();
-            windows.edge(snapshot()); // the last window ends with its last answer
+        return new Posted(latency, jobs, errors, startMillis, (System.nanoTime() - start) / 1e9);
+    }
+
+    /**
+     * --warmup-rounds R: before the measured windows, in this same JVM and over the same
+     * connections, rounds of one window each at the same rate, printed but not counted, until a
+     * round saw fewer than --quiet-jit server JIT compilations (default 200) or R rounds ran.
+     * The windows follow at once: the server is never idle in between.
+     */
+    private void warmUp(int clients, int rate, List<byte[]> bodies, LeanPoster lean) throws Exception {
+        int rounds = flags.containsKey("warmup-rounds") ? bounded("warmup-rounds", 1, 100) : 0;
+        int quietJit = bounded("quiet-jit", 200, Integer.MAX_VALUE - 1);
+        int posts = rate * bounded("window-seconds", 20, MAX_SECONDS);
+        for (int round = 1; round <= rounds; round++) {
+            Posted p = post(posts, rate, clients, bodies, lean, start -> { });
+            long end = System.currentTimeMillis();
+            JvmLog.Tally jit = JvmLog.Tally.of(JvmLog.read(pathOrNull("jvm-log")).compilations, p.startMillis(), end);
+            System.out.printf(Locale.ROOT, "  warm-up round %d (not counted): %d posts, p50 %.1f ms, p99 %.1f ms, errors %d;"
+                            + " server JIT %d compilations%n", round, posts, percentile(p.latency(), 50),
+                    percentile(p.latency(), 99), p.errors().get(), jit.count());
+            if (jit.count() < quietJit) {
+                return;
+            }
         }
-        awaitDrained();
-        double endToEndSeconds = (lastFinishedMillis() - startMillis) / 1000.0;
-        long succeeded = succeeded(jobs);
-        System.out.printf(Locale.ROOT, "ingest: %d traces x %d samples, %d clients, %s%n", traces, samples, clients,
-                rate == 0 ? "unpaced (as fast as taken)" : "paced at " + rate + " traces/s offered");
-        System.out.printf(Locale.ROOT, "  enqueue: %.1f s, %.0f traces/s; latency p50 %.1f ms, p99 %.1f ms, max %.1f ms%n",
-                enqueueSeconds, traces / enqueueSeconds, percentile(latency, 50), percentile(latency, 99), percentile(latency, 100));
-        System.out.printf(Locale.ROOT, "  stored and solved: %.1f s end to end, %.0f traces/s sustained%n",
-                endToEndSeconds, traces / endToEndSeconds);
-        System.out.printf(Locale.ROOT, "  errors %d, jobs succeeded %d of %d accepted (%d jobs in the database before)%n",
-                errors.get(), succeeded, jobs.size(), jobsBefore);
-        if (rate == 0 && flags.containsKey("target-rate")) {
-            printRateAgainstTarget(traces / endToEndSeconds);
-        }
-        JvmLog log = JvmLog.read(pathOrNull("jvm-log"));
-        if (before != null) {
-            System.out.println("  from the first post until the queue drained:");
-            IngestWindows.printCauses(before, snapshot(), log);
-        }
-        boolean windowsWithin = windows == null || windows.print(latency, log);
-        return errors.get() == 0 && succeeded == traces && windowsWithin;
     }
 
     private IngestWindows windowsOrNull(int rate) {
@@ -183,9 +235,8 @@ public final class LoadDriver {
                 Double.parseDouble(flags.getOrDefault("target-p99-ms", "NaN")), numbers("baseline-p99-ms"));
     }
 
-    /** A snapshot at the run's start, then one at each window's end but the last (taken when the posts end). */
+    /** A snapshot at each window's end but the last (taken when the posts end). */
     private ScheduledExecutorService windowEdges(IngestWindows windows, long startNanos) {
-        windows.edge(snapshot());
         ScheduledExecutorService timer = Executors.newSingleThreadScheduledExecutor();
         long windowNanos = TimeUnit.SECONDS.toNanos(bounded("window-seconds", 20, MAX_SECONDS));
         for (int w = 1; w < bounded("windows", 5, 100); w++) {
