@@ -3,7 +3,8 @@
 # model v1, n = 4) to one server started cold on a fresh SQLite file, with the project's load driver.
 #  1. Unpaced from the cold start: as fast as the service takes them, TRACES posts (default
 #     6 000); the rate is stored AND solved end to end (last job finished), beside its target
-#     (600/s) and baseline (342-387/s).
+#     (600/s) and baseline (342-387/s), with the server's GC, JIT, writer and CPU by thread group
+#     over the run. UNPACED_RUNS=2 repeats it on the same, now warm, server.
 #  2. Warm-up, printed but not counted, in the same driver JVM as step 3 and running straight
 #     into it: rounds of one window paced at RATE until one sees fewer than QUIET_JIT (default
 #     200) JIT compilations in the server, at most WARMUP_ROUNDS (default 4). On 2 cores the
@@ -20,7 +21,8 @@
 # the server, and java.net.http costs it ~2.4 ms of CPU a post. DRIVER_CLIENT=jdk uses the JDK client.
 # SERVER_GC: the server's heap and collector flags; by default the heap is fixed at SERVER_HEAP
 # (-Xms = -Xmx), as bench/README.md "Ingest" advises for deployment: G1 then never shrinks the
-# heap under a steady load, which made young collections 7x as frequent and let the odd one stall.
+# heap under a steady load (it went down to 137-207 MB of 1 GB), which made young collections
+# 4-5x as frequent: 15-20 in a 20 s window at 300/s, against 4 with the heap fixed.
 source "$(dirname "$0")/common.sh"
 RATE="${RATE:-300}"
 build
@@ -32,11 +34,19 @@ echo "load average before: $(cut -d' ' -f1-3 /proc/loadavg) (other work on this 
 echo "server JVM flags: $SERVER_GC -Xmx${SERVER_HEAP:-1g}"
 common=(--clients "${CLIENTS:-32}" --samples "${SAMPLES:-1000}" --client "${DRIVER_CLIENT:-lean}"
   --server-pid "$SERVER_PID" --jvm-log "$JVM_LOG")
-echo "== 1. unpaced from a cold start"
-time driver ingest "${common[@]}" --traces "${TRACES:-6000}" --target-rate 600 --baseline-rate 342,387
+# UNPACED_RUNS=2: the unpaced run again on the same server, warm (only the first is from a cold start).
+for run in $(seq 1 "${UNPACED_RUNS:-1}"); do
+  echo "== 1. unpaced, run $run$([ "$run" = 1 ] && echo ", from a cold start")"
+  time driver ingest "${common[@]}" --traces "${TRACES:-6000}" --target-rate 600 --baseline-rate 342,387
+done
 echo "== 2. warm-up, then 3. ${WINDOWS:-5} windows of ${WINDOW_SECONDS:-20} s at $RATE traces/s offered"
 driver ingest "${common[@]}" --rate "$RATE" --windows "${WINDOWS:-5}" --window-seconds "${WINDOW_SECONDS:-20}" \
   --warmup-rounds "${WARMUP_ROUNDS:-4}" --quiet-jit "${QUIET_JIT:-200}" --target-p99-ms 50 --baseline-p99-ms 121,147,91
+# RATES="50 ...": extra paced runs of ~PACED_SECONDS (default 20) each after the windows, reported whole.
+for rate in ${RATES:-}; do
+  echo "== extra run paced at $rate traces/s"
+  driver ingest "${common[@]}" --rate "$rate" --traces "$((rate * ${PACED_SECONDS:-20}))"
+done
 server_metric backstate_solve_duration_seconds
 server_metric backstate_job_duration_seconds
 server_cpu
