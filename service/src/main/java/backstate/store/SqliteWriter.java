@@ -40,6 +40,9 @@ import java.util.function.BooleanSupplier;
  *       handed over, then closes the statements and the connection.</li>
  * </ul>
  *
+ * <p>Every batch is timed in {@link SqliteMeters}: each request's wait for it, its statements, its
+ * COMMIT and its size, so /metrics shows which of them a slow write spent its time in.
+ *
  * <p>Callers wait without being interruptible: once handed over, work is done, and its caller
  * hears how it went (an interrupt is kept for the caller to see afterwards).
  */
