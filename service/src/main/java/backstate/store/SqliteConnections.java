@@ -45,7 +45,8 @@ final class SqliteConnections implements Connections {
     private final DamageLatch damage = new DamageLatch();
     private volatile boolean closed;
 
-    SqliteConnections(Path file, SqliteSettings settings, UnaryOperator<Connection> writerDecorator) {
+    SqliteConnections(Path file, SqliteSettings settings, UnaryOperator<Connection> writerDecorator,
+                      SqliteMeters meters) {
         this.dataSource = new SQLiteDataSource(pragmas(settings));
         dataSource.setUrl("jdbc:sqlite:" + file.toAbsolutePath());
         this.idleReaders = new ArrayBlockingQueue<>(settings.readConnections());
@@ -61,14 +62,14 @@ final class SqliteConnections implements Connections {
                 allReaders.add(reader);
                 idleReaders.add(reader);
             }
-            checkpointer = new WalCheckpoints(dataSource, WalCheckpoints.DEFAULT_INTERVAL);
+            checkpointer = new WalCheckpoints(dataSource, WalCheckpoints.DEFAULT_INTERVAL, meters);
         } catch (SQLException e) {
             closeQuietly(writerConnection);
             allReaders.forEach(SqliteConnections::closeQuietly);
             throw SqliteErrors.translate(e);
         }
         this.checkpoints = checkpointer;
-        this.writer = new SqliteWriter(writerConnection);
+        this.writer = new SqliteWriter(writerConnection, meters);
     }
 
     /** Where Flyway and tests open their own connections, with the same pragmas. */

@@ -1,9 +1,11 @@
 package backstate.store;
 
 import backstate.jobs.JobQueue;
+import io.micrometer.core.instrument.MeterRegistry;
 import java.nio.file.Path;
 import java.sql.Connection;
 import java.time.Clock;
+import java.util.Objects;
 import java.util.function.UnaryOperator;
 
 /**
@@ -34,15 +36,26 @@ public final class SqliteDatabase implements Database {
     }
 
     public SqliteDatabase(Path file, Clock clock, SqliteSettings settings) {
-        this(file, clock, settings, UnaryOperator.identity());
+        this(file, clock, settings, UnaryOperator.identity(), SqliteMeters.unpublished());
+    }
+
+    /** With the writer's and checkpointer's meters ({@link SqliteMeters}) published in {@code registry}. */
+    public SqliteDatabase(Path file, Clock clock, MeterRegistry registry) {
+        this(file, clock, SqliteSettings.defaults(), UnaryOperator.identity(),
+                new SqliteMeters(Objects.requireNonNull(registry, "registry")));
     }
 
     /** For fault tests: {@code writerDecorator} wraps the write connection once it is open. */
     SqliteDatabase(Path file, Clock clock, SqliteSettings settings, UnaryOperator<Connection> writerDecorator) {
+        this(file, clock, settings, writerDecorator, SqliteMeters.unpublished());
+    }
+
+    private SqliteDatabase(Path file, Clock clock, SqliteSettings settings, UnaryOperator<Connection> writerDecorator,
+                           SqliteMeters meters) {
         Expect.notNull("file", file);
         Expect.notNull("clock", clock);
         Expect.notNull("settings", settings);
-        this.db = new SqliteConnections(file, settings, writerDecorator);
+        this.db = new SqliteConnections(file, settings, writerDecorator, meters);
         try {
             this.damage = SqliteQuickCheck.damageOrNull(db.dataSource(), SqliteQuickCheck.DEFAULT_BUDGET);
             Migrations.migrate(db.dataSource(), Migrations.SQLITE);

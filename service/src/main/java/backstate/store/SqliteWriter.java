@@ -40,6 +40,9 @@ import java.util.function.BooleanSupplier;
  *       handed over, then closes the statements and the connection.</li>
  * </ul>
  *
+ * <p>Every batch is timed in {@link SqliteMeters}: each request's wait for it, its statements, its
+ * COMMIT and its size, so /metrics shows which of them a slow write spent its time in.
+ *
  * <p>Callers wait without being interruptible: once handed over, work is done, and its caller
  * hears how it went (an interrupt is kept for the caller to see afterwards).
  */
@@ -54,6 +57,7 @@ final class SqliteWriter implements AutoCloseable {
 
     private final Connection connection;
     private final Statements statements;
+    private final SqliteMeters meters;
     private final Thread thread;
     private final ReentrantLock lock = new ReentrantLock();
     private final Condition arrived = lock.newCondition();
@@ -62,8 +66,13 @@ final class SqliteWriter implements AutoCloseable {
     private boolean closed;
 
     SqliteWriter(Connection connection) {
+        this(connection, SqliteMeters.unpublished());
+    }
+
+    SqliteWriter(Connection connection, SqliteMeters meters) {
         this.connection = connection;
         this.statements = new Statements(connection);
+        this.meters = meters;
         this.thread = new Thread(this::commitUntilClosed, "backstate-writer");
         thread.setDaemon(true);
         thread.start();
@@ -129,6 +138,8 @@ final class SqliteWriter implements AutoCloseable {
     /** One caller's work, and where its outcome waits until its batch has committed. */
     private static final class Request<T> {
         final SqlWork<T> work;
+        /** When the caller handed the work over (System.nanoTime), for the wait it spent queued. */
+        final long handedOverNanos = System.nanoTime();
         private final CountDownLatch answered = new CountDownLatch(1);
         private T result;
         private Throwable failure;
@@ -232,6 +243,8 @@ final class SqliteWriter implements AutoCloseable {
     }
 
     private void commit(List<Request<?>> batch) {
+        long begin = System.nanoTime();
+        batch.forEach(r -> meters.waited(begin - r.handedOverNanos));
         try {
             // BEGIN IMMEDIATE is SQLite's; PostgreSQL's plain BEGIN plus row locks does the same job.
             statements.execute("BEGIN IMMEDIATE");
@@ -239,7 +252,9 @@ final class SqliteWriter implements AutoCloseable {
                 for (Request<?> r : batch) {
                     runInSavepoint(r);
                 }
+                long worked = System.nanoTime();
                 statements.execute("COMMIT");
+                meters.batch(batch.size(), worked - begin, System.nanoTime() - worked);
             } catch (SQLException | RuntimeException | Error e) {
                 rollbackAfter(e);
                 throw e;

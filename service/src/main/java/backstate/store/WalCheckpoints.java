@@ -40,13 +40,20 @@ final class WalCheckpoints implements AutoCloseable {
 
     private final Connection connection;
     private final Duration interval;
+    private final SqliteMeters meters;
     private final Thread thread;
     private volatile boolean closed;
     private String lastFailure;
 
     /** Opens its own connection from {@code dataSource} and starts checkpointing. */
     WalCheckpoints(DataSource dataSource, Duration interval) throws SQLException {
+        this(dataSource, interval, SqliteMeters.unpublished());
+    }
+
+    /** As above, timing each round in {@code meters}. */
+    WalCheckpoints(DataSource dataSource, Duration interval, SqliteMeters meters) throws SQLException {
         this.interval = Objects.requireNonNull(interval, "interval");
+        this.meters = Objects.requireNonNull(meters, "meters");
         this.connection = dataSource.getConnection();
         this.thread = new Thread(this::checkpointUntilClosed, "backstate-checkpoint");
         thread.setDaemon(true);
@@ -66,10 +73,13 @@ final class WalCheckpoints implements AutoCloseable {
      */
     int[] checkpoint() throws SQLException {
         synchronized (connection) {
+            long start = System.nanoTime();
             try (Statement s = connection.createStatement();
                  ResultSet rs = s.executeQuery("PRAGMA wal_checkpoint(PASSIVE)")) {
                 rs.next();
-                return new int[] {rs.getInt(1), rs.getInt(2), rs.getInt(3)};
+                int[] answer = {rs.getInt(1), rs.getInt(2), rs.getInt(3)};
+                meters.checkpointed(System.nanoTime() - start, answer[1]);
+                return answer;
             }
         }
     }

@@ -23,10 +23,12 @@ import java.util.Set;
 import java.util.concurrent.ConcurrentLinkedQueue;
 import java.util.concurrent.ExecutorService;
 import java.util.concurrent.Executors;
+import java.util.concurrent.ScheduledExecutorService;
 import java.util.concurrent.ThreadLocalRandom;
 import java.util.concurrent.TimeUnit;
 import java.util.concurrent.atomic.AtomicInteger;
 import java.util.concurrent.atomic.AtomicLong;
+import java.util.function.LongConsumer;
 
 /**
  * Load against a service on loopback, printing figures (run by bench/load/*.sh, never by the
@@ -35,6 +37,9 @@ import java.util.concurrent.atomic.AtomicLong;
  *
  * <pre>
  * LoadDriver ingest --base URL --db FILE [--clients 32] [--traces 6000] [--samples 1000] [--rate R] [--client lean]
+ *                   [--windows 5 --window-seconds 20 --target-p99-ms 50 --baseline-p99-ms 121,147,91]
+ *                   [--warmup-rounds 4 --quiet-jit 200]
+ *                   [--server-pid PID] [--jvm-log FILE] [--target-rate 600 --baseline-rate 342,387]
  * LoadDriver mixed  --base URL --db FILE [--clients 32] [--seconds 60] [--samples 1000] [--units 64]
  * LoadDriver upload --base URL --db FILE [--samples 1000000] [--client lean]
  * LoadDriver offline [--samples 1000000]      parse + solve of the same CSV in this JVM, no server
@@ -93,20 +98,77 @@ public final class LoadDriver {
 
     private boolean ingest() throws Exception {
         int clients = bounded("clients", 32, MAX_CLIENTS);
-        int traces = bounded("traces", 6000, MAX_TRACES);
         int samples = bounded("samples", 1000, 2_000_000);
         // --rate R: open loop, post i is due at start + i/R and its latency counts from then, so a
         // slow server cannot hide its queueing by slowing the clients down. 0 (default): as fast as taken.
         int rate = flags.containsKey("rate") ? bounded("rate", 1, 100_000) : 0;
+        // --windows W (paced only): W windows of --window-seconds each, reported one by one (IngestWindows).
+        IngestWindows windows = windowsOrNull(rate);
+        int traces = windows == null ? bounded("traces", 6000, MAX_TRACES)
+                : Math.min(MAX_TRACES, rate * bounded("window-seconds", 20, MAX_SECONDS) * bounded("windows", 5, 100));
         List<byte[]> bodies = bodies(samples);
         LeanPoster lean = leanOrNull();
+        if (windows != null) {
+            warmUp(clients, rate, bodies, lean);
+        }
+        long jobsBefore = db.count("SELECT COUNT(*) FROM jobs");
+        IngestWindows.Snapshot before = windows == null && flags.containsKey("server-pid") ? snapshot() : null;
+        if (windows != null) {
+            windows.edge(snapshot()); // before the first post is due, so the scrape delays none
+        }
+        ScheduledExecutorService[] edges = new ScheduledExecutorService[1];
+        Posted posted = post(traces, rate, clients, bodies, lean,
+                start -> edges[0] = windows == null ? null : windowEdges(windows, start));
+        if (windows != null) {
+            edges[0].shutdownNow();
+            windows.edge(snapshot()); // the last window ends with its last answer
+        }
+        long[] latency = posted.latency();
+        ConcurrentLinkedQueue<String> jobs = posted.jobs();
+        AtomicInteger errors = posted.errors();
+        long startMillis = posted.startMillis();
+        double enqueueSeconds = posted.seconds();
+        awaitDrained();
+        double endToEndSeconds = (lastFinishedMillis() - startMillis) / 1000.0;
+        long succeeded = succeeded(jobs);
+        System.out.printf(Locale.ROOT, "ingest: %d traces x %d samples, %d clients, %s%n", traces, samples, clients,
+                rate == 0 ? "unpaced (as fast as taken)" : "paced at " + rate + " traces/s offered");
+        System.out.printf(Locale.ROOT, "  enqueue: %.1f s, %.0f traces/s; latency p50 %.1f ms, p99 %.1f ms, max %.1f ms%n",
+                enqueueSeconds, traces / enqueueSeconds, percentile(latency, 50), percentile(latency, 99), percentile(latency, 100));
+        System.out.printf(Locale.ROOT, "  stored and solved: %.1f s end to end, %.0f traces/s sustained%n",
+                endToEndSeconds, traces / endToEndSeconds);
+        System.out.printf(Locale.ROOT, "  errors %d, jobs succeeded %d of %d accepted (%d jobs in the database before)%n",
+                errors.get(), succeeded, jobs.size(), jobsBefore);
+        if (rate == 0 && flags.containsKey("target-rate")) {
+            printRateAgainstTarget(traces / endToEndSeconds);
+        }
+        JvmLog log = JvmLog.read(pathOrNull("jvm-log"));
+        if (before != null) {
+            System.out.println("  from the first post until the queue drained:");
+            IngestWindows.printCauses(before, snapshot(), log);
+        }
+        boolean windowsWithin = windows == null || windows.print(latency, log);
+        return errors.get() == 0 && succeeded == traces && windowsWithin;
+    }
+
+    /** What a run of posts left: each post's latency from its due time, the jobs accepted, the failures. */
+    private record Posted(long[] latency, ConcurrentLinkedQueue<String> jobs, AtomicInteger errors, long startMillis,
+                          double seconds) {
+    }
+
+    /**
+     * {@code traces} posts by {@code clients} threads, paced at {@code rate} a second (0: as fast
+     * as taken); {@code onStart} hears the System.nanoTime the first post is due at.
+     */
+    private Posted post(int traces, int rate, int clients, List<byte[]> bodies, LeanPoster lean, LongConsumer onStart)
+            throws InterruptedException {
         long[] latency = new long[traces];
         AtomicInteger next = new AtomicInteger();
         AtomicInteger errors = new AtomicInteger();
         ConcurrentLinkedQueue<String> jobs = new ConcurrentLinkedQueue<>();
-        long jobsBefore = db.count("SELECT COUNT(*) FROM jobs");
         long startMillis = System.currentTimeMillis();
         long start = System.nanoTime();
+        onStart.accept(start);
         runClients(clients, Duration.ofSeconds(MAX_SECONDS), () -> {
             int i = next.getAndIncrement();
             if (i >= traces) {
@@ -135,19 +197,86 @@ public final class LoadDriver {
             }
             return true;
         });
-        double enqueueSeconds = (System.nanoTime() - start) / 1e9;
-        awaitDrained();
-        double endToEndSeconds = (lastFinishedMillis() - startMillis) / 1000.0;
-        long succeeded = succeeded(jobs);
-        System.out.printf(Locale.ROOT, "ingest: %d traces x %d samples, %d clients, %s%n", traces, samples, clients,
-                rate == 0 ? "unpaced (as fast as taken)" : "paced at " + rate + " traces/s offered");
-        System.out.printf(Locale.ROOT, "  enqueue: %.1f s, %.0f traces/s; latency p50 %.1f ms, p99 %.1f ms, max %.1f ms%n",
-                enqueueSeconds, traces / enqueueSeconds, percentile(latency, 50), percentile(latency, 99), percentile(latency, 100));
-        System.out.printf(Locale.ROOT, "  stored and solved: %.1f s end to end, %.0f traces/s sustained%n",
-                endToEndSeconds, traces / endToEndSeconds);
-        System.out.printf(Locale.ROOT, "  errors %d, jobs succeeded %d of %d accepted (%d jobs in the database before)%n",
-                errors.get(), succeeded, jobs.size(), jobsBefore);
-        return errors.get() == 0 && succeeded == traces;
+        return new Posted(latency, jobs, errors, startMillis, (System.nanoTime() - start) / 1e9);
+    }
+
+    /**
+     * --warmup-rounds R: before the measured windows, in this same JVM and over the same
+     * connections, rounds of one window each at the same rate, printed but not counted, until a
+     * round saw fewer than --quiet-jit server JIT compilations (default 200) or R rounds ran.
+     * The windows follow at once: the server is never idle in between.
+     */
+    private void warmUp(int clients, int rate, List<byte[]> bodies, LeanPoster lean) throws Exception {
+        int rounds = flags.containsKey("warmup-rounds") ? bounded("warmup-rounds", 1, 100) : 0;
+        int quietJit = bounded("quiet-jit", 200, Integer.MAX_VALUE - 1);
+        int posts = rate * bounded("window-seconds", 20, MAX_SECONDS);
+        for (int round = 1; round <= rounds; round++) {
+            Posted p = post(posts, rate, clients, bodies, lean, start -> { });
+            long end = System.currentTimeMillis();
+            JvmLog.Tally jit = JvmLog.Tally.of(JvmLog.read(pathOrNull("jvm-log")).compilations, p.startMillis(), end);
+            System.out.printf(Locale.ROOT, "  warm-up round %d (not counted): %d posts, p50 %.1f ms, p99 %.1f ms, errors %d;"
+                            + " server JIT %d compilations%n", round, posts, percentile(p.latency(), 50),
+                    percentile(p.latency(), 99), p.errors().get(), jit.count());
+            if (jit.count() < quietJit) {
+                return;
+            }
+        }
+    }
+
+    private IngestWindows windowsOrNull(int rate) {
+        if (!flags.containsKey("windows")) {
+            return null;
+        }
+        if (rate == 0) {
+            throw new IllegalArgumentException("got --windows without --rate, expected windows of a paced run");
+        }
+        int seconds = bounded("window-seconds", 20, MAX_SECONDS);
+        return new IngestWindows(bounded("windows", 5, 100), rate * seconds, seconds,
+                Double.parseDouble(flags.getOrDefault("target-p99-ms", "NaN")), numbers("baseline-p99-ms"));
+    }
+
+    /** A snapshot at each window's end but the last (taken when the posts end). */
+    private ScheduledExecutorService windowEdges(IngestWindows windows, long startNanos) {
+        ScheduledExecutorService timer = Executors.newSingleThreadScheduledExecutor();
+        long windowNanos = TimeUnit.SECONDS.toNanos(bounded("window-seconds", 20, MAX_SECONDS));
+        for (int w = 1; w < bounded("windows", 5, 100); w++) {
+            timer.schedule(() -> windows.edge(snapshot()), startNanos + w * windowNanos - System.nanoTime(),
+                    TimeUnit.NANOSECONDS);
+        }
+        return timer;
+    }
+
+    private IngestWindows.Snapshot snapshot() {
+        return IngestWindows.snapshot(() -> {
+            try {
+                Http.Reply r = http.get("/metrics");
+                return r.status() == 200 ? MetricsText.parse(r.body()) : MetricsText.EMPTY;
+            } catch (IOException | InterruptedException e) {
+                return MetricsText.EMPTY;
+            }
+        }, Long.parseLong(flags.getOrDefault("server-pid", "0")));
+    }
+
+    /** The sustained rate beside the target and the baseline range given as flags. */
+    private void printRateAgainstTarget(double sustained) {
+        double target = Double.parseDouble(flags.get("target-rate"));
+        double[] baseline = numbers("baseline-rate");
+        System.out.printf(Locale.ROOT, "  sustained %.0f traces/s = %.2f x target %.0f/s; %s x baseline %s traces/s%n",
+                sustained, sustained / target, target,
+                Arrays.stream(baseline).mapToObj(b -> String.format(Locale.ROOT, "%.2f", sustained / b))
+                        .reduce((x, y) -> x + "-" + y).orElse("?"),
+                Arrays.stream(baseline).mapToObj(b -> String.format(Locale.ROOT, "%.0f", b))
+                        .reduce((x, y) -> x + "-" + y).orElse("?"));
+    }
+
+    /** A comma-separated list of numbers; empty when the flag is absent. */
+    private double[] numbers(String name) {
+        String text = flags.get(name);
+        return text == null ? new double[0] : Arrays.stream(text.split(",")).mapToDouble(Double::parseDouble).toArray();
+    }
+
+    private Path pathOrNull(String name) {
+        return flags.containsKey(name) ? Path.of(flags.get(name)) : null;
     }
 
     // ---- (b) mixed: posts and reads for a fixed time
@@ -362,7 +491,7 @@ public final class LoadDriver {
         return v;
     }
 
-    private static double percentile(long[] nanos, int p) {
+    static double percentile(long[] nanos, int p) {
         if (nanos.length == 0) {
             return Double.NaN;
         }
