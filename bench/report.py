@@ -62,14 +62,15 @@ def scaling_table(path):
     rows = java_rows(path)
     base = rows[0]
     print(f"| N | Java median (min) s | time / time at {label(int(base['samples']))} | samples ratio "
-          "| ns per sample (median) | allocated MB/solve | peak live heap above the trace MB |")
-    print("|---|---|---|---|---|---|---|")
+          "| ns per sample (median) | trace MB | allocated MB/solve | peak live heap above the trace MB |")
+    print("|---|---|---|---|---|---|---|---|")
     for row in rows:
         samples = int(row["samples"])
         median = float(row["median_s"])
         print(f"| {label(samples)} | {median:.4f} ({float(row['min_s']):.4f}) "
               f"| {median / float(base['median_s']):.2f} | {samples / int(base['samples']):g} "
-              f"| {median / samples * 1e9:.0f} | {float(row['alloc_mb']):.2f} | {float(row['live_peak_mb']):.2f} |")
+              f"| {median / samples * 1e9:.0f} | {float(row.get('trace_mb') or 'nan'):.0f} "
+              f"| {float(row['alloc_mb']):.2f} | {float(row['live_peak_mb']):.2f} |")
 
 
 def main(numpy_file, java_files):
