@@ -1,5 +1,7 @@
 package backstate.estimation;
 
+import java.util.Arrays;
+
 /**
  * Streams one channel's measured values and residuals into the statistics of {@link ChannelDiagnostics}.
  * Accumulators of consecutive stretches of a trace can be joined ({@link #append}), so that the
@@ -8,6 +10,8 @@ package backstate.estimation;
 final class ChannelAccumulator {
     /** Measured values gathered before their mean and spread are merged into the running ones. */
     static final int BATCH = 256;
+    /** A batch of ones, read by {@link #flush} and never written. */
+    private static final double[] ONES = ones(BATCH);
 
     private final double sigma;
     private final LjungBox whiteness;
@@ -47,42 +51,20 @@ final class ChannelAccumulator {
     /**
      * Merges the batched values: their own mean and spread by two passes over the batch, then the
      * pairwise update below (the batched form of the updating algorithms of Chan, Golub &amp;
-     * LeVeque 1979) — one division a batch instead of one a value as in Welford's update. Each pass
-     * sums in four interleaved partial sums (Higham 2002, Accuracy and Stability of Numerical
-     * Algorithms, §4.2: the same error bound as one sum), four chains of adds instead of one.
+     * LeVeque 1979) — one division a batch instead of one a value as in Welford's update. Both
+     * passes are {@link Matrices#dot} (four partial sums, four chains of adds instead of one): the
+     * sum as the dot with ones (exact products), the spread as the centred batch's dot with itself.
      */
     private void flush() {
         if (batched == 0) {
             return;
         }
-        double mean = partialSums(pending, batched, 0.0, false) / batched;
-        double spread = partialSums(pending, batched, mean, true);
-        mergeMoments(batched, mean, spread);
+        double mean = Matrices.dot(pending, 0, ONES, 0, batched) / batched;
+        for (int i = 0; i < batched; i++) {
+            pending[i] -= mean;
+        }
+        mergeMoments(batched, mean, Matrices.dot(pending, 0, pending, 0, batched));
         batched = 0;
-    }
-
-    /** Σ (v_i − shift), or Σ (v_i − shift)² when {@code squared}, over v[0 … count−1], in four partial sums. */
-    private static double partialSums(double[] v, int count, double shift, boolean squared) {
-        double s0 = 0.0;
-        double s1 = 0.0;
-        double s2 = 0.0;
-        double s3 = 0.0;
-        int i = 0;
-        for (; i + 3 < count; i += 4) {
-            double d0 = v[i] - shift;
-            double d1 = v[i + 1] - shift;
-            double d2 = v[i + 2] - shift;
-            double d3 = v[i + 3] - shift;
-            s0 += squared ? d0 * d0 : d0;
-            s1 += squared ? d1 * d1 : d1;
-            s2 += squared ? d2 * d2 : d2;
-            s3 += squared ? d3 * d3 : d3;
-        }
-        for (; i < count; i++) {
-            double d = v[i] - shift;
-            s0 += squared ? d * d : d;
-        }
-        return (s0 + s1) + (s2 + s3);
     }
 
     /** Pairwise update of the running mean and spread with another stretch's (see {@link #append}). */
@@ -113,6 +95,12 @@ final class ChannelAccumulator {
         maxAbs = Math.max(maxAbs, later.maxAbs);
         outliers += later.outliers;
         whiteness.append(later.whiteness);
+    }
+
+    private static double[] ones(int length) {
+        double[] out = new double[length];
+        Arrays.fill(out, 1.0);
+        return out;
     }
 
     ChannelDiagnostics finish(ChannelDiagnostics.SigmaSource source) {
