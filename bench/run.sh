@@ -22,7 +22,8 @@ SMALL_HEAP=${SMALL_HEAP:-256m}
 TIMING_HEAP_OPTS=${TIMING_HEAP_OPTS:--Xms2g -Xmx2g -XX:+AlwaysPreTouch}
 mkdir -p "$OUT"
 # Other work on the machine skews timings: the load average is printed before and after.
-echo "load average at start: $(cut -d' ' -f1-3 /proc/loadavg)"
+START_LOAD=$(cut -d' ' -f1-3 /proc/loadavg)
+echo "load average at start: $START_LOAD"
 if awk '{ exit !($1 > 0.5) }' /proc/loadavg; then
   echo "WARNING: the machine is busy (1-minute load > 0.5); timings will be skewed, numpy's 2 BLAS threads most"
 fi
@@ -56,6 +57,11 @@ env -u OPENBLAS_CORETYPE -u OPENBLAS_L2_SIZE python3 bench/numpy_lstsq.py "$TRAC
   "$REPEATS" $NUMPY_SIZES
 
 echo
-echo "load average at end: $(cut -d' ' -f1-3 /proc/loadavg)"
+END_LOAD=$(cut -d' ' -f1-3 /proc/loadavg)
+echo "load average at end: $END_LOAD"
 echo "== Results ($(nproc) cores)"
-python3 bench/report.py "$OUT/numpy.json" "$OUT/java.tsv" "$OUT/java_small_heap.tsv" | tee "$OUT/report.md"
+{
+  echo "Load average (1, 5, 15 min): $START_LOAD at the start, $END_LOAD at the end; $(nproc) cores."
+  echo
+  python3 bench/report.py "$OUT/numpy.json" "$OUT/java.tsv" "$OUT/java_small_heap.tsv"
+} | tee "$OUT/report.md"
