@@ -1,11 +1,17 @@
 #!/usr/bin/env bash
-# Speed and memory benchmark of the estimation engine against a dense NumPy lstsq on the same trace.
-# Builds the service and bench jars, writes the trace once (bench/out/trace.bin), times both sides,
+# Speed and memory benchmark of the estimation engine against the fastest dense NumPy route on the same trace.
+# Builds the service and bench jars, writes the trace once (bench/out/trace-2000000.bin), times both sides,
 # and prints a Markdown table (also saved to bench/out/report.md). See bench/README.md.
 set -euo pipefail
 
 cd "$(dirname "$0")/.."
 OUT=bench/out
+# Java times every size (the scaling table); NumPy the sizes with a target (10^6 rows of the dense
+# route take 240 MB, 2*10^6 twice that plus lstsq's copies).
+JAVA_SIZES=${JAVA_SIZES:-100000 200000 1000000 2000000}
+NUMPY_SIZES=${NUMPY_SIZES:-200000 1000000}
+TRACE_SAMPLES=2000000
+TRACE=$OUT/trace-$TRACE_SAMPLES.bin
 LARGE=1000000
 SMALL=100000
 WARMUPS=${WARMUPS:-3}
@@ -16,7 +22,8 @@ SMALL_HEAP=${SMALL_HEAP:-256m}
 TIMING_HEAP_OPTS=${TIMING_HEAP_OPTS:--Xms2g -Xmx2g -XX:+AlwaysPreTouch}
 mkdir -p "$OUT"
 # Other work on the machine skews timings: the load average is printed before and after.
-echo "load average at start: $(cut -d' ' -f1-3 /proc/loadavg)"
+START_LOAD=$(cut -d' ' -f1-3 /proc/loadavg)
+echo "load average at start: $START_LOAD"
 if awk '{ exit !($1 > 0.5) }' /proc/loadavg; then
   echo "WARNING: the machine is busy (1-minute load > 0.5); timings will be skewed, numpy's 2 BLAS threads most"
 fi
@@ -25,30 +32,36 @@ echo "== build"
 mvn -q -DskipTests -pl bench -am package
 CLASSPATH_JARS=service/target/backstate.jar:bench/target/backstate-bench.jar
 
-if [[ ! -f $OUT/trace.bin || bench/make_trace.py -nt $OUT/trace.bin || bench/statespace_np.py -nt $OUT/trace.bin ]]; then
-  echo "== trace: N=$LARGE samples"
-  python3 bench/make_trace.py "$OUT/trace.bin" "$LARGE"
+if [[ ! -f $TRACE || bench/make_trace.py -nt $TRACE || bench/statespace_np.py -nt $TRACE ]]; then
+  echo "== trace: N=$TRACE_SAMPLES samples"
+  python3 bench/make_trace.py "$TRACE" "$TRACE_SAMPLES"
 fi
 
 echo "== Java, $TIMING_HEAP_OPTS (load $(cut -d" " -f1 /proc/loadavg))"
 # shellcheck disable=SC2086 # the options are meant to split
-java $TIMING_HEAP_OPTS -cp "$CLASSPATH_JARS" backstate.bench.EstimatorBench "$OUT/trace.bin" "$OUT/java.tsv" \
-  "$WARMUPS" "$REPEATS" "$SMALL" "$LARGE"
+java $TIMING_HEAP_OPTS -cp "$CLASSPATH_JARS" backstate.bench.EstimatorBench "$TRACE" "$OUT/java.tsv" \
+  "$WARMUPS" "$REPEATS" $JAVA_SIZES
 
 echo "== Java, -Xmx$SMALL_HEAP (load $(cut -d" " -f1 /proc/loadavg))"
-java "-Xmx$SMALL_HEAP" -cp "$CLASSPATH_JARS" backstate.bench.EstimatorBench "$OUT/trace.bin" \
+java "-Xmx$SMALL_HEAP" -cp "$CLASSPATH_JARS" backstate.bench.EstimatorBench "$TRACE" \
   "$OUT/java_small_heap.tsv" "$WARMUPS" "$REPEATS" "$LARGE"
 
 echo "== Java, continuous formulation against sampled (its baseline), same JVM, alternating (load $(cut -d" " -f1 /proc/loadavg))"
 # shellcheck disable=SC2086 # the options are meant to split
-java $TIMING_HEAP_OPTS -cp "$CLASSPATH_JARS" backstate.bench.FormulationBench "$OUT/trace.bin" \
+java $TIMING_HEAP_OPTS -cp "$CLASSPATH_JARS" backstate.bench.FormulationBench "$TRACE" \
   "$WARMUPS" "$REPEATS" "$SMALL" "$LARGE" | tee "$OUT/formulations.md"
 
 echo "== NumPy, OPENBLAS_CORETYPE and OPENBLAS_L2_SIZE unset for this command only (load $(cut -d" " -f1 /proc/loadavg))"
-env -u OPENBLAS_CORETYPE -u OPENBLAS_L2_SIZE python3 bench/numpy_lstsq.py "$OUT/trace.bin" "$OUT/numpy.json" \
-  "$REPEATS" "$SMALL" "$LARGE"
+# shellcheck disable=SC2086 # the sizes are meant to split
+env -u OPENBLAS_CORETYPE -u OPENBLAS_L2_SIZE python3 bench/numpy_lstsq.py "$TRACE" "$OUT/numpy.json" \
+  "$REPEATS" $NUMPY_SIZES
 
 echo
-echo "load average at end: $(cut -d' ' -f1-3 /proc/loadavg)"
+END_LOAD=$(cut -d' ' -f1-3 /proc/loadavg)
+echo "load average at end: $END_LOAD"
 echo "== Results ($(nproc) cores)"
-python3 bench/report.py "$OUT/numpy.json" "$OUT/java.tsv" "$OUT/java_small_heap.tsv" | tee "$OUT/report.md"
+{
+  echo "Load average (1, 5, 15 min): $START_LOAD at the start, $END_LOAD at the end; $(nproc) cores."
+  echo
+  python3 bench/report.py "$OUT/numpy.json" "$OUT/java.tsv" "$OUT/java_small_heap.tsv"
+} | tee "$OUT/report.md"

@@ -34,7 +34,7 @@ public final class EstimatorBench {
     /** Warm-up runs at least this long as well as the given count: C2 compiles the passes within about a second. */
     static final double WARMUP_SECONDS = 2.0;
     static final String HEADER = "samples\tmax_heap_mb\tmedian_s\tmin_s\tmax_s\talloc_mb\tlive_peak_mb"
-            + "\tlive_samples\tcondition\tflags\tx0";
+            + "\tlive_samples\tcondition\tflags\tx0\ttrace_mb";
 
     private EstimatorBench() {
     }
@@ -98,7 +98,13 @@ public final class EstimatorBench {
                 format(estimate.conditioning().conditionNumber()),
                 estimate.flags().stream().map(Enum::name).sorted().collect(Collectors.joining(",")),
                 Arrays.stream(estimate.initialState(file.model.states())).mapToObj(Double::toString)
-                        .collect(Collectors.joining(",")));
+                        .collect(Collectors.joining(",")),
+                format(traceMb(trace)));
+    }
+
+    /** The trace's own arrays (times, outputs, inputs), which the solve reads and the harness holds. */
+    static double traceMb(Trace trace) {
+        return (double) trace.samples() * (1 + trace.outputCount() + trace.inputCount()) * Double.BYTES / MB;
     }
 
     static double median(double[] values) {

@@ -1,5 +1,7 @@
 package backstate.estimation;
 
+import java.util.Arrays;
+
 /**
  * Streams one channel's measured values and residuals into the statistics of {@link ChannelDiagnostics}.
  * Accumulators of consecutive stretches of a trace can be joined ({@link #append}), so that the
@@ -8,6 +10,8 @@ package backstate.estimation;
 final class ChannelAccumulator {
     /** Measured values gathered before their mean and spread are merged into the running ones. */
     static final int BATCH = 256;
+    /** A batch of ones, read by {@link #flush} and never written. */
+    private static final double[] ONES = ones(BATCH);
 
     private final double sigma;
     private final LjungBox whiteness;
@@ -47,23 +51,19 @@ final class ChannelAccumulator {
     /**
      * Merges the batched values: their own mean and spread by two passes over the batch, then the
      * pairwise update below (the batched form of the updating algorithms of Chan, Golub &amp;
-     * LeVeque 1979) — one division a batch instead of one a value as in Welford's update.
+     * LeVeque 1979) — one division a batch instead of one a value as in Welford's update. Both
+     * passes are {@link Matrices#dot} (four partial sums, four chains of adds instead of one): the
+     * sum as the dot with ones (exact products), the spread as the centred batch's dot with itself.
      */
     private void flush() {
         if (batched == 0) {
             return;
         }
-        double total = 0.0;
+        double mean = Matrices.dot(pending, 0, ONES, 0, batched) / batched;
         for (int i = 0; i < batched; i++) {
-            total += pending[i];
+            pending[i] -= mean;
         }
-        double mean = total / batched;
-        double spread = 0.0;
-        for (int i = 0; i < batched; i++) {
-            double d = pending[i] - mean;
-            spread += d * d;
-        }
-        mergeMoments(batched, mean, spread);
+        mergeMoments(batched, mean, Matrices.dot(pending, 0, pending, 0, batched));
         batched = 0;
     }
 
@@ -95,6 +95,12 @@ final class ChannelAccumulator {
         maxAbs = Math.max(maxAbs, later.maxAbs);
         outliers += later.outliers;
         whiteness.append(later.whiteness);
+    }
+
+    private static double[] ones(int length) {
+        double[] out = new double[length];
+        Arrays.fill(out, 1.0);
+        return out;
     }
 
     ChannelDiagnostics finish(ChannelDiagnostics.SigmaSource source) {

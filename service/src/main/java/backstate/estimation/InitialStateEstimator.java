@@ -26,8 +26,8 @@ public final class InitialStateEstimator {
 
     /** Solves one trace; shape errors throw {@link ModelException}, unobservability is returned as a value. */
     public static EstimationResult solve(StateSpaceModel model, Trace trace, EstimationOptions options) {
-        validate(model, trace, options);
-        SolveContext ctx = new SolveContext(model, trace, options);
+        long evenStep = validatedStep(model, trace, options);
+        SolveContext ctx = new SolveContext(model, trace, options, evenStep);
         EquationPass.Result pass = ChunkedEquations.run(ctx);
         WeightedFactors data = pass.factors();
         SquareRootInformation dataInfo = data.estimate;
@@ -45,9 +45,19 @@ public final class InitialStateEstimator {
 
     /** Checks that a model, trace and options fit together, throwing {@link ModelException} before any work. */
     public static void validate(StateSpaceModel model, Trace trace, EstimationOptions options) {
+        validatedStep(model, trace, options);
+    }
+
+    /**
+     * As {@link #validate}, and returns the one step (in step units) between every two consecutive
+     * samples, or {@link SolveContext#UNEVEN} when steps differ or there is a single sample.
+     */
+    static long validatedStep(StateSpaceModel model, Trace trace, EstimationOptions options) {
         requireCompatible(model, trace, options);
         SampleSteps steps = new SampleSteps(model, trace.time(0));
         long previous = -1;
+        long step = SolveContext.UNEVEN;
+        boolean even = true;
         for (int k = 0; k < trace.samples(); k++) {
             long units = steps.unitsOfSample(k, trace.time(k));
             if (units == previous) {
@@ -55,8 +65,14 @@ public final class InitialStateEstimator {
                         ? "got a second sample on grid step " + units + ", expected one sample per sample period at most"
                         : "got a sample less than 1 µs after the previous one, expected times at least 1 µs apart");
             }
+            if (k == 1) {
+                step = units - previous;
+            } else if (k > 1 && units - previous != step) {
+                even = false;
+            }
             previous = units;
         }
+        return even ? step : SolveContext.UNEVEN;
     }
 
     /**

@@ -67,11 +67,79 @@ final class LjungBox {
         if (batched == 0) {
             return;
         }
-        for (int k = 1; k <= lags; k++) {
-            lagProducts[k] += Matrices.dot(window, lags, window, lags - k, batched);
+        if (lags == MAX_LAGS) {
+            addTenLags();
+        } else {
+            for (int k = 1; k <= lags; k++) {
+                lagProducts[k] += Matrices.dot(window, lags, window, lags - k, batched);
+            }
         }
         System.arraycopy(window, batched, window, 0, lags);
         batched = 0;
+    }
+
+    /**
+     * The batch's products r_i·r_{i−k}, k = 1 … 10, in one sweep: the ten previous values ride in
+     * locals shifted one place a value (a sliding window in registers, common practice, no source),
+     * so each value is loaded once for its ten products, and the ten lags are ten independent sums,
+     * each the plain sum of its batch in trace order. The lag-by-lag loop it replaces loaded two
+     * values a product: 18 % of a single-thread solve on the benchmark by JFR execution samples.
+     */
+    private void addTenLags() {
+        double b1 = window[9];
+        double b2 = window[8];
+        double b3 = window[7];
+        double b4 = window[6];
+        double b5 = window[5];
+        double b6 = window[4];
+        double b7 = window[3];
+        double b8 = window[2];
+        double b9 = window[1];
+        double b10 = window[0];
+        double p1 = 0.0;
+        double p2 = 0.0;
+        double p3 = 0.0;
+        double p4 = 0.0;
+        double p5 = 0.0;
+        double p6 = 0.0;
+        double p7 = 0.0;
+        double p8 = 0.0;
+        double p9 = 0.0;
+        double p10 = 0.0;
+        int stop = MAX_LAGS + batched;
+        for (int i = MAX_LAGS; i < stop; i++) {
+            double r = window[i];
+            p1 += r * b1;
+            p2 += r * b2;
+            p3 += r * b3;
+            p4 += r * b4;
+            p5 += r * b5;
+            p6 += r * b6;
+            p7 += r * b7;
+            p8 += r * b8;
+            p9 += r * b9;
+            p10 += r * b10;
+            b10 = b9;
+            b9 = b8;
+            b8 = b7;
+            b7 = b6;
+            b6 = b5;
+            b5 = b4;
+            b4 = b3;
+            b3 = b2;
+            b2 = b1;
+            b1 = r;
+        }
+        lagProducts[1] += p1;
+        lagProducts[2] += p2;
+        lagProducts[3] += p3;
+        lagProducts[4] += p4;
+        lagProducts[5] += p5;
+        lagProducts[6] += p6;
+        lagProducts[7] += p7;
+        lagProducts[8] += p8;
+        lagProducts[9] += p9;
+        lagProducts[10] += p10;
     }
 
     int lags() {

@@ -5,6 +5,9 @@ import java.util.List;
 
 /** What both passes over a trace share: model arrays, unknown layout, noise levels and step matrices. */
 final class SolveContext {
+    /** {@link #evenStep} of a trace whose steps differ (or that has one sample): step units are computed per sample. */
+    static final long UNEVEN = 0;
+
     final StateSpaceModel model;
     final Trace trace;
     final EstimationOptions options;
@@ -22,8 +25,20 @@ final class SolveContext {
     final boolean lift;
     /** [C | D], p × (n + m). */
     private final double[] outputMatrix;
+    /**
+     * The one step between every two consecutive samples, in step units, when validation found the
+     * trace evenly sampled, else {@link #UNEVEN}. Sample k is then exactly k·step units from the
+     * first, so {@link #units} needs no division and rounding, and every run of steps is equal.
+     */
+    private final long evenStep;
 
+    /** A context that computes every sample's step units from its time. */
     SolveContext(StateSpaceModel model, Trace trace, EstimationOptions options) {
+        this(model, trace, options, UNEVEN);
+    }
+
+    /** @param evenStep from {@link InitialStateEstimator#validatedStep}: the trace's one step, or {@link #UNEVEN} */
+    SolveContext(StateSpaceModel model, Trace trace, EstimationOptions options, long evenStep) {
         this.model = model;
         this.trace = trace;
         this.options = options;
@@ -38,16 +53,17 @@ final class SolveContext {
         this.inputs = trace.inputsView();
         this.lift = LiftedStep.pays(n, p, m);
         this.outputMatrix = Matrices.sideBySide(c, model.d(), p, n, m);
+        this.evenStep = evenStep;
     }
 
     /** An independent context over the same inputs, for another thread (the transition cache is not thread-safe). */
     SolveContext copy() {
-        return new SolveContext(model, trace, options);
+        return new SolveContext(model, trace, options, evenStep);
     }
 
     /** Step units of sample k from the first sample (ticks or periods). */
     long units(int k) {
-        return steps.unitsOfSample(k, trace.time(k));
+        return evenStep != UNEVEN ? k * evenStep : steps.unitsOfSample(k, trace.time(k));
     }
 
     /**
@@ -55,6 +71,9 @@ final class SolveContext {
      * {@code step} units, at most {@code limit}; the caller makes sure samples k … k+limit exist.
      */
     int equalSteps(int k, long unitsK, long step, int limit) {
+        if (evenStep != UNEVEN && step == evenStep) {
+            return limit;
+        }
         long previous = unitsK;
         for (int j = 0; j < limit; j++) {
             long units = units(k + j + 1);
