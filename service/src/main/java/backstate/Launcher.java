@@ -56,7 +56,6 @@ final class Launcher {
               --max-body-seconds N    a body still arriving after this gets 408 (BACKSTATE_MAX_BODY_SECONDS, default 300)
             The first admin key comes from BACKSTATE_ADMIN_KEY (environment only), or is generated and
             printed once at the first start.""";
-    private static final Logger LOG = LoggerFactory.getLogger(Launcher.class);
 
     /** What a command line came to: a process exit code, or a service left running. */
     sealed interface Outcome {
@@ -137,15 +136,18 @@ final class Launcher {
     }
 
     private static App start(Settings settings, boolean demo) {
-        LOG.info("settings: {}", settings.describe());
+        // The logger is made here, not in a static field: the one-shot commands never log, and
+        // setting logging up is a tenth of a short command's start-up (bench/solve-start.sh).
+        Logger log = LoggerFactory.getLogger(Launcher.class);
+        log.info("settings: {}", settings.describe());
         if (demo) {
-            LOG.warn("demo: access control is OFF (every route is open to anyone who can reach the port); use serve for keys");
+            log.warn("demo: access control is OFF (every route is open to anyone who can reach the port); use serve for keys");
         } else if (!settings.auth()) {
-            LOG.warn("access control is OFF (--auth off / BACKSTATE_AUTH=off): every route is open to anyone who can reach the port");
+            log.warn("access control is OFF (--auth off / BACKSTATE_AUTH=off): every route is open to anyone who can reach the port");
         }
         App app = new App(settings, Clock.systemUTC()).start(settings);
         String base = base(app);
-        LOG.info("backstate listening on {} (API under {}/v1, spec at {}/openapi.yaml)", base, base, base);
+        log.info("backstate listening on {} (API under {}/v1, spec at {}/openapi.yaml)", base, base, base);
         return app;
     }
 
