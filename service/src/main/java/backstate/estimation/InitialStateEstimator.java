@@ -50,9 +50,13 @@ public final class InitialStateEstimator {
     public static void validate(StateSpaceModel model, Trace trace, EstimationOptions options) {
         requireCompatible(model, trace, options);
         SampleSteps steps = new SampleSteps(model, trace.time(0));
+        long reference = smoothedReference(model, steps, options);
         long previous = -1;
         for (int k = 0; k < trace.samples(); k++) {
             long units = steps.unitsOfSample(k, trace.time(k));
+            if (units == reference) {
+                reference = -1;
+            }
             if (units == previous) {
                 throw new ModelException("time[" + k + "]", model.isDiscrete()
                         ? "got a second sample on grid step " + units + ", expected one sample per sample period at most"
@@ -60,6 +64,24 @@ public final class InitialStateEstimator {
             }
             previous = units;
         }
+        if (reference >= 0) {
+            throw new ModelException("referenceTime", "got " + options.referenceTime() + ", expected the time of a"
+                    + " sample: with process noise the smoothed state is computed at sample times");
+        }
+    }
+
+    /**
+     * For the process-noise formulation, which needs a model with process noise: the reference
+     * time's step units, which must be a sample's; −1 otherwise.
+     */
+    private static long smoothedReference(StateSpaceModel model, SampleSteps steps, EstimationOptions options) {
+        if (options.formulation() != Formulation.PROCESS_NOISE) {
+            return -1;
+        }
+        if (model.processNoise() == null) {
+            throw new ModelException("formulation", "got process_noise, expected a model that declares processNoise");
+        }
+        return options.referenceTime() == null ? -1 : steps.unitsFromStart(options.referenceTime(), "referenceTime");
     }
 
     /**

@@ -19,20 +19,20 @@ final class ProcessNoiseCheck {
     private ProcessNoiseCheck() {
     }
 
-    /** The matrix row-major, or a {@link ModelException} naming {@code processNoise[i][j]} or the whole. */
-    static double[] validated(double[][] q, int n) {
+    /** The matrix row-major, or a {@link ModelException} naming {@code field[i][j]} or the whole field. */
+    static double[] validated(double[][] q, int n, String field) {
         if (q == null || q.length != n) {
-            throw new ModelException("processNoise", "got " + (q == null ? 0 : q.length) + " rows, expected " + n);
+            throw new ModelException(field, "got " + (q == null ? 0 : q.length) + " rows, expected " + n);
         }
         double largest = 0.0;
         for (int i = 0; i < n; i++) {
             if (q[i] == null || q[i].length != n) {
-                throw new ModelException("processNoise[" + i + "]", "got " + (q[i] == null ? 0 : q[i].length)
+                throw new ModelException(field + "[" + i + "]", "got " + (q[i] == null ? 0 : q[i].length)
                         + " values, expected " + n);
             }
             for (int j = 0; j < n; j++) {
                 if (!Double.isFinite(q[i][j])) {
-                    throw new ModelException("processNoise[" + i + "][" + j + "]", "got " + q[i][j] + ", expected a finite number");
+                    throw new ModelException(field + "[" + i + "][" + j + "]", "got " + q[i][j] + ", expected a finite number");
                 }
                 largest = Math.max(largest, Math.abs(q[i][j]));
             }
@@ -40,16 +40,16 @@ final class ProcessNoiseCheck {
         for (int i = 0; i < n; i++) {
             for (int j = i + 1; j < n; j++) {
                 if (Math.abs(q[i][j] - q[j][i]) > SYMMETRY_TOLERANCE * largest) {
-                    throw new ModelException("processNoise[" + i + "][" + j + "]", "got " + q[i][j] + " against "
+                    throw new ModelException(field + "[" + i + "][" + j + "]", "got " + q[i][j] + " against "
                             + q[j][i] + " at [" + j + "][" + i + "], expected a symmetric matrix");
                 }
             }
         }
-        requireSemiDefinite(q, n, largest);
+        requireSemiDefinite(q, n, largest, field);
         return Matrices.flatten(q, n, n);
     }
 
-    private static void requireSemiDefinite(double[][] q, int n, double largest) {
+    private static void requireSemiDefinite(double[][] q, int n, double largest, String field) {
         if (largest == 0.0) {
             return;
         }
@@ -61,7 +61,7 @@ final class ProcessNoiseCheck {
             bottom = Math.min(bottom, v);
         }
         if (bottom < -n * NEGATIVE_EIGENVALUE_TOLERANCE * top) {
-            throw new ModelException("processNoise", "got a matrix with eigenvalue " + bottom
+            throw new ModelException(field, "got a matrix with eigenvalue " + bottom
                     + ", expected a positive semi-definite one (all eigenvalues ≥ 0)");
         }
     }

@@ -17,9 +17,9 @@ import java.util.Set;
  * Methods for Discrete Sequential Estimation, ch. VI and X): a square-root information filter run
  * from the last sample back to the first ({@link BackwardSweep}) gives the information about x0 from
  * every sample, to which the prior is added; x̂0 solves R0 x0 = z0 and its covariance is R0⁻¹R0⁻ᵀ.
- * When the trajectory is wanted (a kept series or a reference time), {@link SmoothedTrajectory}
- * sweeps forward from x̂0. Without it the solve holds O(s²) numbers whatever N (the "x0 only" mode,
- * which reports no window-end state); with it, O(N/1024·s²) beside the series. Cost O(N) either way.
+ * {@link SmoothedTrajectory} then sweeps forward from x̂0 for the window-end state, the reference
+ * state and the kept series, holding O(N/1024·s²) numbers beside the series and doubling the cost;
+ * {@link #solveInitialState} skips it and holds O(s²) numbers whatever N. Cost O(N) either way.
  * Q_d is never inverted, so noise on some states only (a singular Q_d) needs nothing special; with
  * zero process noise every step is the deterministic transition and the estimate is the sampled one.
  *
@@ -31,15 +31,32 @@ public final class ProcessNoiseSmoother {
     private ProcessNoiseSmoother() {
     }
 
-    /** Solves one trace; shape errors throw {@link ModelException}, unobservability is returned as a value. */
+    /**
+     * Solves one trace with the forward sweep, so the estimate has its window-end state (and the
+     * reference state and series when asked); shape errors throw {@link ModelException},
+     * unobservability is returned as a value.
+     */
     public static EstimationResult solve(StateSpaceModel model, Trace trace, EstimationOptions options) {
-        InitialStateEstimator.validate(model, trace, options.withFormulation(Formulation.SAMPLED));
+        return solve(model, trace, options, true);
+    }
+
+    /**
+     * x̂0 alone, in memory independent of N: the backward sweep only, so the estimate has no
+     * window-end or reference state and no series (the options' keepSeries and referenceTime are
+     * ignored). For batch work that reads x0 only, such as regression runs.
+     */
+    public static EstimationResult solveInitialState(StateSpaceModel model, Trace trace, EstimationOptions options) {
+        return solve(model, trace, options.withKeepSeries(false).withReferenceTime(null), false);
+    }
+
+    private static EstimationResult solve(StateSpaceModel model, Trace trace, EstimationOptions options,
+                                          boolean trajectory) {
+        InitialStateEstimator.validate(model, trace, options);
         SolveContext ctx = new SolveContext(model, trace, options);
         int referenceSample = referenceSample(ctx);
         NoiseSteps noise = new NoiseSteps(ctx);
         long[] present = presentCounts(ctx);
         InnovationSums innovations = new InnovationSums(ctx, present);
-        boolean trajectory = options.keepSeries() || options.referenceTime() != null;
         int samples = trace.samples();
         double[][] checkpoints = trajectory ? new double[SmoothedTrajectory.checkpointCount(samples)][] : null;
         BackwardSweep sweep = new BackwardSweep(ctx, noise);
@@ -98,7 +115,7 @@ public final class ProcessNoiseSmoother {
         return counts;
     }
 
-    /** The sample at the options' reference time, which must be a sample time; −1 when none is asked. */
+    /** The sample at the options' reference time ({@link InitialStateEstimator#validate} made sure there is one); −1 when none is asked. */
     private static int referenceSample(SolveContext ctx) {
         Double t = ctx.options.referenceTime();
         if (t == null) {
@@ -114,10 +131,6 @@ public final class ProcessNoiseSmoother {
             } else {
                 hi = mid;
             }
-        }
-        if (ctx.units(lo) != units) {
-            throw new ModelException("referenceTime", "got " + t + ", expected the time of a sample: with process"
-                    + " noise the smoothed state is computed at sample times");
         }
         return lo;
     }

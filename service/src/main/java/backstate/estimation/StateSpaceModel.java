@@ -121,7 +121,12 @@ public final class StateSpaceModel {
      * semi-definite ({@link ProcessNoiseCheck}). Used by {@link Formulation#PROCESS_NOISE}.
      */
     public StateSpaceModel withProcessNoise(double[][] q) {
-        return new StateSpaceModel(this, ProcessNoiseCheck.validated(q, states));
+        return withProcessNoise(q, "processNoise");
+    }
+
+    /** As {@link #withProcessNoise(double[][])}, naming {@code field} (and its entries) in a {@link ModelException}. */
+    public StateSpaceModel withProcessNoise(double[][] q, String field) {
+        return new StateSpaceModel(this, ProcessNoiseCheck.validated(q, states, field));
     }
 
     /** The process noise, n×n row-major (a copy), or null when the model declares none. */
