@@ -164,7 +164,7 @@ final class BackwardSweep {
             }
             stack[at + w - 1] += info[from + s];
         }
-        StackedQr.triangularize(stack, rows, w, rows);
+        StackedQr.triangularize(stack, rows, w, rows, r);
         for (int i = 0; i < s; i++) {
             System.arraycopy(stack, (r + i) * w + r, info, i * width, width);
         }

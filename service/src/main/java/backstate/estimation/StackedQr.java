@@ -19,14 +19,25 @@ final class StackedQr {
      * to every column of the width; a column already zero below the diagonal is left as is.
      */
     static void triangularize(double[] m, int rows, int width, int cols) {
+        triangularize(m, rows, width, cols, 0);
+    }
+
+    /**
+     * As {@link #triangularize(double[], int, int, int)} when the first {@code unitRows} rows are
+     * rows of the identity (row i is e_i): their columns hold nothing below the diagonal, and no
+     * earlier reflection touches them, so column j &lt; unitRows is reflected against rows
+     * unitRows … rows−1 only, skipping the zeros.
+     */
+    static void triangularize(double[] m, int rows, int width, int cols, int unitRows) {
         for (int j = 0; j < cols; j++) {
+            int from = j < unitRows ? unitRows : j + 1;
             double below = 0.0;
-            for (int i = j + 1; i < rows; i++) {
+            for (int i = from; i < rows; i++) {
                 double v = m[i * width + j];
                 below += v * v;
             }
             if (below > 0.0) {
-                reflect(m, rows, width, j, below);
+                reflect(m, rows, width, j, below, from);
             }
             if (m[j * width + j] < 0.0) {
                 for (int c = j; c < width; c++) {
@@ -37,24 +48,24 @@ final class StackedQr {
     }
 
     /** One reflection H = I − v vᵀ/(α v0) with v = [x_j − α; x_{j+1…}], α = −sign(x_j)‖x‖. */
-    private static void reflect(double[] m, int rows, int width, int j, double below) {
+    private static void reflect(double[] m, int rows, int width, int j, double below, int from) {
         double head = m[j * width + j];
         double alpha = -Math.copySign(Math.sqrt(head * head + below), head);
         double v0 = head - alpha;
         double beta = 1.0 / (alpha * v0);
         for (int c = j + 1; c < width; c++) {
             double s = v0 * m[j * width + c];
-            for (int i = j + 1; i < rows; i++) {
+            for (int i = from; i < rows; i++) {
                 s += m[i * width + j] * m[i * width + c];
             }
             s *= beta;
             m[j * width + c] += s * v0;
-            for (int i = j + 1; i < rows; i++) {
+            for (int i = from; i < rows; i++) {
                 m[i * width + c] += s * m[i * width + j];
             }
         }
         m[j * width + j] = alpha;
-        for (int i = j + 1; i < rows; i++) {
+        for (int i = from; i < rows; i++) {
             m[i * width + j] = 0.0;
         }
     }
