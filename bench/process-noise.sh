@@ -2,7 +2,7 @@
 # Process-noise formulation against the deterministic sampled solve (its baseline) at N = 10^5 and
 # 10^6 (n = 10, p = 3, m = 2), and against a dense NumPy MAP solve at the N it can reach (its memory
 # is (N·p + N·n) × N·n doubles: 0.4 GB at N = 800, so it stops at 400). Prints both tables, the
-# ratios and the load average before and after. See bench/README.md ("Process noise").
+# ratios and the load average before and after. See docs/process-noise.md ("Benchmark").
 set -euo pipefail
 
 cd "$(dirname "$0")/.."
