@@ -46,6 +46,7 @@ final class SmoothedTrajectory {
     private final double[] qrStack;
     private final double[] forced;
     private final double[] held;
+    private final double[] nextState;
 
     SmoothedTrajectory(SolveContext ctx, NoiseSteps noise, double[] x0, double[] root0) {
         this.ctx = ctx;
@@ -65,6 +66,7 @@ final class SmoothedTrajectory {
         this.qrStack = new double[(s + n) * s];
         this.forced = new double[n];
         this.held = new double[Math.max(ctx.m, 1)];
+        this.nextState = new double[n];
     }
 
     /** Checkpoint slots the backward sweep fills for N samples: one per SEGMENT samples, and the last sample. */
@@ -158,7 +160,7 @@ final class SmoothedTrajectory {
             Matrices.multiplyVector(one.input(), held, n, m, forced);
         }
         double[] phi = one.transition();
-        double[] next = new double[n];
+        double[] next = nextState;
         for (int i = 0; i < n; i++) {
             double v = forced[i];
             for (int c = 0; c < n; c++) {
@@ -190,7 +192,7 @@ final class SmoothedTrajectory {
         }
     }
 
-    /** root ← Tᵀ with T from the QR of [(F S)ᵀ; Kᵀ], so that T ᵀT = F P Fᵀ + K Kᵀ. */
+    /** root ← Tᵀ (lower triangular) with T from the QR of [(F S)ᵀ; Kᵀ], so that TᵀT = F P Fᵀ + K Kᵀ. */
     private void propagateRoot(int r) {
         int rowsUsed = s + r;
         java.util.Arrays.fill(qrStack, 0, rowsUsed * s, 0.0);
@@ -211,11 +213,11 @@ final class SmoothedTrajectory {
         StackedQr.triangularize(qrStack, rowsUsed, s, s);
         for (int i = 0; i < s; i++) {
             for (int j = 0; j < s; j++) {
-                nextRoot[i * s + j] = j >= i ? qrStack[i * s + j] : 0.0;
+                nextRoot[i * s + j] = j <= i ? qrStack[j * s + i] : 0.0;
             }
         }
         double[] swap = root;
-        root = Matrices.transpose(nextRoot, s, s);
+        root = nextRoot;
         nextRoot = swap;
     }
 }
