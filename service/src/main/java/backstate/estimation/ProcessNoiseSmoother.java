@@ -18,7 +18,7 @@ import java.util.Set;
  * from the last sample back to the first ({@link BackwardSweep}) gives the information about x0 from
  * every sample, to which the prior is added; x̂0 solves R0 x0 = z0 and its covariance is R0⁻¹R0⁻ᵀ.
  * {@link SmoothedTrajectory} then sweeps forward from x̂0 for the window-end state, the reference
- * state and the kept series, holding O(N/1024·s²) numbers beside the series and doubling the cost;
+ * state and the kept series, holding O(N/1024·s²) numbers beside the series and about tripling the cost;
  * {@link #solveInitialState} skips it and holds O(s²) numbers whatever N. Cost O(N) either way.
  * Q_d is never inverted, so noise on some states only (a singular Q_d) needs nothing special; with
  * zero process noise every step is the deterministic transition and the estimate is the sampled one.

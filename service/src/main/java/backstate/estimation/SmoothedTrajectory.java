@@ -18,7 +18,7 @@ package backstate.estimation;
  * <p>Memory: the backward sweep saves its information every {@link #SEGMENT} samples; each segment's
  * noise rows are recomputed from the checkpoint at its end (a second backward pass over it), so the
  * smoother holds N/SEGMENT·s(s+1) + SEGMENT·n(n+s+1) doubles beside the trajectory it returns, and
- * costs about twice the backward sweep.
+ * costs about three times the backward sweep (the re-run, and a covariance QR per step).
  */
 final class SmoothedTrajectory {
     /** Samples per recomputed segment: 1024 keeps both the checkpoints and one segment's rows near 1–2 MB at N = 10⁶, n = 10. */
