@@ -54,6 +54,14 @@ class ProcessNoiseRoutesTest {
         assertEquals(2, result.get("innovations").size());
         assertFalse(result.get("flags").toString().contains("model_mismatch"), result.get("flags").toString());
         assertEquals(4, result.get("windowEnd").get("states").size());
+        JsonNode air = server.get("/v1/estimates/" + job.get("estimateId").asText() + "/series?maxPoints=1000").json()
+                .get("state").get("air");
+        JsonNode se = air.get("standardError");
+        assertEquals(361, se.size());
+        // The band starts at x̂0's standard error and ends at the window end's (both smoothed).
+        assertEquals(result.get("states").get(1).get("standardError").asDouble(), se.get(0).asDouble(), 1e-12);
+        assertEquals(result.get("windowEnd").get("states").get(1).get("standardError").asDouble(), se.get(360).asDouble(),
+                1e-12);
     }
 
     @Test
