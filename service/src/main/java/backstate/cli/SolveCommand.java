@@ -33,7 +33,7 @@ public final class SolveCommand {
     static final int SOLVED = 0;
     static final int BAD_INPUT = 2;
     static final int UNOBSERVABLE = 3;
-    static final String USAGE = "usage: backstate solve --model FILE --trace FILE [--formulation sampled|continuous]"
+    static final String USAGE = "usage: backstate solve --model FILE --trace FILE [--formulation sampled|continuous|process_noise]"
             + " [--offsets] [--reference-time SECONDS]";
     private static final Set<String> VALUED_FLAGS = Set.of("model", "trace", "formulation", "reference-time");
     private static final String SWITCH_OFFSETS = "offsets";

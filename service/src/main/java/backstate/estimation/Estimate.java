@@ -26,12 +26,26 @@ import java.util.Set;
  * @param chiSquareP           upper-tail p-value of χ² (NaN when dof = 0)
  * @param flags                conditions for dashboards
  * @param series               measured, fitted and residual outputs and the state trajectory, or null when not kept
+ * @param innovations          per channel, the normalised innovations' statistics (process-noise formulation
+ *                             only; null otherwise)
  */
 public record Estimate(List<String> unknownNames, double[] solution, double[] covariance, double[] standardErrors,
                        double sigmaScale, double[] standardErrorsScaled, double[] intervalLower,
                        double[] intervalUpper, StateAt reference, StateAt windowEnd, Conditioning conditioning,
                        List<ChannelDiagnostics> channels, double chiSquare, int degreesOfFreedom,
-                       double chiSquareP, Set<Flag> flags, Series series) implements EstimationResult {
+                       double chiSquareP, Set<Flag> flags, Series series,
+                       List<InnovationStatistics> innovations) implements EstimationResult {
+
+    /** An estimate without innovation statistics (the sampled and continuous formulations). */
+    public Estimate(List<String> unknownNames, double[] solution, double[] covariance, double[] standardErrors,
+                    double sigmaScale, double[] standardErrorsScaled, double[] intervalLower,
+                    double[] intervalUpper, StateAt reference, StateAt windowEnd, Conditioning conditioning,
+                    List<ChannelDiagnostics> channels, double chiSquare, int degreesOfFreedom,
+                    double chiSquareP, Set<Flag> flags, Series series) {
+        this(unknownNames, solution, covariance, standardErrors, sigmaScale, standardErrorsScaled, intervalLower,
+                intervalUpper, reference, windowEnd, conditioning, channels, chiSquare, degreesOfFreedom, chiSquareP,
+                flags, series, null);
+    }
 
     /**
      * The state at a time t of the window: x̂(t) = Φ(t) x̂0 + forced response, covariance Φ P Φᵀ

@@ -26,6 +26,9 @@ public final class InitialStateEstimator {
 
     /** Solves one trace; shape errors throw {@link ModelException}, unobservability is returned as a value. */
     public static EstimationResult solve(StateSpaceModel model, Trace trace, EstimationOptions options) {
+        if (options.formulation() == Formulation.PROCESS_NOISE) {
+            return ProcessNoiseSmoother.solve(model, trace, options);
+        }
         long evenStep = validatedStep(model, trace, options);
         SolveContext ctx = new SolveContext(model, trace, options, evenStep);
         EquationPass.Result pass = ChunkedEquations.run(ctx);
@@ -55,11 +58,15 @@ public final class InitialStateEstimator {
     static long validatedStep(StateSpaceModel model, Trace trace, EstimationOptions options) {
         requireCompatible(model, trace, options);
         SampleSteps steps = new SampleSteps(model, trace.time(0));
+        long reference = smoothedReference(model, steps, options);
         long previous = -1;
         long step = SolveContext.UNEVEN;
         boolean even = true;
         for (int k = 0; k < trace.samples(); k++) {
             long units = steps.unitsOfSample(k, trace.time(k));
+            if (units == reference) {
+                reference = -1;
+            }
             if (units == previous) {
                 throw new ModelException("time[" + k + "]", model.isDiscrete()
                         ? "got a second sample on grid step " + units + ", expected one sample per sample period at most"
@@ -72,7 +79,25 @@ public final class InitialStateEstimator {
             }
             previous = units;
         }
+        if (reference >= 0) {
+            throw new ModelException("referenceTime", "got " + options.referenceTime() + ", expected the time of a"
+                    + " sample: with process noise the smoothed state is computed at sample times");
+        }
         return even ? step : SolveContext.UNEVEN;
+    }
+
+    /**
+     * For the process-noise formulation, which needs a model with process noise: the reference
+     * time's step units, which must be a sample's; −1 otherwise.
+     */
+    private static long smoothedReference(StateSpaceModel model, SampleSteps steps, EstimationOptions options) {
+        if (options.formulation() != Formulation.PROCESS_NOISE) {
+            return -1;
+        }
+        if (model.processNoise() == null) {
+            throw new ModelException("formulation", "got process_noise, expected a model that declares processNoise");
+        }
+        return options.referenceTime() == null ? -1 : steps.unitsFromStart(options.referenceTime(), "referenceTime");
     }
 
     /**
@@ -82,7 +107,11 @@ public final class InitialStateEstimator {
      * instead, as the model and trace not fitting together (ModelException), not retried.
      */
     private static void requireFinite(SquareRootInformation info, double residualSquares, Trace trace) {
-        if (!Matrices.allFinite(info.factorR()) || !Matrices.allFinite(info.rhs()) || !Double.isFinite(residualSquares)) {
+        requireFinite(info.factorR(), info.rhs(), residualSquares, trace);
+    }
+
+    static void requireFinite(double[] r, double[] z, double residualSquares, Trace trace) {
+        if (!Matrices.allFinite(r) || !Matrices.allFinite(z) || !Double.isFinite(residualSquares)) {
             double window = trace.time(trace.samples() - 1) - trace.time(0);
             throw new ModelException("a", "the model's response over this trace's " + window + " s leaves the"
                     + " floating-point range (beyond 1e308): a mode grows too fast (an unstable or mis-scaled a)"
@@ -90,7 +119,7 @@ public final class InitialStateEstimator {
         }
     }
 
-    private static Unobservable unobservable(SolveContext ctx, ConditioningAnalysis analysis) {
+    static Unobservable unobservable(SolveContext ctx, ConditioningAnalysis analysis) {
         return new Unobservable(analysis.nullDirections(), analysis.singularValues(), analysis.tolerance(),
                 ctx.unknownNames());
     }
@@ -131,7 +160,7 @@ public final class InitialStateEstimator {
                 residuals.channels(), chiSquare, dof, chiSquareP, flags, series);
     }
 
-    private static double[] diagonalRoots(double[] covariance, int q, double scale) {
+    static double[] diagonalRoots(double[] covariance, int q, double scale) {
         double[] out = new double[q];
         for (int i = 0; i < q; i++) {
             out[i] = scale * Math.sqrt(covariance[i * q + i]);
@@ -140,7 +169,7 @@ public final class InitialStateEstimator {
     }
 
     /** Normal quantiles when every σ was given; Student-t with dof when σ is estimated from the residuals. */
-    private static StateUncertainty.Rule intervalRule(SolveContext ctx, double sigmaScale, int dof) {
+    static StateUncertainty.Rule intervalRule(SolveContext ctx, double sigmaScale, int dof) {
         double tail = 0.5 + CONFIDENCE / 2.0;
         if (!ctx.noise.allGiven() && dof > 0) {
             double t = new TDistribution(null, dof, INVERSE_ACCURACY).inverseCumulativeProbability(tail);
@@ -150,7 +179,7 @@ public final class InitialStateEstimator {
         return new StateUncertainty.Rule(z, false, sigmaScale);
     }
 
-    private static double[][] intervals(double[] x, double[] se, StateUncertainty.Rule rule) {
+    static double[][] intervals(double[] x, double[] se, StateUncertainty.Rule rule) {
         double[][] out = new double[2][x.length];
         for (int i = 0; i < x.length; i++) {
             out[0][i] = x[i] - rule.halfWidth(se[i]);
@@ -181,7 +210,7 @@ public final class InitialStateEstimator {
         return units == 0 ? Matrices.identity(ctx.n) : ctx.transitions.fresh(units).transition();
     }
 
-    private static Set<Flag> flags(SolveContext ctx, Conditioning conditioning, List<ChannelDiagnostics> channels,
+    static Set<Flag> flags(SolveContext ctx, Conditioning conditioning, List<ChannelDiagnostics> channels,
                                    double chiSquareP, int dof) {
         Set<Flag> flags = EnumSet.noneOf(Flag.class);
         if (conditioning.dataRank() < ctx.q) {

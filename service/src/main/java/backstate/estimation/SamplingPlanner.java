@@ -23,6 +23,10 @@ import java.util.List;
  * of R ({@link ConditioningAnalysis}). One pass per output subset serves every horizon: the
  * factor is read off as the pass reaches each horizon's last sample.
  *
+ * <p>A model that declares process noise is planned under the process-noise formulation: its
+ * predictions are the smoother's covariance of x0 ({@link NoisePlanSweep}), wider than the
+ * deterministic ones because the disturbance hides part of what the samples say about x0.
+ *
  * <p>Structural observability of (A, C_S) — whether any horizon could do — is the Kalman rank
  * test of {@link ObservabilityRank}; a full-rank pair whose sampled Gramian stays rank-deficient
  * has too few samples or a period that aliases one of its modes.
@@ -130,7 +134,8 @@ public final class SamplingPlanner {
 
     private static SubsetPlan subsetPlan(StateSpaceModel model, Plan plan, int[] outputs, long[] samples) {
         ObservabilityRank.Report structural = ObservabilityRank.of(restricted(model, outputs));
-        List<Prediction> predictions = sweep(model, plan, outputs, samples);
+        List<Prediction> predictions = model.processNoise() == null ? sweep(model, plan, outputs, samples)
+                : NoisePlanSweep.sweep(model, plan, outputs, samples);
         boolean anyFullRank = predictions.stream().anyMatch(p -> p.rank() == model.states());
         int shortest = -1;
         for (int i = 0; i < predictions.size() && shortest < 0; i++) {
@@ -188,17 +193,17 @@ public final class SamplingPlanner {
                 info.add(row, 0.0);
             }
             while (next < samples.length && samples[next] == k + 1) {
-                out.add(predict(info, n, plan.horizons()[next], k + 1, plan.targetStdErrors()));
+                out.add(predict(info.factorR(), n, info.equations(), plan.horizons()[next], k + 1,
+                        plan.targetStdErrors()));
                 next++;
             }
         }
         return out;
     }
 
-    private static Prediction predict(SquareRootInformation info, int n, double horizon, long samples,
-                                      double[] targets) {
-        double[] r = info.factorR();
-        ConditioningAnalysis analysis = new ConditioningAnalysis(r, n, info.equations());
+    /** The prediction from the square-root information factor R (n×n) of {@code equations} rows. */
+    static Prediction predict(double[] r, int n, long equations, double horizon, long samples, double[] targets) {
+        ConditioningAnalysis analysis = new ConditioningAnalysis(r, n, equations);
         Conditioning summary = analysis.summary(r, analysis.rank());
         double[] covariance = null;
         double[] se = null;
@@ -209,7 +214,7 @@ public final class SamplingPlanner {
                 se[i] = Math.sqrt(covariance[i * n + i]);
             }
         }
-        return new Prediction(horizon, samples, info.equations(), analysis.rank(), se, covariance,
+        return new Prediction(horizon, samples, equations, analysis.rank(), se, covariance,
                 summary.information(), summary.conditionNumber(), summary.weakestDirection(), summary.weakestStd(),
                 analysis.nullDirections(), meets(se, targets));
     }
@@ -298,6 +303,9 @@ public final class SamplingPlanner {
         long[] samples = new long[horizons.length];
         for (int i = 0; i < horizons.length; i++) {
             samples[i] = samples(horizons[i], period);
+        }
+        if (model.processNoise() != null) {
+            NoisePlanSweep.requireBounded(samples, subsets.length);
         }
         return samples;
     }

@@ -22,6 +22,21 @@ public final class StateSpaceModel {
     private final double[] d;
     private final double samplePeriod;
     private final double[] defaultNoiseSigma;
+    /** Process-noise spectral density (continuous) or covariance per period (discrete), n×n; null when none. */
+    private final double[] processNoise;
+
+    private StateSpaceModel(StateSpaceModel model, double[] processNoise) {
+        this.states = model.states;
+        this.outputs = model.outputs;
+        this.inputs = model.inputs;
+        this.a = model.a;
+        this.b = model.b;
+        this.c = model.c;
+        this.d = model.d;
+        this.samplePeriod = model.samplePeriod;
+        this.defaultNoiseSigma = model.defaultNoiseSigma;
+        this.processNoise = processNoise;
+    }
 
     private StateSpaceModel(double[][] a, double[][] b, double[][] c, double[][] d,
                             double samplePeriod, double[] defaultNoiseSigma) {
@@ -35,6 +50,7 @@ public final class StateSpaceModel {
         this.d = d == null || inputs == 0 ? new double[outputs * inputs] : Matrices.flatten(d, outputs, inputs);
         this.samplePeriod = samplePeriod;
         this.defaultNoiseSigma = defaultNoiseSigma == null ? null : defaultNoiseSigma.clone();
+        this.processNoise = null;
         check.requireNoiseSigma("noiseSigma", defaultNoiseSigma);
     }
 
@@ -97,5 +113,24 @@ public final class StateSpaceModel {
     /** Default noise standard deviation per output, or null when the model gives none. */
     public double[] defaultNoiseSigma() {
         return defaultNoiseSigma == null ? null : defaultNoiseSigma.clone();
+    }
+
+    /**
+     * This model with process noise: for a continuous model the spectral density Q_c (state²/s),
+     * for a discrete one the covariance added per sample period; n×n, symmetric positive
+     * semi-definite ({@link ProcessNoiseCheck}). Used by {@link Formulation#PROCESS_NOISE}.
+     */
+    public StateSpaceModel withProcessNoise(double[][] q) {
+        return withProcessNoise(q, "processNoise");
+    }
+
+    /** As {@link #withProcessNoise(double[][])}, naming {@code field} (and its entries) in a {@link ModelException}. */
+    public StateSpaceModel withProcessNoise(double[][] q, String field) {
+        return new StateSpaceModel(this, ProcessNoiseCheck.validated(q, states, field));
+    }
+
+    /** The process noise, n×n row-major (a copy), or null when the model declares none. */
+    public double[] processNoise() {
+        return processNoise == null ? null : processNoise.clone();
     }
 }

@@ -4,6 +4,7 @@ import backstate.estimation.ChannelDiagnostics;
 import backstate.estimation.Conditioning;
 import backstate.estimation.Estimate;
 import backstate.estimation.Flag;
+import backstate.estimation.InnovationStatistics;
 import com.fasterxml.jackson.annotation.JsonInclude;
 import java.util.ArrayList;
 import java.util.List;
@@ -17,7 +18,15 @@ import java.util.Locale;
 public record EstimateDocument(String formulation, List<Value> states, List<Value> offsets, List<String> unknowns,
                                List<List<Double>> covariance, Double sigmaScale, StateAtTime reference,
                                StateAtTime windowEnd, ConditioningDocument conditioning, Residuals residuals,
-                               List<String> flags) {
+                               List<String> flags, List<Innovations> innovations) {
+
+    /**
+     * One output's normalised innovations (process-noise formulation only): count, mean (≈ 0),
+     * variance (≈ 1) and Ljung–Box whiteness test when the model and its noise levels fit.
+     */
+    public record Innovations(String output, int samples, Double mean, Double variance, Double ljungBoxQ,
+                              int ljungBoxLags, Double ljungBoxP) {
+    }
 
     /** One estimated quantity with its standard errors and 95 % interval. */
     public record Value(String name, String unit, Double estimate, Double standardError, Double standardErrorScaled,
@@ -57,7 +66,20 @@ public record EstimateDocument(String formulation, List<Value> states, List<Valu
         return new EstimateDocument(formulation, states, offsets, unknownNames(model, q), rows(e.covariance(), q),
                 num(e.sigmaScale()), stateAt(e.reference(), model), stateAt(e.windowEnd(), model),
                 conditioning(e.conditioning(), q),
-                residuals(e, model), flagNames(e));
+                residuals(e, model), flagNames(e), innovations(e, model));
+    }
+
+    private static List<Innovations> innovations(Estimate e, ModelDocument model) {
+        if (e.innovations() == null) {
+            return null;
+        }
+        List<Innovations> out = new ArrayList<>();
+        for (int j = 0; j < e.innovations().size(); j++) {
+            InnovationStatistics s = e.innovations().get(j);
+            out.add(new Innovations(model.outputs().get(j).name(), s.samples(), num(s.mean()), num(s.variance()),
+                    num(s.ljungBoxQ()), s.ljungBoxLags(), num(s.ljungBoxP())));
+        }
+        return out;
     }
 
     /** The flags as lower-case words, the same words the API filters on. */

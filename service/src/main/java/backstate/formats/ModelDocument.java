@@ -15,7 +15,8 @@ import java.util.regex.Pattern;
 /**
  * A model version as users write it (the body of a publish request and the CLI's model file):
  * time domain, named states/outputs/inputs with units, and the matrices A, B, C, D (read by
- * {@link MatrixReader}, which names an entry that is not a number).
+ * {@link MatrixReader}, which names an entry that is not a number), and optionally the process
+ * noise that disturbs the states between samples ({@link ProcessNoiseDocument}).
  */
 @JsonInclude(JsonInclude.Include.NON_NULL)
 public record ModelDocument(String description, String timeDomain, Double samplePeriod, List<Quantity> states,
@@ -23,7 +24,8 @@ public record ModelDocument(String description, String timeDomain, Double sample
                             @JsonDeserialize(using = MatrixReader.class) double[][] a,
                             @JsonDeserialize(using = MatrixReader.class) double[][] b,
                             @JsonDeserialize(using = MatrixReader.class) double[][] c,
-                            @JsonDeserialize(using = MatrixReader.class) double[][] d) {
+                            @JsonDeserialize(using = MatrixReader.class) double[][] d,
+                            ProcessNoiseDocument processNoise) {
     /** Names: a letter, then letters, digits, '_', '-', '.'; they become CSV headers and JSON keys. */
     private static final Pattern NAME = Pattern.compile("[A-Za-z][A-Za-z0-9_.\\-]*");
     /** Longest description accepted (as for a family's); it is a label, not a document. */
@@ -46,7 +48,17 @@ public record ModelDocument(String description, String timeDomain, Double sample
         requireCount("states", states, model.states(), "rows of a");
         requireCount("outputs", outputs, model.outputs(), "rows of c");
         requireCount("inputs", inputs, model.inputs(), "columns of b");
-        return model;
+        return processNoise == null ? model : withProcessNoise(model);
+    }
+
+    /** The model with its process noise; a bad shape, asymmetry or a negative eigenvalue is a 400 naming the field. */
+    private StateSpaceModel withProcessNoise(StateSpaceModel model) {
+        double[][] q = processNoise.toMatrix(model.states());
+        try {
+            return model.withProcessNoise(q, processNoise.fieldOf());
+        } catch (ModelException e) {
+            throw new InputException(e.field(), e.getMessage().substring(e.field().length() + 2));
+        }
     }
 
     /**
@@ -65,6 +77,9 @@ public record ModelDocument(String description, String timeDomain, Double sample
                     Limits.requireMagnitude(matrix + "[" + i + "][" + j + "]", rows[i][j]);
                 }
             }
+        }
+        if (processNoise != null) {
+            processNoise.requirePublishable();
         }
         for (int j = 0; outputs != null && j < outputs.size(); j++) {
             if (outputs.get(j) != null && outputs.get(j).noiseSigma() != null) {

@@ -8,7 +8,8 @@ import com.fasterxml.jackson.annotation.JsonInclude;
 /**
  * Per-trace solve options as users write them (a trace body's {@code options} or query parameters).
  *
- * @param formulation     "sampled" (default) or "continuous"
+ * @param formulation     "sampled" (default), "continuous", or "process_noise" (the model version must declare
+ *                        its process noise)
  * @param estimateOffsets estimate a constant offset per output channel
  * @param referenceTime   also report the state at this time, inside the window: written as an RFC 3339 time or
  *                        as seconds on the trace's clock (since its declared start, or since 1970), held as
@@ -55,7 +56,11 @@ public record TraceOptions(String formulation, Boolean estimateOffsets, Double r
         if (formulation.equals("continuous")) {
             return Formulation.CONTINUOUS;
         }
-        throw new InputException("options.formulation", "got \"" + formulation + "\", expected \"sampled\" or \"continuous\"");
+        if (formulation.equals("process_noise")) {
+            return Formulation.PROCESS_NOISE;
+        }
+        throw new InputException("options.formulation", "got \"" + formulation
+                + "\", expected \"sampled\", \"continuous\" or \"process_noise\"");
     }
 
     private Prior toPrior(int states) {

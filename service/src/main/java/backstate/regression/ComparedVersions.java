@@ -109,6 +109,7 @@ final class ComparedVersions {
 
     private static RegressionResult.VersionInfo info(ModelVersionRow row, ModelDocument doc) {
         return new RegressionResult.VersionInfo(row.version(), row.status(),
-                doc.states().stream().map(q -> q.name()).toList(), doc.outputs().stream().map(q -> q.name()).toList());
+                doc.states().stream().map(q -> q.name()).toList(), doc.outputs().stream().map(q -> q.name()).toList(),
+                VersionPair.declaresProcessNoise(doc) ? VersionPair.PROCESS_NOISE : null);
     }
 }

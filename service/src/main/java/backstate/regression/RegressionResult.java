@@ -16,8 +16,18 @@ public record RegressionResult(String family, VersionInfo baseline, VersionInfo 
                                int tracesDone, Summary summary, List<Finding> worseBeyondTolerance, Verdict verdict,
                                List<UnitResult> units) {
 
-    /** A compared version: its number, status (a retired version may be compared), states and outputs. */
-    public record VersionInfo(int version, String status, List<String> states, List<String> outputs) {
+    /**
+     * A compared version: its number, status (a retired version may be compared), states and outputs,
+     * and the formulation its fits use: {@code process_noise} for a version that declares process
+     * noise (every trace is solved so, whatever it was posted with), else null (each trace's own).
+     */
+    @JsonInclude(JsonInclude.Include.NON_NULL)
+    public record VersionInfo(int version, String status, List<String> states, List<String> outputs,
+                              String formulation) {
+        /** A version whose fits use each trace's own formulation. */
+        public VersionInfo(int version, String status, List<String> states, List<String> outputs) {
+            this(version, status, states, outputs, null);
+        }
     }
 
     /**

@@ -7,12 +7,20 @@ import backstate.formats.Limits;
 import backstate.formats.ModelDocument;
 import backstate.formats.ParsedTrace;
 import backstate.formats.RecordingTime;
+import backstate.formats.TraceOptions;
 
 /**
  * The two versions of a run, solving stored traces through {@link DocumentSolver} (the estimate
- * jobs' code path) and handing each pair of fits to the report.
+ * jobs' code path) and handing each pair of fits to the report. A version that declares process
+ * noise solves every trace with the {@code process_noise} formulation (and no reference time, which
+ * a run does not report), so that publishing a candidate with process noise and running it against
+ * the baseline asks "does process noise explain the fleet better?"; a version without solves each
+ * trace with the options it was posted with.
  */
 public final class VersionPair {
+    /** The formulation name a version with process noise is solved with. */
+    static final String PROCESS_NOISE = "process_noise";
+
     private final ModelDocument baseline;
     private final ModelDocument candidate;
     private final Limits limits;
@@ -43,9 +51,18 @@ public final class VersionPair {
     private Fit fit(ModelDocument model, ModelDocument storedModel, ParsedTrace stored) {
         try {
             ParsedTrace trace = ChannelMap.reorder(stored, storedModel, model);
+            if (declaresProcessNoise(model)) {
+                TraceOptions own = trace.options() == null ? TraceOptions.NONE : trace.options();
+                trace = new ParsedTrace(trace.trace(), own.withReferenceTime(null)
+                        .overriddenBy(new TraceOptions(PROCESS_NOISE, null, null, null)));
+            }
             return Fit.of(DocumentSolver.solve(model, trace, false, limits), model);
         } catch (InputException | ModelException e) {
             return Fit.notSolved(Fit.Status.INVALID, e.getMessage());
         }
+    }
+
+    static boolean declaresProcessNoise(ModelDocument model) {
+        return model.processNoise() != null;
     }
 }
