@@ -98,7 +98,7 @@ class SolveExitCodesTest {
         Path notJson = write("model.json", "{\"timeDomain\":");
 
         assertRefused("backstate solve: missing --trace FILE", "--model", model);
-        assertRefused("backstate solve: got --speed, expected --model FILE --trace FILE [--formulation sampled|continuous]"
+        assertRefused("backstate solve: got --speed, expected --model FILE --trace FILE [--formulation sampled|continuous|process_noise]"
                 + " [--offsets] [--reference-time SECONDS]", "--model", model, "--trace", trace, "--speed", "fast");
         assertRefused("backstate solve: line 2, column return_air: got \"warm\", expected a decimal number",
                 "--model", model, "--trace", badCell.toString());
