@@ -15,10 +15,8 @@ import java.lang.management.MemoryMXBean;
 import java.nio.file.Files;
 import java.nio.file.Path;
 import java.time.Duration;
-import java.util.ArrayList;
 import java.util.Arrays;
 import java.util.LinkedHashMap;
-import java.util.List;
 import java.util.Locale;
 import java.util.Map;
 import java.util.concurrent.atomic.AtomicBoolean;
@@ -40,7 +38,7 @@ import java.util.concurrent.atomic.AtomicLong;
  * The first run of a size is cold for that size; medians are over the later (warm) runs.
  *
  * <pre>
- * UploadBench --base URL --db FILE --pid SERVER_PID [--sizes 100000,1000000,2000000] [--runs 4] [--format csv|json]
+ * UploadBench --base URL --db FILE --pid SERVER_PID [--sizes 1000000] [--runs 4] [--format csv|json]
  * </pre>
  */
 public final class UploadBench {
@@ -76,36 +74,19 @@ public final class UploadBench {
         }
         int runs = Integer.parseInt(flags.getOrDefault("runs", "4"));
         UploadBench bench = new UploadBench(flags);
-        List<Row> rows = new ArrayList<>();
-        for (String size : flags.getOrDefault("sizes", "100000,1000000,2000000").split(",")) {
-            rows.add(bench.measure(Integer.parseInt(size.trim()), runs));
+        for (String size : flags.getOrDefault("sizes", "1000000").split(",")) {
+            bench.measure(Integer.parseInt(size.trim()), runs).print();
         }
-        Row.printTable(rows, bench.format);
     }
 
     /** One size's figures; times in seconds, memory in MB. */
     record Row(int samples, double bodyMb, double parse, double solve, double liveParseEncode, double post, double job,
                double serverSolve, double idle, double peakAbove, double peakAboveMax, double afterGcAbove) {
 
-        static void printTable(List<Row> rows, String format) {
-            System.out.println();
-            System.out.println("| samples | " + format + " MB | offline parse s | offline solve s | parse / solve"
-                    + " | live heap parse+encode MB | post→202 s | job done s | server solve s | server idle RSS MB"
-                    + " | RSS peak above idle MB (median, max) | RSS above idle after GC MB |");
-            System.out.println("|---|---|---|---|---|---|---|---|---|---|---|---|");
-            for (Row r : rows) {
-                System.out.printf(Locale.ROOT, "| %d | %.1f | %.3f | %.3f | %.2f | %.0f | %.3f | %.3f | %.3f | %.0f | %.0f, %.0f | %.0f |%n",
-                        r.samples, r.bodyMb, r.parse, r.solve, r.parse / r.solve, r.liveParseEncode, r.post, r.job,
-                        r.serverSolve, r.idle, r.peakAbove, r.peakAboveMax, r.afterGcAbove);
-            }
-            for (int i = 1; i < rows.size(); i++) {
-                Row a = rows.get(i - 1);
-                Row b = rows.get(i);
-                System.out.printf(Locale.ROOT, "scaling %d -> %d (x%.1f samples): offline parse x%.2f, server post x%.2f,"
-                                + " server solve x%.2f, RSS peak above idle x%.2f, live heap x%.2f%n",
-                        a.samples, b.samples, (double) b.samples / a.samples, b.parse / a.parse, b.post / a.post,
-                        b.serverSolve / a.serverSolve, b.peakAbove / a.peakAbove, b.liveParseEncode / a.liveParseEncode);
-            }
+        /** One line for bench/load/upload.sh to gather into its table. */
+        void print() {
+            System.out.printf(Locale.ROOT, "ROW %d %.2f %.4f %.4f %.1f %.4f %.4f %.4f %.1f %.1f %.1f %.1f%n", samples, bodyMb, parse,
+                    solve, liveParseEncode, post, job, serverSolve, idle, peakAbove, peakAboveMax, afterGcAbove);
         }
     }
 
