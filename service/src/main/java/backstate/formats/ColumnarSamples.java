@@ -35,17 +35,21 @@ final class ColumnarSamples {
         }
     }
 
-    /** The same bytes as {@link #write(ByteSink, Trace)} of the assembled trace, read from the columns where they lie. */
+    /**
+     * The same bytes as {@link #write(ByteSink, Trace)} of the assembled trace, read from the columns
+     * where they lie; each channel column is handed over as it is written ({@link DoubleColumn#takeSegments}),
+     * so the columns shrink while the payload grows.
+     */
     static void write(ByteSink out, ParsedColumns c) {
         int n = c.samples();
         long[] mantissas = new long[n];
         StoredColumn.write(out, new double[][] {c.timesView()}, mantissas, n);
         for (int j = 0; j < c.outputCount(); j++) {
             DoubleColumn column = c.output(j);
-            StoredColumn.write(out, column == null ? allMissing(n) : column.segments(), mantissas, n);
+            StoredColumn.write(out, column == null ? allMissing(n) : column.takeSegments(), mantissas, n);
         }
         for (int i = 0; i < c.inputCount(); i++) {
-            StoredColumn.write(out, c.input(i).segments(), mantissas, n);
+            StoredColumn.write(out, c.input(i).takeSegments(), mantissas, n);
         }
     }
 

@@ -65,6 +65,18 @@ final class DoubleColumn {
     }
 
     /**
+     * The segments, as {@link #segments()}, handed over: the column is empty after, so a caller
+     * that writes the values elsewhere holds them only as long as it needs them.
+     */
+    double[][] takeSegments() {
+        double[][] taken = segments;
+        segments = new double[INITIAL_SEGMENTS][];
+        current = null;
+        size = 0;
+        return taken;
+    }
+
+    /**
      * Copies the values to {@code out[at]}, {@code out[at + stride]}, … and lets go of each segment
      * once copied, so a column moved into an assembled array is not held twice; the column is empty
      * after.

@@ -65,9 +65,17 @@ public final class ParsedColumns {
         return noiseSigmaOrNull == null ? Double.NaN : noiseSigmaOrNull[j];
     }
 
-    /** The engine's row-major trace; the columns are emptied as they are copied, so call it once. */
+    /**
+     * The engine's row-major trace; the columns are emptied as they are copied, so call it once,
+     * and not after {@link TraceCodec#encode(ParsedColumns)}.
+     */
     public ParsedTrace assemble() {
         int n = times.length;
+        for (DoubleColumn column : inputs) {
+            if (column.size() != n) {
+                throw new IllegalStateException("got columns already handed over, expected them as read (assemble once, before any encode)");
+            }
+        }
         int p = outputs.length;
         int m = inputs.length;
         double[] y = new double[n * p];

@@ -47,7 +47,8 @@ public final class TraceCodec {
 
     /**
      * Format 2 straight from the columns as read, the same bytes as {@link #encode(ParsedTrace)} of
-     * the assembled trace: no row-major copy of the samples is made.
+     * the assembled trace: no row-major copy of the samples is made, and each channel's column is
+     * let go of once written, so {@code parsed} holds only its times after (it cannot be assembled).
      */
     public byte[] encode(ParsedColumns parsed) {
         return encode(parsed.samples(), parsed.outputCount(), parsed.inputCount(), out -> ColumnarSamples.write(out, parsed),

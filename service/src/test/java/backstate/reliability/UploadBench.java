@@ -79,14 +79,18 @@ public final class UploadBench {
         }
     }
 
-    /** One size's figures; times in seconds, memory in MB. */
+    /**
+     * One size's figures; times in seconds, memory in MB. {@code idle}: the fresh server after a
+     * forced GC; {@code peakAboveIdle}: the highest peak of all runs above it; {@code peakAbove}: the
+     * median over warm runs of each run's peak above the RSS after the forced GC just before it.
+     */
     record Row(int samples, double bodyMb, double parse, double solve, double liveParseEncode, double post, double job,
-               double serverSolve, double idle, double peakAbove, double peakAboveMax, double afterGcAbove) {
+               double serverSolve, double idle, double peakAbove, double peakAboveIdle, double afterGcAbove) {
 
         /** One line for bench/load/upload.sh to gather into its table. */
         void print() {
             System.out.printf(Locale.ROOT, "ROW %d %.2f %.4f %.4f %.1f %.4f %.4f %.4f %.1f %.1f %.1f %.1f%n", samples, bodyMb, parse,
-                    solve, liveParseEncode, post, job, serverSolve, idle, peakAbove, peakAboveMax, afterGcAbove);
+                    solve, liveParseEncode, post, job, serverSolve, idle, peakAbove, peakAboveIdle, afterGcAbove);
         }
     }
 
@@ -141,7 +145,7 @@ public final class UploadBench {
                 after, after - idle[0]);
         return new Row(samples, body.length / MB, median(warm(parse)), median(warm(solve)), live, median(warm(post)),
                 median(warm(job)), median(warm(serverSolve)), idle[0], median(warmAbove),
-                Arrays.stream(above).max().orElseThrow(), after - idle[0]);
+                Arrays.stream(peak).max().orElseThrow() - idle[0], after - idle[0]);
     }
 
     private ParsedTrace read(byte[] body) throws IOException {
