@@ -18,11 +18,11 @@ echo "load average before: $(cut -d' ' -f1-3 /proc/loadavg)"
 build
 ROWS="$WORK/rows.txt"
 : >"$ROWS"
-# G1 (the JDK's default) with a fixed maximum heap, so the figure does not follow the machine's RAM
-# (the Docker image's -XX:MaxRAMPercentage=75 gives an 18 GB heap on a 24 GB machine, and G1 then
-# lets the young generation grow to hundreds of MB before it collects); NMT says where the
-# committed memory goes.
-export SERVER_JAVA_OPTS="${SERVER_JAVA_OPTS:--XX:+UseG1GC -XX:NativeMemoryTracking=summary}"
+# G1 (the JDK's default) with a fixed maximum heap and a small initial one, so the figure does not
+# follow the machine's RAM (the JDK sizes the initial heap at 1/64 of it, and the Docker image's
+# -XX:MaxRAMPercentage=75 gives an 18 GB maximum on a 24 GB machine): the heap grows from 64 MB only
+# as far as G1 needs for the upload. NMT says where the committed memory goes.
+export SERVER_JAVA_OPTS="${SERVER_JAVA_OPTS:--XX:+UseG1GC -Xms64m -XX:NativeMemoryTracking=summary}"
 for size in ${SIZES:-100000 1000000 2000000}; do
   start_server "${SERVER_HEAP:-1g}"
   jcmd "$SERVER_PID" VM.native_memory baseline >/dev/null
