@@ -1,18 +1,58 @@
 #!/usr/bin/env bash
-# (c) One 10⁶-sample CSV upload to a server held to -Xmx300m: it must complete, in under twice
-# the offline parse + solve time of the same CSV through the same code (TraceReader +
-# DocumentSolver), measured here in a fresh JVM with the same heap. Two of each: the first runs
-# cold (JIT warm-up included, like a fresh server's first upload), the second warm; compare the
-# server's first upload with offline run 1 and its second with offline run 2.
+# Large uploads: for 10^5, 10^6 and 2*10^6 samples (demo-like CSV, about 36 bytes a row; FORMAT=json
+# for the JSON body), each against a fresh server: its resident memory above idle (idle = after
+# start-up and a forced GC; peak during post, parse, store and solve, from VmHWM; and after a forced
+# GC), the post's time to 202, the server's own solve time, and, in the driver's JVM on the same
+# bytes, the warm parse and solve times and the live heap of parse + stored encoding. Prints the
+# targets (RSS peak <= 150 MB above idle at 10^6; parse <= solve), the baseline (main before the
+# streaming intake: RSS 628 MB at 10^6, parse 0.37 s) as ratios, the scaling ratios, and where the
+# server's committed memory went (NMT).
+#
+#   bench/load/upload.sh                       # about 4 minutes on 2 cores
+#   SIZES=1000000 RUNS=3 FORMAT=json bench/load/upload.sh
+#   SERVER_HEAP=300m bench/load/upload.sh      # the server's -Xmx (default 1g, see bench/README.md "Uploads")
 source "$(dirname "$0")/common.sh"
+# SERVER_JAR: another build's jar for the server (e.g. main before this change), same driver.
+JAR="${SERVER_JAR:-$JAR}"
+echo "load average before: $(cut -d' ' -f1-3 /proc/loadavg)"
 build
-DRIVER_HEAP=300m driver offline --samples "${SAMPLES:-1000000}"
-start_server 300m
-for _ in 1 2; do
-  DRIVER_HEAP=1g driver upload --samples "${SAMPLES:-1000000}" --client "${DRIVER_CLIENT:-lean}"
+ROWS="$WORK/rows.txt"
+: >"$ROWS"
+# G1 (the JDK's default) with a fixed maximum heap and a small initial one, so the figure does not
+# follow the machine's RAM (the JDK sizes the initial heap at 1/64 of it, and the Docker image's
+# -XX:MaxRAMPercentage=75 gives an 18 GB maximum on a 24 GB machine): the heap grows from 64 MB only
+# as far as G1 needs for the upload. NMT says where the committed memory goes.
+export SERVER_JAVA_OPTS="${SERVER_JAVA_OPTS:--XX:+UseG1GC -Xms64m -XX:NativeMemoryTracking=summary}"
+for size in ${SIZES:-100000 1000000 2000000}; do
+  start_server "${SERVER_HEAP:-1g}"
+  jcmd "$SERVER_PID" VM.native_memory baseline >/dev/null
+  java -Xmx"${DRIVER_HEAP:-3g}" -Dbackstate.testData="$ROOT/test-data" -cp "$CP" backstate.reliability.UploadBench \
+    --base "$BASE" --db "$DB" --pid "$SERVER_PID" --sizes "$size" --runs "${RUNS:-4}" --format "${FORMAT:-csv}" \
+    | tee -a "$ROWS" | grep -v '^ROW'
+  echo "  server memory by NMT category, committed after the last upload against start-up (before a GC):"
+  jcmd "$SERVER_PID" VM.native_memory summary.diff scale=MB | grep -E '^-|Total' | grep -E '[+-][0-9]+MB' | sed 's/^/   /'
+  server_cpu
+  stop_server
 done
-server_metric backstate_solve_duration_seconds
-server_metric backstate_job_duration_seconds
-server_cpu
+python3 - "$ROWS" "${FORMAT:-csv}" <<'PY'
+import sys
+rows = [list(map(float, l.split()[1:])) for l in open(sys.argv[1]) if l.startswith('ROW ')]
+print()
+print(f"| samples | {sys.argv[2]} MB | offline parse s | offline solve s | parse / solve | live heap parse+encode MB"
+      " | post→202 s | job done s | server solve s | idle RSS MB | RSS peak above idle MB | warm run's peak above its own idle MB | RSS above idle after GC MB |")
+print("|---|---|---|---|---|---|---|---|---|---|---|---|---|")
+for n, mb, parse, solve, live, post, job, ssolve, idle, peak, peakmax, after in rows:
+    print(f"| {n:.0f} | {mb:.1f} | {parse:.3f} | {solve:.3f} | {parse/solve:.2f} | {live:.0f} | {post:.3f} | {job:.3f}"
+          f" | {ssolve:.3f} | {idle:.0f} | {peakmax:.0f} | {peak:.0f} | {after:.0f} |")
+for a, b in zip(rows, rows[1:]):
+    print(f"scaling {a[0]:.0f} -> {b[0]:.0f} (x{b[0]/a[0]:.0f} samples): offline parse x{b[2]/a[2]:.2f}, post->202 x{b[5]/a[5]:.2f},"
+          f" server solve x{b[7]/a[7]:.2f}, RSS peak above idle x{b[10]/a[10]:.2f}, live heap x{b[4]/a[4]:.2f}")
+for n, mb, parse, solve, live, post, job, ssolve, idle, peak, peakmax, after in rows:
+    if n == 1000000:
+        print(f"target at 10^6: RSS peak above idle {peakmax:.0f} MB against <= 150 MB: {peakmax/150:.2f} of the"
+              f" target ({'met' if peakmax <= 150 else 'NOT met'}); against the baseline's 628 MB: {peakmax/628:.2f}x")
+        print(f"target at 10^6: parse {parse:.3f} s against solve {solve:.3f} s: parse / solve {parse/solve:.2f}"
+              f" ({'met' if parse <= solve else 'NOT met'}); against the baseline's 0.37 s parse: {parse/0.37:.2f}x")
+PY
+echo "server JVM: -Xmx${SERVER_HEAP:-1g} $SERVER_JAVA_OPTS"
 echo "load average after: $(cut -d' ' -f1-3 /proc/loadavg)"
-stop_server

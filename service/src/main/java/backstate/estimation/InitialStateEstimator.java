@@ -48,7 +48,16 @@ public final class InitialStateEstimator {
 
     /** Checks that a model, trace and options fit together, throwing {@link ModelException} before any work. */
     public static void validate(StateSpaceModel model, Trace trace, EstimationOptions options) {
-        validatedStep(model, trace, options);
+        validatedStep(model, trace.timesView(), trace.outputCount(), trace.inputCount(), options);
+    }
+
+    /**
+     * {@link #validate(StateSpaceModel, Trace, EstimationOptions)} for a trace known by its times and
+     * channel counts before its samples are assembled (the intake checks a large upload this way and
+     * stores it column by column); its samples must pass {@link Trace}'s own checks.
+     */
+    public static void validate(StateSpaceModel model, double[] times, int outputs, int inputs, EstimationOptions options) {
+        validatedStep(model, times, outputs, inputs, options);
     }
 
     /**
@@ -56,14 +65,20 @@ public final class InitialStateEstimator {
      * samples, or {@link SolveContext#UNEVEN} when steps differ or there is a single sample.
      */
     static long validatedStep(StateSpaceModel model, Trace trace, EstimationOptions options) {
-        requireCompatible(model, trace, options);
-        SampleSteps steps = new SampleSteps(model, trace.time(0));
+        return validatedStep(model, trace.timesView(), trace.outputCount(), trace.inputCount(), options);
+    }
+
+    private static long validatedStep(StateSpaceModel model, double[] times, int outputs, int inputs,
+                                      EstimationOptions options) {
+        Trace.requireSamples(times.length);
+        requireCompatible(model, times, outputs, inputs, options);
+        SampleSteps steps = new SampleSteps(model, times[0]);
         long reference = smoothedReference(model, steps, options);
         long previous = -1;
         long step = SolveContext.UNEVEN;
         boolean even = true;
-        for (int k = 0; k < trace.samples(); k++) {
-            long units = steps.unitsOfSample(k, trace.time(k));
+        for (int k = 0; k < times.length; k++) {
+            long units = steps.unitsOfSample(k, times[k]);
             if (units == reference) {
                 reference = -1;
             }
@@ -242,22 +257,23 @@ public final class InitialStateEstimator {
         return false;
     }
 
-    private static void requireCompatible(StateSpaceModel model, Trace trace, EstimationOptions options) {
-        if (trace.outputCount() != model.outputs()) {
-            throw new ModelException("outputs", "got " + trace.outputCount() + " channels, expected "
+    private static void requireCompatible(StateSpaceModel model, double[] times, int outputs, int inputs,
+                                          EstimationOptions options) {
+        if (outputs != model.outputs()) {
+            throw new ModelException("outputs", "got " + outputs + " channels, expected "
                     + model.outputs() + " (the model's outputs)");
         }
-        if (trace.inputCount() != model.inputs()) {
-            throw new ModelException("inputs", "got " + trace.inputCount() + " channels, expected "
+        if (inputs != model.inputs()) {
+            throw new ModelException("inputs", "got " + inputs + " channels, expected "
                     + model.inputs() + " (the model's inputs)");
         }
         if (!(options.mismatchLevel() > 0.0 && options.mismatchLevel() < 1.0)) {
             throw new ModelException("mismatchLevel", "got " + options.mismatchLevel() + ", expected 0 < level < 1");
         }
         Double t = options.referenceTime();
-        if (t != null && !(t >= trace.time(0) && t <= trace.time(trace.samples() - 1))) {
+        if (t != null && !(t >= times[0] && t <= times[times.length - 1])) {
             throw new ModelException("referenceTime", "got " + t + ", expected a time inside the window ["
-                    + trace.time(0) + ", " + trace.time(trace.samples() - 1) + "]");
+                    + times[0] + ", " + times[times.length - 1] + "]");
         }
         if (options.prior() != null) {
             PriorEquations.validate(options.prior(), model.states());

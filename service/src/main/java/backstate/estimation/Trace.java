@@ -77,10 +77,15 @@ public final class Trace {
         return inputs;
     }
 
-    private void validate() {
-        if (times == null || times.length == 0) {
+    /** At least one sample, or {@link ModelException} naming the time column. */
+    static void requireSamples(int n) {
+        if (n == 0) {
             throw new ModelException("time", "got no samples, expected at least one");
         }
+    }
+
+    private void validate() {
+        requireSamples(times == null ? 0 : times.length);
         int n = times.length;
         requireLength("outputs", outputs, (long) n * outputCount);
         requireLength("inputs", inputs, (long) n * inputCount);

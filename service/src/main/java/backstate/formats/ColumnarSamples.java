@@ -35,6 +35,33 @@ final class ColumnarSamples {
         }
     }
 
+    /**
+     * The same bytes as {@link #write(ByteSink, Trace)} of the assembled trace, read from the columns
+     * where they lie; each channel column is handed over as it is written ({@link DoubleColumn#takeSegments}),
+     * so the columns shrink while the payload grows.
+     */
+    static void write(ByteSink out, ParsedColumns c) {
+        int n = c.samples();
+        long[] mantissas = new long[n];
+        StoredColumn.write(out, new double[][] {c.timesView()}, mantissas, n);
+        for (int j = 0; j < c.outputCount(); j++) {
+            DoubleColumn column = c.output(j);
+            StoredColumn.write(out, column == null ? allMissing(n) : column.takeSegments(), mantissas, n);
+        }
+        for (int i = 0; i < c.inputCount(); i++) {
+            StoredColumn.write(out, c.input(i).takeSegments(), mantissas, n);
+        }
+    }
+
+    /** Segments of n missing values: one segment of NaN, shared. */
+    private static double[][] allMissing(int n) {
+        double[] missing = new double[Math.min(n, DoubleColumn.SEGMENT)];
+        java.util.Arrays.fill(missing, Double.NaN);
+        double[][] segments = new double[(n + missing.length - 1) / missing.length][];
+        java.util.Arrays.fill(segments, missing);
+        return segments;
+    }
+
     /** Fills {@code times} (n), {@code y} (n×p) and {@code u} (n×m), row-major, a block of rows at a time. */
     static void read(ByteSource in, double[] times, double[] y, int p, double[] u, int m) {
         int n = times.length;

@@ -147,6 +147,9 @@ final class CsvRecords {
         boolean quoted = false;
         boolean wasQuoted = false;
         while (true) {
+            if (!quoted && !wasQuoted) {
+                scanPlainRun(fieldStart, fieldAscii);
+            }
             int c = read();
             if (quoted) {
                 if (c == EOF) {
@@ -189,6 +192,36 @@ final class CsvRecords {
             }
             fieldAscii = append(fieldStart, fieldAscii, c);
         }
+    }
+
+    /**
+     * Takes the run of plain bytes at the read position in one copy: ASCII other than comma, quote,
+     * CR and LF, up to the end of the block. The byte-by-byte loop then sees only what ends or
+     * changes a field, and a run that would make the field too long is left to it, so it refuses
+     * the field at the same byte and line as before.
+     */
+    private void scanPlainRun(int fieldStart, boolean fieldAscii) {
+        int from = position;
+        int to = from;
+        byte[] b = block;
+        int end = filled;
+        while (to < end) {
+            byte x = b[to];
+            if (x == ',' || x == '\n' || x == '\r' || x == '"' || x < 0) {
+                break;
+            }
+            to++;
+        }
+        int run = to - from;
+        if (run == 0 || contentLength - fieldStart + run > (fieldAscii ? MAX_FIELD_LENGTH : MAX_FIELD_BYTES)) {
+            return;
+        }
+        if (contentLength + run > content.length) {
+            content = Arrays.copyOf(content, Math.max(content.length * 2, contentLength + run));
+        }
+        System.arraycopy(b, from, content, contentLength, run);
+        contentLength += run;
+        position = to;
     }
 
     /** Adds a byte to the field begun at fieldStart; returns whether the field is still ASCII. */

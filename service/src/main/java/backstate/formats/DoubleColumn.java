@@ -1,14 +1,24 @@
 package backstate.formats;
 
-import java.util.Arrays;
-
-/** A growable column of primitive doubles (no boxing), capped at a sample limit. */
+/**
+ * A growable column of primitive doubles (no boxing), capped at a sample limit, held in segments
+ * of {@value #SEGMENT} values: growing never copies what was read, a column holds at most one
+ * part-filled segment beyond its values, and no segment is large enough to be a "humongous"
+ * object for G1 (half a heap region: 512 KB in heaps up to 2 GB), which would be allocated outside
+ * the young generation and waste up to half a region each.
+ */
 final class DoubleColumn {
-    private static final int INITIAL_CAPACITY = 1024;
+    /** log2 of the segment length. */
+    static final int SEGMENT_BITS = 14;
+    /** Values a segment: 16 384, 128 KB. */
+    static final int SEGMENT = 1 << SEGMENT_BITS;
+    private static final int MASK = SEGMENT - 1;
+    private static final int INITIAL_SEGMENTS = 4;
 
     private final String field;
     private final int limit;
-    private double[] values = new double[INITIAL_CAPACITY];
+    private double[][] segments = new double[INITIAL_SEGMENTS][];
+    private double[] current;
     private int size;
 
     DoubleColumn(String field, int limit) {
@@ -20,10 +30,21 @@ final class DoubleColumn {
         if (size == limit) {
             throw new InputException(field, "got more than " + limit + " samples, expected at most " + limit);
         }
-        if (size == values.length) {
-            values = Arrays.copyOf(values, (int) Math.min((long) values.length * 2, limit));
+        int at = size & MASK;
+        if (at == 0) {
+            startSegment();
         }
-        values[size++] = v;
+        current[at] = v;
+        size++;
+    }
+
+    private void startSegment() {
+        int index = size >>> SEGMENT_BITS;
+        if (index == segments.length) {
+            segments = java.util.Arrays.copyOf(segments, segments.length * 2);
+        }
+        current = new double[SEGMENT];
+        segments[index] = current;
     }
 
     int size() {
@@ -31,10 +52,47 @@ final class DoubleColumn {
     }
 
     double get(int i) {
-        return values[i];
+        return segments[i >>> SEGMENT_BITS][i & MASK];
     }
 
     String field() {
         return field;
+    }
+
+    /** The segments in order; values k is {@code segments()[k >>> SEGMENT_BITS][k & (SEGMENT - 1)]}, for k below {@link #size()}. */
+    double[][] segments() {
+        return segments;
+    }
+
+    /**
+     * The segments, as {@link #segments()}, handed over: the column is empty after, so a caller
+     * that writes the values elsewhere holds them only as long as it needs them.
+     */
+    double[][] takeSegments() {
+        double[][] taken = segments;
+        segments = new double[INITIAL_SEGMENTS][];
+        current = null;
+        size = 0;
+        return taken;
+    }
+
+    /**
+     * Copies the values to {@code out[at]}, {@code out[at + stride]}, … and lets go of each segment
+     * once copied, so a column moved into an assembled array is not held twice; the column is empty
+     * after.
+     */
+    void moveTo(double[] out, int at, int stride) {
+        int k = 0;
+        for (int s = 0; k < size; s++) {
+            double[] segment = segments[s];
+            segments[s] = null;
+            int count = Math.min(SEGMENT, size - k);
+            for (int i = 0; i < count; i++, k++) {
+                out[at + k * stride] = segment[i];
+            }
+        }
+        segments = new double[INITIAL_SEGMENTS][];
+        current = null;
+        size = 0;
     }
 }

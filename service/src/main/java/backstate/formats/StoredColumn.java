@@ -62,7 +62,15 @@ final class StoredColumn {
      * Buffers' encoding documentation (from memory). {@code mantissas} is scratch of at least n.
      */
     static void write(ByteSink out, double[] values, long[] mantissas, int n) {
-        int scale = scaleAndMantissas(values, n, mantissas);
+        write(out, new double[][] {values}, mantissas, n);
+    }
+
+    /**
+     * {@link #write(ByteSink, double[], long[], int)} for values held in segments: value k is in the
+     * first segments in order, each used whole but the last (a {@link DoubleColumn}'s layout).
+     */
+    static void write(ByteSink out, double[][] segments, long[] mantissas, int n) {
+        int scale = scaleAndMantissas(segments, n, mantissas);
         int start = out.size();
         if (scale >= 0) {
             out.put(DECIMAL_DELTA);
@@ -77,8 +85,11 @@ final class StoredColumn {
         }
         out.put(RAW);
         out.putInt(Double.BYTES * n);
-        for (int k = 0; k < n; k++) {
-            out.putDouble(values[k]);
+        for (int k = 0, s = 0; k < n; s++) {
+            double[] segment = segments[s];
+            for (int i = 0, count = Math.min(segment.length, n - k); i < count; i++, k++) {
+                out.putDouble(segment[i]);
+            }
         }
     }
 
@@ -117,30 +128,37 @@ final class StoredColumn {
      * the same double, as long as |M·10^Δ| stays below 2^53 (worked out, no source).
      */
     static int scaleAndMantissas(double[] values, int n, long[] mantissas) {
+        return scaleAndMantissas(new double[][] {values}, n, mantissas);
+    }
+
+    private static int scaleAndMantissas(double[][] segments, int n, long[] mantissas) {
         int scale = 0;
-        for (int k = 0; k < n; k++) {
-            double v = values[k];
-            long m;
-            if (v != v) {
-                m = MISSING_MARK;
-            } else if (Double.doubleToRawLongBits(v) == Long.MIN_VALUE) {
-                m = NEGATIVE_ZERO_MARK;
-            } else {
-                m = mantissa(v, scale);
-                if (m == NO_MANTISSA) {
-                    int from = scale;
-                    do {
-                        if (++scale > MAX_SCALE) {
+        for (int k = 0, s = 0; k < n; s++) {
+            double[] segment = segments[s];
+            for (int i = 0, count = Math.min(segment.length, n - k); i < count; i++, k++) {
+                double v = segment[i];
+                long m;
+                if (v != v) {
+                    m = MISSING_MARK;
+                } else if (Double.doubleToRawLongBits(v) == Long.MIN_VALUE) {
+                    m = NEGATIVE_ZERO_MARK;
+                } else {
+                    m = mantissa(v, scale);
+                    if (m == NO_MANTISSA) {
+                        int from = scale;
+                        do {
+                            if (++scale > MAX_SCALE) {
+                                return -1;
+                            }
+                            m = mantissa(v, scale);
+                        } while (m == NO_MANTISSA);
+                        if (!rescale(mantissas, k, scale - from)) {
                             return -1;
                         }
-                        m = mantissa(v, scale);
-                    } while (m == NO_MANTISSA);
-                    if (!rescale(mantissas, k, scale - from)) {
-                        return -1;
                     }
                 }
+                mantissas[k] = m;
             }
-            mantissas[k] = m;
         }
         return scale;
     }

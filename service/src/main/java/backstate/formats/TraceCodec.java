@@ -8,6 +8,8 @@ import java.io.DataInputStream;
 import java.io.DataOutputStream;
 import java.io.IOException;
 import java.io.UncheckedIOException;
+import java.util.function.Consumer;
+import java.util.function.IntToDoubleFunction;
 
 /**
  * Binary storage form of a parsed trace, exact bit for bit (NaN stays NaN). Layout: a format byte,
@@ -39,10 +41,23 @@ public final class TraceCodec {
     /** Format 2; see the class comment. */
     public byte[] encode(ParsedTrace parsed) {
         Trace t = parsed.trace();
-        int n = t.samples();
-        int p = t.outputCount();
-        int m = t.inputCount();
-        byte[] options = utf(parsed.options());
+        return encode(t.samples(), t.outputCount(), t.inputCount(), out -> ColumnarSamples.write(out, t), t::noiseSigma,
+                parsed.options());
+    }
+
+    /**
+     * Format 2 straight from the columns as read, the same bytes as {@link #encode(ParsedTrace)} of
+     * the assembled trace: no row-major copy of the samples is made, and each channel's column is
+     * let go of once written, so {@code parsed} holds only its times after (it cannot be assembled).
+     */
+    public byte[] encode(ParsedColumns parsed) {
+        return encode(parsed.samples(), parsed.outputCount(), parsed.inputCount(), out -> ColumnarSamples.write(out, parsed),
+                parsed::noiseSigma, parsed.options());
+    }
+
+    private byte[] encode(int n, int p, int m, Consumer<ByteSink> samples, IntToDoubleFunction noiseSigma,
+                          TraceOptions traceOptions) {
+        byte[] options = utf(traceOptions);
         // Room for 2 bytes a value, more than decimal-delta needs; the sink grows if columns go raw.
         long guess = HEADER_BYTES + 2L * n * (1 + p + m) + (long) Double.BYTES * p + options.length;
         ByteSink out = new ByteSink((int) Math.min(guess, Integer.MAX_VALUE / 2));
@@ -50,9 +65,9 @@ public final class TraceCodec {
         out.putInt(n);
         out.putInt(p);
         out.putInt(m);
-        ColumnarSamples.write(out, t);
+        samples.accept(out);
         for (int j = 0; j < p; j++) {
-            out.putDouble(t.noiseSigma(j));
+            out.putDouble(noiseSigma.applyAsDouble(j));
         }
         out.putBytes(options);
         return out.toByteArray();

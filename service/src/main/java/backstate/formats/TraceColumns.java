@@ -59,30 +59,35 @@ final class TraceColumns {
         noiseSigma.put(name, sigma);
     }
 
+    /** The trace assembled into the engine's row-major form. */
     Trace assemble() {
-        int n = times.size();
+        return finish(TraceOptions.NONE).assemble().trace();
+    }
+
+    /**
+     * The columns in the model's order, checked: every column as long as the times, every input
+     * present. The times are normalised here ({@link TraceTimes#normalised}); the channel columns
+     * are handed on as read, not copied.
+     */
+    ParsedColumns finish(TraceOptions options) {
         List<Quantity> outs = model.outputs();
         List<Quantity> ins = model.inputsOrEmpty();
-        double[] y = new double[n * outs.size()];
-        for (int j = 0; j < outs.size(); j++) {
-            DoubleColumn column = outputs.get(outs.get(j).name());
-            requireLength(column, n);
-            for (int k = 0; k < n; k++) {
-                y[k * outs.size() + j] = column == null ? Double.NaN : column.get(k);
-            }
+        double[] t = times.normalised();
+        int n = t.length;
+        DoubleColumn[] y = new DoubleColumn[outs.size()];
+        for (int j = 0; j < y.length; j++) {
+            y[j] = outputs.get(outs.get(j).name());
+            requireLength(y[j], n);
         }
-        double[] u = new double[n * ins.size()];
-        for (int i = 0; i < ins.size(); i++) {
-            DoubleColumn column = inputs.get(ins.get(i).name());
-            if (column == null) {
+        DoubleColumn[] u = new DoubleColumn[ins.size()];
+        for (int i = 0; i < u.length; i++) {
+            u[i] = inputs.get(ins.get(i).name());
+            if (u[i] == null) {
                 throw new InputException("inputs." + ins.get(i).name(), "got nothing, expected the known input's values");
             }
-            requireLength(column, n);
-            for (int k = 0; k < n; k++) {
-                u[k * ins.size() + i] = column.get(k);
-            }
+            requireLength(u[i], n);
         }
-        return new Trace(times.normalised(), y, u, outs.size(), ins.size(), sigmaArray(outs));
+        return new ParsedColumns(t, y, u, sigmaArray(outs), options);
     }
 
     private double[] sigmaArray(List<Quantity> outs) {

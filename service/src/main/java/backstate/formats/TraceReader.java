@@ -1,6 +1,5 @@
 package backstate.formats;
 
-import backstate.estimation.Trace;
 import com.fasterxml.jackson.core.JsonFactory;
 import com.fasterxml.jackson.core.JsonParser;
 import com.fasterxml.jackson.core.JsonToken;
@@ -57,6 +56,11 @@ public final class TraceReader {
 
     /** Reads the JSON form; unknown fields are rejected so a typo cannot silently drop data. */
     public ParsedTrace readJson(InputStream body, ModelDocument model) throws IOException {
+        return readJsonColumns(body, model).assemble();
+    }
+
+    /** {@link #readJson}, column by column: the trace not yet assembled. */
+    public ParsedColumns readJsonColumns(InputStream body, ModelDocument model) throws IOException {
         TraceColumns columns = new TraceColumns(model, limits);
         TraceOptions options = TraceOptions.NONE;
         Long referenceMicros = null;
@@ -88,7 +92,7 @@ public final class TraceReader {
         } catch (JsonProcessingException e) {
             throw JsonPaths.duplicateKey(e, "").orElseGet(() -> new InputException("body", "got malformed JSON: " + e.getOriginalMessage()));
         }
-        return assemble(columns, options, referenceMicros);
+        return finish(columns, options, referenceMicros);
     }
 
     /** Reads the CSV form; options come from elsewhere (query parameters), a reference time on the trace's clock. */
@@ -101,6 +105,12 @@ public final class TraceReader {
      * the trace's clock or an RFC 3339 time. Given, it takes the place of the options' own.
      */
     public ParsedTrace readCsv(InputStream body, ModelDocument model, TraceOptions options, String referenceTime)
+            throws IOException {
+        return readCsvColumns(body, model, options, referenceTime).assemble();
+    }
+
+    /** {@link #readCsv(InputStream, ModelDocument, TraceOptions, String)}, column by column: the trace not yet assembled. */
+    public ParsedColumns readCsvColumns(InputStream body, ModelDocument model, TraceOptions options, String referenceTime)
             throws IOException {
         Long referenceMicros = null;
         if (referenceTime != null && DECIMAL.matcher(referenceTime).matches()) {
@@ -140,22 +150,22 @@ public final class TraceReader {
                 }
             }
         }
-        return assemble(columns, options, referenceMicros);
+        return finish(columns, options, referenceMicros);
     }
 
     /**
-     * The trace, and the options with their reference time on the trace's normalised clock: an
+     * The trace's columns, and the options with their reference time on the trace's normalised clock: an
      * RFC 3339 reference time as it is, a number of seconds as the trace's numeric times are read.
      */
-    private static ParsedTrace assemble(TraceColumns columns, TraceOptions options, Long referenceMicrosOrNull) {
-        Trace trace = columns.assemble();
+    private static ParsedColumns finish(TraceColumns columns, TraceOptions options, Long referenceMicrosOrNull) {
+        ParsedColumns parsed = columns.finish(options);
         if (referenceMicrosOrNull != null) {
-            return new ParsedTrace(trace, options.withReferenceTime(RecordingTime.seconds(referenceMicrosOrNull)));
+            return parsed.withOptions(options.withReferenceTime(RecordingTime.seconds(referenceMicrosOrNull)));
         }
         if (options.referenceTime() != null) {
-            return new ParsedTrace(trace, options.withReferenceTime(columns.times().normalise(options.referenceTime())));
+            return parsed.withOptions(options.withReferenceTime(columns.times().normalise(options.referenceTime())));
         }
-        return new ParsedTrace(trace, options);
+        return parsed;
     }
 
     /** The time column's index, and every other column's target (null at the time column). */

@@ -82,15 +82,19 @@ final class TraceTimes {
         return startMicros == null ? RecordingTime.toMicrosecond(seconds) : RecordingTime.toMicrosecond(startMicros, seconds);
     }
 
-    /** The times as epoch seconds on the microsecond grid, checked to be writable and increasing there. */
+    /**
+     * The times as epoch seconds on the microsecond grid, checked to be writable and increasing
+     * there; the times as read are handed over, so call it once, when the trace is complete.
+     */
     double[] normalised() {
         if (kind == Kind.TIMESTAMPS && startMicros != null) {
             throw new InputException(startField, "got a start with RFC 3339 times, expected a start only with times"
                     + " in seconds since it");
         }
         double[] out = new double[values.size()];
+        values.moveTo(out, 0, 1); // the times as read, let go of as they are copied; normalised in place below
         for (int k = 0; k < out.length; k++) {
-            double v = values.get(k);
+            double v = out[k];
             out[k] = kind == Kind.TIMESTAMPS ? v : normalise(v);
             if (!RecordingTime.writable(out[k])) {
                 throw new InputException("time[" + k + "]", "got " + v + (startMicros == null ? " s since 1970" : " s after the start")

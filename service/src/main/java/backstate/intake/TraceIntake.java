@@ -2,7 +2,6 @@ package backstate.intake;
 
 import backstate.estimation.InitialStateEstimator;
 import backstate.estimation.StateSpaceModel;
-import backstate.estimation.Trace;
 import backstate.formats.CheckedModel;
 import backstate.formats.CheckedModels;
 import backstate.formats.FieldValues;
@@ -10,7 +9,7 @@ import backstate.formats.InputException;
 import backstate.formats.MediaType;
 import backstate.formats.Limits;
 import backstate.formats.ModelDocument;
-import backstate.formats.ParsedTrace;
+import backstate.formats.ParsedColumns;
 import backstate.formats.TraceCodec;
 import backstate.formats.TraceOptions;
 import backstate.formats.TraceReader;
@@ -70,16 +69,27 @@ public final class TraceIntake {
         ModelVersionRow version = activeVersion(post.family(), post.version());
         CheckedModel model = models.of(version.family(), version.version(), version.documentJson());
         TraceFingerprint fingerprint = post.idempotencyKeyOrNull() == null ? null : TraceFingerprint.start(post, version);
-        ParsedTrace parsed = parse(post, model.document(), fingerprint);
-        StateSpaceModel engine = model.engine();
-        InitialStateEstimator.validate(engine, parsed.trace(), parsed.options().toEstimationOptions(engine.states(), false));
-        Trace t = parsed.trace();
-        NewTrace trace = new NewTrace(post.unitId(), version.family(), version.version(), t.samples(), t.time(0),
-                t.time(t.samples() - 1), codec.encode(parsed));
+        NewTrace trace = checkedAndEncoded(post, version, model, fingerprint);
         Submission submission = traces.submitTrace(trace,
                 fingerprint == null ? null : fingerprint.withKey(post.idempotencyKeyOrNull()), maxQueued, clock.instant());
         wakeWorkers.run();
         return submission;
+    }
+
+    /**
+     * The body parsed into columns, checked as the solver will check it, and encoded for storage
+     * from the columns; only the encoded payload outlives this call, so the columns are garbage
+     * before the write begins.
+     */
+    private NewTrace checkedAndEncoded(TracePost post, ModelVersionRow version, CheckedModel model,
+                                       TraceFingerprint fingerprintOrNull) throws IOException {
+        ParsedColumns parsed = parse(post, model.document(), fingerprintOrNull);
+        StateSpaceModel engine = model.engine();
+        double[] times = parsed.timesView();
+        InitialStateEstimator.validate(engine, times, parsed.outputCount(), parsed.inputCount(),
+                parsed.options().toEstimationOptions(engine.states(), false));
+        return new NewTrace(post.unitId(), version.family(), version.version(), times.length, times[0],
+                times[times.length - 1], codec.encode(parsed));
     }
 
     private ModelVersionRow activeVersion(String family, int number) {
@@ -92,10 +102,10 @@ public final class TraceIntake {
     }
 
     /** Reads the body as its media type says, into the fingerprint too when the post has an Idempotency-Key. */
-    private ParsedTrace parse(TracePost post, ModelDocument model, TraceFingerprint fingerprintOrNull) throws IOException {
+    private ParsedColumns parse(TracePost post, ModelDocument model, TraceFingerprint fingerprintOrNull) throws IOException {
         try (InputStream raw = post.body().open()) {
             InputStream body = fingerprintOrNull == null ? raw : fingerprintOrNull.reading(raw);
-            ParsedTrace parsed = read(post, body, model);
+            ParsedColumns parsed = read(post, body, model);
             if (fingerprintOrNull != null) {
                 fingerprintOrNull.finish(body);
             }
@@ -103,16 +113,16 @@ public final class TraceIntake {
         }
     }
 
-    private ParsedTrace read(TracePost post, InputStream body, ModelDocument model) throws IOException {
+    private ParsedColumns read(TracePost post, InputStream body, ModelDocument model) throws IOException {
         String type = post.contentTypeOrNull() == null ? "" : post.contentTypeOrNull();
         if (MediaType.is(type, "application/json")) {
             if (post.query().any()) {
                 throw new InputException("formulation", "with a JSON body, put options in its \"options\" object, not the query");
             }
-            return reader.readJson(body, model);
+            return reader.readJsonColumns(body, model);
         }
         if (MediaType.is(type, "text/csv")) {
-            return reader.readCsv(body, model, csvOptions(post.query()), post.query().referenceTime());
+            return reader.readCsvColumns(body, model, csvOptions(post.query()), post.query().referenceTime());
         }
         throw TraceRefused.unsupportedMediaType(type.isEmpty() ? "no Content-Type" : type);
     }

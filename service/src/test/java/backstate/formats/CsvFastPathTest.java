@@ -221,6 +221,14 @@ class CsvFastPathTest {
         assertEquals(oracle, outcome(() -> read(body, Limits.DEFAULTS)));
     }
 
+    /** The intake's path: columns as read, stored without the row-major trace, as the oracle's trace is stored. */
+    @Property(tries = 300, edgeCases = EdgeCasesMode.NONE)
+    void generated_traces_store_from_their_columns_as_the_oracle_trace(@ForAll("traces") String csv) throws IOException {
+        byte[] body = csv.getBytes(StandardCharsets.UTF_8);
+        ColumnarIntakeTest.assertStoredAlike(JacksonCsvOracle.readCsv(body, MODEL, Limits.DEFAULTS),
+                new TraceReader(Limits.DEFAULTS).readCsvColumns(stream(body), MODEL, TraceOptions.NONE, null), csv);
+    }
+
     @Property(tries = 3000)
     void plain_decimal_is_parseDouble_or_declines(@ForAll("decimals") String text) {
         byte[] bytes = text.getBytes(StandardCharsets.US_ASCII);
@@ -339,7 +347,7 @@ class CsvFastPathTest {
 
     // ---- helpers
 
-    private interface Read {
+    interface Read {
         ParsedTrace run() throws IOException;
     }
 

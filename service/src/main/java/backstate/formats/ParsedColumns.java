@@ -1,0 +1,97 @@
+package backstate.formats;
+
+import backstate.estimation.Trace;
+
+/**
+ * A trace as read from a body, column by column, with its solve options: the times as epoch
+ * seconds on the microsecond grid, each output of the model in its order (null when the body had
+ * none: all missing), each input, and the noise σ given (null for none). The intake encodes it for
+ * storage straight from these columns ({@link TraceCodec#encode(ParsedColumns)}), so a large upload
+ * is never held as the engine's row-major {@link Trace} too; {@link #assemble()} builds that Trace
+ * once, letting go of each column as it is copied.
+ */
+public final class ParsedColumns {
+    private final double[] times;
+    private final DoubleColumn[] outputs;
+    private final DoubleColumn[] inputs;
+    private final double[] noiseSigmaOrNull;
+    private final TraceOptions options;
+
+    ParsedColumns(double[] times, DoubleColumn[] outputs, DoubleColumn[] inputs, double[] noiseSigmaOrNull,
+                  TraceOptions options) {
+        this.times = times;
+        this.outputs = outputs;
+        this.inputs = inputs;
+        this.noiseSigmaOrNull = noiseSigmaOrNull;
+        this.options = options;
+    }
+
+    public int samples() {
+        return times.length;
+    }
+
+    public int outputCount() {
+        return outputs.length;
+    }
+
+    public int inputCount() {
+        return inputs.length;
+    }
+
+    /** The sample times (strictly increasing, at least 1 µs apart); callers must not write. */
+    public double[] timesView() {
+        return times;
+    }
+
+    public TraceOptions options() {
+        return options;
+    }
+
+    /** The same columns with other options. */
+    ParsedColumns withOptions(TraceOptions other) {
+        return new ParsedColumns(times, outputs, inputs, noiseSigmaOrNull, other);
+    }
+
+    /** Output j's column, or null when the body gave none (every value missing). */
+    DoubleColumn output(int j) {
+        return outputs[j];
+    }
+
+    DoubleColumn input(int i) {
+        return inputs[i];
+    }
+
+    double noiseSigma(int j) {
+        return noiseSigmaOrNull == null ? Double.NaN : noiseSigmaOrNull[j];
+    }
+
+    /**
+     * The engine's row-major trace; the columns are emptied as they are copied, so call it once,
+     * and not after {@link TraceCodec#encode(ParsedColumns)}.
+     */
+    public ParsedTrace assemble() {
+        int n = times.length;
+        for (DoubleColumn column : inputs) {
+            if (column.size() != n) {
+                throw new IllegalStateException("got columns already handed over, expected them as read (assemble once, before any encode)");
+            }
+        }
+        int p = outputs.length;
+        int m = inputs.length;
+        double[] y = new double[n * p];
+        for (int j = 0; j < p; j++) {
+            if (outputs[j] == null) {
+                for (int k = 0; k < n; k++) {
+                    y[k * p + j] = Double.NaN;
+                }
+            } else {
+                outputs[j].moveTo(y, j, p);
+            }
+        }
+        double[] u = new double[n * m];
+        for (int i = 0; i < m; i++) {
+            inputs[i].moveTo(u, i, m);
+        }
+        return new ParsedTrace(new Trace(times, y, u, p, m, noiseSigmaOrNull), options);
+    }
+}
