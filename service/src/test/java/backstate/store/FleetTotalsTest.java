@@ -1,0 +1,137 @@
+package backstate.store;
+
+import static org.junit.jupiter.api.Assertions.assertEquals;
+import static org.junit.jupiter.api.Assertions.assertTrue;
+
+import backstate.jobs.ClaimedJob;
+import java.time.Instant;
+import java.util.ArrayList;
+import java.util.List;
+import java.util.Locale;
+import java.util.Map;
+import java.util.Random;
+import org.junit.jupiter.api.Test;
+
+/**
+ * The all-time fleet summary, read from the running totals (SqlFleetTotals), equals the same
+ * summary recomputed from scratch over the rows ({@link SqlFleet#fleetSummaryFromRows}, the pass
+ * the service made before the totals), compared with equals: every count, every unit list and
+ * every quantile to the last bit. Runs on both engines.
+ */
+class FleetTotalsTest extends StoreContractTestBase {
+
+    private static final Map<Integer, List<String>> CHANNELS = Map.of(1, List.of("pos", "vel"));
+    private static final List<List<String>> FLAG_SETS = List.of(List.of(), List.of("few_samples"),
+            List.of("model_mismatch", "few_samples"), List.of("model_mismatch"), List.of());
+
+    @Test
+    void the_all_time_summary_from_the_totals_equals_the_pass_over_the_rows() throws Exception {
+        Random random = new Random(15);
+        for (int i = 0; i < 120; i++) {
+            complete(random, i, nasty(random));
+        }
+        // A trace still waiting for its estimate counts as a trace only.
+        store.traces().submitTrace(new NewTrace("unit-99", "pump", 1, 3, 0.0, 2.0, new byte[] {1}), null, 1000,
+                StoreFixture.T0);
+        for (int listLimit : new int[] {1, 3, 50}) {
+            assertSameAnswers(listLimit);
+        }
+    }
+
+    /**
+     * Values on and beside bin edges (e^(k/256), the binning's own, and their neighbouring doubles),
+     * zeros and ties: a bin misplaced by one value would shift every rank above it.
+     */
+    @Test
+    void values_on_bin_edges_zeros_and_ties_keep_every_rank() throws Exception {
+        Random random = new Random(16);
+        int i = 0;
+        for (int k = -3; k <= 3; k++) {
+            double edge = Math.exp(k / 256.0);
+            for (double v : new double[] {edge, Math.nextDown(edge), Math.nextUp(edge), edge, 0.0}) {
+                complete(random, i++, v);
+            }
+        }
+        assertSameAnswers(50);
+    }
+
+    /** A closed form: χ²/dof 1, 2, 3, 4 give median 2.5, p95 = 3 + 0.85·1 = 3.85 and max 4 (Hyndman & Fan 1996, definition 7). */
+    @Test
+    void four_values_give_the_textbook_quantiles() throws Exception {
+        Random random = new Random(17);
+        for (int i = 0; i < 4; i++) {
+            complete(random, i, 4.0 - i);
+        }
+        FleetSummary.Distribution chi2 = allTime(50).versions().get(0).chiSquarePerDof();
+        assertEquals(4, chi2.count());
+        assertEquals(2.5, chi2.median(), 0.0);
+        assertEquals(3.85, chi2.p95(), 1e-15);
+        assertEquals(4.0, chi2.max(), 0.0);
+    }
+
+    /** A recording estimated again (a retried or re-solved job) is one more estimate, as the rows count it. */
+    @Test
+    void an_estimate_written_again_for_the_same_recording_counts_as_the_rows_do() throws Exception {
+        Random random = new Random(18);
+        complete(random, 0, 1.5);
+        complete(random, 0, 2.5);
+        assertSameAnswers(50);
+        assertEquals(List.of(2L, 1L), List.of(allTime(50).versions().get(0).estimates(),
+                allTime(50).versions().get(0).units()));
+    }
+
+    @Test
+    void a_version_without_estimates_has_zeros_and_no_statistics() {
+        FleetSummary.VersionActivity v = allTime(50).versions().get(0);
+        assertEquals(List.of(0L, 0L, 0L, 0), List.of(v.units(), v.traces(), v.estimates(), v.chiSquarePerDof().count()));
+        assertSameAnswers(50);
+    }
+
+    private FleetSummary allTime(int listLimit) {
+        return store.fleet().fleetSummary(query(listLimit));
+    }
+
+    private void assertSameAnswers(int listLimit) {
+        FleetSummary fromRows = ((SqlFleet) store.fleet()).fleetSummaryFromRows(query(listLimit));
+        assertEquals(fromRows, allTime(listLimit), "list limit " + listLimit);
+    }
+
+    private static FleetSummaryQuery query(int listLimit) {
+        return new FleetSummaryQuery("pump", CHANNELS, TimeFilter.NONE, null, StoreFixture.T0, listLimit);
+    }
+
+    /** χ²/dof: mostly log-normal about 1, some ties, zeros, a heavy tail and a few without one. */
+    private static Double nasty(Random random) {
+        double u = random.nextDouble();
+        if (u < 0.05) {
+            return null;
+        }
+        if (u < 0.1) {
+            return 0.0;
+        }
+        if (u < 0.2) {
+            return 1.0;
+        }
+        if (u < 0.25) {
+            return 50 * Math.exp(3 * random.nextDouble());
+        }
+        return Math.exp(0.15 * random.nextGaussian());
+    }
+
+    /** Estimate number i of unit i mod 7, recorded i minutes after T0, with random channel RMS (vel sometimes absent). */
+    private void complete(Random random, int i, Double chi2) throws Exception {
+        String unit = String.format(Locale.ROOT, "unit-%02d", i % 7);
+        Instant at = StoreFixture.T0.plusSeconds(60L * i);
+        double start = at.getEpochSecond();
+        double pos = random.nextDouble() < 0.1 ? 0.0 : Math.exp(0.1 * random.nextGaussian()) * 0.5;
+        String vel = random.nextDouble() < 0.3 ? "" : ",\"rms\":" + (chi2 == null ? 0.25 : 0.25 * Math.sqrt(chi2));
+        String document = "{\"states\":[{\"name\":\"x\",\"estimate\":1.0}],\"residuals\":{\"channels\":["
+                + "{\"output\":\"pos\",\"rms\":" + pos + "},{\"output\":\"vel\"" + vel + "}]}}";
+        List<String> flags = new ArrayList<>(FLAG_SETS.get(random.nextInt(FLAG_SETS.size())));
+        Submission s = store.traces().submitTrace(new NewTrace(unit, "pump", 1, 3, start, start + 2, new byte[] {1}),
+                null, 1000, at);
+        ClaimedJob job = store.queue().claimNext(1, at).get(0);
+        assertTrue(store.queue().completeIfRunning(job.id(), job.attempt(), StoreFixture.estimate(s.traceId(), unit,
+                "pump", 1, start, start + 2, chi2, flags, document), null, at));
+    }
+}
