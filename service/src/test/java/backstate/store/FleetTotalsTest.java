@@ -80,6 +80,53 @@ class FleetTotalsTest extends StoreContractTestBase {
                 allTime(50).versions().get(0).units()));
     }
 
+    /**
+     * A database filled before the totals: the data is written, then everything V12 (SQLite) or V2
+     * (PostgreSQL) added is dropped and its history row deleted, which leaves the previous version's
+     * schema with the rows in it; reopening migrates again, and the back-fill's totals answer as the
+     * rows do, before and after one more estimate.
+     */
+    @Test
+    void the_migration_fills_the_totals_of_a_database_written_before_them() throws Exception {
+        Random random = new Random(19);
+        for (int i = 0; i < 60; i++) {
+            complete(random, i, nasty(random));
+        }
+        FleetSummary expected = ((SqlFleet) store.fleet()).fleetSummaryFromRows(query(3));
+        undoTotalsMigration();
+        try (Database reopened = fx.open()) {
+            store = reopened;
+            assertEquals(1, fx.count("SELECT count(*) FROM flyway_schema_history WHERE version = ?", totalsVersion()));
+            assertEquals(expected, allTime(3));
+            complete(random, 60, 1.75);
+            assertSameAnswers(3);
+        } finally {
+            store = fx.store;
+        }
+    }
+
+    private String totalsVersion() {
+        return backend == Backend.SQLITE ? "12" : "2";
+    }
+
+    private void undoTotalsMigration() throws Exception {
+        List<String> undo = new ArrayList<>(backend == Backend.SQLITE
+                ? List.of("DROP TRIGGER fleet_unit_traces_count")
+                : List.of("DROP TRIGGER fleet_unit_traces_count ON traces", "DROP FUNCTION fleet_unit_traces_count()"));
+        for (String table : List.of("fleet_unit_estimates", "fleet_unit_traces", "fleet_unit_flags", "fleet_chi2_bins",
+                "fleet_rms_bins")) {
+            undo.add("DROP TABLE " + table);
+        }
+        undo.add("DROP INDEX estimates_by_model_chi2");
+        undo.add("DROP INDEX estimate_channels_by_rms");
+        undo.add("DELETE FROM flyway_schema_history WHERE version = '" + totalsVersion() + "'");
+        try (java.sql.Connection c = fx.raw(); java.sql.Statement st = c.createStatement()) {
+            for (String sql : undo) {
+                st.execute(sql);
+            }
+        }
+    }
+
     @Test
     void a_version_without_estimates_has_zeros_and_no_statistics() {
         FleetSummary.VersionActivity v = allTime(50).versions().get(0);
