@@ -140,7 +140,9 @@ final class SqlFleet implements FleetStore {
         for (NewEstimate.ChannelFigure ch : e.channels()) {
             PreparedStatement ps = Sql.bind(c.prepare(RECORD_CHANNEL), e.family(), e.version(),
                     ch.channel(), e.windowStart(), estimateId, estimateId, ch.rms());
-            ps.executeUpdate();
+            if (ps.executeUpdate() == 1) { // a channel named twice keeps its first row, in the totals too
+                SqlFleetTotals.recordChannel(c, estimateId, e, ch.channel());
+            }
         }
         for (String sql : List.of(RECORD_UNIT_LATEST, RECORD_UNIT_VERSION_LATEST)) {
             PreparedStatement ps = Sql.bind(c.prepare(sql), estimateId);

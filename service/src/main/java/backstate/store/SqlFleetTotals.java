@@ -45,10 +45,12 @@ final class SqlFleetTotals {
             + " ON CONFLICT (family, version, bin) DO UPDATE SET estimates = fleet_chi2_bins.estimates + 1,"
             + " low_value = CASE WHEN excluded.low_value < fleet_chi2_bins.low_value"
             + " THEN excluded.low_value ELSE fleet_chi2_bins.low_value END";
-    // One row per channel of the estimate (the key holds the channel), so no bin is hit twice here.
-    private static final String ADD_RMS_BINS = "INSERT INTO fleet_rms_bins (family, version, channel, bin, estimates,"
+    // The channel row just stored, looked up by its key (estimate_channels has no index on
+    // estimate_id alone, and a scan per estimate would grow with the history).
+    private static final String ADD_RMS_BIN = "INSERT INTO fleet_rms_bins (family, version, channel, bin, estimates,"
             + " low_value) SELECT family, version, channel, " + binOf("rms") + ", 1, rms FROM estimate_channels"
-            + " WHERE estimate_id = ? AND rms IS NOT NULL"
+            + " WHERE family = ? AND version = ? AND channel = ? AND window_start = ? AND estimate_id = ?"
+            + " AND rms IS NOT NULL"
             + " ON CONFLICT (family, version, channel, bin) DO UPDATE SET estimates = fleet_rms_bins.estimates + 1,"
             + " low_value = CASE WHEN excluded.low_value < fleet_rms_bins.low_value"
             + " THEN excluded.low_value ELSE fleet_rms_bins.low_value END";
@@ -74,14 +76,18 @@ final class SqlFleetTotals {
     private SqlFleetTotals() {
     }
 
-    /** Adds the estimate just written (with its channel rows) to the totals; call in the same transaction. */
+    /** Adds the estimate just written to the totals; call in the same transaction. */
     static void recordEstimate(Statements c, String estimateId, NewEstimate e) throws SQLException {
         Sql.bind(c.prepare(ADD_UNIT_ESTIMATE), estimateId).executeUpdate();
         for (String flag : e.flags()) {
             Sql.bind(c.prepare(ADD_UNIT_FLAG), e.family(), e.version(), flag, e.unitId()).executeUpdate();
         }
         Sql.bind(c.prepare(ADD_CHI2_BIN), estimateId).executeUpdate();
-        Sql.bind(c.prepare(ADD_RMS_BINS), estimateId).executeUpdate();
+    }
+
+    /** Adds a channel row just stored for the estimate (not one its key already held) to the RMS bins. */
+    static void recordChannel(Statements c, String estimateId, NewEstimate e, String channel) throws SQLException {
+        Sql.bind(c.prepare(ADD_RMS_BIN), e.family(), e.version(), channel, e.windowStart(), estimateId).executeUpdate();
     }
 
     /** One model version over all time, from the totals. */

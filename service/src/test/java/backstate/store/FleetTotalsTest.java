@@ -112,7 +112,8 @@ class FleetTotalsTest extends StoreContractTestBase {
     private void undoTotalsMigration() throws Exception {
         List<String> undo = new ArrayList<>(backend == Backend.SQLITE
                 ? List.of("DROP TRIGGER fleet_unit_traces_count")
-                : List.of("DROP TRIGGER fleet_unit_traces_count ON traces", "DROP FUNCTION fleet_unit_traces_count()"));
+                : List.of("DROP TRIGGER fleet_unit_traces_count ON traces", "DROP FUNCTION fleet_unit_traces_count()",
+                        "DROP FUNCTION fleet_totals_rebuild()"));
         for (String table : List.of("fleet_unit_estimates", "fleet_unit_traces", "fleet_unit_flags", "fleet_chi2_bins",
                 "fleet_rms_bins")) {
             undo.add("DROP TABLE " + table);
