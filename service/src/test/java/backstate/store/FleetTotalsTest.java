@@ -105,6 +105,48 @@ class FleetTotalsTest extends StoreContractTestBase {
         }
     }
 
+    /**
+     * Two writers completing estimates of one unit with one χ²/dof at once — two replicas on
+     * PostgreSQL, two threads on SQLite's one writer — bump the same counter rows; the upserts'
+     * row locks must lose no increment.
+     */
+    @Test
+    void concurrent_writers_on_the_same_unit_and_bin_lose_no_increment() throws Exception {
+        int each = 25;
+        try (Database second = backend == Backend.POSTGRESQL ? fx.open() : null) {
+            List<Database> writers = List.of(store, second == null ? store : second);
+            java.util.concurrent.ExecutorService pool = java.util.concurrent.Executors.newFixedThreadPool(2);
+            List<java.util.concurrent.Future<?>> done = new ArrayList<>();
+            for (Database writer : writers) {
+                done.add(pool.submit(() -> {
+                    for (int i = 0; i < each; i++) {
+                        completeOn(writer, "unit-hot", 1.25, List.of("model_mismatch"));
+                    }
+                    return null;
+                }));
+            }
+            for (java.util.concurrent.Future<?> f : done) {
+                f.get();
+            }
+            pool.shutdown();
+        }
+        FleetSummary.VersionActivity v = allTime(50).versions().get(0);
+        assertEquals(List.of(2L * each, 1L, 2L * each, 2 * each, 1.25),
+                List.of(v.estimates(), v.units(), v.traces(), v.chiSquarePerDof().count(), v.chiSquarePerDof().median()));
+        assertEquals(new FleetSummary.FlaggedUnits(2L * each, 1, List.of("unit-hot")), v.flags().get("model_mismatch"));
+        assertSameAnswers(50);
+    }
+
+    /** Submits a trace of the unit on {@code writer}, claims a queued job there and completes it. */
+    private static void completeOn(Database writer, String unit, double chi2, List<String> flags) throws Exception {
+        Instant at = StoreFixture.T0;
+        String document = "{\"states\":[],\"residuals\":{\"channels\":[{\"output\":\"pos\",\"rms\":0.5}]}}";
+        writer.traces().submitTrace(new NewTrace(unit, "pump", 1, 3, 0.0, 2.0, new byte[] {1}), null, 1000, at);
+        ClaimedJob job = writer.queue().claimNext(1, at).get(0);
+        assertTrue(writer.queue().completeIfRunning(job.id(), job.attempt(), StoreFixture.estimate(job.traceId(), unit,
+                "pump", 1, 0.0, 2.0, chi2, flags, document), null, at));
+    }
+
     private String totalsVersion() {
         return backend == Backend.SQLITE ? "12" : "2";
     }
