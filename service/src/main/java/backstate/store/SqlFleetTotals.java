@@ -31,6 +31,19 @@ final class SqlFleetTotals {
                 + " ELSE CAST(floor(256 * ln(" + column + ")) AS BIGINT) END";
     }
 
+    /**
+     * Counts one value of {@code column}, read from {@code source} ("table WHERE …"), in its bin of
+     * {@code table} keyed by {@code key} and the bin, keeping the bin's smallest value.
+     */
+    private static String addToBin(String table, String key, String column, String source) {
+        return "INSERT INTO " + table + " (" + key + ", bin, estimates, low_value)"
+                + " SELECT " + key + ", " + binOf(column) + ", 1, " + column + " FROM " + source
+                + " AND " + column + " IS NOT NULL"
+                + " ON CONFLICT (" + key + ", bin) DO UPDATE SET estimates = " + table + ".estimates + 1,"
+                + " low_value = CASE WHEN excluded.low_value < " + table + ".low_value"
+                + " THEN excluded.low_value ELSE " + table + ".low_value END";
+    }
+
     // Each counter is bumped by an upsert: the conflicting row's lock orders concurrent writers on
     // PostgreSQL, so no increment is lost; the same syntax on both engines.
     private static final String ADD_UNIT_ESTIMATE = "INSERT INTO fleet_unit_estimates (family, version, unit_id, estimates)"
@@ -39,21 +52,12 @@ final class SqlFleetTotals {
     private static final String ADD_UNIT_FLAG = "INSERT INTO fleet_unit_flags (family, version, flag, unit_id, estimates)"
             + " VALUES (?, ?, ?, ?, 1)"
             + " ON CONFLICT (family, version, flag, unit_id) DO UPDATE SET estimates = fleet_unit_flags.estimates + 1";
-    private static final String ADD_CHI2_BIN = "INSERT INTO fleet_chi2_bins (family, version, bin, estimates, low_value)"
-            + " SELECT family, version, " + binOf("chi2_per_dof") + ", 1, chi2_per_dof FROM estimates"
-            + " WHERE id = ? AND chi2_per_dof IS NOT NULL"
-            + " ON CONFLICT (family, version, bin) DO UPDATE SET estimates = fleet_chi2_bins.estimates + 1,"
-            + " low_value = CASE WHEN excluded.low_value < fleet_chi2_bins.low_value"
-            + " THEN excluded.low_value ELSE fleet_chi2_bins.low_value END";
+    private static final String ADD_CHI2_BIN = addToBin("fleet_chi2_bins", "family, version", "chi2_per_dof",
+            "estimates WHERE id = ?");
     // The channel row just stored, looked up by its key (estimate_channels has no index on
     // estimate_id alone, and a scan per estimate would grow with the history).
-    private static final String ADD_RMS_BIN = "INSERT INTO fleet_rms_bins (family, version, channel, bin, estimates,"
-            + " low_value) SELECT family, version, channel, " + binOf("rms") + ", 1, rms FROM estimate_channels"
-            + " WHERE family = ? AND version = ? AND channel = ? AND window_start = ? AND estimate_id = ?"
-            + " AND rms IS NOT NULL"
-            + " ON CONFLICT (family, version, channel, bin) DO UPDATE SET estimates = fleet_rms_bins.estimates + 1,"
-            + " low_value = CASE WHEN excluded.low_value < fleet_rms_bins.low_value"
-            + " THEN excluded.low_value ELSE fleet_rms_bins.low_value END";
+    private static final String ADD_RMS_BIN = addToBin("fleet_rms_bins", "family, version, channel", "rms",
+            "estimate_channels WHERE family = ? AND version = ? AND channel = ? AND window_start = ? AND estimate_id = ?");
 
     private static final String MODEL = " WHERE family = ? AND version = ?";
     private static final String COUNT_UNITS_AND_ESTIMATES = "SELECT count(*), coalesce(sum(estimates), 0)"
