@@ -163,7 +163,9 @@ public final class LoadDriver {
      * Client roles by the order the clients start: half post traces, a quarter read a unit's latest
      * estimate, a quarter read the fleet summary over all time (a dashboard's front page).
      */
-    private enum MixedRole { POST, LATEST, SUMMARY;
+    private enum MixedRole {
+        POST, LATEST, SUMMARY;
+
         static MixedRole of(int client) {
             return switch (client % 4) {
                 case 0, 1 -> POST;
