@@ -46,12 +46,28 @@ public final class SampleQuantiles {
 
     /** Q(p) of {@code sorted[0..count)}, already ascending. */
     static double ofSorted(double[] sorted, int count, double p) {
-        double h = (count - 1) * p;
-        int j = (int) Math.floor(h);
+        int j = lowerRank(count, p);
         if (j >= count - 1) {
             return sorted[count - 1];
         }
-        double g = h - j;
-        return sorted[j] + g * (sorted[j + 1] - sorted[j]);
+        return interpolate(sorted[j], sorted[j + 1], count, p);
+    }
+
+    /** j = ⌊(n − 1)·p⌋: Q(p) lies between the order statistics x₍ⱼ₎ and x₍ⱼ₊₁₎ (x₍ₙ₋₁₎ alone when j = n − 1). */
+    public static int lowerRank(int count, double p) {
+        return (int) Math.floor((count - 1) * p);
+    }
+
+    /**
+     * Q(p) from the two order statistics x₍ⱼ₎ and x₍ⱼ₊₁₎, j = {@link #lowerRank}, for a reader that
+     * fetches them without holding the sorted data; x₍ⱼ₎ when j = n − 1 (upper is then ignored).
+     */
+    public static double interpolate(double lower, double upper, int count, double p) {
+        int j = lowerRank(count, p);
+        if (j >= count - 1) {
+            return lower;
+        }
+        double g = (count - 1) * p - j;
+        return lower + g * (upper - lower);
     }
 }

@@ -24,7 +24,8 @@ import org.postgresql.ds.PGSimpleDataSource;
  *     (out of attempts), as the service's own start would, and copied so.</li>
  * <li>All tables are copied in one PostgreSQL transaction, parents first, rows streamed and
  *     inserted in JDBC batches: a failure leaves the target as empty as it was. The target's
- *     queue length is counted by its trigger as jobs are inserted, and checked before commit.</li>
+ *     queue length is counted by its trigger as jobs are inserted, and checked before commit; the
+ *     fleet's running totals are recomputed from the copied rows (fleet_totals_rebuild()).</li>
  * <li>After commit every table is read back on both sides and compared by row count and
  *     checksum ({@link DatabaseCopyChecksum}); {@link Result#verified()} says whether all match.</li>
  * </ul>
@@ -40,12 +41,14 @@ public final class DatabaseCopy {
 
     private static final String LOCK_TARGET = "LOCK TABLE " + DatabaseCopyTable.COPIED.stream()
             .map(DatabaseCopyTable::name).collect(Collectors.joining(", ")) + " IN EXCLUSIVE MODE";
+    /** PostgreSQL V2's function: the fleet's running totals from the rows, as its migration filled them. */
+    private static final String REBUILD_FLEET_TOTALS = "SELECT fleet_totals_rebuild()";
     private static final String COUNT_QUEUED_BOTH_WAYS =
             "SELECT (SELECT queued FROM queue_length WHERE id = 1), (SELECT count(*) FROM jobs WHERE state = 'queued')";
 
     /**
      * What a copy did: the jobs found left running (see {@link DatabaseCopySource.LeftRunning}) and
-     * each table's verification, in copy order, queue_length last.
+     * each table's verification, in copy order, then queue_length and the fleet totals.
      */
     public record Result(int leftRunningRequeued, int leftRunningFailed, List<DatabaseCopyCheck> checks) {
 
@@ -111,6 +114,10 @@ public final class DatabaseCopy {
                 for (DatabaseCopyTable table : DatabaseCopyTable.COPIED) {
                     progress.accept("copied " + table.name() + ": " + copyTable(source, pg, table) + " rows");
                 }
+                try (Statement s = pg.createStatement()) {
+                    s.execute(REBUILD_FLEET_TOTALS);
+                }
+                progress.accept("recomputed the fleet totals from the copied rows");
                 requireQueueLengthCounted(pg);
                 pg.commit();
             });

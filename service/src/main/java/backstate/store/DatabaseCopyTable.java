@@ -54,9 +54,25 @@ record DatabaseCopyTable(String name, List<Column> columns, List<String> primary
      */
     static final DatabaseCopyTable QUEUE_LENGTH = table("queue_length", "id", "id:integer queued:integer");
 
-    /** The copied tables and then queue_length: what the verification compares. */
+    /**
+     * Not copied: the fleet's running totals (SQLite V12, PostgreSQL V2), recomputed on the target
+     * from the copied rows by fleet_totals_rebuild(), so its bins come from its own ln. Checked like
+     * the copied tables: the same rows give the same totals.
+     */
+    static final List<DatabaseCopyTable> FLEET_TOTALS = List.of(
+            table("fleet_unit_estimates", "family version unit_id", "family:text version:integer unit_id:text"
+                    + " estimates:integer"),
+            table("fleet_unit_traces", "family version unit_id", "family:text version:integer unit_id:text traces:integer"),
+            table("fleet_unit_flags", "family version flag unit_id", "family:text version:integer flag:text unit_id:text"
+                    + " estimates:integer"),
+            table("fleet_chi2_bins", "family version bin", "family:text version:integer bin:integer estimates:integer"
+                    + " low_value:real"),
+            table("fleet_rms_bins", "family version channel bin", "family:text version:integer channel:text bin:integer"
+                    + " estimates:integer low_value:real"));
+
+    /** The copied tables, queue_length and the fleet totals: what the verification compares. */
     static List<DatabaseCopyTable> checked() {
-        return Stream.concat(COPIED.stream(), Stream.of(QUEUE_LENGTH)).toList();
+        return Stream.of(COPIED.stream(), Stream.of(QUEUE_LENGTH), FLEET_TOTALS.stream()).flatMap(t -> t).toList();
     }
 
     /** Every row, every column in the order listed, in primary-key order as the engine sorts it. */

@@ -25,7 +25,8 @@ import java.util.TreeSet;
  * (χ²/dof from estimates_by_model_recorded, RMS from estimate_channels' key), so the scan is
  * bounded by the window and costs 8 bytes per value; SQLite has no percentile aggregate, and
  * its ORDER BY … OFFSET route sorts in a temporary B-tree, which FleetQueryBench measures as
- * slower (see docs/fleet-and-planning.md).
+ * slower (see docs/fleet-and-planning.md). A summary over all time (no window, no received
+ * range) is read from the running totals instead ({@link SqlFleetTotals}), with the same answers.
  */
 final class SqlFleet implements FleetStore {
 
@@ -35,8 +36,8 @@ final class SqlFleet implements FleetStore {
     private static final long OPEN_START = Long.MIN_VALUE;
     private static final long OPEN_END = Long.MAX_VALUE;
     /** Quantiles reported by a summary: the median and the 95th percentile. */
-    private static final double MEDIAN = 0.5;
-    private static final double P95 = 0.95;
+    static final double MEDIAN = 0.5;
+    static final double P95 = 0.95;
     /** First capacity of a column read; it doubles as needed. */
     private static final int FIRST_CAPACITY = 1024;
 
@@ -139,21 +140,39 @@ final class SqlFleet implements FleetStore {
         for (NewEstimate.ChannelFigure ch : e.channels()) {
             PreparedStatement ps = Sql.bind(c.prepare(RECORD_CHANNEL), e.family(), e.version(),
                     ch.channel(), e.windowStart(), estimateId, estimateId, ch.rms());
-            ps.executeUpdate();
+            if (ps.executeUpdate() == 1) { // a channel named twice keeps its first row, in the totals too
+                SqlFleetTotals.recordChannel(c, estimateId, e, ch.channel());
+            }
         }
         for (String sql : List.of(RECORD_UNIT_LATEST, RECORD_UNIT_VERSION_LATEST)) {
             PreparedStatement ps = Sql.bind(c.prepare(sql), estimateId);
             ps.executeUpdate();
         }
+        SqlFleetTotals.recordEstimate(c, estimateId, e);
     }
 
+    /** All time from the running totals (SqlFleetTotals); a window or range from its rows. */
     @Override
     public FleetSummary fleetSummary(FleetSummaryQuery q) {
+        return summary(q, q.times().equals(TimeFilter.NONE));
+    }
+
+    /**
+     * The summary from a pass over the window's rows, all time included: how it was computed
+     * before the running totals. For the tests that check the totals and the benchmark's baseline.
+     */
+    FleetSummary fleetSummaryFromRows(FleetSummaryQuery q) {
+        return summary(q, false);
+    }
+
+    private FleetSummary summary(FleetSummaryQuery q, boolean fromTotals) {
         // One snapshot, so counts and distributions agree even while estimates are being written.
         return db.readInOneSnapshot(c -> {
             List<FleetSummary.VersionActivity> versions = new ArrayList<>();
             for (Map.Entry<Integer, List<String>> v : q.channelsByVersion().entrySet()) {
-                versions.add(versionActivity(c, q, v.getKey(), v.getValue()));
+                versions.add(fromTotals
+                        ? SqlFleetTotals.allTime(c, q.family(), v.getKey(), v.getValue(), q.listLimit())
+                        : versionActivity(c, q, v.getKey(), v.getValue()));
             }
             return new FleetSummary(versions, stale(c, q));
         });

@@ -41,8 +41,10 @@ class SchemaTest {
         List<String> names = strings("SELECT name FROM sqlite_schema WHERE type IN ('table', 'index', 'trigger')"
                 + " AND name NOT LIKE 'sqlite_%' AND name NOT LIKE 'flyway_%' ORDER BY name");
         assertEquals(List.of("api_keys", "api_keys_are_immutable", "api_keys_stay_revoked",
-                "estimate_channels", "estimate_states",
-                "estimates", "estimates_by_model_recorded", "estimates_by_unit_recorded", "idempotency_keys",
+                "estimate_channels", "estimate_channels_by_rms", "estimate_states",
+                "estimates", "estimates_by_model_chi2", "estimates_by_model_recorded", "estimates_by_unit_recorded",
+                "fleet_chi2_bins", "fleet_rms_bins", "fleet_unit_estimates", "fleet_unit_flags", "fleet_unit_traces",
+                "fleet_unit_traces_count", "idempotency_keys",
                 "jobs", "jobs_by_state_and_age", "jobs_running_by_lease", "model_families", "model_versions",
                 "model_versions_are_immutable", "model_versions_stay_retired",
                 "queue_length", "queue_length_on_delete", "queue_length_on_insert", "queue_length_on_leaving",
