@@ -79,6 +79,13 @@ class MigrateCommandTest {
         rows.put("regressions", 1);
         rows.put("api_keys", 3);
         rows.put("queue_length", 1);
+        // The fleet's running totals (V12): per unit estimated (3 of them), per unit and version with traces, per
+        // flagged unit, and the χ²/dof and RMS value bins the fixture's estimates fall in.
+        rows.put("fleet_unit_estimates", 3);
+        rows.put("fleet_unit_traces", 6);
+        rows.put("fleet_unit_flags", 3);
+        rows.put("fleet_chi2_bins", 3);
+        rows.put("fleet_rms_bins", 1);
         List<String> lines = run.out().lines().toList();
         assertEquals("note: a stopped service left 1 job(s) running: 1 copied as queued with the attempt kept,"
                 + " 0 as failed (out of attempts), as a service start does", lines.get(0));
@@ -91,7 +98,7 @@ class MigrateCommandTest {
             assertTrue(expected.matcher(tableLines.get(i++)).matches(), expected + " in\n" + run.out());
         }
         assertEquals("backstate migrate: copied " + file + " to " + PostgresServer.serviceUrl(target)
-                + ", 13 tables and 56 rows verified", lines.get(lines.size() - 1));
+                + ", 18 tables and 72 rows verified", lines.get(lines.size() - 1));
         assertTrue(run.err().contains("copied traces: 9 rows"), run.err());
     }
 

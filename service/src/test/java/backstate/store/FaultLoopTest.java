@@ -81,14 +81,15 @@ class FaultLoopTest {
                 assertEquals("running", store.jobs().findJob(job.id()).orElseThrow().state());
                 assertEquals(0, fx.rows("estimates"));
                 assertEquals(0, fx.rows("unit_latest") + fx.rows("unit_version_latest") + fx.rows("estimate_states")
-                        + fx.rows("estimate_channels"));
+                        + fx.rows("estimate_channels") + fx.rows("fleet_unit_estimates") + fx.rows("fleet_chi2_bins")
+                        + fx.rows("fleet_rms_bins"));
                 failures++;
                 continue;
             }
             break;
         }
-        assertEquals(12, failures, "BEGIN, SAVEPOINT, job update, estimate insert, 2 state rows, 2 channel rows,"
-                + " 2 newest-estimate upserts, RELEASE, COMMIT");
+        assertEquals(16, failures, "BEGIN, SAVEPOINT, job update, estimate insert, 2 state rows, 2 channel rows"
+                + " with their 2 RMS-bin upserts, 2 newest-estimate upserts, the unit-total and χ²-bin upserts, RELEASE, COMMIT");
         assertEquals("succeeded", store.jobs().findJob(job.id()).orElseThrow().state());
         assertEquals(List.of(1L, 2L, 2L), List.of(fx.rows("estimates"), fx.rows("estimate_states"),
                 fx.rows("estimate_channels")));
