@@ -174,8 +174,13 @@ final class BackwardSweep {
         return r;
     }
 
-    /** forced ← Γ u_k, the held input's response over the step. */
     private void heldInputResponse(int k, double[] gamma) {
+        heldInputResponse(ctx, k, gamma, held, forced);
+    }
+
+    /** forced ← Γ u_k, the held input's response over the step (held: m-long scratch). */
+    static void heldInputResponse(SolveContext ctx, int k, double[] gamma, double[] held, double[] forced) {
+        int n = ctx.n;
         int m = ctx.m;
         if (m == 0) {
             Arrays.fill(forced, 0.0);

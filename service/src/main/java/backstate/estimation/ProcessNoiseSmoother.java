@@ -17,9 +17,12 @@ import java.util.Set;
  * Methods for Discrete Sequential Estimation, ch. VI and X): a square-root information filter run
  * from the last sample back to the first ({@link BackwardSweep}) gives the information about x0 from
  * every sample, to which the prior is added; x̂0 solves R0 x0 = z0 and its covariance is R0⁻¹R0⁻ᵀ.
- * {@link SmoothedTrajectory} then sweeps forward from x̂0 for the window-end state, the reference
- * state and the kept series, holding O(N/1024·s²) numbers beside the series and about tripling the cost;
- * {@link #solveInitialState} skips it and holds O(s²) numbers whatever N. Cost O(N) either way.
+ * When a series or a reference state before the last sample is asked, {@link SmoothedTrajectory}
+ * then sweeps forward from x̂0 for them and the window-end state, holding O(N/1024·s²) numbers beside
+ * the series and about tripling the cost. Otherwise the window-end state comes from
+ * {@link WindowEndFilter}, a forward filter whose last estimate is the smoothed one, in O(s²) numbers
+ * whatever N and about doubling the cost (the smoother's route is kept when a transition is too
+ * ill-conditioned for it); {@link #solveInitialState} skips both. Cost O(N) in every case.
  * Q_d is never inverted, so noise on some states only (a singular Q_d) needs nothing special; with
  * zero process noise every step is the deterministic transition and the estimate is the sampled one.
  *
@@ -32,8 +35,9 @@ public final class ProcessNoiseSmoother {
     }
 
     /**
-     * Solves one trace with the forward sweep, so the estimate has its window-end state (and the
-     * reference state and series when asked); shape errors throw {@link ModelException},
+     * Solves one trace with its window-end state (and the reference state and series when asked):
+     * memory independent of N unless a series or a reference state before the last sample is asked
+     * and, with those, the smoother's forward sweep; shape errors throw {@link ModelException},
      * unobservability is returned as a value.
      */
     public static EstimationResult solve(StateSpaceModel model, Trace trace, EstimationOptions options) {
@@ -50,7 +54,7 @@ public final class ProcessNoiseSmoother {
     }
 
     private static EstimationResult solve(StateSpaceModel model, Trace trace, EstimationOptions options,
-                                          boolean trajectory) {
+                                          boolean windowEnd) {
         InitialStateEstimator.validate(model, trace, options);
         SolveContext ctx = new SolveContext(model, trace, options);
         int referenceSample = referenceSample(ctx);
@@ -58,6 +62,8 @@ public final class ProcessNoiseSmoother {
         long[] present = presentCounts(ctx);
         InnovationSums innovations = new InnovationSums(ctx, present);
         int samples = trace.samples();
+        WindowEndFilter.End end = windowEnd && filterSuffices(ctx, referenceSample) ? filteredEnd(ctx, noise) : null;
+        boolean trajectory = windowEnd && end == null;
         double[][] checkpoints = trajectory ? new double[SmoothedTrajectory.checkpointCount(samples)][] : null;
         BackwardSweep sweep = new BackwardSweep(ctx, noise);
         for (int k = samples - 1; k >= 0; k--) {
@@ -86,7 +92,19 @@ public final class ProcessNoiseSmoother {
         }
         Solved solved = new Solved(ctx, r, rhsOf(sweep.info(), q), sweep.residualSquares(),
                 sweep.equations() + priorRows, innovations);
-        return solved.estimate(full, dataOnly, trajectory ? checkpoints : null, noise, referenceSample);
+        return solved.estimate(full, dataOnly, trajectory ? checkpoints : null, noise, referenceSample, end);
+    }
+
+    /** True when no series is kept and the reference sample, if any, is the last: the forward filter gives all that is asked. */
+    private static boolean filterSuffices(SolveContext ctx, int referenceSample) {
+        return !ctx.options.keepSeries() && (referenceSample < 0 || referenceSample == ctx.trace.samples() - 1);
+    }
+
+    /** The window-end state by {@link WindowEndFilter}, with the prior at x0 when there is one; null when it declines. */
+    private static WindowEndFilter.End filteredEnd(SolveContext ctx, NoiseSteps noise) {
+        Prior prior = ctx.options.prior();
+        return prior == null ? WindowEndFilter.run(ctx, noise, null, 0)
+                : WindowEndFilter.run(ctx, noise, priorRows(prior, ctx.q), ctx.n);
     }
 
     /** The prior's whitened rows [L⁻¹ | L⁻¹μ] over the q unknowns (zeros on the offsets). */
@@ -155,7 +173,7 @@ public final class ProcessNoiseSmoother {
     private record Solved(SolveContext ctx, double[] r, double[] z, double chiSquare, long equations,
                           InnovationSums innovations) {
         Estimate estimate(ConditioningAnalysis analysis, ConditioningAnalysis dataOnly, double[][] checkpoints,
-                          NoiseSteps noise, int referenceSample) {
+                          NoiseSteps noise, int referenceSample, WindowEndFilter.End end) {
             int q = ctx.q;
             double[] solution = Triangular.solveUpper(r, z, q);
             double[] rInverse = Triangular.invertUpper(r, q);
@@ -175,10 +193,12 @@ public final class ProcessNoiseSmoother {
             double[][] interval = InitialStateEstimator.intervals(solution, se, rule);
             TrajectoryOutput out = checkpoints == null ? null
                     : TrajectoryOutput.run(ctx, noise, solution, rInverse, checkpoints, rule, referenceSample);
+            Estimate.StateAt windowEnd = out != null ? out.windowEnd() : end == null ? null
+                    : TrajectoryOutput.stateAt(ctx, rule, ctx.trace.samples() - 1, end.state(), end.root());
+            Estimate.StateAt reference = out != null ? out.reference() : referenceSample < 0 ? null : windowEnd;
             return new Estimate(ctx.unknownNames(), solution, covariance, se, sigmaScale, seScaled, interval[0],
-                    interval[1], out == null ? null : out.reference(), out == null ? null : out.windowEnd(),
-                    conditioning, channels, chiSquare, dof, chiSquareP, flags, out == null ? null : out.series(),
-                    innovations.statistics(channels));
+                    interval[1], reference, windowEnd, conditioning, channels, chiSquare, dof, chiSquareP, flags,
+                    out == null ? null : out.series(), innovations.statistics(channels));
         }
     }
 }

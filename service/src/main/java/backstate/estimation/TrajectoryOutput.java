@@ -95,8 +95,14 @@ final class TrajectoryOutput implements SmoothedTrajectory.Visitor {
         }
     }
 
-    /** The state block of the augmented state and of its covariance S Sᵀ. */
     private Estimate.StateAt stateAt(int k, double[] state, double[] root) {
+        return stateAt(ctx, rule, k, state, root);
+    }
+
+    /** The state block of the augmented state at sample k and of its covariance S Sᵀ (S = root, s × s). */
+    static Estimate.StateAt stateAt(SolveContext ctx, StateUncertainty.Rule rule, int k, double[] state, double[] root) {
+        int n = ctx.n;
+        int s = ctx.q;
         double[] pxx = new double[n * n];
         for (int i = 0; i < n; i++) {
             for (int j = i; j < n; j++) {
