@@ -104,7 +104,7 @@ public final class ProcessNoiseSmoother {
     private static WindowEndFilter.End filteredEnd(SolveContext ctx, NoiseSteps noise) {
         Prior prior = ctx.options.prior();
         return prior == null ? WindowEndFilter.run(ctx, noise, null, 0)
-                : WindowEndFilter.run(ctx, noise, priorRows(prior, ctx.q), ctx.n);
+                : WindowEndFilter.run(ctx, noise, priorRows(prior, ctx.q), ctx.q);
     }
 
     /** The prior's whitened rows [L⁻¹ | L⁻¹μ] over the q unknowns (zeros on the offsets). */
