@@ -21,7 +21,7 @@ import java.util.Set;
  * then sweeps forward from x̂0 for them and the window-end state, holding O(N/1024·s²) numbers beside
  * the series and about tripling the cost. Otherwise the window-end state comes from
  * {@link WindowEndFilter}, a forward filter whose last estimate is the smoothed one, in O(s²) numbers
- * whatever N and about doubling the cost (the smoother's route is kept when a transition is too
+ * whatever N and about 2.5 times the cost of x̂0 alone (the smoother's route is kept when a transition is too
  * ill-conditioned for it); {@link #solveInitialState} skips both. Cost O(N) in every case.
  * Q_d is never inverted, so noise on some states only (a singular Q_d) needs nothing special; with
  * zero process noise every step is the deterministic transition and the estimate is the sampled one.

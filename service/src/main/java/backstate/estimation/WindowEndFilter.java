@@ -19,7 +19,8 @@ import java.util.Arrays;
  * invertible: a step whose Φ is singular or worse conditioned than {@link #TRANSITION_RATIO} allows
  * ends the filter without an answer, and the caller takes the smoother's route.
  *
- * <p>Memory O(s·(r + s) + n·(n + s)); cost O(N·(r + s)³), about that of the backward sweep.
+ * <p>Memory O(s·(r + s) + n·(n + s)); cost O(N·(r + s)³): the backward sweep's stacked QR per step
+ * plus a QR of Φᵀ, about 1.5 times the backward sweep in bench/process-noise.sh.
  */
 final class WindowEndFilter {
     /**
