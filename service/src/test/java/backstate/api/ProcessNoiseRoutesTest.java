@@ -64,6 +64,84 @@ class ProcessNoiseRoutesTest {
                 1e-12);
     }
 
+    /**
+     * The question a team asks with a regression run: does process noise explain the unit better?
+     * Family reefer-door holds the deterministic demo model as version 1 and the same model with
+     * process noise as version 2; the door-openings trace, solved under version 1, is flagged
+     * {@code model_mismatch}, and the run re-solves it under version 2 with the process-noise
+     * formulation, which removes the flag. The same comparison as ProcessNoiseRegressionTest,
+     * through the routes, the job and the stored result.
+     */
+    @Test
+    void a_regression_run_to_a_version_with_process_noise_solves_with_it_and_removes_the_mismatch() throws Exception {
+        assertEquals(201, server.postJson("/v1/models", Map.of("name", "reefer-door", "description", "door demo")).status());
+        for (Path version : new Path[] {TestServer.TEST_DATA.resolve("demo/models/reefer-40.v1.json"),
+                DOOR.resolve("reefer-40-noise.v1.json")}) {
+            TestServer.Reply published = server.post("/v1/models/reefer-door/versions", "application/json",
+                    Files.readAllBytes(version));
+            assertEquals(201, published.status(), published.body());
+        }
+        TestServer.Reply accepted = server.post("/v1/units/RCX-61530/traces?model=reefer-door&version=1", "text/csv",
+                Files.readAllBytes(DOOR.resolve("RCX-61530.csv")));
+        assertEquals(202, accepted.status(), accepted.body());
+        assertEquals("succeeded", server.awaitJob(accepted.json().get("jobId").asText()).get("state").asText());
+
+        TestServer.Reply run = server.postJson("/v1/regressions", Map.of("family", "reefer-door", "baseline", 1,
+                "candidate", 2, "traces", RegressionRunTest.LATEST));
+        assertEquals(202, run.status(), run.body());
+        JsonNode result = finished(run.json().get("id").asText()).get("result");
+        assertEquals("process_noise", result.get("candidate").get("formulation").asText(), result.toString());
+        JsonNode trace = result.get("units").get(0).get("traces").get(0);
+        assertTrue(trace.get("baseline").get("flags").toString().contains("model_mismatch"), trace.toString());
+        assertEquals("solved", trace.get("candidate").get("status").asText(), trace.toString());
+        assertTrue(trace.get("flagsRemoved").toString().contains("model_mismatch"), trace.toString());
+    }
+
+    /**
+     * Planning a version with process noise predicts with it: disturbances keep adding uncertainty
+     * that more samples cannot remove, so every state's predicted standard error is above the
+     * deterministic version's for the same plan (the noise-free model is the same document without
+     * {@code processNoise}); NoisePlanSweepTest checks the noisy figures against NumPy.
+     */
+    @Test
+    void a_plan_for_a_version_with_process_noise_predicts_wider_standard_errors_than_without() {
+        String plan = """
+                { "samplePeriod": 60, "horizons": [3600, 21600], "outputSubsets": [["return_air","supply_air"]] }""";
+        JsonNode noisy = planOf("/v1/models/reefer-noise/versions/1/plans", plan);
+        JsonNode exact = planOf("/v1/models/reefer-40/versions/1/plans", plan);
+        for (int h = 0; h < 2; h++) {
+            JsonNode withNoise = noisy.get("subsets").get(0).get("horizons").get(h).get("standardErrors");
+            JsonNode without = exact.get("subsets").get(0).get("horizons").get(h).get("standardErrors");
+            assertEquals(4, without.size());
+            assertEquals(without.size(), withNoise.size());
+            for (java.util.Iterator<String> states = without.fieldNames(); states.hasNext(); ) {
+                String state = states.next();
+                assertTrue(withNoise.get(state).asDouble() > without.get(state).asDouble(),
+                        "horizon " + h + ", state " + state + ": " + withNoise + " against " + without);
+            }
+        }
+    }
+
+    private JsonNode planOf(String route, String body) {
+        TestServer.Reply r = server.post(route, "application/json", body.getBytes(StandardCharsets.UTF_8));
+        assertEquals(200, r.status(), r.body());
+        return r.json();
+    }
+
+    private JsonNode finished(String regressionId) throws InterruptedException {
+        long deadline = System.nanoTime() + java.time.Duration.ofSeconds(60).toNanos();
+        while (System.nanoTime() < deadline) {
+            JsonNode run = server.get("/v1/regressions/" + regressionId).json();
+            String state = run.path("state").asText();
+            if (!state.equals("queued") && !state.equals("running")) {
+                assertEquals("succeeded", state, run.toString());
+                return run;
+            }
+            Thread.sleep(20);
+        }
+        throw new AssertionError("regression " + regressionId + " did not finish within 60 s");
+    }
+
     @Test
     void an_asymmetric_process_noise_matrix_is_a_400_naming_its_entry() throws Exception {
         ObjectNode doc = (ObjectNode) server.mapper.readTree(DOOR.resolve("reefer-40-noise.v1.json").toFile());
