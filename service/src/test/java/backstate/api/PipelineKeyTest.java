@@ -57,13 +57,6 @@ class PipelineKeyTest {
     }
 
     static String awaitJob(AsKey caller, String jobId) throws InterruptedException {
-        for (int i = 0; i < 3000; i++) {
-            String state = caller.get("/v1/jobs/" + jobId).json().get("state").asText();
-            if (!state.equals("queued") && !state.equals("running")) {
-                return state;
-            }
-            Thread.sleep(20);
-        }
-        throw new AssertionError("job " + jobId + " did not finish within 60 s");
+        return TestServer.awaitFinished(caller::get, "/v1/jobs/" + jobId).get("state").asText();
     }
 }

@@ -129,17 +129,9 @@ class ProcessNoiseRoutesTest {
     }
 
     private JsonNode finished(String regressionId) throws InterruptedException {
-        long deadline = System.nanoTime() + java.time.Duration.ofSeconds(60).toNanos();
-        while (System.nanoTime() < deadline) {
-            JsonNode run = server.get("/v1/regressions/" + regressionId).json();
-            String state = run.path("state").asText();
-            if (!state.equals("queued") && !state.equals("running")) {
-                assertEquals("succeeded", state, run.toString());
-                return run;
-            }
-            Thread.sleep(20);
-        }
-        throw new AssertionError("regression " + regressionId + " did not finish within 60 s");
+        JsonNode run = server.awaitRegression(regressionId);
+        assertEquals("succeeded", run.path("state").asText(), run.toString());
+        return run;
     }
 
     @Test

@@ -12,6 +12,7 @@ import backstate.formats.Limits;
 import backstate.jobs.ClaimedJob;
 import backstate.jobs.JobOutcome;
 import backstate.jobs.JobQueue;
+import backstate.jobs.ProgressReporting;
 import backstate.regression.RegressionJobHandler;
 import backstate.solving.StoredTraceSolver;
 import backstate.formats.CheckedModels;
@@ -21,8 +22,6 @@ import com.fasterxml.jackson.databind.ObjectMapper;
 import io.micrometer.prometheusmetrics.PrometheusConfig;
 import io.micrometer.prometheusmetrics.PrometheusMeterRegistry;
 import java.io.IOException;
-import java.lang.reflect.InvocationTargetException;
-import java.lang.reflect.Proxy;
 import java.net.URI;
 import java.net.http.HttpClient;
 import java.net.http.HttpRequest;
@@ -163,21 +162,9 @@ class RegressionCancelTest {
                 Limits.DEFAULTS, Clock.systemUTC());
     }
 
-    /** The store as a JobQueue that tells {@code onProgress} each reported "done" after recording it. */
+    /** The store's queue, telling {@code onProgress} each reported "done" count after recording it. */
     private JobQueue reportingTo(IntConsumer onProgress) {
-        return (JobQueue) Proxy.newProxyInstance(JobQueue.class.getClassLoader(), new Class<?>[] {JobQueue.class},
-                (proxy, method, args) -> {
-                    Object answer;
-                    try {
-                        answer = method.invoke(store.queue(), args);
-                    } catch (InvocationTargetException e) {
-                        throw e.getCause();
-                    }
-                    if (method.getName().equals("reportProgress")) {
-                        onProgress.accept((Integer) args[2]);
-                    }
-                    return answer;
-                });
+        return ProgressReporting.reportingTo(store.queue(), onProgress);
     }
 
     private String startRun() throws Exception {

@@ -8,7 +8,6 @@ import backstate.cli.DemoLoader;
 import com.fasterxml.jackson.databind.JsonNode;
 import com.fasterxml.jackson.databind.node.ObjectNode;
 import java.nio.file.Path;
-import java.time.Duration;
 import java.util.ArrayList;
 import java.util.HashMap;
 import java.util.HashSet;
@@ -81,16 +80,7 @@ class RegressionRunTest {
     }
 
     JsonNode await(String id) throws InterruptedException {
-        long deadline = System.nanoTime() + Duration.ofSeconds(60).toNanos();
-        while (System.nanoTime() < deadline) {
-            JsonNode run = server.get("/v1/regressions/" + id).json();
-            String state = run.path("state").asText();
-            if (!state.equals("queued") && !state.equals("running")) {
-                return run;
-            }
-            Thread.sleep(20);
-        }
-        throw new AssertionError("regression " + id + " did not finish within 60 s");
+        return server.awaitRegression(id);
     }
 
     static Map<String, JsonNode> unitsById(JsonNode result) {

@@ -67,14 +67,7 @@ class ReplicaAgreementTest {
 
     /** Polls the job through the given caller; a bounded hang guard, not a timing assertion. */
     private static String awaitFinished(AsKey caller, String job) throws InterruptedException {
-        for (int poll = 0; poll < 3000; poll++) {
-            String state = caller.get("/v1/jobs/" + job).json().path("state").asText();
-            if (!state.equals("queued") && !state.equals("running")) {
-                return state;
-            }
-            Thread.sleep(20);
-        }
-        throw new AssertionError("job " + job + " did not finish within 60 s");
+        return TestServer.awaitFinished(caller::get, "/v1/jobs/" + job).path("state").asText();
     }
 
     private static TestServer.Reply post(AsKey caller, String path, byte[] body) {

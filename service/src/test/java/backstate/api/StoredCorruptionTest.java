@@ -131,17 +131,7 @@ class StoredCorruptionTest {
         TestServer.Reply accepted = server.postJson("/v1/regressions", Map.of("family", FAMILY, "baseline", 1,
                 "candidate", copyOfV1, "traces", RegressionRunTest.LATEST));
         assertEquals(202, accepted.status(), accepted.body());
-        String id = accepted.json().get("id").asText();
-        long deadline = System.nanoTime() + Duration.ofSeconds(60).toNanos();
-        while (System.nanoTime() < deadline) {
-            JsonNode run = server.get("/v1/regressions/" + id).json();
-            String state = run.path("state").asText();
-            if (!state.equals("queued") && !state.equals("running")) {
-                return run;
-            }
-            Thread.sleep(20);
-        }
-        throw new AssertionError("regression " + id + " did not finish within 60 s");
+        return server.awaitRegression(accepted.json().get("id").asText());
     }
 
     private void awaitNoJobs() throws Exception {

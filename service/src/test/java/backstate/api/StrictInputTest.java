@@ -116,15 +116,7 @@ class StrictInputTest {
     }
 
     JsonNode awaitJob(String jobId) throws InterruptedException {
-        for (int i = 0; i < 3000; i++) {
-            JsonNode job = admin.get("/v1/jobs/" + jobId).json();
-            String state = job.path("state").asText();
-            if (!state.equals("queued") && !state.equals("running")) {
-                return job;
-            }
-            Thread.sleep(20);
-        }
-        throw new AssertionError("job " + jobId + " did not finish within 60 s");
+        return TestServer.awaitFinished(admin::get, "/v1/jobs/" + jobId);
     }
 
     @Test

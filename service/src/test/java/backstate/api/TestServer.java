@@ -14,6 +14,7 @@ import java.nio.file.Path;
 import java.time.Clock;
 import java.time.Duration;
 import java.util.Map;
+import java.util.function.Function;
 
 /**
  * A real server on a free loopback port with a fresh database (a temporary SQLite file unless an
@@ -127,16 +128,29 @@ public final class TestServer implements AutoCloseable {
 
     /** Polls a job until it leaves queued/running, failing after a bounded wait. */
     public JsonNode awaitJob(String jobId) throws InterruptedException {
+        return awaitFinished(this::get, "/v1/jobs/" + jobId);
+    }
+
+    /** Polls a regression run until it leaves queued/running, failing after a bounded wait. */
+    public JsonNode awaitRegression(String regressionId) throws InterruptedException {
+        return awaitFinished(this::get, "/v1/regressions/" + regressionId);
+    }
+
+    /**
+     * Reads {@code path} through {@code get} every 20 ms until its {@code state} leaves queued and
+     * running, and returns that answer; a bounded hang guard (60 s), not a timing assertion.
+     */
+    public static JsonNode awaitFinished(Function<String, Reply> get, String path) throws InterruptedException {
         long deadline = System.nanoTime() + Duration.ofSeconds(60).toNanos();
         while (System.nanoTime() < deadline) {
-            JsonNode job = get("/v1/jobs/" + jobId).json();
-            String state = job.path("state").asText();
+            JsonNode answer = get.apply(path).json();
+            String state = answer.path("state").asText();
             if (!state.equals("queued") && !state.equals("running")) {
-                return job;
+                return answer;
             }
             Thread.sleep(20);
         }
-        throw new AssertionError("job " + jobId + " did not finish within 60 s");
+        throw new AssertionError(path + " did not finish within 60 s");
     }
 
     public App app() {

@@ -14,6 +14,7 @@ import backstate.intake.TraceIntake;
 import backstate.jobs.ClaimedJob;
 import backstate.jobs.JobOutcome;
 import backstate.jobs.JobQueue;
+import backstate.jobs.ProgressReporting;
 import backstate.regression.RegressionJobHandler;
 import backstate.solving.StoredTraceSolver;
 import backstate.store.SqliteDatabase;
@@ -22,8 +23,6 @@ import com.fasterxml.jackson.databind.ObjectMapper;
 import io.micrometer.prometheusmetrics.PrometheusConfig;
 import io.micrometer.prometheusmetrics.PrometheusMeterRegistry;
 import java.io.IOException;
-import java.lang.reflect.InvocationTargetException;
-import java.lang.reflect.Proxy;
 import java.net.URI;
 import java.net.http.HttpClient;
 import java.net.http.HttpRequest;
@@ -149,21 +148,9 @@ final class RegressionByHand implements AutoCloseable {
         }
     }
 
-    /** The store's queue, telling {@code onProgress} each reported count after recording it. */
+    /** The store's queue, telling {@code onProgress} each reported "done" count after recording it. */
     private JobQueue reportingTo(IntConsumer onProgress) {
-        return (JobQueue) Proxy.newProxyInstance(JobQueue.class.getClassLoader(), new Class<?>[] {JobQueue.class},
-                (proxy, method, args) -> {
-                    Object answer;
-                    try {
-                        answer = method.invoke(store.queue(), args);
-                    } catch (InvocationTargetException e) {
-                        throw e.getCause();
-                    }
-                    if (method.getName().equals("reportProgress")) {
-                        onProgress.accept((Integer) args[2]);
-                    }
-                    return answer;
-                });
+        return ProgressReporting.reportingTo(store.queue(), onProgress);
     }
 
     @Override
