@@ -39,6 +39,9 @@ class ProcessNoiseSmootherMonteCarloTest {
         Random random = new Random(SEED);
         double[] sumSquares = new double[n];
         int[] covered = new int[n];
+        double[] endSquares = new double[n];
+        int[] endCovered = new int[n];
+        double[] endSe = null;
         double[] se = null;
         double innovationSum = 0.0;
         double innovationSquares = 0.0;
@@ -46,9 +49,19 @@ class ProcessNoiseSmootherMonteCarloTest {
         EstimationOptions options = EstimationOptions.defaults().withFormulation(Formulation.PROCESS_NOISE)
                 .withKeepSeries(false);
         for (int draw = 0; draw < DRAWS; draw++) {
+            double[] lastState = new double[n];
             Estimate e = assertInstanceOf(Estimate.class,
-                    InitialStateEstimator.solve(model, simulate(phi, g, random), options));
+                    InitialStateEstimator.solve(model, simulate(phi, g, random, lastState), options));
             se = e.standardErrors();
+            Estimate.StateAt end = e.windowEnd();
+            endSe = end.standardErrors();
+            for (int i = 0; i < n; i++) {
+                double error = end.state()[i] - lastState[i];
+                endSquares[i] += error * error;
+                if (end.lower()[i] <= lastState[i] && lastState[i] <= end.upper()[i]) {
+                    endCovered[i]++;
+                }
+            }
             for (int i = 0; i < n; i++) {
                 double error = e.solution()[i] - TRUE_X0[i];
                 sumSquares[i] += error * error;
@@ -63,15 +76,23 @@ class ProcessNoiseSmootherMonteCarloTest {
         }
         for (int i = 0; i < n; i++) {
             double spread = Math.sqrt(sumSquares[i] / DRAWS);
+            double endSpread = Math.sqrt(endSquares[i] / DRAWS);
+            System.out.printf(java.util.Locale.ROOT, "process noise, %d draws, state %d: x0 spread/se %.3f, coverage %.4f;"
+                    + " window end spread/se %.3f, coverage %.4f%n", DRAWS, i, spread / se[i], covered[i] / (double) DRAWS,
+                    endSpread / endSe[i], endCovered[i] / (double) DRAWS);
             assertEquals(1.0, spread / se[i], 0.10, "x0[" + i + "] empirical sd " + spread + " against se " + se[i]);
             assertEquals(0.95, covered[i] / (double) DRAWS, 0.02, "x0[" + i + "] coverage");
+            assertEquals(1.0, endSpread / endSe[i], 0.10, "window end[" + i + "] empirical sd " + endSpread
+                    + " against se " + endSe[i]);
+            assertEquals(0.95, endCovered[i] / (double) DRAWS, 0.02, "window end[" + i + "] coverage");
         }
         assertEquals(0.0, innovationSum / innovations, 0.02, "innovation mean");
         assertEquals(1.0, innovationSquares / innovations, 0.03, "innovation variance");
         assertTrue(innovations > (long) DRAWS * (SAMPLES - 3), "innovations counted: " + innovations);
     }
 
-    private static Trace simulate(double[] phi, ProcessNoiseCovariance.Factor g, Random random) {
+    /** One draw of the stochastic model; {@code lastState} receives the true state at the last sample. */
+    private static Trace simulate(double[] phi, ProcessNoiseCovariance.Factor g, Random random, double[] lastState) {
         int n = 2;
         int r = g.rank();
         double[] x = TRUE_X0.clone();
@@ -81,6 +102,9 @@ class ProcessNoiseSmootherMonteCarloTest {
         for (int k = 0; k < SAMPLES; k++) {
             t[k] = STEP * k;
             y[k] = x[0] + SIGMA * random.nextGaussian();
+            if (k == SAMPLES - 1) {
+                System.arraycopy(x, 0, lastState, 0, n);
+            }
             double[] xi = new double[r];
             for (int c = 0; c < r; c++) {
                 xi[c] = random.nextGaussian();
