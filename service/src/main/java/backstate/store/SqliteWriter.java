@@ -247,13 +247,13 @@ final class SqliteWriter implements AutoCloseable {
         batch.forEach(r -> meters.waited(begin - r.handedOverNanos));
         try {
             // BEGIN IMMEDIATE is SQLite's; PostgreSQL's plain BEGIN plus row locks does the same job.
-            statements.execute("BEGIN IMMEDIATE");
+            statements.run("BEGIN IMMEDIATE");
             try {
                 for (Request<?> r : batch) {
                     runInSavepoint(r);
                 }
                 long worked = System.nanoTime();
-                statements.execute("COMMIT");
+                statements.run("COMMIT");
                 meters.batch(batch.size(), worked - begin, System.nanoTime() - worked);
             } catch (SQLException | RuntimeException | Error e) {
                 rollbackAfter(e);
@@ -271,10 +271,10 @@ final class SqliteWriter implements AutoCloseable {
      * Throws only when the transaction itself is lost, and then the whole batch fails.
      */
     private void runInSavepoint(Request<?> r) throws SQLException {
-        statements.execute("SAVEPOINT request");
+        statements.run("SAVEPOINT request");
         try {
             r.run(statements);
-            statements.execute("RELEASE request");
+            statements.run("RELEASE request");
         } catch (SQLException | RuntimeException | Error e) {
             r.fail(e);
             statements.close(); // SQLite may have left a statement mid-step

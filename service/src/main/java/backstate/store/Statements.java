@@ -36,7 +36,15 @@ final class Statements implements AutoCloseable {
         return ps;
     }
 
-    /** Runs SQL that is not kept (transaction control, pragmas). */
+    /**
+     * Runs a statement that takes no parameters and returns no rows, kept like {@link #prepare}:
+     * the writer's transaction control (BEGIN, COMMIT, SAVEPOINT, RELEASE), four per batch.
+     */
+    void run(String sql) throws SQLException {
+        prepare(sql).execute();
+    }
+
+    /** Runs SQL that is not kept (pragmas; the rollbacks after a failure, when kept statements may be closed). */
     void execute(String sql) throws SQLException {
         try (Statement s = connection.createStatement()) {
             s.execute(sql);

@@ -376,7 +376,10 @@ class SqliteWriterTest {
         }
     }
 
-    /** The connection with every plain Statement's execute(sql) recorded (the writer uses no other). */
+    /**
+     * The connection with every plain Statement's execute(sql) and every kept statement's
+     * execute() recorded by its SQL (the writer's transaction control is kept, its work here is not).
+     */
     private Connection recording(Connection real) {
         return proxy(Connection.class, real, (method, args) -> {
             Object result = invoke(real, method, args);
@@ -385,6 +388,16 @@ class SqliteWriterTest {
                 return proxy(Statement.class, statement, (m, a) -> {
                     if (m.getName().equals("execute") && a != null && a.length == 1) {
                         record((String) a[0]);
+                    }
+                    return invoke(statement, m, a);
+                });
+            }
+            if (method.getName().equals("prepareStatement")) {
+                PreparedStatement statement = (PreparedStatement) result;
+                String sql = (String) args[0];
+                return proxy(PreparedStatement.class, statement, (m, a) -> {
+                    if (m.getName().equals("execute") && a == null) {
+                        record(sql);
                     }
                     return invoke(statement, m, a);
                 });
