@@ -76,7 +76,8 @@ public final class App implements AutoCloseable {
                 settings.maxQueued(), workers::wake);
         this.api = new ApiServer(new ApiServer.Wiring(database, mapper, clock, registry, limits, settings.maxBodyBytes(),
                 settings.maxQueued(), database.queue()::queuedCount, workers::wake, keys, settings.auth(), intake, stored,
-                new SeriesSolves(settings.seriesThreads(), settings.seriesQueue())), settings.uploads());
+                new SeriesSolves(settings.seriesThreads(), settings.seriesQueue())), settings.uploads(),
+                settings.readConcurrency());
     }
 
     /** Starts the workers and the HTTP edge; if either fails (the port is taken, say), everything is closed again. */

@@ -54,6 +54,7 @@ final class Launcher {
               --max-uploads-per-key N the same for one key (BACKSTATE_MAX_UPLOADS_PER_KEY, default 32)
               --min-body-rate BYTES   a body slower than this after 5 s gets 408 (BACKSTATE_MIN_BODY_RATE, default 1024)
               --max-body-seconds N    a body still arriving after this gets 408 (BACKSTATE_MAX_BODY_SECONDS, default 300)
+              --read-concurrency N    API reads answered at once, the rest wait their turn (BACKSTATE_READ_CONCURRENCY, default: the cores, at least 2)
             The first admin key comes from BACKSTATE_ADMIN_KEY (environment only), or is generated and
             printed once at the first start.""";
 

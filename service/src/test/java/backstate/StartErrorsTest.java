@@ -114,7 +114,7 @@ class StartErrorsTest {
             assertTrue(Launcher.SERVICE_FLAGS.contains("  " + flag.group(1) + " "), flag.group(1) + " in the usage");
             flags++;
         }
-        assertEquals(16, flags, refusal);
+        assertEquals(17, flags, refusal);
     }
 
     @Test
@@ -123,7 +123,7 @@ class StartErrorsTest {
         assertEquals("backstate serve: got flag --databse, expected one of --host VALUE,"
                 + " --port VALUE, --database VALUE, --workers VALUE, --max-body-bytes VALUE, --max-queued VALUE,"
                 + " --max-samples VALUE, --auth VALUE, --series-threads VALUE, --series-queue VALUE, --job-lease VALUE, --database-pool VALUE,"
-                + " --max-uploads VALUE, --max-uploads-per-key VALUE, --min-body-rate VALUE, --max-body-seconds VALUE (--help for usage)", oneLine(run, Launcher.BAD_COMMAND_LINE));
+                + " --max-uploads VALUE, --max-uploads-per-key VALUE, --min-body-rate VALUE, --max-body-seconds VALUE, --read-concurrency VALUE (--help for usage)", oneLine(run, Launcher.BAD_COMMAND_LINE));
     }
 
     @Test

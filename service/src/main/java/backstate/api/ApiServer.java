@@ -74,7 +74,13 @@ public final class ApiServer implements AutoCloseable {
 
     /** Request bodies are read under {@code uploads}: caps on uploads at once, a minimum rate and a longest time. */
     public ApiServer(Wiring w, UploadLimits uploads) {
+        this(w, uploads, Settings.DEFAULT_READ_CONCURRENCY);
+    }
+
+    /** As above, with at most {@code readConcurrency} API reads answered at once ({@link ReadAdmission}). */
+    public ApiServer(Wiring w, UploadLimits uploads, int readConcurrency) {
         this.routes = routes(w);
+        ReadAdmission reads = new ReadAdmission(readConcurrency, w.registry());
         this.series = w.series();
         ProblemMapper problems = new ProblemMapper(w.mapper());
         AccessGuard guard = new AccessGuard(w.keys(), w.database().keys(), w.auth());
@@ -109,16 +115,22 @@ public final class ApiServer implements AutoCloseable {
                     .register(w.registry()).record((long) (ms * 1_000_000L), TimeUnit.NANOSECONDS));
             problems.register(config.routes);
             for (Route r : routes) {
-                config.routes.addEndpoint(new io.javalin.router.Endpoint(r.method(), r.path(), guard.wrap(r), java.util.Set.of()));
+                config.routes.addEndpoint(endpoint(r, guard, reads));
                 // Javalin answers HEAD on a GET route with an empty 200 without running any handler,
                 // so a protected GET would answer HEAD to anyone: HEAD runs the GET, guard and all
                 // (Jetty sends no body for HEAD).
                 if (r.method() == HandlerType.GET) {
-                    Route head = new Route(HandlerType.HEAD, r.path(), r.access(), r.handler());
-                    config.routes.addEndpoint(new io.javalin.router.Endpoint(HandlerType.HEAD, r.path(), guard.wrap(head), java.util.Set.of()));
+                    config.routes.addEndpoint(endpoint(new Route(HandlerType.HEAD, r.path(), r.access(), r.handler()), guard, reads));
                 }
             }
         });
+    }
+
+    /** A route's handler behind its access check and, for API reads, behind read admission. */
+    private static io.javalin.router.Endpoint endpoint(Route r, AccessGuard guard, ReadAdmission reads) {
+        io.javalin.http.Handler guarded = guard.wrap(r);
+        io.javalin.http.Handler handler = ReadAdmission.counts(r) ? reads.admitted(guarded) : guarded;
+        return new io.javalin.router.Endpoint(r.method(), r.path(), handler, java.util.Set.of());
     }
 
     /** The route template that served a request, or "unmatched" (Javalin 7's ctx.endpoint() throws when none matched). */

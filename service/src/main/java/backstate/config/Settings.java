@@ -11,7 +11,7 @@ import java.util.Optional;
  */
 public record Settings(String host, int port, DatabaseTarget database, int workers, long maxBodyBytes, int maxQueued,
                        int maxSamples, boolean auth, Optional<Secret> adminKey, int seriesThreads, int seriesQueue,
-                       Duration jobLease, int databasePool, UploadLimits uploads) {
+                       Duration jobLease, int databasePool, UploadLimits uploads, int readConcurrency) {
     /** Default body limit: 256 MiB holds a 10⁶-sample, 5-channel CSV with room to spare. */
     public static final long DEFAULT_MAX_BODY = 256L * 1024 * 1024;
     /**
@@ -23,6 +23,11 @@ public record Settings(String host, int port, DatabaseTarget database, int worke
     public static final int DEFAULT_SERIES_QUEUE = 8;
     /** Seconds a claimed job stays reserved without a renewal (its holder renews every third). */
     public static final int DEFAULT_JOB_LEASE_SECONDS = 15;
+    /**
+     * API reads answered at once (the rest wait their turn): the cores, at least two, so
+     * dashboards alone can fill the machine but not crowd out trace posts and their solves.
+     */
+    public static final int DEFAULT_READ_CONCURRENCY = Math.max(2, Runtime.getRuntime().availableProcessors());
     /** PostgreSQL connections per replica. */
     public static final int DEFAULT_DATABASE_POOL = 8;
 
@@ -47,6 +52,8 @@ public record Settings(String host, int port, DatabaseTarget database, int worke
         values.put("min-body-rate", env.getOrDefault("BACKSTATE_MIN_BODY_RATE", Integer.toString(UploadLimits.DEFAULT_MIN_BODY_RATE)));
         values.put("max-body-seconds", env.getOrDefault("BACKSTATE_MAX_BODY_SECONDS",
                 Integer.toString(UploadLimits.DEFAULT_MAX_BODY_SECONDS)));
+        values.put("read-concurrency", env.getOrDefault("BACKSTATE_READ_CONCURRENCY",
+                Integer.toString(DEFAULT_READ_CONCURRENCY)));
         for (int i = 0; i < flags.length; i++) {
             String flag = flags[i];
             if (!flag.startsWith("--") || !values.containsKey(flag.substring(2)) || i + 1 == flags.length) {
@@ -60,7 +67,8 @@ public record Settings(String host, int port, DatabaseTarget database, int worke
                 range("max-queued", values, 1, 10_000_000), range("max-samples", values, 2, 100_000_000),
                 onOff("auth", values), adminKey(env), range("series-threads", values, 1, 64),
                 range("series-queue", values, 0, 10_000), Duration.ofSeconds(range("job-lease", values, 3, 3600)),
-                range("database-pool", values, 2, 500), uploads(values));
+                range("database-pool", values, 2, 500), uploads(values),
+                range("read-concurrency", values, 1, UploadLimits.HTTP_THREADS / 4));
     }
 
     /** Upload caps stay below the HTTP threads so that reads and health checks always find one. */
@@ -78,7 +86,8 @@ public record Settings(String host, int port, DatabaseTarget database, int worke
                 + " series-threads=" + seriesThreads + " series-queue=" + seriesQueue
                 + " job-lease=" + jobLease.toSeconds() + "s database-pool=" + databasePool
                 + " max-uploads=" + uploads.maxUploads() + " max-uploads-per-key=" + uploads.maxUploadsPerKey()
-                + " min-body-rate=" + uploads.minBodyRate() + " max-body-seconds=" + uploads.maxBodyTime().toSeconds();
+                + " min-body-rate=" + uploads.minBodyRate() + " max-body-seconds=" + uploads.maxBodyTime().toSeconds()
+                + " read-concurrency=" + readConcurrency;
     }
 
     /** Access control on or off; the admin key comes from the environment only, never a flag (flags show in ps). */

@@ -7,14 +7,19 @@ import java.io.InputStream;
 import java.io.OutputStream;
 import java.net.Socket;
 import java.net.URI;
+import java.net.http.HttpHeaders;
 import java.nio.charset.StandardCharsets;
+import java.util.ArrayList;
+import java.util.List;
 import java.util.Locale;
+import java.util.Map;
+import java.util.TreeMap;
 
 /**
  * A minimal HTTP/1.1 client for the load driver: one kept-alive loopback socket per client
  * thread, the request written as bytes, the answer read by Content-Length or chunked framing.
  * It costs the driver a fraction of the CPU of {@code java.net.http.HttpClient}, which matters when
- * the driver shares the service's two cores. Not for anything but trace posts to loopback.
+ * the driver shares the service's two cores. Not for anything but the driver's posts and reads on loopback.
  */
 final class LeanPoster {
     private static final int TIMEOUT_MILLIS = 30_000;
@@ -30,13 +35,27 @@ final class LeanPoster {
 
     /** Status and body of one POST; the connection is dropped after any transport failure. */
     Http.Reply post(String path, String contentType, byte[] body) throws IOException {
+        return send("POST " + path, "Content-Type: " + contentType + "\r\n", body);
+    }
+
+    /** As {@link #post}, with an Idempotency-Key header (a gateway's retry after a 503). */
+    Http.Reply post(String path, String contentType, byte[] body, String idempotencyKey) throws IOException {
+        return send("POST " + path, "Content-Type: " + contentType + "\r\nIdempotency-Key: " + idempotencyKey + "\r\n", body);
+    }
+
+    /** Status, headers and body of one GET. */
+    Http.Reply get(String path) throws IOException {
+        return send("GET " + path, "", null);
+    }
+
+    private Http.Reply send(String requestLine, String headers, byte[] bodyOrNull) throws IOException {
         Connection c = connections.get();
         if (c == null) {
             c = new Connection(new Socket(host, port));
             connections.set(c);
         }
         try {
-            return c.post(host, port, path, contentType, body);
+            return c.send(host, port, requestLine, headers, bodyOrNull);
         } catch (IOException | RuntimeException e) {
             connections.remove();
             c.socket.close();
@@ -57,26 +76,26 @@ final class LeanPoster {
             this.in = new BufferedInputStream(socket.getInputStream(), 8192);
         }
 
-        Http.Reply post(String host, int port, String path, String contentType, byte[] body) throws IOException {
-            String head = "POST " + path + " HTTP/1.1\r\nHost: " + host + ":" + port + "\r\nContent-Type: " + contentType
-                    + "\r\nContent-Length: " + body.length + "\r\n\r\n";
+        Http.Reply send(String host, int port, String requestLine, String headers, byte[] bodyOrNull) throws IOException {
+            String head = requestLine + " HTTP/1.1\r\nHost: " + host + ":" + port + "\r\n" + headers
+                    + (bodyOrNull == null ? "" : "Content-Length: " + bodyOrNull.length + "\r\n") + "\r\n";
             out.write(head.getBytes(StandardCharsets.ISO_8859_1));
-            out.write(body);
+            if (bodyOrNull != null) {
+                out.write(bodyOrNull);
+            }
             out.flush();
             String status = line();
             int code = Integer.parseInt(status.substring(9, 12));
-            int length = -1;
-            boolean chunked = false;
+            Map<String, List<String>> fields = new TreeMap<>(String.CASE_INSENSITIVE_ORDER);
             for (String h = line(); !h.isEmpty(); h = line()) {
-                String lower = h.toLowerCase(Locale.ROOT);
-                if (lower.startsWith("content-length:")) {
-                    length = Integer.parseInt(h.substring(15).trim());
-                } else if (lower.startsWith("transfer-encoding:") && lower.contains("chunked")) {
-                    chunked = true;
-                }
+                int colon = h.indexOf(':');
+                fields.computeIfAbsent(h.substring(0, colon).trim(), k -> new ArrayList<>()).add(h.substring(colon + 1).trim());
             }
-            byte[] payload = chunked ? chunks() : exactly(Math.max(0, length));
-            return new Http.Reply(code, new String(payload, StandardCharsets.UTF_8), null);
+            String length = fields.containsKey("Content-Length") ? fields.get("Content-Length").get(0) : "0";
+            boolean chunked = fields.getOrDefault("Transfer-Encoding", List.of()).stream()
+                    .anyMatch(v -> v.toLowerCase(Locale.ROOT).contains("chunked"));
+            byte[] payload = chunked ? chunks() : exactly(Integer.parseInt(length));
+            return new Http.Reply(code, new String(payload, StandardCharsets.UTF_8), HttpHeaders.of(fields, (k, v) -> true));
         }
 
         private byte[] chunks() throws IOException {

@@ -41,7 +41,7 @@ import java.util.function.LongConsumer;
  *                   [--windows 5 --window-seconds 20 --target-p99-ms 50 --baseline-p99-ms 121,147,91]
  *                   [--warmup-rounds 4 --quiet-jit 200]
  *                   [--server-pid PID] [--jvm-log FILE] [--target-rate 600 --baseline-rate 342,387]
- * LoadDriver mixed  --base URL --db FILE [--clients 32] [--seconds 60] [--samples 1000] [--units 64]
+ * LoadDriver mixed  --base URL --db FILE [--clients 32] [--seconds 60] [--samples 1000] [--units 64] [--client lean]
  *                   (half the clients post, a quarter read latest estimates, a quarter the fleet summary)
  * LoadDriver upload --base URL --db FILE [--samples 1000000] [--client lean]
  * LoadDriver offline [--samples 1000000]      parse + solve of the same CSV in this JVM, no server
@@ -326,6 +326,7 @@ public final class LoadDriver {
         AtomicInteger errors = new AtomicInteger();
         AtomicInteger throttled = new AtomicInteger();
         AtomicLong posts = new AtomicLong();
+        LeanPoster lean = leanOrNull();
         AtomicInteger started = new AtomicInteger();
         ThreadLocal<MixedRole> roles = ThreadLocal.withInitial(() -> MixedRole.of(started.getAndIncrement()));
         long deadline = System.nanoTime() + Duration.ofSeconds(seconds).toNanos();
@@ -343,7 +344,7 @@ public final class LoadDriver {
                     // Retry-After with the same Idempotency-Key; it is counted, not an error.
                     String key = "mixed-" + posts.incrementAndGet();
                     byte[] body = bodies.get(ThreadLocalRandom.current().nextInt(bodies.size()));
-                    Http.Reply r = http.postTrace(unit(u), body, key);
+                    Http.Reply r = mixedPost(lean, unit(u), body, key);
                     latency.get(role).add(System.nanoTime() - t0);
                     while (r.status() == 503 && System.nanoTime() < deadline) {
                         throttled.incrementAndGet();
@@ -351,7 +352,7 @@ public final class LoadDriver {
                                 deadline - System.nanoTime());
                         TimeUnit.NANOSECONDS.sleep(Math.max(0, pause));
                         long t1 = System.nanoTime();
-                        r = http.postTrace(unit(u), body, key);
+                        r = mixedPost(lean, unit(u), body, key);
                         latency.get(role).add(System.nanoTime() - t1);
                     }
                     if (r.status() == 202) {
@@ -362,7 +363,7 @@ public final class LoadDriver {
                     }
                 } else {
                     String path = role == MixedRole.LATEST ? "/v1/units/" + unit(u) + "/estimates/latest" : SUMMARY_PATH;
-                    Http.Reply r = http.get(path);
+                    Http.Reply r = lean == null ? http.get(path) : lean.get(path);
                     latency.get(role).add(System.nanoTime() - t0);
                     if (r.status() != 200) {
                         errors.incrementAndGet();
@@ -400,6 +401,12 @@ public final class LoadDriver {
                 MIXED_POST_P99_TARGET_MS, postP99 <= MIXED_POST_P99_TARGET_MS ? "met" : "NOT met", errors.get(),
                 errors.get() == 0 ? "met" : "NOT met");
         return errors.get() == 0 && lost == 0 && succeeded == acked.size();
+    }
+
+    private Http.Reply mixedPost(LeanPoster lean, String unitId, byte[] body, String key)
+            throws IOException, InterruptedException {
+        return lean == null ? http.postTrace(unitId, body, key)
+                : lean.post("/v1/units/" + unitId + "/traces" + Http.DEMO_VERSION_QUERY, "text/csv", body, key);
     }
 
     private static long count(int clients, MixedRole role) {
