@@ -41,7 +41,8 @@ final class SqliteConnections implements Connections {
     private final SqliteWriter writer;
     private final WalCheckpoints checkpoints;
     private final List<Connection> allReaders = new ArrayList<>();
-    private final BlockingQueue<Connection> idleReaders;
+    /** Idle read connections, each with its statements, kept compiled across reads as the writer's are. */
+    private final BlockingQueue<Statements> idleReaders;
     private final DamageLatch damage = new DamageLatch();
     private volatile boolean closed;
 
@@ -60,7 +61,7 @@ final class SqliteConnections implements Connections {
             for (int i = 0; i < settings.readConnections(); i++) {
                 Connection reader = openReader();
                 allReaders.add(reader);
-                idleReaders.add(reader);
+                idleReaders.add(new Statements(reader));
             }
             checkpointer = new WalCheckpoints(dataSource, WalCheckpoints.DEFAULT_INTERVAL, meters);
         } catch (SQLException e) {
@@ -85,11 +86,15 @@ final class SqliteConnections implements Connections {
     /** Runs read-only work on an idle read connection, outside any explicit transaction. */
     @Override
     public <T> T read(SqlWork<T> work) {
-        Connection reader = borrowReader();
-        try (Statements statements = new Statements(reader)) {
-            return work.run(statements);
+        Statements reader = borrowReader();
+        try {
+            return work.run(reader);
         } catch (SQLException e) {
+            reader.close(); // SQLite may have left a statement mid-step: compile afresh next time
             throw damage.noted(SqliteErrors.translate(e));
+        } catch (RuntimeException | Error e) {
+            reader.close();
+            throw e;
         } finally {
             idleReaders.add(reader);
         }
@@ -102,17 +107,21 @@ final class SqliteConnections implements Connections {
      */
     @Override
     public <T> T readInOneSnapshot(SqlWork<T> work) {
-        Connection reader = borrowReader();
-        try (Statements statements = new Statements(reader)) {
-            reader.setAutoCommit(false);
+        Statements reader = borrowReader();
+        try {
+            reader.connection().setAutoCommit(false);
             try {
-                return work.run(statements);
+                return work.run(reader);
             } finally {
-                reader.rollback();
-                reader.setAutoCommit(true);
+                reader.connection().rollback();
+                reader.connection().setAutoCommit(true);
             }
         } catch (SQLException e) {
+            reader.close();
             throw damage.noted(SqliteErrors.translate(e));
+        } catch (RuntimeException | Error e) {
+            reader.close();
+            throw e;
         } finally {
             idleReaders.add(reader);
         }
@@ -181,7 +190,7 @@ final class SqliteConnections implements Connections {
         return reader;
     }
 
-    private Connection borrowReader() {
+    private Statements borrowReader() {
         requireOpen();
         try {
             return idleReaders.take();

@@ -256,6 +256,7 @@ final class SqliteWriter implements AutoCloseable {
                 statements.run("COMMIT");
                 meters.batch(batch.size(), worked - begin, System.nanoTime() - worked);
             } catch (SQLException | RuntimeException | Error e) {
+                statements.close(); // sqlite-jdbc finalizes a statement that failed (SQLITE_FULL, IOERR): compile afresh
                 rollbackAfter(e);
                 throw e;
             }

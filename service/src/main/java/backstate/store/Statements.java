@@ -12,7 +12,9 @@ import java.util.Map;
  * here, so callers bind and execute them but never close them. On the write connection
  * ({@link SqliteWriter}) they are kept for the connection's life: sqlite-jdbc compiles a statement
  * again on every {@code prepareStatement}, which cost about a quarter of the writer's CPU per
- * trace. On a read connection they live for one read ({@link SqliteConnections#read}).
+ * trace. A read connection keeps its own the same way ({@link SqliteConnections#read}); every
+ * result is read to the end or closed, which resets its statement, so an idle connection holds no
+ * read snapshot that would stop a checkpoint.
  *
  * <p>One thread at a time uses an instance. Results are read to the end or closed
  * ({@link Sql#list}, {@link Sql#firstOrNull}) before the same SQL is prepared again, since
@@ -26,10 +28,15 @@ final class Statements implements AutoCloseable {
         this.connection = connection;
     }
 
+    /** The connection, for transaction control around the statements (a read snapshot). */
+    Connection connection() {
+        return connection;
+    }
+
     /** The statement for {@code sql}, compiled on first use. */
     PreparedStatement prepare(String sql) throws SQLException {
         PreparedStatement ps = prepared.get(sql);
-        if (ps == null) {
+        if (ps == null || ps.isClosed()) { // sqlite-jdbc finalizes a statement whose step failed with an I/O error
             ps = connection.prepareStatement(sql);
             prepared.put(sql, ps);
         }
