@@ -4,12 +4,16 @@ import com.fasterxml.jackson.core.JsonFactory;
 import com.fasterxml.jackson.core.JsonFactoryBuilder;
 import com.fasterxml.jackson.core.StreamReadConstraints;
 import com.fasterxml.jackson.core.StreamReadFeature;
+import com.fasterxml.jackson.core.StreamWriteFeature;
 import com.fasterxml.jackson.databind.DeserializationFeature;
 import com.fasterxml.jackson.databind.ObjectMapper;
 
 /**
  * The one Jackson configuration: strict on input (no nulls in number arrays, unknown fields
- * rejected, a key twice in one object rejected, depth-limited).
+ * rejected, a key twice in one object rejected, depth-limited). Doubles are written by Jackson's
+ * shortest-digits writer (Giulietti 2020, "The Schubfach way to render doubles"), which gives
+ * the same double back on reading as {@code Double.toString} does at a fraction of Java 17's cost
+ * (a tenth of an estimate job's CPU went to {@code Double.toString}).
  */
 public final class Json {
     private Json() {
@@ -21,6 +25,7 @@ public final class Json {
                         .maxNestingDepth(limits.maxJsonDepth())
                         .maxStringLength(1 << 20)
                         .build())
+                .enable(StreamWriteFeature.USE_FAST_DOUBLE_WRITER)
                 .build();
         return new ObjectMapper(factory)
                 .enable(DeserializationFeature.FAIL_ON_NULL_FOR_PRIMITIVES)
