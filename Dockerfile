@@ -33,7 +33,8 @@ VOLUME ["/var/lib/backstate"]
 ENV BACKSTATE_DATABASE=/var/lib/backstate/backstate.db BACKSTATE_PORT=8080 BACKSTATE_JAVA_OPTS=-XX:MaxRAMPercentage=75
 EXPOSE 8080
 HEALTHCHECK --interval=30s --timeout=3s --start-period=20s CMD curl -fsS http://localhost:8080/readyz || exit 1
-# The launcher adds the archive and, for the short commands, quick-start JVM settings; serve keeps
-# the JVM's defaults. `docker run IMAGE solve --model ... --trace ...` works as the launcher does.
+# The launcher adds the archive and runs every command, serve included, on the JVM's quick compiler
+# (bench/README.md, "Which compiler the service runs"); BACKSTATE_JAVA_OPTS=-XX:TieredStopAtLevel=4
+# restores the JVM's default. `docker run IMAGE solve --model ... --trace ...` works as the launcher does.
 ENTRYPOINT ["/opt/backstate/backstate"]
 CMD ["serve"]

@@ -6,6 +6,7 @@ set -euo pipefail
 
 ROOT="$(cd "$(dirname "${BASH_SOURCE[0]}")/../.." && pwd)"
 JAR="$ROOT/service/target/backstate.jar"
+LAUNCHER="$ROOT/service/target/backstate"
 WORK="$(mktemp -d /tmp/backstate-load.XXXXXX)"
 DB="$WORK/load.db"
 LOG="$WORK/server.log"
@@ -39,13 +40,25 @@ start_server() {
   curl -sf -o /dev/null -X POST "$BASE/v1/models/reefer-40/versions" -H 'Content-Type: application/json' \
     --data-binary "@$ROOT/test-data/demo/models/reefer-40.v1.json"
   echo "server pid $SERVER_PID on $BASE, heap $heap, database $DB"
+  # The JVM options the server really runs with (the launcher's and SERVER_JAVA_OPTS), before -jar.
+  echo "server JVM options: $(tr '\0' ' ' <"/proc/$SERVER_PID/cmdline" | sed 's/ -jar .*//; s/^[^ ]* //')"
 }
 
 launch() {
   local heap="$1"; shift
   : >"$LOG"
-  # SERVER_JAVA_OPTS: extra JVM flags, e.g. -XX:StartFlightRecording=filename=/tmp/server.jfr,settings=profile
-  java ${SERVER_JAVA_OPTS:-} -Xmx"$heap" -jar "$JAR" serve --host 127.0.0.1 --port 0 --database "$DB" "$@" >>"$LOG" 2>&1 &
+  # As deployed: through the launcher (service/target/backstate, the Docker entry point), with its
+  # JVM settings and archive. SERVER_JAVA_OPTS: extra JVM flags, e.g.
+  # -XX:StartFlightRecording=filename=/tmp/server.jfr,settings=profile, or -XX:TieredStopAtLevel=4
+  # for the JVM's default compilers (bench/README.md, "Which compiler the service runs").
+  # SERVER_JAR: another build's jar (e.g. main before a change), run with the launcher's compiler setting.
+  if [ -n "${SERVER_JAR:-}" ]; then
+    java -XX:TieredStopAtLevel=1 ${SERVER_JAVA_OPTS:-} -Xmx"$heap" -jar "$SERVER_JAR" serve --host 127.0.0.1 --port 0 \
+      --database "$DB" "$@" >>"$LOG" 2>&1 &
+  else
+    BACKSTATE_JAVA_OPTS="${SERVER_JAVA_OPTS:-} -Xmx$heap" "$LAUNCHER" serve --host 127.0.0.1 --port 0 --database "$DB" "$@" \
+      >>"$LOG" 2>&1 &
+  fi
   SERVER_PID=$!
   for _ in $(seq 1 600); do # up to 60 s
     PORT="$(grep -o 'listening on http://localhost:[0-9]*' "$LOG" | grep -o '[0-9]*$' | head -1 || true)"

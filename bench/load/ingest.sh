@@ -31,7 +31,6 @@ SERVER_GC="${SERVER_GC--Xms${SERVER_HEAP:-1g}}"
 SERVER_JAVA_OPTS="${SERVER_JAVA_OPTS:-} $SERVER_GC -Xlog:gc,safepoint,jit+compilation=debug:file=$JVM_LOG:time,tags"
 start_server "${SERVER_HEAP:-1g}"
 echo "load average before: $(cut -d' ' -f1-3 /proc/loadavg) (other work on this machine skews every figure)"
-echo "server JVM flags: $SERVER_GC -Xmx${SERVER_HEAP:-1g}"
 common=(--clients "${CLIENTS:-32}" --samples "${SAMPLES:-1000}" --client "${DRIVER_CLIENT:-lean}"
   --server-pid "$SERVER_PID" --jvm-log "$JVM_LOG")
 # UNPACED_RUNS=2: the unpaced run again on the same server, warm (only the first is from a cold start).

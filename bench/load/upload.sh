@@ -12,8 +12,7 @@
 #   SIZES=1000000 RUNS=3 FORMAT=json bench/load/upload.sh
 #   SERVER_HEAP=300m bench/load/upload.sh      # the server's -Xmx (default 1g, see bench/README.md "Uploads")
 source "$(dirname "$0")/common.sh"
-# SERVER_JAR: another build's jar for the server (e.g. main before this change), same driver.
-JAR="${SERVER_JAR:-$JAR}"
+# SERVER_JAR: another build's jar for the server (e.g. main before this change), same driver (common.sh).
 echo "load average before: $(cut -d' ' -f1-3 /proc/loadavg)"
 build
 ROWS="$WORK/rows.txt"
@@ -54,5 +53,4 @@ for n, mb, parse, solve, live, post, job, ssolve, idle, peak, peakmax, after in 
         print(f"target at 10^6: parse {parse:.3f} s against solve {solve:.3f} s: parse / solve {parse/solve:.2f}"
               f" ({'met' if parse <= solve else 'NOT met'}); against the baseline's 0.37 s parse: {parse/0.37:.2f}x")
 PY
-echo "server JVM: -Xmx${SERVER_HEAP:-1g} $SERVER_JAVA_OPTS"
 echo "load average after: $(cut -d' ' -f1-3 /proc/loadavg)"
