@@ -18,5 +18,7 @@ mvn -q -B -pl service dependency:build-classpath -Dmdep.includeScope=test -Dmdep
 CLASSPATH="target/classes:target/test-classes:$(cat "$OUT/slow-uploads-classpath.txt")"
 echo "load average before: $(cut -d' ' -f1-3 /proc/loadavg)"
 # From service/, where the test fixtures find the demo models; the server's log goes to bench/out.
-(cd service && java -cp "$CLASSPATH" backstate.reliability.SlowUploadsBench "$RUNS" 2>"../$OUT/slow-uploads.log") | tee "$OUT/slow-uploads.md"
+# The quick compiler only, as the launcher runs the service (bench/README.md, "Which compiler the
+# service runs"); SLOW_UPLOADS_JAVA_OPTS=-XX:TieredStopAtLevel=4 for the JVM's default.
+(cd service && java ${SLOW_UPLOADS_JAVA_OPTS:--XX:TieredStopAtLevel=1} -cp "$CLASSPATH" backstate.reliability.SlowUploadsBench "$RUNS" 2>"../$OUT/slow-uploads.log") | tee "$OUT/slow-uploads.md"
 echo "load average after: $(cut -d' ' -f1-3 /proc/loadavg)"
