@@ -83,9 +83,11 @@ stop_server() {
 }
 
 # driver MODE [flags...]: the load driver against the running server (or alone, for "offline").
+# The driver shares the cores with the server, so it runs as light as it can: the quick compiler
+# only (the optimising one took seconds of CPU from the server's cores in every run).
 driver() {
   local heap="${DRIVER_HEAP:-1g}"
-  java -Xmx"$heap" -Dbackstate.testData="$ROOT/test-data" -cp "$CP" backstate.reliability.LoadDriver "$@" \
+  java -XX:TieredStopAtLevel=1 -Xmx"$heap" -Dbackstate.testData="$ROOT/test-data" -cp "$CP" backstate.reliability.LoadDriver "$@" \
     ${BASE:+--base "$BASE"} --db "$DB"
 }
 
