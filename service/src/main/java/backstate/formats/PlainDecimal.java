@@ -37,31 +37,32 @@ final class PlainDecimal {
             negative = bytes[i] == '-';
             i++;
         }
+        int digitsFrom = i;
+        i = skipZeros(bytes, i, to);
+        int significantFrom = i;
         long mantissa = 0;
-        int significant = 0;
-        int digits = 0;
-        int fractionDigits = 0;
-        boolean point = false;
-        for (; i < to; i++) {
-            int b = bytes[i];
-            if (b >= '0' && b <= '9') {
-                digits++;
-                if (point) {
-                    fractionDigits++;
-                }
-                if (significant > 0 || b != '0') {
-                    if (++significant > MAX_DIGITS) {
-                        return Double.NaN;
-                    }
-                    mantissa = mantissa * 10 + (b - '0');
-                }
-            } else if (b == '.' && !point) {
-                point = true;
-            } else {
-                break;
-            }
+        int d;
+        for (; i < to && (d = bytes[i] - '0') >= 0 && d <= 9; i++) {
+            mantissa = mantissa * 10 + d;
         }
-        if (digits == 0) {
+        int significant = i - significantFrom;
+        int digits = i - digitsFrom;
+        int fractionDigits = 0;
+        if (i < to && bytes[i] == '.') {
+            int fractionFrom = ++i;
+            if (mantissa == 0) {
+                i = skipZeros(bytes, i, to);
+            }
+            int fractionSignificantFrom = i;
+            for (; i < to && (d = bytes[i] - '0') >= 0 && d <= 9; i++) {
+                mantissa = mantissa * 10 + d;
+            }
+            significant += i - fractionSignificantFrom;
+            fractionDigits = i - fractionFrom;
+            digits += fractionDigits;
+        }
+        // Past MAX_DIGITS the mantissa may have wrapped around: declined before it is used.
+        if (digits == 0 || significant > MAX_DIGITS) {
             return Double.NaN;
         }
         int exponent = 0;
@@ -99,5 +100,13 @@ final class PlainDecimal {
             value = scale >= 0 ? mantissa * ExactPowersOfTen.of(scale) : mantissa / ExactPowersOfTen.of(-scale);
         }
         return negative ? -value : value;
+    }
+
+    /** The index of the first byte at or after i that is not '0'. */
+    private static int skipZeros(byte[] bytes, int i, int to) {
+        while (i < to && bytes[i] == '0') {
+            i++;
+        }
+        return i;
     }
 }
