@@ -19,9 +19,11 @@ import java.util.List;
  * characters.
  *
  * <p>A record that lies whole in the block and has only plain fields (no quote, no blank or control
- * byte, no non-ASCII byte: nearly every record of a trace) is read in place: its separators are
- * found eight bytes at a time ({@link PlainFieldScan}) and its fields are ranges of the block,
- * nothing copied. Any other record is read by the byte loop, which also words every refusal.
+ * byte, no non-ASCII byte: nearly every record of a trace) is read in place: its fields are
+ * ranges of the block, nothing copied. A field that starts with a plain decimal is read as a number
+ * on the way ({@link PlainDecimal#readPrefix}, {@link #value}), so a numeric cell is passed over
+ * once; the end of any other field is found eight bytes at a time ({@link PlainFieldScan}). Any
+ * other record is read by the byte loop, which also words every refusal.
  */
 final class CsvRecords {
     /** Longest field accepted; numbers and names are far shorter, so a longer one is hostile input. */
@@ -50,6 +52,8 @@ final class CsvRecords {
     private final int[] starts;
     private final int[] ends;
     private final boolean[] ascii;
+    private final double[] values;
+    private final PlainDecimal decimals = new PlainDecimal();
     private int fields;
 
     /**
@@ -65,6 +69,7 @@ final class CsvRecords {
         this.starts = new int[capacity];
         this.ends = new int[capacity];
         this.ascii = new boolean[capacity];
+        this.values = new double[capacity];
     }
 
     /** Line number where the record last returned started. */
@@ -113,6 +118,14 @@ final class CsvRecords {
     /** True when field i is pure ASCII, so its bytes are its characters. */
     boolean isAscii(int i) {
         return ascii[i];
+    }
+
+    /**
+     * Field i's value when the record was read in place and the field is one plain decimal in
+     * {@link PlainDecimal}'s exact case; NaN otherwise, and the caller reads the field itself.
+     */
+    double value(int i) {
+        return values[i];
     }
 
     /** The bytes behind every field; field i is {@code [start(i), end(i))}. */
@@ -216,13 +229,19 @@ final class CsvRecords {
         int end = filled;
         int from = position;
         for (int n = 0; n < fieldLimit; n++) {
-            int at = PlainFieldScan.nextSpecial(b, from, end);
+            double v = decimals.readPrefix(b, from, end);
+            int at = decimals.stop(); // every byte before it is plain: a digit, sign, point or E
+            if (at < end && !PlainFieldScan.isSpecial(b[at])) {
+                v = Double.NaN; // the field goes on after a decimal's bytes: not a number
+                at = PlainFieldScan.nextSpecial(b, at, end);
+            }
             if (at == end || at - from > MAX_FIELD_LENGTH) {
                 return false;
             }
             starts[n] = from;
             ends[n] = at;
             ascii[n] = true;
+            values[n] = v;
             if (b[at] == ',') {
                 from = at + 1;
                 continue;
@@ -303,6 +322,7 @@ final class CsvRecords {
         starts[fields] = fieldStart;
         ends[fields] = contentLength;
         ascii[fields] = fieldAscii;
+        values[fields] = Double.NaN;
         fields++;
     }
 

@@ -204,7 +204,8 @@ public final class TraceReader {
     /** The time cell of the current record: a plain decimal read from its bytes, else the general path. */
     private static void csvTime(CsvRecords records, int i, TraceTimes times) {
         if (records.isAscii(i)) {
-            double v = PlainDecimal.parse(records.bytes(), records.trimmedStart(i), records.trimmedEnd(i));
+            double read = records.value(i);
+            double v = Double.isNaN(read) ? PlainDecimal.parse(records.bytes(), records.trimmedStart(i), records.trimmedEnd(i)) : read;
             if (!Double.isNaN(v)) {
                 if (!times.add(v, false)) {
                     throw times.refusal(timeField(records.line()), v, false);
@@ -243,6 +244,10 @@ public final class TraceReader {
      * which decides and words the answer, so both paths accept, refuse and read alike.
      */
     private static double csvNumber(CsvRecords records, int i, String column, boolean missingAllowed) {
+        double read = records.value(i);
+        if (!Double.isNaN(read)) {
+            return read;
+        }
         if (records.isAscii(i)) {
             int from = records.trimmedStart(i);
             int to = records.trimmedEnd(i);
