@@ -21,7 +21,7 @@ import java.util.List;
  * <p>A record that lies whole in the block and has only plain fields (no quote, no blank or control
  * byte, no non-ASCII byte: nearly every record of a trace) is read in place: its fields are
  * ranges of the block, nothing copied. A field that starts with a plain decimal is read as a number
- * on the way ({@link PlainDecimal#readPrefix}, {@link #value}), so a numeric cell is passed over
+ * on the way ({@link PlainDecimal#readPrefix}, {@link #decimal}), so a numeric cell is passed over
  * once; the end of any other field is found eight bytes at a time ({@link PlainFieldScan}). Any
  * other record is read by the byte loop, which also words every refusal.
  */
@@ -115,34 +115,26 @@ final class CsvRecords {
         return out;
     }
 
-    /** True when field i is pure ASCII, so its bytes are its characters. */
-    boolean isAscii(int i) {
-        return ascii[i];
-    }
-
     /**
-     * Field i's value when the record was read in place and the field is one plain decimal in
-     * {@link PlainDecimal}'s exact case; NaN otherwise, and the caller reads the field itself.
+     * Field i, blanks around it dropped, as a plain decimal in {@link PlainDecimal}'s exact case
+     * (read with the record when it was read in place); NaN when it is not one, and the caller
+     * reads the field's text itself.
      */
-    double value(int i) {
-        return values[i];
+    double decimal(int i) {
+        double v = values[i];
+        if (!Double.isNaN(v) || !ascii[i]) {
+            return v;
+        }
+        return decimals.read(fieldBytes, trimmedStart(i), trimmedEnd(i));
     }
 
-    /** The bytes behind every field; field i is {@code [start(i), end(i))}. */
-    byte[] bytes() {
-        return fieldBytes;
-    }
-
-    int start(int i) {
-        return starts[i];
-    }
-
-    int end(int i) {
-        return ends[i];
+    /** True when field i is empty or only characters up to U+0020. */
+    boolean isBlank(int i) {
+        return trimmedEnd(i) <= trimmedStart(i);
     }
 
     /** Where field i starts once characters up to U+0020 are dropped ({@link String#trim}'s rule; in UTF-8 they are single ASCII bytes). */
-    int trimmedStart(int i) {
+    private int trimmedStart(int i) {
         int from = starts[i];
         while (from < ends[i] && (fieldBytes[from] & 0xFF) <= ' ') {
             from++;
@@ -151,7 +143,7 @@ final class CsvRecords {
     }
 
     /** Where field i ends once trailing characters up to U+0020 are dropped; at or before {@link #trimmedStart} when it is blank. */
-    int trimmedEnd(int i) {
+    private int trimmedEnd(int i) {
         int to = ends[i];
         while (to > starts[i] && (fieldBytes[to - 1] & 0xFF) <= ' ') {
             to--;

@@ -38,9 +38,13 @@ final class PlainDecimal {
      * NaN when it is not (not a decimal at all, or one for the general path).
      */
     static double parse(byte[] bytes, int from, int to) {
-        PlainDecimal reader = new PlainDecimal();
-        double v = reader.readPrefix(bytes, from, to);
-        return reader.stop == to ? v : Double.NaN;
+        return new PlainDecimal().read(bytes, from, to);
+    }
+
+    /** {@link #parse}, without a new reader: the value of {@code bytes[from, to)}, or NaN. */
+    double read(byte[] bytes, int from, int to) {
+        double v = readPrefix(bytes, from, to);
+        return stop == to ? v : Double.NaN;
     }
 
     /**

@@ -29,7 +29,8 @@ final class CellDecimalBench {
         for (int c = 0; c < cells; c++) {
             expected[c] = Double.parseDouble(new String(csv, bounds[2 * c], bounds[2 * c + 1] - bounds[2 * c], StandardCharsets.US_ASCII));
         }
-        Reader plain = (b, from, to) -> PlainDecimal.parse(b, from, to);
+        PlainDecimal decimals = new PlainDecimal();
+        Reader plain = decimals::read;
         Reader checkedLibrary = (b, from, to) -> inTraceAlphabet(b, from, to) ? JavaDoubleParser.parseDouble(b, from, to - from) : Double.NaN;
         Reader library = (b, from, to) -> JavaDoubleParser.parseDouble(b, from, to - from);
         Reader jdk = (b, from, to) -> Double.parseDouble(new String(b, from, to - from, StandardCharsets.US_ASCII));
