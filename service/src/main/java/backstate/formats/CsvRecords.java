@@ -17,6 +17,13 @@ import java.util.List;
  * ({@link #text}) — the numeric cells of a trace never become Strings. Malformed UTF-8 decodes to
  * U+FFFD, as the decoding reader this replaces did, and field lengths are counted in decoded
  * characters.
+ *
+ * <p>A record that lies whole in the block and has only plain fields (no quote, no blank or control
+ * byte, no non-ASCII byte: nearly every record of a trace) is read in place: its fields are
+ * ranges of the block, nothing copied. A field that starts with a plain decimal is read as a number
+ * on the way ({@link PlainDecimal#readPrefix}, {@link #decimal}), so a numeric cell is passed over
+ * once; the end of any other field is found eight bytes at a time ({@link PlainFieldScan}). Any
+ * other record is read by the byte loop, which also words every refusal.
  */
 final class CsvRecords {
     /** Longest field accepted; numbers and names are far shorter, so a longer one is hostile input. */
@@ -37,12 +44,16 @@ final class CsvRecords {
     private long line = 1;
     private long recordLine = 1;
 
-    /** The current record's fields, unquoted, back to back in {@code content}. */
+    /** The current record's fields, unquoted, back to back in {@code content}, unless read in place. */
     private byte[] content = new byte[256];
+    /** Where the current record's fields are: {@code content}, or {@code block} for a record read in place. */
+    private byte[] fieldBytes = content;
     private int contentLength;
     private final int[] starts;
     private final int[] ends;
     private final boolean[] ascii;
+    private final double[] values;
+    private final PlainDecimal decimals = new PlainDecimal();
     private int fields;
 
     /**
@@ -58,6 +69,7 @@ final class CsvRecords {
         this.starts = new int[capacity];
         this.ends = new int[capacity];
         this.ascii = new boolean[capacity];
+        this.values = new double[capacity];
     }
 
     /** Line number where the record last returned started. */
@@ -91,7 +103,7 @@ final class CsvRecords {
 
     /** Field i decoded (malformed UTF-8 as U+FFFD). */
     String text(int i) {
-        return new String(content, starts[i], ends[i] - starts[i], StandardCharsets.UTF_8);
+        return new String(fieldBytes, starts[i], ends[i] - starts[i], StandardCharsets.UTF_8);
     }
 
     /** Every field of the current record, decoded. */
@@ -103,43 +115,47 @@ final class CsvRecords {
         return out;
     }
 
-    /** True when field i is pure ASCII, so its bytes are its characters. */
-    boolean isAscii(int i) {
-        return ascii[i];
+    /**
+     * Field i, blanks around it dropped, as a plain decimal in {@link PlainDecimal}'s exact case
+     * (read with the record when it was read in place); NaN when it is not one, and the caller
+     * reads the field's text itself.
+     */
+    double decimal(int i) {
+        double v = values[i];
+        if (!Double.isNaN(v) || !ascii[i]) {
+            return v;
+        }
+        return decimals.read(fieldBytes, trimmedStart(i), trimmedEnd(i));
     }
 
-    /** The bytes behind every field; field i is {@code [start(i), end(i))}. */
-    byte[] bytes() {
-        return content;
-    }
-
-    int start(int i) {
-        return starts[i];
-    }
-
-    int end(int i) {
-        return ends[i];
+    /** True when field i is empty or only characters up to U+0020. */
+    boolean isBlank(int i) {
+        return trimmedEnd(i) <= trimmedStart(i);
     }
 
     /** Where field i starts once characters up to U+0020 are dropped ({@link String#trim}'s rule; in UTF-8 they are single ASCII bytes). */
-    int trimmedStart(int i) {
+    private int trimmedStart(int i) {
         int from = starts[i];
-        while (from < ends[i] && (content[from] & 0xFF) <= ' ') {
+        while (from < ends[i] && (fieldBytes[from] & 0xFF) <= ' ') {
             from++;
         }
         return from;
     }
 
     /** Where field i ends once trailing characters up to U+0020 are dropped; at or before {@link #trimmedStart} when it is blank. */
-    int trimmedEnd(int i) {
+    private int trimmedEnd(int i) {
         int to = ends[i];
-        while (to > starts[i] && (content[to - 1] & 0xFF) <= ' ') {
+        while (to > starts[i] && (fieldBytes[to - 1] & 0xFF) <= ' ') {
             to--;
         }
         return to;
     }
 
     private void record() throws IOException {
+        if (plainRecord()) {
+            fieldBytes = block;
+            return;
+        }
         fields = 0;
         contentLength = 0;
         int fieldStart = 0;
@@ -184,6 +200,7 @@ final class CsvRecords {
                 if (c != EOF) {
                     consumeLineEnd(c);
                 }
+                fieldBytes = content;
                 return;
             }
             if (wasQuoted) {
@@ -192,6 +209,56 @@ final class CsvRecords {
             }
             fieldAscii = append(fieldStart, fieldAscii, c);
         }
+    }
+
+    /**
+     * Reads the record at the read position in place when it ends in the block with a line end and
+     * its fields are plain, no longer than {@value #MAX_FIELD_LENGTH} and no more than the limit;
+     * otherwise consumes nothing and returns false, and the byte loop reads (or refuses) it.
+     */
+    private boolean plainRecord() {
+        byte[] b = block;
+        int end = filled;
+        int from = position;
+        for (int n = 0; n < fieldLimit; n++) {
+            double v = decimals.readPrefix(b, from, end);
+            int at = decimals.stop(); // every byte before it is plain: a digit, sign, point or E
+            if (at < end && !PlainFieldScan.isSpecial(b[at])) {
+                v = Double.NaN; // the field goes on after a decimal's bytes: not a number
+                at = PlainFieldScan.nextSpecial(b, at, end);
+            }
+            if (at == end || at - from > MAX_FIELD_LENGTH) {
+                return false;
+            }
+            starts[n] = from;
+            ends[n] = at;
+            ascii[n] = true;
+            values[n] = v;
+            if (b[at] == ',') {
+                from = at + 1;
+                continue;
+            }
+            int next = lineEndAfter(b, at, end);
+            if (next < 0) {
+                return false;
+            }
+            position = next;
+            fields = n + 1;
+            line++;
+            return true;
+        }
+        return false;
+    }
+
+    /** Where the record after a line end at {@code at} starts (past CRLF, CR or LF); -1 when b[at] is no line end or CR is the block's last byte. */
+    private static int lineEndAfter(byte[] b, int at, int end) {
+        if (b[at] == '\n') {
+            return at + 1;
+        }
+        if (b[at] != '\r' || at + 1 == end) {
+            return -1;
+        }
+        return b[at + 1] == '\n' ? at + 2 : at + 1;
     }
 
     /**
@@ -247,6 +314,7 @@ final class CsvRecords {
         starts[fields] = fieldStart;
         ends[fields] = contentLength;
         ascii[fields] = fieldAscii;
+        values[fields] = Double.NaN;
         fields++;
     }
 

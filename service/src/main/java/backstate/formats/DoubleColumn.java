@@ -70,9 +70,7 @@ final class DoubleColumn {
      */
     double[][] takeSegments() {
         double[][] taken = segments;
-        segments = new double[INITIAL_SEGMENTS][];
-        current = null;
-        size = 0;
+        clear();
         return taken;
     }
 
@@ -82,15 +80,56 @@ final class DoubleColumn {
      * after.
      */
     void moveTo(double[] out, int at, int stride) {
-        int k = 0;
-        for (int s = 0; k < size; s++) {
-            double[] segment = segments[s];
-            segments[s] = null;
-            int count = Math.min(SEGMENT, size - k);
-            for (int i = 0; i < count; i++, k++) {
-                out[at + k * stride] = segment[i];
+        for (int s = 0; s * SEGMENT < size; s++) {
+            moveSegment(s, out, at, stride);
+        }
+        clear();
+    }
+
+    /**
+     * Moves n values of every column into the row-major {@code out}: value k of column j to
+     * {@code out[k * columns.length + j]}, NaN for a null column. It goes a segment of all columns
+     * at a time, so each stretch of {@code out} is written while it is in cache, instead of once
+     * a column across the whole array; each segment is let go of once copied and the columns are
+     * empty after.
+     */
+    static void interleave(DoubleColumn[] columns, int n, double[] out) {
+        int width = columns.length;
+        for (DoubleColumn column : columns) {
+            if (column != null && column.size != n) {
+                throw new IllegalStateException("got a column of " + column.size + " values, expected " + n);
             }
         }
+        for (int s = 0; s * SEGMENT < n; s++) {
+            for (int j = 0; j < width; j++) {
+                if (columns[j] != null) {
+                    columns[j].moveSegment(s, out, j, width);
+                } else {
+                    for (int k = s * SEGMENT, end = Math.min(n, k + SEGMENT); k < end; k++) {
+                        out[k * width + j] = Double.NaN;
+                    }
+                }
+            }
+        }
+        for (DoubleColumn column : columns) {
+            if (column != null) {
+                column.clear();
+            }
+        }
+    }
+
+    /** Segment s's values to {@code out[at + k * stride]} for their indices k, then lets go of it. */
+    private void moveSegment(int s, double[] out, int at, int stride) {
+        double[] segment = segments[s];
+        segments[s] = null;
+        int from = s * SEGMENT;
+        int count = Math.min(SEGMENT, size - from);
+        for (int i = 0, o = at + from * stride; i < count; i++, o += stride) {
+            out[o] = segment[i];
+        }
+    }
+
+    private void clear() {
         segments = new double[INITIAL_SEGMENTS][];
         current = null;
         size = 0;

@@ -79,19 +79,9 @@ public final class ParsedColumns {
         int p = outputs.length;
         int m = inputs.length;
         double[] y = new double[n * p];
-        for (int j = 0; j < p; j++) {
-            if (outputs[j] == null) {
-                for (int k = 0; k < n; k++) {
-                    y[k * p + j] = Double.NaN;
-                }
-            } else {
-                outputs[j].moveTo(y, j, p);
-            }
-        }
+        DoubleColumn.interleave(outputs, n, y);
         double[] u = new double[n * m];
-        for (int i = 0; i < m; i++) {
-            inputs[i].moveTo(u, i, m);
-        }
+        DoubleColumn.interleave(inputs, n, u);
         return new ParsedTrace(new Trace(times, y, u, p, m, noiseSigmaOrNull), options);
     }
 }

@@ -203,16 +203,12 @@ public final class TraceReader {
 
     /** The time cell of the current record: a plain decimal read from its bytes, else the general path. */
     private static void csvTime(CsvRecords records, int i, TraceTimes times) {
-        if (records.isAscii(i)) {
-            double v = PlainDecimal.parse(records.bytes(), records.trimmedStart(i), records.trimmedEnd(i));
-            if (!Double.isNaN(v)) {
-                if (!times.add(v, false)) {
-                    throw times.refusal(timeField(records.line()), v, false);
-                }
-                return;
-            }
+        double v = records.decimal(i);
+        if (Double.isNaN(v)) {
+            csvTime(records.text(i), timeField(records.line()), times);
+        } else if (!times.add(v, false)) {
+            throw times.refusal(timeField(records.line()), v, false);
         }
-        csvTime(records.text(i), timeField(records.line()), times);
     }
 
     /** The general path for a time cell: a decimal number of seconds or an RFC 3339 time. */
@@ -243,16 +239,9 @@ public final class TraceReader {
      * which decides and words the answer, so both paths accept, refuse and read alike.
      */
     private static double csvNumber(CsvRecords records, int i, String column, boolean missingAllowed) {
-        if (records.isAscii(i)) {
-            int from = records.trimmedStart(i);
-            int to = records.trimmedEnd(i);
-            if (to <= from && missingAllowed) {
-                return Double.NaN;
-            }
-            double v = PlainDecimal.parse(records.bytes(), from, to);
-            if (!Double.isNaN(v)) {
-                return v;
-            }
+        double v = records.decimal(i);
+        if (!Double.isNaN(v) || missingAllowed && records.isBlank(i)) {
+            return v;
         }
         return csvNumber(records.text(i), "line " + records.line() + ", column " + column, missingAllowed);
     }

@@ -21,6 +21,8 @@ final class TraceTimes {
 
     private final DoubleColumn values;
     private Kind kind = Kind.UNDECIDED;
+    /** The last time added, while {@code values} is not empty. */
+    private double last;
     private Long startMicros;
     private String startField;
 
@@ -45,11 +47,11 @@ final class TraceTimes {
             }
             kind = k;
         }
-        int n = values.size();
-        if (n > 0 && !(seconds > values.get(n - 1))) {
+        if (values.size() > 0 && !(seconds > last)) {
             return false;
         }
         values.add(seconds);
+        last = seconds;
         return true;
     }
 

@@ -203,6 +203,75 @@ class CsvFastPathTest {
         assertEquals(1.125, t.trace().output(4999, 0), "4999 % 7 = 1");
     }
 
+    /**
+     * Plain rows across read blocks (64 KiB) and column segments (16 384 values): a prefix of each
+     * length from 0 to 40 bytes moves every record, and every CR of a CRLF, across the block's end.
+     */
+    @Example
+    void plain_records_across_read_blocks_and_segments_read_as_the_oracle_reads() throws IOException {
+        StringBuilder rows = new StringBuilder();
+        for (int k = 0; k < DoubleColumn.SEGMENT + 1000; k++) {
+            rows.append(60 * k + 1).append(',').append(k % 9 == 0 ? "" : String.format(Locale.ROOT, "%.3f", Math.cos(k) * 30))
+                    .append(',').append(-k % 1000 * 0.001).append(',').append(k % 11).append(".5,27")
+                    .append(k % 3 == 0 ? "\r\n" : k % 3 == 1 ? "\n" : "\r");
+        }
+        for (int shift = 0; shift <= 40; shift++) {
+            byte[] body = (HEADER + "\n".repeat(shift) + rows).getBytes(StandardCharsets.UTF_8);
+            assertEquals(outcome(() -> JacksonCsvOracle.readCsv(body, MODEL, Limits.DEFAULTS)),
+                    outcome(() -> readFrom(new ByteArrayInputStream(body), Limits.DEFAULTS)), "shifted by " + shift + " blank lines");
+        }
+    }
+
+    /**
+     * The plain-decimal path at its edges, against {@code parseDouble} bit for bit: 1 to 25 digits
+     * with the point at every place, scales at and beyond ±22 (the largest exact power of ten) and
+     * mantissas at 2^53 (the largest exact integer), subnormals, signed zeros and long runs of
+     * zeros. Where the path must read a cell itself (at most 18 significant digits, mantissa at most
+     * 2^53, scale within ±22) it must not decline it.
+     */
+    @Example
+    void plain_decimal_is_parseDouble_at_the_edges_of_its_exact_case() {
+        String digits = "1234567890123456789012345";
+        for (int n = 1; n <= 25; n++) {
+            for (int point = 0; point <= n; point++) {
+                for (String exponent : List.of("", "e0", "e-22", "e22", "e-23", "e23", "E+7", "e-0007", "e-30", "e30")) {
+                    for (String sign : List.of("", "-", "+")) {
+                        assertPlainDecimalExact(sign + digits.substring(0, point) + "." + digits.substring(point, n) + exponent);
+                        assertPlainDecimalExact(sign + digits.substring(0, n) + exponent);
+                    }
+                }
+            }
+        }
+        for (int zeros = 0; zeros <= 30; zeros++) {
+            for (String text : List.of("0." + "0".repeat(zeros) + "1", "1" + "0".repeat(zeros), "0".repeat(zeros + 1) + "7.5",
+                    "-0." + "0".repeat(zeros), "1." + "0".repeat(zeros) + "1", "0".repeat(zeros) + ".0e-5", "5" + "0".repeat(zeros) + "e-22")) {
+                assertPlainDecimalExact(text);
+            }
+        }
+        for (String text : List.of("9007199254740992", "9007199254740993", "9007199254740991e-22", "900719925474099.2e-7",
+                "4.9e-324", "2.4703282292062327e-324", "2.2250738585072011e-308", "-0", "-0.0", "+0e5", "-0e-400", "0e0")) {
+            assertPlainDecimalExact(text);
+        }
+    }
+
+    /**
+     * {@code text} is read as parseDouble reads it, bit for bit, or declined; declined only outside the
+     * exact case, which {@link java.math.BigDecimal} measures as written: its unscaled value is the
+     * digits from the first non-zero one, its scale the fraction digits less the exponent.
+     */
+    private static void assertPlainDecimalExact(String text) {
+        byte[] bytes = text.getBytes(StandardCharsets.US_ASCII);
+        double fast = PlainDecimal.parse(bytes, 0, bytes.length);
+        java.math.BigDecimal written = new java.math.BigDecimal(text);
+        boolean exactCase = written.signum() == 0 || written.precision() <= 18
+                && written.unscaledValue().abs().compareTo(java.math.BigInteger.TWO.pow(53)) <= 0 && Math.abs(written.scale()) <= 22;
+        if (Double.isNaN(fast)) {
+            assertTrue(!exactCase, text + " is in the exact case but was declined");
+            return;
+        }
+        assertEquals(Double.doubleToRawLongBits(Double.parseDouble(text)), Double.doubleToRawLongBits(fast), text);
+    }
+
     // ---- generated bodies: the reader and the oracle give the same outcome
 
     @Property(tries = 3000)
@@ -406,8 +475,29 @@ class CsvFastPathTest {
         }
     }
 
+    /**
+     * Reads the body twice and requires the same trace or the same refusal, word for word: in 7-byte
+     * reads, where records cross read blocks everywhere and the byte loop reads them, and whole, where
+     * records lie in one block and plain ones are read in place.
+     */
     private static ParsedTrace read(byte[] body, Limits limits) throws IOException {
-        return new TraceReader(limits).readCsv(stream(body), MODEL, TraceOptions.NONE);
+        assertEquals(described(() -> readFrom(stream(body), limits)), described(() -> readFrom(new ByteArrayInputStream(body), limits)),
+                "read 7 bytes at a time and read whole");
+        return readFrom(stream(body), limits);
+    }
+
+    private static ParsedTrace readFrom(InputStream in, Limits limits) throws IOException {
+        return new TraceReader(limits).readCsv(in, MODEL, TraceOptions.NONE);
+    }
+
+    /** {@link #outcome}, but a refusal with its class and words. */
+    private static String described(Read read) throws IOException {
+        try {
+            ParsedTrace t = read.run();
+            return outcome(() -> t);
+        } catch (InputException | ModelException e) {
+            return e.getClass().getSimpleName() + ": " + e.getMessage();
+        }
     }
 
     /** Hands out at most 7 bytes a read, so records cross block boundaries everywhere. */

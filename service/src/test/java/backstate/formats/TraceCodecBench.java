@@ -33,7 +33,8 @@ import java.util.zip.Inflater;
  * (CSV decimals as a gateway writes them) of 10^3 and 10^6 samples and on a 10^6-sample trace of
  * arbitrary doubles (every column raw). Before the table, the CSV parse of the demo-like traces by
  * our reader ({@link TraceReader}) and by jackson-dataformat-csv with {@link Double#parseDouble}
- * into the same columns. Prints Markdown; asserts nothing. Run by {@code bench/codec.sh}.
+ * into the same columns, and the cells' decimals alone by our {@link PlainDecimal} and by a library
+ * ({@link CellDecimalBench}). Prints Markdown; asserts nothing. Run by {@code bench/codec.sh}.
  */
 public final class TraceCodecBench {
     private static final ThreadMXBean THREADS = (ThreadMXBean) ManagementFactory.getThreadMXBean();
@@ -66,6 +67,7 @@ public final class TraceCodecBench {
                 time(runs, SMALL_BATCH, () -> readCsv(smallCsv, model)), time(runs, SMALL_BATCH, () -> jacksonColumns(smallCsv)));
         System.out.printf(Locale.ROOT, "| demo-like 10^6 (%d bytes) | %s | %s |%n%n", largeCsv.length,
                 time(SLOW_RUNS, 1, () -> readCsv(largeCsv, model)), time(SLOW_RUNS, 1, () -> jacksonColumns(largeCsv)));
+        CellDecimalBench.print(largeCsv, runs);
         ParsedTrace arbitrary = arbitrary(1_000_000, 2, 2);
 
         System.out.println("| trace | format | bytes | of format 1 | encode min / median | decode min / median | decode allocated |");

@@ -4,6 +4,7 @@ import backstate.formats.DocumentSolver;
 import backstate.formats.Json;
 import backstate.formats.Limits;
 import backstate.formats.ModelDocument;
+import backstate.formats.ParsedColumns;
 import backstate.formats.ParsedTrace;
 import backstate.formats.TraceCodec;
 import backstate.formats.TraceOptions;
@@ -12,6 +13,7 @@ import java.io.ByteArrayInputStream;
 import java.io.IOException;
 import java.lang.management.ManagementFactory;
 import java.lang.management.MemoryMXBean;
+import java.lang.management.ThreadMXBean;
 import java.nio.file.Files;
 import java.nio.file.Path;
 import java.time.Duration;
@@ -26,8 +28,9 @@ import java.util.concurrent.atomic.AtomicLong;
  * Large uploads, end to end and offline (run by {@code bench/load/upload.sh}, never by the test
  * suite; it prints figures and asserts nothing). For each trace size it
  * <ol>
- *   <li>times the parse ({@link TraceReader}) and the solve ({@link DocumentSolver}) of the same CSV
- *       in this JVM, warm, and samples the live heap of parse + stored encoding ({@link TraceCodec})
+ *   <li>times the parse ({@link TraceReader}'s columns, what the intake runs; also in this thread's CPU
+ *       time, which a loaded machine disturbs less), the assembly of the engine's row-major trace
+ *       from them, and the solve ({@link DocumentSolver}) of the same CSV in this JVM, warm, and samples the live heap of parse + stored encoding ({@link TraceCodec})
  *       by forcing a GC every few milliseconds: what the intake's own code holds;</li>
  *   <li>posts it to the running server {@code runs} times, each after a forced GC there
  *       ({@code jcmd GC.run}), and reads the server's resident memory from {@code /proc}: after the
@@ -50,6 +53,7 @@ public final class UploadBench {
     /** Settling time after a forced GC before reading RSS (G1 uncommits concurrently). */
     private static final long SETTLE_MILLIS = 1500;
     private static final String SOLVE_TIMER = "backstate_solve_duration_seconds";
+    private static final ThreadMXBean THREADS = ManagementFactory.getThreadMXBean();
 
     private final Http http;
     private final ServerDb db;
@@ -85,31 +89,41 @@ public final class UploadBench {
      * median over warm runs of each run's peak above the RSS after the forced GC just before it.
      */
     record Row(int samples, double bodyMb, double parse, double solve, double liveParseEncode, double post, double job,
-               double serverSolve, double idle, double peakAbove, double peakAboveIdle, double afterGcAbove) {
+               double serverSolve, double idle, double peakAbove, double peakAboveIdle, double afterGcAbove, double parseCpu,
+               double assemble) {
 
         /** One line for bench/load/upload.sh to gather into its table. */
         void print() {
-            System.out.printf(Locale.ROOT, "ROW %d %.2f %.4f %.4f %.1f %.4f %.4f %.4f %.1f %.1f %.1f %.1f%n", samples, bodyMb, parse,
-                    solve, liveParseEncode, post, job, serverSolve, idle, peakAbove, peakAboveIdle, afterGcAbove);
+            System.out.printf(Locale.ROOT, "ROW %d %.2f %.4f %.4f %.1f %.4f %.4f %.4f %.1f %.1f %.1f %.1f %.4f %.4f%n", samples, bodyMb,
+                    parse, solve, liveParseEncode, post, job, serverSolve, idle, peakAbove, peakAboveIdle, afterGcAbove, parseCpu, assemble);
         }
     }
 
     private Row measure(int samples, int runs) throws Exception {
         byte[] body = "json".equals(format) ? traces.json(samples, 42) : traces.csv(samples, 42);
         double[] parse = new double[runs];
+        double[] parseCpu = new double[runs];
+        double[] assemble = new double[runs];
         double[] solve = new double[runs];
         for (int r = 0; r < runs; r++) {
+            long c0 = THREADS.getCurrentThreadCpuTime();
             long t0 = System.nanoTime();
-            ParsedTrace parsed = read(body);
+            ParsedColumns columns = read(body);
             long t1 = System.nanoTime();
-            DocumentSolver.solve(model, parsed, false, Limits.DEFAULTS);
+            long c1 = THREADS.getCurrentThreadCpuTime();
+            ParsedTrace parsed = columns.assemble();
             long t2 = System.nanoTime();
+            DocumentSolver.solve(model, parsed, false, Limits.DEFAULTS);
+            long t3 = System.nanoTime();
             parse[r] = (t1 - t0) / 1e9;
-            solve[r] = (t2 - t1) / 1e9;
+            parseCpu[r] = (c1 - c0) / 1e9;
+            assemble[r] = (t2 - t1) / 1e9;
+            solve[r] = (t3 - t2) / 1e9;
         }
         double live = liveHeapOfParseAndEncode(body);
-        System.out.printf(Locale.ROOT, "%d samples, %.1f MB %s: offline parse %s s, solve %s s; live heap of parse + encode %.1f MB%n",
-                samples, body.length / MB, format, seconds(parse), seconds(solve), live);
+        System.out.printf(Locale.ROOT, "%d samples, %.1f MB %s: offline parse %s s (thread CPU %s s), assemble %s s, solve %s s;"
+                        + " live heap of parse + encode %.1f MB%n",
+                samples, body.length / MB, format, seconds(parse), seconds(parseCpu), seconds(assemble), seconds(solve), live);
         double[] post = new double[runs];
         double[] job = new double[runs];
         double[] serverSolve = new double[runs];
@@ -145,13 +159,14 @@ public final class UploadBench {
                 after, after - idle[0]);
         return new Row(samples, body.length / MB, median(warm(parse)), median(warm(solve)), live, median(warm(post)),
                 median(warm(job)), median(warm(serverSolve)), idle[0], median(warmAbove),
-                Arrays.stream(peak).max().orElseThrow() - idle[0], after - idle[0]);
+                Arrays.stream(peak).max().orElseThrow() - idle[0], after - idle[0], median(warm(parseCpu)), median(warm(assemble)));
     }
 
-    private ParsedTrace read(byte[] body) throws IOException {
+    /** The body's columns, as the intake reads them (not yet the engine's row-major trace). */
+    private ParsedColumns read(byte[] body) throws IOException {
         TraceReader reader = new TraceReader(Limits.DEFAULTS);
-        return "json".equals(format) ? reader.readJson(new ByteArrayInputStream(body), model)
-                : reader.readCsv(new ByteArrayInputStream(body), model, TraceOptions.NONE);
+        return "json".equals(format) ? reader.readJsonColumns(new ByteArrayInputStream(body), model)
+                : reader.readCsvColumns(new ByteArrayInputStream(body), model, TraceOptions.NONE, null);
     }
 
     /**
