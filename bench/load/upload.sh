@@ -12,6 +12,8 @@
 #   bench/load/upload.sh                       # about 4 minutes on 2 cores
 #   SIZES=1000000 RUNS=3 FORMAT=json bench/load/upload.sh
 #   SERVER_HEAP=300m bench/load/upload.sh      # the server's -Xmx (default 1g, see bench/README.md "Uploads")
+#   OFFLINE_JAVA_OPTS=-XX:TieredStopAtLevel=1 bench/load/upload.sh   # the offline parse and solve on the
+#                                              # service's compiler (default: the JVM's, as the baseline was)
 source "$(dirname "$0")/common.sh"
 # SERVER_JAR: another build's jar for the server (e.g. main before this change), same driver (common.sh).
 echo "load average before: $(cut -d' ' -f1-3 /proc/loadavg)"
@@ -26,7 +28,8 @@ export SERVER_JAVA_OPTS="${SERVER_JAVA_OPTS:--XX:+UseG1GC -Xms64m -XX:NativeMemo
 for size in ${SIZES:-100000 1000000 2000000}; do
   start_server "${SERVER_HEAP:-1g}"
   jcmd "$SERVER_PID" VM.native_memory baseline >/dev/null
-  java -Xmx"${DRIVER_HEAP:-3g}" -Dbackstate.testData="$ROOT/test-data" -cp "$CP" backstate.reliability.UploadBench \
+  # shellcheck disable=SC2086 # OFFLINE_JAVA_OPTS may hold several options
+  java ${OFFLINE_JAVA_OPTS:-} -Xmx"${DRIVER_HEAP:-3g}" -Dbackstate.testData="$ROOT/test-data" -cp "$CP" backstate.reliability.UploadBench \
     --base "$BASE" --db "$DB" --pid "$SERVER_PID" --sizes "$size" --runs "${RUNS:-4}" --format "${FORMAT:-csv}" \
     | tee -a "$ROWS" | grep -v '^ROW'
   echo "  server memory by NMT category, committed after the last upload against start-up (before a GC):"
