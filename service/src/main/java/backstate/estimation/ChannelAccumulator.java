@@ -97,6 +97,11 @@ final class ChannelAccumulator {
         whiteness.append(later.whiteness);
     }
 
+    /** Σ r² over the present samples streamed so far. */
+    double residualSquares() {
+        return residualSquares;
+    }
+
     private static double[] ones(int length) {
         double[] out = new double[length];
         Arrays.fill(out, 1.0);

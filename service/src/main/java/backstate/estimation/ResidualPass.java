@@ -15,7 +15,9 @@ import java.util.concurrent.ForkJoinTask;
  * <p>Long traces (N ≥ {@link #PARALLEL_MIN_SAMPLES}) run as {@link #PARALLEL_CHUNKS} contiguous
  * chunks on two threads. A chunk needs the true state at its first sample, which depends on every
  * earlier input; it comes from {@link StateSweep}, a state-only simulation by blocks of equal
- * steps, run on the caller before the chunks start. Each chunk then simulates its own range from
+ * steps, run on the caller before the chunks start, unless the equation pass was joined at the
+ * same sample and hands on the state there ({@link EquationPass.ChunkStart}: Φ(t_m − t0)·x̂0 + f_m,
+ * no sweep). Each chunk then simulates its own range from
  * its start state and streams into its own accumulators and its own range of the series arrays,
  * and the accumulators are joined in trace order ({@link ChannelAccumulator#append}). Wall time ≈
  * sweep to the last chunk start + N/C samples of this pass. Measured on the benchmark model
@@ -81,6 +83,16 @@ final class ResidualPass {
         return run(ctx, solution, presentCounts, chunksFor(ctx.trace.samples()));
     }
 
+    /**
+     * As {@link #run(SolveContext, double[], long[])}, taking the state at {@code join}'s sample from
+     * the equation pass (Φ·x̂0 + f, exact) instead of sweeping to it, when that sample is where the
+     * second chunk starts.
+     */
+    static Result run(SolveContext ctx, double[] solution, long[] presentCounts, EquationPass.ChunkStart join) {
+        int chunks = chunksFor(ctx.trace.samples());
+        return new ResidualPass(ctx, solution, presentCounts).run(chunks, join);
+    }
+
     /** Chunks used for a trace of this many samples. */
     static int chunksFor(int samples) {
         return samples >= PARALLEL_MIN_SAMPLES ? PARALLEL_CHUNKS : 1;
@@ -93,10 +105,10 @@ final class ResidualPass {
             throw new IllegalArgumentException("chunks: got " + chunks + ", expected 1 to " + samples
                     + " (the number of samples)");
         }
-        return new ResidualPass(ctx, solution, presentCounts).run(chunks);
+        return new ResidualPass(ctx, solution, presentCounts).run(chunks, null);
     }
 
-    private Result run(int chunks) {
+    private Result run(int chunks, EquationPass.ChunkStart join) {
         int samples = ctx.trace.samples();
         Chunk[] done = new Chunk[chunks];
         if (chunks == 1) {
@@ -106,8 +118,10 @@ final class ResidualPass {
             for (int c = 0; c <= chunks; c++) {
                 bounds[c] = (int) ((long) samples * c / chunks);
             }
-            double[][] starts = StateSweep.statesAt(ctx, ctx.transitions, Arrays.copyOf(solution, ctx.n),
-                    Arrays.copyOf(bounds, chunks));
+            double[][] starts = chunks == 2 && join != null && join.sample() == bounds[1]
+                    ? new double[][] {Arrays.copyOf(solution, ctx.n), join.stateFrom(solution, ctx.n)}
+                    : StateSweep.statesAt(ctx, ctx.transitions, Arrays.copyOf(solution, ctx.n),
+                            Arrays.copyOf(bounds, chunks));
             List<ForkJoinTask<Chunk>> forked = new ArrayList<>(chunks - 1);
             for (int c = 1; c < chunks; c++) {
                 int from = bounds[c];
@@ -141,11 +155,14 @@ final class ResidualPass {
             }
         }
         List<ChannelDiagnostics> diagnostics = new ArrayList<>(ctx.p);
+        double whitened = 0.0;
         for (int j = 0; j < ctx.p; j++) {
             diagnostics.add(channels[j].finish(ctx.noise.source(j)));
+            double sigma = ctx.noise.sigma(j);
+            whitened += channels[j].residualSquares() / (sigma * sigma);
         }
         Kept series = fitted == null ? null : new Kept(keptTimes(), measured, fitted, residuals, states);
-        return new Result(diagnostics, series, referenceState, done[done.length - 1].endState());
+        return new Result(diagnostics, series, referenceState, done[done.length - 1].endState(), whitened);
     }
 
     /**
@@ -271,6 +288,8 @@ final class ResidualPass {
     record Kept(double[] times, double[] measured, double[] fitted, double[] residuals, double[] states) {
     }
 
-    record Result(List<ChannelDiagnostics> channels, Kept series, double[] referenceState, double[] endState) {
+    /** @param whitenedSquares Σ (r/σ)² over every present output: the residual sum of squares at x̂0 */
+    record Result(List<ChannelDiagnostics> channels, Kept series, double[] referenceState, double[] endState,
+                  double whitenedSquares) {
     }
 }
