@@ -75,31 +75,12 @@ public final class InitialStateEstimator {
         requireCompatible(model, times, outputs, inputs, options);
         SampleSteps steps = new SampleSteps(model, times[0]);
         long reference = smoothedReference(model, steps, options);
-        long previous = -1;
-        long step = SolveContext.UNEVEN;
-        boolean even = true;
-        for (int k = 0; k < times.length; k++) {
-            long units = steps.unitsOfSample(k, times[k]);
-            if (units == reference) {
-                reference = -1;
-            }
-            if (units == previous) {
-                throw new ModelException("time[" + k + "]", model.isDiscrete()
-                        ? "got a second sample on grid step " + units + ", expected one sample per sample period at most"
-                        : "got a sample less than 1 µs after the previous one, expected times at least 1 µs apart");
-            }
-            if (k == 1) {
-                step = units - previous;
-            } else if (k > 1 && units - previous != step) {
-                even = false;
-            }
-            previous = units;
-        }
-        if (reference >= 0) {
+        StepScan scan = StepScan.of(model, steps, times, reference);
+        if (reference >= 0 && !scan.foundUnits()) {
             throw new ModelException("referenceTime", "got " + options.referenceTime() + ", expected the time of a"
                     + " sample: with process noise the smoothed state is computed at sample times");
         }
-        return even ? step : SolveContext.UNEVEN;
+        return scan.even() ? scan.step() : SolveContext.UNEVEN;
     }
 
     /**
