@@ -62,6 +62,36 @@ final class LjungBox {
         }
     }
 
+    /** As {@link #add} for values[from … from+n−1] in order, with the running sums in locals. */
+    void addAll(double[] values, int from, int n) {
+        for (int i = 0; count + i < lags && i < n; i++) {
+            first[(int) count + i] = values[from + i];
+        }
+        double s = sum;
+        double squares = sumSquares;
+        for (int i = from; i < from + n; i++) {
+            double r = values[i];
+            s += r;
+            squares += r * r;
+        }
+        sum = s;
+        sumSquares = squares;
+        count += n;
+        if (lags == 0) {
+            return;
+        }
+        int done = 0;
+        while (done < n) {
+            int take = Math.min(n - done, BATCH - batched);
+            System.arraycopy(values, from + done, window, lags + batched, take);
+            batched += take;
+            done += take;
+            if (batched == BATCH) {
+                flush();
+            }
+        }
+    }
+
     /** Adds the batch's lagged products and keeps its last h values as the next batch's history. */
     private void flush() {
         if (batched == 0) {

@@ -173,10 +173,11 @@ final class ResidualPass {
     private Chunk simulate(TransitionCache transitions, int from, int to, double[] state) {
         int p = ctx.p;
         int lift = LiftedStep.SAMPLES;
-        ChannelAccumulator[] channels = new ChannelAccumulator[p];
+        ChannelAccumulator[] accumulators = new ChannelAccumulator[p];
         for (int j = 0; j < p; j++) {
-            channels[j] = new ChannelAccumulator(ctx.noise.sigma(j), presentCounts[j]);
+            accumulators[j] = new ChannelAccumulator(ctx.noise.sigma(j), presentCounts[j]);
         }
+        Gathered channels = new Gathered(accumulators);
         double[] scratch = ctx.stepScratch();
         double[] modelled = new double[lift * p];
         double[] liftedWork = new double[ctx.n + lift * ctx.m];
@@ -207,7 +208,47 @@ final class ResidualPass {
             }
             k++;
         }
-        return new Chunk(channels, referenceState, state);
+        channels.drain();
+        return new Chunk(accumulators, referenceState, state);
+    }
+
+    /**
+     * Present samples' measured values and residuals gathered per channel and handed to the
+     * accumulators {@link ChannelAccumulator#BATCH} at a time ({@link ChannelAccumulator#addAll}:
+     * the same sums in the same order as value by value, with the running figures in locals).
+     */
+    private static final class Gathered {
+        private final ChannelAccumulator[] accumulators;
+        private final double[][] measured;
+        private final double[][] residuals;
+        private final int[] filled;
+
+        Gathered(ChannelAccumulator[] accumulators) {
+            this.accumulators = accumulators;
+            int p = accumulators.length;
+            this.measured = new double[p][ChannelAccumulator.BATCH];
+            this.residuals = new double[p][ChannelAccumulator.BATCH];
+            this.filled = new int[p];
+        }
+
+        void add(int j, double y, double r) {
+            int i = filled[j];
+            measured[j][i] = y;
+            residuals[j][i] = r;
+            i++;
+            if (i == ChannelAccumulator.BATCH) {
+                accumulators[j].addAll(measured[j], residuals[j], 0, i);
+                i = 0;
+            }
+            filled[j] = i;
+        }
+
+        void drain() {
+            for (int j = 0; j < accumulators.length; j++) {
+                accumulators[j].addAll(measured[j], residuals[j], 0, filled[j]);
+                filled[j] = 0;
+            }
+        }
     }
 
     /** True when the series is kept and one of samples k … k+count−1 is a kept one, whose state must be seen. */
@@ -225,14 +266,14 @@ final class ResidualPass {
     }
 
     /** Streams sample k's outputs, modelled[at … at+p−1] before offsets, into the channels and the kept series. */
-    private void record(int k, double[] modelled, int at, ChannelAccumulator[] channels) {
+    private void record(int k, double[] modelled, int at, Gathered channels) {
         int p = ctx.p;
         for (int j = 0; j < p; j++) {
             double yHat = modelled[at + j] + offset(j);
             double y = ctx.trace.output(k, j);
             double r = y - yHat;
             if (!Double.isNaN(y)) {
-                channels[j].add(y, r);
+                channels.add(j, y, r);
             }
             if (fitted != null && k % stride == 0) {
                 int slot = k / stride * p + j;
