@@ -121,17 +121,24 @@ final class BlockProjection {
         }
         int rows = samples * p;
         double[] v = new double[q * n];
+        double[] sampleWeights = new double[q * p];
+        double[] block = new double[q * m];
+        double[] carried = new double[q * m];
+        double[] next = new double[q * n];
+        double[] fromOutputs = new double[q * n];
         for (int l = samples - 1; l >= 0; l--) {
-            double[] sampleWeights = Matrices.block(outputWeights, rows, 0, l * p, q, p);
-            double[] block = Matrices.multiply(sampleWeights, d, q, p, m);
-            double[] carried = Matrices.multiply(v, step.input(), q, n, m);
+            for (int i = 0; i < q; i++) {
+                System.arraycopy(outputWeights, i * rows + l * p, sampleWeights, i * p, p);
+            }
+            Matrices.multiplyInto(sampleWeights, d, q, p, m, block);
+            Matrices.multiplyInto(v, step.input(), q, n, m, carried);
             for (int i = 0; i < q; i++) {
                 for (int col = 0; col < m; col++) {
                     out[i * samples * m + l * m + col] = block[i * m + col] + carried[i * m + col];
                 }
             }
-            double[] next = Matrices.multiply(v, step.transition(), q, n, n);
-            double[] fromOutputs = Matrices.multiply(sampleWeights, c, q, p, n);
+            Matrices.multiplyInto(v, step.transition(), q, n, n, next);
+            Matrices.multiplyInto(sampleWeights, c, q, p, n, fromOutputs);
             for (int i = 0; i < q * n; i++) {
                 v[i] = fromOutputs[i] + next[i];
             }

@@ -50,7 +50,8 @@ final class ChunkedEquations {
         return new EquationPass.Result(head.factors(), counts, null, new EquationPass.ChunkStart(middle, phi, forced));
     }
 
-    private static EquationPass.Result await(CompletableFuture<EquationPass.Result> future) {
+    /** The future's value; a runtime exception thrown inside it is rethrown as itself, not wrapped. */
+    static <T> T await(CompletableFuture<T> future) {
         try {
             return future.join();
         } catch (CompletionException e) {

@@ -7,7 +7,8 @@ package backstate.estimation;
  * <p>Per sample it updates G_k = C·Φ(t_k) by G_k = G_{k−1}·Φ(h_k) (transitions of one A commute)
  * and the known-input forced response: O(p·n²) per sample, memory O(q² + p·n). Stretches of
  * {@link UniformBlocks#SAMPLES} samples with one step length and no missing value take a faster
- * route (see {@link UniformBlocks}): O(p·q + n²) per sample. Both routes fold the same equations.
+ * route (see {@link UniformBlocks}): O(q·(p + m) + n·m) per sample under the sampled formulation
+ * ({@link BlockProjection}), O(p·q + n²) under the continuous one. All routes fold the same equations.
  * On the block route Φ(t_k) is carried from block start to block start, one n×n product per
  * block, and G is rebuilt from it only when a sample takes the per-sample route again.
  *

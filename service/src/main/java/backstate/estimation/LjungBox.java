@@ -109,20 +109,28 @@ final class LjungBox {
     }
 
     /**
-     * The batch's products r_i·r_{i−k}, k = 1 … 10, in two sweeps of five lags: the previous values
-     * ride in locals shifted one place a value (a sliding window in registers, common practice, no
-     * source), so each sweep loads a value once or twice for its five products, and the ten lags are
-     * ten independent sums, each the plain sum of its batch in trace order. Five lags a sweep keep
-     * the window and the sums within the CPU's registers; ten in one sweep spilled them. The
-     * lag-by-lag loop before both loaded two values a product.
+     * The batch's products r_i·r_{i−k}, k = 1 … 10, in two sweeps of five lags ({@link #addFiveLags}).
+     * Five lags a sweep keep the window and the sums within the CPU's registers; ten in one sweep
+     * spilled them. The lag-by-lag loop before both loaded two values a product.
      */
     private void addTenLags() {
+        addFiveLags(1);
+        addFiveLags(6);
+    }
+
+    /**
+     * Products r_i·r_{i−k} for k = nearest … nearest+4 over the batch: the five partners ride in
+     * locals shifted one place a value (a sliding window in registers, common practice, no source),
+     * so each value is loaded once or twice for its five products, and the lags are five independent
+     * sums, each the plain sum of its batch in trace order.
+     */
+    private void addFiveLags(int nearest) {
         int stop = MAX_LAGS + batched;
-        double b1 = window[9];
-        double b2 = window[8];
-        double b3 = window[7];
-        double b4 = window[6];
-        double b5 = window[5];
+        double e1 = window[MAX_LAGS - nearest];
+        double e2 = window[MAX_LAGS - nearest - 1];
+        double e3 = window[MAX_LAGS - nearest - 2];
+        double e4 = window[MAX_LAGS - nearest - 3];
+        double e5 = window[MAX_LAGS - nearest - 4];
         double p1 = 0.0;
         double p2 = 0.0;
         double p3 = 0.0;
@@ -130,51 +138,22 @@ final class LjungBox {
         double p5 = 0.0;
         for (int i = MAX_LAGS; i < stop; i++) {
             double r = window[i];
-            p1 += r * b1;
-            p2 += r * b2;
-            p3 += r * b3;
-            p4 += r * b4;
-            p5 += r * b5;
-            b5 = b4;
-            b4 = b3;
-            b3 = b2;
-            b2 = b1;
-            b1 = r;
-        }
-        // Lags 6 … 10: r_i pairs with r_{i−6} … r_{i−10}, the window of e1 = r_{i−6} back.
-        double e1 = window[4];
-        double e2 = window[3];
-        double e3 = window[2];
-        double e4 = window[1];
-        double e5 = window[0];
-        double p6 = 0.0;
-        double p7 = 0.0;
-        double p8 = 0.0;
-        double p9 = 0.0;
-        double p10 = 0.0;
-        for (int i = MAX_LAGS; i < stop; i++) {
-            double r = window[i];
-            p6 += r * e1;
-            p7 += r * e2;
-            p8 += r * e3;
-            p9 += r * e4;
-            p10 += r * e5;
+            p1 += r * e1;
+            p2 += r * e2;
+            p3 += r * e3;
+            p4 += r * e4;
+            p5 += r * e5;
             e5 = e4;
             e4 = e3;
             e3 = e2;
             e2 = e1;
-            e1 = window[i - 5];
+            e1 = window[i + 1 - nearest];
         }
-        lagProducts[1] += p1;
-        lagProducts[2] += p2;
-        lagProducts[3] += p3;
-        lagProducts[4] += p4;
-        lagProducts[5] += p5;
-        lagProducts[6] += p6;
-        lagProducts[7] += p7;
-        lagProducts[8] += p8;
-        lagProducts[9] += p9;
-        lagProducts[10] += p10;
+        lagProducts[nearest] += p1;
+        lagProducts[nearest + 1] += p2;
+        lagProducts[nearest + 2] += p3;
+        lagProducts[nearest + 3] += p4;
+        lagProducts[nearest + 4] += p5;
     }
 
     int lags() {

@@ -1,7 +1,6 @@
 package backstate.estimation;
 
 import java.util.concurrent.CompletableFuture;
-import java.util.concurrent.CompletionException;
 
 /**
  * One walk over a trace's sample times, as validation needs it: every time converted to step units
@@ -29,7 +28,7 @@ record StepScan(long step, boolean even, boolean foundUnits) {
         CompletableFuture<StepScan> tail = CompletableFuture.supplyAsync(
                 () -> walk(model, steps, times, middle, samples, sought));
         StepScan head = walk(model, steps, times, 0, middle, sought);
-        return head.then(await(tail));
+        return head.then(ChunkedEquations.await(tail));
     }
 
     /** The findings of this range followed by the adjacent {@code later} one (which checked the pair across the join). */
@@ -66,16 +65,5 @@ record StepScan(long step, boolean even, boolean foundUnits) {
             previous = units;
         }
         return new StepScan(step, even, found);
-    }
-
-    private static StepScan await(CompletableFuture<StepScan> future) {
-        try {
-            return future.join();
-        } catch (CompletionException e) {
-            if (e.getCause() instanceof RuntimeException cause) {
-                throw cause;
-            }
-            throw e;
-        }
     }
 }

@@ -24,8 +24,6 @@ import org.junit.jupiter.params.provider.MethodSource;
  */
 class BlockProjectionTest {
     static final double TOLERANCE = 1e-10;
-    static final double[] SIGMA = {0.02, 0.05};
-    static final double[] OFFSETS = {3.0, -1.5};
 
     static Stream<Arguments> cases() {
         List<Arguments> out = new ArrayList<>();
@@ -115,9 +113,9 @@ class BlockProjectionTest {
     }
 
     /**
-     * Seeded noisy outputs of the model from {@link ChunkTraces#truth} with offsets: one step, a
+     * Seeded noisy outputs of the model ({@link ChunkTraces#noisyOutputs}, with offsets): one step, a
      * gap, jittered steps (continuous: ±200 µs; discrete: 1–3 periods), twice the step, one step;
-     * 12 missing values; a ±1 square wave and a random level held 40 samples as inputs.
+     * 12 missing values; the inputs of {@link ChunkTraces#inputs}.
      */
     static Trace trace(StateSpaceModel model, int samples, long seed) {
         Random random = new Random(seed);
@@ -139,33 +137,11 @@ class BlockProjectionTest {
             times[k] = 10.0 + units * unit;
         }
         times[0] = 10.0;
-        double[] inputs = new double[samples * 2];
-        double level = 0.0;
-        for (int k = 0; k < samples; k++) {
-            if (k % 40 == 0) {
-                level = random.nextGaussian();
-            }
-            inputs[k * 2] = (k / 250) % 2 == 0 ? 1.0 : -1.0;
-            inputs[k * 2 + 1] = level;
-        }
-        Trace noiseless = new Trace(times, new double[samples * 2], inputs, 2, 2, SIGMA);
-        SolveContext ctx = new SolveContext(model, noiseless, EstimationOptions.defaults());
-        double[] x = Arrays.copyOf(ChunkTraces.truth(model), model.states());
-        double[] scratch = ctx.stepScratch();
-        double[] modelled = new double[2];
-        double[] outputs = new double[samples * 2];
-        for (int k = 0; k < samples; k++) {
-            if (k > 0) {
-                ctx.propagate(x, k, ctx.transitions.over(ctx.units(k) - ctx.units(k - 1)), scratch);
-            }
-            ctx.outputs(x, k, scratch, modelled);
-            for (int j = 0; j < 2; j++) {
-                outputs[k * 2 + j] = modelled[j] + OFFSETS[j] + SIGMA[j] * random.nextGaussian();
-            }
-        }
+        double[] inputs = ChunkTraces.inputs(random, samples);
+        double[] outputs = ChunkTraces.noisyOutputs(model, times, inputs, random);
         for (int i = 0; i < 12; i++) {
             outputs[random.nextInt(outputs.length)] = Double.NaN;
         }
-        return new Trace(times, outputs, inputs, 2, 2, SIGMA);
+        return new Trace(times, outputs, inputs, 2, 2, ChunkTraces.SIGMA);
     }
 }
