@@ -69,6 +69,11 @@ final class BlockProjection {
         this.fromState = new double[q];
     }
 
+    /** Bytes a projection holds for these sizes and B samples a block. */
+    static long bytes(int n, int p, int m, int q, int samples) {
+        return Double.BYTES * ((long) q * samples * (p + m) + (long) n * (n + (samples - 1L) * m));
+    }
+
     /** R of the block's H, q×q row-major upper triangular (shared; callers must not write). */
     double[] r() {
         return r;

@@ -24,6 +24,11 @@ final class UniformBlocks {
     static final int UNIFORM = -1;
     /** Factored blocks kept per distinct step length. */
     static final int PLANS = 8;
+    /**
+     * Memory the kept projections may hold per chunk: what {@link #PLANS} factored H take at the model
+     * size limits (25 MB), so the projected route never holds more than the splitting one could.
+     */
+    static final long PROJECTION_BYTES = 25L << 20;
 
     private final SolveContext ctx;
     private final int end;
@@ -44,8 +49,8 @@ final class UniformBlocks {
     /**
      * Projections by step length, on the sampled formulation's route; null on the continuous one's.
      * Each holds q·B·(p + m) + n·(n + (B−1)·m) doubles: 0.07 MB for the benchmark model, 8.4 MB at the
-     * model size limits (against 3.1 MB for a factored H), so {@link #PLANS} of them bound a chunk's
-     * plans at 67 MB there.
+     * model size limits (against 3.1 MB for a factored H), so at most {@link #PLANS} and at most
+     * {@link #PROJECTION_BYTES} of them are kept.
      */
     private final Map<Long, BlockProjection> projections;
 
@@ -65,10 +70,12 @@ final class UniformBlocks {
         this.modelled = new double[ctx.p];
         this.liftedWork = new double[ctx.n + LiftedStep.SAMPLES * ctx.m];
         this.liftedOutputs = new double[LiftedStep.SAMPLES * ctx.p];
+        int kept = (int) Math.max(1, Math.min(PLANS, PROJECTION_BYTES / BlockProjection.bytes(ctx.n, ctx.p, ctx.m,
+                ctx.q, SAMPLES)));
         this.projections = ctx.splitResiduals ? null : new LinkedHashMap<>(16, 0.75f, true) {
             @Override
             protected boolean removeEldestEntry(Map.Entry<Long, BlockProjection> eldest) {
-                return size() > PLANS;
+                return size() > kept;
             }
         };
     }
