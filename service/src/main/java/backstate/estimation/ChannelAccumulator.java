@@ -49,6 +49,42 @@ final class ChannelAccumulator {
     }
 
     /**
+     * Adds present samples i = from … from+count−1 of {@code ys} (measured) and {@code residuals}, in
+     * order: the same sums, in the same order, as {@link #add} value by value, with the running
+     * figures in locals for the whole stretch.
+     */
+    void addAll(double[] ys, double[] residuals, int from, int count) {
+        int done = 0;
+        while (done < count) {
+            int take = Math.min(count - done, BATCH - batched);
+            System.arraycopy(ys, from + done, pending, batched, take);
+            batched += take;
+            done += take;
+            if (batched == BATCH) {
+                flush();
+            }
+        }
+        double squares = residualSquares;
+        double largest = maxAbs;
+        int beyond = outliers;
+        double limit = Conditioning.OUTLIER_SIGMAS * sigma;
+        for (int i = from; i < from + count; i++) {
+            double residual = residuals[i];
+            squares += residual * residual;
+            double abs = Math.abs(residual);
+            largest = Math.max(largest, abs);
+            if (abs > limit) {
+                beyond++;
+            }
+        }
+        residualSquares = squares;
+        maxAbs = largest;
+        outliers = beyond;
+        this.count += count;
+        whiteness.addAll(residuals, from, count);
+    }
+
+    /**
      * Merges the batched values: their own mean and spread by two passes over the batch, then the
      * pairwise update below (the batched form of the updating algorithms of Chan, Golub &amp;
      * LeVeque 1979) — one division a batch instead of one a value as in Welford's update. Both
@@ -95,6 +131,11 @@ final class ChannelAccumulator {
         maxAbs = Math.max(maxAbs, later.maxAbs);
         outliers += later.outliers;
         whiteness.append(later.whiteness);
+    }
+
+    /** Σ r² over the present samples streamed so far. */
+    double residualSquares() {
+        return residualSquares;
     }
 
     private static double[] ones(int length) {

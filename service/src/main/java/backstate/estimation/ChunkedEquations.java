@@ -12,7 +12,8 @@ import java.util.concurrent.CompletionException;
  * information becomes R₂·diag(Φ, I)·θ ≈ z₂ − R₂[:, states]·f_m and is folded into the first chunk's
  * factor like any reduced block (sequential accumulation, Lawson &amp; Hanson 1974, ch. 27; the same
  * change of unknowns as a square-root information filter's time update without process noise,
- * Bierman 1977, ch. VI). Same equations, same least-squares problem.
+ * Bierman 1977, ch. VI). Same equations, same least-squares problem. Φ(t_m − t0) and f_m are
+ * handed on with the result: the residual pass starts its second chunk at Φ·x̂0 + f_m.
  */
 final class ChunkedEquations {
     /** Below this many samples one core finishes before a second one pays off. */
@@ -46,10 +47,11 @@ final class ChunkedEquations {
         for (int j = 0; j < counts.length; j++) {
             counts[j] += tail.presentCounts()[j];
         }
-        return new EquationPass.Result(head.factors(), counts, null);
+        return new EquationPass.Result(head.factors(), counts, null, new EquationPass.ChunkStart(middle, phi, forced));
     }
 
-    private static EquationPass.Result await(CompletableFuture<EquationPass.Result> future) {
+    /** The future's value; a runtime exception thrown inside it is rethrown as itself, not wrapped. */
+    static <T> T await(CompletableFuture<T> future) {
         try {
             return future.join();
         } catch (CompletionException e) {

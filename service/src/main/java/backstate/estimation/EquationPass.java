@@ -7,7 +7,8 @@ package backstate.estimation;
  * <p>Per sample it updates G_k = C·Φ(t_k) by G_k = G_{k−1}·Φ(h_k) (transitions of one A commute)
  * and the known-input forced response: O(p·n²) per sample, memory O(q² + p·n). Stretches of
  * {@link UniformBlocks#SAMPLES} samples with one step length and no missing value take a faster
- * route (see {@link UniformBlocks}): O(p·q + n²) per sample. Both routes fold the same equations.
+ * route (see {@link UniformBlocks}): O(q·(p + m) + n·m) per sample under the sampled formulation
+ * ({@link BlockProjection}), O(p·q + n²) under the continuous one. All routes fold the same equations.
  * On the block route Φ(t_k) is carried from block start to block start, one n×n product per
  * block, and G is rebuilt from it only when a sample takes the per-sample route again.
  *
@@ -97,7 +98,7 @@ final class EquationPass {
             previousUnits = units;
             k++;
         }
-        return new Result(factors, counts, forced.clone());
+        return new Result(factors, counts, forced.clone(), null);
     }
 
     /** Steps G (when current) and the forced response from sample k−1 to k. */
@@ -167,7 +168,26 @@ final class EquationPass {
         }
     }
 
-    /** The accumulated factors, the number of present samples per channel, and the forced response at the last sample. */
-    record Result(WeightedFactors factors, long[] presentCounts, double[] forcedAtLast) {
+    /**
+     * The accumulated factors, the number of present samples per channel, the forced response at
+     * the last sample, and where chunks were joined ({@link ChunkedEquations}), else null.
+     */
+    record Result(WeightedFactors factors, long[] presentCounts, double[] forcedAtLast, ChunkStart join) {
+    }
+
+    /**
+     * A chunk's first sample, with Φ(t_sample − t0) and the forced state there (from zero at t0):
+     * the state there is Φ·x0 + forced, for any x0.
+     */
+    record ChunkStart(int sample, double[] transition, double[] forced) {
+        /** The state at {@link #sample} from the state x0 at the first sample (its first n entries). */
+        double[] stateFrom(double[] x0, int n) {
+            double[] state = new double[n];
+            Matrices.multiplyVector(transition, x0, n, n, state);
+            for (int i = 0; i < n; i++) {
+                state[i] += forced[i];
+            }
+            return state;
+        }
     }
 }

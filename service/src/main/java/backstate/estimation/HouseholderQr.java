@@ -50,6 +50,31 @@ final class HouseholderQr {
         }
     }
 
+    /**
+     * The first cols columns of Q, Q₁ (rows×cols column-major, Q₁ᵀQ₁ = I and A = Q₁R), formed by
+     * applying the reflectors in reverse order to the unit vectors (backward accumulation, Golub
+     * &amp; Van Loan 2013, §5.1.6).
+     */
+    double[] thinQ() {
+        double[] q = new double[rows * cols];
+        for (int c = 0; c < cols; c++) {
+            int column = c * rows;
+            q[column + c] = 1.0;
+            for (int j = c; j >= 0; j--) {
+                double beta = betas[j];
+                if (beta == 0.0) {
+                    continue;
+                }
+                int col = j * rows;
+                double s = beta * Matrices.dot(reflectors, col + j, q, column + j, rows - j);
+                for (int i = j; i < rows; i++) {
+                    q[column + i] -= s * reflectors[col + i];
+                }
+            }
+        }
+        return q;
+    }
+
     /** Builds reflector j from column j below the diagonal and applies it to the columns after it. */
     private void reflect(int j) {
         int col = j * rows;

@@ -34,7 +34,8 @@ public final class InitialStateEstimator {
         EquationPass.Result pass = ChunkedEquations.run(ctx);
         WeightedFactors data = pass.factors();
         SquareRootInformation dataInfo = data.estimate;
-        requireFinite(dataInfo, data.perSample.residualSquares(), trace);
+        requireFinite(dataInfo.factorR(), dataInfo.rhs(), data.weighted() ? data.perSample.residualSquares() : 0.0,
+                trace);
         ConditioningAnalysis dataOnly = new ConditioningAnalysis(dataInfo.factorR(), ctx.q, dataInfo.equations());
         if (options.prior() == null) {
             return dataOnly.rank() < ctx.q ? unobservable(ctx, dataOnly) : finish(ctx, pass, data, dataOnly, dataOnly);
@@ -74,31 +75,12 @@ public final class InitialStateEstimator {
         requireCompatible(model, times, outputs, inputs, options);
         SampleSteps steps = new SampleSteps(model, times[0]);
         long reference = smoothedReference(model, steps, options);
-        long previous = -1;
-        long step = SolveContext.UNEVEN;
-        boolean even = true;
-        for (int k = 0; k < times.length; k++) {
-            long units = steps.unitsOfSample(k, times[k]);
-            if (units == reference) {
-                reference = -1;
-            }
-            if (units == previous) {
-                throw new ModelException("time[" + k + "]", model.isDiscrete()
-                        ? "got a second sample on grid step " + units + ", expected one sample per sample period at most"
-                        : "got a sample less than 1 µs after the previous one, expected times at least 1 µs apart");
-            }
-            if (k == 1) {
-                step = units - previous;
-            } else if (k > 1 && units - previous != step) {
-                even = false;
-            }
-            previous = units;
-        }
-        if (reference >= 0) {
+        StepScan scan = StepScan.of(model, steps, times, reference);
+        if (reference >= 0 && !scan.foundUnits()) {
             throw new ModelException("referenceTime", "got " + options.referenceTime() + ", expected the time of a"
                     + " sample: with process noise the smoothed state is computed at sample times");
         }
-        return even ? step : SolveContext.UNEVEN;
+        return scan.even() ? scan.step() : SolveContext.UNEVEN;
     }
 
     /**
@@ -121,10 +103,6 @@ public final class InitialStateEstimator {
      * and a rank decision on them would report directions that do not exist. It is refused in words
      * instead, as the model and trace not fitting together (ModelException), not retried.
      */
-    private static void requireFinite(SquareRootInformation info, double residualSquares, Trace trace) {
-        requireFinite(info.factorR(), info.rhs(), residualSquares, trace);
-    }
-
     static void requireFinite(double[] r, double[] z, double residualSquares, Trace trace) {
         if (!Matrices.allFinite(r) || !Matrices.allFinite(z) || !Double.isFinite(residualSquares)) {
             double window = trace.time(trace.samples() - 1) - trace.time(0);
@@ -149,12 +127,12 @@ public final class InitialStateEstimator {
         double[] covariance = factors.weighted()
                 ? Sandwich.covariance(rInverse, factors.spread.factorR(), q)
                 : Triangular.timesOwnTranspose(rInverse, q);
-        double chiSquare = factors.perSample.residualSquares();
+        ResidualPass.Result residuals = ResidualPass.run(ctx, solution, pass.presentCounts(), pass.join());
+        double chiSquare = chiSquare(ctx, factors, residuals, solution);
         int dof = (int) (factors.perSample.equations() - q);
         double sigmaScale = dof > 0 ? Math.sqrt(chiSquare / dof) : Double.NaN;
         double[] se = diagonalRoots(covariance, q, 1.0);
         double[] seScaled = diagonalRoots(covariance, q, sigmaScale);
-        ResidualPass.Result residuals = ResidualPass.run(ctx, solution, pass.presentCounts());
         double chiSquareP = LjungBox.chiSquareUpperTail(chiSquare, dof);
         Conditioning conditioning = analysis.summary(r, dataOnly.rank());
         if (factors.weighted()) {
@@ -173,6 +151,21 @@ public final class InitialStateEstimator {
                 interval[0], interval[1], reference(ctx, residuals.referenceState(), pxx, rule),
                 windowEnd(ctx, residuals.endState(), pxx, rule), conditioning,
                 residuals.channels(), chiSquare, dof, chiSquareP, flags, series);
+    }
+
+    /**
+     * The per-sample fit's residual sum of squares. Sampled: the whitened residuals of the residual
+     * pass at θ̂, plus the prior's pseudo-equations at θ̂ — the least-squares residual itself, which
+     * the block route does not split off ({@link BlockProjection}). Continuous: the per-sample fit
+     * is a fit of its own, whose residual its factor accumulated.
+     */
+    private static double chiSquare(SolveContext ctx, WeightedFactors factors, ResidualPass.Result residuals,
+                                    double[] solution) {
+        if (factors.weighted()) {
+            return factors.perSample.residualSquares();
+        }
+        Prior prior = ctx.options.prior();
+        return residuals.whitenedSquares() + (prior == null ? 0.0 : PriorEquations.residualSquares(prior, ctx.n, solution));
     }
 
     static double[] diagonalRoots(double[] covariance, int q, double scale) {

@@ -62,6 +62,11 @@ public final class Matrices {
      * from j = 0 up, so the result is bit for bit the plain row-by-row product.
      */
     public static void multiplyVector(double[] a, double[] x, int r, int c, double[] y) {
+        multiplyVector(a, x, 0, r, c, y);
+    }
+
+    /** As {@link #multiplyVector(double[], double[], int, int, double[])} with the vector at x[from … from+c−1]. */
+    public static void multiplyVector(double[] a, double[] x, int from, int r, int c, double[] y) {
         int i = 0;
         for (; i + 3 < r; i += 4) {
             int row0 = i * c;
@@ -73,7 +78,7 @@ public final class Matrices {
             double s2 = 0.0;
             double s3 = 0.0;
             for (int j = 0; j < c; j++) {
-                double xj = x[j];
+                double xj = x[from + j];
                 s0 += a[row0 + j] * xj;
                 s1 += a[row1 + j] * xj;
                 s2 += a[row2 + j] * xj;
@@ -90,7 +95,7 @@ public final class Matrices {
             double s0 = 0.0;
             double s1 = 0.0;
             for (int j = 0; j < c; j++) {
-                double xj = x[j];
+                double xj = x[from + j];
                 s0 += a[row0 + j] * xj;
                 s1 += a[row1 + j] * xj;
             }
@@ -102,7 +107,7 @@ public final class Matrices {
             double sum = 0.0;
             int row = i * c;
             for (int j = 0; j < c; j++) {
-                sum += a[row + j] * x[j];
+                sum += a[row + j] * x[from + j];
             }
             y[i] = sum;
         }

@@ -48,6 +48,20 @@ final class PriorEquations {
         }
     }
 
+    /** Σ_i (L⁻¹(μ − x))_i²: the pseudo-equations' residual sum of squares at the unknowns' value x (the first n used). */
+    static double residualSquares(Prior prior, int n, double[] x) {
+        double[] whitening = Triangular.invertLower(lowerFactor(prior, n), n);
+        double sum = 0.0;
+        for (int i = 0; i < n; i++) {
+            double r = 0.0;
+            for (int j = 0; j <= i; j++) {
+                r += whitening[i * n + j] * (prior.mean()[j] - x[j]);
+            }
+            sum += r * r;
+        }
+        return sum;
+    }
+
     private static double[] lowerFactor(Prior prior, int n) {
         try {
             CholeskyDecomposition cholesky = new CholeskyDecomposition(

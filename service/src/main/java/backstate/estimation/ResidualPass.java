@@ -15,7 +15,9 @@ import java.util.concurrent.ForkJoinTask;
  * <p>Long traces (N ≥ {@link #PARALLEL_MIN_SAMPLES}) run as {@link #PARALLEL_CHUNKS} contiguous
  * chunks on two threads. A chunk needs the true state at its first sample, which depends on every
  * earlier input; it comes from {@link StateSweep}, a state-only simulation by blocks of equal
- * steps, run on the caller before the chunks start. Each chunk then simulates its own range from
+ * steps, run on the caller before the chunks start, unless the equation pass was joined at the
+ * same sample and hands on the state there ({@link EquationPass.ChunkStart}: Φ(t_m − t0)·x̂0 + f_m,
+ * no sweep). Each chunk then simulates its own range from
  * its start state and streams into its own accumulators and its own range of the series arrays,
  * and the accumulators are joined in trace order ({@link ChannelAccumulator#append}). Wall time ≈
  * sweep to the last chunk start + N/C samples of this pass. Measured on the benchmark model
@@ -81,6 +83,16 @@ final class ResidualPass {
         return run(ctx, solution, presentCounts, chunksFor(ctx.trace.samples()));
     }
 
+    /**
+     * As {@link #run(SolveContext, double[], long[])}, taking the state at {@code join}'s sample from
+     * the equation pass (Φ·x̂0 + f, exact) instead of sweeping to it, when that sample is where the
+     * second chunk starts.
+     */
+    static Result run(SolveContext ctx, double[] solution, long[] presentCounts, EquationPass.ChunkStart join) {
+        int chunks = chunksFor(ctx.trace.samples());
+        return new ResidualPass(ctx, solution, presentCounts).run(chunks, join);
+    }
+
     /** Chunks used for a trace of this many samples. */
     static int chunksFor(int samples) {
         return samples >= PARALLEL_MIN_SAMPLES ? PARALLEL_CHUNKS : 1;
@@ -93,10 +105,10 @@ final class ResidualPass {
             throw new IllegalArgumentException("chunks: got " + chunks + ", expected 1 to " + samples
                     + " (the number of samples)");
         }
-        return new ResidualPass(ctx, solution, presentCounts).run(chunks);
+        return new ResidualPass(ctx, solution, presentCounts).run(chunks, null);
     }
 
-    private Result run(int chunks) {
+    private Result run(int chunks, EquationPass.ChunkStart join) {
         int samples = ctx.trace.samples();
         Chunk[] done = new Chunk[chunks];
         if (chunks == 1) {
@@ -106,8 +118,10 @@ final class ResidualPass {
             for (int c = 0; c <= chunks; c++) {
                 bounds[c] = (int) ((long) samples * c / chunks);
             }
-            double[][] starts = StateSweep.statesAt(ctx, ctx.transitions, Arrays.copyOf(solution, ctx.n),
-                    Arrays.copyOf(bounds, chunks));
+            double[][] starts = chunks == 2 && join != null && join.sample() == bounds[1]
+                    ? new double[][] {Arrays.copyOf(solution, ctx.n), join.stateFrom(solution, ctx.n)}
+                    : StateSweep.statesAt(ctx, ctx.transitions, Arrays.copyOf(solution, ctx.n),
+                            Arrays.copyOf(bounds, chunks));
             List<ForkJoinTask<Chunk>> forked = new ArrayList<>(chunks - 1);
             for (int c = 1; c < chunks; c++) {
                 int from = bounds[c];
@@ -141,11 +155,14 @@ final class ResidualPass {
             }
         }
         List<ChannelDiagnostics> diagnostics = new ArrayList<>(ctx.p);
+        double whitened = 0.0;
         for (int j = 0; j < ctx.p; j++) {
             diagnostics.add(channels[j].finish(ctx.noise.source(j)));
+            double sigma = ctx.noise.sigma(j);
+            whitened += channels[j].residualSquares() / (sigma * sigma);
         }
         Kept series = fitted == null ? null : new Kept(keptTimes(), measured, fitted, residuals, states);
-        return new Result(diagnostics, series, referenceState, done[done.length - 1].endState());
+        return new Result(diagnostics, series, referenceState, done[done.length - 1].endState(), whitened);
     }
 
     /**
@@ -156,10 +173,11 @@ final class ResidualPass {
     private Chunk simulate(TransitionCache transitions, int from, int to, double[] state) {
         int p = ctx.p;
         int lift = LiftedStep.SAMPLES;
-        ChannelAccumulator[] channels = new ChannelAccumulator[p];
+        ChannelAccumulator[] accumulators = new ChannelAccumulator[p];
         for (int j = 0; j < p; j++) {
-            channels[j] = new ChannelAccumulator(ctx.noise.sigma(j), presentCounts[j]);
+            accumulators[j] = new ChannelAccumulator(ctx.noise.sigma(j), presentCounts[j]);
         }
+        Gathered channels = new Gathered(accumulators);
         double[] scratch = ctx.stepScratch();
         double[] modelled = new double[lift * p];
         double[] liftedWork = new double[ctx.n + lift * ctx.m];
@@ -190,7 +208,47 @@ final class ResidualPass {
             }
             k++;
         }
-        return new Chunk(channels, referenceState, state);
+        channels.drain();
+        return new Chunk(accumulators, referenceState, state);
+    }
+
+    /**
+     * Present samples' measured values and residuals gathered per channel and handed to the
+     * accumulators {@link ChannelAccumulator#BATCH} at a time ({@link ChannelAccumulator#addAll}:
+     * the same sums in the same order as value by value, with the running figures in locals).
+     */
+    private static final class Gathered {
+        private final ChannelAccumulator[] accumulators;
+        private final double[][] measured;
+        private final double[][] residuals;
+        private final int[] filled;
+
+        Gathered(ChannelAccumulator[] accumulators) {
+            this.accumulators = accumulators;
+            int p = accumulators.length;
+            this.measured = new double[p][ChannelAccumulator.BATCH];
+            this.residuals = new double[p][ChannelAccumulator.BATCH];
+            this.filled = new int[p];
+        }
+
+        void add(int j, double y, double r) {
+            int i = filled[j];
+            measured[j][i] = y;
+            residuals[j][i] = r;
+            i++;
+            if (i == ChannelAccumulator.BATCH) {
+                accumulators[j].addAll(measured[j], residuals[j], 0, i);
+                i = 0;
+            }
+            filled[j] = i;
+        }
+
+        void drain() {
+            for (int j = 0; j < accumulators.length; j++) {
+                accumulators[j].addAll(measured[j], residuals[j], 0, filled[j]);
+                filled[j] = 0;
+            }
+        }
     }
 
     /** True when the series is kept and one of samples k … k+count−1 is a kept one, whose state must be seen. */
@@ -208,14 +266,14 @@ final class ResidualPass {
     }
 
     /** Streams sample k's outputs, modelled[at … at+p−1] before offsets, into the channels and the kept series. */
-    private void record(int k, double[] modelled, int at, ChannelAccumulator[] channels) {
+    private void record(int k, double[] modelled, int at, Gathered channels) {
         int p = ctx.p;
         for (int j = 0; j < p; j++) {
             double yHat = modelled[at + j] + offset(j);
             double y = ctx.trace.output(k, j);
             double r = y - yHat;
             if (!Double.isNaN(y)) {
-                channels[j].add(y, r);
+                channels.add(j, y, r);
             }
             if (fitted != null && k % stride == 0) {
                 int slot = k / stride * p + j;
@@ -271,6 +329,8 @@ final class ResidualPass {
     record Kept(double[] times, double[] measured, double[] fitted, double[] residuals, double[] states) {
     }
 
-    record Result(List<ChannelDiagnostics> channels, Kept series, double[] referenceState, double[] endState) {
+    /** @param whitenedSquares Σ (r/σ)² over every present output: the residual sum of squares at x̂0 */
+    record Result(List<ChannelDiagnostics> channels, Kept series, double[] referenceState, double[] endState,
+                  double whitenedSquares) {
     }
 }

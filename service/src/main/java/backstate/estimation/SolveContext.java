@@ -31,6 +31,13 @@ final class SolveContext {
      * first, so {@link #units} needs no division and rounding, and every run of steps is equal.
      */
     private final long evenStep;
+    /**
+     * Whether uniform blocks also split off their residual (simulating each block and applying Qᵀ,
+     * {@link UniformBlocks}): the continuous formulation's per-sample fit needs it; the sampled one
+     * takes χ² from the residual pass and projects blocks ({@link BlockProjection}) unless a test
+     * asks for the splitting route to compare with.
+     */
+    final boolean splitResiduals;
 
     /** A context that computes every sample's step units from its time. */
     SolveContext(StateSpaceModel model, Trace trace, EstimationOptions options) {
@@ -39,6 +46,12 @@ final class SolveContext {
 
     /** @param evenStep from {@link InitialStateEstimator#validatedStep}: the trace's one step, or {@link #UNEVEN} */
     SolveContext(StateSpaceModel model, Trace trace, EstimationOptions options, long evenStep) {
+        this(model, trace, options, evenStep, options.formulation() == Formulation.CONTINUOUS);
+    }
+
+    private SolveContext(StateSpaceModel model, Trace trace, EstimationOptions options, long evenStep,
+                         boolean splitResiduals) {
+        this.splitResiduals = splitResiduals;
         this.model = model;
         this.trace = trace;
         this.options = options;
@@ -58,7 +71,12 @@ final class SolveContext {
 
     /** An independent context over the same inputs, for another thread (the transition cache is not thread-safe). */
     SolveContext copy() {
-        return new SolveContext(model, trace, options, evenStep);
+        return new SolveContext(model, trace, options, evenStep, splitResiduals);
+    }
+
+    /** The same context on the route that splits off every block's residual (to compare routes with). */
+    SolveContext splittingResiduals() {
+        return new SolveContext(model, trace, options, evenStep, true);
     }
 
     /** Step units of sample k from the first sample (ticks or periods). */

@@ -89,7 +89,10 @@ final class SquareRootInformation {
         return equations;
     }
 
-    /** Sum of squared residuals of the least-squares fit over all equations (valid when R has full rank). */
+    /**
+     * Sum of squared residuals of the least-squares fit over all equations (valid when R has full
+     * rank); NaN once a reduced block came without its split residual ({@link #addReduced} with NaN).
+     */
     double residualSquares() {
         flush();
         return residualSquares;

@@ -11,6 +11,11 @@ import java.util.Map;
  * Alg. 5.2.1) and folds the q reduced equations R·diag(Φ, I)·θ ≈ (Qᵀb)_{1..q} into the square-root
  * information, adding ‖(Qᵀb)_{q+1..}‖² to the residual — the same least-squares problem as folding
  * the B·p equations one by one (block sequential accumulation, Lawson &amp; Hanson 1974, ch. 27).
+ *
+ * <p>The sampled formulation needs neither b nor the split residual (its χ² comes from the
+ * residual pass), and takes (Qᵀb)_{1..q} straight from the block's outputs and inputs
+ * ({@link BlockProjection}); the continuous formulation, whose per-sample fit needs the split
+ * residual, builds b by simulating the block and applies Qᵀ to it.
  */
 final class UniformBlocks {
     /** Samples per block: enough that B·p ≥ q at the size limits and the per-block O(q³ + n³) is amortised. */
@@ -19,6 +24,11 @@ final class UniformBlocks {
     static final int UNIFORM = -1;
     /** Factored blocks kept per distinct step length. */
     static final int PLANS = 8;
+    /**
+     * Memory the kept projections may hold per chunk: what {@link #PLANS} factored H take at the model
+     * size limits (25 MB), so the projected route never holds more than the splitting one could.
+     */
+    static final long PROJECTION_BYTES = 25L << 20;
 
     private final SolveContext ctx;
     private final int end;
@@ -36,6 +46,13 @@ final class UniformBlocks {
             return size() > PLANS;
         }
     };
+    /**
+     * Projections by step length, on the sampled formulation's route; null on the continuous one's.
+     * Each holds q·B·(p + m) + n·(n + (B−1)·m) doubles: 0.07 MB for the benchmark model, 8.4 MB at the
+     * model size limits (against 3.1 MB for a factored H), so at most {@link #PLANS} and at most
+     * {@link #PROJECTION_BYTES} of them are kept.
+     */
+    private final Map<Long, BlockProjection> projections;
 
     /**
      * @param end            one past the last sample a block may use
@@ -53,6 +70,14 @@ final class UniformBlocks {
         this.modelled = new double[ctx.p];
         this.liftedWork = new double[ctx.n + LiftedStep.SAMPLES * ctx.m];
         this.liftedOutputs = new double[LiftedStep.SAMPLES * ctx.p];
+        int kept = (int) Math.max(1, Math.min(PLANS, PROJECTION_BYTES / BlockProjection.bytes(ctx.n, ctx.p, ctx.m,
+                ctx.q, SAMPLES)));
+        this.projections = ctx.splitResiduals ? null : new LinkedHashMap<>(16, 0.75f, true) {
+            @Override
+            protected boolean removeEldestEntry(Map.Entry<Long, BlockProjection> eldest) {
+                return size() > kept;
+            }
+        };
     }
 
     /**
@@ -102,19 +127,35 @@ final class UniformBlocks {
      */
     int fold(int k, double[] phi, double[] forced, WeightedFactors factors, double weight, long[] counts) {
         long step = ctx.units(k + 1) - ctx.units(k);
-        HouseholderQr plan = plans.computeIfAbsent(step, this::factor);
-        fillRightHandSide(k, step, forced);
-        plan.applyTranspose(b);
-        double split = 0.0;
-        for (int i = ctx.q; i < rows; i++) {
-            split += b[i] * b[i];
+        if (projections != null) {
+            BlockProjection projection = projections.computeIfAbsent(step, this::project);
+            projection.project(ctx.trace.outputsView(), ctx.inputs, k, forced, b);
+            changeToInitialState(projection.r(), phi, ctx.n, ctx.q, reduced);
+            factors.addReduced(reduced, b, ctx.q, rows, Double.NaN, weight);
+        } else {
+            HouseholderQr plan = plans.computeIfAbsent(step, this::factor);
+            fillRightHandSide(k, step, forced);
+            plan.applyTranspose(b);
+            double split = 0.0;
+            for (int i = ctx.q; i < rows; i++) {
+                split += b[i] * b[i];
+            }
+            changeToInitialState(plan.r(), phi, ctx.n, ctx.q, reduced);
+            factors.addReduced(reduced, b, ctx.q, rows, split, weight);
         }
-        changeToInitialState(plan.r(), phi, ctx.n, ctx.q, reduced);
-        factors.addReduced(reduced, b, ctx.q, rows, split, weight);
         for (int j = 0; j < ctx.p; j++) {
             counts[j] += SAMPLES;
         }
         return k + SAMPLES - 1;
+    }
+
+    private BlockProjection project(long step) {
+        double[] sigma = new double[ctx.p];
+        for (int j = 0; j < ctx.p; j++) {
+            sigma[j] = ctx.noise.sigma(j);
+        }
+        return new BlockProjection(factor(step), ctx.transitions.over(step), ctx.c, ctx.model.d(), sigma, ctx.n,
+                ctx.q, SAMPLES);
     }
 
     /**

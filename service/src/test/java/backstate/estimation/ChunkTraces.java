@@ -47,23 +47,8 @@ final class ChunkTraces {
     static Trace trace(StateSpaceModel model, long seed) {
         Random random = new Random(seed);
         double[] times = times(model, random);
-        double[] inputs = inputs(random);
-        Trace noiseless = new Trace(times, new double[SAMPLES * 2], inputs, 2, 2, SIGMA);
-        SolveContext ctx = new SolveContext(model, noiseless, EstimationOptions.defaults());
-        double[] x0 = truth(model);
-        double[] x = java.util.Arrays.copyOf(x0, model.states());
-        double[] scratch = ctx.stepScratch();
-        double[] outputs = new double[SAMPLES * 2];
-        double[] modelled = new double[2];
-        for (int k = 0; k < SAMPLES; k++) {
-            if (k > 0) {
-                ctx.propagate(x, k, ctx.transitions.over(ctx.units(k) - ctx.units(k - 1)), scratch);
-            }
-            ctx.outputs(x, k, scratch, modelled);
-            for (int j = 0; j < 2; j++) {
-                outputs[k * 2 + j] = modelled[j] + OFFSETS[j] + SIGMA[j] * random.nextGaussian();
-            }
-        }
+        double[] inputs = inputs(random, SAMPLES);
+        double[] outputs = noisyOutputs(model, times, inputs, random);
         for (int i = 0; i < 10; i++) {
             int k = random.nextInt(SAMPLES);
             outputs[k * 2] += 12 * SIGMA[0] * (random.nextBoolean() ? 1 : -1);
@@ -114,11 +99,32 @@ final class ChunkTraces {
         return times;
     }
 
+    /** Outputs of the model from {@link #truth} with {@link #OFFSETS} and noise {@link #SIGMA}, simulated step by step. */
+    static double[] noisyOutputs(StateSpaceModel model, double[] times, double[] inputs, Random random) {
+        int samples = times.length;
+        Trace noiseless = new Trace(times, new double[samples * 2], inputs, 2, 2, SIGMA);
+        SolveContext ctx = new SolveContext(model, noiseless, EstimationOptions.defaults());
+        double[] x = java.util.Arrays.copyOf(truth(model), model.states());
+        double[] scratch = ctx.stepScratch();
+        double[] outputs = new double[samples * 2];
+        double[] modelled = new double[2];
+        for (int k = 0; k < samples; k++) {
+            if (k > 0) {
+                ctx.propagate(x, k, ctx.transitions.over(ctx.units(k) - ctx.units(k - 1)), scratch);
+            }
+            ctx.outputs(x, k, scratch, modelled);
+            for (int j = 0; j < 2; j++) {
+                outputs[k * 2 + j] = modelled[j] + OFFSETS[j] + SIGMA[j] * random.nextGaussian();
+            }
+        }
+        return outputs;
+    }
+
     /** A ±1 square wave switching every 250 samples and a random level held 40 samples. */
-    private static double[] inputs(Random random) {
-        double[] u = new double[SAMPLES * 2];
+    static double[] inputs(Random random, int samples) {
+        double[] u = new double[samples * 2];
         double level = 0.0;
-        for (int k = 0; k < SAMPLES; k++) {
+        for (int k = 0; k < samples; k++) {
             if (k % 40 == 0) {
                 level = random.nextGaussian();
             }

@@ -12,7 +12,8 @@ import org.junit.jupiter.api.Test;
 
 /**
  * {@link HouseholderQr} checked directly by the properties a Householder QR must have: A = QR and
- * QᵀQ = I to rounding, R upper triangular, Qᵀ applied to A's columns giving [R; 0], on random,
+ * QᵀQ = I to rounding, R upper triangular, Qᵀ applied to A's columns giving [R; 0], the thin Q₁
+ * equal to Q's first columns, on random,
  * square, tall, rank-deficient and badly column-scaled matrices. Q is formed by applying Qᵀ to
  * the unit vectors (Qᵀe_i is row i of Q).
  *
@@ -170,6 +171,15 @@ class HouseholderQrTest {
             }
         }
         assertTrue(Math.sqrt(orthogonality) <= allowed, "‖QᵀQ − I‖_F = " + Math.sqrt(orthogonality) + ", allowed " + allowed);
+
+        // Q₁ by backward accumulation (thinQ, column-major) is the first n columns of the Q that Qᵀ
+        // applied to the unit vectors forms: the same reflectors in the other order.
+        double[] thin = qr.thinQ();
+        for (int i = 0; i < m; i++) {
+            for (int j = 0; j < n; j++) {
+                assertEquals(q[i * m + j], thin[j * m + i], allowed, "Q₁[" + i + "][" + j + "]");
+            }
+        }
 
         for (int j = 0; j < n; j++) {
             double[] column = Arrays.copyOfRange(a, j * m, (j + 1) * m);
