@@ -126,11 +126,10 @@ public final class ApiServer implements AutoCloseable {
         });
     }
 
-    /** A route's handler behind its access check and, for API reads, behind read admission. */
+    /** A route's handler behind its access check and then, for API reads, read admission: a refused key never waits. */
     private static io.javalin.router.Endpoint endpoint(Route r, AccessGuard guard, ReadAdmission reads) {
-        io.javalin.http.Handler guarded = guard.wrap(r);
-        io.javalin.http.Handler handler = ReadAdmission.counts(r) ? reads.admitted(guarded) : guarded;
-        return new io.javalin.router.Endpoint(r.method(), r.path(), handler, java.util.Set.of());
+        Route admitted = ReadAdmission.counts(r) ? new Route(r.method(), r.path(), r.access(), reads.admitted(r.handler())) : r;
+        return new io.javalin.router.Endpoint(r.method(), r.path(), guard.wrap(admitted), java.util.Set.of());
     }
 
     /** The route template that served a request, or "unmatched" (Javalin 7's ctx.endpoint() throws when none matched). */
