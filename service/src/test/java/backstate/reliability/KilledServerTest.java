@@ -173,12 +173,8 @@ class KilledServerTest {
     }
 
     static void awaitDrained(ServerDb db) throws InterruptedException {
-        long deadline = System.nanoTime() + RUN_BOUND.toNanos();
-        while (db.count("SELECT COUNT(*) FROM jobs WHERE state IN ('queued', 'running')") > 0) {
-            if (System.nanoTime() > deadline) {
-                throw new AssertionError("queue not drained within " + RUN_BOUND + ": " + db.signature());
-            }
-            Thread.sleep(50);
+        if (!db.awaitDrained(RUN_BOUND, Duration.ofMillis(50))) {
+            throw new AssertionError("queue not drained within " + RUN_BOUND + ": " + db.signature());
         }
     }
 }

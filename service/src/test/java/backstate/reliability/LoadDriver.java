@@ -532,12 +532,8 @@ public final class LoadDriver {
     }
 
     private void awaitDrained() throws InterruptedException {
-        long deadline = System.nanoTime() + DRAIN_BOUND.toNanos();
-        while (db.count("SELECT COUNT(*) FROM jobs WHERE state IN ('queued', 'running')") > 0) {
-            if (System.nanoTime() > deadline) {
-                throw new IllegalStateException("queue not drained within " + DRAIN_BOUND);
-            }
-            Thread.sleep(20);
+        if (!db.awaitDrained(DRAIN_BOUND, Duration.ofMillis(20))) {
+            throw new IllegalStateException("queue not drained within " + DRAIN_BOUND);
         }
     }
 

@@ -7,6 +7,7 @@ import java.sql.Connection;
 import java.sql.ResultSet;
 import java.sql.SQLException;
 import java.sql.Statement;
+import java.time.Duration;
 import java.util.ArrayList;
 import java.util.List;
 
@@ -63,6 +64,21 @@ final class ServerDb {
     }
 
     /** Row counts of the content tables plus the jobs by state, as one comparable string (one connection). */
+    /**
+     * Polls every {@code poll} until no job is queued or running; false if some still were after
+     * {@code bound} (the caller says what that means for it).
+     */
+    boolean awaitDrained(Duration bound, Duration poll) throws InterruptedException {
+        long deadline = System.nanoTime() + bound.toNanos();
+        while (count("SELECT COUNT(*) FROM jobs WHERE state IN ('queued', 'running')") > 0) {
+            if (System.nanoTime() > deadline) {
+                return false;
+            }
+            Thread.sleep(poll.toMillis());
+        }
+        return true;
+    }
+
     String signature() {
         try (Connection c = database.connect(); Statement s = c.createStatement()) {
             StringBuilder out = new StringBuilder();

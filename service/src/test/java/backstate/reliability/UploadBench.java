@@ -240,12 +240,8 @@ public final class UploadBench {
     }
 
     private void awaitDrained() throws InterruptedException {
-        long deadline = System.nanoTime() + TIMEOUT.toNanos();
-        while (db.count("SELECT COUNT(*) FROM jobs WHERE state IN ('queued', 'running')") > 0) {
-            if (System.nanoTime() > deadline) {
-                throw new IllegalStateException("queue not drained within " + TIMEOUT);
-            }
-            Thread.sleep(5);
+        if (!db.awaitDrained(TIMEOUT, Duration.ofMillis(5))) {
+            throw new IllegalStateException("queue not drained within " + TIMEOUT);
         }
     }
 
