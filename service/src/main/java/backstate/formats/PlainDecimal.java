@@ -37,11 +37,6 @@ final class PlainDecimal {
      * The value of {@code bytes[from, to)} when it is a plain decimal this class reads exactly;
      * NaN when it is not (not a decimal at all, or one for the general path).
      */
-    static double parse(byte[] bytes, int from, int to) {
-        return new PlainDecimal().read(bytes, from, to);
-    }
-
-    /** {@link #parse}, without a new reader: the value of {@code bytes[from, to)}, or NaN. */
     double read(byte[] bytes, int from, int to) {
         double v = readPrefix(bytes, from, to);
         return stop == to ? v : Double.NaN;

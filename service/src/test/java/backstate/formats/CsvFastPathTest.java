@@ -261,7 +261,7 @@ class CsvFastPathTest {
      */
     private static void assertPlainDecimalExact(String text) {
         byte[] bytes = text.getBytes(StandardCharsets.US_ASCII);
-        double fast = PlainDecimal.parse(bytes, 0, bytes.length);
+        double fast = new PlainDecimal().read(bytes, 0, bytes.length);
         java.math.BigDecimal written = new java.math.BigDecimal(text);
         boolean exactCase = written.signum() == 0 || written.precision() <= 18
                 && written.unscaledValue().abs().compareTo(java.math.BigInteger.TWO.pow(53)) <= 0 && Math.abs(written.scale()) <= 22;
@@ -301,7 +301,7 @@ class CsvFastPathTest {
     @Property(tries = 3000)
     void plain_decimal_is_parseDouble_or_declines(@ForAll("decimals") String text) {
         byte[] bytes = text.getBytes(StandardCharsets.US_ASCII);
-        double fast = PlainDecimal.parse(bytes, 0, bytes.length);
+        double fast = new PlainDecimal().read(bytes, 0, bytes.length);
         if (!Double.isNaN(fast)) {
             assertEquals(Double.doubleToRawLongBits(Double.parseDouble(text)), Double.doubleToRawLongBits(fast), text);
         }
@@ -311,11 +311,11 @@ class CsvFastPathTest {
     void plain_decimal_reads_the_usual_cells_itself() {
         for (String text : List.of("0", "-0.75", "27.05", "123456.789", "+1e-3", "9007199254740992", "1e22", ".5", "5.")) {
             byte[] bytes = text.getBytes(StandardCharsets.US_ASCII);
-            assertEquals(Double.parseDouble(text), PlainDecimal.parse(bytes, 0, bytes.length), text);
+            assertEquals(Double.parseDouble(text), new PlainDecimal().read(bytes, 0, bytes.length), text);
         }
         for (String text : List.of("9007199254740993", "1e23", "1234567890123456789", "1e00001", "NaN", "1e", "")) {
             byte[] bytes = text.getBytes(StandardCharsets.US_ASCII);
-            assertTrue(Double.isNaN(PlainDecimal.parse(bytes, 0, bytes.length)), text + " is left to the general path");
+            assertTrue(Double.isNaN(new PlainDecimal().read(bytes, 0, bytes.length)), text + " is left to the general path");
         }
     }
 
