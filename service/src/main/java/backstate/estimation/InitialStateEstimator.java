@@ -129,6 +129,7 @@ public final class InitialStateEstimator {
                 : Triangular.timesOwnTranspose(rInverse, q);
         ResidualPass.Result residuals = ResidualPass.run(ctx, solution, pass.presentCounts(), pass.join());
         double chiSquare = chiSquare(ctx, factors, residuals, solution);
+        requireFinite(r, info.rhs(), chiSquare, ctx.trace); // the sampled χ² comes from the residual pass, checked here
         int dof = (int) (factors.perSample.equations() - q);
         double sigmaScale = dof > 0 ? Math.sqrt(chiSquare / dof) : Double.NaN;
         double[] se = diagonalRoots(covariance, q, 1.0);
