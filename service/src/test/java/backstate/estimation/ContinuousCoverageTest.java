@@ -92,6 +92,8 @@ class ContinuousCoverageTest {
         }
         coverage.check(first.standardErrors(), name + ": x0");
         double band = CHI_SQUARE_SIGMAS * Math.sqrt(2.0 / (first.degreesOfFreedom() * (double) draws));
+        System.out.printf(java.util.Locale.ROOT, "%s: mean χ²/dof %.4f (band ±%.4f), model_mismatch on %d of %d draws%n",
+                name, chiSquarePerDof, band, flagged, draws);
         assertEquals(1.0, chiSquarePerDof, band, name + ": mean χ²/dof on the per-sample noise scale");
         assertTrue(flagged <= MAX_MISMATCH_FLAGS, name + ": model_mismatch on " + flagged + " of " + draws + " healthy draws");
     }
@@ -162,6 +164,8 @@ class ContinuousCoverageTest {
             for (int i = 0; i < truth.length; i++) {
                 double mean = sum[i] / draws;
                 double spread = Math.sqrt((squares[i] - draws * mean * mean) / (draws - 1));
+                System.out.printf(java.util.Locale.ROOT, "%s[%d]: %d draws, spread/SE %.3f, 95 %% coverage %.4f%n",
+                        what, i, draws, spread / reported[i], covered[i] / (double) draws);
                 assertEquals(1.0, spread / reported[i], SPREAD_BAND, what + "[" + i + "]: empirical spread / reported SE");
                 assertEquals(0.95, covered[i] / (double) draws, COVERAGE_BAND, what + "[" + i + "]: 95 % interval coverage");
             }

@@ -7,6 +7,7 @@ import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
 import backstate.estimation.EstimateCases.Case;
+import java.util.Locale;
 import java.util.Random;
 import org.apache.commons.math3.linear.Array2DRowRealMatrix;
 import org.apache.commons.math3.linear.CholeskyDecomposition;
@@ -46,6 +47,8 @@ class InitialStateEstimatorMonteCarloTest {
         double[] mean = new double[n];
         double[][] scatter = new double[n][n];
         int[] covered = new int[n];
+        double chiSquarePerDof = 0.0;
+        int dof = 0;
         for (int draw = 0; draw < DRAWS; draw++) {
             double[] y = new double[clean.length];
             for (int i = 0; i < y.length; i++) {
@@ -56,6 +59,8 @@ class InitialStateEstimatorMonteCarloTest {
                     c.options().withKeepSeries(false));
             assertTrue(result instanceof Estimate, "draw " + draw + ": got " + result);
             Estimate e = (Estimate) result;
+            dof = e.degreesOfFreedom();
+            chiSquarePerDof += e.chiSquare() / dof / DRAWS;
             if (reportedCovariance == null) {
                 reportedCovariance = e.covariance();
                 // The design (times, weights) is the same every draw, so P is the reference case's.
@@ -98,7 +103,15 @@ class InitialStateEstimatorMonteCarloTest {
                         "whitened sample covariance [" + i + "][" + k + "]");
             }
             assertEquals(0.95, covered[i] / (double) DRAWS, coverageBand, "95 % interval coverage of x0[" + i + "]");
+            System.out.printf(Locale.ROOT, "sampled, %d draws: x0[%d] 95 %% coverage %.4f, whitened variance %.3f%n",
+                    DRAWS, i, covered[i] / (double) DRAWS, (scatter[i][i] - DRAWS * mean[i] * mean[i]) / (DRAWS - 1));
         }
+        // The residual sum of squares of a linear Gaussian fit is σ²·χ²(dof) (Cochran's theorem), so
+        // χ²/dof has mean 1 and variance 2/dof per draw (common practice, no source).
+        double chiSquareBand = BAND * Math.sqrt(2.0 / ((double) dof * DRAWS));
+        System.out.printf(Locale.ROOT, "sampled, %d draws: mean χ²/dof %.4f (band ±%.4f)%n", DRAWS, chiSquarePerDof,
+                chiSquareBand);
+        assertEquals(1.0, chiSquarePerDof, chiSquareBand, "mean χ²/dof over the draws");
     }
 
     private static double[][] inverse(double[][] m) {
