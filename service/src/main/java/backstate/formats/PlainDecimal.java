@@ -17,6 +17,12 @@ package backstate.formats;
  * ({@link #readPrefix}, {@link #stop}), so the CSV reader can read a cell's number and find the
  * cell's end in one pass. It was kept over a library parser by measurement: {@code bench/codec.sh}
  * times it against {@code JavaDoubleParser} (fastdoubleparser) on the cells of a demo-like trace.
+ *
+ * <p>{@link #readPrefix} reads the common short form (at most {@value #MAX_SHORT_DIGITS} digits, no
+ * exponent) on a short route: no zeros skipped, no range checks, one division; it hands any other
+ * run to the general route, {@link #readAny}. {@code PlainDecimalPathsTest}
+ * compares the two routes on every string of up to six bytes over every byte kind the grammar
+ * distinguishes, and of up to nine over one byte of each kind.
  */
 final class PlainDecimal {
     /** Significant digits that always fit a long. */
@@ -25,6 +31,11 @@ final class PlainDecimal {
     private static final long MAX_EXACT_MANTISSA = 1L << 53;
     /** 10^22 is the largest power of ten that is an exact double. */
     private static final int MAX_EXACT_POWER = ExactPowersOfTen.MAX;
+    /**
+     * Digits, leading zeros included, that {@link #readPrefix} reads without an exponent before it
+     * takes {@link #readAny}: their integer is below 10^15 < 2^53, and 10^15 is an exact power of ten.
+     */
+    private static final int MAX_SHORT_DIGITS = 15;
     /** Exponent digits read here; a longer exponent goes the general way. */
     private static final int MAX_EXPONENT_DIGITS = 4;
     /** ASCII letters differ from their capitals in this bit only. */
@@ -49,6 +60,39 @@ final class PlainDecimal {
      * every byte of which is a digit, a sign, a point or an E.
      */
     double readPrefix(byte[] bytes, int from, int limit) {
+        int i = from;
+        boolean negative = false;
+        if (i < limit && (bytes[i] == '-' || bytes[i] == '+')) {
+            negative = bytes[i] == '-';
+            i++;
+        }
+        int digitsFrom = i;
+        long mantissa = 0;
+        int d;
+        for (; i < limit && (d = bytes[i] - '0') >= 0 && d <= 9; i++) {
+            mantissa = mantissa * 10 + d;
+        }
+        int point = i;
+        if (i < limit && bytes[i] == '.') {
+            for (i++; i < limit && (d = bytes[i] - '0') >= 0 && d <= 9; i++) {
+                mantissa = mantissa * 10 + d;
+            }
+        }
+        int fractionDigits = i > point ? i - point - 1 : 0;
+        int digits = point - digitsFrom + fractionDigits;
+        if (digits > MAX_SHORT_DIGITS || i < limit && (bytes[i] | LOWER_CASE_BIT) == 'e') {
+            return readAny(bytes, from, limit);
+        }
+        stop = i;
+        if (digits == 0) {
+            return Double.NaN;
+        }
+        double m = mantissa / ExactPowersOfTen.of(fractionDigits); // both exact: one correctly rounded division
+        return negative ? -m : m;
+    }
+
+    /** {@link #readPrefix} for any length and with an exponent: the general route, also the short route's oracle in tests. */
+    double readAny(byte[] bytes, int from, int limit) {
         int i = from;
         boolean negative = false;
         if (i < limit && (bytes[i] == '-' || bytes[i] == '+')) {
