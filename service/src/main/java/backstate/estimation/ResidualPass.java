@@ -127,8 +127,10 @@ final class ResidualPass {
                 int from = bounds[c];
                 int to = bounds[c + 1];
                 double[] start = starts[c];
+                // The running state is cloned on the worker: the starts were made here side by side, and
+                // two threads writing their states into one cache line every sample doubled the pass's time.
                 forked.add(ForkJoinTask.adapt(
-                        () -> simulate(new TransitionCache(ctx.model, ctx.steps), from, to, start)).fork());
+                        () -> simulate(new TransitionCache(ctx.model, ctx.steps), from, to, start.clone())).fork());
             }
             done[0] = simulate(ctx.transitions, 0, bounds[1], starts[0]);
             for (int c = 1; c < chunks; c++) {
