@@ -11,6 +11,7 @@
 #
 #   bench/load/upload.sh                       # about 4 minutes on 2 cores
 #   SIZES=1000000 RUNS=3 FORMAT=json bench/load/upload.sh
+#   OFFLINE_RUNS=21 bench/load/upload.sh      # offline parse, assembly and solve runs a size (default 11; medians of all but the first)
 #   SERVER_HEAP=300m bench/load/upload.sh      # the server's -Xmx (default 1g, see bench/README.md "Uploads")
 #   OFFLINE_JAVA_OPTS=-XX:TieredStopAtLevel=1 bench/load/upload.sh   # the offline parse and solve on the
 #                                              # service's compiler (default: the JVM's, as the baseline was)
@@ -30,7 +31,7 @@ for size in ${SIZES:-100000 1000000 2000000}; do
   jcmd "$SERVER_PID" VM.native_memory baseline >/dev/null
   # shellcheck disable=SC2086 # OFFLINE_JAVA_OPTS may hold several options
   java ${OFFLINE_JAVA_OPTS:-} -Xmx"${DRIVER_HEAP:-3g}" -Dbackstate.testData="$ROOT/test-data" -cp "$CP" backstate.reliability.UploadBench \
-    --base "$BASE" --db "$DB" --pid "$SERVER_PID" --sizes "$size" --runs "${RUNS:-4}" --format "${FORMAT:-csv}" \
+    --base "$BASE" --db "$DB" --pid "$SERVER_PID" --sizes "$size" --runs "${RUNS:-4}" --offline-runs "${OFFLINE_RUNS:-11}" --format "${FORMAT:-csv}" \
     | tee -a "$ROWS" | grep -v '^ROW'
   echo "  server memory by NMT category, committed after the last upload against start-up (before a GC):"
   jcmd "$SERVER_PID" VM.native_memory summary.diff scale=MB | grep -E '^-|Total' | grep -E '[+-][0-9]+MB' | sed 's/^/   /'

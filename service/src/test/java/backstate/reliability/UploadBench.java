@@ -30,7 +30,9 @@ import java.util.concurrent.atomic.AtomicLong;
  * <ol>
  *   <li>times the parse ({@link TraceReader}'s columns, what the intake runs; also in this thread's CPU
  *       time, which a loaded machine disturbs less), the assembly of the engine's row-major trace
- *       from them, and the solve ({@link DocumentSolver}) of the same CSV in this JVM, warm, and samples the live heap of parse + stored encoding ({@link TraceCodec})
+ *       from them, and the solve ({@link DocumentSolver}) of the same CSV in this JVM,
+ *       {@code offline-runs} times in turn (so a young GC, which may fall in any of the three, moves a
+ *       median of ten warm runs less than one of three), and samples the live heap of parse + stored encoding ({@link TraceCodec})
  *       by forcing a GC every few milliseconds: what the intake's own code holds;</li>
  *   <li>posts it to the running server {@code runs} times, each after a forced GC there
  *       ({@code jcmd GC.run}), and reads the server's resident memory from {@code /proc}: after the
@@ -41,7 +43,7 @@ import java.util.concurrent.atomic.AtomicLong;
  * The first run of a size is cold for that size; medians are over the later (warm) runs.
  *
  * <pre>
- * UploadBench --base URL --db FILE --pid SERVER_PID [--sizes 1000000] [--runs 4] [--format csv|json]
+ * UploadBench --base URL --db FILE --pid SERVER_PID [--sizes 1000000] [--runs 4] [--offline-runs 11] [--format csv|json]
  * </pre>
  */
 public final class UploadBench {
@@ -77,9 +79,10 @@ public final class UploadBench {
             flags.put(args[i].replaceFirst("^--", ""), args[i + 1]);
         }
         int runs = Integer.parseInt(flags.getOrDefault("runs", "4"));
+        int offlineRuns = Integer.parseInt(flags.getOrDefault("offline-runs", "11"));
         UploadBench bench = new UploadBench(flags);
         for (String size : flags.getOrDefault("sizes", "1000000").split(",")) {
-            bench.measure(Integer.parseInt(size.trim()), runs).print();
+            bench.measure(Integer.parseInt(size.trim()), runs, offlineRuns).print();
         }
     }
 
@@ -99,13 +102,13 @@ public final class UploadBench {
         }
     }
 
-    private Row measure(int samples, int runs) throws Exception {
+    private Row measure(int samples, int runs, int offlineRuns) throws Exception {
         byte[] body = "json".equals(format) ? traces.json(samples, 42) : traces.csv(samples, 42);
-        double[] parse = new double[runs];
-        double[] parseCpu = new double[runs];
-        double[] assemble = new double[runs];
-        double[] solve = new double[runs];
-        for (int r = 0; r < runs; r++) {
+        double[] parse = new double[offlineRuns];
+        double[] parseCpu = new double[offlineRuns];
+        double[] assemble = new double[offlineRuns];
+        double[] solve = new double[offlineRuns];
+        for (int r = 0; r < offlineRuns; r++) {
             long c0 = THREADS.getCurrentThreadCpuTime();
             long t0 = System.nanoTime();
             ParsedColumns columns = read(body);
