@@ -2,10 +2,12 @@ package backstate.formats;
 
 /**
  * A growable column of primitive doubles (no boxing), capped at a sample limit, held in segments
- * of {@value #SEGMENT} values: growing never copies what was read, a column holds at most one
- * part-filled segment beyond its values, and no segment is large enough to be a "humongous"
- * object for G1 (half a heap region: 512 KB in heaps up to 2 GB), which would be allocated outside
- * the young generation and waste up to half a region each.
+ * of {@value #SEGMENT} values: growing copies only the first segment, which starts at
+ * {@value #FIRST_LENGTH} values and doubles until it is whole (a trace of a thousand samples
+ * takes 8 KB a column, not 128 KB), a column holds at most one part-filled segment beyond its
+ * values, and no segment is large enough to be a "humongous" object for G1 (half a heap region:
+ * 512 KB in heaps up to 2 GB), which would be allocated outside the young generation and waste up
+ * to half a region each. Every segment but the last is whole.
  */
 final class DoubleColumn {
     /** log2 of the segment length. */
@@ -14,12 +16,16 @@ final class DoubleColumn {
     static final int SEGMENT = 1 << SEGMENT_BITS;
     private static final int MASK = SEGMENT - 1;
     private static final int INITIAL_SEGMENTS = 4;
+    /** Length of the first segment when it is made: the common trace fits it. */
+    static final int FIRST_LENGTH = 1024;
 
     private final String field;
     private final int limit;
     private double[][] segments = new double[INITIAL_SEGMENTS][];
     private double[] current;
     private int size;
+    /** The size at which {@code current} is full or the limit is reached: {@link #add} then makes room or refuses. */
+    private int room;
 
     DoubleColumn(String field, int limit) {
         this.field = field;
@@ -27,24 +33,30 @@ final class DoubleColumn {
     }
 
     void add(double v) {
-        if (size == limit) {
-            throw new InputException(field, "got more than " + limit + " samples, expected at most " + limit);
+        if (size == room) {
+            makeRoom();
         }
-        int at = size & MASK;
-        if (at == 0) {
-            startSegment();
-        }
-        current[at] = v;
+        current[size & MASK] = v;
         size++;
     }
 
-    private void startSegment() {
-        int index = size >>> SEGMENT_BITS;
-        if (index == segments.length) {
-            segments = java.util.Arrays.copyOf(segments, segments.length * 2);
+    /** Grows the first segment, or starts the next one; refuses a value past the limit. */
+    private void makeRoom() {
+        if (size == limit) {
+            throw new InputException(field, "got more than " + limit + " samples, expected at most " + limit);
         }
-        current = new double[SEGMENT];
+        int index = size >>> SEGMENT_BITS;
+        int at = size & MASK;
+        if (at > 0) {
+            current = java.util.Arrays.copyOf(current, Math.min(2 * current.length, SEGMENT));
+        } else {
+            if (index == segments.length) {
+                segments = java.util.Arrays.copyOf(segments, segments.length * 2);
+            }
+            current = new double[index == 0 ? FIRST_LENGTH : SEGMENT];
+        }
         segments[index] = current;
+        room = (int) Math.min(limit, (long) size - at + current.length);
     }
 
     int size() {
@@ -133,5 +145,6 @@ final class DoubleColumn {
         segments = new double[INITIAL_SEGMENTS][];
         current = null;
         size = 0;
+        room = 0;
     }
 }
