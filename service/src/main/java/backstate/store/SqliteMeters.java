@@ -17,7 +17,7 @@ import java.util.concurrent.atomic.AtomicLong;
  * the writer's own checkpoint when the WAL reached the backstop), {@code
  * backstate_store_write_batch} (requests per batch), {@code backstate_store_checkpoint_seconds}
  * (each background PASSIVE checkpoint) and {@code backstate_store_wal_pages} (the WAL's length
- * at the last checkpoint). The timers publish fixed buckets ({@link #BUCKETS}) so a scraper can
+ * at the last checkpoint that ran). The timers publish fixed buckets ({@link #BUCKETS}) so a scraper can
  * tell a tail from the difference of two scrapes.
  */
 final class SqliteMeters {
@@ -65,9 +65,15 @@ final class SqliteMeters {
         writeCommit.record(commitNanos, TimeUnit.NANOSECONDS);
     }
 
+    /**
+     * One background checkpoint round and the WAL's length SQLite reported; -1 (no checkpoint ran,
+     * as when the writer was checkpointing at its backstop) leaves the gauge at the last length known.
+     */
     void checkpointed(long nanos, int walPagesNow) {
         checkpoint.record(nanos, TimeUnit.NANOSECONDS);
-        walPages.set(walPagesNow);
+        if (walPagesNow >= 0) {
+            walPages.set(walPagesNow);
+        }
     }
 
     private static Timer timer(MeterRegistry registry, String name, String description) {

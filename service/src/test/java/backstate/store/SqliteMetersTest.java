@@ -106,6 +106,18 @@ class SqliteMetersTest {
         }
     }
 
+    @Test
+    void a_checkpoint_that_could_not_run_leaves_the_last_wal_length() {
+        // SQLite answers -1 for the WAL's length when no checkpoint ran: without a WAL
+        // (sqlite.org/pragma.html#pragma_wal_checkpoint), and, from memory of its source (the
+        // Checkpoint opcode), when another connection holds the checkpoint lock; the mixed bench
+        // printed "WAL -1 pages" while the writer checkpointed at its backstop.
+        meters.checkpointed(1_000_000, 120);
+        meters.checkpointed(2_000_000, -1);
+        assertEquals(120, registry.get(SqliteMeters.WAL_PAGES).gauge().value());
+        assertEquals(2, registry.get(SqliteMeters.CHECKPOINT).timer().count(), "both rounds timed");
+    }
+
     private static int insert(Statements c, int id) throws SQLException {
         c.execute("INSERT INTO t (id) VALUES (" + id + ")");
         return id;
