@@ -9,8 +9,18 @@ public final class ProgressReporting {
     private ProgressReporting() {
     }
 
+    /** Hears one progress report after the queue recorded it: the job and its "done" count. */
+    public interface Hook {
+        void reported(String jobId, int done) throws Exception;
+    }
+
     /** {@code queue} as is, telling {@code onProgress} each reported "done" count after recording it. */
     public static JobQueue reportingTo(JobQueue queue, IntConsumer onProgress) {
+        return reportingTo(queue, (jobId, done) -> onProgress.accept(done));
+    }
+
+    /** {@code queue} as is, telling {@code onProgress} of each progress report (job ID, done) after recording it. */
+    public static JobQueue reportingTo(JobQueue queue, Hook onProgress) {
         return (JobQueue) Proxy.newProxyInstance(JobQueue.class.getClassLoader(), new Class<?>[] {JobQueue.class},
                 (proxy, method, args) -> {
                     Object answer;
@@ -20,7 +30,7 @@ public final class ProgressReporting {
                         throw e.getCause();
                     }
                     if (method.getName().equals("reportProgress")) {
-                        onProgress.accept((Integer) args[2]);
+                        onProgress.reported((String) args[0], (Integer) args[2]);
                     }
                     return answer;
                 });

@@ -7,6 +7,7 @@ import static org.junit.jupiter.api.Assertions.assertTrue;
 import backstate.jobs.JobHandler;
 import backstate.jobs.JobOutcome;
 import backstate.jobs.JobQueue;
+import backstate.jobs.ProgressReporting;
 import backstate.jobs.WorkerPool;
 import backstate.store.Database;
 import backstate.store.JobRow;
@@ -65,7 +66,7 @@ class ChunksOnTwoReplicasTest {
     }
 
     private WorkerPool replica(String name, DemoRuns demo, Database store) {
-        JobQueue queue = DemoRuns.watching(store.queue(), (jobId, done) -> {
+        JobQueue queue = ProgressReporting.reportingTo(store.queue(), (jobId, done) -> {
             if (jobId.equals(runId.get()) && done > 0
                     && !otherReplicaStartedAChunk.await(60, TimeUnit.SECONDS)) {
                 throw new AssertionError("the other replica started no chunk in 60 s");

@@ -11,6 +11,7 @@ import backstate.formats.Limits;
 import backstate.jobs.ClaimedJob;
 import backstate.jobs.JobOutcome;
 import backstate.jobs.JobQueue;
+import backstate.jobs.ProgressReporting;
 import backstate.solving.StoredTraceSolver;
 import backstate.store.Database;
 import backstate.store.JobRow;
@@ -19,8 +20,6 @@ import com.fasterxml.jackson.databind.ObjectMapper;
 import io.micrometer.prometheusmetrics.PrometheusConfig;
 import io.micrometer.prometheusmetrics.PrometheusMeterRegistry;
 import java.io.IOException;
-import java.lang.reflect.InvocationTargetException;
-import java.lang.reflect.Proxy;
 import java.net.URI;
 import java.net.http.HttpClient;
 import java.net.http.HttpRequest;
@@ -138,31 +137,8 @@ final class DemoRuns implements AutoCloseable {
     }
 
     /** The store's queue, telling {@code onProgress} of each progress write (job ID, done) after making it. */
-    JobQueue watching(ProgressHook onProgress) {
-        return watching(store.queue(), onProgress);
-    }
-
-    /** {@code real}, telling {@code onProgress} of each progress write (job ID, done) after making it. */
-    static JobQueue watching(JobQueue real, ProgressHook onProgress) {
-        return (JobQueue) Proxy.newProxyInstance(JobQueue.class.getClassLoader(), new Class<?>[] {JobQueue.class},
-                (proxy, method, args) -> {
-                    Object answer;
-                    try {
-                        answer = method.invoke(real, args);
-                    } catch (InvocationTargetException e) {
-                        throw e.getCause();
-                    }
-                    if (method.getName().equals("reportProgress")) {
-                        onProgress.reported((String) args[0], (Integer) args[2]);
-                    }
-                    return answer;
-                });
-    }
-
-    /** Told of each progress write; may throw, as a worker that dies there would. */
-    @FunctionalInterface
-    interface ProgressHook {
-        void reported(String jobId, int done) throws Exception;
+    JobQueue watching(ProgressReporting.Hook onProgress) {
+        return ProgressReporting.reportingTo(store.queue(), onProgress);
     }
 
     private JsonNode send(HttpRequest.Builder request, int expected) throws IOException, InterruptedException {
