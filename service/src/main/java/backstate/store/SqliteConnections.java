@@ -107,8 +107,7 @@ final class SqliteConnections implements Connections {
      */
     @Override
     public <T> T readInOneSnapshot(SqlWork<T> work) {
-        Statements reader = borrowReader();
-        try {
+        return read(reader -> {
             reader.connection().setAutoCommit(false);
             try {
                 return work.run(reader);
@@ -116,15 +115,7 @@ final class SqliteConnections implements Connections {
                 reader.connection().rollback();
                 reader.connection().setAutoCommit(true);
             }
-        } catch (SQLException e) {
-            reader.close();
-            throw damage.noted(SqliteErrors.translate(e));
-        } catch (RuntimeException | Error e) {
-            reader.close();
-            throw e;
-        } finally {
-            idleReaders.add(reader);
-        }
+        });
     }
 
     /**
