@@ -22,9 +22,14 @@ final class ChunkedEquations {
     private ChunkedEquations() {
     }
 
+    /** Whether work over this many samples goes as two halves on two cores (a long trace, and a second core). */
+    static boolean inTwoHalves(int samples) {
+        return samples >= PARALLEL_FROM_SAMPLES && Runtime.getRuntime().availableProcessors() >= 2;
+    }
+
     static EquationPass.Result run(SolveContext ctx) {
         int samples = ctx.trace.samples();
-        if (samples < PARALLEL_FROM_SAMPLES || Runtime.getRuntime().availableProcessors() < 2) {
+        if (!inTwoHalves(samples)) {
             return EquationPass.run(ctx);
         }
         int middle = samples / 2;

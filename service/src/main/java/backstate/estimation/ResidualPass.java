@@ -46,7 +46,7 @@ final class ResidualPass {
      * from about 10⁴ samples (1.1 → 0.7 ms) but save under 5 ms below 10⁵, where a job server
      * running several jobs side by side gets more from the second core than one job does.
      */
-    static final int PARALLEL_MIN_SAMPLES = 100_000;
+    static final int PARALLEL_MIN_SAMPLES = ChunkedEquations.PARALLEL_FROM_SAMPLES;
     /**
      * Chunks of a long trace: the two cores of the deployment target. Fixed rather than read from
      * the machine, so that a trace's diagnostics do not depend on where it was solved.

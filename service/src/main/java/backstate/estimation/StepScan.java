@@ -15,13 +15,10 @@ import java.util.concurrent.CompletableFuture;
  * @param foundUnits whether some sample sits on the sought unit
  */
 record StepScan(long step, boolean even, boolean foundUnits) {
-    /** Traces at least this long are walked in two halves, as the equation pass splits them. */
-    static final int PARALLEL_FROM_SAMPLES = ChunkedEquations.PARALLEL_FROM_SAMPLES;
-
-    /** Walks every sample, looking for a sample on {@code sought} units (−1: none sought). */
+    /** Walks every sample, looking for a sample on {@code sought} units (−1: none sought); in two halves as the equation pass splits. */
     static StepScan of(StateSpaceModel model, SampleSteps steps, double[] times, long sought) {
         int samples = times.length;
-        if (samples < PARALLEL_FROM_SAMPLES || Runtime.getRuntime().availableProcessors() < 2) {
+        if (!ChunkedEquations.inTwoHalves(samples)) {
             return walk(model, steps, times, 0, samples, sought);
         }
         int middle = samples / 2;

@@ -11,7 +11,7 @@ import org.junit.jupiter.api.Test;
  * join differs, and the first bad sample in trace order named in the error.
  */
 class StepScanTest {
-    static final int SAMPLES = StepScan.PARALLEL_FROM_SAMPLES + 1_001;
+    static final int SAMPLES = ChunkedEquations.PARALLEL_FROM_SAMPLES + 1_001;
     static final int MIDDLE = SAMPLES / 2;
     static final StateSpaceModel CONTINUOUS = EvenStepTest.CONTINUOUS;
 
