@@ -30,19 +30,19 @@ final class CsvRecords {
     static final int MAX_FIELD_LENGTH = 256;
     /** A UTF-8 sequence (well-formed or not) decodes to at least one char per 4 bytes, so more bytes than this are too long. */
     private static final int MAX_FIELD_BYTES = 4 * MAX_FIELD_LENGTH;
-    private static final int BLOCK_BYTES = 64 * 1024;
+    static final int BLOCK_BYTES = 64 * 1024;
     private static final int EOF = -1;
 
     private final InputStream in;
     private final int maxFields;
     /** Fields the record being read may have: {@code headerFields} for the first, {@code maxFields} after. */
     private int fieldLimit;
-    private final byte[] block = new byte[BLOCK_BYTES];
+    private final byte[] block;
     private int position;
     private int filled;
     private boolean ended;
-    private long line = 1;
-    private long recordLine = 1;
+    private long line;
+    private long recordLine;
 
     /** The current record's fields, unquoted, back to back in {@code content}, unless read in place. */
     private byte[] content = new byte[256];
@@ -62,7 +62,39 @@ final class CsvRecords {
      * @param maxFields    fields every later record may have
      */
     CsvRecords(InputStream in, int headerFields, int maxFields) {
+        this(in, headerFields, maxFields, 1);
+    }
+
+    /** Records from a stream whose first byte is on line {@code firstLine}, each with at most {@code maxFields} fields. */
+    CsvRecords(InputStream in, int maxFields, long firstLine) {
+        this(in, maxFields, maxFields, firstLine);
+    }
+
+    /**
+     * Records from {@code bytes[from, to)}, read where they lie (nothing copied), each with at most
+     * {@code maxFields} fields; the byte at {@code from} is on line {@code firstLine}.
+     */
+    CsvRecords(byte[] bytes, int from, int to, int maxFields, long firstLine) {
+        this(null, maxFields, maxFields, firstLine, bytes);
+        this.position = from;
+        this.filled = to;
+        this.ended = true;
+    }
+
+    private CsvRecords(InputStream in, int headerFields, int maxFields, long firstLine) {
+        this(in, headerFields, maxFields, firstLine, new byte[BLOCK_BYTES]);
+    }
+
+    /** Records read through a block of {@code blockBytes} (tests cut tiny blocks, so records cross their edges everywhere). */
+    static CsvRecords inBlocksOf(int blockBytes, InputStream in, int headerFields, int maxFields) {
+        return new CsvRecords(in, headerFields, maxFields, 1, new byte[blockBytes]);
+    }
+
+    private CsvRecords(InputStream in, int headerFields, int maxFields, long firstLine, byte[] block) {
         this.in = in;
+        this.block = block;
+        this.line = firstLine;
+        this.recordLine = firstLine;
         this.maxFields = maxFields;
         this.fieldLimit = headerFields;
         int capacity = Math.max(headerFields, maxFields);
@@ -77,9 +109,34 @@ final class CsvRecords {
         return recordLine;
     }
 
+    /** Line number of the next byte to be read: one more than the line ends passed so far. */
+    long nextLine() {
+        return line;
+    }
+
+    /**
+     * True when every byte of the input is in hand: the block holds the rest of the input, read
+     * to its end. The block is filled whole ({@link #fill}), so this depends on the input's length,
+     * not on how a network stream delivers it.
+     */
+    boolean inputInHand() {
+        return ended;
+    }
+
+    /** The bytes read from the input but not yet consumed; the input goes on after them. */
+    byte[] unconsumed() {
+        return Arrays.copyOfRange(block, position, filled);
+    }
+
     /** Reads the next record; false at the end of input. A blank line ends nothing and is skipped. */
     boolean next() throws IOException {
         while (true) {
+            if (position < filled && block[position] != '\r' && block[position] != '\n') {
+                recordLine = line;
+                record();
+                fieldLimit = maxFields;
+                return true;
+            }
             int c = read();
             if (c == EOF) {
                 return false;
@@ -351,17 +408,32 @@ final class CsvRecords {
         return block[position] & 0xFF;
     }
 
+    /** Refills the block from the input, as full as the input allows; false at its end. */
     private boolean fill() throws IOException {
-        while (!ended) {
-            int n = in.read(block, 0, block.length);
-            if (n < 0) {
-                ended = true;
-            } else if (n > 0) {
-                position = 0;
-                filled = n;
-                return true;
-            }
+        if (ended) {
+            return false;
         }
-        return false;
+        int n = readFully(in, block, 0, block.length);
+        ended = n < block.length;
+        position = 0;
+        filled = n;
+        return n > 0;
+    }
+
+    /**
+     * Reads into {@code bytes[from, from + length)} until it is full or the input ends; the bytes
+     * read. {@link InputStream#readNBytes(byte[], int, int)} promises the same, but a subclass that
+     * narrows {@code read} may inherit an override that reads once.
+     */
+    static int readFully(InputStream in, byte[] bytes, int from, int length) throws IOException {
+        int n = 0;
+        while (n < length) {
+            int got = in.read(bytes, from + n, length - n);
+            if (got < 0) {
+                break;
+            }
+            n += got;
+        }
+        return n;
     }
 }

@@ -63,6 +63,43 @@ final class DoubleColumn {
         return size;
     }
 
+    /** Most values the column takes. */
+    int limit() {
+        return limit;
+    }
+
+    /**
+     * Drops the values from index n on, keeping the segment value n falls in (the first segment
+     * when n is 0) to be written again.
+     */
+    void truncate(int n) {
+        if (n >= size) {
+            return;
+        }
+        int kept = Math.max(1, (n + SEGMENT - 1) >>> SEGMENT_BITS);
+        for (int s = kept; s < segments.length; s++) {
+            segments[s] = null;
+        }
+        size = n;
+        current = segments[kept - 1];
+        room = (int) Math.min(limit, (long) (kept - 1) * SEGMENT + current.length);
+    }
+
+    /** Appends every value of {@code more}, as {@link #add} would one by one, a run at a time. */
+    void addAll(DoubleColumn more) {
+        int copied = 0;
+        while (copied < more.size) {
+            if (size == room) {
+                makeRoom();
+            }
+            int from = copied & MASK;
+            int run = Math.min(Math.min(room - size, more.size - copied), SEGMENT - from);
+            System.arraycopy(more.segments[copied >>> SEGMENT_BITS], from, current, size & MASK, run);
+            size += run;
+            copied += run;
+        }
+    }
+
     double get(int i) {
         return segments[i >>> SEGMENT_BITS][i & MASK];
     }

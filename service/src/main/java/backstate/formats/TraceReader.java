@@ -124,31 +124,11 @@ public final class TraceReader {
         if (!records.next()) {
             throw new InputException("header", "got an empty body, expected a header row: time, then channel names");
         }
-        List<String> header = records.texts();
-        CsvHeader layout = headerTargets(header, columns);
-        DoubleColumn[] targets = layout.channels();
-        int time = layout.time();
-        String[] names = new String[targets.length];
-        boolean[] missingAllowed = new boolean[targets.length];
-        for (int i = 0; i < targets.length; i++) {
-            names[i] = header.get(i).trim();
-            missingAllowed[i] = i != time && columns.isOutput(names[i]);
-        }
-        TraceTimes times = columns.times();
-        while (records.next()) {
-            if (records.size() != targets.length) {
-                throw new InputException("line " + records.line(), "got " + records.size() + " fields, expected " + targets.length);
-            }
-            csvTime(records, time, times);
-            for (int i = 0; i < targets.length; i++) {
-                if (i != time) {
-                    double v = csvNumber(records, i, names[i], missingAllowed[i]);
-                    if (Math.abs(v) > Limits.MAX_MAGNITUDE) {
-                        Limits.requireMagnitude("line " + records.line() + ", column " + names[i], v);
-                    }
-                    targets[i].add(v);
-                }
-            }
+        CsvHeader layout = headerTargets(records.texts(), columns, maxFields);
+        if (records.inputInHand()) {
+            layout.rows().readAll(records, columns.times(), layout.channels());
+        } else {
+            CsvLanes.readRest(records, body, layout.rows(), columns.times(), layout.channels(), limits.maxSamples());
         }
         return finish(columns, options, referenceMicros);
     }
@@ -168,11 +148,12 @@ public final class TraceReader {
         return parsed;
     }
 
-    /** The time column's index, and every other column's target (null at the time column). */
-    record CsvHeader(int time, DoubleColumn[] channels) {
+    /** Every column's target (null at the time column), and how the rows are read into them. */
+    record CsvHeader(DoubleColumn[] channels, CsvRows rows) {
     }
 
-    static CsvHeader headerTargets(List<String> header, TraceColumns columns) {
+    /** The header's layout; {@code maxFields} is the fields past which a row is refused by count. */
+    static CsvHeader headerTargets(List<String> header, TraceColumns columns, int maxFields) {
         DoubleColumn[] targets = new DoubleColumn[header.size()];
         int time = -1;
         for (int i = 0; i < header.size(); i++) {
@@ -198,17 +179,13 @@ public final class TraceReader {
         if (time < 0) {
             throw new InputException("header", "got no time column, expected one named \"time\" (or \"time since\" and its start)");
         }
-        return new CsvHeader(time, targets);
-    }
-
-    /** The time cell of the current record: a plain decimal read from its bytes, else the general path. */
-    private static void csvTime(CsvRecords records, int i, TraceTimes times) {
-        double v = records.decimal(i);
-        if (Double.isNaN(v)) {
-            csvTime(records.text(i), timeField(records.line()), times);
-        } else if (!times.add(v, false)) {
-            throw times.refusal(timeField(records.line()), v, false);
+        String[] names = new String[targets.length];
+        boolean[] missingAllowed = new boolean[targets.length];
+        for (int i = 0; i < targets.length; i++) {
+            names[i] = header.get(i).trim();
+            missingAllowed[i] = i != time && columns.isOutput(names[i]);
         }
+        return new CsvHeader(targets, new CsvRows(time, names, missingAllowed, maxFields));
     }
 
     /** The general path for a time cell: a decimal number of seconds or an RFC 3339 time. */
@@ -231,19 +208,6 @@ public final class TraceReader {
         String shown = name.length() > 40 ? name.substring(0, 40) + "…" : name;
         return new InputException(field, "got an unknown column \"" + shown + "\", expected \"time\" and the model's"
                 + " channels " + columns.channelNames());
-    }
-
-    /**
-     * Cell i of the current record. An ASCII cell holding a short plain decimal (nearly every
-     * cell) is read from its bytes; anything else goes through {@link #csvNumber(String, String, boolean)},
-     * which decides and words the answer, so both paths accept, refuse and read alike.
-     */
-    private static double csvNumber(CsvRecords records, int i, String column, boolean missingAllowed) {
-        double v = records.decimal(i);
-        if (!Double.isNaN(v) || missingAllowed && records.isBlank(i)) {
-            return v;
-        }
-        return csvNumber(records.text(i), "line " + records.line() + ", column " + column, missingAllowed);
     }
 
     /** The general path for one cell: any text, decided by the {@code DECIMAL} pattern and {@code parseDouble}. */

@@ -55,6 +55,46 @@ final class TraceTimes {
         return true;
     }
 
+    /**
+     * Appends times read apart, as {@link #add} would one by one. False, appending nothing, when
+     * they are of the other kind than this trace's, their first is not after this trace's last,
+     * or they would pass the sample limit; {@link #add} then finds the refusal where it stands.
+     */
+    boolean appendAll(TraceTimes more) {
+        if (more.size() == 0) {
+            return true;
+        }
+        boolean otherKind = kind != Kind.UNDECIDED && more.kind != kind;
+        boolean notAfter = size() > 0 && !(more.values.get(0) > last);
+        if (otherKind || notAfter || (long) size() + more.size() > values.limit()) {
+            return false;
+        }
+        kind = more.kind;
+        values.addAll(more.values);
+        last = more.last;
+        return true;
+    }
+
+    /** Where the times stand, to go back to ({@link #rollBack}). */
+    record Mark(int size, Kind kind, double last) {
+    }
+
+    Mark mark() {
+        return new Mark(size(), kind, last);
+    }
+
+    /** Back to where {@code mark} was taken: later times dropped, the kind as it was then. */
+    void rollBack(Mark mark) {
+        values.truncate(mark.size());
+        kind = mark.kind();
+        last = mark.last();
+    }
+
+    /** Empty again, of no kind yet, keeping the first segment of room (for times read apart, block after block). */
+    void clear() {
+        rollBack(new Mark(0, Kind.UNDECIDED, 0));
+    }
+
     /** Why {@link #add} refused this time, as the exception for the row named {@code field}. */
     RuntimeException refusal(String field, double seconds, boolean timestamp) {
         if (kind != (timestamp ? Kind.TIMESTAMPS : Kind.SECONDS)) {

@@ -295,7 +295,7 @@ class CsvFastPathTest {
     void generated_traces_store_from_their_columns_as_the_oracle_trace(@ForAll("traces") String csv) throws IOException {
         byte[] body = csv.getBytes(StandardCharsets.UTF_8);
         ColumnarIntakeTest.assertStoredAlike(JacksonCsvOracle.readCsv(body, MODEL, Limits.DEFAULTS),
-                new TraceReader(Limits.DEFAULTS).readCsvColumns(stream(body), MODEL, TraceOptions.NONE, null), csv);
+                new TraceReader(Limits.DEFAULTS).readCsvColumns(new ByteArrayInputStream(body), MODEL, TraceOptions.NONE, null), csv);
     }
 
     @Property(tries = 3000)
@@ -476,38 +476,47 @@ class CsvFastPathTest {
     }
 
     /**
-     * Reads the body twice and requires the same trace or the same refusal, word for word: in 7-byte
-     * reads, where records cross read blocks everywhere and the byte loop reads them, and whole, where
-     * records lie in one block and plain ones are read in place.
+     * Reads the body twice and requires the same trace or the same refusal, word for word: front to
+     * back through 7-byte blocks, where records cross the reader's blocks everywhere and the byte
+     * loop reads them, and as the intake reads it, where records lie in one block and plain ones
+     * are read in place.
      */
     private static ParsedTrace read(byte[] body, Limits limits) throws IOException {
-        assertEquals(described(() -> readFrom(stream(body), limits)), described(() -> readFrom(new ByteArrayInputStream(body), limits)),
-                "read 7 bytes at a time and read whole");
-        return readFrom(stream(body), limits);
+        assertEquals(described(() -> frontToBack(body, limits, 7)), described(() -> readFrom(new ByteArrayInputStream(body), limits)),
+                "read front to back through 7-byte blocks and read whole");
+        return frontToBack(body, limits, 7);
     }
 
     private static ParsedTrace readFrom(InputStream in, Limits limits) throws IOException {
         return new TraceReader(limits).readCsv(in, MODEL, TraceOptions.NONE);
     }
 
+    /**
+     * The body read front to back by one {@link CsvRecords} through blocks of {@code blockBytes},
+     * as {@link TraceReader} reads a body that fits the first block, without the second thread it
+     * takes for a larger one ({@link CsvLanes}).
+     */
+    static ParsedTrace frontToBack(byte[] body, Limits limits, int blockBytes) throws IOException {
+        TraceColumns columns = new TraceColumns(MODEL, limits);
+        int maxFields = 1 + MODEL.outputs().size() + MODEL.inputsOrEmpty().size();
+        CsvRecords records = CsvRecords.inBlocksOf(blockBytes, new ByteArrayInputStream(body),
+                maxFields + TraceReader.EXTRA_HEADER_FIELDS, maxFields);
+        if (!records.next()) {
+            throw new InputException("header", "got an empty body, expected a header row: time, then channel names");
+        }
+        TraceReader.CsvHeader layout = TraceReader.headerTargets(records.texts(), columns, maxFields);
+        layout.rows().readAll(records, columns.times(), layout.channels());
+        return columns.finish(TraceOptions.NONE).assemble();
+    }
+
     /** {@link #outcome}, but a refusal with its class and words. */
-    private static String described(Read read) throws IOException {
+    static String described(Read read) throws IOException {
         try {
             ParsedTrace t = read.run();
             return outcome(() -> t);
         } catch (InputException | ModelException e) {
             return e.getClass().getSimpleName() + ": " + e.getMessage();
         }
-    }
-
-    /** Hands out at most 7 bytes a read, so records cross block boundaries everywhere. */
-    private static InputStream stream(byte[] body) {
-        return new ByteArrayInputStream(body) {
-            @Override
-            public synchronized int read(byte[] b, int off, int len) {
-                return super.read(b, off, Math.min(len, 7));
-            }
-        };
     }
 
     private static double[] times(ParsedTrace t) {

@@ -83,6 +83,76 @@ class DoubleColumnTest {
         }
     }
 
+    @Test
+    void truncated_then_added_to_reads_as_if_only_the_kept_values_had_been_added() {
+        for (int n : LENGTHS) {
+            for (int kept : LENGTHS) {
+                if (kept > n) {
+                    continue;
+                }
+                DoubleColumn column = filled(n, Integer.MAX_VALUE);
+                column.truncate(kept);
+                for (int k = kept; k < n + 3; k++) {
+                    column.add(value(k));
+                }
+                assertSameAs(filled(n + 3, Integer.MAX_VALUE), column, "length " + n + " cut to " + kept);
+            }
+        }
+    }
+
+    @Test
+    void a_truncated_column_still_refuses_the_value_past_the_limit() {
+        DoubleColumn column = filled(SEGMENT + 1, SEGMENT + 1);
+        column.truncate(SEGMENT - 1);
+        column.add(value(SEGMENT - 1));
+        column.add(value(SEGMENT));
+        assertThrows(InputException.class, () -> column.add(1.0));
+        assertEquals(SEGMENT + 1, column.size());
+    }
+
+    @Test
+    void appended_columns_read_as_their_values_added_one_by_one() {
+        for (int n : LENGTHS) {
+            for (int m : LENGTHS) {
+                DoubleColumn more = new DoubleColumn("return_air", Integer.MAX_VALUE);
+                for (int k = n; k < n + m; k++) {
+                    more.add(value(k));
+                }
+                DoubleColumn column = filled(n, Integer.MAX_VALUE);
+                column.addAll(more);
+                assertSameAs(filled(n + m, Integer.MAX_VALUE), column, length(n) + " and " + m + " appended");
+            }
+        }
+    }
+
+    @Test
+    void appending_past_the_limit_is_refused_as_adding_would_be() {
+        DoubleColumn more = filled(3, Integer.MAX_VALUE);
+        DoubleColumn column = filled(SEGMENT - 1, SEGMENT + 1);
+        InputException refused = assertThrows(InputException.class, () -> column.addAll(more));
+        assertTrue(refused.getMessage().contains("got more than " + (SEGMENT + 1) + " samples"), refused.getMessage());
+        assertEquals(SEGMENT + 1, column.size());
+    }
+
+    /** Same values, and the same segment layout, as {@code expected}. */
+    private static void assertSameAs(DoubleColumn expected, DoubleColumn actual, String what) {
+        assertEquals(expected.size(), actual.size(), what);
+        for (int k = 0; k < expected.size(); k++) {
+            assertEquals(expected.get(k), actual.get(k), what + ", value " + k);
+        }
+        int used = (expected.size() + SEGMENT - 1) / SEGMENT;
+        for (int s = 0; s < used - 1; s++) {
+            assertEquals(SEGMENT, actual.segments()[s].length, what + ", segment " + s + " is whole");
+        }
+        for (int s = used; s < actual.segments().length; s++) {
+            assertNull(actual.segments()[s], what + ", segment " + s + " past the values");
+        }
+    }
+
+    private static String length(int n) {
+        return "length " + n;
+    }
+
     private static DoubleColumn filled(int n, int limit) {
         DoubleColumn column = new DoubleColumn("return_air", limit);
         for (int k = 0; k < n; k++) {
