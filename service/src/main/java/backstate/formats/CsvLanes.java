@@ -10,15 +10,8 @@ import java.util.Arrays;
 import java.util.Collections;
 import java.util.Deque;
 import java.util.List;
-import java.util.concurrent.ExecutionException;
 import java.util.concurrent.Executor;
 import java.util.concurrent.Future;
-import java.util.concurrent.FutureTask;
-import java.util.concurrent.RejectedExecutionException;
-import java.util.concurrent.SynchronousQueue;
-import java.util.concurrent.ThreadPoolExecutor;
-import java.util.concurrent.TimeUnit;
-import java.util.concurrent.atomic.AtomicInteger;
 
 /**
  * Reads the rows of a large CSV body on two threads. The body is cut into blocks at line feeds and
@@ -34,8 +27,9 @@ import java.util.concurrent.atomic.AtomicInteger;
  * trace as it stood before the block (a block read into the trace's columns is first rolled back).
  * Every block before it read whole records, each ending at a line feed outside quotes, so that
  * reading starts at a record's start and words any refusal with its true line. A full block with
- * no line feed (a body with CR line ends) is read the same way. The helper comes from a small pool
- * and is never waited for: when none is free, the calling thread reads every block itself.
+ * no line feed (a body with CR line ends) is read the same way. The helper comes from
+ * {@link ParseHelpers} and is never waited for: when none is free, the calling thread reads every
+ * block itself.
  */
 final class CsvLanes {
     /**
@@ -49,7 +43,6 @@ final class CsvLanes {
      * bench/load/upload.sh).
      */
     private static final double HELPER_SHARE = 1.25;
-    private static final Executor HELPERS = helperPool();
 
     private final InputStream in;
     private final CsvRows rows;
@@ -112,7 +105,7 @@ final class CsvLanes {
      */
     static void readRest(CsvRecords records, InputStream in, CsvRows rows, TraceTimes times, DoubleColumn[] columns,
                          int limit) throws IOException {
-        readRest(records, in, rows, times, columns, limit, BLOCK_BYTES, HELPERS);
+        readRest(records, in, rows, times, columns, limit, BLOCK_BYTES, ParseHelpers.POOL);
     }
 
     /** {@link #readRest}, with the block length and the helper threads given (tests cut tiny blocks). */
@@ -126,7 +119,7 @@ final class CsvLanes {
         while (true) {
             Block first = nextBlock(blockBytes);
             Block second = first != null && first.splitAtLineFeed() && !first.last() ? nextBlock(helperBytes) : null;
-            long pendingLines = pending == null ? 0 : await(pending.lines()); // the helper is free from here
+            long pendingLines = pending == null ? 0 : ParseHelpers.await(pending.lines()); // the helper is free from here
             HandedOver handed = handOver(second);
             if (pending != null) {
                 if (pendingLines < 0 || !append(pending.lane(), pendingLines)) {
@@ -181,14 +174,12 @@ final class CsvLanes {
             return null;
         }
         Lane lane = lanes[nextLane];
-        FutureTask<Long> task = new FutureTask<>(() -> readAlone(block, lane));
-        try {
-            helpers.execute(task);
-        } catch (RejectedExecutionException e) {
+        Future<Long> lines = ParseHelpers.start(helpers, () -> readAlone(block, lane));
+        if (lines == null) {
             return null;
         }
         nextLane ^= 1;
-        return new HandedOver(block, lane, task);
+        return new HandedOver(block, lane, lines);
     }
 
     /** The block's rows read into the lane, as if they were a whole body's; their line count, or -1 on any refusal. */
@@ -255,27 +246,5 @@ final class CsvLanes {
         carry = null;
         rows.readAll(new CsvRecords(new SequenceInputStream(Collections.enumeration(parts)), rows.fieldLimit(), line),
                 times, columns);
-    }
-
-    private static long await(Future<Long> lines) {
-        try {
-            return lines.get();
-        } catch (InterruptedException e) {
-            Thread.currentThread().interrupt();
-            throw new IllegalStateException("interrupted while a helper read rows", e);
-        } catch (ExecutionException e) {
-            return -1;
-        }
-    }
-
-    /** Daemon threads, as many as cores, kept 30 s when idle; a hand-over finding none free is refused, not queued. */
-    private static Executor helperPool() {
-        AtomicInteger count = new AtomicInteger();
-        int threads = Math.max(1, Runtime.getRuntime().availableProcessors());
-        return new ThreadPoolExecutor(0, threads, 30, TimeUnit.SECONDS, new SynchronousQueue<>(), r -> {
-            Thread t = new Thread(r, "backstate-csv-lane-" + count.incrementAndGet());
-            t.setDaemon(true);
-            return t;
-        });
     }
 }

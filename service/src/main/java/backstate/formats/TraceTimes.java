@@ -1,6 +1,7 @@
 package backstate.formats;
 
 import backstate.estimation.ModelException;
+import java.util.concurrent.Future;
 
 /**
  * A trace's time column while it is read, and the clock it is written on. A trace writes its
@@ -126,28 +127,80 @@ final class TraceTimes {
 
     /**
      * The times as epoch seconds on the microsecond grid, checked to be writable and increasing
-     * there; the times as read are handed over, so call it once, when the trace is complete.
+     * there; the times as read are handed over, so call it once, when the trace is complete. From
+     * {@value #TWO_HALVES_FROM} times the later half is normalised on a helper thread
+     * ({@link ParseHelpers}) while this one does the first; the refusal is the first time's either
+     * way.
      */
     double[] normalised() {
         if (kind == Kind.TIMESTAMPS && startMicros != null) {
             throw new InputException(startField, "got a start with RFC 3339 times, expected a start only with times"
                     + " in seconds since it");
         }
-        double[] out = new double[values.size()];
-        values.moveTo(out, 0, 1); // the times as read, let go of as they are copied; normalised in place below
-        for (int k = 0; k < out.length; k++) {
-            double v = out[k];
-            out[k] = kind == Kind.TIMESTAMPS ? v : normalise(v);
-            if (!RecordingTime.writable(out[k])) {
-                throw new InputException("time[" + k + "]", "got " + v + (startMicros == null ? " s since 1970" : " s after the start")
-                        + ", expected a time in the years 0000 to 9999");
-            }
-            if (k > 0 && !(out[k] > out[k - 1])) {
-                throw new ModelException("time[" + k + "]", "got " + show(v) + ", within 1 µs of the time before it,"
-                        + " expected times at least 1 µs apart");
-            }
+        int n = values.size();
+        double[] out = new double[n];
+        double[][] segments = values.takeSegments();
+        int segmentCount = (n + DoubleColumn.SEGMENT - 1) >>> DoubleColumn.SEGMENT_BITS;
+        int split = n >= TWO_HALVES_FROM ? segmentCount / 2 : segmentCount;
+        double laterFirstAsRead = split < segmentCount ? segments[split][0] : Double.NaN;
+        Future<Unfit> later = split < segmentCount
+                ? ParseHelpers.start(ParseHelpers.POOL, () -> normalise(segments, split, segmentCount, n, out)) : null;
+        Unfit first = normalise(segments, 0, later == null ? segmentCount : split, n, out);
+        Unfit second = later == null ? null : ParseHelpers.await(later);
+        if (first == null && later != null) {
+            int k = split << DoubleColumn.SEGMENT_BITS;
+            first = second != null && second.index() == k ? second : unfitAfter(out, k, laterFirstAsRead);
+            first = first != null ? first : second;
+        }
+        if (first != null) {
+            throw first.refusal();
         }
         return out;
+    }
+
+    /** Times from this many on are normalised in two halves, one on a helper thread: about 2 ms of work, against a hand-over of about 0.05 ms. */
+    static final int TWO_HALVES_FROM = 100_000;
+
+    /** The first time that may not be kept, as read, and what is wrong with it. */
+    private record Unfit(int index, double asRead, boolean unwritable, TraceTimes times) {
+        RuntimeException refusal() {
+            if (unwritable) {
+                return new InputException("time[" + index + "]", "got " + asRead + (times.startMicros == null ? " s since 1970"
+                        : " s after the start") + ", expected a time in the years 0000 to 9999");
+            }
+            return new ModelException("time[" + index + "]", "got " + times.show(asRead) + ", within 1 µs of the time before it,"
+                    + " expected times at least 1 µs apart");
+        }
+    }
+
+    /**
+     * Normalises the times of segments [from, to) into {@code out}, letting go of each segment once
+     * read; the first that is not writable, or (past the range's first) not after the one before.
+     */
+    private Unfit normalise(double[][] segments, int from, int to, int n, double[] out) {
+        Unfit unfit = null;
+        for (int s = from; s < to; s++) {
+            double[] segment = segments[s];
+            segments[s] = null;
+            int base = s << DoubleColumn.SEGMENT_BITS;
+            int count = Math.min(DoubleColumn.SEGMENT, n - base);
+            for (int i = 0; i < count; i++) {
+                int k = base + i;
+                double v = segment[i];
+                out[k] = kind == Kind.TIMESTAMPS ? v : normalise(v);
+                if (unfit == null && !RecordingTime.writable(out[k])) {
+                    unfit = new Unfit(k, v, true, this);
+                } else if (unfit == null && k > from << DoubleColumn.SEGMENT_BITS && !(out[k] > out[k - 1])) {
+                    unfit = unfitAfter(out, k, v);
+                }
+            }
+        }
+        return unfit;
+    }
+
+    /** Time k, read as {@code asRead}, when it is not after the time before it; null when it is. */
+    private Unfit unfitAfter(double[] out, int k, double asRead) {
+        return out[k] > out[k - 1] ? null : new Unfit(k, asRead, false, this);
     }
 
     private String show(double seconds) {
