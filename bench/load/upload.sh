@@ -3,15 +3,15 @@
 # for the JSON body), each against a fresh server: its resident memory above idle (idle = after
 # start-up and a forced GC; peak during post, parse, store and solve, from VmHWM; and after a forced
 # GC), the post's time to 202, the server's own solve time, and, in the driver's JVM on the same
-# bytes, the warm parse (TraceReader.readCsvColumns, what the intake runs; wall and thread CPU
-# time), the assembly of the row-major trace, the solve, and the live heap of parse + stored encoding. Prints the
+# bytes, the warm parse (TraceReader.readCsvColumns, what the intake runs; wall time, and the CPU
+# time of its two threads), the assembly of the row-major trace, the solve, and the live heap of parse + stored encoding. Prints the
 # targets (RSS peak <= 150 MB above idle at 10^6; parse <= solve), the baseline (main before the
 # streaming intake: RSS 628 MB at 10^6, parse 0.37 s) as ratios, the scaling ratios, and where the
 # server's committed memory went (NMT).
 #
-#   bench/load/upload.sh                       # about 4 minutes on 2 cores
+#   bench/load/upload.sh                       # about 5 minutes on 2 cores
 #   SIZES=1000000 RUNS=3 FORMAT=json bench/load/upload.sh
-#   OFFLINE_RUNS=21 bench/load/upload.sh      # offline parse, assembly and solve runs a size (default 11; medians of all but the first)
+#   OFFLINE_RUNS=41 bench/load/upload.sh      # offline parse, assembly and solve runs a size (default 31; medians of all after the first 11)
 #   SERVER_HEAP=300m bench/load/upload.sh      # the server's -Xmx (default 1g, see bench/README.md "Uploads")
 #   OFFLINE_JAVA_OPTS=-XX:TieredStopAtLevel=1 bench/load/upload.sh   # the offline parse and solve on the
 #                                              # service's compiler (default: the JVM's, as the baseline was)
@@ -31,7 +31,7 @@ for size in ${SIZES:-100000 1000000 2000000}; do
   jcmd "$SERVER_PID" VM.native_memory baseline >/dev/null
   # shellcheck disable=SC2086 # OFFLINE_JAVA_OPTS may hold several options
   java ${OFFLINE_JAVA_OPTS:-} -Xmx"${DRIVER_HEAP:-3g}" -Dbackstate.testData="$ROOT/test-data" -cp "$CP" backstate.reliability.UploadBench \
-    --base "$BASE" --db "$DB" --pid "$SERVER_PID" --sizes "$size" --runs "${RUNS:-4}" --offline-runs "${OFFLINE_RUNS:-11}" --format "${FORMAT:-csv}" \
+    --base "$BASE" --db "$DB" --pid "$SERVER_PID" --sizes "$size" --runs "${RUNS:-4}" --offline-runs "${OFFLINE_RUNS:-31}" --format "${FORMAT:-csv}" \
     | tee -a "$ROWS" | grep -v '^ROW'
   echo "  server memory by NMT category, committed after the last upload against start-up (before a GC):"
   jcmd "$SERVER_PID" VM.native_memory summary.diff scale=MB | grep -E '^-|Total' | grep -E '[+-][0-9]+MB' | sed 's/^/   /'
@@ -42,7 +42,7 @@ python3 - "$ROWS" "${FORMAT:-csv}" <<'PY'
 import sys
 rows = [list(map(float, l.split()[1:])) for l in open(sys.argv[1]) if l.startswith('ROW ')]
 print()
-print(f"| samples | {sys.argv[2]} MB | offline parse s | parse thread CPU s | assemble s | offline solve s | parse / solve"
+print(f"| samples | {sys.argv[2]} MB | offline parse s | parse CPU s (both threads) | assemble s | offline solve s | parse / solve"
       " | live heap parse+encode MB | post→202 s | job done s | server solve s | idle RSS MB | RSS peak above idle MB"
       " | warm run's peak above its own idle MB | RSS above idle after GC MB |")
 print("|---|---|---|---|---|---|---|---|---|---|---|---|---|---|---|")
@@ -58,7 +58,7 @@ for n, mb, parse, solve, live, post, job, ssolve, idle, peak, peakmax, after, cp
               f" target ({'met' if peakmax <= 150 else 'NOT met'}); against the baseline's 628 MB: {peakmax/628:.2f}x")
         print(f"target at 10^6: parse {parse:.3f} s against solve {solve:.3f} s: parse / solve {parse/solve:.2f}"
               f" ({'met' if parse <= solve else 'NOT met'}); against the baseline's 0.37 s parse: {parse/0.37:.2f}x")
-        print(f"  the parse's own thread CPU time {cpu:.3f} s (what load disturbs least; wall = CPU on a quiet machine);"
+        print(f"  the parse's CPU time {cpu:.3f} s, its two threads together (what load disturbs least);"
               f" parse + assembly of the row-major trace (the offline solve's input; the intake stores the columns):"
               f" {(parse+assemble)/solve:.2f} of the solve")
 PY

@@ -28,11 +28,13 @@ import java.util.concurrent.atomic.AtomicLong;
  * Large uploads, end to end and offline (run by {@code bench/load/upload.sh}, never by the test
  * suite; it prints figures and asserts nothing). For each trace size it
  * <ol>
- *   <li>times the parse ({@link TraceReader}'s columns, what the intake runs; also in this thread's CPU
- *       time, which a loaded machine disturbs less), the assembly of the engine's row-major trace
- *       from them, and the solve ({@link DocumentSolver}) of the same CSV in this JVM,
- *       {@code offline-runs} times in turn (so a young GC, which may fall in any of the three, moves a
- *       median of ten warm runs less than one of three), and samples the live heap of parse + stored encoding ({@link TraceCodec})
+ *   <li>times the parse ({@link TraceReader}'s columns, what the intake runs; also in CPU time, this
+ *       thread's and the parse helpers' together, which a loaded machine disturbs less), the
+ *       assembly of the engine's row-major trace from them, and the solve ({@link DocumentSolver})
+ *       of the same CSV in this JVM, {@code offline-runs} times in turn (so a young GC, which may
+ *       fall in any of the three, moves a median of many runs less than one of three); medians are
+ *       over the runs after the first {@value #OFFLINE_WARM_UP}, once this JVM's compilers and heap
+ *       have settled (the per-run figures it prints show them settle), and samples the live heap of parse + stored encoding ({@link TraceCodec})
  *       by forcing a GC every few milliseconds: what the intake's own code holds;</li>
  *   <li>posts it to the running server {@code runs} times, each after a forced GC there
  *       ({@code jcmd GC.run}), and reads the server's resident memory from {@code /proc}: after the
@@ -43,10 +45,12 @@ import java.util.concurrent.atomic.AtomicLong;
  * The first run of a size is cold for that size; medians are over the later (warm) runs.
  *
  * <pre>
- * UploadBench --base URL --db FILE --pid SERVER_PID [--sizes 1000000] [--runs 4] [--offline-runs 11] [--format csv|json]
+ * UploadBench --base URL --db FILE --pid SERVER_PID [--sizes 1000000] [--runs 4] [--offline-runs 31] [--format csv|json]
  * </pre>
  */
 public final class UploadBench {
+    /** Offline runs left out of the medians while the driver's compilers and heap settle. */
+    private static final int OFFLINE_WARM_UP = 11;
     private static final Path TEST_DATA = Path.of(System.getProperty("backstate.testData", "test-data"));
     private static final Duration TIMEOUT = Duration.ofMinutes(5);
     private static final double MB = 1 << 20;
@@ -79,7 +83,7 @@ public final class UploadBench {
             flags.put(args[i].replaceFirst("^--", ""), args[i + 1]);
         }
         int runs = Integer.parseInt(flags.getOrDefault("runs", "4"));
-        int offlineRuns = Integer.parseInt(flags.getOrDefault("offline-runs", "11"));
+        int offlineRuns = Integer.parseInt(flags.getOrDefault("offline-runs", "31"));
         UploadBench bench = new UploadBench(flags);
         for (String size : flags.getOrDefault("sizes", "1000000").split(",")) {
             bench.measure(Integer.parseInt(size.trim()), runs, offlineRuns).print();
@@ -109,11 +113,11 @@ public final class UploadBench {
         double[] assemble = new double[offlineRuns];
         double[] solve = new double[offlineRuns];
         for (int r = 0; r < offlineRuns; r++) {
-            long c0 = THREADS.getCurrentThreadCpuTime();
+            long c0 = parseCpuNanos();
             long t0 = System.nanoTime();
             ParsedColumns columns = read(body);
             long t1 = System.nanoTime();
-            long c1 = THREADS.getCurrentThreadCpuTime();
+            long c1 = parseCpuNanos();
             ParsedTrace parsed = columns.assemble();
             long t2 = System.nanoTime();
             DocumentSolver.solve(model, parsed, false, Limits.DEFAULTS);
@@ -124,7 +128,7 @@ public final class UploadBench {
             solve[r] = (t3 - t2) / 1e9;
         }
         double live = liveHeapOfParseAndEncode(body);
-        System.out.printf(Locale.ROOT, "%d samples, %.1f MB %s: offline parse %s s (thread CPU %s s), assemble %s s, solve %s s;"
+        System.out.printf(Locale.ROOT, "%d samples, %.1f MB %s: offline parse %s s (CPU of its threads %s s), assemble %s s, solve %s s;"
                         + " live heap of parse + encode %.1f MB%n",
                 samples, body.length / MB, format, seconds(parse), seconds(parseCpu), seconds(assemble), seconds(solve), live);
         double[] post = new double[runs];
@@ -160,9 +164,10 @@ public final class UploadBench {
         double[] warmAbove = warm(above);
         System.out.printf(Locale.ROOT, "  RSS after a forced GC: %.0f MB (%+.0f MB against the idle RSS before the first run)%n",
                 after, after - idle[0]);
-        return new Row(samples, body.length / MB, median(warm(parse)), median(warm(solve)), live, median(warm(post)),
+        return new Row(samples, body.length / MB, median(settled(parse)), median(settled(solve)), live, median(warm(post)),
                 median(warm(job)), median(warm(serverSolve)), idle[0], median(warmAbove),
-                Arrays.stream(peak).max().orElseThrow() - idle[0], after - idle[0], median(warm(parseCpu)), median(warm(assemble)));
+                Arrays.stream(peak).max().orElseThrow() - idle[0], after - idle[0], median(settled(parseCpu)),
+                median(settled(assemble)));
     }
 
     /** The body's columns, as the intake reads them (not yet the engine's row-major trace). */
@@ -249,6 +254,22 @@ public final class UploadBench {
     }
 
     /** All but the first (cold) run, when there is more than one. */
+    /** The offline runs after the first {@link #OFFLINE_WARM_UP} (all but the first when there are no more). */
+    private static double[] settled(double[] values) {
+        return values.length > OFFLINE_WARM_UP ? Arrays.copyOfRange(values, OFFLINE_WARM_UP, values.length) : warm(values);
+    }
+
+    /** CPU time of this thread and of the parse's helper threads ({@code backstate-parse-helper-*}), in ns. */
+    private static long parseCpuNanos() {
+        long total = THREADS.getCurrentThreadCpuTime();
+        for (Thread thread : Thread.getAllStackTraces().keySet()) {
+            if (thread.getName().startsWith("backstate-parse-helper-")) {
+                total += Math.max(0, THREADS.getThreadCpuTime(thread.getId()));
+            }
+        }
+        return total;
+    }
+
     private static double[] warm(double[] values) {
         return values.length > 1 ? Arrays.copyOfRange(values, 1, values.length) : values;
     }
