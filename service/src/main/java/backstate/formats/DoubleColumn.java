@@ -69,8 +69,8 @@ final class DoubleColumn {
     }
 
     /**
-     * Drops the values from index n on, keeping the segment value n falls in (the first segment
-     * when n is 0) to be written again.
+     * Drops the values from index n on. The segments holding values before n are kept (and the
+     * first segment when n is 0), so the next values are written into them again.
      */
     void truncate(int n) {
         if (n >= size) {

@@ -20,6 +20,12 @@ final class TraceTimes {
     /** How the trace writes its times; decided by the first. */
     private enum Kind { UNDECIDED, SECONDS, TIMESTAMPS }
 
+    /**
+     * Times from this many on are normalised in two halves, one on a helper thread: a few
+     * milliseconds of work each, against a hand-over far below one.
+     */
+    static final int TWO_HALVES_FROM = 100_000;
+
     private final DoubleColumn values;
     private Kind kind = Kind.UNDECIDED;
     /** The last time added, while {@code values} is not empty. */
@@ -157,9 +163,6 @@ final class TraceTimes {
         }
         return out;
     }
-
-    /** Times from this many on are normalised in two halves, one on a helper thread: about 2 ms of work, against a hand-over of about 0.05 ms. */
-    static final int TWO_HALVES_FROM = 100_000;
 
     /** The first time that may not be kept, as read, and what is wrong with it. */
     private record Unfit(int index, double asRead, boolean unwritable, TraceTimes times) {

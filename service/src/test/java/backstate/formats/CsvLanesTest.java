@@ -142,6 +142,30 @@ class CsvLanesTest {
         assertEquals("line 41236, column return_air", refused.field(), "header, then rows 0 to 41 234: its line");
     }
 
+    @Test
+    void a_body_delivered_a_few_bytes_a_read_reads_as_it_reads_delivered_whole() throws IOException {
+        for (int rows : new int[] {ROWS, 60_000}) {
+            StringBuilder csv = new StringBuilder(HEADER);
+            for (int k = 0; k < rows; k++) {
+                csv.append(row(k)).append('\n');
+            }
+            byte[] body = csv.toString().getBytes(StandardCharsets.UTF_8);
+            TraceReader reader = new TraceReader(Limits.DEFAULTS);
+            assertEquals(CsvFastPathTest.outcome(() -> reader.readCsv(new ByteArrayInputStream(body), MODEL, TraceOptions.NONE)),
+                    CsvFastPathTest.outcome(() -> reader.readCsv(sevenBytesARead(body), MODEL, TraceOptions.NONE)), rows + " rows");
+        }
+    }
+
+    /** Hands out at most 7 bytes a read, as a network stream may. */
+    private static InputStream sevenBytesARead(byte[] body) {
+        return new ByteArrayInputStream(body) {
+            @Override
+            public synchronized int read(byte[] b, int off, int len) {
+                return super.read(b, off, Math.min(len, 7));
+            }
+        };
+    }
+
     /** Compares every block length, header cut and helper with {@code expected}; returns how many readings. */
     private static int compareInBlocks(byte[] body, Limits limits, String expected, String what) {
         int count = 0;
