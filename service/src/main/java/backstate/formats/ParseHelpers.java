@@ -12,9 +12,10 @@ import java.util.concurrent.TimeUnit;
 import java.util.concurrent.atomic.AtomicInteger;
 
 /**
- * Second threads for reading a large body: daemon threads, as many as cores, kept 30 s when idle.
- * A task finding none free is refused, not queued, and its caller does the work itself, so a
- * reader never waits for a helper that is not yet working for it.
+ * Second threads for reading a large body: daemon threads, as many as cores, kept 30 s when idle;
+ * none on a single core, where a second thread could only take turns with the first. A task
+ * finding none free is refused, not queued, and its caller does the work itself, so a reader never
+ * waits for a helper that is not yet working for it.
  */
 final class ParseHelpers {
     static final Executor POOL = pool();
@@ -53,7 +54,12 @@ final class ParseHelpers {
 
     private static Executor pool() {
         AtomicInteger count = new AtomicInteger();
-        int threads = Math.max(1, Runtime.getRuntime().availableProcessors());
+        int threads = Runtime.getRuntime().availableProcessors();
+        if (threads < 2) {
+            return task -> {
+                throw new RejectedExecutionException("one core: no helper");
+            };
+        }
         return new ThreadPoolExecutor(0, threads, 30, TimeUnit.SECONDS, new SynchronousQueue<>(), r -> {
             Thread t = new Thread(r, "backstate-parse-helper-" + count.incrementAndGet());
             t.setDaemon(true);
