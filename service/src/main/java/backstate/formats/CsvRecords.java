@@ -131,25 +131,18 @@ final class CsvRecords {
     /** Reads the next record; false at the end of input. A blank line ends nothing and is skipped. */
     boolean next() throws IOException {
         while (true) {
-            if (position < filled && block[position] != '\r' && block[position] != '\n') {
+            int c = peek();
+            if (c == EOF) {
+                return false;
+            }
+            if (c != '\r' && c != '\n') {
                 recordLine = line;
                 record();
                 fieldLimit = maxFields;
                 return true;
             }
-            int c = read();
-            if (c == EOF) {
-                return false;
-            }
-            if (c == '\r' || c == '\n') {
-                consumeLineEnd(c);
-                continue;
-            }
-            position--; // the byte just read, still in the block
-            recordLine = line;
-            record();
-            fieldLimit = maxFields;
-            return true;
+            position++;
+            consumeLineEnd(c);
         }
     }
 
