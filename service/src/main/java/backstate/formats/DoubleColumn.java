@@ -124,18 +124,6 @@ final class DoubleColumn {
     }
 
     /**
-     * Copies the values to {@code out[at]}, {@code out[at + stride]}, … and lets go of each segment
-     * once copied, so a column moved into an assembled array is not held twice; the column is empty
-     * after.
-     */
-    void moveTo(double[] out, int at, int stride) {
-        for (int s = 0; s * SEGMENT < size; s++) {
-            moveSegment(s, out, at, stride);
-        }
-        clear();
-    }
-
-    /**
      * Moves n values of every column into the row-major {@code out}: value k of column j to
      * {@code out[k * columns.length + j]}, NaN for a null column. It goes a segment of all columns
      * at a time, so each stretch of {@code out} is written while it is in cache, instead of once
