@@ -73,11 +73,7 @@ final class CsvLanes {
     private record Lane(TraceTimes times, DoubleColumn[] columns) {
         void clear() {
             times.clear();
-            for (DoubleColumn column : columns) {
-                if (column != null) {
-                    column.truncate(0);
-                }
-            }
+            truncate(columns, 0);
         }
     }
 
@@ -206,16 +202,21 @@ final class CsvLanes {
             rows.readAll(records, times, columns);
         } catch (RuntimeException | IOException e) {
             times.rollBack(mark);
-            for (DoubleColumn column : columns) {
-                if (column != null) {
-                    column.truncate(mark.size());
-                }
-            }
+            truncate(columns, mark.size());
             return false;
         }
         line = records.nextLine();
         spare.push(block.bytes());
         return true;
+    }
+
+    /** Every column (null at the time column) cut back to its first n values. */
+    private static void truncate(DoubleColumn[] columns, int n) {
+        for (DoubleColumn column : columns) {
+            if (column != null) {
+                column.truncate(n);
+            }
+        }
     }
 
     /** Appends a lane's rows to the trace; false, appending nothing, when they do not follow on. */
