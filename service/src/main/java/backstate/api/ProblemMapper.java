@@ -55,10 +55,11 @@ final class ProblemMapper {
         routes.exception(UnrecognizedPropertyException.class, (e, ctx) -> write(ctx, ApiProblem.invalid("body" + JsonPaths.of(e),
                 "got an unknown field \"" + e.getPropertyName() + "\", expected one of " + e.getKnownPropertyIds()).toProblem()));
         routes.exception(MatrixEntryException.class, (e, ctx) -> write(ctx, ApiProblem.invalid(e.field(), e.problem()).toProblem()));
-        routes.exception(JsonMappingException.class, (e, ctx) -> write(ctx, duplicateKeyOr(e,
-                ApiProblem.invalid("body" + JsonPaths.of(e), "got a value of the wrong type or shape"))));
+        routes.exception(JsonMappingException.class, (e, ctx) -> write(ctx, duplicateKeyOr(e, JsonPaths.parseError(e)
+                .map(broken -> ApiProblem.invalid("body", JsonPaths.malformed(broken)))
+                .orElseGet(() -> ApiProblem.invalid("body" + JsonPaths.of(e), JsonPaths.mismatch(e))))));
         routes.exception(JsonProcessingException.class, (e, ctx) -> write(ctx, duplicateKeyOr(e,
-                ApiProblem.invalid("body", "malformed JSON: " + e.getOriginalMessage()))));
+                ApiProblem.invalid("body", JsonPaths.malformed(e)))));
         routes.exception(IdempotencyKeyReusedException.class, (e, ctx) -> write(ctx, ApiProblem.idempotencyKeyReused(e.key()).toProblem()));
         routes.exception(QueueFullException.class, (e, ctx) -> busy(ctx, "the job queue is full; retry later"));
         routes.exception(StoreUnavailableException.class, (e, ctx) -> {
@@ -69,7 +70,9 @@ final class ProblemMapper {
             LOG.error("stored data corrupt ({} {}): {}", ctx.method(), ctx.path(), e.getMessage(), e);
             write(ctx, ApiProblem.storedDataCorrupt(e.item()).toProblem());
         });
-        routes.exception(HttpResponseException.class, (e, ctx) -> write(ctx, fromStatus(e.getStatus(), e.getMessage())));
+        routes.exception(HttpResponseException.class, (e, ctx) -> write(ctx, e.getStatus() == 404
+                ? ApiProblem.notFound("route " + ctx.method() + " " + ctx.path()).toProblem()
+                : fromStatus(e.getStatus(), e.getMessage())));
         routes.exception(Exception.class, (e, ctx) -> {
             String reference = UUID.randomUUID().toString();
             LOG.error("unhandled error, reference {}", reference, e);
@@ -103,9 +106,15 @@ final class ProblemMapper {
         write(ctx, ApiProblem.busy(detail).toProblem());
     }
 
+    /**
+     * A status with no problem of its own. One title per type, as ApiProblem gives its types: RFC 9457
+     * says a type's title should not change from occurrence to occurrence.
+     */
     private static Problem fromStatus(int status, String detail) {
-        String slug = status == 405 ? "method-not-allowed" : status == 404 ? "not-found" : "http-" + status;
-        return new Problem(ProblemTypes.uri(slug), "HTTP " + status, status, detail, null);
+        if (status == 405) {
+            return new Problem(ProblemTypes.uri("method-not-allowed"), "Method not allowed", status, detail, null);
+        }
+        return new Problem(ProblemTypes.uri("http-" + status), "HTTP " + status, status, detail, null);
     }
 
     private static String detail(RuntimeException e) {

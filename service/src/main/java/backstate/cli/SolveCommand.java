@@ -5,12 +5,15 @@ import backstate.formats.EstimateCaution;
 import backstate.formats.EstimateDocument;
 import backstate.formats.InputException;
 import backstate.formats.Json;
+import backstate.formats.JsonPaths;
 import backstate.formats.Limits;
+import backstate.formats.MatrixEntryException;
 import backstate.formats.ModelDocument;
 import backstate.formats.ParsedTrace;
 import backstate.formats.TraceOptions;
 import backstate.formats.TraceReader;
 import com.fasterxml.jackson.annotation.JsonUnwrapped;
+import com.fasterxml.jackson.databind.JsonMappingException;
 import com.fasterxml.jackson.databind.ObjectMapper;
 import com.fasterxml.jackson.databind.SerializationFeature;
 import java.io.IOException;
@@ -73,7 +76,10 @@ public final class SolveCommand {
         }
     }
 
-    /** The model file; JSON that does not parse is named with its line and column, in one line. */
+    /**
+     * The model file; JSON that does not parse is named with its line and column, and a value of the
+     * wrong type with its path and what was expected there, in one line.
+     */
     private static ModelDocument readModel(ObjectMapper mapper, Path path) throws IOException {
         try {
             return mapper.readValue(path.toFile(), ModelDocument.class);
@@ -81,6 +87,10 @@ public final class SolveCommand {
             com.fasterxml.jackson.core.JsonLocation at = e.getLocation();
             String where = at == null ? "" : " at line " + at.getLineNr() + ", column " + at.getColumnNr();
             throw new InputException("model", path + " is not a model document: its JSON does not read" + where);
+        } catch (MatrixEntryException e) {
+            throw e;
+        } catch (JsonMappingException e) {
+            throw new InputException("model" + JsonPaths.of(e), path + " is not a model document: " + JsonPaths.mismatch(e));
         }
     }
 

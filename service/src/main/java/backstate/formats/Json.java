@@ -10,7 +10,7 @@ import com.fasterxml.jackson.databind.ObjectMapper;
 
 /**
  * The one Jackson configuration: strict on input (no nulls in number arrays, unknown fields
- * rejected, a key twice in one object rejected, depth-limited). Doubles are written by Jackson's
+ * rejected, a key twice in one object rejected, nothing after the document, depth-limited). Doubles are written by Jackson's
  * shortest-digits writer (Giulietti 2020, "The Schubfach way to render doubles"), which gives
  * the same double back on reading as {@code Double.toString} does at a fraction of Java 17's cost
  * (a tenth of an estimate job's CPU went to {@code Double.toString}).
@@ -30,6 +30,7 @@ public final class Json {
         return new ObjectMapper(factory)
                 .enable(DeserializationFeature.FAIL_ON_NULL_FOR_PRIMITIVES)
                 .enable(DeserializationFeature.FAIL_ON_UNKNOWN_PROPERTIES)
+                .enable(DeserializationFeature.FAIL_ON_TRAILING_TOKENS)
                 .disable(DeserializationFeature.ACCEPT_FLOAT_AS_INT);
     }
 

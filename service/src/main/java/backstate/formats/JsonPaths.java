@@ -1,15 +1,45 @@
 package backstate.formats;
 
+import com.fasterxml.jackson.core.JsonLocation;
 import com.fasterxml.jackson.core.JsonParser;
 import com.fasterxml.jackson.core.JsonProcessingException;
 import com.fasterxml.jackson.core.JsonStreamContext;
+import com.fasterxml.jackson.core.JsonToken;
+import com.fasterxml.jackson.core.exc.StreamConstraintsException;
+import com.fasterxml.jackson.core.exc.StreamReadException;
 import com.fasterxml.jackson.databind.JsonMappingException;
+import com.fasterxml.jackson.databind.exc.InvalidFormatException;
+import com.fasterxml.jackson.databind.exc.MismatchedInputException;
+import java.math.BigInteger;
+import java.util.Collection;
+import java.util.Locale;
 import java.util.Optional;
+import java.util.Set;
+import java.util.regex.Matcher;
+import java.util.regex.Pattern;
 
-/** Turns a Jackson error's location into a field path like {@code .prior.mean[2]}. */
+/**
+ * Turns a Jackson error into the API's words: its location into a field path like
+ * {@code .prior.mean[2]}, and its kind into a detail that says what was got and what was expected,
+ * without the Java types and source placeholders of Jackson's own messages.
+ */
 public final class JsonPaths {
     /** How Jackson's strict duplicate detection begins its message (the only mark it leaves). */
     private static final String DUPLICATE = "Duplicate field '";
+    /** The detail for a body that goes on after its JSON document. */
+    public static final String AFTER_DOCUMENT = "got more JSON after the document, expected nothing after it";
+    /** How Jackson begins the message of {@code FAIL_ON_TRAILING_TOKENS}. */
+    private static final String TRAILING = "Trailing token";
+    /** A location inside a parser's message; the source part is a placeholder, as sources are never shown. */
+    private static final Pattern SOURCE_AT = Pattern.compile("\\[Source: [^\\]]*?; line: (\\d+), column: (\\d+)]");
+    private static final Pattern SOURCE = Pattern.compile("\\s*\\[Source: [^\\]]*]");
+    /** Targets that take only whole numbers (data binding refuses 1.5 for them). */
+    private static final Set<Class<?>> WHOLE_NUMBERS = Set.of(int.class, long.class, short.class, byte.class, Integer.class,
+            Long.class, Short.class, Byte.class, BigInteger.class);
+    /** How data binding begins the message of {@code FAIL_ON_NULL_FOR_PRIMITIVES}. */
+    private static final String NULL_FOR_PRIMITIVE = "Cannot map `null` into type";
+    /** How data binding names the kind of value it could not bind ("from Array value"). */
+    private static final Pattern GOT_KIND = Pattern.compile("from (Array|Object|String|Number|Integer|Floating-point|Boolean|Null) value");
 
     private JsonPaths() {
     }
@@ -62,5 +92,125 @@ public final class JsonPaths {
             }
         }
         return path.toString();
+    }
+
+    /**
+     * The detail for JSON that does not parse: where the parser stopped and what it says there
+     * ("got malformed JSON at line 1, column 12: unexpected end-of-input …"), or, for a document past
+     * the reading limits, that it is beyond them.
+     */
+    public static String malformed(JsonProcessingException e) {
+        JsonLocation at = e.getLocation();
+        String where = at == null || at.getLineNr() < 1 ? "" : " at line " + at.getLineNr() + ", column " + at.getColumnNr();
+        String what = e instanceof StreamConstraintsException ? "got JSON beyond the limits" : "got malformed JSON";
+        return what + where + ": " + readable(e.getOriginalMessage());
+    }
+
+    /** The parse error data binding wrapped (a reader of our own met broken JSON inside a value), if there is one. */
+    public static Optional<JsonProcessingException> parseError(Throwable e) {
+        for (Throwable cause = e; cause != null; cause = cause.getCause()) {
+            if (cause instanceof StreamReadException || cause instanceof StreamConstraintsException) {
+                return Optional.of((JsonProcessingException) cause);
+            }
+        }
+        return Optional.empty();
+    }
+
+    /**
+     * The detail for a value data binding could not take: "got an array, expected a number", or
+     * that more JSON follows the document; the path is {@link #of}'s.
+     */
+    public static String mismatch(JsonMappingException e) {
+        String message = e.getOriginalMessage();
+        if (message != null && message.startsWith(TRAILING)) {
+            return AFTER_DOCUMENT;
+        }
+        if (!(e instanceof MismatchedInputException m)) {
+            return "got a value of the wrong type or shape";
+        }
+        String expected = expected(m.getTargetType());
+        if (expected == null) {
+            return "got a value of the wrong type or shape";
+        }
+        String got = m instanceof InvalidFormatException f ? got(f.getValue()) : got(message);
+        return "got " + (got == null ? "a value of another type" : got) + ", expected " + expected;
+    }
+
+    /** A JSON token as the API words it: "an object", "a number", "end of input". */
+    public static String describe(JsonToken token) {
+        if (token == null) {
+            return "end of input";
+        }
+        return switch (token) {
+            case START_OBJECT -> "an object";
+            case START_ARRAY -> "an array";
+            case VALUE_STRING -> "a string";
+            case VALUE_NULL -> "null";
+            case VALUE_TRUE, VALUE_FALSE -> "a boolean";
+            case VALUE_NUMBER_INT, VALUE_NUMBER_FLOAT -> "a number";
+            default -> token.toString();
+        };
+    }
+
+    /** The JSON kind a Java target type is read from; null when there is no target type to go by. */
+    private static String expected(Class<?> type) {
+        if (type == null) {
+            return null;
+        }
+        if (type == String.class || type == Character.class || type == char.class) {
+            return "a string";
+        }
+        if (type == Boolean.class || type == boolean.class) {
+            return "true or false";
+        }
+        if (WHOLE_NUMBERS.contains(type)) {
+            return "a whole number";
+        }
+        if (Number.class.isAssignableFrom(type) || type.isPrimitive()) {
+            return "a number";
+        }
+        if (type.isArray() || Collection.class.isAssignableFrom(type)) {
+            return "an array";
+        }
+        return "an object";
+    }
+
+    /** The kind data binding's message names ("from Array value"), in the API's words; null when it names none. */
+    private static String got(String message) {
+        if (message == null) {
+            return null;
+        }
+        if (message.startsWith(NULL_FOR_PRIMITIVE)) {
+            return "null";
+        }
+        Matcher m = GOT_KIND.matcher(message);
+        if (!m.find()) {
+            return null;
+        }
+        return switch (m.group(1)) {
+            case "Array" -> "an array";
+            case "Object" -> "an object";
+            case "String" -> "a string";
+            case "Boolean" -> "a boolean";
+            case "Null" -> "null";
+            default -> "a number";
+        };
+    }
+
+    /** A scalar data binding could not convert, shown as it came. */
+    private static String got(Object value) {
+        if (value instanceof String text) {
+            return "the text " + FieldValues.quoted(text);
+        }
+        return value instanceof Number number ? "the number " + number : null;
+    }
+
+    /** Jackson's message without its source placeholders, first letter in lower case. */
+    private static String readable(String message) {
+        if (message == null || message.isEmpty()) {
+            return "unreadable JSON";
+        }
+        String text = SOURCE.matcher(SOURCE_AT.matcher(message).replaceAll("line $1, column $2")).replaceAll("");
+        return text.substring(0, 1).toLowerCase(Locale.ROOT) + text.substring(1);
     }
 }

@@ -85,12 +85,12 @@ public final class TraceReader {
                 }
             }
             if (parser.nextToken() != null) {
-                throw new InputException("body", "got data after the JSON object, expected the end");
+                throw new InputException("body", JsonPaths.AFTER_DOCUMENT);
             }
         } catch (StreamConstraintsException e) {
-            throw new InputException("body", "got JSON beyond the limits: " + e.getOriginalMessage());
+            throw new InputException("body", JsonPaths.malformed(e));
         } catch (JsonProcessingException e) {
-            throw JsonPaths.duplicateKey(e, "").orElseGet(() -> new InputException("body", "got malformed JSON: " + e.getOriginalMessage()));
+            throw JsonPaths.duplicateKey(e, "").orElseGet(() -> new InputException("body", JsonPaths.malformed(e)));
         }
         return finish(columns, options, referenceMicros);
     }
@@ -257,7 +257,7 @@ public final class TraceReader {
                     throw new InputException("time[" + times.size() + "]", "got " + parser.getText() + ", expected a finite number");
                 }
             } else {
-                throw new InputException("time[" + times.size() + "]", "got " + describe(token)
+                throw new InputException("time[" + times.size() + "]", "got " + JsonPaths.describe(token)
                         + ", expected a number of seconds or " + RecordingTime.EXAMPLE);
             }
             if (!times.add(v, timestamp)) {
@@ -268,7 +268,7 @@ public final class TraceReader {
 
     private static long startMicros(JsonParser parser) throws IOException {
         if (parser.currentToken() != JsonToken.VALUE_STRING) {
-            throw new InputException("start", "got " + describe(parser.currentToken()) + ", expected " + RecordingTime.EXAMPLE);
+            throw new InputException("start", "got " + JsonPaths.describe(parser.currentToken()) + ", expected " + RecordingTime.EXAMPLE);
         }
         return stampMicros(parser.getText(), "start", "");
     }
@@ -297,7 +297,7 @@ public final class TraceReader {
                 }
                 column.add(Limits.requireMagnitude(at, v));
             } else {
-                throw new InputException(at, "got " + describe(token) + ", expected a number" + (nullAllowed ? " or null" : ""));
+                throw new InputException(at, "got " + JsonPaths.describe(token) + ", expected a number" + (nullAllowed ? " or null" : ""));
             }
         }
     }
@@ -309,7 +309,7 @@ public final class TraceReader {
             String field = "noiseSigma." + name;
             JsonToken token = parser.nextToken();
             if (token != JsonToken.VALUE_NUMBER_INT && token != JsonToken.VALUE_NUMBER_FLOAT) {
-                throw new InputException(field, "got " + describe(token) + ", expected a number > 0");
+                throw new InputException(field, "got " + JsonPaths.describe(token) + ", expected a number > 0");
             }
             columns.noiseSigma(name, Limits.requireSigma(field, parser.getDoubleValue()), field);
         }
@@ -334,7 +334,8 @@ public final class TraceReader {
                 return null;
             }
             if (!referenceTime.isTextual()) {
-                throw new InputException("options.referenceTime", "got a value of the wrong type or shape");
+                throw new InputException("options.referenceTime", "got " + JsonPaths.describe(referenceTime.asToken()) + ", expected "
+                        + SECONDS_OR + RecordingTime.EXAMPLE);
             }
             return stampMicros(referenceTime.textValue(), "options.referenceTime", SECONDS_OR);
         }
@@ -350,28 +351,13 @@ public final class TraceReader {
             throw new InputException("options" + JsonPaths.of(e), "got an unknown field \"" + e.getPropertyName()
                     + "\", expected one of " + e.getKnownPropertyIds());
         } catch (com.fasterxml.jackson.databind.JsonMappingException e) {
-            throw new InputException("options" + JsonPaths.of(e), "got a value of the wrong type or shape");
+            throw new InputException("options" + JsonPaths.of(e), JsonPaths.mismatch(e));
         }
     }
 
     private static void expect(JsonParser parser, JsonToken got, JsonToken wanted, String field) {
         if (got != wanted) {
-            throw new InputException(field, "got " + describe(got) + ", expected " + describe(wanted));
+            throw new InputException(field, "got " + JsonPaths.describe(got) + ", expected " + JsonPaths.describe(wanted));
         }
-    }
-
-    private static String describe(JsonToken token) {
-        if (token == null) {
-            return "end of input";
-        }
-        return switch (token) {
-            case START_OBJECT -> "an object";
-            case START_ARRAY -> "an array";
-            case VALUE_STRING -> "a string";
-            case VALUE_NULL -> "null";
-            case VALUE_TRUE, VALUE_FALSE -> "a boolean";
-            case VALUE_NUMBER_INT, VALUE_NUMBER_FLOAT -> "a number";
-            default -> token.toString();
-        };
     }
 }

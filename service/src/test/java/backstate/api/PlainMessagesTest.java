@@ -8,6 +8,7 @@ import com.fasterxml.jackson.databind.JsonNode;
 import java.nio.charset.StandardCharsets;
 import java.nio.file.Files;
 import java.nio.file.Path;
+import java.util.List;
 import org.junit.jupiter.api.AfterAll;
 import org.junit.jupiter.api.BeforeAll;
 import org.junit.jupiter.api.Test;
@@ -87,5 +88,87 @@ class PlainMessagesTest {
                 withText.getBytes(StandardCharsets.UTF_8)));
         assertEquals("c[0][1]", text.get("field").asText());
         assertEquals("got the text \"one\", expected a number", text.get("detail").asText());
+    }
+
+    @Test
+    void malformed_json_says_where_it_stopped_without_the_parser_s_placeholders() throws Exception {
+        JsonNode model = fieldError(server.post("/v1/models/reefer-40/versions", "application/json",
+                "{\"timeDomain\": \"continuous\",\n \"a\": [[1, 2}}".getBytes(StandardCharsets.UTF_8)));
+        assertEquals("body", model.get("field").asText());
+        assertEquals("got malformed JSON at line 2, column 13: unexpected close marker '}': expected ']'"
+                + " (for Array starting at line 2, column 8)", model.get("detail").asText());
+
+        JsonNode trace = fieldError(server.post("/v1/units/RCX-00001/traces?model=reefer-40&version=1", "application/json",
+                "{\"time\": [0, 60], \"outputs\": {\"return_air\": [1, 2}}".getBytes(StandardCharsets.UTF_8)));
+        assertEquals("body", trace.get("field").asText());
+        assertEquals("got malformed JSON at line 1, column 50: unexpected close marker '}': expected ']'"
+                + " (for Array starting at line 1, column 45)", trace.get("detail").asText());
+
+        JsonNode regression = fieldError(server.post("/v1/regressions", "application/json",
+                "{\"family\": ".getBytes(StandardCharsets.UTF_8)));
+        assertTrue(regression.get("detail").asText().startsWith("got malformed JSON at line 1, column 12: unexpected end-of-input"),
+                regression.toString());
+        for (JsonNode error : new JsonNode[] {model, trace, regression}) {
+            assertFalse(error.toString().contains("Source") || error.toString().contains("REDACTED"), error.toString());
+        }
+    }
+
+    @Test
+    void a_value_of_the_wrong_type_is_named_with_what_goes_there() throws Exception {
+        String model = Files.readString(TestServer.TEST_DATA.resolve("demo/models/reefer-40.v1.json"));
+        String statesAsObject = model.replaceFirst("\"states\": \\[", "\"states\": {\"list\": [").replaceFirst("}\\s*],", "}]},");
+        assertFalse(statesAsObject.equals(model), "the demo model's states were found");
+        JsonNode states = fieldError(server.post("/v1/models/reefer-40/versions", "application/json",
+                statesAsObject.getBytes(StandardCharsets.UTF_8)));
+        assertEquals("body.states", states.get("field").asText());
+        assertEquals("got an object, expected an array", states.get("detail").asText());
+
+        JsonNode candidate = fieldError(server.post("/v1/regressions", "application/json",
+                "{\"family\": \"reefer-40\", \"baseline\": 1, \"candidate\": 1.5}".getBytes(StandardCharsets.UTF_8)));
+        assertEquals("body.candidate", candidate.get("field").asText());
+        assertEquals("got the number 1.5, expected a whole number", candidate.get("detail").asText());
+
+        JsonNode description = fieldError(server.post("/v1/models", "application/json",
+                "{\"name\": \"reefer-50\", \"description\": [\"two\", \"lines\"]}".getBytes(StandardCharsets.UTF_8)));
+        assertEquals("body.description", description.get("field").asText());
+        assertEquals("got an array, expected a string", description.get("detail").asText());
+    }
+
+    @Test
+    void a_second_document_after_the_body_is_refused_and_nothing_is_created() {
+        TestServer.Reply reply = server.post("/v1/models", "application/json",
+                "{\"name\": \"reefer-60\", \"description\": \"x\"} {\"name\": \"reefer-61\"}".getBytes(StandardCharsets.UTF_8));
+        JsonNode error = fieldError(reply);
+        assertEquals("body", error.get("field").asText());
+        assertEquals("got more JSON after the document, expected nothing after it", error.get("detail").asText());
+        assertEquals(404, server.get("/v1/models/reefer-60").status());
+
+        JsonNode garbage = fieldError(server.post("/v1/models", "application/json",
+                "{\"name\": \"reefer-60\", \"description\": \"x\"} ok".getBytes(StandardCharsets.UTF_8)));
+        assertTrue(garbage.get("detail").asText().startsWith("got malformed JSON at line 1, column 43: unrecognized token 'ok'"),
+                garbage.toString());
+        assertEquals(404, server.get("/v1/models/reefer-60").status());
+
+        JsonNode trace = fieldError(server.post("/v1/units/RCX-00001/traces?model=reefer-40&version=1", "application/json",
+                "{\"time\": [0, 60]} {}".getBytes(StandardCharsets.UTF_8)));
+        assertEquals("body", trace.get("field").asText());
+        assertEquals("got more JSON after the document, expected nothing after it", trace.get("detail").asText());
+    }
+
+    @Test
+    void a_problem_type_has_one_title_whichever_way_it_is_reached() {
+        TestServer.Reply noRoute = server.get("/v1/fleet");
+        TestServer.Reply noFamily = server.get("/v1/models/reefer-99");
+        for (TestServer.Reply reply : List.of(noRoute, noFamily)) {
+            assertEquals(404, reply.status(), reply.body());
+            assertEquals("/problems/not-found", reply.json().get("type").asText());
+            assertEquals("Not found", reply.json().get("title").asText());
+        }
+        assertEquals("route GET /v1/fleet does not exist", noRoute.json().get("detail").asText());
+
+        TestServer.Reply wrongMethod = server.post("/v1/estimates/e-1", "application/json", "{}".getBytes(StandardCharsets.UTF_8));
+        assertEquals(405, wrongMethod.status(), wrongMethod.body());
+        assertEquals("/problems/method-not-allowed", wrongMethod.json().get("type").asText());
+        assertEquals("Method not allowed", wrongMethod.json().get("title").asText());
     }
 }

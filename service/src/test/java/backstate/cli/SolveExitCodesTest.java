@@ -96,6 +96,8 @@ class SolveExitCodesTest {
         Path badCell = write("bad-cell.csv", "time,return_air,supply_air,cooling_power,ambient\n0,warm,1,1,1\n");
         Path unknownColumn = write("unknown-column.csv", "time,return_air,humidity\n0,1,1\n");
         Path notJson = write("model.json", "{\"timeDomain\":");
+        Path wrongType = write("wrong-type.json", "{\"timeDomain\": \"continuous\", \"states\": {\"name\": \"wall\"}}");
+        Path twoDocuments = write("two.json", "{\"timeDomain\": \"continuous\"} {\"timeDomain\": \"discrete\"}");
 
         assertRefused("backstate solve: missing --trace FILE", "--model", model);
         assertRefused("backstate solve: got --speed, expected --model FILE --trace FILE [--formulation sampled|continuous|process_noise]"
@@ -107,6 +109,11 @@ class SolveExitCodesTest {
         // A model file that is not JSON (it ends after the first key): one line naming the file and where.
         assertRefused("backstate solve: model: " + notJson + " is not a model document: its JSON does not read"
                 + " at line 1, column 15", "--model", notJson.toString(), "--trace", trace);
+        // A value of the wrong type: its path and what goes there; a second document after the first is refused too.
+        assertRefused("backstate solve: model.states: " + wrongType + " is not a model document: got an object, expected an array",
+                "--model", wrongType.toString(), "--trace", trace);
+        assertRefused("backstate solve: model: " + twoDocuments + " is not a model document: got more JSON after the document,"
+                + " expected nothing after it", "--model", twoDocuments.toString(), "--trace", trace);
         assertTrue(refused("--model", model, "--trace", dir.resolve("absent.csv").toString()).contains("absent.csv"),
                 "a missing file is named");
     }
