@@ -90,27 +90,26 @@ class PlainMessagesTest {
         assertEquals("got the text \"one\", expected a number", text.get("detail").asText());
     }
 
+    static final String TRACES = "/v1/units/RCX-00001/traces?model=reefer-40&version=1";
+
+    /** Posts a JSON body, requires a 400 whose one field error is {@code field}, and returns that error's detail. */
+    private String refusal(String path, String body, String field) {
+        JsonNode error = fieldError(server.post(path, "application/json", body.getBytes(StandardCharsets.UTF_8)));
+        assertEquals(field, error.get("field").asText(), error.toString());
+        assertFalse(error.toString().contains("Source") || error.toString().contains("REDACTED"), error.toString());
+        return error.get("detail").asText();
+    }
+
     @Test
-    void malformed_json_says_where_it_stopped_without_the_parser_s_placeholders() throws Exception {
-        JsonNode model = fieldError(server.post("/v1/models/reefer-40/versions", "application/json",
-                "{\"timeDomain\": \"continuous\",\n \"a\": [[1, 2}}".getBytes(StandardCharsets.UTF_8)));
-        assertEquals("body", model.get("field").asText());
+    void malformed_json_says_where_it_stopped_without_the_parser_s_placeholders() {
         assertEquals("got malformed JSON at line 2, column 13: unexpected close marker '}': expected ']'"
-                + " (for Array starting at line 2, column 8)", model.get("detail").asText());
-
-        JsonNode trace = fieldError(server.post("/v1/units/RCX-00001/traces?model=reefer-40&version=1", "application/json",
-                "{\"time\": [0, 60], \"outputs\": {\"return_air\": [1, 2}}".getBytes(StandardCharsets.UTF_8)));
-        assertEquals("body", trace.get("field").asText());
+                + " (for Array starting at line 2, column 8)", refusal("/v1/models/reefer-40/versions",
+                "{\"timeDomain\": \"continuous\",\n \"a\": [[1, 2}}", "body"));
         assertEquals("got malformed JSON at line 1, column 50: unexpected close marker '}': expected ']'"
-                + " (for Array starting at line 1, column 45)", trace.get("detail").asText());
-
-        JsonNode regression = fieldError(server.post("/v1/regressions", "application/json",
-                "{\"family\": ".getBytes(StandardCharsets.UTF_8)));
-        assertTrue(regression.get("detail").asText().startsWith("got malformed JSON at line 1, column 12: unexpected end-of-input"),
-                regression.toString());
-        for (JsonNode error : new JsonNode[] {model, trace, regression}) {
-            assertFalse(error.toString().contains("Source") || error.toString().contains("REDACTED"), error.toString());
-        }
+                + " (for Array starting at line 1, column 45)", refusal(TRACES,
+                "{\"time\": [0, 60], \"outputs\": {\"return_air\": [1, 2}}", "body"));
+        String cut = refusal("/v1/regressions", "{\"family\": ", "body");
+        assertTrue(cut.startsWith("got malformed JSON at line 1, column 12: unexpected end-of-input"), cut);
     }
 
     @Test
@@ -118,41 +117,21 @@ class PlainMessagesTest {
         String model = Files.readString(TestServer.TEST_DATA.resolve("demo/models/reefer-40.v1.json"));
         String statesAsObject = model.replaceFirst("\"states\": \\[", "\"states\": {\"list\": [").replaceFirst("}\\s*],", "}]},");
         assertFalse(statesAsObject.equals(model), "the demo model's states were found");
-        JsonNode states = fieldError(server.post("/v1/models/reefer-40/versions", "application/json",
-                statesAsObject.getBytes(StandardCharsets.UTF_8)));
-        assertEquals("body.states", states.get("field").asText());
-        assertEquals("got an object, expected an array", states.get("detail").asText());
-
-        JsonNode candidate = fieldError(server.post("/v1/regressions", "application/json",
-                "{\"family\": \"reefer-40\", \"baseline\": 1, \"candidate\": 1.5}".getBytes(StandardCharsets.UTF_8)));
-        assertEquals("body.candidate", candidate.get("field").asText());
-        assertEquals("got the number 1.5, expected a whole number", candidate.get("detail").asText());
-
-        JsonNode description = fieldError(server.post("/v1/models", "application/json",
-                "{\"name\": \"reefer-50\", \"description\": [\"two\", \"lines\"]}".getBytes(StandardCharsets.UTF_8)));
-        assertEquals("body.description", description.get("field").asText());
-        assertEquals("got an array, expected a string", description.get("detail").asText());
+        assertEquals("got an object, expected an array", refusal("/v1/models/reefer-40/versions", statesAsObject, "body.states"));
+        assertEquals("got the number 1.5, expected a whole number", refusal("/v1/regressions",
+                "{\"family\": \"reefer-40\", \"baseline\": 1, \"candidate\": 1.5}", "body.candidate"));
+        assertEquals("got an array, expected a string", refusal("/v1/models",
+                "{\"name\": \"reefer-50\", \"description\": [\"two\", \"lines\"]}", "body.description"));
     }
 
     @Test
     void a_second_document_after_the_body_is_refused_and_nothing_is_created() {
-        TestServer.Reply reply = server.post("/v1/models", "application/json",
-                "{\"name\": \"reefer-60\", \"description\": \"x\"} {\"name\": \"reefer-61\"}".getBytes(StandardCharsets.UTF_8));
-        JsonNode error = fieldError(reply);
-        assertEquals("body", error.get("field").asText());
-        assertEquals("got more JSON after the document, expected nothing after it", error.get("detail").asText());
+        String after = "got more JSON after the document, expected nothing after it";
+        assertEquals(after, refusal("/v1/models", "{\"name\": \"reefer-60\", \"description\": \"x\"} {\"name\": \"reefer-61\"}", "body"));
+        String garbage = refusal("/v1/models", "{\"name\": \"reefer-60\", \"description\": \"x\"} ok", "body");
+        assertTrue(garbage.startsWith("got malformed JSON at line 1, column 43: unrecognized token 'ok'"), garbage);
         assertEquals(404, server.get("/v1/models/reefer-60").status());
-
-        JsonNode garbage = fieldError(server.post("/v1/models", "application/json",
-                "{\"name\": \"reefer-60\", \"description\": \"x\"} ok".getBytes(StandardCharsets.UTF_8)));
-        assertTrue(garbage.get("detail").asText().startsWith("got malformed JSON at line 1, column 43: unrecognized token 'ok'"),
-                garbage.toString());
-        assertEquals(404, server.get("/v1/models/reefer-60").status());
-
-        JsonNode trace = fieldError(server.post("/v1/units/RCX-00001/traces?model=reefer-40&version=1", "application/json",
-                "{\"time\": [0, 60]} {}".getBytes(StandardCharsets.UTF_8)));
-        assertEquals("body", trace.get("field").asText());
-        assertEquals("got more JSON after the document, expected nothing after it", trace.get("detail").asText());
+        assertEquals(after, refusal(TRACES, "{\"time\": [0, 60]} {}", "body"));
     }
 
     @Test
