@@ -37,6 +37,16 @@ final class TraceColumns {
         return claim(inputs, model.inputsOrEmpty(), name, field, "inputs");
     }
 
+    /** The model's inputs, by name. */
+    List<String> inputNames() {
+        return names(model.inputsOrEmpty());
+    }
+
+    /** The model's inputs no column has been claimed for yet, in the model's order. */
+    List<String> unclaimedInputs() {
+        return inputNames().stream().filter(name -> !inputs.containsKey(name)).toList();
+    }
+
     boolean isOutput(String name) {
         return model.outputs().stream().anyMatch(q -> q.name().equals(name));
     }

@@ -50,17 +50,24 @@ public record TraceOptions(String formulation, Boolean estimateOffsets, Double r
     }
 
     private Formulation parsedFormulation() {
-        if (formulation == null || formulation.equals("sampled")) {
+        return formulation("options.formulation", formulation);
+    }
+
+    /**
+     * The formulation a name stands for (none: sampled); a name that stands for none is refused
+     * naming {@code field}, "options.formulation" in a JSON body, "formulation" in a CSV post's query.
+     */
+    public static Formulation formulation(String field, String name) {
+        if (name == null || name.equals("sampled")) {
             return Formulation.SAMPLED;
         }
-        if (formulation.equals("continuous")) {
+        if (name.equals("continuous")) {
             return Formulation.CONTINUOUS;
         }
-        if (formulation.equals("process_noise")) {
+        if (name.equals("process_noise")) {
             return Formulation.PROCESS_NOISE;
         }
-        throw new InputException("options.formulation", "got \"" + formulation
-                + "\", expected \"sampled\", \"continuous\" or \"process_noise\"");
+        throw new InputException(field, "got " + FieldValues.quoted(name) + ", expected \"sampled\", \"continuous\" or \"process_noise\"");
     }
 
     private Prior toPrior(int states) {

@@ -179,6 +179,11 @@ public final class TraceReader {
         if (time < 0) {
             throw new InputException("header", "got no time column, expected one named \"time\" (or \"time since\" and its start)");
         }
+        List<String> unclaimed = columns.unclaimedInputs();
+        if (!unclaimed.isEmpty()) {
+            throw new InputException("header", "got no column for the known input \"" + unclaimed.get(0)
+                    + "\", expected one for each of the model's inputs " + columns.inputNames());
+        }
         String[] names = new String[targets.length];
         boolean[] missingAllowed = new boolean[targets.length];
         for (int i = 0; i < targets.length; i++) {

@@ -129,6 +129,7 @@ public final class TraceIntake {
 
     /** The CSV options of the query; its referenceTime (seconds or RFC 3339) is read with the trace's clock. */
     private static TraceOptions csvOptions(TracePost.CsvQuery query) {
+        TraceOptions.formulation("formulation", query.formulation());
         return new TraceOptions(query.formulation(), bool("estimateOffsets", query.estimateOffsets()), null, null);
     }
 

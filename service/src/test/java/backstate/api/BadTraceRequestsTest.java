@@ -64,6 +64,9 @@ class BadTraceRequestsTest {
                 Arguments.of("missing input cell in CSV", ok, csv, HEADER + "0,2.7,-0.7,,27.1\n", 400, "line 2, column cooling_power"),
                 Arguments.of("ragged CSV row", ok, csv, HEADER + "0,2.7,-0.7,6.4\n", 400, "line 2"),
                 Arguments.of("CSV without time column", ok, csv, "return_air,supply_air\n1,2\n", 400, "header"),
+                // were named as the JSON form's fields (inputs.ambient, options.formulation)
+                Arguments.of("CSV without a known input's column", ok, csv, "time,return_air,supply_air,cooling_power\n0,2.7,-0.7,6.4\n", 400, "header"),
+                Arguments.of("an unknown formulation in the query", ok + "&formulation=magic", csv, HEADER + GOOD_ROW, 400, "formulation"),
                 Arguments.of("unknown model version", "?model=reefer-40&version=99", csv, HEADER + GOOD_ROW, 422, "version"),
                 Arguments.of("version not a number", "?model=reefer-40&version=one", csv, HEADER + GOOD_ROW, 400, "version"),
                 Arguments.of("no model named", "?version=1", csv, HEADER + GOOD_ROW, 400, "model"),

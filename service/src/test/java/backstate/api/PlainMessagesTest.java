@@ -65,6 +65,15 @@ class PlainMessagesTest {
     }
 
     @Test
+    void a_csv_without_a_known_input_s_column_names_the_column() {
+        String csv = "time,return_air,supply_air,cooling_power\n0,2.7,-0.7,6.4\n";
+        JsonNode error = fieldError(server.post(TRACES, "text/csv", csv.getBytes(StandardCharsets.UTF_8)));
+        assertEquals("header", error.get("field").asText());
+        assertEquals("got no column for the known input \"ambient\", expected one for each of the model's inputs"
+                + " [cooling_power, ambient]", error.get("detail").asText());
+    }
+
+    @Test
     void a_trend_without_its_state_says_the_parameter_is_required() {
         JsonNode error = fieldError(server.get("/v1/units/RCX-00001/trend?model=reefer-40"));
         assertEquals("state", error.get("field").asText());
