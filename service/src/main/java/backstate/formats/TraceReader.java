@@ -10,6 +10,8 @@ import com.fasterxml.jackson.databind.JsonNode;
 import com.fasterxml.jackson.databind.ObjectMapper;
 import java.io.IOException;
 import java.io.InputStream;
+import java.io.PushbackInputStream;
+import java.util.Arrays;
 import java.util.List;
 import java.util.regex.Pattern;
 
@@ -35,6 +37,7 @@ public final class TraceReader {
     static final String TIME_SINCE = "time since ";
     /** How a reference time may be written, besides RFC 3339. */
     private static final String SECONDS_OR = "seconds on the trace's clock or ";
+    private static final byte[] BYTE_ORDER_MARK = {(byte) 0xEF, (byte) 0xBB, (byte) 0xBF};
     /** Longest number literal accepted in JSON; 64 digits is beyond any double's precision. */
     private static final int MAX_NUMBER_LENGTH = 64;
 
@@ -120,6 +123,7 @@ public final class TraceReader {
         }
         TraceColumns columns = new TraceColumns(model, limits);
         int maxFields = 1 + model.outputs().size() + model.inputsOrEmpty().size();
+        body = withoutByteOrderMark(body);
         CsvRecords records = new CsvRecords(body, maxFields + EXTRA_HEADER_FIELDS, maxFields);
         if (!records.next()) {
             throw new InputException("header", "got an empty body, expected a header row: time, then channel names");
@@ -154,6 +158,7 @@ public final class TraceReader {
 
     /** The header's layout; {@code maxFields} is the fields past which a row is refused by count. */
     static CsvHeader headerTargets(List<String> header, TraceColumns columns, int maxFields) {
+        requireCommaSeparated(header);
         DoubleColumn[] targets = new DoubleColumn[header.size()];
         int time = -1;
         for (int i = 0; i < header.size(); i++) {
@@ -209,6 +214,33 @@ public final class TraceReader {
     }
 
     /** A header column that is neither time nor a channel of the model, named (and cut at 40 characters). */
+    /**
+     * The body without the byte order mark (EF BB BF) spreadsheet programs put at the start of a
+     * UTF-8 file: it marks the encoding and is not part of the first column's name (common practice,
+     * no source).
+     */
+    static InputStream withoutByteOrderMark(InputStream body) throws IOException {
+        PushbackInputStream in = new PushbackInputStream(body, BYTE_ORDER_MARK.length);
+        byte[] start = new byte[BYTE_ORDER_MARK.length];
+        int read = CsvRecords.readFully(in, start, 0, start.length);
+        if (read < start.length || !Arrays.equals(start, BYTE_ORDER_MARK)) {
+            in.unread(start, 0, Math.max(read, 0));
+        }
+        return in;
+    }
+
+    /** A header read as one field that holds a semicolon or a tab: the file is separated by those, not by commas. */
+    private static void requireCommaSeparated(List<String> header) {
+        if (header.size() != 1) {
+            return;
+        }
+        String only = header.get(0);
+        String separator = only.indexOf(';') >= 0 ? "semicolons" : only.indexOf('\t') >= 0 ? "tabs" : null;
+        if (separator != null) {
+            throw new InputException("header", "got names separated by " + separator + ", expected them separated by commas");
+        }
+    }
+
     private static InputException unknownColumn(String field, String name, TraceColumns columns) {
         String shown = name.length() > 40 ? name.substring(0, 40) + "…" : name;
         return new InputException(field, "got an unknown column \"" + shown + "\", expected \"time\" and the model's"

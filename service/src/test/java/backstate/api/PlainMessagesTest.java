@@ -74,6 +74,26 @@ class PlainMessagesTest {
     }
 
     @Test
+    void a_spreadsheet_s_byte_order_mark_is_read_past_and_other_separators_are_named() {
+        byte[] mark = {(byte) 0xEF, (byte) 0xBB, (byte) 0xBF};
+        for (String header : List.of(HEADER, "\"" + HEADER.replace(",", "\",\"") + "\"")) {
+            byte[] csv = (header + "\r\n" + ROWS.replace("\n", "\r\n")).getBytes(StandardCharsets.UTF_8);
+            byte[] marked = new byte[mark.length + csv.length];
+            System.arraycopy(mark, 0, marked, 0, mark.length);
+            System.arraycopy(csv, 0, marked, mark.length, csv.length);
+            TestServer.Reply reply = server.post(TRACES, "text/csv", marked);
+            assertEquals(202, reply.status(), header + ": " + reply.body());
+        }
+        for (String separator : List.of(";", "\t")) {
+            String csv = HEADER.replace(",", separator) + "\n" + ROWS.replace(",", separator);
+            JsonNode error = fieldError(server.post(TRACES, "text/csv", csv.getBytes(StandardCharsets.UTF_8)));
+            assertEquals("header", error.get("field").asText());
+            assertEquals("got names separated by " + (separator.equals(";") ? "semicolons" : "tabs")
+                    + ", expected them separated by commas", error.get("detail").asText());
+        }
+    }
+
+    @Test
     void a_trend_without_its_state_says_the_parameter_is_required() {
         JsonNode error = fieldError(server.get("/v1/units/RCX-00001/trend?model=reefer-40"));
         assertEquals("state", error.get("field").asText());
