@@ -7,11 +7,13 @@ import backstate.store.EstimateFilter;
 import backstate.store.EstimatePage;
 import backstate.store.EstimateRow;
 import backstate.store.EstimateStore;
+import backstate.store.TimeFilter;
 import io.javalin.http.Context;
 import java.util.ArrayList;
 import java.util.LinkedHashMap;
 import java.util.List;
 import java.util.Map;
+import java.util.Optional;
 import java.util.Set;
 
 /**
@@ -37,15 +39,24 @@ final class EstimateRoutes {
         this.solves = solves;
     }
 
+    /**
+     * The newest estimate; with {@code model} and/or {@code version}, the newest made with them: the
+     * first of the history under that filter, in the history's order.
+     */
     void latest(Context ctx) {
         String unitId = Params.identifier(ctx, "unitId");
-        ctx.json(Views.Estimate.of(store.latestEstimate(unitId)
-                .orElseThrow(() -> ApiProblem.notFound("an estimate for unit " + unitId))));
+        String family = family(ctx);
+        Integer version = Params.optionalInt(ctx, "version");
+        Optional<EstimateRow> latest = family == null && version == null ? store.latestEstimate(unitId)
+                : store.estimateHistory(unitId, new EstimateFilter(family, version, TimeFilter.NONE, null), null, 1)
+                        .items().stream().findFirst();
+        String under = (family == null ? "" : " of model " + family) + (version == null ? "" : " version " + version);
+        ctx.json(Views.Estimate.of(latest.orElseThrow(() -> ApiProblem.notFound("an estimate for unit " + unitId + under))));
     }
 
     void history(Context ctx) {
         String unitId = Params.identifier(ctx, "unitId");
-        String family = ctx.queryParam("model") == null ? null : Params.identifier("model", ctx.queryParam("model"));
+        String family = family(ctx);
         String flag = ctx.queryParam("flag");
         if (flag != null && !FLAGS.contains(flag)) {
             throw ApiProblem.invalid("flag", "got " + Params.quoted(flag) + ", expected one of " + FLAGS);
@@ -121,6 +132,11 @@ final class EstimateRoutes {
 
     private static Double finite(double v) {
         return Double.isFinite(v) ? v : null;
+    }
+
+    /** The {@code model} query parameter: a family name, or null when not given. */
+    private static String family(Context ctx) {
+        return ctx.queryParam("model") == null ? null : Params.identifier("model", ctx.queryParam("model"));
     }
 
     private EstimateRow find(Context ctx) {

@@ -369,6 +369,16 @@ class OpenApiContractTest {
 
         assertEquals(List.of(first), names(api.get("/v1/units/" + unit + "/estimates?model=" + DEMO + "&version=1")
                 .json().get("items"), "id"));
+        // The newest estimate, and the newest under a model version: the first of the filtered history.
+        String latest = "/v1/units/" + unit + "/estimates/latest";
+        assertEquals(second, api.get(latest).json().get("id").asText());
+        assertEquals(first, api.get(latest + "?model=" + DEMO + "&version=1").json().get("id").asText());
+        assertEquals(second, api.get(latest + "?version=2").json().get("id").asText());
+        assertEquals(second, api.get(latest + "?model=" + DEMO).json().get("id").asText());
+        TestServer.Reply none = api.get(latest + "?model=" + DEMO + "&version=9");
+        assertProblem(none, 404, "not-found");
+        assertEquals("an estimate for unit " + unit + " of model " + DEMO + " version 9 does not exist",
+                none.json().get("detail").asText());
         JsonNode fewSamples = api.get("/v1/units/" + unit + "/estimates?flag=few_samples").json().get("items");
         assertEquals(Set.of(first, second), new HashSet<>(names(fewSamples, "id")), "6 samples give 8 (6 with offsets) dof < 10");
         assertEquals(0, api.get("/v1/units/" + unit + "/estimates?flag=unobservable&from=2000-01-01T00:00:00Z")
