@@ -12,13 +12,11 @@ import backstate.store.InvalidCursorException;
 import backstate.store.QueueFullException;
 import backstate.store.StoreUnavailableException;
 import com.fasterxml.jackson.core.JsonProcessingException;
-import com.fasterxml.jackson.databind.JsonMappingException;
 import com.fasterxml.jackson.databind.ObjectMapper;
 import com.fasterxml.jackson.databind.exc.UnrecognizedPropertyException;
 import io.javalin.config.RoutesConfig;
 import io.javalin.http.Context;
 import io.javalin.http.HttpResponseException;
-import java.util.List;
 import java.util.UUID;
 import org.slf4j.Logger;
 import org.slf4j.LoggerFactory;
@@ -55,11 +53,10 @@ final class ProblemMapper {
         routes.exception(UnrecognizedPropertyException.class, (e, ctx) -> write(ctx, ApiProblem.invalid("body" + JsonPaths.of(e),
                 "got an unknown field \"" + e.getPropertyName() + "\", expected one of " + e.getKnownPropertyIds()).toProblem()));
         routes.exception(MatrixEntryException.class, (e, ctx) -> write(ctx, ApiProblem.invalid(e.field(), e.problem()).toProblem()));
-        routes.exception(JsonMappingException.class, (e, ctx) -> write(ctx, duplicateKeyOr(e, JsonPaths.parseError(e)
-                .map(broken -> ApiProblem.invalid("body", JsonPaths.malformed(broken)))
-                .orElseGet(() -> ApiProblem.invalid("body" + JsonPaths.of(e), JsonPaths.mismatch(e))))));
-        routes.exception(JsonProcessingException.class, (e, ctx) -> write(ctx, duplicateKeyOr(e,
-                ApiProblem.invalid("body", JsonPaths.malformed(e)))));
+        routes.exception(JsonProcessingException.class, (e, ctx) -> {
+            InputException refusal = JsonPaths.refusal(e, "body");
+            write(ctx, ApiProblem.invalid(refusal.field(), detail(refusal)).toProblem());
+        });
         routes.exception(IdempotencyKeyReusedException.class, (e, ctx) -> write(ctx, ApiProblem.idempotencyKeyReused(e.key()).toProblem()));
         routes.exception(QueueFullException.class, (e, ctx) -> busy(ctx, "the job queue is full; retry later"));
         routes.exception(StoreUnavailableException.class, (e, ctx) -> {
@@ -96,10 +93,6 @@ final class ProblemMapper {
         };
     }
 
-    /** A key written twice, named, when that is what the error is; else {@code otherwise}. */
-    private static Problem duplicateKeyOr(JsonProcessingException e, ApiProblem otherwise) {
-        return JsonPaths.duplicateKey(e, "body").map(d -> ApiProblem.invalid(d.field(), detail(d))).orElse(otherwise).toProblem();
-    }
 
     private void busy(Context ctx, String detail) {
         ctx.header("Retry-After", Integer.toString(ApiProblem.RETRY_AFTER_SECONDS));

@@ -36,7 +36,7 @@ public final class Json {
 
     /**
      * A factory whose parsers refuse a key written twice in one object (Jackson would otherwise
-     * keep the last, or for a streamed trace append both); {@link JsonPaths#duplicateKey} names it.
+     * keep the last, or for a streamed trace append both); {@link JsonPaths#refusal} names it.
      */
     public static JsonFactoryBuilder strictFactory() {
         return (JsonFactoryBuilder) JsonFactory.builder().enable(StreamReadFeature.STRICT_DUPLICATE_DETECTION);

@@ -5,6 +5,7 @@ import com.fasterxml.jackson.core.JsonParser;
 import com.fasterxml.jackson.core.JsonProcessingException;
 import com.fasterxml.jackson.core.JsonStreamContext;
 import com.fasterxml.jackson.core.JsonToken;
+import com.fasterxml.jackson.core.exc.InputCoercionException;
 import com.fasterxml.jackson.core.exc.StreamConstraintsException;
 import com.fasterxml.jackson.core.exc.StreamReadException;
 import com.fasterxml.jackson.databind.JsonMappingException;
@@ -38,6 +39,8 @@ public final class JsonPaths {
             Long.class, Short.class, Byte.class, BigInteger.class);
     /** How data binding begins the message of {@code FAIL_ON_NULL_FOR_PRIMITIVES}. */
     private static final String NULL_FOR_PRIMITIVE = "Cannot map `null` into type";
+    /** How the parser quotes a number too large for its target ("Numeric value (99999999999) out of range of int"). */
+    private static final Pattern OUT_OF_RANGE = Pattern.compile("^Numeric value \\(([-+0-9.eE]{1,40})\\) out of range");
     /** How data binding names the kind of value it could not bind ("from Array value"). */
     private static final Pattern GOT_KIND = Pattern.compile("from (Array|Object|String|Number|Integer|Floating-point|Boolean|Null) value");
 
@@ -61,7 +64,7 @@ public final class JsonPaths {
      * path after {@code prefix} ("body", or "" for a trace whose fields are named from its root);
      * empty for any other error.
      */
-    public static Optional<InputException> duplicateKey(JsonProcessingException e, String prefix) {
+    private static Optional<InputException> duplicateKey(JsonProcessingException e, String prefix) {
         // Data binding wraps the parser's error, with a path of its own, around it as a cause.
         Throwable cause = e;
         while (cause != null && !(cause instanceof JsonProcessingException p && isDuplicate(p))) {
@@ -71,8 +74,7 @@ public final class JsonPaths {
             return Optional.empty();
         }
         JsonParser parser = (JsonParser) ((JsonProcessingException) cause).getProcessor();
-        String path = path(parser.getParsingContext());
-        String field = prefix.isEmpty() ? path.substring(1) : prefix + path;
+        String field = field(prefix, path(parser.getParsingContext()));
         return Optional.of(new InputException(field, "got the key " + FieldValues.quoted(parser.getParsingContext().getCurrentName())
                 + " twice in one object, expected each key once"));
     }
@@ -95,11 +97,49 @@ public final class JsonPaths {
     }
 
     /**
+     * The refusal for any error reading a JSON document, naming the field where it can be told:
+     * a key written twice, a number out of its field's range, a value of the wrong type (each at
+     * its path after {@code prefix}: "body", or "" for a trace whose fields are named from its
+     * root), or JSON that does not parse ("body").
+     */
+    public static InputException refusal(JsonProcessingException e, String prefix) {
+        Optional<InputException> duplicate = duplicateKey(e, prefix);
+        if (duplicate.isPresent()) {
+            return duplicate.get();
+        }
+        Optional<JsonProcessingException> broken = e instanceof JsonMappingException ? parseError(e) : Optional.of(e);
+        if (broken.isEmpty()) {
+            return new InputException(field(prefix, of((JsonMappingException) e)), mismatch((JsonMappingException) e));
+        }
+        if (broken.get() instanceof InputCoercionException range && range.getProcessor() != null) {
+            return new InputException(field(prefix, path(range.getProcessor().getParsingContext())), outOfRange(range));
+        }
+        return new InputException(prefix.isEmpty() ? "body" : prefix, malformed(broken.get()));
+    }
+
+    /** A field's name: the path after the prefix, or from the root without its first dot; the body itself when the path is empty. */
+    private static String field(String prefix, String path) {
+        if (!prefix.isEmpty()) {
+            return prefix + path;
+        }
+        return path.isEmpty() ? "body" : path.substring(1);
+    }
+
+    /** A number too large for the whole-number field it is read into, with that field's range. */
+    private static String outOfRange(InputCoercionException e) {
+        Class<?> type = e.getTargetType();
+        String range = type == int.class || type == Integer.class ? " from " + Integer.MIN_VALUE + " to " + Integer.MAX_VALUE
+                : type == long.class || type == Long.class ? " from " + Long.MIN_VALUE + " to " + Long.MAX_VALUE : "";
+        Matcher number = OUT_OF_RANGE.matcher(e.getOriginalMessage() == null ? "" : e.getOriginalMessage());
+        return "got " + (number.find() ? number.group(1) : "a number out of range") + ", expected a whole number" + range;
+    }
+
+    /**
      * The detail for JSON that does not parse: where the parser stopped and what it says there
      * ("got malformed JSON at line 1, column 12: unexpected end-of-input …"), or, for a document past
      * the reading limits, that it is beyond them.
      */
-    public static String malformed(JsonProcessingException e) {
+    private static String malformed(JsonProcessingException e) {
         JsonLocation at = e.getLocation();
         String where = at == null || at.getLineNr() < 1 ? "" : " at line " + at.getLineNr() + ", column " + at.getColumnNr();
         String what = e instanceof StreamConstraintsException ? "got JSON beyond the limits" : "got malformed JSON";
@@ -107,7 +147,7 @@ public final class JsonPaths {
     }
 
     /** The parse error data binding wrapped (a reader of our own met broken JSON inside a value), if there is one. */
-    public static Optional<JsonProcessingException> parseError(Throwable e) {
+    private static Optional<JsonProcessingException> parseError(Throwable e) {
         for (Throwable cause = e; cause != null; cause = cause.getCause()) {
             if (cause instanceof StreamReadException || cause instanceof StreamConstraintsException) {
                 return Optional.of((JsonProcessingException) cause);
@@ -205,12 +245,13 @@ public final class JsonPaths {
         return value instanceof Number number ? "the number " + number : null;
     }
 
-    /** Jackson's message without its source placeholders, first letter in lower case. */
+    /** Jackson's message without its source placeholders, its first word in lower case unless it is an acronym ("JSON"). */
     private static String readable(String message) {
         if (message == null || message.isEmpty()) {
             return "unreadable JSON";
         }
         String text = SOURCE.matcher(SOURCE_AT.matcher(message).replaceAll("line $1, column $2")).replaceAll("");
-        return text.substring(0, 1).toLowerCase(Locale.ROOT) + text.substring(1);
+        boolean word = text.length() > 1 && Character.isLowerCase(text.charAt(1));
+        return word ? text.substring(0, 1).toLowerCase(Locale.ROOT) + text.substring(1) : text;
     }
 }

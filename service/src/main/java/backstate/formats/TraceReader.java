@@ -4,7 +4,6 @@ import com.fasterxml.jackson.core.JsonFactory;
 import com.fasterxml.jackson.core.JsonParser;
 import com.fasterxml.jackson.core.JsonToken;
 import com.fasterxml.jackson.core.StreamReadConstraints;
-import com.fasterxml.jackson.core.exc.StreamConstraintsException;
 import com.fasterxml.jackson.core.JsonProcessingException;
 import com.fasterxml.jackson.databind.JsonNode;
 import com.fasterxml.jackson.databind.ObjectMapper;
@@ -90,10 +89,8 @@ public final class TraceReader {
             if (parser.nextToken() != null) {
                 throw new InputException("body", JsonPaths.AFTER_DOCUMENT);
             }
-        } catch (StreamConstraintsException e) {
-            throw new InputException("body", JsonPaths.malformed(e));
         } catch (JsonProcessingException e) {
-            throw JsonPaths.duplicateKey(e, "").orElseGet(() -> new InputException("body", JsonPaths.malformed(e)));
+            throw JsonPaths.refusal(e, "");
         }
         return finish(columns, options, referenceMicros);
     }
