@@ -93,7 +93,6 @@ final class ProblemMapper {
         };
     }
 
-
     private void busy(Context ctx, String detail) {
         ctx.header("Retry-After", Integer.toString(ApiProblem.RETRY_AFTER_SECONDS));
         write(ctx, ApiProblem.busy(detail).toProblem());
