@@ -239,6 +239,10 @@ public final class TraceReader {
     }
 
     private static InputException unknownColumn(String field, String name, TraceColumns columns) {
+        if (name.isEmpty()) {
+            return new InputException(field, "got a column with no name, expected every column named (a comma at the end"
+                    + " of the header line makes one)");
+        }
         String shown = name.length() > 40 ? name.substring(0, 40) + "…" : name;
         return new InputException(field, "got an unknown column \"" + shown + "\", expected \"time\" and the model's"
                 + " channels " + columns.channelNames());

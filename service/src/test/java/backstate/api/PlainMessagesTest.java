@@ -94,6 +94,15 @@ class PlainMessagesTest {
     }
 
     @Test
+    void a_header_ending_in_a_comma_is_named_as_a_column_with_no_name() {
+        String csv = HEADER + ",\n0,2.7,-0.7,6.4,27.1,\n";
+        JsonNode error = fieldError(server.post(TRACES, "text/csv", csv.getBytes(StandardCharsets.UTF_8)));
+        assertEquals("header[5]", error.get("field").asText());
+        assertEquals("got a column with no name, expected every column named (a comma at the end of the header line"
+                + " makes one)", error.get("detail").asText());
+    }
+
+    @Test
     void a_trend_without_its_state_says_the_parameter_is_required() {
         JsonNode error = fieldError(server.get("/v1/units/RCX-00001/trend?model=reefer-40"));
         assertEquals("state", error.get("field").asText());
