@@ -66,11 +66,8 @@ class PlainMessagesTest {
 
     @Test
     void a_csv_without_a_known_input_s_column_names_the_column() {
-        String csv = "time,return_air,supply_air,cooling_power\n0,2.7,-0.7,6.4\n";
-        JsonNode error = fieldError(server.post(TRACES, "text/csv", csv.getBytes(StandardCharsets.UTF_8)));
-        assertEquals("header", error.get("field").asText());
         assertEquals("got no column for the known input \"ambient\", expected one for each of the model's inputs"
-                + " [cooling_power, ambient]", error.get("detail").asText());
+                + " [cooling_power, ambient]", csvRefusal("time,return_air,supply_air,cooling_power\n0,2.7,-0.7,6.4\n", "header"));
     }
 
     @Test
@@ -86,20 +83,15 @@ class PlainMessagesTest {
         }
         for (String separator : List.of(";", "\t")) {
             String csv = HEADER.replace(",", separator) + "\n" + ROWS.replace(",", separator);
-            JsonNode error = fieldError(server.post(TRACES, "text/csv", csv.getBytes(StandardCharsets.UTF_8)));
-            assertEquals("header", error.get("field").asText());
             assertEquals("got names separated by " + (separator.equals(";") ? "semicolons" : "tabs")
-                    + ", expected them separated by commas", error.get("detail").asText());
+                    + ", expected them separated by commas", csvRefusal(csv, "header"));
         }
     }
 
     @Test
     void a_header_ending_in_a_comma_is_named_as_a_column_with_no_name() {
-        String csv = HEADER + ",\n0,2.7,-0.7,6.4,27.1,\n";
-        JsonNode error = fieldError(server.post(TRACES, "text/csv", csv.getBytes(StandardCharsets.UTF_8)));
-        assertEquals("header[5]", error.get("field").asText());
         assertEquals("got a column with no name, expected every column named (a comma at the end of the header line"
-                + " makes one)", error.get("detail").asText());
+                + " makes one)", csvRefusal(HEADER + ",\n0,2.7,-0.7,6.4,27.1,\n", "header[5]"));
     }
 
     @Test
@@ -132,7 +124,16 @@ class PlainMessagesTest {
 
     /** Posts a JSON body, requires a 400 whose one field error is {@code field}, and returns that error's detail. */
     private String refusal(String path, String body, String field) {
-        JsonNode error = fieldError(server.post(path, "application/json", body.getBytes(StandardCharsets.UTF_8)));
+        return refusal(path, "application/json", body, field);
+    }
+
+    /** {@link #refusal} for a CSV trace of the demo model. */
+    private String csvRefusal(String csv, String field) {
+        return refusal(TRACES, "text/csv", csv, field);
+    }
+
+    private String refusal(String path, String mediaType, String body, String field) {
+        JsonNode error = fieldError(server.post(path, mediaType, body.getBytes(StandardCharsets.UTF_8)));
         assertEquals(field, error.get("field").asText(), error.toString());
         assertFalse(error.toString().contains("Source") || error.toString().contains("REDACTED"), error.toString());
         return error.get("detail").asText();
