@@ -10,10 +10,11 @@ import com.fasterxml.jackson.databind.ObjectMapper;
 
 /**
  * The one Jackson configuration: strict on input (no nulls in number arrays, unknown fields
- * rejected, a key twice in one object rejected, nothing after the document, depth-limited). Doubles are written by Jackson's
- * shortest-digits writer (Giulietti 2020, "The Schubfach way to render doubles"), which gives
- * the same double back on reading as {@code Double.toString} does at a fraction of Java 17's cost
- * (a tenth of an estimate job's CPU went to {@code Double.toString}).
+ * rejected, a key twice in one object rejected, nothing after the document, depth-limited).
+ * Doubles are written by Jackson's shortest-digits writer (Giulietti 2020, "The Schubfach way to
+ * render doubles"), which gives the same double back on reading as {@code Double.toString} does
+ * at a fraction of Java 17's cost (a tenth of an estimate job's CPU went to
+ * {@code Double.toString}).
  */
 public final class Json {
     private Json() {

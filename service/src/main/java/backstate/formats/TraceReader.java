@@ -210,7 +210,6 @@ public final class TraceReader {
         return "line " + line + ", column time";
     }
 
-    /** A header column that is neither time nor a channel of the model, named (and cut at 40 characters). */
     /**
      * The body without the byte order mark (EF BB BF) spreadsheet programs put at the start of a
      * UTF-8 file: it marks the encoding and is not part of the first column's name (common practice,
@@ -221,7 +220,7 @@ public final class TraceReader {
         byte[] start = new byte[BYTE_ORDER_MARK.length];
         int read = CsvRecords.readFully(in, start, 0, start.length);
         if (read < start.length || !Arrays.equals(start, BYTE_ORDER_MARK)) {
-            in.unread(start, 0, Math.max(read, 0));
+            in.unread(start, 0, read);
         }
         return in;
     }
@@ -238,6 +237,7 @@ public final class TraceReader {
         }
     }
 
+    /** A header column that is neither time nor a channel of the model, named (and cut at 40 characters), or one with no name. */
     private static InputException unknownColumn(String field, String name, TraceColumns columns) {
         if (name.isEmpty()) {
             return new InputException(field, "got a column with no name, expected every column named (a comma at the end"
