@@ -57,7 +57,8 @@ final class KeyRoutes {
                 ApiProblem.invalid("role", "got " + Params.quoted(body.role()) + ", expected " + Role.choices()));
         UnitPattern scope = scope(role, body.unitPattern());
         if (body.label() == null || !LABEL.matcher(body.label()).matches() || body.label().isBlank()) {
-            throw ApiProblem.invalid("label", "expected 1-" + MAX_LABEL + " printable characters naming who holds the key");
+            throw ApiProblem.invalid("label", "got " + refusedLabel(body.label()) + ", expected 1-" + MAX_LABEL
+                    + " printable characters naming who holds the key");
         }
         String by = AccessGuard.caller(ctx).map(Caller::keyId).orElse(null);
         ApiKeys.Issued issued = keys.issue(role, scope, body.label(), by);
@@ -67,6 +68,17 @@ final class KeyRoutes {
                         row.createdAt().toString(), row.createdBy()));
     }
 
+    /** What a refused label was, described rather than echoed: it may hold a line break meant for a log. */
+    private static String refusedLabel(String label) {
+        if (label == null) {
+            return "nothing";
+        }
+        if (label.length() > MAX_LABEL) {
+            return label.length() + " characters";
+        }
+        return label.isBlank() ? "a blank label" : "a label with a control character";
+    }
+
     void list(Context ctx) {
         ctx.json(new Views.Page<>(keys.list().stream().map(KeyView::of).toList(), null));
     }
@@ -74,7 +86,7 @@ final class KeyRoutes {
     void revoke(Context ctx) {
         String id = ctx.pathParam("keyId");
         if (!KEY_ID.matcher(id).matches()) {
-            throw ApiProblem.invalid("keyId", "expected 16 lowercase hex digits (the part after bsk_)");
+            throw ApiProblem.invalid("keyId", "got " + Params.quoted(id) + ", expected 16 lowercase hex digits (the part after bsk_)");
         }
         String by = AccessGuard.caller(ctx).map(Caller::keyId).orElse(null);
         KeyRevocation outcome = keys.revoke(id, by);

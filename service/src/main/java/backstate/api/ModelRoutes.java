@@ -46,7 +46,8 @@ final class ModelRoutes {
         NewFamily body = read(ctx, NewFamily.class);
         String name = Params.identifier("name", body.name());
         if (body.description() != null && body.description().length() > MAX_DESCRIPTION) {
-            throw ApiProblem.invalid("description", "expected at most " + MAX_DESCRIPTION + " characters");
+            throw ApiProblem.invalid("description", "got " + body.description().length() + " characters, expected at most "
+                    + MAX_DESCRIPTION);
         }
         String description = body.description() == null ? "" : body.description();
         if (!store.createFamily(name, description, clock.instant())) {

@@ -111,4 +111,9 @@ final class Params {
     static String quoted(String v) {
         return FieldValues.quoted(v);
     }
+
+    /** A client's text for a message about its length: "nothing", "5000 characters" past {@code max}, else quoted. */
+    static String text(String v, int max) {
+        return v != null && v.length() > max ? v.length() + " characters" : quoted(v);
+    }
 }

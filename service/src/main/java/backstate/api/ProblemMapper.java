@@ -13,7 +13,6 @@ import backstate.store.QueueFullException;
 import backstate.store.StoreUnavailableException;
 import com.fasterxml.jackson.core.JsonProcessingException;
 import com.fasterxml.jackson.databind.ObjectMapper;
-import com.fasterxml.jackson.databind.exc.UnrecognizedPropertyException;
 import io.javalin.config.RoutesConfig;
 import io.javalin.http.Context;
 import io.javalin.http.HttpResponseException;
@@ -50,8 +49,6 @@ final class ProblemMapper {
         routes.exception(TraceRefused.class, (e, ctx) -> write(ctx, problem(e).toProblem()));
         routes.exception(RegressionRefused.class, (e, ctx) -> write(ctx, ApiProblem.unprocessable(e.field(), e.detail()).toProblem()));
         routes.exception(InvalidCursorException.class, (e, ctx) -> write(ctx, ApiProblem.invalid("cursor", "not a cursor from this API").toProblem()));
-        routes.exception(UnrecognizedPropertyException.class, (e, ctx) -> write(ctx, ApiProblem.invalid("body" + JsonPaths.of(e),
-                "got an unknown field \"" + e.getPropertyName() + "\", expected one of " + e.getKnownPropertyIds()).toProblem()));
         routes.exception(MatrixEntryException.class, (e, ctx) -> write(ctx, ApiProblem.invalid(e.field(), e.problem()).toProblem()));
         routes.exception(JsonProcessingException.class, (e, ctx) -> {
             InputException refusal = JsonPaths.refusal(e, "body");

@@ -45,7 +45,8 @@ final class TraceRoutes {
             return null;
         }
         if (key.isEmpty() || key.length() > MAX_IDEMPOTENCY_KEY || !key.chars().allMatch(c -> c > 32 && c < 127)) {
-            throw ApiProblem.invalid("Idempotency-Key", "expected 1-" + MAX_IDEMPOTENCY_KEY + " visible ASCII characters");
+            throw ApiProblem.invalid("Idempotency-Key", "got " + Params.text(key, MAX_IDEMPOTENCY_KEY) + ", expected 1-"
+                    + MAX_IDEMPOTENCY_KEY + " visible ASCII characters");
         }
         return key;
     }

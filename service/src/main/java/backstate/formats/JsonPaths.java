@@ -11,6 +11,7 @@ import com.fasterxml.jackson.core.exc.StreamReadException;
 import com.fasterxml.jackson.databind.JsonMappingException;
 import com.fasterxml.jackson.databind.exc.InvalidFormatException;
 import com.fasterxml.jackson.databind.exc.MismatchedInputException;
+import com.fasterxml.jackson.databind.exc.UnrecognizedPropertyException;
 import java.math.BigInteger;
 import java.util.Collection;
 import java.util.Locale;
@@ -34,6 +35,8 @@ public final class JsonPaths {
     /** A location inside a parser's message; the source part is a placeholder, as sources are never shown. */
     private static final Pattern SOURCE_AT = Pattern.compile("\\[Source: [^\\]]*?; line: (\\d+), column: (\\d+)]");
     private static final Pattern SOURCE = Pattern.compile("\\s*\\[Source: [^\\]]*]");
+    /** Where a reading limit's message says the limit is set ("(64, from `StreamReadConstraints.getMaxNumberLength()`)"). */
+    private static final Pattern LIMIT_SOURCE = Pattern.compile(", from `[A-Za-z.()]*`\\)");
     /** Targets that take only whole numbers (data binding refuses 1.5 for them). */
     private static final Set<Class<?>> WHOLE_NUMBERS = Set.of(int.class, long.class, short.class, byte.class, Integer.class,
             Long.class, Short.class, Byte.class, BigInteger.class);
@@ -98,14 +101,19 @@ public final class JsonPaths {
 
     /**
      * The refusal for any error reading a JSON document, naming the field where it can be told:
-     * a key written twice, a number out of its field's range, a value of the wrong type (each at
-     * its path after {@code prefix}: "body", or "" for a trace whose fields are named from its
-     * root), or JSON that does not parse ("body").
+     * a key written twice, a field the target does not have, a number out of its field's range, a
+     * value of the wrong type, a value past a reading limit (each at its path after {@code prefix}:
+     * "body", or "" for a trace whose fields are named from its root), or JSON that does not parse
+     * ("body").
      */
     public static InputException refusal(JsonProcessingException e, String prefix) {
         Optional<InputException> duplicate = duplicateKey(e, prefix);
         if (duplicate.isPresent()) {
             return duplicate.get();
+        }
+        if (e instanceof UnrecognizedPropertyException unknown) {
+            return new InputException(field(prefix, of(unknown)), "got an unknown field "
+                    + FieldValues.quoted(unknown.getPropertyName()) + ", expected one of " + unknown.getKnownPropertyIds());
         }
         Optional<JsonProcessingException> broken = e instanceof JsonMappingException ? parseError(e) : Optional.of(e);
         if (broken.isEmpty()) {
@@ -113,6 +121,9 @@ public final class JsonPaths {
         }
         if (broken.get() instanceof InputCoercionException range && range.getProcessor() != null) {
             return new InputException(field(prefix, path(range.getProcessor().getParsingContext())), outOfRange(range));
+        }
+        if (broken.get() instanceof StreamConstraintsException && e instanceof JsonMappingException bound && !of(bound).isEmpty()) {
+            return new InputException(field(prefix, of(bound)), malformed(broken.get()));
         }
         return new InputException(prefix.isEmpty() ? "body" : prefix, malformed(broken.get()));
     }
@@ -250,7 +261,8 @@ public final class JsonPaths {
         if (message == null || message.isEmpty()) {
             return "unreadable JSON";
         }
-        String text = SOURCE.matcher(SOURCE_AT.matcher(message).replaceAll("line $1, column $2")).replaceAll("");
+        String located = SOURCE_AT.matcher(message).replaceAll("line $1, column $2");
+        String text = LIMIT_SOURCE.matcher(SOURCE.matcher(located).replaceAll("")).replaceAll(")");
         boolean word = text.length() > 1 && Character.isLowerCase(text.charAt(1));
         return word ? text.substring(0, 1).toLowerCase(Locale.ROOT) + text.substring(1) : text;
     }

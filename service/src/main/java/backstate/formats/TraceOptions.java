@@ -81,7 +81,8 @@ public record TraceOptions(String formulation, Boolean estimateOffsets, Double r
         double[] flat = new double[states * states];
         for (int i = 0; i < states; i++) {
             if (cov[i] == null || cov[i].length != states) {
-                throw new InputException("options.prior.covariance[" + i + "]", "expected " + states + " columns");
+                throw new InputException("options.prior.covariance[" + i + "]", "got " + (cov[i] == null ? "null"
+                        : cov[i].length + " columns") + ", expected " + states + " columns");
             }
             System.arraycopy(cov[i], 0, flat, i * states, states);
         }

@@ -385,11 +385,10 @@ public final class TraceReader {
             return mapper.readerFor(OptionsAsWritten.class)
                     .with(com.fasterxml.jackson.databind.DeserializationFeature.FAIL_ON_UNKNOWN_PROPERTIES)
                     .readValue(parser);
-        } catch (com.fasterxml.jackson.databind.exc.UnrecognizedPropertyException e) {
-            throw new InputException("options" + JsonPaths.of(e), "got an unknown field \"" + e.getPropertyName()
-                    + "\", expected one of " + e.getKnownPropertyIds());
         } catch (com.fasterxml.jackson.databind.JsonMappingException e) {
-            throw new InputException("options" + JsonPaths.of(e), JsonPaths.mismatch(e));
+            // Data binding's path starts at the options object; the parser's (a key twice) at the root.
+            e.prependPath(new com.fasterxml.jackson.databind.JsonMappingException.Reference(null, "options"));
+            throw JsonPaths.refusal(e, "");
         }
     }
 

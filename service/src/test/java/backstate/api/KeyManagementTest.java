@@ -189,6 +189,25 @@ class KeyManagementTest {
         assertEquals(before, Database.count(db, "api_keys"));
     }
 
+    @Test
+    void a_refused_label_or_key_id_is_described_in_the_refusal() {
+        String expected = ", expected 1-100 printable characters naming who holds the key";
+        assertEquals("got nothing" + expected, detail(admin.postJson("/v1/keys", "{\"role\":\"reader\"}")));
+        assertEquals("got a blank label" + expected, detail(admin.postJson("/v1/keys", "{\"role\":\"reader\",\"label\":\"  \"}")));
+        assertEquals("got a label with a control character" + expected,
+                detail(admin.postJson("/v1/keys", "{\"role\":\"reader\",\"label\":\"a\\nINFO forged\"}")));
+        assertEquals("got 101 characters" + expected,
+                detail(admin.postJson("/v1/keys", "{\"role\":\"reader\",\"label\":\"" + "x".repeat(101) + "\"}")));
+        assertEquals("got \"NOT-AN-ID\", expected 16 lowercase hex digits (the part after bsk_)",
+                detail(admin.post("/v1/keys/NOT-AN-ID/revoke", null, new byte[0])));
+    }
+
+    /** The one field error's detail of a 400. */
+    private static String detail(TestServer.Reply reply) {
+        assertEquals(400, reply.status(), reply.body());
+        return reply.json().get("errors").get(0).get("detail").asText();
+    }
+
     static JsonNode find(JsonNode page, String id) {
         for (JsonNode k : page.get("items")) {
             if (k.get("id").asText().equals(id)) {

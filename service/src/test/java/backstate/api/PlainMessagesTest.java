@@ -165,6 +165,47 @@ class PlainMessagesTest {
                 "{\"family\": \"reefer-40\", \"baseline\": 99999999999, \"candidate\": 2}", "body.baseline"));
     }
 
+    /** A JSON trace of the demo model whose options are {@code options}. */
+    private static String traceWithOptions(String options) {
+        return "{\"time\": [0, 60], \"outputs\": {\"return_air\": [1, 2], \"supply_air\": [1, 2]},"
+                + " \"inputs\": {\"cooling_power\": [0, 0], \"ambient\": [20, 20]}, \"options\": " + options + "}";
+    }
+
+    @Test
+    void a_trace_s_options_are_refused_in_the_same_words_as_any_body() {
+        assertEquals("got the key \"mean\" twice in one object, expected each key once", refusal(TRACES,
+                traceWithOptions("{\"prior\": {\"mean\": [1, 2, 3, 4], \"mean\": [1, 2, 3, 4]}}"), "options.prior.mean"));
+        String broken = refusal(TRACES, traceWithOptions("{\"prior\": {\"mean\": [1, 2, 3, 4}}"), "body");
+        assertEquals("got malformed JSON at line 1, column 175: unexpected close marker '}': expected ']'"
+                + " (for Array starting at line 1, column 164)", broken);
+        assertEquals("got an unknown field \"bogus\", expected one of [mean, covariance]", refusal(TRACES,
+                traceWithOptions("{\"prior\": {\"mean\": [1, 2, 3, 4], \"bogus\": 1}}"), "options.prior.bogus"));
+        assertEquals("got the text \"x\", expected a number", refusal(TRACES,
+                traceWithOptions("{\"prior\": {\"mean\": [1, 2, 3, \"x\"]}}"), "options.prior.mean[3]"));
+        assertEquals("got an unknown field \"sampled\", expected one of [name, description]", refusal("/v1/models",
+                "{\"name\": \"reefer-70\", \"sampled\": true}", "body.sampled"));
+        String long_ = refusal(TRACES, traceWithOptions("{\"formulation\": \"" + "x".repeat(5000) + "\"}"), "options.formulation");
+        assertTrue(long_.startsWith("got JSON beyond the limits: string value length (") && long_.endsWith(
+                ") exceeds the maximum allowed (4096)"), long_);
+    }
+
+    @Test
+    void a_reading_limit_is_named_without_the_parser_s_setting() {
+        assertEquals("got JSON beyond the limits: number value length (81) exceeds the maximum allowed (64)",
+                refusal(TRACES, "{\"time\": [0, 1" + "0".repeat(80) + "]}", "body"));
+    }
+
+    @Test
+    void a_refused_text_or_row_says_what_was_got() {
+        assertEquals("got 2001 characters, expected at most 2000", refusal("/v1/models",
+                "{\"name\": \"reefer-80\", \"description\": \"" + "d".repeat(2001) + "\"}", "description"));
+        JsonNode key = fieldError(server.post(TRACES, "text/csv", (HEADER + "\n" + ROWS).getBytes(StandardCharsets.UTF_8),
+                "Idempotency-Key", "k".repeat(129)));
+        assertEquals("got 129 characters, expected 1-128 visible ASCII characters", key.get("detail").asText());
+        assertEquals("got 3 columns, expected 4 columns", refusal(TRACES, traceWithOptions("{\"prior\": {\"mean\": [1, 2, 3, 4],"
+                + " \"covariance\": [[1, 0, 0, 0], [0, 1, 0], [0, 0, 1, 0], [0, 0, 0, 1]]}}"), "options.prior.covariance[1]"));
+    }
+
     @Test
     void a_second_document_after_the_body_is_refused_and_nothing_is_created() {
         String after = "got more JSON after the document, expected nothing after it";
