@@ -59,8 +59,8 @@ public final class SolveCommand {
         try {
             Map<String, String> flags = flags(args);
             ObjectMapper mapper = Json.mapper(Limits.DEFAULTS);
-            ModelDocument model = readModel(mapper, Path.of(require(flags, "model")));
-            ParsedTrace trace = readTrace(Path.of(require(flags, "trace")), model, options(flags));
+            ModelDocument model = readModel(mapper, file(flags, "model"));
+            ParsedTrace trace = readTrace(file(flags, "trace"), model, options(flags));
             DocumentSolver.Outcome outcome = DocumentSolver.solve(model, trace, false, Limits.DEFAULTS);
             ObjectMapper pretty = mapper.copy().enable(SerializationFeature.INDENT_OUTPUT);
             if (outcome instanceof DocumentSolver.Outcome.Solved solved) {
@@ -117,6 +117,9 @@ public final class SolveCommand {
                         + ", expected a time in seconds");
             }
         }
+        if (flags.containsKey("formulation")) {
+            TraceOptions.formulation("--formulation", flags.get("formulation"));
+        }
         return new TraceOptions(flags.get("formulation"), flags.containsKey(SWITCH_OFFSETS) ? Boolean.TRUE : null,
                 reference, null);
     }
@@ -135,6 +138,18 @@ public final class SolveCommand {
             }
         }
         return flags;
+    }
+
+    /** The file a flag names, refused in words when it is missing, a folder or unreadable (before any reading). */
+    private static Path file(Map<String, String> flags, String name) {
+        Path path = Path.of(require(flags, name));
+        String refusal = Files.isDirectory(path) ? "got a folder, expected a file"
+                : !Files.exists(path) ? "no such file"
+                : !Files.isReadable(path) ? "the file is not readable (file permissions)" : null;
+        if (refusal != null) {
+            throw new IllegalArgumentException("--" + name + " " + path + ": " + refusal);
+        }
+        return path;
     }
 
     private static String require(Map<String, String> flags, String name) {

@@ -114,8 +114,14 @@ class SolveExitCodesTest {
                 "--model", wrongType.toString(), "--trace", trace);
         assertRefused("backstate solve: model: " + twoDocuments + " is not a model document: got more JSON after the document,"
                 + " expected nothing after it", "--model", twoDocuments.toString(), "--trace", trace);
-        assertTrue(refused("--model", model, "--trace", dir.resolve("absent.csv").toString()).contains("absent.csv"),
-                "a missing file is named");
+        // A file that is not there or is a folder: the flag, the path and what is wrong, before anything is read.
+        Path absent = dir.resolve("absent.csv");
+        assertRefused("backstate solve: --trace " + absent + ": no such file", "--model", model, "--trace", absent.toString());
+        assertRefused("backstate solve: --model " + dir + ": got a folder, expected a file", "--model", dir.toString(),
+                "--trace", trace);
+        // A formulation the solver does not have is named by its flag, as the user typed it.
+        assertRefused("backstate solve: --formulation: got \"magic\", expected \"sampled\", \"continuous\" or \"process_noise\"",
+                "--model", model, "--trace", trace, "--formulation", "magic");
     }
 
     private void assertRefused(String line, String... args) {
