@@ -43,8 +43,10 @@ public final class CompareVersionsCommand {
             + " [--units A,B,... | --latest K] [--from T] [--to T] [--received-from T] [--received-to T] [--tolerance-chi2 X]"
             + " [--tolerance-share S] [--tolerance-x0 K] [--api-key KEY]";
 
+    private static final Duration CONNECT_TIMEOUT = Duration.ofSeconds(10);
+
     private final ObjectMapper mapper = new ObjectMapper();
-    private final HttpClient http = HttpClient.newBuilder().connectTimeout(Duration.ofSeconds(10)).build();
+    private final HttpClient http = HttpClient.newBuilder().connectTimeout(CONNECT_TIMEOUT).build();
     private final PrintStream out;
     private final PrintStream err;
     private final String server;
@@ -76,8 +78,7 @@ public final class CompareVersionsCommand {
         try {
             return command.startAndFollow(request);
         } catch (IOException | IllegalArgumentException e) {
-            err.println("backstate " + NAME + ": cannot reach " + flags.get("server") + ": "
-                    + (e.getMessage() == null ? e.getClass().getSimpleName() : e.getMessage()));
+            err.println("backstate " + NAME + ": cannot reach " + flags.get("server") + ": " + unreachable(e));
             return BAD_INPUT;
         } catch (InterruptedException e) {
             Thread.currentThread().interrupt();
@@ -190,6 +191,7 @@ public final class CompareVersionsCommand {
                 throw new IllegalArgumentException("missing --" + required);
             }
         }
+        serverUrl(flags.get("server"));
         if (flags.containsKey("units") && flags.containsKey("latest")) {
             throw new IllegalArgumentException("got --units and --latest, expected at most one of them");
         }
@@ -232,6 +234,35 @@ public final class CompareVersionsCommand {
             flags.put(name, args[++i]);
         }
         return flags;
+    }
+
+    /** Why the server could not be reached, in words: the HTTP client leaves a refused connection without a message. */
+    static String unreachable(Exception e) {
+        if (e instanceof java.net.http.HttpConnectTimeoutException) {
+            return "no connection within " + CONNECT_TIMEOUT.toSeconds() + " s";
+        }
+        if (e instanceof java.net.ConnectException) {
+            for (Throwable cause = e; cause != null; cause = cause.getCause()) {
+                if (cause instanceof java.nio.channels.UnresolvedAddressException) {
+                    return "unknown host";
+                }
+            }
+            return "connection refused (is the service running there?)";
+        }
+        return e.getMessage() == null ? e.getClass().getSimpleName() : e.getMessage();
+    }
+
+    /** Refuses a --server that is not an http(s) URL with a host, before anything is sent. */
+    private static void serverUrl(String value) {
+        URI uri;
+        try {
+            uri = new URI(value);
+        } catch (java.net.URISyntaxException e) {
+            uri = null;
+        }
+        if (uri == null || uri.getHost() == null || !("http".equals(uri.getScheme()) || "https".equals(uri.getScheme()))) {
+            throw new IllegalArgumentException("got --server " + value + ", expected a URL such as http://backstate.internal:8080");
+        }
     }
 
     private static int whole(String flag, String value) {

@@ -7,6 +7,7 @@ import backstate.api.TestServer;
 import java.net.ServerSocket;
 import java.nio.file.Files;
 import java.nio.file.Path;
+import java.util.List;
 import org.junit.jupiter.api.AfterAll;
 import org.junit.jupiter.api.BeforeAll;
 import org.junit.jupiter.api.Test;
@@ -106,6 +107,27 @@ class CompareVersionsCommandTest {
         CommandRun run = compareVersions("--server", "http://127.0.0.1:" + closedPort, "--family", "reefer-40", "--baseline", "1",
                 "--candidate", "2");
         assertEquals(CompareVersionsCommand.BAD_INPUT, run.exit());
-        assertTrue(run.err().contains("cannot reach http://127.0.0.1:" + closedPort), run.err());
+        assertEquals("backstate compare-versions: cannot reach http://127.0.0.1:" + closedPort
+                + ": connection refused (is the service running there?)" + System.lineSeparator(), run.err());
+    }
+
+    @Test
+    void a_host_that_does_not_resolve_is_named_as_unknown() {
+        // RFC 6761: names under .invalid never resolve.
+        CommandRun run = compareVersions("--server", "http://backstate.invalid:8080", "--family", "reefer-40", "--baseline", "1",
+                "--candidate", "2");
+        assertEquals(CompareVersionsCommand.BAD_INPUT, run.exit());
+        assertEquals("backstate compare-versions: cannot reach http://backstate.invalid:8080: unknown host"
+                + System.lineSeparator(), run.err());
+    }
+
+    @Test
+    void a_server_flag_that_is_not_a_url_is_refused_before_anything_is_sent() {
+        for (String notUrl : List.of("localhost:8080", "backstate.internal", "ftp://backstate.internal/", "http://")) {
+            CommandRun run = compareVersions("--server", notUrl, "--family", "reefer-40", "--baseline", "1", "--candidate", "2");
+            assertEquals(CompareVersionsCommand.BAD_INPUT, run.exit(), notUrl);
+            assertEquals("backstate compare-versions: got --server " + notUrl + ", expected a URL such as"
+                    + " http://backstate.internal:8080 (--help for usage)" + System.lineSeparator(), run.err());
+        }
     }
 }
