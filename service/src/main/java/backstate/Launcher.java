@@ -112,7 +112,8 @@ final class Launcher {
         Settings settings;
         try {
             // The demo loader posts without keys, so the demo always runs with access control off.
-            settings = Settings.from(demo ? withAuthOff(flags) : flags, env);
+            Settings given = Settings.from(flags, env);
+            settings = demo ? given.withAuthOff() : given;
         } catch (IllegalArgumentException e) {
             err.println("backstate " + name + ": " + e.getMessage() + " (--help for usage)");
             return new Outcome.Exited(BAD_COMMAND_LINE);
@@ -154,14 +155,6 @@ final class Launcher {
 
     private static String base(App app) {
         return "http://localhost:" + app.port();
-    }
-
-    /** The flags with --auth off last, so it wins over any --auth given before it. */
-    private static String[] withAuthOff(String[] flags) {
-        String[] all = Arrays.copyOf(flags, flags.length + 2);
-        all[flags.length] = "--auth";
-        all[flags.length + 1] = "off";
-        return all;
     }
 
     /** The failure's own words on one line: its message's first line, or its kind when it has none. */

@@ -127,6 +127,27 @@ class StartErrorsTest {
     }
 
     @Test
+    void a_last_flag_without_its_value_is_named_as_such_by_serve_and_demo() throws Exception {
+        IllegalArgumentException refusal = assertThrows(IllegalArgumentException.class,
+                () -> Settings.from(new String[] {"--database", "x.db", "--port"}, Map.of()));
+        assertEquals("got flag --port without a value, expected --port VALUE", refusal.getMessage());
+        // The demo turns keys off after reading the flags, so its flags are refused in the same words.
+        assertEquals("backstate demo: got flag --port without a value, expected --port VALUE (--help for usage)",
+                oneLine(backstate("demo", "--port"), Launcher.BAD_COMMAND_LINE));
+    }
+
+    @Test
+    void the_demo_runs_without_keys_whatever_its_flags_say() {
+        Settings asked = Settings.from(new String[] {"--auth", "on", "--port", "9090"}, Map.of());
+        assertTrue(asked.auth());
+        Settings demo = asked.withAuthOff();
+        assertFalse(demo.auth());
+        assertEquals(asked, new Settings(demo.host(), demo.port(), demo.database(), demo.workers(), demo.maxBodyBytes(),
+                demo.maxQueued(), demo.maxSamples(), true, demo.adminKey(), demo.seriesThreads(), demo.seriesQueue(),
+                demo.jobLease(), demo.databasePool(), demo.uploads(), demo.readConcurrency()), "only auth differs");
+    }
+
+    @Test
     void an_unknown_command_is_one_line_and_exits_2() throws Exception {
         assertEquals("backstate: got command estimate, expected serve, demo, solve, compare-versions, migrate or help",
                 oneLine(backstate("estimate"), Launcher.BAD_COMMAND_LINE));

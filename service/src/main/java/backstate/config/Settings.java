@@ -31,6 +31,12 @@ public record Settings(String host, int port, DatabaseTarget database, int worke
     /** PostgreSQL connections per replica. */
     public static final int DEFAULT_DATABASE_POOL = 8;
 
+    /** The same settings with API keys off (the demo's loader posts without keys). */
+    public Settings withAuthOff() {
+        return new Settings(host, port, database, workers, maxBodyBytes, maxQueued, maxSamples, false, adminKey, seriesThreads,
+                seriesQueue, jobLease, databasePool, uploads, readConcurrency);
+    }
+
     /** Reads flags and environment; a bad value throws naming the setting. */
     public static Settings from(String[] flags, Map<String, String> env) {
         Map<String, String> values = new LinkedHashMap<>();
@@ -56,8 +62,11 @@ public record Settings(String host, int port, DatabaseTarget database, int worke
                 Integer.toString(DEFAULT_READ_CONCURRENCY)));
         for (int i = 0; i < flags.length; i++) {
             String flag = flags[i];
-            if (!flag.startsWith("--") || !values.containsKey(flag.substring(2)) || i + 1 == flags.length) {
+            if (!flag.startsWith("--") || !values.containsKey(flag.substring(2))) {
                 throw new IllegalArgumentException("got flag " + flag + ", expected one of --" + String.join(" VALUE, --", values.keySet()) + " VALUE");
+            }
+            if (i + 1 == flags.length) {
+                throw new IllegalArgumentException("got flag " + flag + " without a value, expected " + flag + " VALUE");
             }
             values.put(flag.substring(2), flags[++i]);
         }

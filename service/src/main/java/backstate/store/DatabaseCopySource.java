@@ -35,7 +35,8 @@ final class DatabaseCopySource {
      */
     static LeftRunning inspect(Path file, int maxAttempts) {
         if (!Files.isRegularFile(file)) {
-            throw new DatabaseCopyRefusedException("the SQLite file " + file + " does not exist");
+            throw new DatabaseCopyRefusedException("the SQLite file " + file
+                    + (Files.isDirectory(file) ? " is a folder, expected a file" : " does not exist"));
         }
         try {
             DatabaseFile.usable(file);

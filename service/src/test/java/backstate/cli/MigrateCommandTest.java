@@ -136,13 +136,17 @@ class MigrateCommandTest {
     }
 
     @Test
-    void a_missing_from_file_is_refused_and_not_created() {
+    void a_missing_or_folder_from_file_is_refused_and_not_created() {
         Path missing = dir.resolve("nothing-here.db");
         CommandRun refused = migrate(Map.of(), "--from", missing.toString(), "--to",
                 PostgresServer.serviceUrl(PostgresServer.newEmptyDatabase()));
         assertEquals(MigrateCommand.REFUSED, refused.exit());
         assertEquals("backstate migrate: the SQLite file " + missing + " does not exist", refused.err().strip());
         assertFalse(Files.exists(missing));
+        CommandRun folder = migrate(Map.of(), "--from", dir.toString(), "--to",
+                PostgresServer.serviceUrl(PostgresServer.newEmptyDatabase()));
+        assertEquals(MigrateCommand.REFUSED, folder.exit());
+        assertEquals("backstate migrate: the SQLite file " + dir + " is a folder, expected a file", folder.err().strip());
     }
 
     @Test
