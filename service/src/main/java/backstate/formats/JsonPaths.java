@@ -14,7 +14,9 @@ import com.fasterxml.jackson.databind.exc.MismatchedInputException;
 import com.fasterxml.jackson.databind.exc.UnrecognizedPropertyException;
 import java.math.BigInteger;
 import java.util.Collection;
+import java.util.List;
 import java.util.Locale;
+import java.util.Map;
 import java.util.Optional;
 import java.util.Set;
 import java.util.regex.Matcher;
@@ -35,6 +37,13 @@ public final class JsonPaths {
     /** A location inside a parser's message; the source part is a placeholder, as sources are never shown. */
     private static final Pattern SOURCE_AT = Pattern.compile("\\[Source: [^\\]]*?; line: (\\d+), column: (\\d+)]");
     private static final Pattern SOURCE = Pattern.compile("\\s*\\[Source: [^\\]]*]");
+    /** The parser's advice to switch on a leniency ("…: enable `JsonReadFeature.ALLOW_…` to allow"): not the client's to take. */
+    private static final Pattern ENABLE_FEATURE = Pattern.compile(": enable `[A-Za-z_.]*` to allow");
+    /** How the parser names NaN or an infinity written as a number. */
+    private static final Pattern NON_NUMERIC = Pattern.compile("^Non-standard token '([-+A-Za-z]{1,9})'");
+    /** How the parser meets a comment, naming the parser feature that would allow it. */
+    private static final Pattern COMMENT = Pattern.compile("maybe a \\(non-standard\\) comment\\? \\(not recognized as one since Feature"
+            + " '[A-Z_]*' not enabled for parser\\)");
     /** Where a reading limit's message says the limit is set ("(64, from `StreamReadConstraints.getMaxNumberLength()`)"). */
     private static final Pattern LIMIT_SOURCE = Pattern.compile(", from `[A-Za-z.()]*`\\)");
     /** Targets that take only whole numbers (data binding refuses 1.5 for them). */
@@ -46,6 +55,15 @@ public final class JsonPaths {
     private static final Pattern OUT_OF_RANGE = Pattern.compile("^Numeric value \\(([-+0-9.eE]{1,40})\\) out of range");
     /** How data binding names the kind of value it could not bind ("from Array value"). */
     private static final Pattern GOT_KIND = Pattern.compile("from (Array|Object|String|Number|Integer|Floating-point|Boolean|Null) value");
+
+    /** The parser's words turned into the API's, in this order: its advice and settings out, locations plain. */
+    private static final List<Map.Entry<Pattern, String>> REWORDINGS = List.of(
+            Map.entry(NON_NUMERIC, "unexpected token $1: JSON numbers are finite"),
+            Map.entry(ENABLE_FEATURE, ""),
+            Map.entry(COMMENT, "JSON has no comments"),
+            Map.entry(SOURCE_AT, "line $1, column $2"),
+            Map.entry(SOURCE, ""),
+            Map.entry(LIMIT_SOURCE, ")"));
 
     private JsonPaths() {
     }
@@ -261,8 +279,10 @@ public final class JsonPaths {
         if (message == null || message.isEmpty()) {
             return "unreadable JSON";
         }
-        String located = SOURCE_AT.matcher(message).replaceAll("line $1, column $2");
-        String text = LIMIT_SOURCE.matcher(SOURCE.matcher(located).replaceAll("")).replaceAll(")");
+        String text = message;
+        for (Map.Entry<Pattern, String> rewording : REWORDINGS) {
+            text = rewording.getKey().matcher(text).replaceAll(rewording.getValue());
+        }
         boolean word = text.length() > 1 && Character.isLowerCase(text.charAt(1));
         return word ? text.substring(0, 1).toLowerCase(Locale.ROOT) + text.substring(1) : text;
     }

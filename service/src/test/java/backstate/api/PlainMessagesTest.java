@@ -190,6 +190,18 @@ class PlainMessagesTest {
     }
 
     @Test
+    void json_the_parser_could_be_told_to_allow_is_refused_without_naming_its_settings() {
+        assertEquals("got malformed JSON at line 1, column 49: unexpected token NaN: JSON numbers are finite",
+                refusal(TRACES, "{\"time\": [0, 60], \"outputs\": {\"return_air\": [NaN, 1]}}", "body"));
+        assertEquals("got malformed JSON at line 1, column 55: unexpected token -Infinity: JSON numbers are finite",
+                refusal(TRACES, "{\"time\": [0, 60], \"outputs\": {\"return_air\": [-Infinity, 1]}}", "body"));
+        assertEquals("got malformed JSON at line 1, column 19: unexpected character ('/' (code 47)): JSON has no comments",
+                refusal(TRACES, "{\"time\": [0, 60], /* minutes */ \"outputs\": {}}", "body"));
+        assertEquals("got malformed JSON at line 1, column 12: unexpected character ('+' (code 43)) in numeric value:"
+                + " JSON spec does not allow numbers to have plus signs", refusal(TRACES, "{\"time\": [+1, 60]}", "body"));
+    }
+
+    @Test
     void a_reading_limit_is_named_without_the_parser_s_setting() {
         assertEquals("got JSON beyond the limits: number value length (81) exceeds the maximum allowed (64)",
                 refusal(TRACES, "{\"time\": [0, 1" + "0".repeat(80) + "]}", "body"));
