@@ -258,7 +258,8 @@ public final class TraceReader {
             throw new InputException(field, "got an empty cell, expected a number (only outputs may be missing)");
         }
         if (!DECIMAL.matcher(s).matches()) {
-            throw new InputException(field, "got \"" + (s.length() > 40 ? s.substring(0, 40) + "…" : s) + "\", expected a decimal number");
+            throw new InputException(field, "got " + FieldValues.quoted(s) + ", expected a decimal number"
+                    + (missingAllowed ? " or an empty cell for a missing sample" : ""));
         }
         double v = Double.parseDouble(s);
         if (!Double.isFinite(v)) {

@@ -102,8 +102,11 @@ class CsvFastPathTest {
                 "1 2", "١", "1e+", "--1", "1_000")) {
             InputException e = refusedAlike(HEADER + "0," + cell + ",1,1,1\n");
             assertEquals("line 2, column return_air", e.field(), cell);
-            assertEquals("line 2, column return_air: got \"" + cell + "\", expected a decimal number", e.getMessage());
+            assertEquals("line 2, column return_air: got \"" + cell + "\", expected a decimal number or an empty cell for a missing sample", e.getMessage());
         }
+        // An input cannot be missing, so its refusal offers no empty cell.
+        assertEquals("line 2, column cooling_power: got \"nan\", expected a decimal number",
+                refusedAlike(HEADER + "0,1,1,nan,1\n").getMessage());
     }
 
     @Example
@@ -137,7 +140,7 @@ class CsvFastPathTest {
                 "256 characters fit");
         assertEquals("line 2: got a field longer than 256 characters", refusedAlike(HEADER + "0," + ascii256 + "1,1,1,1\n").getMessage());
         // 200 two-byte characters (400 bytes) fit; 257 do not, whatever error would follow.
-        assertTrue(refusedAlike(HEADER + "0," + "é".repeat(200) + ",1,1,1\n").getMessage().endsWith("expected a decimal number"));
+        assertTrue(refusedAlike(HEADER + "0," + "é".repeat(200) + ",1,1,1\n").getMessage().endsWith("expected a decimal number or an empty cell for a missing sample"));
         assertEquals("line 2: got a field longer than 256 characters", refusedAlike(HEADER + "0,\"" + "é".repeat(257)).getMessage());
         assertEquals("line 2: got a field longer than 256 characters", refusedAlike(HEADER + "0," + "€".repeat(400) + "\n").getMessage());
     }
@@ -147,7 +150,7 @@ class CsvFastPathTest {
         byte[] body = concat(HEADER.getBytes(StandardCharsets.UTF_8), new byte[] {'0', ',', (byte) 0xC3, ',', (byte) 0xE2, (byte) 0x82,
             ',', '1', ',', '1', '\n'});
         InputException e = refusedAlike(body);
-        assertEquals("line 2, column return_air: got \"\uFFFD\", expected a decimal number", e.getMessage());
+        assertEquals("line 2, column return_air: got \"\uFFFD\", expected a decimal number or an empty cell for a missing sample", e.getMessage());
     }
 
     @Example
