@@ -64,9 +64,14 @@ final class ProblemMapper {
             LOG.error("stored data corrupt ({} {}): {}", ctx.method(), ctx.path(), e.getMessage(), e);
             write(ctx, ApiProblem.storedDataCorrupt(e.item()).toProblem());
         });
-        routes.exception(HttpResponseException.class, (e, ctx) -> write(ctx, e.getStatus() == 404
-                ? ApiProblem.notFound("route " + ctx.method() + " " + ctx.path()).toProblem()
-                : fromStatus(e.getStatus(), e.getMessage())));
+        routes.exception(HttpResponseException.class, (e, ctx) -> {
+            if (e.getStatus() == 405 && !e.getDetails().isEmpty()) {
+                // RFC 9110 15.5.6: a 405 lists the methods the resource has; the router puts them in the one detail.
+                ctx.header("Allow", String.join(", ", e.getDetails().values()));
+            }
+            write(ctx, e.getStatus() == 404 ? ApiProblem.notFound("route " + ctx.method() + " " + ctx.path()).toProblem()
+                    : fromStatus(e.getStatus(), e.getMessage()));
+        });
         routes.exception(Exception.class, (e, ctx) -> {
             String reference = UUID.randomUUID().toString();
             LOG.error("unhandled error, reference {}", reference, e);

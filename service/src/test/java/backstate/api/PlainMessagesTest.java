@@ -243,5 +243,10 @@ class PlainMessagesTest {
         assertEquals(405, wrongMethod.status(), wrongMethod.body());
         assertEquals("/problems/method-not-allowed", wrongMethod.json().get("type").asText());
         assertEquals("Method not allowed", wrongMethod.json().get("title").asText());
+        // RFC 9110 15.5.6: a 405 names the methods the resource has.
+        assertEquals("GET, HEAD", wrongMethod.headers().firstValue("Allow").orElse("none"));
+        TestServer.Reply readTraces = server.get("/v1/units/RCX-00001/traces");
+        assertEquals(405, readTraces.status(), readTraces.body());
+        assertEquals("POST", readTraces.headers().firstValue("Allow").orElse("none"));
     }
 }
