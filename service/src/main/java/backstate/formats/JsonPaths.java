@@ -51,6 +51,8 @@ public final class JsonPaths {
             Long.class, Short.class, Byte.class, BigInteger.class);
     /** How data binding begins the message of {@code FAIL_ON_NULL_FOR_PRIMITIVES}. */
     private static final String NULL_FOR_PRIMITIVE = "Cannot map `null` into type";
+    /** How data binding begins its message for a document with nothing in it. */
+    private static final String NO_CONTENT = "No content to map due to end-of-input";
     /** How the parser quotes a number too large for its target ("Numeric value (99999999999) out of range of int"). */
     private static final Pattern OUT_OF_RANGE = Pattern.compile("^Numeric value \\(([-+0-9.eE]{1,40})\\) out of range");
     /** How data binding names the kind of value it could not bind ("from Array value"). */
@@ -251,6 +253,9 @@ public final class JsonPaths {
         }
         if (message.startsWith(NULL_FOR_PRIMITIVE)) {
             return "null";
+        }
+        if (message.startsWith(NO_CONTENT)) {
+            return "an empty body";
         }
         Matcher m = GOT_KIND.matcher(message);
         if (!m.find()) {

@@ -161,6 +161,8 @@ class PlainMessagesTest {
                 "{\"family\": \"reefer-40\", \"baseline\": 1, \"candidate\": 1.5}", "body.candidate"));
         assertEquals("got an array, expected a string", refusal("/v1/models",
                 "{\"name\": \"reefer-50\", \"description\": [\"two\", \"lines\"]}", "body.description"));
+        assertEquals("got an empty body, expected an object", refusal("/v1/models", "", "body"));
+        assertEquals("got an empty body, expected an object", refusal("/v1/models/reefer-40/versions/1/plans", " \n", "body"));
         assertEquals("got 99999999999, expected a whole number from -2147483648 to 2147483647", refusal("/v1/regressions",
                 "{\"family\": \"reefer-40\", \"baseline\": 99999999999, \"candidate\": 2}", "body.baseline"));
     }
