@@ -127,7 +127,8 @@ final class TraceColumns {
 
     private void requireLength(DoubleColumn column, int n) {
         if (column != null && column.size() != n) {
-            throw new InputException(column.field(), "got " + column.size() + " values, expected " + n + " (one per time)");
+            throw new InputException(column.field(), "got " + column.size() + (column.size() == 1 ? " value" : " values")
+                    + ", expected " + n + " (one per time)");
         }
     }
 

@@ -66,13 +66,21 @@ public final class TraceReader {
         TraceColumns columns = new TraceColumns(model, limits);
         TraceOptions options = TraceOptions.NONE;
         Long referenceMicros = null;
+        boolean timed = false;
         try (JsonParser parser = mapper.getFactory().createParser(body)) {
-            expect(parser, parser.nextToken(), JsonToken.START_OBJECT, "body");
+            JsonToken first = parser.nextToken();
+            if (first == null) {
+                throw new InputException("body", "got an empty body, expected an object");
+            }
+            expect(parser, first, JsonToken.START_OBJECT, "body");
             while (parser.nextToken() == JsonToken.FIELD_NAME) {
                 String name = parser.currentName();
                 parser.nextToken();
                 switch (name) {
-                    case "time" -> readTimes(parser, columns.times());
+                    case "time" -> {
+                        readTimes(parser, columns.times());
+                        timed = true;
+                    }
                     case "start" -> columns.times().declareStart(startMicros(parser), "start");
                     case "outputs" -> readChannels(parser, columns, true);
                     case "inputs" -> readChannels(parser, columns, false);
@@ -91,6 +99,10 @@ public final class TraceReader {
             }
         } catch (JsonProcessingException e) {
             throw JsonPaths.refusal(e, "");
+        }
+        if (!timed) {
+            throw new InputException("time", "got nothing, expected a list of sample times, each a number of seconds or "
+                    + RecordingTime.EXAMPLE);
         }
         return finish(columns, options, referenceMicros);
     }

@@ -162,6 +162,12 @@ class PlainMessagesTest {
         assertEquals("got an array, expected a string", refusal("/v1/models",
                 "{\"name\": \"reefer-50\", \"description\": [\"two\", \"lines\"]}", "body.description"));
         assertEquals("got an empty body, expected an object", refusal("/v1/models", "", "body"));
+        assertEquals("got an empty body, expected an object", refusal(TRACES, "", "body"));
+        assertEquals("got nothing, expected a list of sample times, each a number of seconds or an RFC 3339 time with offset"
+                + " such as 2026-12-01T06:00:00+02:00 or 2026-12-01T04:00:00.5Z", refusal(TRACES,
+                "{\"outputs\": {\"return_air\": [1]}, \"inputs\": {\"cooling_power\": [0], \"ambient\": [20]}}", "time"));
+        assertEquals("got 1 value, expected 2 (one per time)", refusal(TRACES,
+                "{\"time\": [0, 60], \"outputs\": {\"return_air\": [1]}}", "outputs.return_air"));
         assertEquals("got an empty body, expected an object", refusal("/v1/models/reefer-40/versions/1/plans", " \n", "body"));
         assertEquals("got 99999999999, expected a whole number from -2147483648 to 2147483647", refusal("/v1/regressions",
                 "{\"family\": \"reefer-40\", \"baseline\": 99999999999, \"candidate\": 2}", "body.baseline"));
