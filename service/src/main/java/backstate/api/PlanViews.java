@@ -2,6 +2,7 @@ package backstate.api;
 
 import backstate.estimation.SamplingPlanner;
 import backstate.formats.EstimateDocument;
+import backstate.text.Counted;
 import com.fasterxml.jackson.annotation.JsonInclude;
 import java.util.ArrayList;
 import java.util.LinkedHashMap;
@@ -76,7 +77,7 @@ final class PlanViews {
             case UNOBSERVABLE_WITH_THESE_OUTPUTS -> "no horizon meets the targets: with these outputs the direction(s) "
                     + directions(states, s.unobservableDirections()) + " of x0 are unobservable at any horizon and period";
             case RANK_DEFICIENT_AT_EVERY_HORIZON -> "no candidate horizon determines x0: the longest (" + longest.horizon()
-                    + " s, " + longest.samples() + " samples) leaves the direction(s) "
+                    + " s, " + Counted.of(longest.samples(), "sample") + ") leaves the direction(s) "
                     + directions(states, longest.unobservableDirections())
                     + " undetermined; take more samples, or a sample period that does not alias a mode";
             case TARGETS_NOT_MET -> "no candidate horizon meets the targets; at the longest (" + longest.horizon()

@@ -1,5 +1,6 @@
 package backstate.estimation;
 
+import backstate.text.Counted;
 import java.util.EnumSet;
 import java.util.List;
 import java.util.Set;
@@ -254,11 +255,11 @@ public final class InitialStateEstimator {
     private static void requireCompatible(StateSpaceModel model, double[] times, int outputs, int inputs,
                                           EstimationOptions options) {
         if (outputs != model.outputs()) {
-            throw new ModelException("outputs", "got " + outputs + " channels, expected "
+            throw new ModelException("outputs", "got " + Counted.of(outputs, "channel") + ", expected "
                     + model.outputs() + " (the model's outputs)");
         }
         if (inputs != model.inputs()) {
-            throw new ModelException("inputs", "got " + inputs + " channels, expected "
+            throw new ModelException("inputs", "got " + Counted.of(inputs, "channel") + ", expected "
                     + model.inputs() + " (the model's inputs)");
         }
         if (!(options.mismatchLevel() > 0.0 && options.mismatchLevel() < 1.0)) {

@@ -1,5 +1,7 @@
 package backstate.estimation;
 
+import backstate.text.Counted;
+
 /** Validates the shapes and finiteness of state-space matrices, naming the offending entry. */
 final class ModelShapeCheck {
     private final int states;
@@ -52,7 +54,7 @@ final class ModelShapeCheck {
             return;
         }
         if (sigma.length != outputs) {
-            throw new ModelException(field, "got " + sigma.length + " values, expected " + outputs + " (one per output)");
+            throw new ModelException(field, "got " + Counted.of(sigma.length, "value") + ", expected " + outputs + " (one per output)");
         }
         for (int j = 0; j < sigma.length; j++) {
             if (!(sigma[j] > 0.0) || !Double.isFinite(sigma[j])) {
@@ -69,12 +71,12 @@ final class ModelShapeCheck {
 
     private static void requireMatrix(String field, double[][] m, int rows, int cols) {
         if (m.length != rows) {
-            throw new ModelException(field, "got " + m.length + " rows, expected " + rows);
+            throw new ModelException(field, "got " + Counted.of(m.length, "row") + ", expected " + rows);
         }
         for (int i = 0; i < rows; i++) {
             if (m[i] == null || m[i].length != cols) {
                 int got = m[i] == null ? 0 : m[i].length;
-                throw new ModelException(field + "[" + i + "]", "got " + got + " columns, expected " + cols);
+                throw new ModelException(field + "[" + i + "]", "got " + Counted.of(got, "column") + ", expected " + cols);
             }
             for (int j = 0; j < cols; j++) {
                 if (!Double.isFinite(m[i][j])) {

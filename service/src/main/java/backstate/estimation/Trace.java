@@ -1,5 +1,7 @@
 package backstate.estimation;
 
+import backstate.text.Counted;
+
 /**
  * One unit's sampled output trace over a window: sample times, outputs with missing values,
  * and known inputs held constant from each sample to the next (zero-order hold).
@@ -128,7 +130,7 @@ public final class Trace {
 
     private static void requireLength(String field, double[] values, long expected) {
         if (values.length != expected) {
-            throw new ModelException(field, "got " + values.length + " values, expected " + expected);
+            throw new ModelException(field, "got " + Counted.of(values.length, "value") + ", expected " + expected);
         }
     }
 }

@@ -2,6 +2,7 @@ package backstate.formats;
 
 import backstate.estimation.ModelException;
 import backstate.estimation.StateSpaceModel;
+import backstate.text.Counted;
 import com.fasterxml.jackson.annotation.JsonIgnore;
 import com.fasterxml.jackson.annotation.JsonInclude;
 import com.fasterxml.jackson.databind.annotation.JsonDeserialize;
@@ -189,7 +190,7 @@ public record ModelDocument(String description, String timeDomain, Double sample
     private static void requireCount(String field, List<Quantity> list, int expected, String what) {
         int got = list == null ? 0 : list.size();
         if (got != expected) {
-            throw new ModelException(field, "got " + got + " names, expected " + expected + " (the " + what + ")");
+            throw new ModelException(field, "got " + Counted.of(got, "name") + ", expected " + expected + " (the " + what + ")");
         }
     }
 }

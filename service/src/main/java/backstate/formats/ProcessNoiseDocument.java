@@ -1,5 +1,6 @@
 package backstate.formats;
 
+import backstate.text.Counted;
 import com.fasterxml.jackson.annotation.JsonInclude;
 import com.fasterxml.jackson.databind.annotation.JsonDeserialize;
 
@@ -23,7 +24,7 @@ public record ProcessNoiseDocument(@JsonDeserialize(using = MatrixReader.class) 
             return matrix;
         }
         if (perState.length != n) {
-            throw new InputException(FIELD + ".perState", "got " + perState.length + " values, expected " + n
+            throw new InputException(FIELD + ".perState", "got " + Counted.of(perState.length, "value") + ", expected " + n
                     + " (one per state)");
         }
         double[][] out = new double[n][n];

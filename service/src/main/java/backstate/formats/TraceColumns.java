@@ -1,6 +1,7 @@
 package backstate.formats;
 
 import backstate.estimation.Trace;
+import backstate.text.Counted;
 import java.util.LinkedHashMap;
 import java.util.List;
 import java.util.Map;
@@ -127,8 +128,7 @@ final class TraceColumns {
 
     private void requireLength(DoubleColumn column, int n) {
         if (column != null && column.size() != n) {
-            throw new InputException(column.field(), "got " + column.size() + (column.size() == 1 ? " value" : " values")
-                    + ", expected " + n + " (one per time)");
+            throw new InputException(column.field(), "got " + Counted.of(column.size(), "value") + ", expected " + n + " (one per time)");
         }
     }
 

@@ -3,6 +3,7 @@ package backstate.formats;
 import backstate.estimation.EstimationOptions;
 import backstate.estimation.Formulation;
 import backstate.estimation.Prior;
+import backstate.text.Counted;
 import com.fasterxml.jackson.annotation.JsonInclude;
 
 /**
@@ -76,13 +77,13 @@ public record TraceOptions(String formulation, Boolean estimateOffsets, Double r
         }
         double[][] cov = prior.covariance();
         if (cov.length != states) {
-            throw new InputException("options.prior.covariance", "got " + cov.length + " rows, expected " + states);
+            throw new InputException("options.prior.covariance", "got " + Counted.of(cov.length, "row") + ", expected " + states);
         }
         double[] flat = new double[states * states];
         for (int i = 0; i < states; i++) {
             if (cov[i] == null || cov[i].length != states) {
                 throw new InputException("options.prior.covariance[" + i + "]", "got " + (cov[i] == null ? "null"
-                        : cov[i].length + " columns") + ", expected " + states + " columns");
+                        : Counted.of(cov[i].length, "column")) + ", expected " + states + " columns");
             }
             System.arraycopy(cov[i], 0, flat, i * states, states);
         }
