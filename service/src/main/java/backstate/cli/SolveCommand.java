@@ -13,7 +13,7 @@ import backstate.formats.ParsedTrace;
 import backstate.formats.TraceOptions;
 import backstate.formats.TraceReader;
 import com.fasterxml.jackson.annotation.JsonUnwrapped;
-import com.fasterxml.jackson.databind.JsonMappingException;
+import com.fasterxml.jackson.core.JsonProcessingException;
 import com.fasterxml.jackson.databind.ObjectMapper;
 import com.fasterxml.jackson.databind.SerializationFeature;
 import java.io.IOException;
@@ -77,20 +77,17 @@ public final class SolveCommand {
     }
 
     /**
-     * The model file; JSON that does not parse is named with its line and column, and a value of the
-     * wrong type with its path and what was expected there, in one line.
+     * The model file; JSON that does not parse, a value of the wrong type or an unknown field is
+     * refused in the API's words (JsonPaths.refusal), after the file's name, in one line.
      */
     private static ModelDocument readModel(ObjectMapper mapper, Path path) throws IOException {
         try {
             return mapper.readValue(path.toFile(), ModelDocument.class);
-        } catch (com.fasterxml.jackson.core.JsonParseException e) {
-            com.fasterxml.jackson.core.JsonLocation at = e.getLocation();
-            String where = at == null ? "" : " at line " + at.getLineNr() + ", column " + at.getColumnNr();
-            throw new InputException("model", path + " is not a model document: its JSON does not read" + where);
         } catch (MatrixEntryException e) {
             throw e;
-        } catch (JsonMappingException e) {
-            throw new InputException("model" + JsonPaths.of(e), path + " is not a model document: " + JsonPaths.mismatch(e));
+        } catch (JsonProcessingException e) {
+            InputException refusal = JsonPaths.refusal(e, "model");
+            throw new InputException(refusal.field(), path + " is not a model document: " + refusal.problem());
         }
     }
 

@@ -107,8 +107,13 @@ class SolveExitCodesTest {
         assertTrue(refused("--model", model, "--trace", unknownColumn.toString())
                 .startsWith("backstate solve: header[2]: got an unknown column \"humidity\""));
         // A model file that is not JSON (it ends after the first key): one line naming the file and where.
-        assertRefused("backstate solve: model: " + notJson + " is not a model document: its JSON does not read"
-                + " at line 1, column 15", "--model", notJson.toString(), "--trace", trace);
+        assertRefused("backstate solve: model: " + notJson + " is not a model document: got malformed JSON"
+                + " at line 1, column 15: unexpected end-of-input within/between Object entries", "--model", notJson.toString(),
+                "--trace", trace);
+        // A field a model does not have, in the API's words.
+        Path unknownField = write("unknown-field.json", "{\"timeDomain\": \"continuous\", \"sampleRate\": 2}");
+        assertTrue(refused("--model", unknownField.toString(), "--trace", trace).startsWith("backstate solve: model.sampleRate: "
+                + unknownField + " is not a model document: got an unknown field \"sampleRate\", expected one of ["));
         // A value of the wrong type: its path and what goes there; a second document after the first is refused too.
         assertRefused("backstate solve: model.states: " + wrongType + " is not a model document: got an object, expected an array",
                 "--model", wrongType.toString(), "--trace", trace);
