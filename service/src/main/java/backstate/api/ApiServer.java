@@ -11,6 +11,7 @@ import backstate.store.Database;
 import com.fasterxml.jackson.databind.ObjectMapper;
 import io.javalin.Javalin;
 import io.javalin.http.staticfiles.Location;
+import io.javalin.http.Handler;
 import io.javalin.http.HandlerType;
 import io.javalin.json.JavalinJackson;
 import io.micrometer.core.instrument.Timer;
@@ -126,9 +127,13 @@ public final class ApiServer implements AutoCloseable {
         });
     }
 
-    /** A route's handler behind its access check and then, for API reads, read admission: a refused key never waits. */
+    /**
+     * A route's handler behind its access check, then, for API reads, read admission (a refused key
+     * never waits), then the check that no query parameter comes twice.
+     */
     private static io.javalin.router.Endpoint endpoint(Route r, AccessGuard guard, ReadAdmission reads) {
-        Route admitted = ReadAdmission.counts(r) ? new Route(r.method(), r.path(), r.access(), reads.admitted(r.handler())) : r;
+        Handler single = SingleQueryValues.required(r.handler());
+        Route admitted = new Route(r.method(), r.path(), r.access(), ReadAdmission.counts(r) ? reads.admitted(single) : single);
         return new io.javalin.router.Endpoint(r.method(), r.path(), guard.wrap(admitted), java.util.Set.of());
     }
 

@@ -227,6 +227,17 @@ class PlainMessagesTest {
     }
 
     @Test
+    void a_query_parameter_given_twice_is_refused_naming_it() {
+        TestServer.Reply twice = server.post("/v1/units/RCX-00077/traces?model=reefer-40&version=1&version=2", "text/csv",
+                (HEADER + "\n" + ROWS).getBytes(StandardCharsets.UTF_8));
+        JsonNode error = fieldError(twice);
+        assertEquals("version", error.get("field").asText());
+        assertEquals("got 2 values (\"1\", \"2\"), expected one", error.get("detail").asText());
+        JsonNode four = fieldError(server.get("/v1/units/RCX-00077/estimates?limit=1&limit=2&limit=3&limit=4"));
+        assertEquals("got 4 values (\"1\", \"2\", \"3\", …), expected one", four.get("detail").asText());
+    }
+
+    @Test
     void a_second_document_after_the_body_is_refused_and_nothing_is_created() {
         String after = "got more JSON after the document, expected nothing after it";
         assertEquals(after, refusal("/v1/models", "{\"name\": \"reefer-60\", \"description\": \"x\"} {\"name\": \"reefer-61\"}", "body"));
