@@ -79,7 +79,7 @@ final class RegressionRoutes {
             ctx.status(202).json(view(find(run.id())));
             return;
         }
-        throw ApiProblem.conflict("regression " + run.id() + " is " + find(run.id()).state()
+        throw ApiProblem.conflict("regression " + run.id() + " is in state " + find(run.id()).state()
                 + "; only a queued or running run can be cancelled");
     }
 

@@ -107,7 +107,7 @@ class BadRegressionRequestsTest {
         assertEquals("succeeded", job.get("state").asText(), job.toString());
         TestServer.Reply refused = server.post("/v1/regressions/" + id + "/cancel", null, new byte[0]);
         assertEquals(409, refused.status(), refused.body());
-        assertEquals("regression " + id + " is succeeded; only a queued or running run can be cancelled",
+        assertEquals("regression " + id + " is in state succeeded; only a queued or running run can be cancelled",
                 refused.json().get("detail").asText());
         // A job ID of another kind is not a regression.
         String estimateJob = server.post("/v1/units/RCX-85159/traces?model=reefer-40&version=1", "text/csv",

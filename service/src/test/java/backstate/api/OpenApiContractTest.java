@@ -399,7 +399,7 @@ class OpenApiContractTest {
         awaitJob(jobId);
         TestServer.Reply refused = api.post("/v1/jobs/" + jobId + "/cancel", null, null);
         assertProblem(refused, 409, "conflict");
-        assertEquals("job " + jobId + " is succeeded; only a queued job can be cancelled", refused.json().get("detail").asText());
+        assertEquals("job " + jobId + " is in state succeeded; only a queued job can be cancelled", refused.json().get("detail").asText());
     }
 
     @Test
