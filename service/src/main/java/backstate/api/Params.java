@@ -21,7 +21,7 @@ final class Params {
 
     static String identifier(String name, String value) {
         if (!FieldValues.isIdentifier(value)) {
-            throw ApiProblem.invalid(name, FieldValues.IDENTIFIER_RULE);
+            throw ApiProblem.invalid(name, FieldValues.notIdentifier(value));
         }
         return value;
     }
@@ -110,10 +110,5 @@ final class Params {
 
     static String quoted(String v) {
         return FieldValues.quoted(v);
-    }
-
-    /** A client's text for a message about its length: "nothing", "5000 characters" past {@code max}, else quoted. */
-    static String text(String v, int max) {
-        return v != null && v.length() > max ? v.length() + " characters" : quoted(v);
     }
 }

@@ -1,5 +1,6 @@
 package backstate.api;
 
+import backstate.formats.FieldValues;
 import backstate.intake.TraceIntake;
 import backstate.intake.TracePost;
 import backstate.store.Submission;
@@ -45,7 +46,7 @@ final class TraceRoutes {
             return null;
         }
         if (key.isEmpty() || key.length() > MAX_IDEMPOTENCY_KEY || !key.chars().allMatch(c -> c > 32 && c < 127)) {
-            throw ApiProblem.invalid("Idempotency-Key", "got " + Params.text(key, MAX_IDEMPOTENCY_KEY) + ", expected 1-"
+            throw ApiProblem.invalid("Idempotency-Key", "got " + FieldValues.text(key, MAX_IDEMPOTENCY_KEY) + ", expected 1-"
                     + MAX_IDEMPOTENCY_KEY + " visible ASCII characters");
         }
         return key;

@@ -7,7 +7,8 @@ public final class FieldValues {
     /** Unit IDs and family names: 1–64 of letters, digits, '_', '-', '.', starting with a letter or digit. */
     public static final Pattern IDENTIFIER = Pattern.compile("[A-Za-z0-9][A-Za-z0-9_.\\-]{0,63}");
     /** What an identifier must look like, as a refusal says it. */
-    public static final String IDENTIFIER_RULE = "expected 1-64 characters: letters, digits, _ - . (starting with a letter or digit)";
+    private static final String IDENTIFIER_RULE = "expected 1-64 characters: letters, digits, _ - . (starting with a letter or digit)";
+    private static final int IDENTIFIER_LENGTH = 64;
     /** Longest stretch of a client's value quoted back in a message. */
     private static final int QUOTED_LENGTH = 40;
 
@@ -21,9 +22,19 @@ public final class FieldValues {
     /** The value if it is an identifier; otherwise an {@link InputException} naming the field. */
     public static String identifier(String field, String value) {
         if (!isIdentifier(value)) {
-            throw new InputException(field, IDENTIFIER_RULE);
+            throw new InputException(field, notIdentifier(value));
         }
         return value;
+    }
+
+    /** The refusal of a value that is not an identifier: what it got, then the rule. */
+    public static String notIdentifier(String value) {
+        return "got " + text(value, IDENTIFIER_LENGTH) + ", " + IDENTIFIER_RULE;
+    }
+
+    /** A client's text for a message about its length: "nothing", "5000 characters" past {@code max}, else quoted. */
+    public static String text(String value, int max) {
+        return value != null && value.length() > max ? value.length() + " characters" : quoted(value);
     }
 
     /** A client's value for a message: in quotes, cut after 40 characters; "nothing" for null. */

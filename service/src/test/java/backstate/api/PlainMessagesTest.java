@@ -227,6 +227,18 @@ class PlainMessagesTest {
     }
 
     @Test
+    void an_identifier_that_breaks_the_rule_is_quoted_or_measured() {
+        String rule = ", expected 1-64 characters: letters, digits, _ - . (starting with a letter or digit)";
+        JsonNode slash = fieldError(server.get("/v1/units/RCX%2F1/estimates"));
+        assertEquals("unitId", slash.get("field").asText());
+        assertEquals("got \"RCX/1\"" + rule, slash.get("detail").asText());
+        assertEquals("got 65 characters" + rule, fieldError(server.get("/v1/units/" + "A".repeat(65) + "/estimates"))
+                .get("detail").asText());
+        assertEquals("got \"reefer 40\"" + rule, refusal("/v1/regressions",
+                "{\"family\": \"reefer 40\", \"baseline\": 1, \"candidate\": 2}", "family"));
+    }
+
+    @Test
     void a_query_parameter_given_twice_is_refused_naming_it() {
         TestServer.Reply twice = server.post("/v1/units/RCX-00077/traces?model=reefer-40&version=1&version=2", "text/csv",
                 (HEADER + "\n" + ROWS).getBytes(StandardCharsets.UTF_8));
