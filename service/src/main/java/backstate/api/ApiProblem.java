@@ -56,8 +56,9 @@ public final class ApiProblem extends RuntimeException {
     }
 
     public static ApiProblem unsupportedMediaType(String got, String expected) {
-        return new ApiProblem(415, "unsupported-media-type", "Unsupported media type",
-                "got " + got + ", expected " + expected, List.of(new Problem.FieldError("Content-Type", "expected " + expected)));
+        String detail = "got " + got + ", expected " + expected;
+        return new ApiProblem(415, "unsupported-media-type", "Unsupported media type", detail,
+                List.of(new Problem.FieldError("Content-Type", detail)));
     }
 
     /** The body arrived too slowly or for too long (408); the connection is closed after the answer. */

@@ -239,6 +239,15 @@ class PlainMessagesTest {
     }
 
     @Test
+    void an_unsupported_media_type_names_what_was_sent_in_its_field_error_too() {
+        TestServer.Reply reply = server.post(TRACES, "text/plain", (HEADER + "\n" + ROWS).getBytes(StandardCharsets.UTF_8));
+        assertEquals(415, reply.status(), reply.body());
+        JsonNode error = reply.json().get("errors").get(0);
+        assertEquals("Content-Type", error.get("field").asText());
+        assertEquals("got text/plain, expected application/json or text/csv", error.get("detail").asText());
+    }
+
+    @Test
     void a_query_parameter_given_twice_is_refused_naming_it() {
         TestServer.Reply twice = server.post("/v1/units/RCX-00077/traces?model=reefer-40&version=1&version=2", "text/csv",
                 (HEADER + "\n" + ROWS).getBytes(StandardCharsets.UTF_8));
