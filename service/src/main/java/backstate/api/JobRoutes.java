@@ -30,8 +30,8 @@ final class JobRoutes {
     void cancel(Context ctx) throws JsonProcessingException {
         JobRow job = find(ctx);
         if (!jobs.cancelIfQueued(job.id(), clock.instant())) {
-            throw ApiProblem.conflict("job " + job.id() + " is in state " + jobs.findJob(job.id()).map(JobRow::state).orElse(job.state())
-                    + "; only a queued job can be cancelled");
+            String state = jobs.findJob(job.id()).map(JobRow::state).orElse(job.state());
+            throw ApiProblem.conflict("job " + job.id() + " is in state " + state + "; only a queued job can be cancelled");
         }
         ctx.json(view(jobs.findJob(job.id()).orElseThrow()));
     }

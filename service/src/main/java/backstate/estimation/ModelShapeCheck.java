@@ -54,7 +54,8 @@ final class ModelShapeCheck {
             return;
         }
         if (sigma.length != outputs) {
-            throw new ModelException(field, "got " + Counted.of(sigma.length, "value") + ", expected " + outputs + " (one per output)");
+            throw new ModelException(field, "got " + Counted.of(sigma.length, "value") + ", expected " + outputs
+                    + " (one per output)");
         }
         for (int j = 0; j < sigma.length; j++) {
             if (!(sigma[j] > 0.0) || !Double.isFinite(sigma[j])) {

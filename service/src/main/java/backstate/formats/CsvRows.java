@@ -49,7 +49,8 @@ final class CsvRows {
     void readAll(CsvRecords records, TraceTimes times, DoubleColumn[] columns) throws IOException {
         while (records.next()) {
             if (records.size() != names.length) {
-                throw new InputException("line " + records.line(), "got " + Counted.of(records.size(), "field") + ", expected " + names.length);
+                throw new InputException("line " + records.line(), "got " + Counted.of(records.size(), "field")
+                        + ", expected " + names.length);
             }
             readTime(records, times);
             for (int i = 0; i < names.length; i++) {

@@ -128,7 +128,8 @@ final class TraceColumns {
 
     private void requireLength(DoubleColumn column, int n) {
         if (column != null && column.size() != n) {
-            throw new InputException(column.field(), "got " + Counted.of(column.size(), "value") + ", expected " + n + " (one per time)");
+            throw new InputException(column.field(), "got " + Counted.of(column.size(), "value") + ", expected " + n
+                    + " (one per time)");
         }
     }
 
