@@ -137,7 +137,7 @@ class StartErrorsTest {
     }
 
     @Test
-    void the_demo_runs_without_keys_whatever_its_flags_say() {
+    void turning_keys_off_for_the_demo_keeps_every_other_setting() {
         Settings asked = Settings.from(new String[] {"--auth", "on", "--port", "9090"}, Map.of());
         assertTrue(asked.auth());
         Settings demo = asked.withAuthOff();

@@ -192,9 +192,10 @@ class PlainMessagesTest {
                 traceWithOptions("{\"prior\": {\"mean\": [1, 2, 3, \"x\"]}}"), "options.prior.mean[3]"));
         assertEquals("got an unknown field \"sampled\", expected one of [name, description]", refusal("/v1/models",
                 "{\"name\": \"reefer-70\", \"sampled\": true}", "body.sampled"));
-        String long_ = refusal(TRACES, traceWithOptions("{\"formulation\": \"" + "x".repeat(5000) + "\"}"), "options.formulation");
-        assertTrue(long_.startsWith("got JSON beyond the limits: string value length (") && long_.endsWith(
-                ") exceeds the maximum allowed (4096)"), long_);
+        String tooLong = refusal(TRACES, traceWithOptions("{\"formulation\": \"" + "x".repeat(5000) + "\"}"),
+                "options.formulation");
+        assertTrue(tooLong.startsWith("got JSON beyond the limits: string value length (") && tooLong.endsWith(
+                ") exceeds the maximum allowed (4096)"), tooLong);
     }
 
     @Test

@@ -102,7 +102,8 @@ class SolveExitCodesTest {
         assertRefused("backstate solve: missing --trace FILE", "--model", model);
         assertRefused("backstate solve: got --speed, expected --model FILE --trace FILE [--formulation sampled|continuous|process_noise]"
                 + " [--offsets] [--reference-time SECONDS]", "--model", model, "--trace", trace, "--speed", "fast");
-        assertRefused("backstate solve: line 2, column return_air: got \"warm\", expected a decimal number or an empty cell for a missing sample",
+        assertRefused("backstate solve: line 2, column return_air: got \"warm\", expected a decimal number or an empty cell"
+                + " for a missing sample",
                 "--model", model, "--trace", badCell.toString());
         assertTrue(refused("--model", model, "--trace", unknownColumn.toString())
                 .startsWith("backstate solve: header[2]: got an unknown column \"humidity\""));
