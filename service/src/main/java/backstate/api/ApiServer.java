@@ -129,11 +129,11 @@ public final class ApiServer implements AutoCloseable {
 
     /**
      * A route's handler behind its access check, then, for API reads, read admission (a refused key
-     * never waits), then the check that no query parameter comes twice.
+     * never waits), then the query string's checks (no parameter twice, no broken escape).
      */
     private static io.javalin.router.Endpoint endpoint(Route r, AccessGuard guard, ReadAdmission reads) {
-        Handler single = SingleQueryValues.required(r.handler());
-        Route admitted = new Route(r.method(), r.path(), r.access(), ReadAdmission.counts(r) ? reads.admitted(single) : single);
+        Handler checked = QueryStrings.checked(r.handler());
+        Route admitted = new Route(r.method(), r.path(), r.access(), ReadAdmission.counts(r) ? reads.admitted(checked) : checked);
         return new io.javalin.router.Endpoint(r.method(), r.path(), guard.wrap(admitted), java.util.Set.of());
     }
 

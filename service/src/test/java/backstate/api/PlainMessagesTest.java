@@ -2,6 +2,7 @@ package backstate.api;
 
 import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertFalse;
+import static org.junit.jupiter.api.Assertions.assertThrows;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
 import com.fasterxml.jackson.databind.JsonNode;
@@ -257,6 +258,29 @@ class PlainMessagesTest {
         assertEquals("got 2 values (\"1\", \"2\"), expected one", error.get("detail").asText());
         JsonNode four = fieldError(server.get("/v1/units/RCX-00077/estimates?limit=1&limit=2&limit=3&limit=4"));
         assertEquals("got 4 values (\"1\", \"2\", \"3\", …), expected one", four.get("detail").asText());
+    }
+
+    @Test
+    void a_broken_percent_escape_is_refused_instead_of_dropping_its_parameter() throws Exception {
+        String rule = ", expected '%' followed by two hex digits (RFC 3986 percent-encoding)";
+        for (String pair : List.of("limit=2%", "limit=%zz", "limit=%2")) {
+            ApiProblem refused = assertThrows(ApiProblem.class,
+                    () -> QueryStrings.requireWellEscaped("from=2026-12-01T00:00:00Z&" + pair + "&version=1"));
+            Problem problem = refused.toProblem();
+            assertEquals(400, problem.status());
+            assertEquals("query", problem.errors().get(0).field());
+            assertEquals("got \"" + pair + "\"" + rule, problem.errors().get(0).detail());
+        }
+        QueryStrings.requireWellEscaped("limit=%32&from=2026-12-01T00%3A00%3A00Z");
+        // End to end (java.net.http will not send a broken escape, so the request goes out by hand).
+        try (java.net.Socket socket = new java.net.Socket("127.0.0.1", server.app().port())) {
+            socket.getOutputStream().write(("GET /v1/units/RCX-00077/estimates?limit=2% HTTP/1.1\r\nHost: test\r\n"
+                    + "Connection: close\r\n\r\n").getBytes(StandardCharsets.US_ASCII));
+            String answer = new String(socket.getInputStream().readAllBytes(), StandardCharsets.UTF_8);
+            assertTrue(answer.startsWith("HTTP/1.1 400 "), answer);
+            assertTrue(answer.contains("\"field\":\"query\""), answer);
+        }
+        assertEquals(200, server.get("/v1/units/RCX-00077/estimates?limit=%32").status(), "a whole escape is read");
     }
 
     @Test
