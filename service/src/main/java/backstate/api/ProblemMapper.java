@@ -44,15 +44,15 @@ final class ProblemMapper {
             e.challenge().ifPresent(challenge -> ctx.header("WWW-Authenticate", challenge));
             write(ctx, e.toProblem());
         });
-        routes.exception(InputException.class, (e, ctx) -> write(ctx, ApiProblem.invalid(e.field(), detail(e)).toProblem()));
-        routes.exception(ModelException.class, (e, ctx) -> write(ctx, ApiProblem.unprocessable(e.field(), detail(e)).toProblem()));
+        routes.exception(InputException.class, (e, ctx) -> write(ctx, ApiProblem.invalid(e.field(), e.problem()).toProblem()));
+        routes.exception(ModelException.class, (e, ctx) -> write(ctx, ApiProblem.unprocessable(e.field(), e.problem()).toProblem()));
         routes.exception(TraceRefused.class, (e, ctx) -> write(ctx, problem(e).toProblem()));
         routes.exception(RegressionRefused.class, (e, ctx) -> write(ctx, ApiProblem.unprocessable(e.field(), e.detail()).toProblem()));
         routes.exception(InvalidCursorException.class, (e, ctx) -> write(ctx, ApiProblem.invalid("cursor", "not a cursor from this API").toProblem()));
         routes.exception(MatrixEntryException.class, (e, ctx) -> write(ctx, ApiProblem.invalid(e.field(), e.problem()).toProblem()));
         routes.exception(JsonProcessingException.class, (e, ctx) -> {
             InputException refusal = JsonPaths.refusal(e, "body");
-            write(ctx, ApiProblem.invalid(refusal.field(), detail(refusal)).toProblem());
+            write(ctx, ApiProblem.invalid(refusal.field(), refusal.problem()).toProblem());
         });
         routes.exception(IdempotencyKeyReusedException.class, (e, ctx) -> write(ctx, ApiProblem.idempotencyKeyReused(e.key()).toProblem()));
         routes.exception(QueueFullException.class, (e, ctx) -> busy(ctx, "the job queue is full; retry later"));
@@ -109,12 +109,6 @@ final class ProblemMapper {
             return new Problem(ProblemTypes.uri("method-not-allowed"), "Method not allowed", status, detail, null);
         }
         return new Problem(ProblemTypes.uri("http-" + status), "HTTP " + status, status, detail, null);
-    }
-
-    private static String detail(RuntimeException e) {
-        String message = e.getMessage();
-        int colon = message.indexOf(": ");
-        return colon >= 0 ? message.substring(colon + 2) : message;
     }
 
     private void write(Context ctx, Problem problem) {

@@ -58,7 +58,7 @@ public record ModelDocument(String description, String timeDomain, Double sample
         try {
             return model.withProcessNoise(q, processNoise.fieldOf());
         } catch (ModelException e) {
-            throw new InputException(e.field(), e.getMessage().substring(e.field().length() + 2));
+            throw new InputException(e.field(), e.problem());
         }
     }
 

@@ -193,6 +193,9 @@ class PlainMessagesTest {
                 traceWithOptions("{\"prior\": {\"mean\": [1, 2, 3, \"x\"]}}"), "options.prior.mean[3]"));
         assertEquals("got an unknown field \"sampled\", expected one of [name, description]", refusal("/v1/models",
                 "{\"name\": \"reefer-70\", \"sampled\": true}", "body.sampled"));
+        // A key holding ": " stays whole in the field, and the detail is not cut at it.
+        assertEquals("got an unknown field \"a: b\", expected one of [name, description]", refusal("/v1/models",
+                "{\"name\": \"reefer-70\", \"a: b\": true}", "body.a: b"));
         String tooLong = refusal(TRACES, traceWithOptions("{\"formulation\": \"" + "x".repeat(5000) + "\"}"),
                 "options.formulation");
         assertTrue(tooLong.startsWith("got JSON beyond the limits: string value length (") && tooLong.endsWith(
