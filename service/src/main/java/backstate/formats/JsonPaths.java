@@ -252,7 +252,7 @@ public final class JsonPaths {
             return null;
         }
         if (message.startsWith(NULL_FOR_PRIMITIVE)) {
-            return "null";
+            return describe(JsonToken.VALUE_NULL);
         }
         if (message.startsWith(NO_CONTENT)) {
             return "an empty body";
@@ -261,14 +261,14 @@ public final class JsonPaths {
         if (!m.find()) {
             return null;
         }
-        return switch (m.group(1)) {
-            case "Array" -> "an array";
-            case "Object" -> "an object";
-            case "String" -> "a string";
-            case "Boolean" -> "a boolean";
-            case "Null" -> "null";
-            default -> "a number";
-        };
+        return describe(switch (m.group(1)) {
+            case "Array" -> JsonToken.START_ARRAY;
+            case "Object" -> JsonToken.START_OBJECT;
+            case "String" -> JsonToken.VALUE_STRING;
+            case "Boolean" -> JsonToken.VALUE_TRUE;
+            case "Null" -> JsonToken.VALUE_NULL;
+            default -> JsonToken.VALUE_NUMBER_FLOAT;
+        });
     }
 
     /** A scalar data binding could not convert, shown as it came. */

@@ -255,8 +255,7 @@ public final class TraceReader {
             return new InputException(field, "got a column with no name, expected every column named (a comma at the end"
                     + " of the header line makes one)");
         }
-        String shown = name.length() > 40 ? name.substring(0, 40) + "…" : name;
-        return new InputException(field, "got an unknown column \"" + shown + "\", expected \"time\" and the model's"
+        return new InputException(field, "got an unknown column " + FieldValues.quoted(name) + ", expected \"time\" and the model's"
                 + " channels " + columns.channelNames());
     }
 
