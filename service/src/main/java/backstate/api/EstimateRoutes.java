@@ -28,6 +28,8 @@ final class EstimateRoutes {
 
     /** Most points one series answer carries: plots want a few thousand at most. */
     static final int MAX_POINTS = 20_000;
+    /** Fewest: the window's first and last sample. */
+    static final int MIN_POINTS = 2;
 
     private final EstimateStore store;
     private final StoredTraceSolver solver;
@@ -76,12 +78,17 @@ final class EstimateRoutes {
 
     /**
      * Rebuilt from the stored trace by solving it again ({@link StoredTraceSolver}); the series is
-     * not stored. The engine keeps every s-th sample, s = ⌈N / maxPoints⌉. The load and solve run
+     * not stored. The engine keeps samples 0, s, 2s, … and the last, s = ⌈(N − 1) / (maxPoints − 1)⌉
+     * ({@link backstate.estimation.KeptSamples}), so a series has at least two points. The load and solve run
      * on the bounded {@link SeriesSolves} pool, not on the request thread.
      */
     void series(Context ctx) throws Exception {
         EstimateRow row = find(ctx);
         int maxPoints = Params.intOrDefault(ctx, "maxPoints", DEFAULT_POINTS, MAX_POINTS);
+        if (maxPoints < MIN_POINTS) {
+            throw ApiProblem.invalid("maxPoints", "got " + maxPoints + ", expected " + MIN_POINTS + " to " + MAX_POINTS
+                    + ": a series holds the window's first and last sample");
+        }
         ctx.json(solves.run(() -> rebuild(row.traceId(), maxPoints)));
     }
 

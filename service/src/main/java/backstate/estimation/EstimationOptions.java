@@ -8,11 +8,11 @@ package backstate.estimation;
  * @param estimateOffsets also estimate one constant sensor offset per output channel
  * @param referenceTime   also report the state at this time inside the window, or null
  * @param keepSeries      return the series: measured and fitted outputs, residuals, and the state
- *                        trajectory with its standard errors and 95 % band, at every
- *                        {@code seriesStride}-th sample
+ *                        trajectory with its standard errors and 95 % band, at the
+ *                        samples {@link KeptSamples} keeps for {@code seriesStride}
  * @param mismatchLevel   significance level of the χ² and whiteness tests behind the mismatch flag
- * @param seriesStride    keep samples 0, s, 2s, … in the series (s ≥ 1), so a plot of a long trace
- *                        never holds N points
+ * @param seriesStride    keep samples 0, s, 2s, … and the last in the series (s ≥ 1), so a plot of a
+ *                        long trace never holds N points yet reaches the window's end
  */
 public record EstimationOptions(Formulation formulation, Prior prior, boolean estimateOffsets,
                                 Double referenceTime, boolean keepSeries, double mismatchLevel, int seriesStride) {

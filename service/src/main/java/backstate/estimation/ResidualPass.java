@@ -56,7 +56,7 @@ final class ResidualPass {
     private final SolveContext ctx;
     private final double[] solution;
     private final long[] presentCounts;
-    private final int stride;
+    private final KeptSamples kept;
     private final double[] measured;
     private final double[] fitted;
     private final double[] residuals;
@@ -68,13 +68,13 @@ final class ResidualPass {
         this.ctx = ctx;
         this.solution = solution;
         this.presentCounts = presentCounts;
-        this.stride = ctx.options.seriesStride();
-        int kept = keptSamples(ctx.trace.samples(), stride);
+        this.kept = new KeptSamples(ctx.trace.samples(), ctx.options.seriesStride());
         boolean keep = ctx.options.keepSeries();
-        this.measured = keep ? new double[kept * ctx.p] : null;
-        this.fitted = keep ? new double[kept * ctx.p] : null;
-        this.residuals = keep ? new double[kept * ctx.p] : null;
-        this.states = keep ? new double[kept * ctx.n] : null;
+        int points = kept.count();
+        this.measured = keep ? new double[points * ctx.p] : null;
+        this.fitted = keep ? new double[points * ctx.p] : null;
+        this.residuals = keep ? new double[points * ctx.p] : null;
+        this.states = keep ? new double[points * ctx.n] : null;
         this.referenceTime = ctx.options.referenceTime();
         this.referenceUnits = referenceTime == null ? 0 : ctx.steps.unitsFromStart(referenceTime, "referenceTime");
     }
@@ -140,11 +140,6 @@ final class ResidualPass {
         return finish(done);
     }
 
-    /** Samples 0, s, 2s, … of N: ⌈N / s⌉. */
-    static int keptSamples(int samples, int stride) {
-        return (samples + stride - 1) / stride;
-    }
-
     private Result finish(Chunk[] done) {
         ChannelAccumulator[] channels = done[0].channels();
         double[] referenceState = done[0].referenceState();
@@ -163,7 +158,7 @@ final class ResidualPass {
             double sigma = ctx.noise.sigma(j);
             whitened += channels[j].residualSquares() / (sigma * sigma);
         }
-        Kept series = fitted == null ? null : new Kept(keptTimes(), measured, fitted, residuals, states);
+        Kept series = fitted == null ? null : new Kept(kept, keptTimes(), measured, fitted, residuals, states);
         return new Result(diagnostics, series, referenceState, done[done.length - 1].endState(), whitened);
     }
 
@@ -202,8 +197,9 @@ final class ResidualPass {
             }
             ctx.outputs(state, k, scratch, modelled);
             record(k, modelled, 0, channels);
-            if (states != null && k % stride == 0) {
-                System.arraycopy(state, 0, states, k / stride * ctx.n, ctx.n);
+            int slot = states == null ? -1 : kept.slotOf(k);
+            if (slot >= 0) {
+                System.arraycopy(state, 0, states, slot * ctx.n, ctx.n);
             }
             if (k + 1 < to) {
                 ctx.propagate(state, k + 1, transitions.over(step), scratch);
@@ -255,7 +251,7 @@ final class ResidualPass {
 
     /** True when the series is kept and one of samples k … k+count−1 is a kept one, whose state must be seen. */
     private boolean holdsKeptState(int k, int count) {
-        return states != null && (k % stride == 0 || k / stride != (k + count - 1) / stride);
+        return states != null && kept.anyIn(k, count);
     }
 
     /**
@@ -270,6 +266,7 @@ final class ResidualPass {
     /** Streams sample k's outputs, modelled[at … at+p−1] before offsets, into the channels and the kept series. */
     private void record(int k, double[] modelled, int at, Gathered channels) {
         int p = ctx.p;
+        int keptSlot = fitted == null ? -1 : kept.slotOf(k);
         for (int j = 0; j < p; j++) {
             double yHat = modelled[at + j] + offset(j);
             double y = ctx.trace.output(k, j);
@@ -277,8 +274,8 @@ final class ResidualPass {
             if (!Double.isNaN(y)) {
                 channels.add(j, y, r);
             }
-            if (fitted != null && k % stride == 0) {
-                int slot = k / stride * p + j;
+            if (keptSlot >= 0) {
+                int slot = keptSlot * p + j;
                 measured[slot] = y;
                 fitted[slot] = yHat;
                 residuals[slot] = r;
@@ -316,9 +313,9 @@ final class ResidualPass {
     }
 
     private double[] keptTimes() {
-        double[] out = new double[keptSamples(ctx.trace.samples(), stride)];
+        double[] out = new double[kept.count()];
         for (int i = 0; i < out.length; i++) {
-            out[i] = ctx.trace.time(i * stride);
+            out[i] = ctx.trace.time(kept.sample(i));
         }
         return out;
     }
@@ -327,8 +324,8 @@ final class ResidualPass {
     private record Chunk(ChannelAccumulator[] channels, double[] referenceState, double[] endState) {
     }
 
-    /** The kept samples' times, outputs (measured, fitted, residual; kept×p) and states (kept×n). */
-    record Kept(double[] times, double[] measured, double[] fitted, double[] residuals, double[] states) {
+    /** Which samples are kept, their times, outputs (measured, fitted, residual; kept×p) and states (kept×n). */
+    record Kept(KeptSamples samples, double[] times, double[] measured, double[] fitted, double[] residuals, double[] states) {
     }
 
     /** @param whitenedSquares Σ (r/σ)² over every present output: the residual sum of squares at x̂0 */

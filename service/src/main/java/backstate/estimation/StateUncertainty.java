@@ -47,7 +47,6 @@ final class StateUncertainty {
      */
     static Estimate.Series series(SolveContext ctx, ResidualPass.Kept kept, double[] pxx, Rule rule) {
         int n = ctx.n;
-        int stride = ctx.options.seriesStride();
         int points = kept.times().length;
         double[] se = new double[points * n];
         double[] lower = new double[points * n];
@@ -57,7 +56,7 @@ final class StateUncertainty {
         double[] phiP = new double[n * n];
         long previousUnits = ctx.units(0);
         for (int i = 0; i < points; i++) {
-            long units = ctx.units(i * stride);
+            long units = ctx.units(kept.samples().sample(i));
             if (units != previousUnits) {
                 Matrices.multiplyInto(ctx.transitions.over(units - previousUnits).transition(), phi, n, n, n, next);
                 double[] swap = phi;
@@ -79,6 +78,6 @@ final class StateUncertainty {
             }
         }
         return new Estimate.Series(kept.times(), kept.measured(), kept.fitted(), kept.residuals(), ctx.p,
-                kept.states(), se, lower, upper, n, stride);
+                kept.states(), se, lower, upper, n, ctx.options.seriesStride());
     }
 }

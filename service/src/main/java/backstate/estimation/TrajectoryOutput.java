@@ -1,7 +1,7 @@
 package backstate.estimation;
 
 /**
- * What the smoothed trajectory reports: the kept series (every stride-th sample: measured, fitted
+ * What the smoothed trajectory reports: the kept series ({@link KeptSamples}: measured, fitted
  * and residual outputs from the smoothed state, the state with its standard errors and band), the
  * state at the window's last sample and at the reference sample, each with the smoothed covariance.
  */
@@ -9,7 +9,7 @@ final class TrajectoryOutput implements SmoothedTrajectory.Visitor {
     private final SolveContext ctx;
     private final StateUncertainty.Rule rule;
     private final int referenceSample;
-    private final int stride;
+    private final KeptSamples kept;
     private final int n;
     private final int p;
     private final int s;
@@ -31,12 +31,12 @@ final class TrajectoryOutput implements SmoothedTrajectory.Visitor {
         this.ctx = ctx;
         this.rule = rule;
         this.referenceSample = referenceSample;
-        this.stride = ctx.options.seriesStride();
+        this.kept = new KeptSamples(ctx.trace.samples(), ctx.options.seriesStride());
         this.n = ctx.n;
         this.p = ctx.p;
         this.s = ctx.q;
         this.keep = ctx.options.keepSeries();
-        int points = keep ? (ctx.trace.samples() + stride - 1) / stride : 0;
+        int points = keep ? kept.count() : 0;
         this.times = new double[points];
         this.measured = new double[points * p];
         this.fitted = new double[points * p];
@@ -66,8 +66,9 @@ final class TrajectoryOutput implements SmoothedTrajectory.Visitor {
         if (k == referenceSample) {
             reference = stateAt(k, state, root);
         }
-        if (keep && k % stride == 0) {
-            keepPoint(k / stride, k, state, root);
+        int slot = keep ? kept.slotOf(k) : -1;
+        if (slot >= 0) {
+            keepPoint(slot, k, state, root);
         }
     }
 
@@ -124,6 +125,7 @@ final class TrajectoryOutput implements SmoothedTrajectory.Visitor {
     }
 
     Estimate.Series series() {
-        return keep ? new Estimate.Series(times, measured, fitted, residuals, p, states, se, lower, upper, n, stride) : null;
+        return keep ? new Estimate.Series(times, measured, fitted, residuals, p, states, se, lower, upper, n,
+                ctx.options.seriesStride()) : null;
     }
 }

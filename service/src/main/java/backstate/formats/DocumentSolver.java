@@ -4,6 +4,7 @@ import backstate.estimation.Estimate;
 import backstate.estimation.EstimationOptions;
 import backstate.estimation.EstimationResult;
 import backstate.estimation.InitialStateEstimator;
+import backstate.estimation.KeptSamples;
 import backstate.estimation.StateSpaceModel;
 import backstate.estimation.Unobservable;
 import java.util.List;
@@ -34,12 +35,12 @@ public final class DocumentSolver {
     }
 
     /**
-     * Solves keeping the series at most {@code maxPoints} points long: every s-th sample,
-     * s = ⌈N / maxPoints⌉, so a plot of a long trace never holds all N.
+     * Solves keeping the series at most {@code maxPoints} (≥ 2) points long: samples 0, s, 2s, … and
+     * the last, s = ⌈(N − 1) / (maxPoints − 1)⌉, so a plot of a long trace never holds all N yet
+     * reaches the window's end.
      */
     public static Outcome solveWithSeries(CheckedModel checked, ParsedTrace parsed, int maxPoints) {
-        int samples = parsed.trace().samples();
-        return solve(checked, parsed, true, Math.max(1, (samples + maxPoints - 1) / maxPoints));
+        return solve(checked, parsed, true, KeptSamples.strideFor(parsed.trace().samples(), maxPoints));
     }
 
     private static Outcome solve(CheckedModel checked, ParsedTrace parsed, boolean keepSeries, int seriesStride) {

@@ -158,7 +158,7 @@ function stateChart(estimate) {
 
 function sampling(series) {
   return series.stride > 1
-    ? `Plotted: every ${series.stride}th sample, ${series.points} points (asked for at most ${MAX_POINTS}).`
+    ? `Plotted: every ${series.stride}th sample and the last, ${series.points} points (asked for at most ${MAX_POINTS}).`
     : `Plotted: every sample, ${series.points} points.`;
 }
 

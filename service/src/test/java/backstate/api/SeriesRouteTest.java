@@ -7,6 +7,8 @@ import com.fasterxml.jackson.databind.JsonNode;
 import com.fasterxml.jackson.databind.node.ArrayNode;
 import com.fasterxml.jackson.databind.node.ObjectNode;
 import java.nio.file.Path;
+import java.util.ArrayList;
+import java.util.List;
 import java.util.Map;
 import org.junit.jupiter.api.AfterAll;
 import org.junit.jupiter.api.BeforeAll;
@@ -99,18 +101,40 @@ class SeriesRouteTest {
     }
 
     @Test
-    void thinning_keeps_every_s_th_sample_and_the_same_values_on_every_read() throws Exception {
+    void thinning_keeps_every_s_th_sample_and_the_last_and_the_same_values_on_every_read() throws Exception {
         String estimateId = solve("case-discrete-gaps", reference("case-discrete-gaps"));
         JsonNode full = series(estimateId, 20_000);
         assertEquals(full, series(estimateId, 20_000), "a rebuilt series is the same on every read");
-        JsonNode thin = series(estimateId, 50);
         int samples = full.get("points").asInt();
-        int stride = (samples + 49) / 50;
-        assertEquals((samples + stride - 1) / stride, thin.get("points").asInt());
-        for (int i = 0; i < thin.get("points").asInt(); i++) {
-            assertEquals(full.get("time").get(i * stride), thin.get("time").get(i));
-            assertEquals(full.get("fitted").get("y0").get(i * stride), thin.get("fitted").get("y0").get(i));
+        for (int maxPoints : new int[] {2, 3, 50}) {
+            JsonNode thin = series(estimateId, maxPoints);
+            int stride = (samples - 1 + maxPoints - 2) / (maxPoints - 1);
+            List<Integer> kept = new ArrayList<>();
+            for (int k = 0; k < samples; k += stride) {
+                kept.add(k);
+            }
+            if (kept.get(kept.size() - 1) != samples - 1) {
+                kept.add(samples - 1);
+            }
+            assertTrue(kept.size() <= maxPoints, "at most maxPoints = " + maxPoints);
+            assertEquals(stride, thin.get("stride").asInt(), "stride at maxPoints = " + maxPoints);
+            assertEquals(kept.size(), thin.get("points").asInt(), "points at maxPoints = " + maxPoints);
+            for (int i = 0; i < kept.size(); i++) {
+                assertEquals(full.get("time").get(kept.get(i)), thin.get("time").get(i));
+                assertEquals(full.get("fitted").get("y0").get(kept.get(i)), thin.get("fitted").get("y0").get(i));
+            }
         }
+    }
+
+    @Test
+    void one_point_is_refused_naming_max_points() throws Exception {
+        String estimateId = solve("case-discrete-gaps", reference("case-discrete-gaps"));
+        TestServer.Reply reply = server.get("/v1/estimates/" + estimateId + "/series?maxPoints=1");
+        assertEquals(400, reply.status(), reply.body());
+        JsonNode error = reply.json().get("errors").get(0);
+        assertEquals("maxPoints", error.get("field").asText());
+        assertEquals("got 1, expected 2 to 20000: a series holds the window's first and last sample",
+                error.get("detail").asText());
     }
 
     private JsonNode reference(String name) throws Exception {
