@@ -3,6 +3,7 @@ package backstate.api;
 import backstate.estimation.SamplingPlanner;
 import backstate.formats.EstimateDocument;
 import backstate.text.Counted;
+import backstate.text.Figure;
 import com.fasterxml.jackson.annotation.JsonInclude;
 import java.util.ArrayList;
 import java.util.LinkedHashMap;
@@ -32,6 +33,9 @@ final class PlanViews {
                    Double weakestStandardDeviation, List<Map<String, Double>> unobservableDirections,
                    Boolean meetsTargets) {
     }
+
+    /** Direction weights smaller than this are left out of a reason's words (a direction has unit length). */
+    static final double SMALLEST_WEIGHT_IN_WORDS = 1e-3;
 
     /** What the numbers are and are not. */
     static final String NOTE = "Predicted from the model alone: standard errors a trace of this plan would get if the "
@@ -66,33 +70,68 @@ final class PlanViews {
                 shortest, s.verdict().name().toLowerCase(Locale.ROOT), reason(states, plan, s));
     }
 
-    /** One sentence on the verdict, naming the states or directions at fault. */
+    /** One sentence on the verdict, naming the states or directions at fault, numbers to three digits. */
     private static String reason(List<String> states, SamplingPlanner.Plan plan, SamplingPlanner.SubsetPlan s) {
         List<SamplingPlanner.Prediction> p = s.predictions();
         SamplingPlanner.Prediction longest = p.get(p.size() - 1);
         return switch (s.verdict()) {
             case MEETS_TARGETS -> "the shortest candidate horizon meeting every target is "
-                    + p.get(s.shortestMeetingTargets()).horizon() + " s";
+                    + Figure.exact(p.get(s.shortestMeetingTargets()).horizon()) + " s";
             case NO_TARGETS -> "no targets given";
-            case UNOBSERVABLE_WITH_THESE_OUTPUTS -> "no horizon meets the targets: with these outputs the direction(s) "
-                    + directions(states, s.unobservableDirections()) + " of x0 are unobservable at any horizon and period";
-            case RANK_DEFICIENT_AT_EVERY_HORIZON -> "no candidate horizon determines x0: the longest (" + longest.horizon()
-                    + " s, " + Counted.of(longest.samples(), "sample") + ") leaves the direction(s) "
-                    + directions(states, longest.unobservableDirections())
+            case UNOBSERVABLE_WITH_THESE_OUTPUTS -> "no horizon meets the targets: with these outputs, x0 along "
+                    + directionsInWords(states, s.unobservableDirections())
+                    + " is unobservable at any horizon and sample period";
+            case RANK_DEFICIENT_AT_EVERY_HORIZON -> "no candidate horizon determines x0: the longest ("
+                    + Figure.exact(longest.horizon()) + " s, " + Counted.of(longest.samples(), "sample") + ") leaves x0 along "
+                    + directionsInWords(states, longest.unobservableDirections())
                     + " undetermined; take more samples, or a sample period that does not alias a mode";
-            case TARGETS_NOT_MET -> "no candidate horizon meets the targets; at the longest (" + longest.horizon()
-                    + " s) the standard errors are " + missed(states, plan.targetStdErrors(), longest.standardErrors());
+            case TARGETS_NOT_MET -> "no candidate horizon meets the targets; at the longest ("
+                    + Figure.exact(longest.horizon()) + " s) the standard errors miss them: "
+                    + missed(states, plan.targetStdErrors(), longest.standardErrors());
         };
     }
 
-    private static Map<String, Double> missed(List<String> states, double[] targets, double[] se) {
-        Map<String, Double> out = new LinkedHashMap<>();
+    /** "cargo_core 10.9 (target 0.5), wall 4 (target 1)": the states whose standard error exceeds its target. */
+    private static String missed(List<String> states, double[] targets, double[] se) {
+        List<String> out = new ArrayList<>();
         for (int i = 0; i < states.size(); i++) {
             if (!Double.isNaN(targets[i]) && !(se[i] <= targets[i])) {
-                out.put(states.get(i), se[i]);
+                out.add(states.get(i) + " " + Figure.of(se[i]) + " (target " + Figure.of(targets[i]) + ")");
             }
         }
-        return out;
+        return String.join(", ", out);
+    }
+
+    /** "the direction 0.707·a − 0.707·b", or "the directions (c) and (0.6·a + 0.8·b)". */
+    static String directionsInWords(List<String> states, List<double[]> directions) {
+        List<String> words = directions.stream().map(d -> directionInWords(states, d)).toList();
+        if (words.size() == 1) {
+            return "the direction " + words.get(0);
+        }
+        return "the directions (" + String.join("), (", words.subList(0, words.size() - 1)) + ") and ("
+                + words.get(words.size() - 1) + ")";
+    }
+
+    /**
+     * A unit direction as a sum over the states, three digits a weight, weights below 0.001 left out
+     * (the answer's directions carry every digit); a weight of 1 is the state alone.
+     */
+    static String directionInWords(List<String> states, double[] direction) {
+        StringBuilder out = new StringBuilder();
+        for (int i = 0; i < direction.length; i++) {
+            double weight = direction[i];
+            if (!(Math.abs(weight) >= SMALLEST_WEIGHT_IN_WORDS)) {
+                continue;
+            }
+            String magnitude = Figure.of(Math.abs(weight));
+            String term = ("1".equals(magnitude) ? "" : magnitude + "·") + states.get(i);
+            if (out.length() == 0) {
+                out.append(weight < 0 ? "−" : "").append(term);
+            } else {
+                out.append(weight < 0 ? " − " : " + ").append(term);
+            }
+        }
+        return out.toString();
     }
 
     private static List<Map<String, Double>> directions(List<String> states, List<double[]> directions) {

@@ -86,7 +86,37 @@ class PlanRoutesTest {
             }
             assertEquals(21600.0, subset.get("shortestHorizonMeetingTargets").asDouble());
             assertEquals("meets_targets", subset.get("verdict").asText());
+            assertEquals("the shortest candidate horizon meeting every target is 21600 s", subset.get("reason").asText());
         }
+    }
+
+    @Test
+    void a_horizon_too_short_for_the_states_names_the_directions_left_in_words() {
+        JsonNode plan = post(PLANS, """
+                { "samplePeriod": 60, "horizons": [60], "outputSubsets": [["return_air"]],
+                  "noiseSigma": {"return_air": 0.15}, "targetStdErrors": {"cargo_core": 0.5} }""");
+        JsonNode subset = plan.get("subsets").get(0);
+        assertEquals("rank_deficient_at_every_horizon", subset.get("verdict").asText());
+        String reason = subset.get("reason").asText();
+        // Two samples of one output fix two of four directions: two are left.
+        assertEquals(2, subset.get("horizons").get(0).get("unobservableDirections").size());
+        assertTrue(reason.startsWith("no candidate horizon determines x0: the longest (60 s, 2 samples) leaves x0 along"
+                + " the directions ("), reason);
+        assertTrue(reason.endsWith(") undetermined; take more samples, or a sample period that does not alias a mode"), reason);
+        assertTrue(reason.matches("[^{}=\\[\\]]*"), "no map or list printing: " + reason);
+    }
+
+    @Test
+    void a_plan_missing_its_targets_says_by_how_much_in_words() {
+        JsonNode plan = post(PLANS, EXAMPLE.replace("[1800, 3600, 21600]", "[1800, 3600]"));
+        JsonNode subset = plan.get("subsets").get(0);
+        assertEquals("targets_not_met", subset.get("verdict").asText());
+        // 10.9: numpy's standard error of cargo_core at 1 h with return_air alone (planning.json, printed to 3 digits).
+        double numpy = prediction(referenceCase("reefer-v1-model-sigma").get("plans").get(0), 3600.0)
+                .get("standardErrors").get(3).asDouble();
+        assertEquals("10.9", backstate.text.Figure.of(numpy));
+        assertEquals("no candidate horizon meets the targets; at the longest (3600 s) the standard errors miss them: "
+                + "cargo_core 10.9 (target 0.5)", subset.get("reason").asText());
     }
 
     @Test
@@ -128,7 +158,8 @@ class PlanRoutesTest {
         assertEquals(0.0, direction.get("b").asDouble(), EXACT_DIRECTION_TOLERANCE);
         assertEquals(1.0, direction.get("c").asDouble(), EXACT_DIRECTION_TOLERANCE);
         assertTrue(blind.get("shortestHorizonMeetingTargets") == null || blind.get("shortestHorizonMeetingTargets").isNull());
-        assertTrue(blind.get("reason").asText().contains("unobservable"), blind.get("reason").asText());
+        assertEquals("no horizon meets the targets: with these outputs, x0 along the direction c is unobservable at any"
+                + " horizon and sample period", blind.get("reason").asText());
         for (JsonNode h : blind.get("horizons")) {
             assertEquals(2, h.get("rank").asInt());
             assertEquals(0, h.get("standardErrors").size(), "x0 undetermined: no standard errors");
