@@ -61,7 +61,7 @@ final class EstimateRoutes {
         String family = family(ctx);
         String flag = ctx.queryParam("flag");
         if (flag != null && !FLAGS.contains(flag)) {
-            throw ApiProblem.invalid("flag", "got " + Params.quoted(flag) + ", expected one of " + FLAGS);
+            throw ApiProblem.invalid("flag", "got " + Params.quoted(flag) + ", expected one of " + FleetViews.FLAGS);
         }
         EstimateFilter filter = new EstimateFilter(family, Params.optionalInt(ctx, "version"), Params.timeFilter(ctx), flag);
         String cursor = ctx.queryParam("cursor");

@@ -66,6 +66,14 @@ class PlainMessagesTest {
     }
 
     @Test
+    void an_unknown_flag_lists_the_flags_in_one_order_on_every_route() {
+        String want = "got \"bad\", expected one of [unobservable, ill_conditioned, model_mismatch, few_samples,"
+                + " offset_confounded]";
+        assertEquals(want, fieldError(server.get("/v1/units/RCX-00001/estimates?flag=bad")).get("detail").asText());
+        assertEquals(want, fieldError(server.get("/v1/fleet/reefer-40/units?version=1&flag=bad")).get("detail").asText());
+    }
+
+    @Test
     void a_csv_without_a_known_input_s_column_names_the_column() {
         assertEquals("got no column for the known input \"ambient\", expected one for each of the model's inputs"
                 + " [cooling_power, ambient]", csvRefusal("time,return_air,supply_air,cooling_power\n0,2.7,-0.7,6.4\n", "header"));
