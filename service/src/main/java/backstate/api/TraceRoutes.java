@@ -1,6 +1,7 @@
 package backstate.api;
 
 import backstate.formats.FieldValues;
+import backstate.intake.Receipt;
 import backstate.intake.TraceIntake;
 import backstate.intake.TracePost;
 import backstate.store.Submission;
@@ -29,15 +30,17 @@ final class TraceRoutes {
         int version = Params.positiveInt("version", Params.requiredQuery(ctx, "version"));
         TracePost.CsvQuery query = new TracePost.CsvQuery(ctx.queryParam("formulation"),
                 ctx.queryParam("estimateOffsets"), ctx.queryParam("referenceTime"));
-        Submission submission = intake.submit(new TracePost(unitId, family, version, ctx.contentType(), key, query,
+        Receipt receipt = intake.submit(new TracePost(unitId, family, version, ctx.contentType(), key, query,
                 () -> BodyLimit.open(ctx, maxBodyBytes)));
+        Submission submission = receipt.submission();
         if (submission.replayed()) {
             ctx.header(REPLAYED_HEADER, "true");
         }
         ctx.status(202).header("Location", "/v1/jobs/" + submission.jobId())
                 .json(new Views.Accepted(submission.jobId(), submission.traceId(), unitId, "queued",
                         Map.of("job", "/v1/jobs/" + submission.jobId(),
-                                "latestEstimate", "/v1/units/" + unitId + "/estimates/latest")));
+                                "latestEstimate", "/v1/units/" + unitId + "/estimates/latest"),
+                        receipt.warnings().stream().map(w -> new Problem.FieldError(w.field(), w.detail())).toList()));
     }
 
     private static String idempotencyKey(Context ctx) {

@@ -51,7 +51,8 @@ final class Views {
     }
 
     @JsonInclude(JsonInclude.Include.NON_NULL)
-    record Accepted(String jobId, String traceId, String unitId, String state, Map<String, String> links) {
+    record Accepted(String jobId, String traceId, String unitId, String state, Map<String, String> links,
+                    List<Problem.FieldError> warnings) {
     }
 
     /** A job; {@code unobservableDirections} on an estimate job that failed because the data leave them undetermined. */

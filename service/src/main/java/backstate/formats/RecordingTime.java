@@ -50,7 +50,24 @@ public final class RecordingTime {
     /** 10000-01-01T00:00:00Z, the first time RFC 3339 cannot write. */
     static final double END = 253_402_300_800.0;
 
+    /**
+     * 2000-01-01T00:00:00Z. A window starting before it almost always holds times that count from the
+     * recording's own start, read (as documented) as seconds since 1970: its estimates would be dated
+     * 1970 and its unit shown as stale. Such a trace is taken, with {@link #earlyWindowNote}.
+     */
+    public static final double PLAUSIBLE_FROM = 946_684_800.0;
+
     private RecordingTime() {
+    }
+
+    /** Why a window starting before {@link #PLAUSIBLE_FROM} is likely misread and how to say so; null from then on. */
+    public static String earlyWindowNote(double windowStart) {
+        if (windowStart >= PLAUSIBLE_FROM) {
+            return null;
+        }
+        return "the window starts at " + format(windowStart) + ", before 2000: plain-number times are seconds since "
+                + "1970-01-01T00:00:00Z; if these count from the recording's start, declare that start (JSON \"start\", "
+                + "CSV header \"time since <RFC 3339 time>\")";
     }
 
     /**

@@ -10,6 +10,7 @@ import backstate.formats.MediaType;
 import backstate.formats.Limits;
 import backstate.formats.ModelDocument;
 import backstate.formats.ParsedColumns;
+import backstate.formats.RecordingTime;
 import backstate.formats.TraceCodec;
 import backstate.formats.TraceOptions;
 import backstate.formats.TraceReader;
@@ -23,6 +24,7 @@ import com.fasterxml.jackson.databind.ObjectMapper;
 import java.io.IOException;
 import java.io.InputStream;
 import java.time.Clock;
+import java.util.List;
 
 /**
  * Trace ingest, the one path from a posted body to a stored trace with its queued estimate job:
@@ -59,13 +61,13 @@ public final class TraceIntake {
 
     /**
      * Stores the trace and queues its estimate job; returns what was created, or what the first
-     * post with the same Idempotency-Key created (marked replayed).
+     * post with the same Idempotency-Key created (marked replayed), with warnings about the trace.
      *
      * @throws TraceRefused    for a missing or retired version, or a body type it does not read
      * @throws InputException  for a body or option that does not read (naming the field)
      * @throws QueueFullException when {@code maxQueued} jobs wait
      */
-    public Submission submit(TracePost post) throws IOException, QueueFullException {
+    public Receipt submit(TracePost post) throws IOException, QueueFullException {
         ModelVersionRow version = activeVersion(post.family(), post.version());
         CheckedModel model = models.of(version.family(), version.version(), version.documentJson());
         TraceFingerprint fingerprint = post.idempotencyKeyOrNull() == null ? null : TraceFingerprint.start(post, version);
@@ -73,7 +75,13 @@ public final class TraceIntake {
         Submission submission = traces.submitTrace(trace,
                 fingerprint == null ? null : fingerprint.withKey(post.idempotencyKeyOrNull()), maxQueued, clock.instant());
         wakeWorkers.run();
-        return submission;
+        return new Receipt(submission, warnings(trace));
+    }
+
+    /** A window dated before 2000 ({@link RecordingTime#earlyWindowNote}); nothing else, so far. */
+    private static List<Receipt.Warning> warnings(NewTrace trace) {
+        String early = RecordingTime.earlyWindowNote(trace.windowStart());
+        return early == null ? List.of() : List.of(new Receipt.Warning("time", early));
     }
 
     /**

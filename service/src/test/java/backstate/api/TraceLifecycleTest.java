@@ -4,6 +4,7 @@ import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
 import com.fasterxml.jackson.databind.JsonNode;
+import com.fasterxml.jackson.databind.node.ObjectNode;
 import java.io.ByteArrayOutputStream;
 import java.nio.file.Files;
 import java.nio.file.Path;
@@ -132,6 +133,30 @@ class TraceLifecycleTest {
         assertEquals(first.json().get("jobId"), retry.json().get("jobId"));
         assertEquals("true", retry.headers().firstValue("Backstate-Replayed").orElse(""));
         assertEquals(tracesBefore + 1, Database.count(db, "traces"));
+        // The demo file's times count from its recording's start (no "start"): dated 1970, with a warning, twice.
+        assertEquals(first.json().get("warnings"), retry.json().get("warnings"));
+        assertEquals("time", first.json().get("warnings").get(0).get("field").asText());
+    }
+
+    @Test
+    void a_window_before_2000_is_accepted_with_a_time_warning_and_a_dated_one_without() throws Exception {
+        JsonNode unit = unit("normal", ".json");
+        String path = "/v1/units/" + unit.get("unitId").asText() + "/traces?model=reefer-40&version=1";
+        ObjectNode body = (ObjectNode) server.mapper.readTree(traceBytes(unit));
+        double first = body.get("time").get(0).asDouble();
+        TestServer.Reply plain = server.post(path, "application/json", server.mapper.writeValueAsBytes(body));
+        assertEquals(202, plain.status(), plain.body());
+        JsonNode warnings = plain.json().get("warnings");
+        assertEquals(1, warnings.size(), warnings.toString());
+        assertEquals("time", warnings.get(0).get("field").asText());
+        assertEquals("the window starts at " + java.time.Instant.ofEpochSecond((long) first) + ", before 2000: plain-number"
+                + " times are seconds since 1970-01-01T00:00:00Z; if these count from the recording's start, declare that"
+                + " start (JSON \"start\", CSV header \"time since <RFC 3339 time>\")", warnings.get(0).get("detail").asText());
+        body.put("start", "2026-12-01T06:00:00+02:00");
+        TestServer.Reply dated = server.post(path, "application/json", server.mapper.writeValueAsBytes(body));
+        assertEquals(202, dated.status(), dated.body());
+        assertEquals(0, dated.json().get("warnings").size(), dated.body());
+        assertTrue(dated.json().get("warnings").isArray());
     }
 
     @Test

@@ -24,11 +24,13 @@ import backstate.store.Submission;
 import backstate.store.TraceRow;
 import com.fasterxml.jackson.databind.ObjectMapper;
 import java.io.ByteArrayInputStream;
+import java.nio.charset.StandardCharsets;
 import java.nio.file.Files;
 import java.nio.file.Path;
 import java.time.Clock;
 import java.time.Instant;
 import java.time.ZoneOffset;
+import java.util.List;
 import java.util.concurrent.atomic.AtomicInteger;
 import org.junit.jupiter.api.AfterEach;
 import org.junit.jupiter.api.BeforeEach;
@@ -81,7 +83,7 @@ class TraceIntakeTest {
 
     @Test
     void a_csv_post_stores_exactly_the_parsed_trace_and_queues_its_job() throws Exception {
-        Submission s = intake(10).submit(csvPost("RCX-1", 1, null, csv));
+        Submission s = intake(10).submit(csvPost("RCX-1", 1, null, csv)).submission();
         assertFalse(s.replayed());
         assertEquals(1, store.queue().queuedCount());
         assertEquals(1, wakes.get(), "the workers are woken once per write");
@@ -100,10 +102,28 @@ class TraceIntakeTest {
     }
 
     @Test
+    void a_window_dated_before_2000_is_taken_with_a_warning_on_time_and_again_on_a_replay() throws Exception {
+        TraceIntake intake = intake(10);
+        // ReeferTraces' times count from 0: read as seconds since 1970.
+        String want = "the window starts at 1970-01-01T00:00:00Z, before 2000: plain-number times are seconds since"
+                + " 1970-01-01T00:00:00Z; if these count from the recording's start, declare that start (JSON \"start\","
+                + " CSV header \"time since <RFC 3339 time>\")";
+        Receipt first = intake.submit(csvPost("RCX-8", 1, "k-8", csv));
+        assertEquals(List.of(new Receipt.Warning("time", want)), first.warnings());
+        Receipt replay = intake.submit(csvPost("RCX-8", 1, "k-8", csv));
+        assertTrue(replay.submission().replayed());
+        assertEquals(first.warnings(), replay.warnings());
+        byte[] dated = ("time since 2026-12-01T06:00:00+02:00" + new String(csv, StandardCharsets.UTF_8).substring(4))
+                .getBytes(StandardCharsets.UTF_8);
+        assertEquals(List.of(), intake.submit(csvPost("RCX-9", 1, null, dated)).warnings());
+        assertEquals(2, store.queue().queuedCount(), "both traces stored and queued");
+    }
+
+    @Test
     void the_same_key_and_body_replay_the_first_post_and_another_body_is_refused() throws Exception {
         TraceIntake intake = intake(10);
-        Submission first = intake.submit(csvPost("RCX-2", 1, "k-1", csv));
-        Submission again = intake.submit(csvPost("RCX-2", 1, "k-1", csv));
+        Submission first = intake.submit(csvPost("RCX-2", 1, "k-1", csv)).submission();
+        Submission again = intake.submit(csvPost("RCX-2", 1, "k-1", csv)).submission();
         assertTrue(again.replayed());
         assertEquals(first.jobId(), again.jobId());
         assertEquals(first.traceId(), again.traceId());
@@ -154,10 +174,10 @@ class TraceIntakeTest {
     @Test
     void a_json_post_is_stored_like_the_same_trace_in_csv() throws Exception {
         TraceIntake intake = intake(10);
-        TraceRow fromCsv = store.traces().findTrace(intake.submit(csvPost("RCX-5", 1, null, csv)).traceId()).orElseThrow();
+        TraceRow fromCsv = store.traces().findTrace(intake.submit(csvPost("RCX-5", 1, null, csv)).submission().traceId()).orElseThrow();
         TraceRow fromJson = store.traces().findTrace(intake.submit(new TracePost("RCX-5", FAMILY, 1, "application/json", null,
                 TracePost.CsvQuery.NONE, () -> new ByteArrayInputStream(new ReeferTraces(TEST_DATA).json(SAMPLES, 3))))
-                .traceId()).orElseThrow();
+                .submission().traceId()).orElseThrow();
         assertNotEquals(fromCsv.id(), fromJson.id());
         assertEquals(fromCsv.samples(), fromJson.samples());
         assertEquals(fromCsv.windowStart(), fromJson.windowStart(), 0.0);
