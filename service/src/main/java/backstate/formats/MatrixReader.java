@@ -49,7 +49,12 @@ final class MatrixReader extends StdDeserializer<double[][]> {
             if (count == values.length) {
                 values = Arrays.copyOf(values, 2 * count);
             }
-            values[count++] = p.getDoubleValue();
+            double value = p.getDoubleValue();
+            if (Double.isInfinite(value)) {
+                throw new MatrixEntryException(p, row + "[" + count + "]", "got the number " + shortened(p.getText())
+                        + ", beyond what a double holds, expected a finite number");
+            }
+            values[count++] = value;
         }
         return Arrays.copyOf(values, count);
     }

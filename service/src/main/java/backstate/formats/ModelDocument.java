@@ -7,7 +7,6 @@ import com.fasterxml.jackson.annotation.JsonIgnore;
 import com.fasterxml.jackson.annotation.JsonInclude;
 import com.fasterxml.jackson.databind.annotation.JsonDeserialize;
 import java.util.HashMap;
-import java.util.HashSet;
 import java.util.List;
 import java.util.Map;
 import java.util.Set;
@@ -66,8 +65,8 @@ public record ModelDocument(String description, String timeDomain, Double sample
      * What a newly published version must also meet, beyond {@link #toModel}: matrix entries and
      * noise σ within {@link Limits#MAX_MAGNITUDE} and {@link Limits#MIN_SIGMA}, each name used once
      * across states, outputs and inputs, and none reserved, so that every trace form (a CSV header
-     * names outputs and inputs side by side with time) can address every channel. Stored versions
-     * published before this rule are not re-checked.
+     * names outputs and inputs side by side with time) can address every channel, and a noise σ
+     * on outputs only. Stored versions published before these rules are not re-checked.
      */
     public void requirePublishable() {
         requireDistinctNames();
@@ -85,6 +84,18 @@ public record ModelDocument(String description, String timeDomain, Double sample
         for (int j = 0; outputs != null && j < outputs.size(); j++) {
             if (outputs.get(j) != null && outputs.get(j).noiseSigma() != null) {
                 Limits.requireSigma("outputs[" + j + "].noiseSigma", outputs.get(j).noiseSigma());
+            }
+        }
+        requireNoSigma("states", states, "for noise driving the states, give processNoise");
+        requireNoSigma("inputs", inputsOrEmpty(), "inputs are known exactly");
+    }
+
+    /** A σ on a state or an input would be ignored; it is refused so that nobody believes it was used. */
+    private static void requireNoSigma(String group, List<Quantity> list, String instead) {
+        for (int i = 0; list != null && i < list.size(); i++) {
+            if (list.get(i) != null && list.get(i).noiseSigma() != null) {
+                throw new InputException(group + "[" + i + "].noiseSigma", "got " + list.get(i).noiseSigma()
+                        + ", expected none: a noise σ belongs to an output; " + instead);
             }
         }
     }
@@ -142,8 +153,12 @@ public record ModelDocument(String description, String timeDomain, Double sample
         double[] sigma = new double[outputs.size()];
         for (int j = 0; j < sigma.length; j++) {
             Double s = outputs.get(j).noiseSigma();
+            String field = "outputs[" + j + "].noiseSigma";
             if (s == null) {
-                throw new InputException("outputs[" + j + "].noiseSigma", "got nothing, expected a σ for every output or for none");
+                throw new InputException(field, "got nothing, expected a σ for every output or for none");
+            }
+            if (!(s > 0.0) || s.isInfinite()) {
+                throw new InputException(field, "got " + s + ", expected a finite number > 0");
             }
             sigma[j] = s;
         }
@@ -157,14 +172,16 @@ public record ModelDocument(String description, String timeDomain, Double sample
             }
             return;
         }
-        Set<String> seen = new HashSet<>();
+        Map<String, Integer> seen = new HashMap<>();
         for (int i = 0; i < list.size(); i++) {
             Quantity item = list.get(i);
             String name = item == null ? null : item.name();
             requireName(field + "[" + i + "].name", name, limits);
             requireLength(field + "[" + i + "].unit", item.unit(), MAX_UNIT);
-            if (!seen.add(name)) {
-                throw new InputException(field + "[" + i + "].name", "got " + name + " twice, expected unique names");
+            Integer earlier = seen.putIfAbsent(name, i);
+            if (earlier != null) {
+                throw new InputException(field + "[" + i + "].name", "got \"" + name + "\", already the name at "
+                        + field + "[" + earlier + "].name, expected unique names");
             }
         }
     }

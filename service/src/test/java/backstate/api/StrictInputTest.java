@@ -81,7 +81,19 @@ class StrictInputTest {
                 Arguments.of("a noise sigma of 1e-320", versions, "application/json",
                         v1.replaceFirst("\"noiseSigma\": 0.15", "\"noiseSigma\": 1e-320"), 400, "outputs[0].noiseSigma"),
                 Arguments.of("an entry of 1e300 in a", versions, "application/json",
-                        v1.replace("[-0.000475,", "[1e300,"), 400, "a[0][0]"));
+                        v1.replace("[-0.000475,", "[1e300,"), 400, "a[0][0]"),
+                // were 422 naming noiseSigma[0] (the engine's name) and "got Infinity"
+                Arguments.of("a negative noise sigma", versions, "application/json",
+                        v1.replaceFirst("\"noiseSigma\": 0.15", "\"noiseSigma\": -0.15"), 400, "outputs[0].noiseSigma"),
+                Arguments.of("an entry of 1e400 in a", versions, "application/json",
+                        v1.replace("[-0.000475,", "[1e400,"), 400, "a[0][0]"),
+                // was published with the σ silently unused (a state's noise is processNoise)
+                Arguments.of("a noise sigma on a state", versions, "application/json",
+                        v1.replace("{\"name\": \"wall\", \"unit\": \"degC\"}",
+                                "{\"name\": \"wall\", \"unit\": \"degC\", \"noiseSigma\": 0.1}"), 400, "states[0].noiseSigma"),
+                Arguments.of("a noise sigma on an input", versions, "application/json",
+                        v1.replace("{\"name\": \"ambient\", \"unit\": \"degC\"}",
+                                "{\"name\": \"ambient\", \"unit\": \"degC\", \"noiseSigma\": 0.1}"), 400, "inputs[1].noiseSigma"));
     }
 
     @ParameterizedTest(name = "{0} gets {3}")

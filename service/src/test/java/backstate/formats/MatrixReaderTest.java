@@ -43,6 +43,33 @@ class MatrixReaderTest {
     }
 
     @Test
+    void a_number_beyond_the_double_range_is_named_as_written() {
+        assertEquals("a[0][1]: got the number -2e400, beyond what a double holds, expected a finite number",
+                refused("\"a\":[[0,-2e400],[0,0]],\"c\":[[1,0]]").getMessage());
+    }
+
+    @Test
+    void a_name_used_twice_points_at_its_first_use_and_a_bad_sigma_at_its_output() throws Exception {
+        ModelDocument twice = STRICT.readValue("{\"timeDomain\":\"continuous\",\"states\":[{\"name\":\"x\",\"unit\":\"K\"},"
+                + "{\"name\":\"x\",\"unit\":\"K\"}],\"outputs\":[{\"name\":\"y\",\"unit\":\"K\"}],"
+                + "\"a\":[[-1,0],[0,-1]],\"c\":[[1,0]]}", ModelDocument.class);
+        InputException dup = assertThrows(InputException.class, () -> twice.toModel(Limits.DEFAULTS));
+        assertEquals("states[1].name", dup.field());
+        assertEquals("got \"x\", already the name at states[0].name, expected unique names", dup.problem());
+        ModelDocument negative = STRICT.readValue(TWO_STATES.replace("\"probe\",\"unit\":\"degC\"}", "\"probe\",\"unit\":\"degC\",\"noiseSigma\":-0.1}")
+                + "\"a\":[[-1,0],[0,-1]],\"c\":[[1,0]]}", ModelDocument.class);
+        InputException sigma = assertThrows(InputException.class, () -> negative.toModel(Limits.DEFAULTS));
+        assertEquals("outputs[0].noiseSigma", sigma.field());
+        assertEquals("got -0.1, expected a finite number > 0", sigma.problem());
+        ModelDocument onState = STRICT.readValue(TWO_STATES.replace("\"hidden\",\"unit\":\"degC\"}",
+                "\"hidden\",\"unit\":\"degC\",\"noiseSigma\":0.5}") + "\"a\":[[-1,0],[0,-1]],\"c\":[[1,0]]}", ModelDocument.class);
+        InputException state = assertThrows(InputException.class, onState::requirePublishable);
+        assertEquals("states[1].noiseSigma", state.field());
+        assertEquals("got 0.5, expected none: a noise σ belongs to an output; for noise driving the states, give processNoise",
+                state.problem());
+    }
+
+    @Test
     void a_null_row_is_left_to_the_shape_check() throws Exception {
         ModelDocument doc = STRICT.readValue(TWO_STATES + "\"a\":[[0,0],null],\"c\":[[1,0]]}", ModelDocument.class);
         assertNull(doc.a()[1]);
