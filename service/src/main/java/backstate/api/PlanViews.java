@@ -82,8 +82,8 @@ final class PlanViews {
                     + directionsInWords(states, s.unobservableDirections())
                     + " is unobservable at any horizon and sample period";
             case RANK_DEFICIENT_AT_EVERY_HORIZON -> "no candidate horizon determines x0: the longest ("
-                    + Figure.exact(longest.horizon()) + " s, " + Counted.of(longest.samples(), "sample") + ") leaves x0 along "
-                    + directionsInWords(states, longest.unobservableDirections())
+                    + Figure.exact(longest.horizon()) + " s, " + Counted.of(longest.samples(), "sample")
+                    + ") leaves x0 along " + directionsInWords(states, longest.unobservableDirections())
                     + " undetermined; take more samples, or a sample period that does not alias a mode";
             case TARGETS_NOT_MET -> "no candidate horizon meets the targets; at the longest ("
                     + Figure.exact(longest.horizon()) + " s) the standard errors miss them: "

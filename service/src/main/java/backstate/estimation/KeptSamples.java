@@ -2,14 +2,17 @@ package backstate.estimation;
 
 /**
  * The samples a thinned series keeps: 0, s, 2s, … and the last, so a plot of a long trace spans the
- * whole window and ends at its last sample (the state the unit is in now) whatever the stride.
+ * whole window and ends at its last sample (the latest state the trace shows) whatever the stride.
  */
 public final class KeptSamples {
     private final int samples;
     private final int stride;
     private final int count;
 
-    /** @param samples N ≥ 1; @param stride s ≥ 1 */
+    /**
+     * @param samples N ≥ 1
+     * @param stride  s ≥ 1
+     */
     KeptSamples(int samples, int stride) {
         this.samples = samples;
         this.stride = stride;

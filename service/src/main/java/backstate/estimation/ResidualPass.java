@@ -325,7 +325,8 @@ final class ResidualPass {
     }
 
     /** Which samples are kept, their times, outputs (measured, fitted, residual; kept×p) and states (kept×n). */
-    record Kept(KeptSamples samples, double[] times, double[] measured, double[] fitted, double[] residuals, double[] states) {
+    record Kept(KeptSamples samples, double[] times, double[] measured, double[] fitted, double[] residuals,
+                double[] states) {
     }
 
     /** @param whitenedSquares Σ (r/σ)² over every present output: the residual sum of squares at x̂0 */
