@@ -50,7 +50,7 @@ public final class App implements AutoCloseable {
         ObjectMapper mapper = Json.mapper(limits);
         PrometheusMeterRegistry registry = new PrometheusMeterRegistry(PrometheusConfig.DEFAULT);
         this.database = openDatabase(settings, clock, registry);
-        this.processMeters = ProcessMeters.bind(registry);
+        this.processMeters = ProcessMeters.bind(registry, BuildInfo.version());
         CheckedModels models = new CheckedModels(mapper, limits);
         StoredTraceSolver stored = new StoredTraceSolver(database.traces(), database.models(), models, mapper);
         JobHandler handlers = new HandlersByKind(Map.of(

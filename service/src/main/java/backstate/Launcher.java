@@ -34,7 +34,8 @@ final class Launcher {
               solve             solve one trace on this machine, no server: --model FILE --trace FILE
               compare-versions  compare two model versions over a server's stored traces, for CI
               migrate           copy a SQLite database into an empty PostgreSQL one: --from FILE --to URL
-              help              this text""";
+              help              this text
+              --version         the version of this build""";
     static final String SERVICE_FLAGS = """
               --host ADDRESS          listen address (BACKSTATE_HOST, default 0.0.0.0)
               --port N                listen port, 0 for any free one (BACKSTATE_PORT, default 8080)
@@ -95,6 +96,10 @@ final class Launcher {
                 out.println(USAGE);
                 yield new Outcome.Exited(USAGE_SHOWN);
             }
+            case "--version", "version" -> {
+                out.println("backstate " + BuildInfo.version());
+                yield new Outcome.Exited(USAGE_SHOWN);
+            }
             default -> {
                 err.println("backstate: got command " + command + ", expected serve, demo, solve, "
                         + CompareVersionsCommand.NAME + ", " + MigrateCommand.NAME + " or help");
@@ -141,7 +146,7 @@ final class Launcher {
         // The logger is made here, not in a static field: the one-shot commands never log, and
         // setting logging up is a tenth of a short command's start-up (bench/solve-start.sh).
         Logger log = LoggerFactory.getLogger(Launcher.class);
-        log.info("settings: {}", settings.describe());
+        log.info("backstate {}, settings: {}", BuildInfo.version(), settings.describe());
         if (demo) {
             log.warn("demo: access control is OFF (every route is open to anyone who can reach the port); use serve for keys");
         } else if (!settings.auth()) {

@@ -84,6 +84,19 @@ class StartErrorsTest {
         }
     }
 
+    /** The version the pom declares, handed over by surefire (backstate.expectedVersion), not read by the code under test. */
+    @Test
+    void version_prints_the_build_s_version_and_exits_0() throws Exception {
+        String expected = System.getProperty("backstate.expectedVersion");
+        assertTrue(expected != null && !expected.isBlank(), "surefire passes the pom's version");
+        for (String version : new String[] {"--version", "version"}) {
+            Run run = backstate(version);
+            assertEquals(0, run.exit(), run.err());
+            assertEquals("backstate " + expected + System.lineSeparator(), run.out());
+            assertEquals("", run.err());
+        }
+    }
+
     @Test
     void demo_help_and_serve_help_print_the_flags_and_exit_0() throws Exception {
         for (String command : new String[] {"demo", "serve"}) {

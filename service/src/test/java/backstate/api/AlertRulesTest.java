@@ -121,6 +121,12 @@ class AlertRulesTest {
         assertTrue(value("jvm_threads_live_threads", Map.of()) >= 1);
     }
 
+    /** The version the pom declares, handed over by surefire (backstate.expectedVersion). */
+    @Test
+    void the_build_s_version_is_a_label_of_a_constant_gauge() {
+        assertEquals(1.0, value("backstate_build_info", Map.of("version", System.getProperty("backstate.expectedVersion"))));
+    }
+
     // ---- reading the rule file and the scrape
 
     record Selector(String name, Map<String, String> labels) {
