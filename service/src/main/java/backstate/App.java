@@ -29,6 +29,10 @@ import backstate.store.StoreException;
 import com.fasterxml.jackson.databind.ObjectMapper;
 import io.micrometer.prometheusmetrics.PrometheusConfig;
 import io.micrometer.prometheusmetrics.PrometheusMeterRegistry;
+import java.io.FileDescriptor;
+import java.io.FileOutputStream;
+import java.io.PrintStream;
+import java.nio.charset.StandardCharsets;
 import java.nio.file.Path;
 import java.security.SecureRandom;
 import java.time.Clock;
@@ -129,8 +133,15 @@ public final class App implements AutoCloseable {
         processMeters.close();
     }
 
-    /** The command line: serve (default), demo, solve, compare-versions, help; see {@link Launcher}. */
+    /**
+     * The command line: serve (default), demo, solve, compare-versions, help; see {@link Launcher}.
+     * Standard output and error are UTF-8 whatever the locale: solve writes JSON (RFC 8259: UTF-8)
+     * and the texts hold χ² and σ, which a C or POSIX locale (common in CI containers) would print
+     * as '?'.
+     */
     public static void main(String[] args) {
+        System.setOut(new PrintStream(new FileOutputStream(FileDescriptor.out), true, StandardCharsets.UTF_8));
+        System.setErr(new PrintStream(new FileOutputStream(FileDescriptor.err), true, StandardCharsets.UTF_8));
         Launcher.Outcome outcome = new Launcher(System.out, System.err, System.getenv()).run(args);
         if (outcome instanceof Launcher.Outcome.Serving serving) {
             Runtime.getRuntime().addShutdownHook(new Thread(serving.app()::close, "backstate-shutdown"));

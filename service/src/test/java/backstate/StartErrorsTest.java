@@ -5,6 +5,7 @@ import static org.junit.jupiter.api.Assertions.assertFalse;
 import static org.junit.jupiter.api.Assertions.assertThrows;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
+import backstate.api.TestServer;
 import backstate.config.Settings;
 import backstate.store.SqliteDatabase;
 import java.io.IOException;
@@ -49,6 +50,11 @@ class StartErrorsTest {
     }
 
     Run backstate(String... args) throws IOException, InterruptedException {
+        return backstate(Map.of(), args);
+    }
+
+    /** As {@link #backstate(String...)} with these environment variables set for the child. */
+    Run backstate(Map<String, String> env, String... args) throws IOException, InterruptedException {
         List<String> command = new ArrayList<>(List.of(Path.of(System.getProperty("java.home"), "bin", "java").toString(),
                 "-Xmx128m", "-cp", System.getProperty("java.class.path"), "backstate.App"));
         command.addAll(List.of(args));
@@ -57,6 +63,7 @@ class StartErrorsTest {
         ProcessBuilder builder = new ProcessBuilder(command).directory(dir.toFile())
                 .redirectOutput(out.toFile()).redirectError(err.toFile());
         builder.environment().keySet().removeIf(name -> name.startsWith("BACKSTATE_"));
+        builder.environment().putAll(env);
         Process process = builder.start();
         if (!process.waitFor(CHILD_TIMEOUT_SECONDS, TimeUnit.SECONDS)) {
             process.destroyForcibly().waitFor();
@@ -95,6 +102,18 @@ class StartErrorsTest {
             assertEquals("backstate " + expected + System.lineSeparator(), run.out());
             assertEquals("", run.err());
         }
+    }
+
+    /** A C locale (common in CI containers) made the JVM print σ and χ² as '?'; the commands write UTF-8. */
+    @Test
+    void the_commands_write_utf_8_in_a_c_locale() throws Exception {
+        Path trace = dir.resolve("trace.json");
+        Files.writeString(trace, "{\"time\":[0,60],\"outputs\":{\"return_air\":[1,2],\"supply_air\":[1,2]},"
+                + "\"inputs\":{\"cooling_power\":[0,0],\"ambient\":[20,20]},\"noiseSigma\":{\"return_air\":-1}}");
+        Run run = backstate(Map.of("LANG", "C", "LC_ALL", "C"), "solve", "--model",
+                TestServer.TEST_DATA.resolve("demo/models/reefer-40.v1.json").toString(), "--trace", trace.toString());
+        assertEquals("backstate solve: noiseSigma.return_air: got -1.0, expected a σ from 1.0E-12 to 1.0E15",
+                oneLine(run, 2));
     }
 
     @Test

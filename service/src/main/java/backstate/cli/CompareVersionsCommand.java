@@ -1,5 +1,6 @@
 package backstate.cli;
 
+import backstate.text.Counted;
 import com.fasterxml.jackson.databind.JsonNode;
 import com.fasterxml.jackson.databind.ObjectMapper;
 import java.io.IOException;
@@ -97,8 +98,9 @@ public final class CompareVersionsCommand {
         }
         JsonNode run = mapper.readTree(started.body());
         String id = run.get("id").asText();
-        out.printf(Locale.ROOT, "comparison %s: %s version %d -> %d over %d traces%n", id, run.get("family").asText(),
-                run.get("baseline").asInt(), run.get("candidate").asInt(), run.path("progress").path("total").asInt());
+        out.printf(Locale.ROOT, "comparison %s: %s version %d -> %d over %s%n", id, run.get("family").asText(),
+                run.get("baseline").asInt(), run.get("candidate").asInt(),
+                Counted.of(run.path("progress").path("total").asInt(), "trace"));
         String shown = "";
         while (!finished(run)) {
             Thread.sleep(POLL.toMillis());
@@ -140,7 +142,7 @@ public final class CompareVersionsCommand {
                 s.get("compared").asInt(), s.get("better").asInt(), s.get("worse").asInt(), s.get("unchanged").asInt(),
                 s.get("notCompared").asInt());
         if (s.has("medianDeltaChi2PerDof")) {
-            out.printf(Locale.ROOT, "delta chi2/dof per unit: median %+.4f, p95 %+.4f%n",
+            out.printf(Locale.ROOT, "delta χ²/dof per unit: median %+.4f, p95 %+.4f%n",
                     s.get("medianDeltaChi2PerDof").asDouble(), s.get("p95DeltaChi2PerDof").asDouble());
         }
         if (!result.get("statesComparable").asBoolean()) {

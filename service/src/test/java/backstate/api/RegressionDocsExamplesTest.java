@@ -54,7 +54,7 @@ class RegressionDocsExamplesTest {
             assertEquals(1, exit, printed);
             for (String line : new String[] {"  20/20 traces", "FAIL (rule worse-share): 11 of 20 compared units",
                     "units: 20 compared, 0 better, 20 worse, 0 unchanged, 0 not compared",
-                    "delta chi2/dof per unit: median +16.9884, p95 +69.7822"}) {
+                    "delta χ²/dof per unit: median +16.9884, p95 +69.7822"}) {
                 assertTrue(printed.contains(line) && page.contains(line), "page and output should both show: " + line);
             }
         }

@@ -63,7 +63,7 @@ class CompareVersionsCommandTest {
                 "--candidate", Integer.toString(copyOfV1), "--units", "RCX-85159,RCX-24000", "--tolerance-x0", "0");
         assertEquals(CompareVersionsCommand.PASS, run.exit(), run.out() + run.err());
         assertTrue(run.out().contains("PASS (rule worse-share): 0 of 2 compared units"), run.out());
-        assertTrue(run.out().contains("delta chi2/dof per unit: median +0.0000, p95 +0.0000"), run.out());
+        assertTrue(run.out().contains("delta χ²/dof per unit: median +0.0000, p95 +0.0000"), run.out());
     }
 
     @Test
@@ -72,7 +72,7 @@ class CompareVersionsCommandTest {
         CommandRun first = compareVersions("--server", server.base(), "--family", "reefer-40", "--baseline", "1",
                 "--candidate", Integer.toString(copyOfV1), "--to", "2026-11-30T00:10:00Z");
         assertEquals(CompareVersionsCommand.PASS, first.exit(), first.out() + first.err());
-        assertTrue(first.out().contains("over 1 traces"), first.out());
+        assertTrue(first.out().contains("over 1 trace\n") || first.out().contains("over 1 trace\r\n"), first.out());
         CommandRun none = compareVersions("--server", server.base(), "--family", "reefer-40", "--baseline", "1",
                 "--candidate", Integer.toString(copyOfV1), "--from", "2026-12-01T06:00:00Z");
         assertEquals(CompareVersionsCommand.BAD_INPUT, none.exit(), none.out() + none.err());
