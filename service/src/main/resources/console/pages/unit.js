@@ -158,8 +158,15 @@ function stateChart(estimate) {
 
 function sampling(series) {
   return series.stride > 1
-    ? `Plotted: every ${series.stride}th sample and the last, ${series.points} points (asked for at most ${MAX_POINTS}).`
+    ? `Plotted: every ${ordinal(series.stride)} sample and the last, ${series.points} points (asked for at most ${MAX_POINTS}).`
     : `Plotted: every sample, ${series.points} points.`;
+}
+
+/** 2nd, 3rd, 4th, 11th, 12th, 13th, 21st, 22nd, 23rd, 101st, 111th. */
+export function ordinal(n) {
+  const lastTwo = n % 100;
+  const suffix = lastTwo >= 11 && lastTwo <= 13 ? 'th' : ({ 1: 'st', 2: 'nd', 3: 'rd' })[n % 10] ?? 'th';
+  return `${n}${suffix}`;
 }
 
 function channelPanel(name, series, estimate, model) {

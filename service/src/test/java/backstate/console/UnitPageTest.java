@@ -164,6 +164,25 @@ class UnitPageTest {
         }
     }
 
+    /**
+     * A trace longer than the page asks for (4 001 samples, at most 2 000 points) is thinned to
+     * samples 0, 3, 6, … and the last: stride ⌈4000 / 1999⌉ = 3, 1 334 + 1 points; the page says
+     * so in English ordinals and its plots end at the window's last sample.
+     */
+    @Test
+    void a_thinned_trace_is_described_and_plotted_to_its_last_sample() throws Exception {
+        String unit = "RCX-40001";
+        postTrace(server, unit, new ReeferTraces(TestServer.TEST_DATA).csv(4001, 21), Instant.parse("2026-11-27T06:00:00Z"));
+        open(unit);
+        assertEquals("Plotted: every 3rd sample and the last, 1335 points (asked for at most 2000).",
+                browser.find("section[data-section='fit'] p.lede").getText());
+        List<Double> x = numbers(plot(browser.findAll("[data-output='return_air'] figure.plot").get(0)).get("x"));
+        assertEquals(1335, x.size());
+        double windowEnd = java.time.Instant.parse(latest(unit).get("windowEnd").asText()).getEpochSecond();
+        assertEquals(windowEnd, x.get(x.size() - 1), 0.0, "the plot ends at the window's last sample");
+        browser.assertNoConsoleErrors();
+    }
+
     @Test
     void the_plotted_fit_residuals_and_trajectory_are_the_api_series() throws Exception {
         JsonNode estimate = latest(FLAGGED);
