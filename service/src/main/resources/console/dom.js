@@ -63,6 +63,11 @@ export function flagList(flags) {
       FLAG_WORDS[f] ?? 'see the API documentation')));
 }
 
+/** A count with its noun: "1 unit", "3 units" (nouns whose plural adds an s unless given). */
+export function counted(count, singular, plural = singular + 's') {
+  return `${count} ${count === 1 ? singular : plural}`;
+}
+
 export function link(href, text) {
   return h('a', { href }, text);
 }

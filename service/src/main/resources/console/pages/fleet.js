@@ -3,7 +3,7 @@
 // stale ones. Everything comes from GET /v1/fleet/{family}/summary and /units.
 import { api } from '../api.js';
 import { explain } from '../app.js';
-import { FLAG_WORDS, format, h, link, number, table } from '../dom.js';
+import { counted, FLAG_WORDS, format, h, link, number, table } from '../dom.js';
 import { drawPlots, logHistogram } from '../plot.js';
 
 const WORST_SHOWN = 10;
@@ -84,7 +84,7 @@ function flagTally(flags) {
 
 /** The heading of the version shown below, with a choice of version when there are several. */
 function versionBar(versions, chosen, onPick) {
-  const describe = v => `version ${v.version}: ${v.units} units, ${v.estimates} estimates (${v.status})`;
+  const describe = v => `version ${v.version}: ${counted(v.units, 'unit')}, ${counted(v.estimates, 'estimate')} (${v.status})`;
   if (versions.length === 1) {
     return h('h2', { class: 'version-bar' }, describe(versions[0]));
   }
@@ -169,7 +169,7 @@ function fitHistogram(units) {
   return h('div', { class: 'histogram' },
     logHistogram({ title: 'How well each unit fits: χ²/dof of its newest estimate', edges, counts,
       xLabel: 'χ²/dof (log scale)', yLabel: 'units', marks: [{ x: 1, label: '1: fit as good as the noise' }] }),
-    h('p', { class: 'note' }, `${values.length} units in ${counts.length} log-spaced bins, ${perDecade} per decade `,
+    h('p', { class: 'note' }, `${counted(values.length, 'unit')} in ${counts.length} log-spaced bins, ${perDecade} per decade `,
       `(each edge ${format(10 ** (1 / perDecade))}× the one before), from ${format(edges[0])} to ${format(edges[edges.length - 1])}; `,
       'a bin holds its lower edge, not its upper one (the last holds both).',
       without ? ` ${without} unit(s) without a χ²/dof (or with 0) are not binned.` : ''));
@@ -211,7 +211,8 @@ function worstTable(units) {
   if (units.length === 0) {
     return h('p', {}, 'No unit has an estimate with this version yet.');
   }
-  const t = table(`Worst fit first: the ${units.length} units with the largest χ²/dof`,
+  const t = table(units.length === 1 ? 'Worst fit first: the one unit, with its χ²/dof'
+    : `Worst fit first: the ${units.length} units with the largest χ²/dof`,
     ['#', 'unit', 'χ²/dof', 'flags', 'newest recording'],
     units.map((u, i) => [String(i + 1), unitLink(u.unitId), number(u.chiSquarePerDof ?? null), shortFlags(u.flags),
       when(u.windowStart)]), { class: 'worst' });
@@ -225,7 +226,7 @@ function staleTable(summary) {
     return h('p', { class: 'flag-none' }, `✓ No stale unit: every unit recorded since ${when(stale.before)}.`);
   }
   const listed = stale.oldestFirst;
-  const t = table(`Stale: ${stale.count} units with no recording started since ${when(stale.before)} (${summary.staleAfter})`,
+  const t = table(`Stale: ${counted(stale.count, 'unit')} with no recording started since ${when(stale.before)} (${summary.staleAfter})`,
     ['unit', 'newest recording', 'silent for', 'flags'],
     listed.map(u => [unitLink(u.unitId), when(u.windowStart), age(u.windowStart, summary.asOf), shortFlags(u.flags)]),
     { class: 'stale', 'data-count': stale.count });

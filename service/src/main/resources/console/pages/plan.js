@@ -3,7 +3,7 @@
 // model document; the numbers from POST /v1/models/{family}/versions/{version}/plans.
 import { api } from '../api.js';
 import { explain, say } from '../app.js';
-import { format, h, link, number, table } from '../dom.js';
+import { counted, format, h, link, number, table } from '../dom.js';
 import { drawPlots, logLinePlot } from '../plot.js';
 
 const HOUR = 3600;
@@ -22,7 +22,7 @@ export async function render(root, { family, version }) {
   const form = planForm(spec, body => predict(results, family, version, spec, body));
   root.append(
     h('h1', {}, 'Window planning ', h('span', { class: 'subject' }, `${family} v${version}`),
-      h('small', {}, `${spec.states.length} states, ${spec.outputs.length} outputs`)),
+      h('small', {}, `${counted(spec.states.length, 'state')}, ${counted(spec.outputs.length, 'output')}`)),
     h('p', { class: 'lede' }, 'How long must a recording be? The standard error of a state for each window length and ',
       'set of sensors, predicted from the model alone, before any data exist.'),
     h('div', { class: 'plan-layout' }, form, results));

@@ -4,7 +4,7 @@
 // Cancelling needs an admin key; the outcome is said in words.
 import { api, ApiError } from '../api.js';
 import { explain, say } from '../app.js';
-import { format, h, link, number, table } from '../dom.js';
+import { counted, format, h, link, number, table } from '../dom.js';
 
 const POLL_MS = 500;
 const ACTIVE = new Set(['queued', 'running']);
@@ -96,7 +96,7 @@ function runSection(run) {
 function meta(run) {
   const t = run.request.tolerances;
   return h('p', { class: 'run-meta' },
-    `Run ${run.id} · created ${when(run.createdAt)} UTC · ${run.request.traceCount} traces selected · tolerances: `,
+    `Run ${run.id} · created ${when(run.createdAt)} UTC · ${counted(run.request.traceCount, 'trace')} selected · tolerances: `,
     `χ²/dof may rise by ${format(t.maxChi2PerDofIncrease)}, share of units worse beyond it ≤ ${format(t.maxWorseShare)}, `,
     t.maxX0ShiftSe === null || t.maxX0ShiftSe === undefined
       ? 'x̂0 shifts reported, not judged' : `x̂0 may shift by ${format(t.maxX0ShiftSe)} standard errors`);

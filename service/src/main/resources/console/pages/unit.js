@@ -4,7 +4,7 @@
 // an earlier estimate instead of the latest.
 import { api } from '../api.js';
 import { explain } from '../app.js';
-import { flagList, format, h, link, number, table } from '../dom.js';
+import { counted, flagList, format, h, link, number, table } from '../dom.js';
 import { drawPlots, intervalChart, timePlot } from '../plot.js';
 
 /** Most points asked of the series route: enough for a plot's pixels, cheap for 10⁶ samples. */
@@ -158,8 +158,8 @@ function stateChart(estimate) {
 
 function sampling(series) {
   return series.stride > 1
-    ? `Plotted: every ${ordinal(series.stride)} sample and the last, ${series.points} points (asked for at most ${MAX_POINTS}).`
-    : `Plotted: every sample, ${series.points} points.`;
+    ? `Plotted: every ${ordinal(series.stride)} sample and the last, ${counted(series.points, 'point')} (asked for at most ${MAX_POINTS}).`
+    : `Plotted: every sample, ${counted(series.points, 'point')}.`;
 }
 
 /** 2nd, 3rd, 4th, 11th, 12th, 13th, 21st, 22nd, 23rd, 101st, 111th. */
