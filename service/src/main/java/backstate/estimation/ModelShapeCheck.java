@@ -33,7 +33,7 @@ final class ModelShapeCheck {
                 requireMatrix("d", d, outputs, inputs);
             }
         } else if (d != null && d.length > 0 && d[0].length > 0) {
-            throw new ModelException("d", "got " + d[0].length + " columns, expected none because b has no inputs");
+            throw new ModelException("d", "got " + Counted.of(d[0].length, "column") + ", expected none because b has no inputs");
         }
     }
 

@@ -1,5 +1,7 @@
 package backstate.estimation;
 
+import backstate.text.Counted;
+
 import org.apache.commons.math3.linear.CholeskyDecomposition;
 import org.apache.commons.math3.linear.MatrixUtils;
 import org.apache.commons.math3.linear.NonPositiveDefiniteMatrixException;
@@ -19,12 +21,12 @@ final class PriorEquations {
 
     static void validate(Prior prior, int n) {
         if (prior.mean() == null || prior.mean().length != n) {
-            throw new ModelException("prior.mean", "got " + (prior.mean() == null ? 0 : prior.mean().length)
-                    + " values, expected " + n);
+            throw new ModelException("prior.mean", "got " + Counted.of(prior.mean() == null ? 0 : prior.mean().length,
+                    "value") + ", expected " + n);
         }
         if (prior.covariance() == null || prior.covariance().length != n * n) {
-            throw new ModelException("prior.covariance", "got " + (prior.covariance() == null ? 0 : prior.covariance().length)
-                    + " values, expected " + n + "×" + n);
+            throw new ModelException("prior.covariance", "got "
+                    + Counted.of(prior.covariance() == null ? 0 : prior.covariance().length, "value") + ", expected " + n + "×" + n);
         }
         for (int i = 0; i < n; i++) {
             requireFinite("prior.mean[" + i + "]", prior.mean()[i]);

@@ -1,5 +1,7 @@
 package backstate.estimation;
 
+import backstate.text.Counted;
+
 import org.apache.commons.math3.linear.EigenDecomposition;
 import org.apache.commons.math3.linear.MatrixUtils;
 
@@ -22,13 +24,13 @@ final class ProcessNoiseCheck {
     /** The matrix row-major, or a {@link ModelException} naming {@code field[i][j]} or the whole field. */
     static double[] validated(double[][] q, int n, String field) {
         if (q == null || q.length != n) {
-            throw new ModelException(field, "got " + (q == null ? 0 : q.length) + " rows, expected " + n);
+            throw new ModelException(field, "got " + Counted.of(q == null ? 0 : q.length, "row") + ", expected " + n);
         }
         double largest = 0.0;
         for (int i = 0; i < n; i++) {
             if (q[i] == null || q[i].length != n) {
-                throw new ModelException(field + "[" + i + "]", "got " + (q[i] == null ? 0 : q[i].length)
-                        + " values, expected " + n);
+                throw new ModelException(field + "[" + i + "]", "got " + Counted.of(q[i] == null ? 0 : q[i].length, "value")
+                        + ", expected " + n);
             }
             for (int j = 0; j < n; j++) {
                 if (!Double.isFinite(q[i][j])) {

@@ -1,5 +1,7 @@
 package backstate.estimation;
 
+import backstate.text.Counted;
+
 import java.util.ArrayList;
 import java.util.Arrays;
 import java.util.List;
@@ -336,7 +338,7 @@ public final class SamplingPlanner {
 
     private static void requireLength(String field, double[] values, int expected) {
         if (values == null || values.length != expected) {
-            throw new ModelException(field, "got " + (values == null ? "none" : values.length + " values")
+            throw new ModelException(field, "got " + (values == null ? "none" : Counted.of(values.length, "value"))
                     + ", expected " + expected);
         }
     }

@@ -75,6 +75,9 @@ public record TraceOptions(String formulation, Boolean estimateOffsets, Double r
         if (prior.mean() == null || prior.covariance() == null) {
             throw new InputException("options.prior", "got an incomplete prior, expected mean and covariance");
         }
+        if (prior.mean().length != states) {
+            throw new InputException("options.prior.mean", "got " + Counted.of(prior.mean().length, "value") + ", expected " + states);
+        }
         double[][] cov = prior.covariance();
         if (cov.length != states) {
             throw new InputException("options.prior.covariance", "got " + Counted.of(cov.length, "row") + ", expected " + states);

@@ -1,6 +1,7 @@
 package backstate.intake;
 
 import backstate.estimation.InitialStateEstimator;
+import backstate.estimation.ModelException;
 import backstate.estimation.StateSpaceModel;
 import backstate.formats.CheckedModel;
 import backstate.formats.CheckedModels;
@@ -25,6 +26,7 @@ import java.io.IOException;
 import java.io.InputStream;
 import java.time.Clock;
 import java.util.List;
+import java.util.Set;
 
 /**
  * Trace ingest, the one path from a posted body to a stored trace with its queued estimate job:
@@ -34,6 +36,11 @@ import java.util.List;
  * Knows nothing of HTTP: the edge hands it a {@link TracePost} and answers with the submission.
  */
 public final class TraceIntake {
+    /**
+     * The solver's option fields; a JSON body writes them inside its "options" object, so a refusal
+     * of one names it there ("options.prior.covariance"), a CSV post's query as it is.
+     */
+    private static final Set<String> OPTION_FIELDS = Set.of("formulation", "estimateOffsets", "referenceTime", "prior");
     private final TraceIntakeStore traces;
     private final ModelCatalogue catalogue;
     private final CheckedModels models;
@@ -94,10 +101,38 @@ public final class TraceIntake {
         ParsedColumns parsed = parse(post, model.document(), fingerprintOrNull);
         StateSpaceModel engine = model.engine();
         double[] times = parsed.timesView();
-        InitialStateEstimator.validate(engine, times, parsed.outputCount(), parsed.inputCount(),
-                parsed.options().toEstimationOptions(engine.states(), false));
+        String optionsAt = isJson(post) ? "options." : "";
+        requireReferenceInWindow(parsed.options().referenceTime(), times, optionsAt + "referenceTime");
+        try {
+            InitialStateEstimator.validate(engine, times, parsed.outputCount(), parsed.inputCount(),
+                    parsed.options().toEstimationOptions(engine.states(), false));
+        } catch (ModelException e) {
+            throw OPTION_FIELDS.contains(e.field().split("[.\\[]", 2)[0])
+                    ? new ModelException(optionsAt + e.field(), e.problem()) : e;
+        }
         return new NewTrace(post.unitId(), version.family(), version.version(), times.length, times[0],
                 times[times.length - 1], codec.encode(parsed));
+    }
+
+    /**
+     * The reference time inside the window, refused in recording time (RFC 3339) rather than the
+     * solver's seconds: "got 2026-12-01T06:00:10Z, expected a time inside the window 2026-12-01T18:10:00Z
+     * to 2026-12-02T00:10:00Z".
+     */
+    private static void requireReferenceInWindow(Double reference, double[] times, String field) {
+        if (reference == null || times.length == 0) {
+            return; // no samples: the solver's checks refuse the trace itself
+        }
+        double first = times[0];
+        double last = times[times.length - 1];
+        if (!(reference >= first && reference <= last)) {
+            throw new ModelException(field, "got " + RecordingTime.format(reference) + ", expected a time inside the window "
+                    + RecordingTime.format(first) + " to " + RecordingTime.format(last));
+        }
+    }
+
+    private static boolean isJson(TracePost post) {
+        return post.contentTypeOrNull() != null && MediaType.is(post.contentTypeOrNull(), "application/json");
     }
 
     private ModelVersionRow activeVersion(String family, int number) {

@@ -183,6 +183,37 @@ class PlainMessagesTest {
     }
 
     /** A JSON trace of the demo model whose options are {@code options}. */
+    /** Posts a body, requires a 422 problem whose one field error is {@code field}, and returns its detail. */
+    private String inconsistency(String path, String mediaType, String body, String field) {
+        TestServer.Reply reply = server.post(path, mediaType, body.getBytes(StandardCharsets.UTF_8));
+        assertEquals(422, reply.status(), reply.body());
+        JsonNode error = reply.json().get("errors").get(0);
+        assertEquals(field, error.get("field").asText(), error.toString());
+        return error.get("detail").asText();
+    }
+
+    @Test
+    void a_reference_time_outside_the_window_is_refused_in_recording_time() {
+        String csv = "time since 2026-12-01T06:00:00Z" + HEADER.substring(4) + "\n" + ROWS;
+        assertEquals("got 2026-12-01T07:00:00Z, expected a time inside the window 2026-12-01T06:00:00Z to"
+                + " 2026-12-01T06:01:00Z", inconsistency(TRACES + "&referenceTime=3600", "text/csv", csv, "referenceTime"));
+        assertEquals("got 1970-01-01T00:02:00Z, expected a time inside the window 1970-01-01T00:00:00Z to"
+                + " 1970-01-01T00:01:00Z", inconsistency(TRACES, "application/json",
+                traceWithOptions("{\"referenceTime\": 120}"), "options.referenceTime"));
+    }
+
+    @Test
+    void an_option_the_model_refuses_is_named_inside_options_in_a_json_body() {
+        assertEquals("got a matrix that is not positive definite, expected one that is", inconsistency(TRACES,
+                "application/json", traceWithOptions("{\"prior\": {\"mean\": [0, 0, 0, 0], \"covariance\":"
+                        + " [[1, 2, 0, 0], [2, 1, 0, 0], [0, 0, 1, 0], [0, 0, 0, 1]]}}"), "options.prior.covariance"));
+        assertEquals("got process_noise, expected a model that declares processNoise", inconsistency(TRACES,
+                "application/json", traceWithOptions("{\"formulation\": \"process_noise\"}"), "options.formulation"));
+        String csv = HEADER + "\n" + ROWS;
+        assertEquals("got process_noise, expected a model that declares processNoise",
+                inconsistency(TRACES + "&formulation=process_noise", "text/csv", csv, "formulation"));
+    }
+
     private static String traceWithOptions(String options) {
         return "{\"time\": [0, 60], \"outputs\": {\"return_air\": [1, 2], \"supply_air\": [1, 2]},"
                 + " \"inputs\": {\"cooling_power\": [0, 0], \"ambient\": [20, 20]}, \"options\": " + options + "}";
@@ -237,6 +268,8 @@ class PlainMessagesTest {
         assertEquals("got 129 characters, expected 1-128 visible ASCII characters", key.get("detail").asText());
         assertEquals("got 3 columns, expected 4 columns", refusal(TRACES, traceWithOptions("{\"prior\": {\"mean\": [1, 2, 3, 4],"
                 + " \"covariance\": [[1, 0, 0, 0], [0, 1, 0], [0, 0, 1, 0], [0, 0, 0, 1]]}}"), "options.prior.covariance[1]"));
+        assertEquals("got 1 value, expected 4", refusal(TRACES, traceWithOptions("{\"prior\": {\"mean\": [1],"
+                + " \"covariance\": [[1, 0, 0, 0], [0, 1, 0, 0], [0, 0, 1, 0], [0, 0, 0, 1]]}}"), "options.prior.mean"));
     }
 
     @Test
