@@ -37,6 +37,8 @@ public final class RegressionRequests {
      * be rescued and restarted (its finished chunks are kept).
      */
     public static final int MAX_TRACES = 100_000;
+    /** Units a refusal names before "and N more". */
+    static final int UNITS_NAMED = 10;
     /** Times are stored as epoch milliseconds: a bound outside that range cannot be compared. */
     static final Instant EARLIEST = Instant.ofEpochMilli(Long.MIN_VALUE);
     static final Instant LATEST = Instant.ofEpochMilli(Long.MAX_VALUE);
@@ -174,10 +176,17 @@ public final class RegressionRequests {
             traces.forEach(t -> missing.remove(t.unitId()));
             if (!missing.isEmpty()) {
                 throw new RegressionRefused("traces.units", "no stored traces of model family " + family
-                        + " match the selection for units " + missing);
+                        + " match the selection for " + unitsInWords(missing));
             }
         }
         return traces;
+    }
+
+    /** Units named in a refusal, most {@value #UNITS_NAMED}: "the unit RCX-1", "the units RCX-1, RCX-2 and 3 more". */
+    static String unitsInWords(Set<String> units) {
+        List<String> named = units.stream().limit(UNITS_NAMED).toList();
+        String more = units.size() > UNITS_NAMED ? " and " + (units.size() - UNITS_NAMED) + " more" : "";
+        return (units.size() == 1 ? "the unit " : "the units ") + String.join(", ", named) + more;
     }
 
     /**
