@@ -61,9 +61,11 @@ public final class DocumentSolver {
         List<UnobservableDirection.Unknown> unknowns = unknowns(model, u.unknownNames().size());
         List<UnobservableDirection> directions = u.directions().stream()
                 .map(d -> UnobservableDirection.of(d, unknowns)).toList();
+        List<String> largest = directions.stream().map(UnobservableDirection::largestComponent).toList();
+        String along = largest.size() == 1 ? "mostly along " + largest.get(0)
+                : String.join(", ", largest.stream().map(name -> "one mostly along " + name).toList());
         String message = "unobservable: the trace does not determine " + directions.size()
-                + (directions.size() == 1 ? " direction" : " directions") + " of the unknowns (mostly along "
-                + directions.stream().map(UnobservableDirection::largestComponent).toList()
+                + (directions.size() == 1 ? " direction" : " directions") + " of the unknowns (" + along
                 + "); add a prior, measure another output, or record longer";
         return new Outcome.NotObservable(message, directions);
     }

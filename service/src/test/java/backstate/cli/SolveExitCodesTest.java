@@ -76,7 +76,7 @@ class SolveExitCodesTest {
         assertEquals("", run.err());
         JsonNode answer = json.readTree(run.out());
         assertEquals(List.of("error", "unobservableDirections"), fieldNames(answer));
-        assertEquals("unobservable: the trace does not determine 1 direction of the unknowns (mostly along [hidden]);"
+        assertEquals("unobservable: the trace does not determine 1 direction of the unknowns (mostly along hidden);"
                 + " add a prior, measure another output, or record longer", answer.get("error").asText());
         // Closed form: with C = [1 0] and A diagonal, [C; CA] = [[1, 0], [-0.001, 0]] has the null
         // space span{(0, 1)}: the hidden tank. A direction's sign is arbitrary.
@@ -87,6 +87,25 @@ class SolveExitCodesTest {
         assertEquals(List.of("state", "state"), texts(components, "kind"));
         assertEquals(0.0, components.get(0).get("value").asDouble(), 1e-12);
         assertEquals(1.0, Math.abs(components.get(1).get("value").asDouble()), 1e-12);
+    }
+
+    /** Three tanks, one probe on the first, A diagonal: the other two are hidden (closed form, as above). */
+    @Test
+    void two_unobservable_directions_are_each_named_by_their_largest_unknown() throws IOException {
+        Path model = write("three.json", "{\"timeDomain\":\"continuous\",\"states\":[{\"name\":\"seen\",\"unit\":\"K\"},"
+                + "{\"name\":\"left\",\"unit\":\"K\"},{\"name\":\"right\",\"unit\":\"K\"}],"
+                + "\"outputs\":[{\"name\":\"probe\",\"unit\":\"K\",\"noiseSigma\":0.1}],"
+                + "\"a\":[[-0.001,0,0],[0,-0.002,0],[0,0,-0.003]],\"c\":[[1,0,0]]}");
+        Path trace = write("three-trace.json", "{\"time\":[0,60,120,180],\"outputs\":{\"probe\":[5,4.9,4.8,4.75]}}");
+
+        CommandRun run = CommandRun.of(SolveCommand::run, "--model", model.toString(), "--trace", trace.toString());
+
+        assertEquals(3, run.exit(), run.out() + run.err());
+        String error = json.readTree(run.out()).get("error").asText();
+        assertTrue(error.equals("unobservable: the trace does not determine 2 directions of the unknowns (one mostly along"
+                + " left, one mostly along right); add a prior, measure another output, or record longer")
+                || error.equals("unobservable: the trace does not determine 2 directions of the unknowns (one mostly along"
+                + " right, one mostly along left); add a prior, measure another output, or record longer"), error);
     }
 
     @Test
