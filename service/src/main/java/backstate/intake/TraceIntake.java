@@ -33,7 +33,7 @@ import java.util.Set;
  * the model version (it must exist and be active), its checked model, the parse by media type,
  * the checks the solver would make, the stored encoding, and the write, which stores the trace and
  * queues its job in one transaction (or replays the first post with the same Idempotency-Key).
- * Knows nothing of HTTP: the edge hands it a {@link TracePost} and answers with the submission.
+ * Knows nothing of HTTP: the edge hands it a {@link TracePost} and answers with its {@link Receipt}.
  */
 public final class TraceIntake {
     /**
