@@ -200,6 +200,8 @@ class KeyManagementTest {
                 detail(admin.postJson("/v1/keys", "{\"role\":\"reader\",\"label\":\"" + "x".repeat(101) + "\"}")));
         assertEquals("got \"NOT-AN-ID\", expected 16 lowercase hex digits (the part after bsk_)",
                 detail(admin.post("/v1/keys/NOT-AN-ID/revoke", null, new byte[0])));
+        assertEquals("got \"RCX-*\", expected none: only gateway keys have a unit pattern (this key's role is reader)",
+                detail(admin.postJson("/v1/keys", "{\"role\":\"reader\",\"unitPattern\":\"RCX-*\",\"label\":\"x\"}")));
     }
 
     /** The one field error's detail of a 400. */
