@@ -4,7 +4,6 @@ import backstate.auth.ApiKeys;
 import backstate.auth.Caller;
 import backstate.auth.Role;
 import backstate.auth.UnitPattern;
-import backstate.formats.FieldValues;
 import backstate.store.ApiKeyRow;
 import backstate.store.KeyRevocation;
 import com.fasterxml.jackson.annotation.JsonInclude;
@@ -102,9 +101,9 @@ final class KeyRoutes {
     private static UnitPattern scope(Role role, String glob) {
         if (role != Role.GATEWAY) {
             if (glob != null) {
-                throw ApiProblem.invalid("unitPattern", "got " + FieldValues.quoted(glob)
+                throw ApiProblem.invalid("unitPattern", "got " + Params.quoted(glob)
                         + ", expected none: only gateway keys have a unit pattern (this key's role is "
-                        + role.name().toLowerCase(java.util.Locale.ROOT) + ")");
+                        + role.wireName() + ")");
             }
             return null;
         }

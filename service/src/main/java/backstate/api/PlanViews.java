@@ -4,6 +4,7 @@ import backstate.estimation.SamplingPlanner;
 import backstate.formats.EstimateDocument;
 import backstate.text.Counted;
 import backstate.text.Figure;
+import backstate.text.Listed;
 import com.fasterxml.jackson.annotation.JsonInclude;
 import java.util.ArrayList;
 import java.util.LinkedHashMap;
@@ -108,8 +109,7 @@ final class PlanViews {
         if (words.size() == 1) {
             return "the direction " + words.get(0);
         }
-        return "the directions (" + String.join("), (", words.subList(0, words.size() - 1)) + ") and ("
-                + words.get(words.size() - 1) + ")";
+        return "the directions " + Listed.of(words.stream().map(w -> "(" + w + ")").toList(), "and");
     }
 
     /**

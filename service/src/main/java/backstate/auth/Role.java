@@ -1,9 +1,9 @@
 package backstate.auth;
 
+import backstate.text.Listed;
 import java.util.Arrays;
 import java.util.Locale;
 import java.util.Optional;
-import java.util.stream.Collectors;
 
 /** What a key may do; the access rule of each route ({@code backstate.api.Access}) names which roles pass. */
 public enum Role {
@@ -33,8 +33,6 @@ public enum Role {
 
     /** The wire names for a message: "admin, gateway, reader or pipeline". */
     public static String choices() {
-        String all = Arrays.stream(values()).map(Role::wireName).collect(Collectors.joining(", "));
-        int last = all.lastIndexOf(", ");
-        return all.substring(0, last) + " or " + all.substring(last + 2);
+        return Listed.of(Arrays.stream(values()).map(Role::wireName).toList(), "or");
     }
 }

@@ -113,6 +113,11 @@ public final class InitialStateEstimator {
         }
     }
 
+    /** True when {@code time} lies in the window [t_0, t_N−1] of these (validated, ascending) sample times. */
+    public static boolean insideWindow(double time, double[] times) {
+        return time >= times[0] && time <= times[times.length - 1];
+    }
+
     static Unobservable unobservable(SolveContext ctx, ConditioningAnalysis analysis) {
         return new Unobservable(analysis.nullDirections(), analysis.singularValues(), analysis.tolerance(),
                 ctx.unknownNames());
@@ -266,7 +271,7 @@ public final class InitialStateEstimator {
             throw new ModelException("mismatchLevel", "got " + options.mismatchLevel() + ", expected 0 < level < 1");
         }
         Double t = options.referenceTime();
-        if (t != null && !(t >= times[0] && t <= times[times.length - 1])) {
+        if (t != null && !insideWindow(t, times)) {
             throw new ModelException("referenceTime", "got " + t + ", expected a time inside the window ["
                     + times[0] + ", " + times[times.length - 1] + "]");
         }

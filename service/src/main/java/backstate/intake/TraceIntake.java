@@ -123,11 +123,9 @@ public final class TraceIntake {
         if (reference == null || times.length == 0) {
             return; // no samples: the solver's checks refuse the trace itself
         }
-        double first = times[0];
-        double last = times[times.length - 1];
-        if (!(reference >= first && reference <= last)) {
+        if (!InitialStateEstimator.insideWindow(reference, times)) {
             throw new ModelException(field, "got " + RecordingTime.format(reference) + ", expected a time inside the window "
-                    + RecordingTime.format(first) + " to " + RecordingTime.format(last));
+                    + RecordingTime.format(times[0]) + " to " + RecordingTime.format(times[times.length - 1]));
         }
     }
 
@@ -157,17 +155,17 @@ public final class TraceIntake {
     }
 
     private ParsedColumns read(TracePost post, InputStream body, ModelDocument model) throws IOException {
-        String type = post.contentTypeOrNull() == null ? "" : post.contentTypeOrNull();
-        if (MediaType.is(type, "application/json")) {
+        if (isJson(post)) {
             if (post.query().any()) {
                 throw new InputException("formulation", "with a JSON body, put options in its \"options\" object, not the query");
             }
             return reader.readJsonColumns(body, model);
         }
-        if (MediaType.is(type, "text/csv")) {
+        String type = post.contentTypeOrNull();
+        if (type != null && MediaType.is(type, "text/csv")) {
             return reader.readCsvColumns(body, model, csvOptions(post.query()), post.query().referenceTime());
         }
-        throw TraceRefused.unsupportedMediaType(type.isEmpty() ? "no Content-Type" : type);
+        throw TraceRefused.unsupportedMediaType(type == null || type.isEmpty() ? "no Content-Type" : type);
     }
 
     /** The CSV options of the query; its referenceTime (seconds or RFC 3339) is read with the trace's clock. */
