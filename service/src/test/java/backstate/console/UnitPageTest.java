@@ -181,6 +181,8 @@ class UnitPageTest {
         double windowEnd = java.time.Instant.parse(latest(unit).get("windowEnd").asText()).getEpochSecond();
         assertEquals(windowEnd, x.get(x.size() - 1), 0.0, "the plot ends at the window's last sample");
         browser.assertNoConsoleErrors();
+        browser.driver.executeScript("arguments[0].scrollIntoView()", browser.find("section[data-section='fit']"));
+        browser.screenshot("unit-thinned");
     }
 
     @Test
