@@ -53,7 +53,7 @@ final class EstimateRoutes {
                 : store.estimateHistory(unitId, new EstimateFilter(family, version, TimeFilter.NONE, null), null, 1)
                         .items().stream().findFirst();
         String under = (family == null ? "" : " of model " + family) + (version == null ? "" : " version " + version);
-        ctx.json(Views.Estimate.of(latest.orElseThrow(() -> ApiProblem.notFound("an estimate for unit " + unitId + under))));
+        answer(ctx, latest.orElseThrow(() -> ApiProblem.notFound("an estimate for unit " + unitId + under)));
     }
 
     void history(Context ctx) {
@@ -73,14 +73,25 @@ final class EstimateRoutes {
     }
 
     void get(Context ctx) {
-        ctx.json(Views.Estimate.of(find(ctx)));
+        answer(ctx, find(ctx));
+    }
+
+    /** The estimate in full, or 304 when the caller already holds it (see {@link EntityTags}). */
+    private static void answer(Context ctx, EstimateRow row) {
+        String tag = EntityTags.of("estimate", row.id());
+        if (!EntityTags.answeredUnchanged(ctx, tag)) {
+            Views.Estimate body = Views.Estimate.of(row);
+            EntityTags.tag(ctx, tag);
+            ctx.json(body);
+        }
     }
 
     /**
      * Rebuilt from the stored trace by solving it again ({@link StoredTraceSolver}); the series is
      * not stored. The engine keeps samples 0, s, 2s, … and the last, s = ⌈(N − 1) / (maxPoints − 1)⌉
      * ({@link backstate.estimation.KeptSamples}), so a series has at least two points. The load and solve run
-     * on the bounded {@link SeriesSolves} pool, not on the request thread.
+     * on the bounded {@link SeriesSolves} pool, not on the request thread. A caller that already
+     * holds this series (If-None-Match) gets 304 without a solve.
      */
     void series(Context ctx) throws Exception {
         EstimateRow row = find(ctx);
@@ -89,7 +100,12 @@ final class EstimateRoutes {
             throw ApiProblem.invalid("maxPoints", "got " + maxPoints + ", expected " + MIN_POINTS + " to " + MAX_POINTS
                     + ": a series holds the window's first and last sample");
         }
-        ctx.json(solves.run(() -> rebuild(row.traceId(), maxPoints)));
+        String tag = EntityTags.of("series", row.id(), Integer.toString(maxPoints));
+        if (!EntityTags.answeredUnchanged(ctx, tag)) {
+            Views.Series body = solves.run(() -> rebuild(row.traceId(), maxPoints));
+            EntityTags.tag(ctx, tag);
+            ctx.json(body);
+        }
     }
 
     private Views.Series rebuild(String traceId, int maxPoints) {

@@ -2,6 +2,7 @@ package backstate.api;
 
 import static org.junit.jupiter.api.Assertions.assertArrayEquals;
 import static org.junit.jupiter.api.Assertions.assertEquals;
+import static org.junit.jupiter.api.Assertions.assertNotEquals;
 import static org.junit.jupiter.api.Assertions.assertFalse;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
@@ -390,6 +391,45 @@ class OpenApiContractTest {
         assertEquals(List.of("wall", "air", "cargo_surface", "cargo_core", "offset:return_air", "offset:supply_air"),
                 names(continuous.get("unknowns")));
         assertEquals(6, continuous.get("covariance").size());
+    }
+
+    @Test
+    void a_client_that_holds_an_estimate_or_its_series_is_answered_304_by_its_entity_tag() throws Exception {
+        String unit = "T-99988"; // RCX-99988's trace under a unit ID no other test posts for
+        String first = awaitJob(api.post("/v1/units/" + unit + "/traces?model=" + DEMO + "&version=1", "text/csv",
+                demoTrace("RCX-99988")).json().get("jobId").asText()).get("estimateId").asText();
+        String byId = "/v1/estimates/" + first;
+        TestServer.Reply full = api.get(byId);
+        String tag = full.headers().firstValue("ETag").orElseThrow();
+        assertEquals("private, no-cache", full.headers().firstValue("Cache-Control").orElseThrow());
+
+        TestServer.Reply held = api.get(byId, "If-None-Match", tag);
+        assertEquals(304, held.status(), held.body());
+        assertEquals("", held.body());
+        assertEquals(tag, held.headers().firstValue("ETag").orElseThrow());
+        assertEquals(304, api.get(byId, "If-None-Match", "W/" + tag).status(), "weak comparison (RFC 9110 §13.1.2)");
+        assertEquals(200, api.get(byId, "If-None-Match", "\"an-older-answer\"").status());
+        // The newest estimate is the same answer under another address, so the same tag, until a newer one comes.
+        String latest = "/v1/units/" + unit + "/estimates/latest";
+        assertEquals(304, api.get(latest, "If-None-Match", tag).status());
+        String second = awaitJob(api.post("/v1/units/" + unit + "/traces?model=" + DEMO + "&version=2", "text/csv",
+                demoTrace("RCX-99988")).json().get("jobId").asText()).get("estimateId").asText();
+        TestServer.Reply newer = api.get(latest, "If-None-Match", tag);
+        assertEquals(200, newer.status(), newer.body());
+        assertEquals(second, newer.json().get("id").asText());
+        assertNotEquals(tag, newer.headers().firstValue("ETag").orElseThrow());
+
+        // A series' tag holds its maxPoints: another thinning is another answer.
+        TestServer.Reply series = api.get(byId + "/series?maxPoints=50");
+        assertEquals(200, series.status(), series.body());
+        String seriesTag = series.headers().firstValue("ETag").orElseThrow();
+        assertEquals(304, api.get(byId + "/series?maxPoints=50", "If-None-Match", seriesTag).status());
+        assertEquals(200, api.get(byId + "/series?maxPoints=51", "If-None-Match", seriesTag).status());
+        assertEquals(200, api.get(byId + "/series?maxPoints=50", "If-None-Match", tag).status(), "not the estimate's tag");
+        // An error answer carries no tag.
+        TestServer.Reply missing = api.get("/v1/estimates/no-such-estimate", "If-None-Match", "*");
+        assertProblem(missing, 404, "not-found");
+        assertTrue(missing.headers().firstValue("ETag").isEmpty());
     }
 
     @Test

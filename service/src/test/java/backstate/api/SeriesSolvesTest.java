@@ -79,6 +79,26 @@ class SeriesSolvesTest {
         }
     }
 
+    @Test
+    void a_caller_holding_the_series_is_answered_304_without_a_solve_while_every_slot_is_taken(@TempDir Path dir)
+            throws Exception {
+        try (TestServer server = new TestServer(dir, Map.of("BACKSTATE_SERIES_THREADS", "1", "BACKSTATE_SERIES_QUEUE", "0"))) {
+            server.publishDemoModels();
+            String path = "/v1/estimates/" + solvedEstimate(server) + "/series?maxPoints=10";
+            String tag = server.get(path).headers().firstValue("ETag").orElseThrow();
+            CountDownLatch started = new CountDownLatch(1);
+            Future<String> holding = held(server.app().api().series(), started);
+            assertTrue(started.await(30, TimeUnit.SECONDS));
+
+            TestServer.Reply held = server.send(java.net.http.HttpRequest.newBuilder(
+                    java.net.URI.create(server.base() + path)).header("If-None-Match", tag).GET());
+            assertEquals(304, held.status(), "a solve would have been refused with 503: " + held.body());
+            assertEquals(503, server.get(path).status(), "the slot is still taken");
+            release.countDown();
+            assertEquals("done", holding.get(30, TimeUnit.SECONDS));
+        }
+    }
+
     private static String solvedEstimate(TestServer server) throws Exception {
         JsonNode fleet = server.mapper.readTree(TestServer.TEST_DATA.resolve("demo/fleet.json").toFile());
         JsonNode unit = fleet.get("units").get(0);
