@@ -10,7 +10,9 @@ import java.util.Collections;
  * same way from a stored trace and model version), and the If-None-Match check that lets a
  * dashboard polling them skip the body: a match answers 304 with no body (RFC 9110 §8.8.3,
  * §13.1.2, §15.4.5). A tag holds what the answer is of and this build's version, so a build that
- * writes answers differently never matches a tag an older build gave.
+ * writes answers differently never matches a tag an older build gave. Tags are weak: the server
+ * gzips an answer for a client that accepts it, and the gzipped and plain bytes share one tag
+ * (a strong tag would promise the same bytes; §8.8.1), hence also {@code Vary: Accept-Encoding}.
  *
  * <p>{@code Cache-Control: private, no-cache}: a browser may keep the answer, must ask again before
  * each use (the newest estimate of a unit changes), and a shared cache keeps nothing.
@@ -22,9 +24,9 @@ final class EntityTags {
     private EntityTags() {
     }
 
-    /** The strong tag {@code "part;part;…;build"}; characters a tag cannot hold become '_'. */
+    /** The weak tag {@code W/"part;part;…;build"}; characters a tag cannot hold become '_'. */
     static String of(String... parts) {
-        StringBuilder out = new StringBuilder("\"");
+        StringBuilder out = new StringBuilder("W/\"");
         for (String part : parts) {
             out.append(opaque(part)).append(';');
         }
@@ -45,10 +47,11 @@ final class EntityTags {
         return true;
     }
 
-    /** Sets ETag and Cache-Control on a full answer, once its body is made (an error answer carries no tag). */
+    /** Sets ETag, Cache-Control and Vary on a full answer, once its body is made (an error answer carries no tag). */
     static void tag(Context ctx, String tag) {
         ctx.header("ETag", tag);
         ctx.header("Cache-Control", CACHE_CONTROL);
+        ctx.header("Vary", "Accept-Encoding");
     }
 
     /**

@@ -402,12 +402,13 @@ class OpenApiContractTest {
         TestServer.Reply full = api.get(byId);
         String tag = full.headers().firstValue("ETag").orElseThrow();
         assertEquals("private, no-cache", full.headers().firstValue("Cache-Control").orElseThrow());
+        assertEquals("Accept-Encoding", full.headers().firstValue("Vary").orElseThrow(), "gzipped or not, one tag");
 
         TestServer.Reply held = api.get(byId, "If-None-Match", tag);
         assertEquals(304, held.status(), held.body());
         assertEquals("", held.body());
         assertEquals(tag, held.headers().firstValue("ETag").orElseThrow());
-        assertEquals(304, api.get(byId, "If-None-Match", "W/" + tag).status(), "weak comparison (RFC 9110 §13.1.2)");
+        assertEquals(304, api.get(byId, "If-None-Match", tag.substring(2)).status(), "weak comparison (RFC 9110 §13.1.2)");
         assertEquals(200, api.get(byId, "If-None-Match", "\"an-older-answer\"").status());
         // The newest estimate is the same answer under another address, so the same tag, until a newer one comes.
         String latest = "/v1/units/" + unit + "/estimates/latest";
