@@ -56,9 +56,21 @@ public final class ApiProblem extends RuntimeException {
     }
 
     public static ApiProblem unsupportedMediaType(String got, String expected) {
+        return unsupported("Content-Type", got, expected);
+    }
+
+    /**
+     * A content coding the service cannot undo (RFC 9110 §15.5.16: 415, the codings it takes in
+     * Accept-Encoding, which the caller sets).
+     */
+    public static ApiProblem unsupportedContentEncoding(String got, String expected) {
+        return unsupported("Content-Encoding", got, expected);
+    }
+
+    private static ApiProblem unsupported(String header, String got, String expected) {
         String detail = "got " + got + ", expected " + expected;
-        return new ApiProblem(415, "unsupported-media-type", "Unsupported media type", detail,
-                List.of(new Problem.FieldError("Content-Type", detail)));
+        return new ApiProblem(415, "unsupported-media-type", "Unsupported media type", header + ": " + detail,
+                List.of(new Problem.FieldError(header, detail)));
     }
 
     /** The body arrived too slowly or for too long (408); the connection is closed after the answer. */

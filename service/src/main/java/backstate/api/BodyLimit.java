@@ -52,7 +52,8 @@ final class BodyLimit {
                 throw ApiProblem.invalid("Content-Encoding", "the body is not valid gzip");
             }
         }
-        throw ApiProblem.invalid("Content-Encoding", "got " + encoding + ", expected gzip or identity");
+        ctx.header("Accept-Encoding", "gzip, identity");
+        throw ApiProblem.unsupportedContentEncoding(encoding, "gzip or identity");
     }
 
     /**

@@ -720,7 +720,7 @@ class OpenApiContractTest {
     }
 
     @Test
-    void headers_outside_their_documented_values_are_400_problems() throws IOException {
+    void headers_outside_their_documented_values_are_refused_with_a_problem() throws IOException {
         String target = "/v1/units/RCX-24000/traces?model=" + DEMO + "&version=1";
         TestServer.Reply badKey = api.postOutsideDocument(target, "text/csv", demoTrace("RCX-24000"),
                 "Idempotency-Key", "has spaces");
@@ -728,8 +728,11 @@ class OpenApiContractTest {
         assertEquals("Idempotency-Key", badKey.json().get("errors").get(0).get("field").asText());
         TestServer.Reply badEncoding = api.postOutsideDocument(target, "text/csv", demoTrace("RCX-24000"),
                 "Content-Encoding", "br");
-        assertProblem(badEncoding, 400, "invalid-input");
+        assertProblem(badEncoding, 415, "unsupported-media-type");
         assertEquals("Content-Encoding", badEncoding.json().get("errors").get(0).get("field").asText());
+        assertEquals("Content-Encoding: got br, expected gzip or identity", badEncoding.json().get("detail").asText());
+        // RFC 9110 §15.5.16: a 415 for a content coding says which codings would have been taken.
+        assertEquals("gzip, identity", badEncoding.headers().firstValue("Accept-Encoding").orElseThrow());
     }
 
     @Test
