@@ -178,6 +178,9 @@ export function logLinePlot({ title, x, lines, xLabel, yLabel, rule, xValues = v
 
 // ---- unit page: time plots in UTC with per-line styles, and an interval chart (own SVG) ----
 
+/** Pixels right of a time plot, so a date under a tick at the right edge is not cut. */
+const RIGHT_ROOM_FOR_A_DATE = 40;
+
 /** Recording times are UTC: time axes show UTC, whatever the browser's zone. */
 const recordingTimeZone = seconds => uPlot.tzDate(new Date(seconds * 1e3), 'Etc/UTC');
 
@@ -248,6 +251,8 @@ export function timePlot({ title, note, x, lines, yLabel, height = 220, padX = f
   holder.plot = () => {
     const plot = new uPlot({
       width: Math.max(280, holder.clientWidth - 4), height, series, bands, tzDate: recordingTimeZone,
+      // room on the right for half of a date label ("2026-11-30") centred on the last tick
+      padding: [null, RIGHT_ROOM_FOR_A_DATE, null, null],
       scales: { x: { time: true } },
       axes: [{ label: 'recording time (UTC)', labelSize: 22, values: recordingTimeTicks, size: 48 }, { label: yLabel, size: 56, labelSize: 22 }],
       legend: { show: false }, cursor: { drag: { x: true, y: false } },
