@@ -75,11 +75,12 @@ public final class InitialStateEstimator {
         Trace.requireSamples(times.length);
         requireCompatible(model, times, outputs, inputs, options);
         SampleSteps steps = new SampleSteps(model, times[0]);
+        requireReferenceOnGrid(steps, options);
         long reference = smoothedReference(model, steps, options);
         StepScan scan = StepScan.of(model, steps, times, reference);
         if (reference >= 0 && !scan.foundUnits()) {
-            throw new ModelException("referenceTime", "got " + options.referenceTime() + ", expected the time of a"
-                    + " sample: with process noise the smoothed state is computed at sample times");
+            throw ModelException.ofTime("referenceTime", options.referenceTime(), "the time of a sample: with"
+                    + " process noise the smoothed state is computed at sample times");
         }
         return scan.even() ? scan.step() : SolveContext.UNEVEN;
     }
@@ -96,6 +97,13 @@ public final class InitialStateEstimator {
             throw new ModelException("formulation", "got process_noise, expected a model that declares processNoise");
         }
         return options.referenceTime() == null ? -1 : steps.unitsFromStart(options.referenceTime(), "referenceTime");
+    }
+
+    /** A reference time a discrete model's state exists at: on its grid (checked here, before any work, not at solve). */
+    private static void requireReferenceOnGrid(SampleSteps steps, EstimationOptions options) {
+        if (options.referenceTime() != null) {
+            steps.unitsFromStart(options.referenceTime(), "referenceTime");
+        }
     }
 
     /**
@@ -272,8 +280,8 @@ public final class InitialStateEstimator {
         }
         Double t = options.referenceTime();
         if (t != null && !insideWindow(t, times)) {
-            throw new ModelException("referenceTime", "got " + t + ", expected a time inside the window ["
-                    + times[0] + ", " + times[times.length - 1] + "]");
+            throw ModelException.ofTime("referenceTime", t, "a time inside the window, "
+                    + ModelException.seconds(times[0]) + " to " + ModelException.seconds(times[times.length - 1]));
         }
         if (options.prior() != null) {
             PriorEquations.validate(options.prior(), model.states());

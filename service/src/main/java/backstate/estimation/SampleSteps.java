@@ -1,5 +1,7 @@
 package backstate.estimation;
 
+import backstate.text.Figure;
+
 /**
  * Converts sample times into integer steps between consecutive samples, so that transition
  * matrices can be cached by step length.
@@ -52,7 +54,7 @@ final class SampleSteps {
     }
 
     private ModelException offGridError(String field, double t) {
-        return new ModelException(field, "got " + t + ", expected t0 + a whole number of sample periods ("
-                + unitSeconds + " s)");
+        return ModelException.ofTime(field, t, "a whole number of sample periods (" + Figure.exact(unitSeconds)
+                + " s) after the first sample; it is " + Figure.of((t - t0) / unitSeconds) + " periods after it");
     }
 }

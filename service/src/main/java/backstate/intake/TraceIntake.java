@@ -107,8 +107,8 @@ public final class TraceIntake {
             InitialStateEstimator.validate(engine, times, parsed.outputCount(), parsed.inputCount(),
                     parsed.options().toEstimationOptions(engine.states(), false));
         } catch (ModelException e) {
-            throw OPTION_FIELDS.contains(e.field().split("[.\\[]", 2)[0])
-                    ? new ModelException(optionsAt + e.field(), e.problem()) : e;
+            ModelException worded = e.withTimeWords(RecordingTime::format);
+            throw OPTION_FIELDS.contains(e.field().split("[.\\[]", 2)[0]) ? worded.renamed(optionsAt + e.field()) : worded;
         }
         return new NewTrace(post.unitId(), version.family(), version.version(), times.length, times[0],
                 times[times.length - 1], codec.encode(parsed));

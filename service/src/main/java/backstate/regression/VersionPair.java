@@ -57,7 +57,9 @@ public final class VersionPair {
                         .overriddenBy(new TraceOptions(PROCESS_NOISE, null, null, null)));
             }
             return Fit.of(DocumentSolver.solve(model, trace, false, limits), model);
-        } catch (InputException | ModelException e) {
+        } catch (ModelException e) {
+            return Fit.notSolved(Fit.Status.INVALID, e.withTimeWords(RecordingTime::format).getMessage());
+        } catch (InputException e) {
             return Fit.notSolved(Fit.Status.INVALID, e.getMessage());
         }
     }

@@ -6,6 +6,7 @@ import backstate.formats.DocumentSolver;
 import backstate.formats.EstimateDocument;
 import backstate.formats.FailureDetails;
 import backstate.formats.InputException;
+import backstate.formats.RecordingTime;
 import backstate.jobs.ClaimedJob;
 import backstate.jobs.JobHandler;
 import backstate.jobs.JobOutcome;
@@ -52,9 +53,11 @@ public final class EstimateJobHandler implements JobHandler {
         DocumentSolver.Outcome outcome;
         try {
             outcome = solveTimer.recordCallable(() -> solver.solve(loaded, false));
-        } catch (ModelException | InputException e) {
+        } catch (ModelException e) {
             // Deterministic: the same trace fails the same way on every attempt, so do not retry.
-            return new JobOutcome.Failed("the trace does not fit its model version: " + e.getMessage());
+            return doesNotFit(e.withTimeWords(RecordingTime::format).getMessage());
+        } catch (InputException e) {
+            return doesNotFit(e.getMessage());
         }
         if (outcome instanceof DocumentSolver.Outcome.NotObservable u) {
             return new JobOutcome.Failed(u.message(), mapper.writeValueAsString(new FailureDetails(u.directions())));
@@ -70,5 +73,9 @@ public final class EstimateJobHandler implements JobHandler {
         return NewEstimate.of(ref.id(), ref.unitId(), ref.family(), ref.version(), trace.windowStart(),
                 trace.windowEnd(), chi2PerDof, EstimateDocument.flagNames(e), solved.document(),
                 mapper.writeValueAsString(solved.document()));
+    }
+
+    private static JobOutcome doesNotFit(String reason) {
+        return new JobOutcome.Failed("the trace does not fit its model version: " + reason);
     }
 }

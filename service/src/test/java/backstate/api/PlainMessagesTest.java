@@ -10,6 +10,7 @@ import java.nio.charset.StandardCharsets;
 import java.nio.file.Files;
 import java.nio.file.Path;
 import java.util.List;
+import java.util.Map;
 import org.junit.jupiter.api.AfterAll;
 import org.junit.jupiter.api.BeforeAll;
 import org.junit.jupiter.api.Test;
@@ -200,6 +201,34 @@ class PlainMessagesTest {
         assertEquals("got 1970-01-01T00:02:00Z, expected a time inside the window 1970-01-01T00:00:00Z to"
                 + " 1970-01-01T00:01:00Z", inconsistency(TRACES, "application/json",
                 traceWithOptions("{\"referenceTime\": 120}"), "options.referenceTime"));
+    }
+
+    /**
+     * A discrete model's state exists on its grid only (t0 + k·period): a sample or a reference time
+     * off it is refused at the post (the reference time was once taken with 202 and failed its job),
+     * in recording time and in periods from the first sample (150 s / 60 s = 2.5, 30 s / 60 s = 0.5).
+     */
+    @Test
+    void a_time_off_a_discrete_model_s_grid_is_refused_at_the_post_in_recording_time() {
+        if (server.get("/v1/models/toy-steps").status() == 404) {
+            assertEquals(201, server.postJson("/v1/models", Map.of("name", "toy-steps", "description", "one-minute steps")).status());
+            TestServer.Reply published = server.post("/v1/models/toy-steps/versions", "application/json", ("{\"description\":"
+                    + " \"two states, one output\", \"timeDomain\": \"discrete\", \"samplePeriod\": 60, \"states\":"
+                    + " [{\"name\": \"a\", \"unit\": \"degC\"}, {\"name\": \"b\", \"unit\": \"degC\"}], \"outputs\":"
+                    + " [{\"name\": \"y\", \"unit\": \"degC\", \"noiseSigma\": 0.1}], \"inputs\": [], \"a\": [[0.9, 0.1],"
+                    + " [0, 0.8]], \"b\": [[], []], \"c\": [[1, 0]], \"d\": [[]]}").getBytes(StandardCharsets.UTF_8));
+            assertEquals(201, published.status(), published.body());
+        }
+        String traces = "/v1/units/RCX-00001/traces?model=toy-steps&version=1";
+        String offGrid = "time,y\n2026-12-01T00:00:00Z,1\n2026-12-01T00:01:00Z,0.9\n2026-12-01T00:02:30Z,0.8\n";
+        assertEquals("got 2026-12-01T00:02:30Z, expected a whole number of sample periods (60 s) after the first sample;"
+                + " it is 2.5 periods after it", inconsistency(traces, "text/csv", offGrid, "time[2]"));
+        String onGrid = "time,y\n2026-12-01T00:00:00Z,1\n2026-12-01T00:01:00Z,0.9\n2026-12-01T00:02:00Z,0.8\n";
+        assertEquals("got 2026-12-01T00:00:30Z, expected a whole number of sample periods (60 s) after the first sample;"
+                + " it is 0.5 periods after it", inconsistency(traces + "&referenceTime=2026-12-01T00:00:30Z", "text/csv",
+                onGrid, "referenceTime"));
+        assertEquals(202, server.post(traces + "&referenceTime=2026-12-01T00:01:00Z", "text/csv",
+                onGrid.getBytes(StandardCharsets.UTF_8)).status(), "on the grid");
     }
 
     @Test

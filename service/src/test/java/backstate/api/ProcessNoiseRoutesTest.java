@@ -64,6 +64,18 @@ class ProcessNoiseRoutesTest {
                 1e-12);
     }
 
+    @Test
+    void with_process_noise_a_reference_time_between_samples_is_refused_at_the_post_in_recording_time() throws Exception {
+        // The door trace's samples are a minute apart from 43200 s (1970-01-01T12:00:00Z); 30 s after it is between two.
+        TestServer.Reply refused = server.post("/v1/units/RCX-61530/traces?model=reefer-noise&version=1"
+                + "&formulation=process_noise&referenceTime=43230", "text/csv", Files.readAllBytes(DOOR.resolve("RCX-61530.csv")));
+        assertEquals(422, refused.status(), refused.body());
+        JsonNode error = refused.json().get("errors").get(0);
+        assertEquals("referenceTime", error.get("field").asText());
+        assertEquals("got 1970-01-01T12:00:30Z, expected the time of a sample: with process noise the smoothed state is"
+                + " computed at sample times", error.get("detail").asText());
+    }
+
     /**
      * The question a team asks with a regression run: does process noise explain the unit better?
      * Family reefer-door holds the deterministic demo model as version 1 and the same model with
