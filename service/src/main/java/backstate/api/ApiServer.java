@@ -114,6 +114,9 @@ public final class ApiServer implements AutoCloseable {
                     .minimumExpectedValue(LATENCY_RANGE_FROM)
                     .maximumExpectedValue(LATENCY_RANGE_TO)
                     .register(w.registry()).record((long) (ms * 1_000_000L), TimeUnit.NANOSECONDS));
+            // Answers over Javalin's size threshold are gzipped when the client accepts it, so every
+            // answer may differ by Accept-Encoding; caches must know (RFC 9110 §12.5.5).
+            config.routes.before(ctx -> ctx.header("Vary", "Accept-Encoding"));
             problems.register(config.routes);
             for (Route r : routes) {
                 config.routes.addEndpoint(endpoint(r, guard, reads));

@@ -12,7 +12,8 @@ import java.util.Collections;
  * §13.1.2, §15.4.5). A tag holds what the answer is of and this build's version, so a build that
  * writes answers differently never matches a tag an older build gave. Tags are weak: the server
  * gzips an answer for a client that accepts it, and the gzipped and plain bytes share one tag
- * (a strong tag would promise the same bytes; §8.8.1), hence also {@code Vary: Accept-Encoding}.
+ * (a strong tag would promise the same bytes; §8.8.1); every answer says {@code Vary: Accept-Encoding}
+ * ({@link ApiServer}).
  *
  * <p>{@code Cache-Control: private, no-cache}: a browser may keep the answer, must ask again before
  * each use (the newest estimate of a unit changes), and a shared cache keeps nothing.
@@ -47,11 +48,10 @@ final class EntityTags {
         return true;
     }
 
-    /** Sets ETag, Cache-Control and Vary on a full answer, once its body is made (an error answer carries no tag). */
+    /** Sets ETag and Cache-Control on a full answer, once its body is made (an error answer carries no tag). */
     static void tag(Context ctx, String tag) {
         ctx.header("ETag", tag);
         ctx.header("Cache-Control", CACHE_CONTROL);
-        ctx.header("Vary", "Accept-Encoding");
     }
 
     /**

@@ -434,6 +434,19 @@ class OpenApiContractTest {
     }
 
     @Test
+    void every_answer_says_it_varies_by_accept_encoding_since_any_may_be_gzipped() {
+        // RFC 9110 §12.5.5: an answer chosen by Accept-Encoding names it in Vary, so no cache hands gzip to a client without it.
+        for (String path : List.of("/v1/models", "/openapi.yaml", "/console/app.js", "/v1/estimates/no-such-estimate")) {
+            TestServer.Reply reply = server.send(java.net.http.HttpRequest.newBuilder(java.net.URI.create(server.base() + path))
+                    .header("Accept-Encoding", "gzip").GET());
+            assertEquals("Accept-Encoding", reply.headers().firstValue("Vary").orElse("none"), path);
+        }
+        TestServer.Reply spec = server.send(java.net.http.HttpRequest.newBuilder(java.net.URI.create(server.base() + "/openapi.yaml"))
+                .header("Accept-Encoding", "gzip").GET());
+        assertEquals("gzip", spec.headers().firstValue("Content-Encoding").orElse("none"), "the reason: a large answer is gzipped");
+    }
+
+    @Test
     void only_a_queued_job_can_be_cancelled() throws Exception {
         String jobId = api.post("/v1/units/RCX-20123/traces?model=" + DEMO + "&version=1", "text/csv",
                 demoTrace("RCX-20123")).json().get("jobId").asText();
