@@ -1,5 +1,6 @@
 package backstate.cli;
 
+import backstate.estimation.ModelException;
 import backstate.formats.DocumentSolver;
 import backstate.formats.EstimateCaution;
 import backstate.formats.EstimateDocument;
@@ -10,6 +11,7 @@ import backstate.formats.Limits;
 import backstate.formats.MatrixEntryException;
 import backstate.formats.ModelDocument;
 import backstate.formats.ParsedTrace;
+import backstate.formats.RecordingTime;
 import backstate.formats.TraceOptions;
 import backstate.formats.TraceReader;
 import com.fasterxml.jackson.annotation.JsonUnwrapped;
@@ -70,6 +72,9 @@ public final class SolveCommand {
             DocumentSolver.Outcome.NotObservable u = (DocumentSolver.Outcome.NotObservable) outcome;
             out.println(pretty.writeValueAsString(Map.of("error", u.message(), "unobservableDirections", u.directions())));
             return UNOBSERVABLE;
+        } catch (ModelException e) {
+            err.println("backstate solve: " + e.withTimeWords(RecordingTime::format).getMessage());
+            return BAD_INPUT;
         } catch (InputException | IllegalArgumentException | IOException e) {
             err.println("backstate solve: " + e.getMessage());
             return BAD_INPUT;

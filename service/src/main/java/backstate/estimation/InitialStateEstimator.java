@@ -122,7 +122,7 @@ public final class InitialStateEstimator {
     }
 
     /** True when {@code time} lies in the window [t_0, t_N−1] of these (validated, ascending) sample times. */
-    public static boolean insideWindow(double time, double[] times) {
+    private static boolean insideWindow(double time, double[] times) {
         return time >= times[0] && time <= times[times.length - 1];
     }
 
@@ -280,8 +280,8 @@ public final class InitialStateEstimator {
         }
         Double t = options.referenceTime();
         if (t != null && !insideWindow(t, times)) {
-            throw ModelException.ofTime("referenceTime", t, "a time inside the window, "
-                    + ModelException.seconds(times[0]) + " to " + ModelException.seconds(times[times.length - 1]));
+            throw ModelException.ofTime("referenceTime", t, "a time inside the window %s to %s", times[0],
+                    times[times.length - 1]);
         }
         if (options.prior() != null) {
             PriorEquations.validate(options.prior(), model.states());

@@ -5,43 +5,58 @@ import java.util.function.DoubleFunction;
 
 /**
  * Rejects a malformed model or trace before any work starts, naming the offending field. A refusal
- * of one time ({@link #ofTime}) keeps the time apart from its words, so a caller that knows what
- * the seconds count from can word it ({@link #withTimeWords}); the engine itself says seconds.
+ * of a time ({@link #ofTime}) keeps the times it names apart from their words, so a caller that
+ * knows what the seconds count from can word them ({@link #withTimeWords}, e.g. RFC 3339); the
+ * engine itself says seconds.
  */
 public final class ModelException extends IllegalArgumentException {
     private final String field;
     private final String problem;
-    /** The refused time in seconds, NaN when the refusal is not about one time. */
-    private final double time;
-    /** What follows the time in the problem: ", expected …". */
-    private final String afterTime;
+    /** The refused time, then the times the expectation names, in seconds; null when the refusal is not about a time. */
+    private final double[] times;
+    /** "got %s, expected …", one %s per time. */
+    private final String template;
 
     public ModelException(String field, String problem) {
-        this(field, problem, Double.NaN, null);
+        this(field, problem, null, null);
     }
 
-    private ModelException(String field, String problem, double time, String afterTime) {
+    private ModelException(String field, String problem, double[] times, String template) {
         super(field + ": " + problem);
         this.field = field;
         this.problem = problem;
-        this.time = time;
-        this.afterTime = afterTime;
+        this.times = times;
+        this.template = template;
     }
 
-    /** "got &lt;time&gt;, expected &lt;expected&gt;", the time as plain seconds until {@link #withTimeWords worded}. */
-    public static ModelException ofTime(String field, double time, String expected) {
-        String after = ", expected " + expected;
-        return new ModelException(field, "got " + seconds(time) + after, time, after);
+    /**
+     * "got &lt;time&gt;, expected &lt;expected&gt;", where each %s in {@code expected} stands for one of
+     * {@code named} (e.g. the window's ends); every time in plain seconds until {@link #withTimeWords worded}.
+     */
+    public static ModelException ofTime(String field, double time, String expected, double... named) {
+        double[] all = new double[named.length + 1];
+        all[0] = time;
+        System.arraycopy(named, 0, all, 1, named.length);
+        String template = "got %s, expected " + expected;
+        return new ModelException(field, worded(template, all, ModelException::seconds), all, template);
     }
 
-    /** This refusal with its time in {@code words} (e.g. RFC 3339); itself when it is not about one time. */
+    /** This refusal with its times in {@code words} (e.g. RFC 3339); itself when it is not about a time. */
     public ModelException withTimeWords(DoubleFunction<String> words) {
-        return Double.isNaN(time) ? this : new ModelException(field, "got " + words.apply(time) + afterTime, time, afterTime);
+        return times == null ? this : new ModelException(field, worded(template, times, words), times, template);
     }
 
-    /** This refusal under another field name, its time kept. */
+    /** This refusal under another field name, its times kept. */
     public ModelException renamed(String newField) {
-        return new ModelException(newField, problem, time, afterTime);
+        return new ModelException(newField, problem, times, template);
+    }
+
+    private static String worded(String template, double[] times, DoubleFunction<String> words) {
+        Object[] texts = new Object[times.length];
+        for (int i = 0; i < times.length; i++) {
+            texts[i] = words.apply(times[i]);
+        }
+        return String.format(java.util.Locale.ROOT, template, texts);
     }
 
     /** The offending field as a path, e.g. {@code a[2][1]} or {@code outputs[17][0]}. */

@@ -102,7 +102,6 @@ public final class TraceIntake {
         StateSpaceModel engine = model.engine();
         double[] times = parsed.timesView();
         String optionsAt = isJson(post) ? "options." : "";
-        requireReferenceInWindow(parsed.options().referenceTime(), times, optionsAt + "referenceTime");
         try {
             InitialStateEstimator.validate(engine, times, parsed.outputCount(), parsed.inputCount(),
                     parsed.options().toEstimationOptions(engine.states(), false));
@@ -112,21 +111,6 @@ public final class TraceIntake {
         }
         return new NewTrace(post.unitId(), version.family(), version.version(), times.length, times[0],
                 times[times.length - 1], codec.encode(parsed));
-    }
-
-    /**
-     * The reference time inside the window, refused in recording time (RFC 3339) rather than the
-     * solver's seconds: "got 2026-12-01T06:00:10Z, expected a time inside the window 2026-12-01T18:10:00Z
-     * to 2026-12-02T00:10:00Z".
-     */
-    private static void requireReferenceInWindow(Double reference, double[] times, String field) {
-        if (reference == null || times.length == 0) {
-            return; // no samples: the solver's checks refuse the trace itself
-        }
-        if (!InitialStateEstimator.insideWindow(reference, times)) {
-            throw new ModelException(field, "got " + RecordingTime.format(reference) + ", expected a time inside the window "
-                    + RecordingTime.format(times[0]) + " to " + RecordingTime.format(times[times.length - 1]));
-        }
     }
 
     private static boolean isJson(TracePost post) {

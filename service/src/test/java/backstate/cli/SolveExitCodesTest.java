@@ -144,6 +144,10 @@ class SolveExitCodesTest {
         assertRefused("backstate solve: --trace " + absent + ": no such file", "--model", model, "--trace", absent.toString());
         assertRefused("backstate solve: --model " + dir + ": got a folder, expected a file", "--model", dir.toString(),
                 "--trace", trace);
+        // A time is refused in recording time (RFC 3339), as the service does: the demo trace runs 43200 s to 64800 s.
+        assertRefused("backstate solve: referenceTime: got 1970-01-01T19:26:40Z, expected a time inside the window"
+                + " 1970-01-01T12:00:00Z to 1970-01-01T18:00:00Z", "--model", model, "--trace",
+                TestServer.TEST_DATA.resolve("demo/traces/RCX-85159.csv").toString(), "--reference-time", "70000");
         // A formulation the solver does not have is named by its flag, as the user typed it.
         assertRefused("backstate solve: --formulation: got \"magic\", expected \"sampled\", \"continuous\" or \"process_noise\"",
                 "--model", model, "--trace", trace, "--formulation", "magic");

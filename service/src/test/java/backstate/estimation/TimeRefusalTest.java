@@ -26,6 +26,10 @@ class TimeRefusalTest {
         ModelException plain = new ModelException("a", "got 2 rows");
         assertSame(plain, plain.withTimeWords(t -> "never"));
         assertEquals("got 60 s, expected x", ModelException.ofTime("f", 60.0, "x").problem());
+        ModelException window = ModelException.ofTime("referenceTime", 70.0, "a time inside the window %s to %s", 0.0, 60.5);
+        assertEquals("got 70 s, expected a time inside the window 0 s to 60.5 s", window.problem());
+        assertEquals("got <70>, expected a time inside the window <0> to <60>",
+                window.withTimeWords(t -> "<" + (long) t + ">").problem(), "every time it names is worded");
         assertEquals("got 0.000001 s, expected x", ModelException.ofTime("f", 1e-6, "x").problem());
     }
 
