@@ -73,7 +73,7 @@ public final class SolveCommand {
             out.println(pretty.writeValueAsString(Map.of("error", u.message(), "unobservableDirections", u.directions())));
             return UNOBSERVABLE;
         } catch (ModelException e) {
-            err.println("backstate solve: " + e.withTimeWords(RecordingTime::format).getMessage());
+            err.println("backstate solve: " + e.withTimeWords(RecordingTime::words).getMessage());
             return BAD_INPUT;
         } catch (InputException | IllegalArgumentException | IOException e) {
             err.println("backstate solve: " + e.getMessage());

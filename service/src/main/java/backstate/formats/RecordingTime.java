@@ -1,5 +1,7 @@
 package backstate.formats;
 
+import backstate.text.Figure;
+
 import java.time.Instant;
 import java.time.OffsetDateTime;
 import java.time.chrono.IsoChronology;
@@ -98,6 +100,14 @@ public final class RecordingTime {
     /** True when RFC 3339 can write the time (years 0000 to 9999). */
     static boolean writable(double seconds) {
         return seconds >= EARLIEST && seconds < END;
+    }
+
+    /**
+     * A time for a sentence: RFC 3339 ({@link #format}) where it can be written, else seconds since
+     * 1970 ("1e300 s since 1970-01-01T00:00:00Z"), never a saturated date.
+     */
+    public static String words(double seconds) {
+        return writable(seconds) ? format(seconds) : Figure.of(seconds) + " s since 1970-01-01T00:00:00Z";
     }
 
     /**

@@ -106,7 +106,7 @@ public final class TraceIntake {
             InitialStateEstimator.validate(engine, times, parsed.outputCount(), parsed.inputCount(),
                     parsed.options().toEstimationOptions(engine.states(), false));
         } catch (ModelException e) {
-            ModelException worded = e.withTimeWords(RecordingTime::format);
+            ModelException worded = e.withTimeWords(RecordingTime::words);
             throw OPTION_FIELDS.contains(e.field().split("[.\\[]", 2)[0]) ? worded.renamed(optionsAt + e.field()) : worded;
         }
         return new NewTrace(post.unitId(), version.family(), version.version(), times.length, times[0],

@@ -58,7 +58,7 @@ public final class VersionPair {
             }
             return Fit.of(DocumentSolver.solve(model, trace, false, limits), model);
         } catch (ModelException e) {
-            return Fit.notSolved(Fit.Status.INVALID, e.withTimeWords(RecordingTime::format).getMessage());
+            return Fit.notSolved(Fit.Status.INVALID, e.withTimeWords(RecordingTime::words).getMessage());
         } catch (InputException e) {
             return Fit.notSolved(Fit.Status.INVALID, e.getMessage());
         }

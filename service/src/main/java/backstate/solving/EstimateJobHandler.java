@@ -55,7 +55,7 @@ public final class EstimateJobHandler implements JobHandler {
             outcome = solveTimer.recordCallable(() -> solver.solve(loaded, false));
         } catch (ModelException e) {
             // Deterministic: the same trace fails the same way on every attempt, so do not retry.
-            return doesNotFit(e.withTimeWords(RecordingTime::format).getMessage());
+            return doesNotFit(e.withTimeWords(RecordingTime::words).getMessage());
         } catch (InputException e) {
             return doesNotFit(e.getMessage());
         }

@@ -201,6 +201,10 @@ class PlainMessagesTest {
         assertEquals("got 1970-01-01T00:02:00Z, expected a time inside the window 1970-01-01T00:00:00Z to"
                 + " 1970-01-01T00:01:00Z", inconsistency(TRACES, "application/json",
                 traceWithOptions("{\"referenceTime\": 120}"), "options.referenceTime"));
+        // Past year 9999 RFC 3339 has no words for it: seconds since 1970, not a date cut off at the long range.
+        assertEquals("got 1e300 s since 1970-01-01T00:00:00Z, expected a time inside the window 1970-01-01T00:00:00Z to"
+                + " 1970-01-01T00:01:00Z", inconsistency(TRACES, "application/json",
+                traceWithOptions("{\"referenceTime\": 1e300}"), "options.referenceTime"));
     }
 
     /**
