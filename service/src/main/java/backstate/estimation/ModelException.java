@@ -51,12 +51,18 @@ public final class ModelException extends IllegalArgumentException {
         return new ModelException(newField, problem, times, template);
     }
 
+    /** The template with its i-th "%s" replaced by the i-th time's words (no other % is read, so any text is safe). */
     private static String worded(String template, double[] times, DoubleFunction<String> words) {
-        Object[] texts = new Object[times.length];
-        for (int i = 0; i < times.length; i++) {
-            texts[i] = words.apply(times[i]);
+        String[] pieces = template.split("%s", -1);
+        if (pieces.length != times.length + 1) {
+            throw new IllegalArgumentException("got " + (pieces.length - 1) + " %s in \"" + template + "\", expected "
+                    + times.length + ", one per time");
         }
-        return String.format(java.util.Locale.ROOT, template, texts);
+        StringBuilder out = new StringBuilder(pieces[0]);
+        for (int i = 0; i < times.length; i++) {
+            out.append(words.apply(times[i])).append(pieces[i + 1]);
+        }
+        return out.toString();
     }
 
     /** The offending field as a path, e.g. {@code a[2][1]} or {@code outputs[17][0]}. */

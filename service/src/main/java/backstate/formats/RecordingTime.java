@@ -1,7 +1,6 @@
 package backstate.formats;
 
 import backstate.text.Figure;
-
 import java.time.Instant;
 import java.time.OffsetDateTime;
 import java.time.chrono.IsoChronology;

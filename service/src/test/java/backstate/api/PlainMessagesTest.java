@@ -209,7 +209,7 @@ class PlainMessagesTest {
 
     /**
      * A discrete model's state exists on its grid only (t0 + k·period): a sample or a reference time
-     * off it is refused at the post (the reference time was once taken with 202 and failed its job),
+     * off it is refused at the post (not taken with 202 and left to fail its job),
      * in recording time and in periods from the first sample (150 s / 60 s = 2.5, 30 s / 60 s = 0.5).
      */
     @Test

@@ -30,6 +30,10 @@ class TimeRefusalTest {
         assertEquals("got 70 s, expected a time inside the window 0 s to 60.5 s", window.problem());
         assertEquals("got <70>, expected a time inside the window <0> to <60>",
                 window.withTimeWords(t -> "<" + (long) t + ">").problem(), "every time it names is worded");
+        assertEquals("got 5 s, expected 100 % of %d", ModelException.ofTime("f", 5, "100 % of %d").problem(),
+                "a % that is not %s is text");
+        assertThrows(IllegalArgumentException.class, () -> ModelException.ofTime("f", 5, "%s to %s", 1.0),
+                "a time short for its template is the caller's mistake");
         assertEquals("got 0.000001 s, expected x", ModelException.ofTime("f", 1e-6, "x").problem());
     }
 
