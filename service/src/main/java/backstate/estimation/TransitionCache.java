@@ -90,10 +90,7 @@ final class TransitionCache {
         int n = model.states();
         int m = model.inputs();
         if (model.isDiscrete()) {
-            if (units > Integer.MAX_VALUE) {
-                throw new ModelException("time", "got a gap of " + units + " periods, expected at most " + Integer.MAX_VALUE);
-            }
-            return ZeroOrderHold.power(a, b, n, m, (int) units);
+            return ZeroOrderHold.power(a, b, n, m, units);
         }
         return ZeroOrderHold.discretize(a, b, n, m, units * steps.unitSeconds());
     }

@@ -55,12 +55,14 @@ public final class ZeroOrderHold {
      *
      * @throws IllegalArgumentException on wrong shapes, non-finite entries, or steps &lt; 1
      */
-    public static Step power(double[] a, double[] b, int n, int m, int steps) {
+    public static Step power(double[] a, double[] b, int n, int m, long steps) {
         LinearSystemArguments.requireAtLeast("n", n, 1);
         LinearSystemArguments.requireAtLeast("m", m, 0);
         LinearSystemArguments.requireMatrix("a", a, n, n);
         double[] input = LinearSystemArguments.requireInputMatrix("b", b, n, m);
-        LinearSystemArguments.requireAtLeast("steps", steps, 1);
+        if (steps < 1) {
+            throw new IllegalArgumentException("steps: got " + steps + ", expected at least 1");
+        }
 
         int size = n + m;
         double[] base = new double[size * size];
@@ -72,7 +74,7 @@ public final class ZeroOrderHold {
 
         double[] result = null;
         double[] work = new double[size * size];
-        int remaining = steps;
+        long remaining = steps;
         while (true) {
             if ((remaining & 1) != 0) {
                 if (result == null) {

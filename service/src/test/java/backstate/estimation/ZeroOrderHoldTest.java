@@ -2,6 +2,7 @@ package backstate.estimation;
 
 import static org.junit.jupiter.api.Assertions.assertArrayEquals;
 import static org.junit.jupiter.api.Assertions.assertEquals;
+import static org.junit.jupiter.api.Assertions.assertInstanceOf;
 import static org.junit.jupiter.api.Assertions.assertThrows;
 
 import com.fasterxml.jackson.databind.JsonNode;
@@ -62,6 +63,33 @@ class ZeroOrderHoldTest {
                     step.transition(), CLOSED_FORM_ABSOLUTE);
             assertEquals(0, step.input().length);
         }
+    }
+
+    @Test
+    void a_power_past_the_int_range_is_taken_whole() {
+        // Closed form: the integrator A = [1], B = [1] gives A^s = 1 and Σ_{i<s} B = s, exactly in doubles for s < 2^53.
+        long steps = 3_000_000_000L;
+        ZeroOrderHold.Step step = ZeroOrderHold.power(new double[] {1}, new double[] {1}, 1, 1, steps);
+        assertEquals(1.0, step.transition()[0]);
+        assertEquals(3e9, step.input()[0]);
+        // A = [−1]: (−1)^s = 1 for even s, and the sum of s alternating terms is 0.
+        assertEquals(1.0, ZeroOrderHold.power(new double[] {-1}, new double[] {1}, 1, 1, steps).transition()[0]);
+        assertEquals(0.0, ZeroOrderHold.power(new double[] {-1}, new double[] {1}, 1, 1, steps).input()[0]);
+    }
+
+    /**
+     * A discrete model over a gap of more sample periods than an int counts (3·10⁹ periods of 1 ms,
+     * about 35 days) solves: a constant state seen three times with equal noise is estimated by the
+     * mean of the three readings (closed form of least squares with one unknown).
+     */
+    @Test
+    void a_discrete_trace_with_a_gap_of_more_than_two_to_the_31_periods_solves() {
+        StateSpaceModel model = StateSpaceModel.discrete(new double[][] {{1}}, null, new double[][] {{1}}, null, 1e-3,
+                new double[] {0.1});
+        Trace trace = new Trace(new double[] {0, 0.001, 3e6}, new double[] {2.0, 2.2, 2.1}, null, 1, 0, null);
+        EstimationResult result = InitialStateEstimator.solve(model, trace, EstimationOptions.defaults());
+        Estimate estimate = assertInstanceOf(Estimate.class, result);
+        assertEquals(2.1, estimate.initialState(1)[0], 1e-12);
     }
 
     @Test
