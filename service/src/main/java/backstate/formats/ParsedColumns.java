@@ -57,6 +57,20 @@ public final class ParsedColumns {
         return outputs[j];
     }
 
+    /** True when output j has at least one value in the window (a missing sample is NaN, or no column at all). */
+    public boolean hasValues(int j) {
+        DoubleColumn column = outputs[j];
+        if (column == null) {
+            return false;
+        }
+        for (int k = 0; k < column.size(); k++) {
+            if (!Double.isNaN(column.get(k))) {
+                return true;
+            }
+        }
+        return false;
+    }
+
     DoubleColumn input(int i) {
         return inputs[i];
     }

@@ -25,6 +25,7 @@ import com.fasterxml.jackson.databind.ObjectMapper;
 import java.io.IOException;
 import java.io.InputStream;
 import java.time.Clock;
+import java.util.ArrayList;
 import java.util.List;
 import java.util.Set;
 
@@ -78,17 +79,33 @@ public final class TraceIntake {
         ModelVersionRow version = activeVersion(post.family(), post.version());
         CheckedModel model = models.of(version.family(), version.version(), version.documentJson());
         TraceFingerprint fingerprint = post.idempotencyKeyOrNull() == null ? null : TraceFingerprint.start(post, version);
-        NewTrace trace = checkedAndEncoded(post, version, model, fingerprint);
+        List<Receipt.Warning> warnings = new ArrayList<>();
+        NewTrace trace = checkedAndEncoded(post, version, model, fingerprint, warnings);
         Submission submission = traces.submitTrace(trace,
                 fingerprint == null ? null : fingerprint.withKey(post.idempotencyKeyOrNull()), maxQueued, clock.instant());
         wakeWorkers.run();
-        return new Receipt(submission, warnings(trace));
+        return new Receipt(submission, warnings);
     }
 
-    /** A window dated before 2000 ({@link RecordingTime#earlyWindowNote}); nothing else, so far. */
-    private static List<Receipt.Warning> warnings(NewTrace trace) {
-        String early = RecordingTime.earlyWindowNote(trace.windowStart());
-        return early == null ? List.of() : List.of(new Receipt.Warning("time", early));
+    /**
+     * What about an accepted trace its sender should check: a window dated before 2000
+     * ({@link RecordingTime#earlyWindowNote}), and each output with no value in the window (a dead
+     * or unplugged sensor: the estimate rests on the other outputs, or fails as unobservable).
+     */
+    private static List<Receipt.Warning> warnings(TracePost post, ParsedColumns parsed, ModelDocument model) {
+        List<Receipt.Warning> out = new ArrayList<>();
+        String early = RecordingTime.earlyWindowNote(parsed.timesView()[0]);
+        if (early != null) {
+            out.add(new Receipt.Warning("time", early));
+        }
+        for (int j = 0; j < parsed.outputCount(); j++) {
+            if (!parsed.hasValues(j)) {
+                String name = model.outputs().get(j).name();
+                out.add(new Receipt.Warning(isJson(post) ? "outputs." + name : "column " + name, "no value in the window:"
+                        + " every sample of this output is missing, so the estimate rests on the other outputs"));
+            }
+        }
+        return out;
     }
 
     /**
@@ -97,7 +114,7 @@ public final class TraceIntake {
      * before the write begins.
      */
     private NewTrace checkedAndEncoded(TracePost post, ModelVersionRow version, CheckedModel model,
-                                       TraceFingerprint fingerprintOrNull) throws IOException {
+                                       TraceFingerprint fingerprintOrNull, List<Receipt.Warning> warnings) throws IOException {
         ParsedColumns parsed = parse(post, model.document(), fingerprintOrNull);
         StateSpaceModel engine = model.engine();
         double[] times = parsed.timesView();
@@ -109,6 +126,7 @@ public final class TraceIntake {
             ModelException worded = e.withTimeWords(RecordingTime::words);
             throw OPTION_FIELDS.contains(e.field().split("[.\\[]", 2)[0]) ? worded.renamed(optionsAt + e.field()) : worded;
         }
+        warnings.addAll(warnings(post, parsed, model.document()));
         return new NewTrace(post.unitId(), version.family(), version.version(), times.length, times[0],
                 times[times.length - 1], codec.encode(parsed));
     }

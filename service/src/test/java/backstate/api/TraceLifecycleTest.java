@@ -4,6 +4,7 @@ import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
 import com.fasterxml.jackson.databind.JsonNode;
+import com.fasterxml.jackson.databind.node.ArrayNode;
 import com.fasterxml.jackson.databind.node.ObjectNode;
 import java.io.ByteArrayOutputStream;
 import java.nio.file.Files;
@@ -157,6 +158,46 @@ class TraceLifecycleTest {
         assertEquals(202, dated.status(), dated.body());
         assertEquals(0, dated.json().get("warnings").size(), dated.body());
         assertTrue(dated.json().get("warnings").isArray());
+    }
+
+    /**
+     * An output with no value in the window (a dead sensor) is named in the 202's warnings, in the
+     * body's terms, and the estimate agrees: that channel has no samples and the other carries it.
+     */
+    @Test
+    void an_output_with_no_value_in_the_window_is_named_in_a_warning_and_the_estimate_rests_on_the_other()
+            throws Exception {
+        JsonNode unit = unit("normal", ".json");
+        String path = "/v1/units/DEAD-" + unit.get("unitId").asText() + "/traces?model=reefer-40&version=1";
+        ObjectNode body = (ObjectNode) server.mapper.readTree(traceBytes(unit));
+        body.put("start", "2026-12-01T06:00:00Z");
+        ObjectNode outputs = (ObjectNode) body.get("outputs");
+        int samples = body.get("time").size();
+        ArrayNode dead = outputs.putArray("supply_air");
+        for (int k = 0; k < samples; k++) {
+            dead.addNull();
+        }
+        TestServer.Reply accepted = server.post(path, "application/json", server.mapper.writeValueAsBytes(body));
+        assertEquals(202, accepted.status(), accepted.body());
+        JsonNode warnings = accepted.json().get("warnings");
+        assertEquals(1, warnings.size(), warnings.toString());
+        assertEquals("outputs.supply_air", warnings.get(0).get("field").asText());
+        assertEquals("no value in the window: every sample of this output is missing, so the estimate rests on the"
+                + " other outputs", warnings.get(0).get("detail").asText());
+        JsonNode job = server.awaitJob(accepted.json().get("jobId").asText());
+        assertEquals("succeeded", job.get("state").asText(), job.toString());
+        JsonNode channels = server.get("/v1/estimates/" + job.get("estimateId").asText()).json()
+                .get("result").get("residuals").get("channels");
+        assertEquals("supply_air", channels.get(1).get("output").asText());
+        assertEquals(0, channels.get(1).get("samples").asInt());
+        assertEquals(samples, channels.get(0).get("samples").asInt());
+
+        String csv = "time since 2026-12-01T06:00:00Z,return_air,supply_air,cooling_power,ambient\n"
+                + "0,2.7,,6.4,27.1\n60,2.6,,6.4,27.1\n120,2.5,,6.4,27.1\n";
+        JsonNode csvWarnings = server.post(path, "text/csv", csv.getBytes(java.nio.charset.StandardCharsets.UTF_8))
+                .json().get("warnings");
+        assertEquals(1, csvWarnings.size(), csvWarnings.toString());
+        assertEquals("column supply_air", csvWarnings.get(0).get("field").asText());
     }
 
     @Test
