@@ -28,6 +28,8 @@ import java.util.regex.Pattern;
  * without the Java types and source placeholders of Jackson's own messages.
  */
 public final class JsonPaths {
+    /** A body with no JSON value at all, in the words every reader of a JSON body uses. */
+    static final String EMPTY_BODY = "an empty body";
     /** How Jackson's strict duplicate detection begins its message (the only mark it leaves). */
     private static final String DUPLICATE = "Duplicate field '";
     /** The detail for a body that goes on after its JSON document. */
@@ -255,7 +257,7 @@ public final class JsonPaths {
             return describe(JsonToken.VALUE_NULL);
         }
         if (message.startsWith(NO_CONTENT)) {
-            return "an empty body";
+            return EMPTY_BODY;
         }
         Matcher m = GOT_KIND.matcher(message);
         if (!m.find()) {

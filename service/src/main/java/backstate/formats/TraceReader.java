@@ -70,7 +70,7 @@ public final class TraceReader {
         try (JsonParser parser = mapper.getFactory().createParser(body)) {
             JsonToken first = parser.nextToken();
             if (first == null) {
-                throw new InputException("body", "got an empty body, expected an object");
+                throw new InputException("body", "got " + JsonPaths.EMPTY_BODY + ", expected an object");
             }
             expect(parser, first, JsonToken.START_OBJECT, "body");
             while (parser.nextToken() == JsonToken.FIELD_NAME) {
