@@ -1,6 +1,7 @@
 package backstate.formats;
 
 import backstate.text.Figure;
+import java.time.Duration;
 import java.time.Instant;
 import java.time.OffsetDateTime;
 import java.time.chrono.IsoChronology;
@@ -58,7 +59,27 @@ public final class RecordingTime {
      */
     public static final double PLAUSIBLE_FROM = 946_684_800.0;
 
+    /**
+     * How far past the service's clock a window may end before it is taken with {@link #lateWindowNote}:
+     * room for senders' clocks that run a little fast, not for a wrong zone or a wrong year (common
+     * practice, no source).
+     */
+    public static final Duration FUTURE_SLACK = Duration.ofMinutes(10);
+
     private RecordingTime() {
+    }
+
+    /**
+     * Why a window ending more than {@link #FUTURE_SLACK} after {@code now} is likely misdated (a sender's
+     * clock or the times' zone) and what it does to the unit; null otherwise.
+     */
+    public static String lateWindowNote(double windowEnd, Instant now) {
+        if (windowEnd <= now.plus(FUTURE_SLACK).getEpochSecond()) {
+            return null;
+        }
+        return "the window ends at " + words(windowEnd) + ", after the service's clock (" + now + "): check the sender's"
+                + " clock and the zone of the times; a unit's latest estimate is its newest recording, so this one stays"
+                + " the latest until a later recording arrives";
     }
 
     /** Why a window starting before {@link #PLAUSIBLE_FROM} is likely misread and how to say so; null from then on. */

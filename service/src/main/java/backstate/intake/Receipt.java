@@ -5,15 +5,16 @@ import java.util.List;
 
 /**
  * What the intake did with a post: the stored trace and its queued job (or the first post's, on a
- * replay), and what about the accepted trace its sender should check, by field. A replay carries
- * the same warnings, read from the same body.
+ * replay), and what about the accepted trace its sender should check, by field. A replay is
+ * warned again from the same body (the same warnings, but for a window past the service's clock,
+ * which depends on when).
  */
 public record Receipt(Submission submission, List<Warning> warnings) {
     public Receipt {
         warnings = List.copyOf(warnings);
     }
 
-    /** Something accepted but likely not meant, e.g. a window dated before 2000 ({@code time}). */
+    /** Something accepted but likely not meant, e.g. a window dated before 2000 ({@code time}) or a dead output. */
     public record Warning(String field, String detail) {
     }
 }

@@ -89,14 +89,19 @@ public final class TraceIntake {
 
     /**
      * What about an accepted trace its sender should check: a window dated before 2000
-     * ({@link RecordingTime#earlyWindowNote}), and each output with no value in the window (a dead
+     * ({@link RecordingTime#earlyWindowNote}) or ending after the service's clock
+     * ({@link RecordingTime#lateWindowNote}), and each output with no value in the window (a dead
      * or unplugged sensor: the estimate rests on the other outputs, or fails as unobservable).
      */
-    private static List<Receipt.Warning> warnings(TracePost post, ParsedColumns parsed, ModelDocument model) {
+    private List<Receipt.Warning> warnings(TracePost post, ParsedColumns parsed, ModelDocument model) {
         List<Receipt.Warning> out = new ArrayList<>();
-        String early = RecordingTime.earlyWindowNote(parsed.timesView()[0]);
-        if (early != null) {
-            out.add(new Receipt.Warning("time", early));
+        double[] times = parsed.timesView();
+        String early = RecordingTime.earlyWindowNote(times[0]);
+        String late = RecordingTime.lateWindowNote(times[times.length - 1], clock.instant());
+        for (String note : new String[] {early, late}) {
+            if (note != null) {
+                out.add(new Receipt.Warning("time", note));
+            }
         }
         for (int j = 0; j < parsed.outputCount(); j++) {
             if (!parsed.hasValues(j)) {

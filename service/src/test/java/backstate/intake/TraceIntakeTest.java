@@ -12,6 +12,7 @@ import backstate.formats.InputException;
 import backstate.formats.Json;
 import backstate.formats.Limits;
 import backstate.formats.ModelDocument;
+import backstate.formats.RecordingTime;
 import backstate.formats.TraceCodec;
 import backstate.formats.TraceOptions;
 import backstate.formats.TraceReader;
@@ -113,10 +114,32 @@ class TraceIntakeTest {
         Receipt replay = intake.submit(csvPost("RCX-8", 1, "k-8", csv));
         assertTrue(replay.submission().replayed());
         assertEquals(first.warnings(), replay.warnings());
-        byte[] dated = ("time since 2026-12-01T06:00:00+02:00" + new String(csv, StandardCharsets.UTF_8).substring(4))
-                .getBytes(StandardCharsets.UTF_8);
+        byte[] dated = since("2026-03-01T06:00:00+02:00");
         assertEquals(List.of(), intake.submit(csvPost("RCX-9", 1, null, dated)).warnings());
         assertEquals(2, store.queue().queuedCount(), "both traces stored and queued");
+    }
+
+    /**
+     * A window ending more than RecordingTime.FUTURE_SLACK (10 min) after the service's clock is
+     * taken with a warning; at the slack exactly, without. The trace spans 199 one-minute periods.
+     */
+    @Test
+    void a_window_ending_after_the_services_clock_is_taken_with_a_warning_on_time() throws Exception {
+        TraceIntake intake = intake(10);
+        Instant endAtSlack = NOW.plus(RecordingTime.FUTURE_SLACK);
+        Instant start = endAtSlack.minusSeconds((SAMPLES - 1) * (long) ReeferTraces.PERIOD_SECONDS);
+        assertEquals(List.of(), intake.submit(csvPost("RCX-10", 1, null, since(start.toString()))).warnings());
+        Receipt late = intake.submit(csvPost("RCX-11", 1, null, since(start.plusSeconds(1).toString())));
+        assertEquals(List.of(new Receipt.Warning("time", "the window ends at 2026-03-01T12:10:01Z, after the service's"
+                + " clock (2026-03-01T12:00:00Z): check the sender's clock and the zone of the times; a unit's latest"
+                + " estimate is its newest recording, so this one stays the latest until a later recording arrives")),
+                late.warnings());
+        assertEquals(2, store.queue().queuedCount(), "both traces stored and queued");
+    }
+
+    /** The test trace with its times counted from {@code start} (RFC 3339). */
+    private byte[] since(String start) {
+        return ("time since " + start + new String(csv, StandardCharsets.UTF_8).substring(4)).getBytes(StandardCharsets.UTF_8);
     }
 
     @Test
