@@ -79,12 +79,15 @@ public final class TraceIntake {
         ModelVersionRow version = activeVersion(post.family(), post.version());
         CheckedModel model = models.of(version.family(), version.version(), version.documentJson());
         TraceFingerprint fingerprint = post.idempotencyKeyOrNull() == null ? null : TraceFingerprint.start(post, version);
-        List<Receipt.Warning> warnings = new ArrayList<>();
-        NewTrace trace = checkedAndEncoded(post, version, model, fingerprint, warnings);
-        Submission submission = traces.submitTrace(trace,
+        Checked checked = checkedAndEncoded(post, version, model, fingerprint);
+        Submission submission = traces.submitTrace(checked.trace(),
                 fingerprint == null ? null : fingerprint.withKey(post.idempotencyKeyOrNull()), maxQueued, clock.instant());
         wakeWorkers.run();
-        return new Receipt(submission, warnings);
+        return new Receipt(submission, checked.warnings());
+    }
+
+    /** A trace ready to store, and what its sender should check about it. */
+    private record Checked(NewTrace trace, List<Receipt.Warning> warnings) {
     }
 
     /**
@@ -115,11 +118,11 @@ public final class TraceIntake {
 
     /**
      * The body parsed into columns, checked as the solver will check it, and encoded for storage
-     * from the columns; only the encoded payload outlives this call, so the columns are garbage
-     * before the write begins.
+     * from the columns, with its warnings; only the encoded payload outlives this call, so the
+     * columns are garbage before the write begins.
      */
-    private NewTrace checkedAndEncoded(TracePost post, ModelVersionRow version, CheckedModel model,
-                                       TraceFingerprint fingerprintOrNull, List<Receipt.Warning> warnings) throws IOException {
+    private Checked checkedAndEncoded(TracePost post, ModelVersionRow version, CheckedModel model,
+                                      TraceFingerprint fingerprintOrNull) throws IOException {
         ParsedColumns parsed = parse(post, model.document(), fingerprintOrNull);
         StateSpaceModel engine = model.engine();
         double[] times = parsed.timesView();
@@ -131,9 +134,9 @@ public final class TraceIntake {
             ModelException worded = e.withTimeWords(RecordingTime::words);
             throw OPTION_FIELDS.contains(e.field().split("[.\\[]", 2)[0]) ? worded.renamed(optionsAt + e.field()) : worded;
         }
-        warnings.addAll(warnings(post, parsed, model.document()));
-        return new NewTrace(post.unitId(), version.family(), version.version(), times.length, times[0],
-                times[times.length - 1], codec.encode(parsed));
+        List<Receipt.Warning> warnings = warnings(post, parsed, model.document()); // before the encoding takes the columns
+        return new Checked(new NewTrace(post.unitId(), version.family(), version.version(), times.length, times[0],
+                times[times.length - 1], codec.encode(parsed)), warnings);
     }
 
     private static boolean isJson(TracePost post) {
