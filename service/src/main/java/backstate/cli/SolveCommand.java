@@ -14,6 +14,7 @@ import backstate.formats.ParsedTrace;
 import backstate.formats.RecordingTime;
 import backstate.formats.TraceOptions;
 import backstate.formats.TraceReader;
+import backstate.formats.TraceWarning;
 import com.fasterxml.jackson.annotation.JsonUnwrapped;
 import com.fasterxml.jackson.core.JsonProcessingException;
 import com.fasterxml.jackson.databind.ObjectMapper;
@@ -32,7 +33,9 @@ import java.util.Set;
  * prints the estimate as JSON, with the caution the API sends beside every estimate, through the
  * same solver the service's jobs use. Option flags override the matching fields of a JSON trace's
  * {@code options} one by one; the fields no flag names (a prior among them) are kept.
- * Exit codes: 0 solved (or {@code --help}), 3 unobservable, 2 bad input.
+ * An output with no value in the trace ({@link TraceWarning#ofOutputs}) is warned of on stderr,
+ * one line each, after the solve (the service's warnings about the window's dates are left out:
+ * a solve dates nothing). Exit codes: 0 solved (or {@code --help}), 3 unobservable, 2 bad input.
  */
 public final class SolveCommand {
     static final int SOLVED = 0;
@@ -62,8 +65,12 @@ public final class SolveCommand {
             Map<String, String> flags = flags(args);
             ObjectMapper mapper = Json.mapper(Limits.DEFAULTS);
             ModelDocument model = readModel(mapper, file(flags, "model"));
-            ParsedTrace trace = readTrace(file(flags, "trace"), model, options(flags));
+            Path traceFile = file(flags, "trace");
+            ParsedTrace trace = readTrace(traceFile, model, options(flags));
             DocumentSolver.Outcome outcome = DocumentSolver.solve(model, trace, false, Limits.DEFAULTS);
+            for (TraceWarning w : TraceWarning.ofOutputs(model, trace.trace(), isJson(traceFile))) {
+                err.println("backstate solve: warning: " + w.field() + ": " + w.detail());
+            }
             ObjectMapper pretty = mapper.copy().enable(SerializationFeature.INDENT_OUTPUT);
             if (outcome instanceof DocumentSolver.Outcome.Solved solved) {
                 out.println(pretty.writeValueAsString(new PrintedEstimate(solved.document(), EstimateCaution.TEXT)));
@@ -96,11 +103,16 @@ public final class SolveCommand {
         }
     }
 
+    /** A trace file is JSON by its name's ending, CSV otherwise. */
+    private static boolean isJson(Path path) {
+        return path.toString().endsWith(".json");
+    }
+
     /** The trace with the flags' options over its own (a CSV trace has none of its own). */
     private static ParsedTrace readTrace(Path path, ModelDocument model, TraceOptions flagged) throws IOException {
         TraceReader reader = new TraceReader(Limits.DEFAULTS);
         try (InputStream in = Files.newInputStream(path)) {
-            if (path.toString().endsWith(".json")) {
+            if (isJson(path)) {
                 ParsedTrace parsed = reader.readJson(in, model);
                 return new ParsedTrace(parsed.trace(), parsed.options().overriddenBy(flagged));
             }

@@ -1,5 +1,6 @@
 package backstate.intake;
 
+import backstate.formats.TraceWarning;
 import backstate.store.Submission;
 import java.util.List;
 
@@ -9,12 +10,8 @@ import java.util.List;
  * warned again from the same body (the same warnings, but for a window past the service's clock,
  * which depends on when).
  */
-public record Receipt(Submission submission, List<Warning> warnings) {
+public record Receipt(Submission submission, List<TraceWarning> warnings) {
     public Receipt {
         warnings = List.copyOf(warnings);
-    }
-
-    /** Something accepted but likely not meant, e.g. a window dated before 2000 ({@code time}) or a dead output. */
-    public record Warning(String field, String detail) {
     }
 }

@@ -15,6 +15,7 @@ import backstate.formats.RecordingTime;
 import backstate.formats.TraceCodec;
 import backstate.formats.TraceOptions;
 import backstate.formats.TraceReader;
+import backstate.formats.TraceWarning;
 import backstate.store.ModelVersionRow;
 import backstate.store.NewTrace;
 import backstate.store.QueueFullException;
@@ -87,33 +88,7 @@ public final class TraceIntake {
     }
 
     /** A trace ready to store, and what its sender should check about it. */
-    private record Checked(NewTrace trace, List<Receipt.Warning> warnings) {
-    }
-
-    /**
-     * What about an accepted trace its sender should check: a window dated before 2000
-     * ({@link RecordingTime#earlyWindowNote}) or ending after the service's clock
-     * ({@link RecordingTime#lateWindowNote}), and each output with no value in the window (a dead
-     * or unplugged sensor: the estimate rests on the other outputs, or fails as unobservable).
-     */
-    private List<Receipt.Warning> warnings(TracePost post, ParsedColumns parsed, ModelDocument model) {
-        List<Receipt.Warning> out = new ArrayList<>();
-        double[] times = parsed.timesView();
-        String early = RecordingTime.earlyWindowNote(times[0]);
-        String late = RecordingTime.lateWindowNote(times[times.length - 1], clock.instant());
-        for (String note : new String[] {early, late}) {
-            if (note != null) {
-                out.add(new Receipt.Warning("time", note));
-            }
-        }
-        for (int j = 0; j < parsed.outputCount(); j++) {
-            if (!parsed.hasValues(j)) {
-                String name = model.outputs().get(j).name();
-                out.add(new Receipt.Warning(isJson(post) ? "outputs." + name : "column " + name, "no value in the window:"
-                        + " every sample of this output is missing, so the estimate rests on the other outputs"));
-            }
-        }
-        return out;
+    private record Checked(NewTrace trace, List<TraceWarning> warnings) {
     }
 
     /**
@@ -134,7 +109,8 @@ public final class TraceIntake {
             ModelException worded = e.withTimeWords(RecordingTime::words);
             throw OPTION_FIELDS.contains(e.field().split("[.\\[]", 2)[0]) ? worded.renamed(optionsAt + e.field()) : worded;
         }
-        List<Receipt.Warning> warnings = warnings(post, parsed, model.document()); // before the encoding takes the columns
+        List<TraceWarning> warnings = new ArrayList<>(TraceWarning.ofWindow(times[0], times[times.length - 1], clock.instant()));
+        warnings.addAll(TraceWarning.ofOutputs(model.document(), parsed::hasValues, isJson(post))); // before the encoding takes the columns
         return new Checked(new NewTrace(post.unitId(), version.family(), version.version(), times.length, times[0],
                 times[times.length - 1], codec.encode(parsed)), warnings);
     }

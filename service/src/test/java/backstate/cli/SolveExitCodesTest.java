@@ -65,6 +65,19 @@ class SolveExitCodesTest {
         assertEquals(reference.get("referenceDegreesOfFreedom").asInt(), estimate.get("residuals").get("degreesOfFreedom").asInt());
     }
 
+    /** An output with no value is warned of on stderr, as the service warns a gateway; the estimate still goes to stdout. */
+    @Test
+    void an_output_with_no_value_is_warned_of_on_stderr_and_the_trace_still_solves() throws IOException {
+        Path trace = write("dead-supply.csv", "time,return_air,supply_air,cooling_power,ambient\n"
+                + "0,2.7,,6.4,27.1\n60,2.6,,6.4,27.1\n120,2.5,,6.4,27.1\n180,2.5,,6.4,27.1\n240,2.4,,6.4,27.1\n");
+        CommandRun run = CommandRun.of(SolveCommand::run, "--model", SolveCommandTest.MODEL.toString(), "--trace", trace.toString());
+        assertEquals(0, run.exit(), run.err());
+        assertEquals("backstate solve: warning: column supply_air: no value in the window: every sample of this output"
+                + " is missing, so the estimate rests on the other outputs" + System.lineSeparator(), run.err());
+        JsonNode estimate = json.readTree(run.out());
+        assertEquals(0, estimate.get("residuals").get("channels").get(1).get("samples").asInt(), run.out());
+    }
+
     @Test
     void an_unobservable_trace_prints_the_directions_and_exits_3() throws IOException {
         Path model = write("pair.json", PAIR_MODEL);

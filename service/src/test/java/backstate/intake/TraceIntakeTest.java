@@ -16,6 +16,7 @@ import backstate.formats.RecordingTime;
 import backstate.formats.TraceCodec;
 import backstate.formats.TraceOptions;
 import backstate.formats.TraceReader;
+import backstate.formats.TraceWarning;
 import backstate.reliability.ReeferTraces;
 import backstate.store.IdempotencyKeyReusedException;
 import backstate.store.NewModelVersion;
@@ -110,7 +111,7 @@ class TraceIntakeTest {
                 + " 1970-01-01T00:00:00Z; if these count from the recording's start, declare that start (JSON \"start\","
                 + " CSV header \"time since <RFC 3339 time>\")";
         Receipt first = intake.submit(csvPost("RCX-8", 1, "k-8", csv));
-        assertEquals(List.of(new Receipt.Warning("time", want)), first.warnings());
+        assertEquals(List.of(new TraceWarning("time", want)), first.warnings());
         Receipt replay = intake.submit(csvPost("RCX-8", 1, "k-8", csv));
         assertTrue(replay.submission().replayed());
         assertEquals(first.warnings(), replay.warnings());
@@ -130,7 +131,7 @@ class TraceIntakeTest {
         Instant start = endAtSlack.minusSeconds((SAMPLES - 1) * (long) ReeferTraces.PERIOD_SECONDS);
         assertEquals(List.of(), intake.submit(csvPost("RCX-10", 1, null, since(start.toString()))).warnings());
         Receipt late = intake.submit(csvPost("RCX-11", 1, null, since(start.plusSeconds(1).toString())));
-        assertEquals(List.of(new Receipt.Warning("time", "the window ends at 2026-03-01T12:10:01Z, after the service's"
+        assertEquals(List.of(new TraceWarning("time", "the window ends at 2026-03-01T12:10:01Z, after the service's"
                 + " clock (2026-03-01T12:00:00Z): check the sender's clock and the zone of the times; a unit's latest"
                 + " estimate is its newest recording, so this one stays the latest until a later recording arrives")),
                 late.warnings());
