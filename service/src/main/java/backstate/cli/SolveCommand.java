@@ -10,6 +10,7 @@ import backstate.formats.JsonPaths;
 import backstate.formats.Limits;
 import backstate.formats.MatrixEntryException;
 import backstate.formats.ModelDocument;
+import backstate.formats.ParsedColumns;
 import backstate.formats.ParsedTrace;
 import backstate.formats.RecordingTime;
 import backstate.formats.TraceOptions;
@@ -25,6 +26,7 @@ import java.io.PrintStream;
 import java.nio.file.Files;
 import java.nio.file.Path;
 import java.util.LinkedHashMap;
+import java.util.List;
 import java.util.Map;
 import java.util.Set;
 
@@ -66,9 +68,14 @@ public final class SolveCommand {
             ObjectMapper mapper = Json.mapper(Limits.DEFAULTS);
             ModelDocument model = readModel(mapper, file(flags, "model"));
             Path traceFile = file(flags, "trace");
-            ParsedTrace trace = readTrace(traceFile, model, options(flags));
+            TraceOptions flagged = options(flags);
+            ParsedColumns columns = readColumns(traceFile, model, flagged);
+            List<TraceWarning> warnings = TraceWarning.ofOutputs(model, columns::hasValues, isJson(traceFile));
+            ParsedTrace assembled = columns.assemble();
+            // The flags override a JSON trace's own options field by field (a CSV trace was read with them).
+            ParsedTrace trace = new ParsedTrace(assembled.trace(), assembled.options().overriddenBy(flagged));
             DocumentSolver.Outcome outcome = DocumentSolver.solve(model, trace, false, Limits.DEFAULTS);
-            for (TraceWarning w : TraceWarning.ofOutputs(model, trace.trace(), isJson(traceFile))) {
+            for (TraceWarning w : warnings) {
                 err.println("backstate solve: warning: " + w.field() + ": " + w.detail());
             }
             ObjectMapper pretty = mapper.copy().enable(SerializationFeature.INDENT_OUTPUT);
@@ -108,15 +115,11 @@ public final class SolveCommand {
         return path.toString().endsWith(".json");
     }
 
-    /** The trace with the flags' options over its own (a CSV trace has none of its own). */
-    private static ParsedTrace readTrace(Path path, ModelDocument model, TraceOptions flagged) throws IOException {
+    /** The trace's columns; a CSV trace takes the flags' options (it has none of its own), a JSON one keeps its own. */
+    private static ParsedColumns readColumns(Path path, ModelDocument model, TraceOptions flagged) throws IOException {
         TraceReader reader = new TraceReader(Limits.DEFAULTS);
         try (InputStream in = Files.newInputStream(path)) {
-            if (isJson(path)) {
-                ParsedTrace parsed = reader.readJson(in, model);
-                return new ParsedTrace(parsed.trace(), parsed.options().overriddenBy(flagged));
-            }
-            return reader.readCsv(in, model, flagged);
+            return isJson(path) ? reader.readJsonColumns(in, model) : reader.readCsvColumns(in, model, flagged, null);
         }
     }
 

@@ -1,6 +1,5 @@
 package backstate.formats;
 
-import backstate.estimation.Trace;
 import java.time.Instant;
 import java.util.ArrayList;
 import java.util.List;
@@ -39,17 +38,5 @@ public record TraceWarning(String field, String detail) {
             }
         }
         return out;
-    }
-
-    /** {@link #ofOutputs} for a trace as the engine holds it (a missing sample is NaN). */
-    public static List<TraceWarning> ofOutputs(ModelDocument model, Trace trace, boolean json) {
-        return ofOutputs(model, j -> {
-            for (int k = 0; k < trace.samples(); k++) {
-                if (!Double.isNaN(trace.output(k, j))) {
-                    return true;
-                }
-            }
-            return false;
-        }, json);
     }
 }
