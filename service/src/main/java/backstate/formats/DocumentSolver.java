@@ -7,6 +7,7 @@ import backstate.estimation.InitialStateEstimator;
 import backstate.estimation.KeptSamples;
 import backstate.estimation.StateSpaceModel;
 import backstate.estimation.Unobservable;
+import backstate.text.Counted;
 import java.util.List;
 import java.util.Locale;
 
@@ -64,8 +65,8 @@ public final class DocumentSolver {
         List<String> largest = directions.stream().map(UnobservableDirection::largestComponent).toList();
         String along = largest.size() == 1 ? "mostly along " + largest.get(0)
                 : String.join(", ", largest.stream().map(name -> "one mostly along " + name).toList());
-        String message = "unobservable: the trace does not determine " + directions.size()
-                + (directions.size() == 1 ? " direction" : " directions") + " of the unknowns (" + along
+        String message = "unobservable: the trace does not determine " + Counted.of(directions.size(), "direction")
+                + " of the unknowns (" + along
                 + "); add a prior, measure another output, or record longer";
         return new Outcome.NotObservable(message, directions);
     }
