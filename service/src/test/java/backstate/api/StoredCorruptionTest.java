@@ -101,6 +101,8 @@ class StoredCorruptionTest {
         JsonNode trace = unit.get("traces").get(0);
         assertEquals("unreadable", trace.get("baseline").get("status").asText());
         assertEquals("unreadable", trace.get("candidate").get("status").asText());
+        assertEquals(List.of(), OpenApiContract.load().schemaErrors("/components/schemas/Regression", run),
+                "the run with an unreadable trace against the contract");
         // v1 against a copy of itself: every readable unit is unchanged, so the run passes on the others.
         assertTrue(run.get("pass").asBoolean(), run.toString());
     }
