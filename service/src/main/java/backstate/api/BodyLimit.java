@@ -6,7 +6,8 @@ import java.io.FilterInputStream;
 import java.io.IOException;
 import java.io.InputStream;
 import java.util.concurrent.TimeoutException;
-import java.util.zip.GZIPInputStream;
+import java.util.zip.ZipException;
+import org.apache.commons.compress.compressors.gzip.GzipCompressorInputStream;
 
 /**
  * Opens a request body as a stream, decompressing {@code Content-Encoding: gzip}, and answers 413
@@ -46,9 +47,13 @@ final class BodyLimit {
             return raw;
         }
         if (encoding.equalsIgnoreCase("gzip")) {
+            Wire wire = new Wire(raw);
             try {
-                return new Capped(new GZIPInputStream(raw), maxBytes, CORRUPT_GZIP);
-            } catch (java.util.zip.ZipException | java.io.EOFException e) { // not gzip, or too short for its header
+                return new Capped(new Gunzipped(wire), maxBytes, CORRUPT_GZIP);
+            } catch (IOException e) { // not gzip, or too short for its header
+                if (wire.failed) {
+                    throw e;
+                }
                 throw ApiProblem.invalid("Content-Encoding", "the body is not valid gzip");
             }
         }
@@ -139,6 +144,63 @@ final class BodyLimit {
         }
     }
 
+    /** The compressed body as read from the wire, remembering whether reading it failed. */
+    private static final class Wire extends BlockReads {
+        private boolean failed;
+
+        Wire(InputStream in) {
+            super(in);
+        }
+
+        @Override
+        public int read(byte[] buf, int off, int len) throws IOException {
+            try {
+                return super.read(buf, off, len);
+            } catch (IOException | RuntimeException e) {
+                failed = true;
+                throw e;
+            }
+        }
+    }
+
+    /**
+     * Every gzip member of the body (RFC 1952 §2.2), each checked against its CRC-32 and length; a
+     * truncated or damaged member, or bytes after the last one that are no member, is an error
+     * ({@code java.util.zip.GZIPInputStream} ends quietly at such bytes, dropping what follows).
+     * An error of the decoder's own becomes a {@link ZipException}, one from the wire passes as it is.
+     */
+    private static final class Gunzipped extends BlockReads {
+        private final Wire wire;
+
+        Gunzipped(Wire wire) throws IOException {
+            super(null);
+            this.wire = wire;
+            this.in = decoding(() -> new GzipCompressorInputStream(wire, true));
+        }
+
+        @Override
+        public int read(byte[] buf, int off, int len) throws IOException {
+            return decoding(() -> in.read(buf, off, len));
+        }
+
+        private <T> T decoding(IoCall<T> call) throws IOException {
+            try {
+                return call.run();
+            } catch (IOException e) {
+                if (wire.failed) {
+                    throw e;
+                }
+                ZipException corrupt = new ZipException(CORRUPT_GZIP);
+                corrupt.initCause(e);
+                throw corrupt;
+            }
+        }
+
+        private interface IoCall<T> {
+            T run() throws IOException;
+        }
+    }
+
     /** Counts bytes read and fails with 413 past the cap; a truncated or corrupt stream becomes a 400. */
     private static final class Capped extends BlockReads {
         private final long cap;
@@ -156,7 +218,7 @@ final class BodyLimit {
             int n;
             try {
                 n = super.read(buf, off, len);
-            } catch (java.util.zip.ZipException | java.io.EOFException e) {
+            } catch (ZipException | java.io.EOFException e) {
                 throw ApiProblem.invalid("body", brokenStream);
             }
             if (n > 0) {

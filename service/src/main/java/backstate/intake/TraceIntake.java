@@ -77,9 +77,12 @@ public final class TraceIntake {
      * @throws QueueFullException when {@code maxQueued} jobs wait
      */
     public Receipt submit(TracePost post) throws IOException, QueueFullException {
-        ModelVersionRow version = activeVersion(post.family(), post.version());
+        ModelVersionRow version = publishedVersion(post.family(), post.version());
         CheckedModel model = models.of(version.family(), version.version(), version.documentJson());
         TraceFingerprint fingerprint = post.idempotencyKeyOrNull() == null ? null : TraceFingerprint.start(post, version);
+        if (!"active".equals(version.status())) {
+            return retriedOnRetired(post, version, model, fingerprint);
+        }
         Checked checked = checkedAndEncoded(post, version, model, fingerprint);
         Submission submission = traces.submitTrace(checked.trace(),
                 fingerprint == null ? null : fingerprint.withKey(post.idempotencyKeyOrNull()), maxQueued, clock.instant());
@@ -119,13 +122,30 @@ public final class TraceIntake {
         return post.contentTypeOrNull() != null && MediaType.is(post.contentTypeOrNull(), "application/json");
     }
 
-    private ModelVersionRow activeVersion(String family, int number) {
-        ModelVersionRow version = catalogue.findVersion(family, number)
-                .orElseThrow(() -> TraceRefused.unknownVersion(family, number));
-        if (!"active".equals(version.status())) {
-            throw TraceRefused.retiredVersion(family, number);
+    private ModelVersionRow publishedVersion(String family, int number) {
+        return catalogue.findVersion(family, number).orElseThrow(() -> TraceRefused.unknownVersion(family, number));
+    }
+
+    /**
+     * A retired version takes no new trace, but a retry of a post it took while active (same unit,
+     * Idempotency-Key and request) answers that post again, so a gateway that lost the 202 is not
+     * told its stored trace was refused. A body that does not read was never taken: refused as retired.
+     */
+    private Receipt retriedOnRetired(TracePost post, ModelVersionRow version, CheckedModel model,
+                                     TraceFingerprint fingerprintOrNull) throws IOException {
+        TraceRefused retired = TraceRefused.retiredVersion(version.family(), version.version());
+        if (fingerprintOrNull == null) {
+            throw retired;
         }
-        return version;
+        Checked checked;
+        try {
+            checked = checkedAndEncoded(post, version, model, fingerprintOrNull);
+        } catch (InputException | ModelException e) {
+            throw retired;
+        }
+        return traces.findSubmission(post.unitId(), fingerprintOrNull.withKey(post.idempotencyKeyOrNull()))
+                .map(earlier -> new Receipt(earlier, checked.warnings()))
+                .orElseThrow(() -> retired);
     }
 
     /** Reads the body as its media type says, into the fingerprint too when the post has an Idempotency-Key. */

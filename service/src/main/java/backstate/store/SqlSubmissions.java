@@ -41,6 +41,16 @@ final class SqlSubmissions implements TraceIntakeStore {
     }
 
     @Override
+    public Optional<Submission> findSubmission(String unitId, IdempotencyKey key) {
+        Expect.notNull("key", key);
+        Outcome earlier = db.read(c -> findByKey(c, unitId, key));
+        if (earlier instanceof KeyReused) {
+            throw new IdempotencyKeyReusedException(key.key());
+        }
+        return earlier == null ? Optional.empty() : Optional.of(((Accepted) earlier).submission());
+    }
+
+    @Override
     public Optional<TraceRow> findTrace(String id) {
         return db.read(c -> {
             PreparedStatement ps = Sql.bind(c.prepare(FIND_TRACE), id);

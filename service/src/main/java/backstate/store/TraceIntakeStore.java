@@ -22,5 +22,12 @@ public interface TraceIntakeStore {
     Submission submitTrace(NewTrace trace, IdempotencyKey idempotencyKeyOrNull, int maxQueued, Instant now)
             throws QueueFullException;
 
+    /**
+     * Reads, without writing, the submission first made with this (unit, idempotency key), if any.
+     *
+     * @throws IdempotencyKeyReusedException if the key was first used with another fingerprint
+     */
+    Optional<Submission> findSubmission(String unitId, IdempotencyKey key);
+
     Optional<TraceRow> findTrace(String id);
 }

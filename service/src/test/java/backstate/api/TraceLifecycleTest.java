@@ -7,8 +7,11 @@ import com.fasterxml.jackson.databind.JsonNode;
 import com.fasterxml.jackson.databind.node.ArrayNode;
 import com.fasterxml.jackson.databind.node.ObjectNode;
 import java.io.ByteArrayOutputStream;
+import java.io.IOException;
+import java.nio.charset.StandardCharsets;
 import java.nio.file.Files;
 import java.nio.file.Path;
+import java.util.Map;
 import java.util.zip.GZIPOutputStream;
 import org.junit.jupiter.api.AfterAll;
 import org.junit.jupiter.api.BeforeAll;
@@ -106,6 +109,26 @@ class TraceLifecycleTest {
         assertMatchesReference(unit, submitAndSolve(unit, "application/json", zipped.toByteArray(), "Content-Encoding", "gzip"));
     }
 
+    /** RFC 1952 §2.2: a gzip file is a series of members, as {@code gzip part1 >> f; gzip part2 >> f} writes. */
+    @Test
+    void gzip_body_of_two_members_is_read_whole() throws Exception {
+        JsonNode unit = unit("non-uniform", ".json");
+        byte[] plain = traceBytes(unit);
+        int half = plain.length / 2;
+        ByteArrayOutputStream zipped = new ByteArrayOutputStream();
+        for (int[] part : new int[][] {{0, half}, {half, plain.length}}) {
+            try (GZIPOutputStream gz = new GZIPOutputStream(zipped) {
+                @Override
+                public void close() throws IOException {
+                    finish(); // ends the member, leaves the shared buffer open for the next one
+                }
+            }) {
+                gz.write(plain, part[0], part[1] - part[0]);
+            }
+        }
+        assertMatchesReference(unit, submitAndSolve(unit, "application/json", zipped.toByteArray(), "Content-Encoding", "gzip"));
+    }
+
     @Test
     void latest_estimate_by_unit_is_the_newest_and_history_pages_through_all() throws Exception {
         JsonNode unit = unit("gaps", ".csv");
@@ -119,6 +142,36 @@ class TraceLifecycleTest {
         String cursor = page1.get("nextCursor").asText();
         JsonNode page2 = server.get("/v1/units/" + id + "/estimates?limit=1&cursor=" + cursor).json();
         assertEquals(first.get("id").asText(), page2.get("items").get(0).get("id").asText());
+    }
+
+    /** A gateway that lost the 202 and retries after the version was retired gets the first post's job, not 409. */
+    @Test
+    void retry_after_the_version_is_retired_replays_the_first_post_and_a_new_post_is_refused() throws Exception {
+        assertEquals(201, server.postJson("/v1/models", Map.of("name", "reefer-retiring", "description", "retired mid-retry")).status());
+        assertEquals(201, server.post("/v1/models/reefer-retiring/versions", "application/json",
+                Files.readAllBytes(TestServer.TEST_DATA.resolve("demo/models/reefer-40.v1.json"))).status());
+        JsonNode unit = unit("normal", ".csv");
+        String path = "/v1/units/" + unit.get("unitId").asText() + "/traces?model=reefer-retiring&version=1";
+        TestServer.Reply first = server.post(path, "text/csv", traceBytes(unit), "Idempotency-Key", "gw-retire-1");
+        assertEquals(202, first.status(), first.body());
+        assertEquals(200, server.post("/v1/models/reefer-retiring/versions/1/retire", null, new byte[0]).status());
+        long traces = Database.count(dir.resolve("test.db"), "traces");
+
+        TestServer.Reply retry = server.post(path, "text/csv", traceBytes(unit), "Idempotency-Key", "gw-retire-1");
+        assertEquals(202, retry.status(), retry.body());
+        assertEquals(first.json().get("jobId"), retry.json().get("jobId"));
+        assertEquals("true", retry.headers().firstValue("Backstate-Replayed").orElse(""));
+
+        TestServer.Reply fresh = server.post(path, "text/csv", traceBytes(unit), "Idempotency-Key", "gw-retire-2");
+        assertEquals(409, fresh.status(), fresh.body());
+        TestServer.Reply otherBody = server.post(path, "text/csv", "no,such,columns\n1,2,3\n".getBytes(StandardCharsets.UTF_8),
+                "Idempotency-Key", "gw-retire-1");
+        assertEquals(409, otherBody.status(), "a body that does not read was never taken: " + otherBody.body());
+        byte[] edited = new String(traceBytes(unit), StandardCharsets.UTF_8).replaceFirst("\n([^\n]*)$", "\n")
+                .getBytes(StandardCharsets.UTF_8);
+        TestServer.Reply reused = server.post(path, "text/csv", edited, "Idempotency-Key", "gw-retire-1");
+        assertEquals(422, reused.status(), "the key with another readable request: " + reused.body());
+        assertEquals(traces, Database.count(dir.resolve("test.db"), "traces"));
     }
 
     @Test

@@ -5,12 +5,16 @@ import static org.junit.jupiter.api.Assertions.assertTrue;
 
 import backstate.api.Engine;
 import backstate.api.TestServer;
+import java.io.ByteArrayOutputStream;
 import java.io.IOException;
 import java.nio.charset.StandardCharsets;
 import java.nio.file.Files;
 import java.nio.file.Path;
+import java.util.Arrays;
 import java.util.Map;
+import java.util.function.UnaryOperator;
 import java.util.stream.Stream;
+import java.util.zip.GZIPOutputStream;
 import org.junit.jupiter.api.TestInstance;
 import org.junit.jupiter.api.io.TempDir;
 import org.junit.jupiter.params.AfterParameterizedClassInvocation;
@@ -83,6 +87,19 @@ class HostileInputRegressionTest {
                 // EOFException from an empty gzip stream escaped as a 500
                 broke("Content-Encoding gzip on an empty body", 400, "Content-Encoding",
                         Raw.post(TRACES, Raw.headers("Content-Type", CSV, "Content-Encoding", "gzip"), new byte[0])),
+                // the next three were taken with 202, keeping only the first gzip member's samples
+                broke("gzip body whose second member is cut after 8 bytes", 400, "body",
+                        Raw.post(TRACES, Raw.headers("Content-Type", CSV, "Content-Encoding", "gzip"),
+                                twoMembers(csv, member -> Arrays.copyOf(member, 8)))),
+                broke("gzip body with bytes after its last member", 400, "body",
+                        Raw.post(TRACES, Raw.headers("Content-Type", CSV, "Content-Encoding", "gzip"),
+                                twoMembers(csv, member -> bytes("not a gzip member")))),
+                broke("gzip body whose second member's CRC-32 is wrong", 400, "body",
+                        Raw.post(TRACES, Raw.headers("Content-Type", CSV, "Content-Encoding", "gzip"),
+                                twoMembers(csv, member -> {
+                                    member[member.length - 8] ^= 1; // RFC 1952 §2.3: CRC32, then ISIZE, end the member
+                                    return member;
+                                }))),
                 // a null row in B reached the shape check as a NullPointerException (500)
                 broke("model with a null row in b", 422, "b[0]",
                         Raw.post("/v1/models/reefer-40/versions", Raw.headers("Content-Type", "application/json"),
@@ -117,6 +134,23 @@ class HostileInputRegressionTest {
 
     private static Arguments broke(String input, int status, String field, byte[] request) {
         return Arguments.of(input, status, field, request);
+    }
+
+    /** The CSV's first half as one gzip member, then its second half as another, changed by {@code damage}. */
+    private static byte[] twoMembers(byte[] csv, UnaryOperator<byte[]> damage) throws IOException {
+        int half = csv.length / 2;
+        ByteArrayOutputStream out = new ByteArrayOutputStream();
+        out.write(gzip(Arrays.copyOfRange(csv, 0, half)));
+        out.write(damage.apply(gzip(Arrays.copyOfRange(csv, half, csv.length))));
+        return out.toByteArray();
+    }
+
+    private static byte[] gzip(byte[] plain) throws IOException {
+        ByteArrayOutputStream out = new ByteArrayOutputStream();
+        try (GZIPOutputStream gz = new GZIPOutputStream(out)) {
+            gz.write(plain);
+        }
+        return out.toByteArray();
     }
 
     private static byte[] bytes(String s) {
