@@ -18,8 +18,10 @@ export class ApiError extends Error {
     if (status === 403) {
       return 'This key\'s role does not allow this (403): ' + (problem?.detail ?? 'ask for a key with the right role');
     }
-    const fields = (problem?.errors ?? []).map(e => `${e.field}: ${e.message}`);
+    // RFC 9457 extension "errors": one {field, detail} per field at fault; the problem's own detail
+    // usually words the first already, so only the others are added.
     const what = problem?.detail ?? problem?.title ?? `HTTP ${status}`;
+    const fields = (problem?.errors ?? []).filter(e => !what.includes(e.detail)).map(e => `${e.field}: ${e.detail}`);
     return fields.length ? `${what} (${fields.join('; ')})` : what;
   }
 }

@@ -5,6 +5,9 @@ import static org.junit.jupiter.api.Assertions.assertTrue;
 
 import backstate.api.TestServer;
 import com.fasterxml.jackson.databind.JsonNode;
+import com.fasterxml.jackson.databind.node.ArrayNode;
+import com.fasterxml.jackson.databind.node.ObjectNode;
+import java.nio.file.Files;
 import java.nio.file.Path;
 import java.util.ArrayList;
 import java.util.List;
@@ -55,6 +58,31 @@ class ModelsPageTest {
             assertEquals(3, third.get("version").asInt());
             assertEquals(server.get("/v1/models/reefer-40/versions/2").json().get("document"), third.get("document"));
             browser.assertNoConsoleErrors();
+        }
+    }
+
+    /** A refused publish shows the problem's own words, naming the field, as the API gave them. */
+    @Test
+    void a_refused_model_document_shows_the_fields_the_problem_names(@TempDir Path dir) throws Exception {
+        try (TestServer server = new TestServer(dir); ConsoleBrowser browser = ConsoleBrowser.open()) {
+            server.publishDemoModels();
+            ObjectNode document = (ObjectNode) server.mapper.readTree(
+                    TestServer.TEST_DATA.resolve("demo/models/reefer-40.v2.json").toFile());
+            ((ArrayNode) document.get("a").get(0)).set(0, 1e16);
+            Path file = dir.resolve("too-large.json");
+            Files.write(file, server.mapper.writeValueAsBytes(document));
+            JsonNode problem = server.post("/v1/models/reefer-40/versions", "application/json", Files.readAllBytes(file)).json();
+            assertEquals(1, problem.get("errors").size(), problem.toString());
+
+            browser.visit(server.base() + "/#/models/reefer-40");
+            browser.find("section[data-family='reefer-40'] input[type=file]").sendKeys(file.toString());
+            browser.find("section[data-family='reefer-40'] form.publish button[type=submit]").click();
+            new org.openqa.selenium.support.ui.WebDriverWait(browser.driver, ConsoleBrowser.PAGE_WAIT)
+                    .until(d -> !d.findElement(org.openqa.selenium.By.id("message")).getText().isEmpty());
+
+            // The detail words the one field error already ("a[0][0]: got 1.0E16, …"): it is shown once.
+            assertEquals("Problem: " + problem.get("detail").asText(), browser.find("#message").getText());
+            assertEquals(2, server.get("/v1/models/reefer-40/versions").json().get("items").size(), "nothing published");
         }
     }
 }
