@@ -124,7 +124,8 @@ public final class ApiServer implements AutoCloseable {
                 // so a protected GET would answer HEAD to anyone: HEAD runs the GET, guard and all
                 // (Jetty sends no body for HEAD).
                 if (r.method() == HandlerType.GET) {
-                    config.routes.addEndpoint(endpoint(new Route(HandlerType.HEAD, r.path(), r.access(), r.handler()), guard, reads));
+                    config.routes.addEndpoint(endpoint(new Route(HandlerType.HEAD, r.path(), r.access(), r.handler(), r.query()),
+                            guard, reads));
                 }
             }
         });
@@ -132,11 +133,13 @@ public final class ApiServer implements AutoCloseable {
 
     /**
      * A route's handler behind its access check, then, for API reads, read admission (a refused key
-     * never waits), then the query string's checks (no parameter twice, no broken escape).
+     * never waits), then the query string's checks (no parameter twice, no broken escape, on an
+     * API route no parameter it does not read).
      */
     private static io.javalin.router.Endpoint endpoint(Route r, AccessGuard guard, ReadAdmission reads) {
-        Handler checked = QueryStrings.checked(r.handler());
-        Route admitted = new Route(r.method(), r.path(), r.access(), ReadAdmission.counts(r) ? reads.admitted(checked) : checked);
+        Handler checked = QueryStrings.checked(r);
+        Route admitted = new Route(r.method(), r.path(), r.access(), ReadAdmission.counts(r) ? reads.admitted(checked) : checked,
+                r.query());
         return new io.javalin.router.Endpoint(r.method(), r.path(), guard.wrap(admitted), java.util.Set.of());
     }
 
@@ -177,20 +180,26 @@ public final class ApiServer implements AutoCloseable {
                 new Route(get, "/v1/models/{family}/versions", Access.ANY_KEY, models::listVersions),
                 new Route(get, "/v1/models/{family}/versions/{version}", Access.ANY_KEY, models::getVersion),
                 new Route(post, "/v1/models/{family}/versions/{version}/retire", Access.ADMIN, models::retireVersion),
-                new Route(post, "/v1/units/{unitId}/traces", Access.GATEWAY_FOR_UNIT, traces::submit),
-                new Route(get, "/v1/units/{unitId}/estimates", Access.READER, estimates::history),
-                new Route(get, "/v1/units/{unitId}/estimates/latest", Access.READER, estimates::latest),
+                new Route(post, "/v1/units/{unitId}/traces", Access.GATEWAY_FOR_UNIT, traces::submit,
+                        List.of("model", "version", "formulation", "estimateOffsets", "referenceTime")),
+                new Route(get, "/v1/units/{unitId}/estimates", Access.READER, estimates::history,
+                        List.of("model", "version", "from", "to", "receivedFrom", "receivedTo", "flag", "limit", "cursor")),
+                new Route(get, "/v1/units/{unitId}/estimates/latest", Access.READER, estimates::latest,
+                        List.of("model", "version")),
                 new Route(get, "/v1/jobs/{jobId}", Access.JOB_OF_UNIT, jobs::get),
                 new Route(post, "/v1/jobs/{jobId}/cancel", Access.GATEWAY_FOR_JOB, jobs::cancel),
                 new Route(get, "/v1/estimates/{estimateId}", Access.READER, estimates::get),
-                new Route(get, "/v1/estimates/{estimateId}/series", Access.READER, estimates::series),
+                new Route(get, "/v1/estimates/{estimateId}/series", Access.READER, estimates::series, List.of("maxPoints")),
                 new Route(post, "/v1/regressions", Access.PIPELINE, regressions::create),
-                new Route(get, "/v1/regressions", Access.READER, regressions::list),
+                new Route(get, "/v1/regressions", Access.READER, regressions::list, List.of("family", "limit", "cursor")),
                 new Route(get, "/v1/regressions/{regressionId}", Access.READER, regressions::get),
                 new Route(post, "/v1/regressions/{regressionId}/cancel", Access.ADMIN, regressions::cancel),
-                new Route(get, "/v1/fleet/{family}/summary", Access.READER, fleet::summary),
-                new Route(get, "/v1/fleet/{family}/units", Access.READER, fleet::units),
-                new Route(get, "/v1/units/{unitId}/trend", Access.READER, fleet::trend),
+                new Route(get, "/v1/fleet/{family}/summary", Access.READER, fleet::summary,
+                        List.of("from", "to", "receivedFrom", "receivedTo", "version", "staleAfter")),
+                new Route(get, "/v1/fleet/{family}/units", Access.READER, fleet::units,
+                        List.of("version", "flag", "sort", "limit", "cursor")),
+                new Route(get, "/v1/units/{unitId}/trend", Access.READER, fleet::trend,
+                        List.of("state", "model", "version", "from", "to", "receivedFrom", "receivedTo", "limit")),
                 new Route(post, "/v1/models/{family}/versions/{version}/plans", Access.READER, plans::plan));
     }
 

@@ -31,6 +31,7 @@ import java.util.HashSet;
 import java.util.List;
 import java.util.Map;
 import java.util.Set;
+import java.util.TreeMap;
 import java.util.TreeSet;
 import java.util.regex.Matcher;
 import java.util.regex.Pattern;
@@ -137,6 +138,48 @@ class OpenApiContractTest {
         List<String> registered = server.app().api().routeKeys();
         assertEquals(new TreeSet<>(registered), documented);
         assertEquals(registered.size(), documented.size(), "no route registered twice");
+    }
+
+    /** The route table's query parameters are the contract's, in its order: the refusal's list is the contract's. */
+    @Test
+    void every_route_reads_exactly_the_query_parameters_the_contract_lists() {
+        Map<String, List<String>> documented = new TreeMap<>();
+        for (OpenApiContract.Operation op : contract.operations()) {
+            List<String> names = new ArrayList<>();
+            String pathItem = op.pointer().substring(0, op.pointer().lastIndexOf('/'));
+            for (String at : List.of(pathItem + "/parameters", op.pointer() + "/parameters")) {
+                for (JsonNode p : contract.document().at(at)) {
+                    JsonNode parameter = p.has("$ref") ? contract.document().at(OpenApiContract.localPointer(p.get("$ref").asText())) : p;
+                    if ("query".equals(parameter.path("in").asText())) {
+                        names.add(parameter.get("name").asText());
+                    }
+                }
+            }
+            documented.put(op.key(), names);
+        }
+        Map<String, List<String>> registered = new TreeMap<>();
+        server.app().api().routes().forEach(r -> registered.put(r.method().name() + " " + r.path(), r.query()));
+        assertEquals(documented, registered);
+    }
+
+    /** Sent past the contract client (its request check refuses them first); the answers checked against the contract. */
+    @Test
+    void a_query_parameter_the_operation_does_not_list_is_refused_naming_it() {
+        TestServer.Reply misspelt = server.post("/v1/units/RCX-00001/traces?model=reefer-40&version=1&estimateoffsets=true",
+                "text/csv", "time,return_air\n0,1\n".getBytes(StandardCharsets.UTF_8));
+        assertInvalidInput(misspelt, "estimateoffsets", "got an unknown query parameter \"estimateoffsets\", expected one of"
+                + " model, version, formulation, estimateOffsets, referenceTime (did you mean estimateOffsets?)");
+        assertInvalidInput(server.get("/v1/models?limit=5"), "limit",
+                "got an unknown query parameter \"limit\", expected none: this route reads no query parameter");
+        assertEquals(200, server.get("/healthz?probe=1").status(), "probes and the console's page take any query");
+    }
+
+    private static void assertInvalidInput(TestServer.Reply reply, String field, String detail) {
+        assertEquals(400, reply.status(), reply.body());
+        assertEquals(List.of(), contract.schemaErrors("/components/responses/InvalidInput/content/application~1problem+json/schema",
+                reply.json()), reply.body());
+        assertEquals(field, reply.json().get("errors").get(0).get("field").asText());
+        assertEquals(detail, reply.json().get("errors").get(0).get("detail").asText());
     }
 
     @Test
