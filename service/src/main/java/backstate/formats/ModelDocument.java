@@ -44,6 +44,7 @@ public record ModelDocument(String description, String timeDomain, Double sample
         requireNames("states", states, limits, true);
         requireNames("outputs", outputs, limits, true);
         requireNames("inputs", inputs, limits, false);
+        requireShapes();
         StateSpaceModel model = build();
         requireCount("states", states, model.states(), "rows of a");
         requireCount("outputs", outputs, model.outputs(), "rows of c");
@@ -202,6 +203,37 @@ public record ModelDocument(String description, String timeDomain, Double sample
 
     private static String truncate(String s) {
         return s.length() > 40 ? s.substring(0, 40) + "…" : s;
+    }
+
+    /**
+     * Each matrix given is as large as the named quantities say (a: states × states, b: states ×
+     * inputs, c: outputs × states, d: outputs × inputs), so the refusal names the matrix at fault,
+     * not a later one measured against it. Missing matrices and rows are the engine's to refuse.
+     */
+    private void requireShapes() {
+        int n = states.size();
+        int p = outputs.size();
+        int m = inputsOrEmpty().size();
+        requireShape("a", a, n, "state", n, "state");
+        requireShape("b", b, n, "state", m, "input");
+        requireShape("c", c, p, "output", n, "state");
+        requireShape("d", d, p, "output", m, "input");
+    }
+
+    private static void requireShape(String field, double[][] matrix, int rows, String rowOf, int cols, String colOf) {
+        if (matrix == null || matrix.length == 0) {
+            return;
+        }
+        if (matrix.length != rows) {
+            throw new ModelException(field, "got " + Counted.of(matrix.length, "row") + ", expected " + rows
+                    + " (one per named " + rowOf + ")");
+        }
+        for (int i = 0; i < rows; i++) {
+            if (matrix[i] != null && matrix[i].length != cols) {
+                throw new ModelException(field + "[" + i + "]", "got " + Counted.of(matrix[i].length, "column")
+                        + ", expected " + cols + " (one per named " + colOf + ")");
+            }
+        }
     }
 
     private static void requireCount(String field, List<Quantity> list, int expected, String what) {
