@@ -58,7 +58,11 @@ public final class JsonPaths {
     /** How the parser quotes a number too large for its target ("Numeric value (99999999999) out of range of int"). */
     private static final Pattern OUT_OF_RANGE = Pattern.compile("^Numeric value \\(([-+0-9.eE]{1,40})\\) out of range");
     /** How data binding names the kind of value it could not bind ("from Array value"). */
-    private static final Pattern GOT_KIND = Pattern.compile("from (Array|Object|String|Number|Integer|Floating-point|Boolean|Null) value");
+    /** Jackson's words for a string refused where a number or boolean goes (its coercion turned off, {@link Json}). */
+    private static final Pattern COERCED_TEXT = Pattern.compile("^Cannot coerce String value \\(\"(.*?)\"\\)");
+    /** ... and for such a value inside a primitive array, whose target type is then the array. */
+    private static final String TO_ELEMENT = " to element of ";
+    private static final Pattern GOT_KIND = Pattern.compile("(?:from|Cannot coerce) (Array|Object|String|Number|Integer|Floating-point|Boolean|Null) value");
 
     /** The parser's words turned into the API's, in this order: its advice and settings out, locations plain. */
     private static final List<Map.Entry<Pattern, String>> REWORDINGS = List.of(
@@ -201,11 +205,15 @@ public final class JsonPaths {
         if (!(e instanceof MismatchedInputException m)) {
             return "got a value of the wrong type or shape";
         }
-        String expected = expected(m.getTargetType());
+        Class<?> target = m.getTargetType();
+        boolean element = target != null && target.isArray() && message != null && message.contains(TO_ELEMENT);
+        String expected = expected(element ? target.getComponentType() : target);
         if (expected == null) {
             return "got a value of the wrong type or shape";
         }
-        String got = m instanceof InvalidFormatException f ? got(f.getValue()) : got(message);
+        Matcher coerced = message == null ? null : COERCED_TEXT.matcher(message);
+        String got = m instanceof InvalidFormatException f ? got(f.getValue())
+                : coerced != null && coerced.find() ? got((Object) coerced.group(1)) : got(message);
         return "got " + (got == null ? "a value of another type" : got) + ", expected " + expected;
     }
 

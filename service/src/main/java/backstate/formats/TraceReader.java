@@ -53,7 +53,7 @@ public final class TraceReader {
                         .maxNameLength(CsvRecords.MAX_FIELD_LENGTH)
                         .build())
                 .build();
-        this.mapper = new ObjectMapper(factory);
+        this.mapper = Json.withoutScalarCoercion(new ObjectMapper(factory));
     }
 
     /** Reads the JSON form; unknown fields are rejected so a typo cannot silently drop data. */

@@ -263,6 +263,12 @@ class PlainMessagesTest {
                 traceWithOptions("{\"prior\": {\"mean\": [1, 2, 3, 4], \"bogus\": 1}}"), "options.prior.bogus"));
         assertEquals("got the text \"x\", expected a number", refusal(TRACES,
                 traceWithOptions("{\"prior\": {\"mean\": [1, 2, 3, \"x\"]}}"), "options.prior.mean[3]"));
+        assertEquals("got the text \"3\", expected a number", refusal(TRACES,
+                traceWithOptions("{\"prior\": {\"mean\": [1, 2, 3, \"3\"]}}"), "options.prior.mean[3]"));
+        assertEquals("got the text \"true\", expected true or false", refusal(TRACES,
+                traceWithOptions("{\"estimateOffsets\": \"true\"}"), "options.estimateOffsets"));
+        assertEquals("got the number 1, expected true or false", refusal(TRACES,
+                traceWithOptions("{\"estimateOffsets\": 1}"), "options.estimateOffsets"));
         assertEquals("got an unknown field \"sampled\", expected one of [name, description]", refusal("/v1/models",
                 "{\"name\": \"reefer-70\", \"sampled\": true}", "body.sampled"));
         // A key holding ": " stays whole in the field, and the detail is not cut at it.

@@ -93,7 +93,21 @@ class StrictInputTest {
                                 "{\"name\": \"wall\", \"unit\": \"degC\", \"noiseSigma\": 0.1}"), 400, "states[0].noiseSigma"),
                 Arguments.of("a noise sigma on an input", versions, "application/json",
                         v1.replace("{\"name\": \"ambient\", \"unit\": \"degC\"}",
-                                "{\"name\": \"ambient\", \"unit\": \"degC\", \"noiseSigma\": 0.1}"), 400, "inputs[1].noiseSigma"));
+                                "{\"name\": \"ambient\", \"unit\": \"degC\", \"noiseSigma\": 0.1}"), 400, "inputs[1].noiseSigma"),
+                // were converted: a string or a number taken for a boolean, a string for a number
+                Arguments.of("a regression's baseline as a string", "/v1/regressions", "application/json",
+                        "{\"family\":\"reefer-40\",\"baseline\":\"1\",\"candidate\":2}", 400, "body.baseline"),
+                Arguments.of("a regression's latestPerUnit as a string", "/v1/regressions", "application/json",
+                        "{\"family\":\"reefer-40\",\"baseline\":1,\"candidate\":2,\"traces\":{\"latestPerUnit\":\"1\"}}",
+                        400, "body.traces.latestPerUnit"),
+                Arguments.of("a trace's estimateOffsets as a string", "/v1/units/RCX-1/traces?model=reefer-40&version=1",
+                        "application/json", "{\"time\":[0,60],\"outputs\":{\"return_air\":[1,2],\"supply_air\":[1,2]},"
+                                + "\"inputs\":{\"cooling_power\":[0,0],\"ambient\":[0,0]},\"options\":{\"estimateOffsets\":\"true\"}}",
+                        400, "options.estimateOffsets"),
+                Arguments.of("a trace's estimateOffsets as a number", "/v1/units/RCX-1/traces?model=reefer-40&version=1",
+                        "application/json", "{\"time\":[0,60],\"outputs\":{\"return_air\":[1,2],\"supply_air\":[1,2]},"
+                                + "\"inputs\":{\"cooling_power\":[0,0],\"ambient\":[0,0]},\"options\":{\"estimateOffsets\":1}}",
+                        400, "options.estimateOffsets"));
     }
 
     @ParameterizedTest(name = "{0} gets {3}")
