@@ -95,11 +95,8 @@ final class EstimateRoutes {
      */
     void series(Context ctx) throws Exception {
         EstimateRow row = find(ctx);
-        int maxPoints = Params.intOrDefault(ctx, "maxPoints", DEFAULT_POINTS, MAX_POINTS);
-        if (maxPoints < MIN_POINTS) {
-            throw ApiProblem.invalid("maxPoints", "got " + maxPoints + ", expected " + MIN_POINTS + " to " + MAX_POINTS
-                    + ": a series holds the window's first and last sample");
-        }
+        int maxPoints = Params.intInRange(ctx, "maxPoints", DEFAULT_POINTS, MIN_POINTS, MAX_POINTS,
+                ": a series holds the window's first and last sample");
         String tag = EntityTags.of("series", row.id(), Integer.toString(maxPoints));
         if (!EntityTags.answeredUnchanged(ctx, tag)) {
             Views.Series body = solves.run(() -> rebuild(row.traceId(), maxPoints));

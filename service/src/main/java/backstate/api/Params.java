@@ -51,6 +51,18 @@ final class Params {
         return v == null ? null : positiveInt(name, v);
     }
 
+    /** A whole number from {@code min} to {@code max}, or the fallback when absent; {@code why} says why min (or ""). */
+    static int intInRange(Context ctx, String name, int fallback, int min, int max, String why) {
+        String v = ctx.queryParam(name);
+        if (v == null) {
+            return fallback;
+        }
+        if (!v.matches("-?\\d{1,9}") || Integer.parseInt(v) < min || Integer.parseInt(v) > max) {
+            throw ApiProblem.invalid(name, "got " + quoted(v) + ", expected a whole number from " + min + " to " + max + why);
+        }
+        return Integer.parseInt(v);
+    }
+
     static int intOrDefault(Context ctx, String name, int fallback, int max) {
         Integer v = optionalInt(ctx, name);
         if (v != null && v > max) {

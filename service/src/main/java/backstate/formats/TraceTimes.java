@@ -206,7 +206,9 @@ final class TraceTimes {
         return out[k] > out[k - 1] ? null : new Unfit(k, asRead, false, this);
     }
 
+    /** A time as the trace wrote it: RFC 3339, or its number of seconds in plain digits (not "1.79E9"). */
     private String show(double seconds) {
-        return kind == Kind.TIMESTAMPS ? RecordingTime.format(seconds) : Double.toString(seconds);
+        return kind == Kind.TIMESTAMPS ? RecordingTime.format(seconds)
+                : java.math.BigDecimal.valueOf(seconds).stripTrailingZeros().toPlainString() + " s";
     }
 }

@@ -122,8 +122,10 @@ public final class TraceIntake {
         return post.contentTypeOrNull() != null && MediaType.is(post.contentTypeOrNull(), "application/json");
     }
 
+    /** The version named; a refusal names the family when there is none of that name, else the version. */
     private ModelVersionRow publishedVersion(String family, int number) {
-        return catalogue.findVersion(family, number).orElseThrow(() -> TraceRefused.unknownVersion(family, number));
+        return catalogue.findVersion(family, number).orElseThrow(() -> catalogue.findFamily(family).isPresent()
+                ? TraceRefused.unknownVersion(family, number) : TraceRefused.unknownFamily(family));
     }
 
     /**

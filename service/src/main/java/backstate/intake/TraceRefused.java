@@ -11,7 +11,7 @@ public final class TraceRefused extends RuntimeException {
 
     /** Why the post was refused. */
     public enum Reason {
-        /** The named model version does not exist (the query's "version" field). */
+        /** The named model family, or its version, does not exist (the query's "model" or "version" field). */
         UNKNOWN_VERSION,
         /** The named model version is retired and takes no new traces. */
         RETIRED_VERSION,
@@ -31,6 +31,10 @@ public final class TraceRefused extends RuntimeException {
     static TraceRefused unknownVersion(String family, int version) {
         return new TraceRefused(Reason.UNKNOWN_VERSION, "version",
                 "model version " + family + "/" + version + " does not exist");
+    }
+
+    static TraceRefused unknownFamily(String family) {
+        return new TraceRefused(Reason.UNKNOWN_VERSION, "model", "model family " + family + " does not exist");
     }
 
     static TraceRefused retiredVersion(String family, int version) {

@@ -127,14 +127,16 @@ class SeriesRouteTest {
     }
 
     @Test
-    void one_point_is_refused_naming_max_points() throws Exception {
+    void fewer_than_two_points_are_refused_naming_max_points_in_the_same_words() throws Exception {
         String estimateId = solve("case-discrete-gaps", reference("case-discrete-gaps"));
-        TestServer.Reply reply = server.get("/v1/estimates/" + estimateId + "/series?maxPoints=1");
-        assertEquals(400, reply.status(), reply.body());
-        JsonNode error = reply.json().get("errors").get(0);
-        assertEquals("maxPoints", error.get("field").asText());
-        assertEquals("got 1, expected 2 to 20000: a series holds the window's first and last sample",
-                error.get("detail").asText());
+        for (String got : new String[] {"1", "0", "-3", "x"}) {
+            TestServer.Reply reply = server.get("/v1/estimates/" + estimateId + "/series?maxPoints=" + got);
+            assertEquals(400, reply.status(), reply.body());
+            JsonNode error = reply.json().get("errors").get(0);
+            assertEquals("maxPoints", error.get("field").asText());
+            assertEquals("got \"" + got + "\", expected a whole number from 2 to 20000: a series holds the window's"
+                    + " first and last sample", error.get("detail").asText());
+        }
     }
 
     private JsonNode reference(String name) throws Exception {

@@ -163,6 +163,10 @@ class TraceIntakeTest {
         assertEquals(TraceRefused.Reason.UNKNOWN_VERSION, missing.reason());
         assertEquals("version", missing.field());
         assertEquals("model version reefer-40/9 does not exist", missing.getMessage());
+        TraceRefused noFamily = assertThrows(TraceRefused.class, () -> intake(10).submit(new TracePost("RCX-3", "reefer-99", 1,
+                "text/csv", null, TracePost.CsvQuery.NONE, unread())));
+        assertEquals("model", noFamily.field());
+        assertEquals("model family reefer-99 does not exist", noFamily.getMessage());
 
         store.models().retireVersion(FAMILY, 1);
         TraceRefused retired = assertThrows(TraceRefused.class, () -> intake(10).submit(new TracePost("RCX-3", FAMILY, 1,
