@@ -112,10 +112,22 @@ public final class TraceIntake {
             ModelException worded = e.withTimeWords(RecordingTime::words);
             throw OPTION_FIELDS.contains(e.field().split("[.\\[]", 2)[0]) ? worded.renamed(optionsAt + e.field()) : worded;
         }
+        requireSomeValue(parsed, isJson(post));
         List<TraceWarning> warnings = new ArrayList<>(TraceWarning.ofWindow(times[0], times[times.length - 1], clock.instant()));
         warnings.addAll(TraceWarning.ofOutputs(model.document(), parsed::hasValues, isJson(post))); // before the encoding takes the columns
         return new Checked(new NewTrace(post.unitId(), version.family(), version.version(), times.length, times[0],
                 times[times.length - 1], codec.encode(parsed)), warnings);
+    }
+
+    /** A trace whose outputs are all missing cannot be solved: refused now rather than taken and failed later. */
+    private static void requireSomeValue(ParsedColumns parsed, boolean json) {
+        for (int j = 0; j < parsed.outputCount(); j++) {
+            if (parsed.hasValues(j)) {
+                return;
+            }
+        }
+        throw new ModelException(json ? "outputs" : "body", "got no value in any output (every sample of every output"
+                + " is missing), expected at least one value to estimate from");
     }
 
     private static boolean isJson(TracePost post) {

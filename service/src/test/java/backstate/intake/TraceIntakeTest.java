@@ -6,6 +6,7 @@ import static org.junit.jupiter.api.Assertions.assertNotEquals;
 import static org.junit.jupiter.api.Assertions.assertThrows;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
+import backstate.estimation.ModelException;
 import backstate.estimation.Trace;
 import backstate.formats.CheckedModels;
 import backstate.formats.InputException;
@@ -174,6 +175,26 @@ class TraceIntakeTest {
         assertEquals(TraceRefused.Reason.RETIRED_VERSION, retired.reason());
         assertEquals(0, store.queue().queuedCount());
         assertEquals(0, wakes.get());
+    }
+
+    /** Taken, its job could only fail: there is nothing to estimate from. */
+    @Test
+    void a_trace_whose_every_output_is_missing_is_refused_and_queues_nothing() {
+        String[] lines = new String(csv, java.nio.charset.StandardCharsets.UTF_8).split("\n");
+        StringBuilder blank = new StringBuilder(lines[0]).append('\n');
+        for (int i = 1; i < lines.length; i++) {
+            String[] cells = lines[i].split(",", -1);
+            cells[1] = "";
+            cells[2] = ""; // the header is time, return_air, supply_air, then the inputs
+            blank.append(String.join(",", cells)).append('\n');
+        }
+        assertEquals("time,return_air,supply_air", String.join(",", java.util.Arrays.copyOf(lines[0].split(","), 3)));
+        ModelException e = assertThrows(ModelException.class, () -> intake(10).submit(csvPost("RCX-9", 1, null,
+                blank.toString().getBytes(java.nio.charset.StandardCharsets.UTF_8))));
+        assertEquals("body", e.field());
+        assertEquals("got no value in any output (every sample of every output is missing), expected at least one value"
+                + " to estimate from", e.problem());
+        assertEquals(0, store.queue().queuedCount());
     }
 
     @Test
