@@ -146,8 +146,8 @@ public final class RegressionReport {
         Double perDofC = dofC > 0 ? EstimateDocument.num(chi2C / dofC) : null;
         Double delta = dofB > 0 ? EstimateDocument.num(chi2C / dofC - chi2B / dofB) : null;
         if (delta != null && delta > tolerances.maxChi2PerDofIncrease()) {
-            reasons.add(String.format(Locale.ROOT, "χ²/dof rose by %.4f, more than maxChi2PerDofIncrease %s",
-                    delta, tolerances.maxChi2PerDofIncrease()));
+            reasons.add("χ²/dof rose by " + sixDigits(delta) + ", more than maxChi2PerDofIncrease "
+                    + tolerances.maxChi2PerDofIncrease());
         }
         if (tolerances.maxX0ShiftSe() != null && !Double.isNaN(maxShift) && maxShift > tolerances.maxX0ShiftSe()) {
             reasons.add(String.format(Locale.ROOT, "x̂0 moved by %.3f standard errors, more than maxX0ShiftSe %s",
@@ -191,5 +191,14 @@ public final class RegressionReport {
         }
         return EstimateDocument.num(new Percentile().withEstimationType(Percentile.EstimationType.R_7)
                 .evaluate(sorted, p));
+    }
+
+    /**
+     * Six significant digits, plain below 10⁹ and as a power of ten above it: a candidate that
+     * does not fit at all can raise χ²/dof by 10²⁸, which fixed decimals would print in 33 digits.
+     */
+    static String sixDigits(double value) {
+        java.math.BigDecimal d = new java.math.BigDecimal(value).round(new java.math.MathContext(6)).stripTrailingZeros();
+        return Math.abs(value) < 1e9 ? d.toPlainString() : d.toString();
     }
 }

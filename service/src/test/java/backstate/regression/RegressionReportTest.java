@@ -143,4 +143,13 @@ class RegressionReportTest {
         assertEquals(3, partial.tracesTotal());
         assertNull(partial.verdict());
     }
+
+    /** A candidate that does not fit at all raises χ²/dof by orders of magnitude: printed in six digits, not 33. */
+    @org.junit.jupiter.api.Test
+    void a_rise_is_printed_in_six_significant_digits_whatever_its_size() {
+        assertEquals("43.0028", RegressionReport.sixDigits(43.00281234));
+        assertEquals("0.5", RegressionReport.sixDigits(0.5));
+        assertEquals("1.30137E+28", RegressionReport.sixDigits(1.3013660068469653e28));
+        assertEquals("999999", RegressionReport.sixDigits(999999.4));
+    }
 }
