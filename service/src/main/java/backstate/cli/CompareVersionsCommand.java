@@ -22,8 +22,9 @@ import java.util.Set;
  * over stored traces (a regression run, {@code POST /v1/regressions}), shows its progress,
  * prints the summary, and exits with the verdict, for CI pipelines. It needs an admin or
  * pipeline key when the server has keys on.
- * Exit codes: 0 pass, 1 fail, 2 bad input or server unreachable, 3 no verdict (the run failed
- * or was cancelled on the server). {@code --help} prints the usage and exits 0.
+ * Exit codes: 0 pass, 1 fail, 2 bad input or server unreachable before the run started, 3 no
+ * verdict (the run failed or was cancelled on the server, or the server was lost while following
+ * it). {@code --help} prints the usage and exits 0.
  */
 public final class CompareVersionsCommand {
     /** The command's name on the command line. */
@@ -104,10 +105,16 @@ public final class CompareVersionsCommand {
         String shown = "";
         while (!finished(run)) {
             Thread.sleep(POLL.toMillis());
-            HttpResponse<String> polled = send(HttpRequest.newBuilder(uri("/v1/regressions/" + id)).GET());
+            HttpResponse<String> polled;
+            try {
+                polled = send(HttpRequest.newBuilder(uri("/v1/regressions/" + id)).GET());
+            } catch (IOException e) {
+                err.println("backstate " + NAME + ": lost " + server + " while following the run: " + unreachable(e));
+                return runGoesOn(id);
+            }
             if (polled.statusCode() != 200) {
                 printProblem("reading the run failed", polled);
-                return BAD_INPUT;
+                return runGoesOn(id);
             }
             run = mapper.readTree(polled.body());
             String progress = run.path("progress").path("done").asInt() + "/" + run.path("progress").path("total").asInt()
@@ -118,6 +125,12 @@ public final class CompareVersionsCommand {
             }
         }
         return summarise(run);
+    }
+
+    /** The run was started, so it goes on without us: no verdict here (exit 3), and where to read it. */
+    private int runGoesOn(String id) {
+        err.println("  the run goes on on the server; its verdict will be at " + server + "/v1/regressions/" + id);
+        return NO_VERDICT;
     }
 
     private static boolean finished(JsonNode run) {

@@ -6,6 +6,7 @@ import static org.junit.jupiter.api.Assertions.assertTrue;
 import backstate.api.TestServer;
 import java.net.ServerSocket;
 import java.nio.file.Files;
+import java.nio.charset.StandardCharsets;
 import java.nio.file.Path;
 import java.util.List;
 import org.junit.jupiter.api.AfterAll;
@@ -109,6 +110,32 @@ class CompareVersionsCommandTest {
         assertEquals(CompareVersionsCommand.BAD_INPUT, run.exit());
         assertEquals("backstate compare-versions: cannot reach http://127.0.0.1:" + closedPort
                 + ": connection refused (is the service running there?)" + System.lineSeparator(), run.err());
+    }
+
+    /** The run was started, so a server lost while following it leaves no verdict (3), not bad input (2). */
+    @Test
+    void a_server_lost_after_the_run_started_exits_3_with_the_runs_address() throws Exception {
+        com.sun.net.httpserver.HttpServer fake = com.sun.net.httpserver.HttpServer.create(
+                new java.net.InetSocketAddress("127.0.0.1", 0), 0);
+        fake.createContext("/v1/regressions", exchange -> {
+            boolean start = exchange.getRequestMethod().equals("POST");
+            byte[] body = (start ? "{\"id\":\"r-1\",\"family\":\"reefer-40\",\"baseline\":1,\"candidate\":2,"
+                    + "\"state\":\"queued\",\"progress\":{\"done\":0,\"total\":3}}"
+                    : "{\"type\":\"/problems/service-unavailable\",\"detail\":\"restarting\"}").getBytes(StandardCharsets.UTF_8);
+            exchange.sendResponseHeaders(start ? 202 : 503, body.length);
+            exchange.getResponseBody().write(body);
+            exchange.close();
+        });
+        fake.start();
+        try {
+            String base = "http://127.0.0.1:" + fake.getAddress().getPort();
+            CommandRun run = compareVersions("--server", base, "--family", "reefer-40", "--baseline", "1", "--candidate", "2");
+            assertEquals(CompareVersionsCommand.NO_VERDICT, run.exit(), run.err());
+            assertTrue(run.err().contains("the run goes on on the server; its verdict will be at " + base + "/v1/regressions/r-1"),
+                    run.err());
+        } finally {
+            fake.stop(0);
+        }
     }
 
     @Test
