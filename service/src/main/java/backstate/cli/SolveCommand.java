@@ -1,5 +1,6 @@
 package backstate.cli;
 
+import backstate.estimation.Formulation;
 import backstate.estimation.ModelException;
 import backstate.formats.DocumentSolver;
 import backstate.formats.EstimateCaution;
@@ -70,7 +71,9 @@ public final class SolveCommand {
             Path traceFile = file(flags, "trace");
             TraceOptions flagged = options(flags);
             ParsedColumns columns = readColumns(traceFile, model, flagged);
-            List<TraceWarning> warnings = TraceWarning.ofOutputs(model, columns::hasValues, isJson(traceFile));
+            Formulation formulation = TraceOptions.formulation("formulation",
+                    columns.options().overriddenBy(flagged).formulation());
+            List<TraceWarning> warnings = TraceWarning.ofOutputs(model, columns, formulation, isJson(traceFile));
             ParsedTrace assembled = columns.assemble();
             // The flags override a JSON trace's own options field by field (a CSV trace was read with them).
             ParsedTrace trace = new ParsedTrace(assembled.trace(), assembled.options().overriddenBy(flagged));

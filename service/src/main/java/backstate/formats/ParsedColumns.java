@@ -59,16 +59,19 @@ public final class ParsedColumns {
 
     /** True when output j has at least one value in the window (a missing sample is NaN, or no column at all). */
     public boolean hasValues(int j) {
+        return values(j, 1) > 0;
+    }
+
+    /** How many values output j has in the window, counted up to {@code atMost}. */
+    public int values(int j, int atMost) {
         DoubleColumn column = outputs[j];
-        if (column == null) {
-            return false;
-        }
-        for (int k = 0; k < column.size(); k++) {
+        int count = 0;
+        for (int k = 0; column != null && k < column.size() && count < atMost; k++) {
             if (!Double.isNaN(column.get(k))) {
-                return true;
+                count++;
             }
         }
-        return false;
+        return count;
     }
 
     DoubleColumn input(int i) {

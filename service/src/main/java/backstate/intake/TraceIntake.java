@@ -1,5 +1,6 @@
 package backstate.intake;
 
+import backstate.estimation.EstimationOptions;
 import backstate.estimation.InitialStateEstimator;
 import backstate.estimation.ModelException;
 import backstate.estimation.StateSpaceModel;
@@ -105,16 +106,17 @@ public final class TraceIntake {
         StateSpaceModel engine = model.engine();
         double[] times = parsed.timesView();
         String optionsAt = isJson(post) ? "options." : "";
+        EstimationOptions options;
         try {
-            InitialStateEstimator.validate(engine, times, parsed.outputCount(), parsed.inputCount(),
-                    parsed.options().toEstimationOptions(engine.states(), false));
+            options = parsed.options().toEstimationOptions(engine.states(), false);
+            InitialStateEstimator.validate(engine, times, parsed.outputCount(), parsed.inputCount(), options);
         } catch (ModelException e) {
             ModelException worded = e.withTimeWords(RecordingTime::words);
             throw OPTION_FIELDS.contains(e.field().split("[.\\[]", 2)[0]) ? worded.renamed(optionsAt + e.field()) : worded;
         }
         requireSomeValue(parsed, isJson(post));
         List<TraceWarning> warnings = new ArrayList<>(TraceWarning.ofWindow(times[0], times[times.length - 1], clock.instant()));
-        warnings.addAll(TraceWarning.ofOutputs(model.document(), parsed::hasValues, isJson(post))); // before the encoding takes the columns
+        warnings.addAll(TraceWarning.ofOutputs(model.document(), parsed, options.formulation(), isJson(post))); // before the encoding takes the columns
         return new Checked(new NewTrace(post.unitId(), version.family(), version.version(), times.length, times[0],
                 times[times.length - 1], codec.encode(parsed)), warnings);
     }

@@ -177,20 +177,46 @@ class TraceIntakeTest {
         assertEquals(0, wakes.get());
     }
 
+    /** The demo CSV with the given output columns (1 return_air, 2 supply_air) blank but for the rows {@code keep}. */
+    private byte[] blanked(int[] columns, int... keep) {
+        String[] lines = new String(csv, java.nio.charset.StandardCharsets.UTF_8).split("\n");
+        assertEquals("time,return_air,supply_air", String.join(",", java.util.Arrays.copyOf(lines[0].split(","), 3)));
+        StringBuilder out = new StringBuilder(lines[0]).append('\n');
+        for (int i = 1; i < lines.length; i++) {
+            String[] cells = lines[i].split(",", -1);
+            final int row = i;
+            if (java.util.Arrays.stream(keep).noneMatch(k -> k == row)) {
+                for (int c : columns) {
+                    cells[c] = "";
+                }
+            }
+            out.append(String.join(",", cells)).append('\n');
+        }
+        return out.toString().getBytes(java.nio.charset.StandardCharsets.UTF_8);
+    }
+
+    /** The continuous formulation's trapezoid gives a lone value no weight: said, as a dead output is. */
+    @Test
+    void an_output_with_one_value_is_warned_of_under_the_continuous_formulation_only() throws Exception {
+        byte[] lone = blanked(new int[] {2}, 5);
+        TracePost continuous = new TracePost("RCX-10", FAMILY, 1, "text/csv", null,
+                new TracePost.CsvQuery("continuous", null, null), () -> new ByteArrayInputStream(lone));
+        Receipt warned = intake(10).submit(continuous);
+        assertEquals(List.of(new TraceWarning("column supply_air", "one value in the window: the continuous formulation"
+                + " weighs a value by the time it covers up to its neighbours, and a lone value has none, so this output"
+                + " does not count; the sampled formulation would use it")), outputWarnings(warned));
+        assertEquals(List.of(), outputWarnings(intake(10).submit(csvPost("RCX-10", 1, null, lone))), "sampled");
+    }
+
+    private static List<TraceWarning> outputWarnings(Receipt receipt) {
+        return receipt.warnings().stream().filter(w -> !w.field().equals("time")).toList();
+    }
+
     /** Taken, its job could only fail: there is nothing to estimate from. */
     @Test
     void a_trace_whose_every_output_is_missing_is_refused_and_queues_nothing() {
-        String[] lines = new String(csv, java.nio.charset.StandardCharsets.UTF_8).split("\n");
-        StringBuilder blank = new StringBuilder(lines[0]).append('\n');
-        for (int i = 1; i < lines.length; i++) {
-            String[] cells = lines[i].split(",", -1);
-            cells[1] = "";
-            cells[2] = ""; // the header is time, return_air, supply_air, then the inputs
-            blank.append(String.join(",", cells)).append('\n');
-        }
-        assertEquals("time,return_air,supply_air", String.join(",", java.util.Arrays.copyOf(lines[0].split(","), 3)));
-        ModelException e = assertThrows(ModelException.class, () -> intake(10).submit(csvPost("RCX-9", 1, null,
-                blank.toString().getBytes(java.nio.charset.StandardCharsets.UTF_8))));
+        byte[] blank = blanked(new int[] {1, 2});
+        ModelException e = assertThrows(ModelException.class, () -> intake(10).submit(csvPost("RCX-9", 1, null, blank)));
         assertEquals("body", e.field());
         assertEquals("got no value in any output (every sample of every output is missing), expected at least one value"
                 + " to estimate from", e.problem());
