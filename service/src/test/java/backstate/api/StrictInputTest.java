@@ -136,6 +136,8 @@ class StrictInputTest {
         assertEquals("failed", job.get("state").asText(), job.toString());
         String error = job.toString();
         assertTrue(error.contains("leaves the floating-point range"), error);
+        assertTrue(java.util.regex.Pattern.compile("over this trace's \\d+(\\.\\d{1,6})? s leaves").matcher(error).find(),
+                "the window's span in plain digits, to the microsecond: " + error);
         assertFalse(error.contains("unobservable"), error);
         assertFalse(error.contains("Exception"), error);
         assertFalse(error.contains("null"), error);
