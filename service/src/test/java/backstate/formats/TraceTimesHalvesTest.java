@@ -82,7 +82,9 @@ class TraceTimesHalvesTest {
                 return "InputException: time[" + k + "]: got " + v + " s since 1970, expected a time in the years 0000 to 9999";
             }
             if (k > 0 && !(rounded > before)) {
-                return "ModelException: time[" + k + "]: got " + v + ", within 1 µs of the time before it, expected times at"
+                // The number as the trace wrote it, in plain digits (0.0000001, not 1.0E-7).
+                String written = java.math.BigDecimal.valueOf(v).stripTrailingZeros().toPlainString();
+                return "ModelException: time[" + k + "]: got " + written + " s, within 1 µs of the time before it, expected times at"
                         + " least 1 µs apart";
             }
             before = rounded;
