@@ -98,6 +98,46 @@ public final class MatrixExponential {
     }
 
     /**
+     * Returns exp(M t) for a block upper-triangular M = [[X, Y], [0, Z]], X of size k×k, as Van
+     * Loan's integrals need it, with Y balanced against the diagonal blocks first. The squaring
+     * count of scaling and squaring follows ‖M t‖₁, so a Y far larger than X and Z (an input matrix
+     * in small units, a large weight) would square X's block many more times than exp(X t) needs,
+     * and its error grows with every squaring. With S = diag(I, βI), exp(S M S⁻¹ t) has the same
+     * diagonal blocks and its off-diagonal block divided by β, which is multiplied back; β is a
+     * power of two, so the scaling itself is exact. Method: Higham 2005, Algorithm 2.3, on the
+     * diagonally scaled block (the balancing is a diagonal similarity; Higham 2008, Functions of
+     * Matrices, §10.6 discusses scaling such blocks — from memory).
+     *
+     * @throws IllegalArgumentException if k is not in 1..size−1, or as {@link #exp(double[], int, double)}
+     */
+    public static double[] expBlockUpper(double[] m, int size, int k, double t) {
+        LinearSystemArguments.requireAtLeast("size", size, 2);
+        if (k < 1 || k >= size) {
+            throw new IllegalArgumentException("got k " + k + ", expected 1 to " + (size - 1));
+        }
+        LinearSystemArguments.requireMatrix("m", m, size, size);
+        LinearSystemArguments.requireFinite("t", t);
+        double diagonal = Math.max(Matrices.norm1(Matrices.block(m, size, 0, 0, k, k), k, k),
+                Matrices.norm1(Matrices.block(m, size, k, k, size - k, size - k), size - k, size - k)) * Math.abs(t);
+        double offDiagonal = Matrices.norm1(Matrices.block(m, size, 0, k, k, size - k), k, size - k) * Math.abs(t);
+        int shift = offDiagonal > Math.max(diagonal, 1.0)
+                ? Math.getExponent(offDiagonal / Math.max(diagonal, 1.0)) + 1 : 0;
+        double[] balanced = m.clone();
+        for (int i = 0; i < k; i++) {
+            for (int j = k; j < size; j++) {
+                balanced[i * size + j] = Math.scalb(balanced[i * size + j], -shift);
+            }
+        }
+        double[] f = exp(balanced, size, t);
+        for (int i = 0; i < k; i++) {
+            for (int j = k; j < size; j++) {
+                f[i * size + j] = Math.scalb(f[i * size + j], shift);
+            }
+        }
+        return f;
+    }
+
+    /**
      * Chooses the Padé degree and squaring count from ‖A‖₁ as in Higham 2005, Algorithm 2.3:
      * the lowest m ∈ {3, 5, 7, 9} with ‖A‖₁ ≤ θ_m, else m = 13 with the least s ≥ 0 such that
      * ‖A‖₁ / 2^s ≤ θ_13.

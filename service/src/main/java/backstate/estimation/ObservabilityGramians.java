@@ -60,7 +60,7 @@ public final class ObservabilityGramians {
         Matrices.copyBlock(transposed, n, n, n, augmented, size, 0, 0);
         Matrices.copyBlock(weight, n, n, n, augmented, size, 0, n);
         Matrices.copyBlock(a, n, n, n, augmented, size, n, n);
-        double[] f = MatrixExponential.exp(augmented, size, tau);
+        double[] f = MatrixExponential.expBlockUpper(augmented, size, n, tau);
 
         double[] phi = Matrices.block(f, size, n, n, n, n);
         double[] w = Matrices.multiply(Matrices.transpose(phi, n, n), Matrices.block(f, size, 0, n, n, n), n, n, n);

@@ -59,7 +59,7 @@ public final class ProcessNoiseCovariance {
                 block[(n + i) * size + n + j] = a[j * n + i];
             }
         }
-        double[] f = MatrixExponential.exp(block, size, t);
+        double[] f = MatrixExponential.expBlockUpper(block, size, n, t);
         double[] phi = Matrices.transpose(Matrices.block(f, size, n, n, n, n), n, n);
         double[] q = symmetric(Matrices.multiply(phi, Matrices.block(f, size, 0, n, n, n), n, n, n), n);
         for (int s = 0; s < doublings; s++) {

@@ -26,7 +26,9 @@ public final class ZeroOrderHold {
     }
 
     /**
-     * Returns Ad = exp(A h) and Bd = ∫₀ʰ exp(A s) ds B, both read off exp([[A, B], [0, 0]] h).
+     * Returns Ad = exp(A h) and Bd = ∫₀ʰ exp(A s) ds B, both read off exp([[A, B], [0, 0]] h), with
+     * B balanced against A ({@link MatrixExponential#expBlockUpper}) so that the unit an input is
+     * given in does not change the accuracy of Ad.
      * Method: C. F. Van Loan, "Computing integrals involving the matrix exponential",
      * IEEE Trans. Automat. Control 23(3):395–404, 1978.
      *
@@ -39,11 +41,14 @@ public final class ZeroOrderHold {
         double[] input = LinearSystemArguments.requireInputMatrix("b", b, n, m);
         LinearSystemArguments.requirePositive("h", h);
 
+        if (m == 0) {
+            return new Step(MatrixExponential.exp(a, n, h), input, n, 0);
+        }
         int size = n + m;
         double[] augmented = new double[size * size];
         Matrices.copyBlock(a, n, n, n, augmented, size, 0, 0);
         Matrices.copyBlock(input, m, n, m, augmented, size, 0, n);
-        double[] f = MatrixExponential.exp(augmented, size, h);
+        double[] f = MatrixExponential.expBlockUpper(augmented, size, n, h);
         return new Step(Matrices.block(f, size, 0, 0, n, n), Matrices.block(f, size, 0, n, n, m), n, m);
     }
 

@@ -53,6 +53,24 @@ class ZeroOrderHoldTest {
         assertEquals(b * -Math.expm1(-a * h) / a, step.input()[0], CLOSED_FORM_ABSOLUTE);
     }
 
+    /**
+     * The unit an input is given in must not change the transition: b from 1e-3 to 1e9 over a slow
+     * lag (a h = −1e-3) leaves Ad = e^{ah} and Bd/b = (e^{ah} − 1)/a to a few ulp. Closed form as
+     * above (Math.exp and Math.expm1, each within 1 ulp). Squared by the whole block's norm
+     * instead, Ad's relative error was 1e-11 at b = 1, 1e-8 at 1e3 and 1e-3 at 1e9.
+     */
+    @Test
+    void the_scale_of_b_does_not_change_the_accuracy_of_either_matrix() {
+        double a = -1e-9;
+        double h = 1e6;
+        for (double b : new double[] {1e-3, 1.0, 1e3, 1e6, 1e9}) {
+            ZeroOrderHold.Step step = ZeroOrderHold.discretize(new double[] {a}, new double[] {b}, 1, 1, h);
+            assertEquals(Math.exp(a * h), step.transition()[0], 4 * Math.ulp(1.0), "Ad with b = " + b);
+            double expected = b * Math.expm1(a * h) / a;
+            assertEquals(expected, step.input()[0], 4 * Math.ulp(expected), "Bd with b = " + b);
+        }
+    }
+
     @Test
     void no_inputs_gives_the_exponential_and_an_empty_input_matrix() {
         // Closed form: with m = 0 the block is A itself; rotation generator as in MatrixExponentialTest.
