@@ -15,6 +15,12 @@ final class SampleSteps {
     static final double TICK_SECONDS = 1e-6;
     /** A discrete-model time may sit off its grid point by this fraction of a period (float noise in the posted times). */
     static final double GRID_TOLERANCE = 1e-6;
+    /**
+     * ... or by half a tick: times are kept to the microsecond, so a grid point between two ticks
+     * is posted rounded to the nearer one (a 0.01 s grid at an epoch of 1.8e9 s, where a double
+     * itself only resolves 0.24 µs, is still a grid).
+     */
+    static final double HALF_TICK_MICROS = 0.5 + 1e-6;
 
     private final double t0;
     private final double unitSeconds;
@@ -33,28 +39,32 @@ final class SampleSteps {
 
     /** Offset of time t from t0 in whole units; for a discrete model, rejects a time off the grid. */
     long unitsFromStart(double t, String field) {
-        long rounded = Math.round((t - t0) / unitSeconds);
-        if (offGrid(t, rounded)) {
-            throw offGridError(field, t);
-        }
-        return rounded;
+        return units(t, field);
     }
 
     /** As {@link #unitsFromStart(double, String)} for sample k, naming {@code time[k]} only when it throws. */
     long unitsOfSample(int k, double t) {
-        long rounded = Math.round((t - t0) / unitSeconds);
-        if (offGrid(t, rounded)) {
-            throw offGridError("time[" + k + "]", t);
+        return discrete ? units(t, "time[" + k + "]") : Math.round((t - t0) / unitSeconds);
+    }
+
+    private long units(double t, String field) {
+        if (!discrete) {
+            return Math.round((t - t0) / unitSeconds);
+        }
+        // Times sit on the microsecond grid, so the offset in whole microseconds is exact, whatever the epoch.
+        double offsetMicros = Math.rint((t - t0) / TICK_SECONDS);
+        double periodMicros = unitSeconds / TICK_SECONDS;
+        long rounded = Math.round(offsetMicros / periodMicros);
+        double off = Math.abs(offsetMicros - rounded * periodMicros);
+        if (off > Math.max(HALF_TICK_MICROS, GRID_TOLERANCE * periodMicros)) {
+            throw offGridError(field, t, offsetMicros / periodMicros);
         }
         return rounded;
     }
 
-    private boolean offGrid(double t, long rounded) {
-        return discrete && Math.abs((t - t0) / unitSeconds - rounded) > GRID_TOLERANCE;
-    }
-
-    private ModelException offGridError(String field, double t) {
+    private ModelException offGridError(String field, double t, double periods) {
+        String plain = new java.math.BigDecimal(periods).round(new java.math.MathContext(9)).stripTrailingZeros().toPlainString();
         return ModelException.ofTime(field, t, "a whole number of sample periods (" + Figure.exact(unitSeconds)
-                + " s) after the first sample; it is " + Figure.of((t - t0) / unitSeconds) + " periods after it");
+                + " s) after the first sample; it is " + plain + " periods after it");
     }
 }
