@@ -204,10 +204,13 @@ def ljung_box(e):
 def interval_half_widths(covariance, chi_square, dof, sigma_all_given):
     """95 % intervals by the rule the estimator documents (its Javadoc, not its code): normal quantile
     times the standard error when every sigma is given, else Student-t(dof) quantile times the
-    standard error scaled by sqrt(chi2/dof). Quantiles from scipy.stats."""
+    standard error scaled by sqrt(chi2/dof), and none when no sigma is given and dof = 0. Quantiles
+    from scipy.stats."""
     se = np.sqrt(np.diag(covariance))
-    if sigma_all_given or dof == 0:
+    if sigma_all_given:
         return {"quantile": float(stats.norm.ppf(0.975)), "halfWidth": vec(stats.norm.ppf(0.975) * se)}
+    if dof == 0:
+        return {"quantile": None, "halfWidth": [None] * len(se)}
     factor = float(stats.t.ppf(0.975, dof))
     return {"quantile": factor, "halfWidth": vec(factor * se * math.sqrt(chi_square / dof))}
 

@@ -193,11 +193,15 @@ public final class InitialStateEstimator {
         return out;
     }
 
-    /** Normal quantiles when every σ was given; Student-t with dof when σ is estimated from the residuals. */
+    /**
+     * Normal quantiles when every σ was given; Student-t with dof when σ is estimated from the
+     * residuals; none (NaN, written null) when σ is not given and no residual is left to estimate
+     * it from, since the assumed σ = 1 would make the interval's width a matter of the output's unit.
+     */
     static StateUncertainty.Rule intervalRule(SolveContext ctx, double sigmaScale, int dof) {
         double tail = 0.5 + CONFIDENCE / 2.0;
-        if (!ctx.noise.allGiven() && dof > 0) {
-            double t = new TDistribution(null, dof, INVERSE_ACCURACY).inverseCumulativeProbability(tail);
+        if (!ctx.noise.allGiven()) {
+            double t = dof > 0 ? new TDistribution(null, dof, INVERSE_ACCURACY).inverseCumulativeProbability(tail) : Double.NaN;
             return new StateUncertainty.Rule(t, true, sigmaScale);
         }
         double z = new NormalDistribution(null, 0.0, 1.0).inverseCumulativeProbability(tail);
