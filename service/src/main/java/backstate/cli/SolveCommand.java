@@ -26,6 +26,7 @@ import java.io.InputStream;
 import java.io.PrintStream;
 import java.nio.file.Files;
 import java.nio.file.Path;
+import java.util.Arrays;
 import java.util.LinkedHashMap;
 import java.util.List;
 import java.util.Map;
@@ -45,8 +46,11 @@ public final class SolveCommand {
     static final int BAD_INPUT = 2;
     static final int UNOBSERVABLE = 3;
     static final String USAGE = "usage: backstate solve --model FILE --trace FILE [--formulation sampled|continuous|process_noise]"
-            + " [--offsets] [--reference-time SECONDS]";
+            + " [--offsets] [--reference-time SECONDS|RFC3339]";
     private static final Set<String> VALUED_FLAGS = Set.of("model", "trace", "formulation", "reference-time");
+    /** The reference time's name where the trace reader and the engine refuse it, and the flag that set it. */
+    private static final String REFERENCE_OPTION = "referenceTime";
+    private static final String REFERENCE_FLAG = "--reference-time";
     private static final String SWITCH_OFFSETS = "offsets";
 
     private SolveCommand() {
@@ -69,14 +73,12 @@ public final class SolveCommand {
             ObjectMapper mapper = Json.mapper(Limits.DEFAULTS);
             ModelDocument model = readModel(mapper, file(flags, "model"));
             Path traceFile = file(flags, "trace");
-            TraceOptions flagged = options(flags);
-            ParsedColumns columns = readColumns(traceFile, model, flagged);
-            Formulation formulation = TraceOptions.formulation("formulation",
-                    columns.options().overriddenBy(flagged).formulation());
+            // The flags override a JSON trace's own options field by field; a CSV trace is read with them.
+            // A reference time is read on the trace's own clock, as the service reads it.
+            ParsedColumns columns = readColumns(traceFile, model, options(flags), flags.get("reference-time"));
+            Formulation formulation = TraceOptions.formulation("formulation", columns.options().formulation());
             List<TraceWarning> warnings = TraceWarning.ofOutputs(model, columns, formulation, isJson(traceFile));
-            ParsedTrace assembled = columns.assemble();
-            // The flags override a JSON trace's own options field by field (a CSV trace was read with them).
-            ParsedTrace trace = new ParsedTrace(assembled.trace(), assembled.options().overriddenBy(flagged));
+            ParsedTrace trace = columns.assemble();
             DocumentSolver.Outcome outcome = DocumentSolver.solve(model, trace, false, Limits.DEFAULTS);
             for (TraceWarning w : warnings) {
                 err.println("backstate solve: warning: " + w.field() + ": " + w.detail());
@@ -90,12 +92,22 @@ public final class SolveCommand {
             out.println(pretty.writeValueAsString(Map.of("error", u.message(), "unobservableDirections", u.directions())));
             return UNOBSERVABLE;
         } catch (ModelException e) {
-            err.println("backstate solve: " + e.withTimeWords(RecordingTime::words).getMessage());
+            ModelException worded = e.withTimeWords(RecordingTime::words);
+            err.println("backstate solve: " + (flagged(args, e.field()) ? worded.renamed(REFERENCE_FLAG) : worded).getMessage());
             return BAD_INPUT;
-        } catch (InputException | IllegalArgumentException | IOException e) {
+        } catch (InputException e) {
+            err.println("backstate solve: " + (flagged(args, e.field()) ? new InputException(REFERENCE_FLAG, e.problem()) : e)
+                    .getMessage());
+            return BAD_INPUT;
+        } catch (IllegalArgumentException | IOException e) {
             err.println("backstate solve: " + e.getMessage());
             return BAD_INPUT;
         }
+    }
+
+    /** True when a refusal of the reference time is about the flag's value rather than the trace's own. */
+    private static boolean flagged(String[] args, String field) {
+        return field.equals(REFERENCE_OPTION) && Arrays.asList(args).contains(REFERENCE_FLAG);
     }
 
     /**
@@ -119,29 +131,22 @@ public final class SolveCommand {
     }
 
     /** The trace's columns; a CSV trace takes the flags' options (it has none of its own), a JSON one keeps its own. */
-    private static ParsedColumns readColumns(Path path, ModelDocument model, TraceOptions flagged) throws IOException {
+    private static ParsedColumns readColumns(Path path, ModelDocument model, TraceOptions flagged, String referenceTime)
+            throws IOException {
         TraceReader reader = new TraceReader(Limits.DEFAULTS);
         try (InputStream in = Files.newInputStream(path)) {
-            return isJson(path) ? reader.readJsonColumns(in, model) : reader.readCsvColumns(in, model, flagged, null);
+            return isJson(path) ? reader.readJsonColumns(in, model, flagged, referenceTime)
+                    : reader.readCsvColumns(in, model, flagged, referenceTime);
         }
     }
 
-    /** The options the flags set; a field no flag names is null. */
+    /** The options the flags set but the reference time (read with the trace); a field no flag names is null. */
     static TraceOptions options(Map<String, String> flags) {
-        Double reference = null;
-        if (flags.containsKey("reference-time")) {
-            try {
-                reference = Double.valueOf(flags.get("reference-time"));
-            } catch (NumberFormatException e) {
-                throw new IllegalArgumentException("got --reference-time " + flags.get("reference-time")
-                        + ", expected a time in seconds");
-            }
-        }
         if (flags.containsKey("formulation")) {
             TraceOptions.formulation("--formulation", flags.get("formulation"));
         }
         return new TraceOptions(flags.get("formulation"), flags.containsKey(SWITCH_OFFSETS) ? Boolean.TRUE : null,
-                reference, null);
+                null, null);
     }
 
     private static Map<String, String> flags(String[] args) {

@@ -63,6 +63,17 @@ public final class TraceReader {
 
     /** {@link #readJson}, column by column: the trace not yet assembled. */
     public ParsedColumns readJsonColumns(InputStream body, ModelDocument model) throws IOException {
+        return readJsonColumns(body, model, TraceOptions.NONE, null);
+    }
+
+    /**
+     * {@link #readJsonColumns(InputStream, ModelDocument)} with each option {@code override} sets
+     * taken over the body's own, and a reference time, if given, read as a CSV post's query gives it
+     * (seconds on the trace's own clock, or RFC 3339) in place of the body's: what {@code backstate
+     * solve}'s flags do to a JSON trace.
+     */
+    public ParsedColumns readJsonColumns(InputStream body, ModelDocument model, TraceOptions override,
+                                         String referenceTime) throws IOException {
         TraceColumns columns = new TraceColumns(model, limits);
         TraceOptions options = TraceOptions.NONE;
         Long referenceMicros = null;
@@ -103,6 +114,16 @@ public final class TraceReader {
         if (!timed) {
             throw new InputException("time", "got nothing, expected a list of sample times, each a number of seconds or "
                     + RecordingTime.EXAMPLE);
+        }
+        options = options.overriddenBy(override.withReferenceTime(null));
+        if (referenceTime != null) {
+            options = options.withReferenceTime(null);
+            referenceMicros = null;
+            if (DECIMAL.matcher(referenceTime).matches()) {
+                options = options.withReferenceTime(csvNumber(referenceTime, "referenceTime", false));
+            } else {
+                referenceMicros = stampMicros(referenceTime, "referenceTime", SECONDS_OR);
+            }
         }
         return finish(columns, options, referenceMicros);
     }

@@ -6,6 +6,7 @@ import static org.junit.jupiter.api.Assertions.assertTrue;
 
 import backstate.api.TestServer;
 import backstate.formats.EstimateCaution;
+import backstate.formats.RecordingTime;
 import com.fasterxml.jackson.databind.JsonNode;
 import com.fasterxml.jackson.databind.ObjectMapper;
 import com.fasterxml.jackson.databind.node.ObjectNode;
@@ -112,7 +113,30 @@ class SolveCommandTest {
 
         CommandRun notANumber = solve("--model", MODEL.toString(), "--trace", TRACE.toString(), "--reference-time", "noon");
         assertEquals(SolveCommand.BAD_INPUT, notANumber.exit());
-        assertEquals("backstate solve: got --reference-time noon, expected a time in seconds" + System.lineSeparator(),
-                notANumber.err());
+        assertEquals("backstate solve: --reference-time: got \"noon\", expected seconds on the trace's clock or "
+                + RecordingTime.EXAMPLE + System.lineSeparator(), notANumber.err());
+    }
+
+    /**
+     * The flag's seconds count on the trace's own clock, as the service reads a reference time: from
+     * the declared start of a JSON trace (2026-12-01T04:00:00Z = 1 796 097 600 s since 1970, by
+     * java.time below), and an RFC 3339 time is taken as it is.
+     */
+    @Test
+    void the_reference_flag_reads_on_the_traces_own_clock_and_takes_rfc_3339() throws Exception {
+        ObjectNode trace = (ObjectNode) mapper.readTree(TRACE.toFile());
+        trace.put("start", "2026-12-01T06:00:00+02:00");
+        Path started = dir.resolve("started.json");
+        mapper.writeValue(started.toFile(), trace);
+        double start = java.time.Instant.parse("2026-12-01T04:00:00Z").getEpochSecond();
+        assertEquals(start + FLAG_REFERENCE, solved(started, "--reference-time", Double.toString(FLAG_REFERENCE))
+                .get("reference").get("time").asDouble());
+        assertEquals(start + 61_200, solved(started, "--reference-time", "2026-12-01T21:00:00Z")
+                .get("reference").get("time").asDouble());
+
+        CommandRun outside = solve("--model", MODEL.toString(), "--trace", started.toString(), "--reference-time", "10");
+        assertEquals(SolveCommand.BAD_INPUT, outside.exit());
+        assertTrue(outside.err().startsWith("backstate solve: --reference-time: got 2026-12-01T04:00:10Z, expected a time"
+                + " inside the window"), outside.err());
     }
 }

@@ -133,7 +133,7 @@ class SolveExitCodesTest {
 
         assertRefused("backstate solve: missing --trace FILE", "--model", model);
         assertRefused("backstate solve: got --speed, expected --model FILE --trace FILE [--formulation sampled|continuous|process_noise]"
-                + " [--offsets] [--reference-time SECONDS]", "--model", model, "--trace", trace, "--speed", "fast");
+                + " [--offsets] [--reference-time SECONDS|RFC3339]", "--model", model, "--trace", trace, "--speed", "fast");
         assertRefused("backstate solve: line 2, column return_air: got \"warm\", expected a decimal number or an empty cell"
                 + " for a missing sample",
                 "--model", model, "--trace", badCell.toString());
@@ -158,7 +158,7 @@ class SolveExitCodesTest {
         assertRefused("backstate solve: --model " + dir + ": got a folder, expected a file", "--model", dir.toString(),
                 "--trace", trace);
         // A time is refused in recording time (RFC 3339), as the service does: the demo trace runs 43200 s to 64800 s.
-        assertRefused("backstate solve: referenceTime: got 1970-01-01T19:26:40Z, expected a time inside the window"
+        assertRefused("backstate solve: --reference-time: got 1970-01-01T19:26:40Z, expected a time inside the window"
                 + " 1970-01-01T12:00:00Z to 1970-01-01T18:00:00Z", "--model", model, "--trace",
                 TestServer.TEST_DATA.resolve("demo/traces/RCX-85159.csv").toString(), "--reference-time", "70000");
         // A formulation the solver does not have is named by its flag, as the user typed it.
