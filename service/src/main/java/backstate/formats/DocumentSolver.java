@@ -66,9 +66,21 @@ public final class DocumentSolver {
         String along = largest.size() == 1 ? "mostly along " + largest.get(0)
                 : String.join(", ", largest.stream().map(name -> "one mostly along " + name).toList());
         String message = "unobservable: the trace does not determine " + Counted.of(directions.size(), "direction")
-                + " of the unknowns (" + along
-                + "); add a prior, measure another output, or record longer";
+                + " of the unknowns (" + along + "); " + remedy(largest);
         return new Outcome.NotObservable(message, directions);
+    }
+
+    /**
+     * What would fix the directions, by what they mostly lie along: a prior only bears on states, and
+     * an offset is told apart only from moving states and from an output with values.
+     */
+    private static String remedy(List<String> largest) {
+        boolean offsets = largest.stream().anyMatch(name -> name.startsWith(UnobservableDirection.Unknown.OFFSET_PREFIX));
+        boolean states = largest.stream().anyMatch(name -> !name.startsWith(UnobservableDirection.Unknown.OFFSET_PREFIX));
+        String forStates = "add a prior, measure another output, or record longer or more often";
+        String forOffsets = "estimate no offsets for this trace (an offset is told from the states only when they move"
+                + " in the window, and only on an output with values)";
+        return offsets && states ? forStates + "; or " + forOffsets : offsets ? forOffsets : forStates;
     }
 
     /** The unknowns in the estimator's order, as the estimate document names them (states, then "offset:" outputs). */

@@ -381,7 +381,7 @@ class OpenApiContractTest {
         assertFalse(job.has("estimateId"));
         assertEquals(1, job.get("errors").size());
         assertEquals("attempt 1: unobservable: the trace does not determine 1 direction of the unknowns (mostly along"
-                + " hidden); add a prior, measure another output, or record longer", job.get("errors").get(0).asText());
+                + " hidden); add a prior, measure another output, or record longer or more often", job.get("errors").get(0).asText());
         // Closed form: with C = [1 0] and A diagonal, [C; CA] = [[1, 0], [-0.001, 0]] has the null space span{(0, 1)}:
         // the hidden tank, as the model's own observability report says. A direction's sign is arbitrary.
         JsonNode directions = job.get("unobservableDirections");

@@ -78,6 +78,26 @@ class SolveExitCodesTest {
         assertEquals(0, estimate.get("residuals").get("channels").get(1).get("samples").asInt(), run.out());
     }
 
+    /**
+     * An offset the trace cannot tell from the states (one state seen through two sensors, the second
+     * dead): a prior on the states would not fix it, so the advice is about the offset.
+     */
+    @Test
+    void an_undetermined_offset_is_advised_about_as_an_offset() throws IOException {
+        Path model = write("two-sensors.json", "{\"timeDomain\":\"continuous\",\"states\":[{\"name\":\"air\"}],"
+                + "\"outputs\":[{\"name\":\"left\",\"noiseSigma\":0.1},{\"name\":\"right\",\"noiseSigma\":0.1}],"
+                + "\"a\":[[-0.001]],\"c\":[[1],[1]]}");
+        Path trace = write("dead-right.json", "{\"time\":[0,60,120,180],\"outputs\":{\"left\":[5,4.9,4.8,4.75],"
+                + "\"right\":[null,null,null,null]}}");
+
+        CommandRun run = CommandRun.of(SolveCommand::run, "--model", model.toString(), "--trace", trace.toString(), "--offsets");
+
+        assertEquals(3, run.exit(), run.out() + run.err());
+        String error = json.readTree(run.out()).get("error").asText();
+        assertTrue(error.endsWith("(mostly along offset:right); estimate no offsets for this trace (an offset is told"
+                + " from the states only when they move in the window, and only on an output with values)"), error);
+    }
+
     @Test
     void an_unobservable_trace_prints_the_directions_and_exits_3() throws IOException {
         Path model = write("pair.json", PAIR_MODEL);
@@ -90,7 +110,7 @@ class SolveExitCodesTest {
         JsonNode answer = json.readTree(run.out());
         assertEquals(List.of("error", "unobservableDirections"), fieldNames(answer));
         assertEquals("unobservable: the trace does not determine 1 direction of the unknowns (mostly along hidden);"
-                + " add a prior, measure another output, or record longer", answer.get("error").asText());
+                + " add a prior, measure another output, or record longer or more often", answer.get("error").asText());
         // Closed form: with C = [1 0] and A diagonal, [C; CA] = [[1, 0], [-0.001, 0]] has the null
         // space span{(0, 1)}: the hidden tank. A direction's sign is arbitrary.
         JsonNode directions = answer.get("unobservableDirections");
@@ -116,9 +136,9 @@ class SolveExitCodesTest {
         assertEquals(3, run.exit(), run.out() + run.err());
         String error = json.readTree(run.out()).get("error").asText();
         assertTrue(error.equals("unobservable: the trace does not determine 2 directions of the unknowns (one mostly along"
-                + " left, one mostly along right); add a prior, measure another output, or record longer")
+                + " left, one mostly along right); add a prior, measure another output, or record longer or more often")
                 || error.equals("unobservable: the trace does not determine 2 directions of the unknowns (one mostly along"
-                + " right, one mostly along left); add a prior, measure another output, or record longer"), error);
+                + " right, one mostly along left); add a prior, measure another output, or record longer or more often"), error);
     }
 
     @Test
