@@ -24,6 +24,10 @@ final class PostgresConnections implements Connections {
     /** A race lost three times in a row means something else is wrong; report it. */
     static final int WRITE_ATTEMPTS = 4;
 
+    /** Raises synchronous_commit to "on" where the server's or database's setting is weaker. */
+    static final String AT_LEAST_SYNCHRONOUS_COMMIT = "SELECT set_config('synchronous_commit', 'on', false)"
+            + " WHERE current_setting('synchronous_commit') IN ('off', 'local')";
+
     private final HikariDataSource pool;
 
     PostgresConnections(PostgresSettings settings) {
@@ -49,6 +53,10 @@ final class PostgresConnections implements Connections {
         config.setAutoCommit(true);
         // Start even while the server is down; requests get 503 until it is back.
         config.setInitializationFailTimeout(-1);
+        // A 2xx means committed for good: a server set to synchronous_commit = off (or local) would
+        // acknowledge commits it can still lose in a crash, so each connection asks for at least "on";
+        // a stronger setting (remote_write, remote_apply) is kept.
+        config.setConnectionInitSql(AT_LEAST_SYNCHRONOUS_COMMIT);
         config.addDataSourceProperty("ApplicationName", "backstate");
         config.addDataSourceProperty("tcpKeepAlive", "true");
         this.pool = new HikariDataSource(config);
