@@ -70,6 +70,10 @@ final class ChunkedRun {
             }
             List<Tracked> open = refresh();
             if (open.isEmpty()) {
+                // The last chunks may finish between two reports: the run's progress ends at its total.
+                if (!progress.last(done())) {
+                    return RegressionJobHandler.lost(job);
+                }
                 return new JobOutcome.Succeeded(null, tools.mapper().writeValueAsString(merged().build(true)));
             }
             if (!progress.report(done())) {
@@ -198,6 +202,7 @@ final class ChunkedRun {
     private JobOutcome cancel() throws Exception {
         stopChunks();
         RegressionReport partial = merged();
+        progress.last(partial.tracesDone()); // as far as the result goes; a lost attempt's refusal changes nothing here
         tools.regressions().cancelRegressionIfRunning(job.id(), job.attempt(),
                 tools.mapper().writeValueAsString(partial.build(false)), tools.clock().instant());
         // The run is cancelled (or was taken from this attempt): the runner drops this outcome.

@@ -27,7 +27,15 @@ final class ProgressWriter {
 
     /** Writes {@code done} when it is due; false when the job is no longer running at the attempt held. */
     boolean report(int done) {
-        boolean due = written < 0 || done == total ? done > written : done >= written + step;
+        return write(done, written < 0 || done == total ? done > written : done >= written + step);
+    }
+
+    /** Writes {@code done} unless it is already written: the run's last word, done or cancelled. */
+    boolean last(int done) {
+        return write(done, done > written);
+    }
+
+    private boolean write(int done, boolean due) {
         if (!due) {
             return true;
         }

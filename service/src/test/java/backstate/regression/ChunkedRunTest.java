@@ -60,14 +60,7 @@ class ChunkedRunTest {
         List<String> byWorker = new ArrayList<>();
         // At the run's first progress past 0 (it has queued its chunks and is doing one), "another
         // worker" does two of the others.
-        RegressionJobHandler run = demo.handler(demo.watching((jobId, done) -> {
-            if (jobId.equals(id) && byWorker.isEmpty() && done > 0) {
-                for (ClaimedJob chunk : demo.store.queue().claimNext(2, clock.instant())) {
-                    byWorker.add(chunk.id());
-                    assertInstanceOf(JobOutcome.Succeeded.class, demo.work(demo.handler(demo.store.queue(), PER_CHUNK), chunk));
-                }
-            }
-        }), PER_CHUNK);
+        RegressionJobHandler run = withAnotherWorker(id, 2, byWorker);
 
         JobOutcome.Succeeded done = assertInstanceOf(JobOutcome.Succeeded.class, run.handle(job));
         assertTrue(demo.store.queue().completeIfRunning(id, job.attempt(), null, done.resultJsonOrNull(), clock.instant()));
@@ -83,6 +76,35 @@ class ChunkedRunTest {
         assertEquals(reference, result);
         assertEquals(DemoRuns.TRACES, result.get("tracesDone").asInt());
         assertFalse(result.get("verdict").get("pass").asBoolean(), "v2 is worse on the demo fleet (RegressionRunTest)");
+    }
+
+    /** Chunks finished elsewhere between two of the run's progress writes still bring its progress to the total. */
+    @Test
+    void a_run_whose_last_chunks_finish_on_other_workers_ends_with_its_progress_at_the_total() throws Exception {
+        String id = demo.startRun();
+        ClaimedJob job = demo.claim(id);
+        List<String> byWorker = new ArrayList<>();
+        RegressionJobHandler run = withAnotherWorker(id, CHUNKS, byWorker);
+
+        JobOutcome.Succeeded done = assertInstanceOf(JobOutcome.Succeeded.class, run.handle(job));
+        assertTrue(demo.store.queue().completeIfRunning(id, job.attempt(), null, done.resultJsonOrNull(), clock.instant()));
+
+        assertEquals(CHUNKS - 1, byWorker.size(), "every chunk but the run's own was done elsewhere");
+        JsonNode row = demo.run(id);
+        assertEquals(DemoRuns.TRACES, row.get("result").get("tracesDone").asInt());
+        assertEquals(DemoRuns.TRACES, row.get("progress").get("done").asInt(), row.get("progress").toString());
+    }
+
+    /** The run's handler, with "another worker" doing up to {@code chunks} queued chunks at the run's first progress past 0. */
+    private RegressionJobHandler withAnotherWorker(String id, int chunks, List<String> byWorker) {
+        return demo.handler(demo.watching((jobId, done) -> {
+            if (jobId.equals(id) && byWorker.isEmpty() && done > 0) {
+                for (ClaimedJob chunk : demo.store.queue().claimNext(chunks, clock.instant())) {
+                    byWorker.add(chunk.id());
+                    assertInstanceOf(JobOutcome.Succeeded.class, demo.work(demo.handler(demo.store.queue(), PER_CHUNK), chunk));
+                }
+            }
+        }), PER_CHUNK);
     }
 
     @Test
