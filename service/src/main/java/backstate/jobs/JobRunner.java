@@ -5,6 +5,7 @@ import java.time.Duration;
 import java.time.Instant;
 import java.util.concurrent.Semaphore;
 import java.util.function.BooleanSupplier;
+import java.util.function.Consumer;
 import org.slf4j.Logger;
 import org.slf4j.LoggerFactory;
 
@@ -30,20 +31,24 @@ final class JobRunner {
     private final JobMetrics metrics;
     private final BooleanSupplier abandoned;
     private final Semaphore handlerSlots;
+    private final Consumer<ClaimedJob> outcomeWriting;
 
     /**
      * @param abandoned true once the pool has stopped waiting for its workers: a failure seen
      *                  after that (an interrupt, most likely) is left for rescue, not recorded
      * @param handlerSlots how many handlers may run at once, shared by every thread running jobs
+     * @param outcomeWriting told just before a job's outcome is written: from then on the job may
+     *                       stop being running at any moment, by this runner's own hand
      */
     JobRunner(JobQueue queue, JobHandler handler, Clock clock, JobMetrics metrics, BooleanSupplier abandoned,
-              Semaphore handlerSlots) {
+              Semaphore handlerSlots, Consumer<ClaimedJob> outcomeWriting) {
         this.queue = queue;
         this.handler = handler;
         this.clock = clock;
         this.metrics = metrics;
         this.abandoned = abandoned;
         this.handlerSlots = handlerSlots;
+        this.outcomeWriting = outcomeWriting;
     }
 
     void run(ClaimedJob job) {
@@ -87,6 +92,7 @@ final class JobRunner {
     }
 
     private String recordSuccess(ClaimedJob job, JobOutcome.Succeeded success) {
+        outcomeWriting.accept(job);
         boolean recorded = queue.completeIfRunning(job.id(), job.attempt(), success.estimateOrNull(),
                 success.resultJsonOrNull(), clock.instant());
         if (recorded && success.estimateOrNull() != null) {
@@ -100,6 +106,7 @@ final class JobRunner {
             return JobMetrics.LOST;
         }
         LOG.info("job {} attempt {} failed: {}", job.id(), job.attempt(), failed.error());
+        outcomeWriting.accept(job);
         boolean recorded = queue.failIfRunning(job.id(), job.attempt(), failed.error(), failed.detailsJsonOrNull(),
                 clock.instant());
         return recordedOrLost(job, recorded, JobMetrics.FAILED);
@@ -111,6 +118,7 @@ final class JobRunner {
         }
         // The exception is for the log; the job's reader gets words, never a class name or a library's message.
         LOG.error("job {} attempt {}: the handler failed unexpectedly", job.id(), job.attempt(), e);
+        outcomeWriting.accept(job);
         boolean recorded = queue.retryIfRunning(job.id(), job.attempt(), UNEXPECTED + job.id(), clock.instant());
         return recordedOrLost(job, recorded, JobMetrics.ERRORED);
     }

@@ -6,6 +6,7 @@ import java.time.Duration;
 import java.time.Instant;
 import java.util.List;
 import java.util.Map;
+import java.util.Set;
 import java.util.concurrent.ConcurrentHashMap;
 import java.util.concurrent.ExecutorService;
 import java.util.concurrent.Executors;
@@ -111,6 +112,8 @@ public final class WorkerPool implements AutoCloseable {
     private final Thread heartbeat;
     /** The jobs this pool holds (claimed, outcome not yet written), by ID: their leases are renewed. */
     private final Map<String, ClaimedJob> held = new ConcurrentHashMap<>();
+    /** The held jobs whose outcome this pool is writing or has written: not renewable, and not lost. */
+    private final Set<String> finishing = ConcurrentHashMap.newKeySet();
     private final AtomicBoolean started = new AtomicBoolean();
     private final AtomicBoolean closed = new AtomicBoolean();
     private volatile boolean stopping;
@@ -153,7 +156,8 @@ public final class WorkerPool implements AutoCloseable {
         this.heartbeat = namedDaemons("backstate-lease-").newThread(this::renewUntilStopped);
         this.metrics = new JobMetrics(registry, q);
         // At most `solvingSlots` handlers run at once, so CPU and memory stay as configured.
-        this.runner = new JobRunner(q, h, clock, metrics, () -> abandoned, new Semaphore(solvingSlots));
+        this.runner = new JobRunner(q, h, clock, metrics, () -> abandoned, new Semaphore(solvingSlots),
+                job -> finishing.add(job.id()));
     }
 
     public void start() {
@@ -272,6 +276,7 @@ public final class WorkerPool implements AutoCloseable {
             runner.run(job);
         } finally {
             held.remove(job.id());
+            finishing.remove(job.id());
             freeJobThreads.release();
             wake();
         }
@@ -297,9 +302,10 @@ public final class WorkerPool implements AutoCloseable {
         List<ClaimedJob> mine = List.copyOf(held.values());
         try {
             int renewed = queue.renewLeases(mine, now.plus(lease));
-            // A job whose outcome was written after the copy above is no longer renewable, and
-            // not lost: only the shortfall beyond those is jobs taken from this pool.
-            long finishedMeanwhile = mine.stream().filter(job -> !held.containsKey(job.id())).count();
+            // A job whose outcome this pool is writing, or wrote after the copy above, is no longer
+            // renewable, and not lost: only the shortfall beyond those is jobs taken from this pool.
+            long finishedMeanwhile = mine.stream()
+                    .filter(job -> !held.containsKey(job.id()) || finishing.contains(job.id())).count();
             long takenBack = mine.size() - renewed - finishedMeanwhile;
             if (takenBack > 0) {
                 LOG.warn("{} of {} held jobs were taken back (lease ran out or job finished elsewhere)",
