@@ -51,8 +51,20 @@ final class PostgresErrors {
             return "database busy";
         }
         if (e instanceof SQLTransientException) { // the pool had no connection to give in time
-            return "database unreachable";
+            return connectingFailed(e) ? "database unreachable"
+                    : "every database connection busy (raise --database-pool, or add replicas)";
         }
         return null;
+    }
+
+    /** True when the pool's timeout came after failed attempts to connect (the pool passes the last one on as a cause). */
+    private static boolean connectingFailed(SQLException e) {
+        for (Throwable cause = e.getCause(); cause != null; cause = cause.getCause()) {
+            if (cause instanceof SQLException sql && sql.getSQLState() != null && sql.getSQLState().startsWith("08")
+                    || cause instanceof java.net.ConnectException) {
+                return true;
+            }
+        }
+        return false;
     }
 }

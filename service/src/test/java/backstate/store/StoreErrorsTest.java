@@ -68,6 +68,23 @@ class StoreErrorsTest {
         assertEquals("database read-only", reasonFor(SQLiteErrorCode.SQLITE_READONLY_DBMOVED));
     }
 
+    /**
+     * The pool's timeout (SQLTransientConnectionException, as HikariCP throws it) is an outage only
+     * when it follows failed connection attempts, which the pool passes on as its cause; without
+     * one, every connection was busy, and the operator should hear that instead.
+     */
+    @Test
+    void a_pool_timeout_says_busy_connections_unless_connecting_failed() {
+        java.sql.SQLTransientConnectionException busy = new java.sql.SQLTransientConnectionException(
+                "backstate-postgresql - Connection is not available, request timed out after 5000ms");
+        assertEquals("every database connection busy (raise --database-pool, or add replicas)",
+                ((StoreUnavailableException) PostgresErrors.translate(busy)).reason());
+        java.sql.SQLTransientConnectionException down = new java.sql.SQLTransientConnectionException(
+                "backstate-postgresql - Connection is not available, request timed out after 5000ms",
+                new java.sql.SQLException("Connection to localhost:5432 refused", "08001"));
+        assertEquals("database unreachable", ((StoreUnavailableException) PostgresErrors.translate(down)).reason());
+    }
+
     @Test
     void any_other_sql_failure_is_a_plain_store_exception() {
         StoreException e = SqliteErrors.translate(new SQLiteException("near \"SELEC\": syntax error",
