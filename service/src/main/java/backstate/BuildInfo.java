@@ -9,7 +9,8 @@ import java.util.Properties;
 public final class BuildInfo {
     /** Shown when the classes run without the build's resources (an IDE's own compile). */
     static final String UNKNOWN = "unknown";
-    private static final String VERSION = read();
+    private static final String VERSION = read("version");
+    private static final String BUILT = read("built");
 
     private BuildInfo() {
     }
@@ -19,15 +20,23 @@ public final class BuildInfo {
         return VERSION;
     }
 
-    private static String read() {
+    /**
+     * This build, one word: the version and when it was built ("0.1.0-SNAPSHOT+20261203T144500Z"),
+     * so two builds of one version differ (entity tags must not outlive the code that made them).
+     */
+    public static String build() {
+        return VERSION + "+" + BUILT;
+    }
+
+    private static String read(String key) {
         try (InputStream in = BuildInfo.class.getResourceAsStream("/backstate/build.properties")) {
             if (in == null) {
                 return UNKNOWN;
             }
             Properties properties = new Properties();
             properties.load(in);
-            String version = properties.getProperty("version", UNKNOWN);
-            return version.startsWith("${") ? UNKNOWN : version;
+            String value = properties.getProperty(key, UNKNOWN);
+            return value.startsWith("${") ? UNKNOWN : value;
         } catch (IOException e) {
             throw new UncheckedIOException(e);
         }

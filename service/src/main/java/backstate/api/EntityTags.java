@@ -20,7 +20,7 @@ import java.util.Collections;
  */
 final class EntityTags {
     static final String CACHE_CONTROL = "private, no-cache";
-    private static final String BUILD = opaque(BuildInfo.version());
+    private static final String BUILD = opaque(BuildInfo.build());
 
     private EntityTags() {
     }

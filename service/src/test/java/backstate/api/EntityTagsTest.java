@@ -59,7 +59,7 @@ class EntityTagsTest {
     @Test
     void a_tag_names_its_parts_and_this_build_and_is_a_weak_entity_tag() {
         String tag = EntityTags.of("series", "01a2-bb", "1000");
-        assertEquals("W/\"series;01a2-bb;1000;" + BuildInfo.version() + "\"", tag);
+        assertEquals("W/\"series;01a2-bb;1000;" + BuildInfo.build() + "\"", tag);
         assertTrue(ENTITY_TAG.matcher(tag).matches(), tag);
         assertTrue(EntityTags.matches(tag, tag));
         assertTrue(EntityTags.matches(tag.substring(2), tag), "the opaque tag alone, by the weak comparison");
@@ -72,5 +72,12 @@ class EntityTagsTest {
         assertTrue(ENTITY_TAG.matcher(tag).matches(), tag);
         assertEquals(part.length(), tag.substring(3, tag.indexOf(';')).length(), tag);
         assertFalse(tag.substring(3, tag.indexOf(';')).contains(";"), tag);
+    }
+
+    /** Two builds of one version (0.1.0-SNAPSHOT twice) must not share tags: the build time is in them. */
+    @org.junit.jupiter.api.Test
+    void the_build_part_of_a_tag_is_the_version_and_the_build_time() {
+        assertEquals(true, BuildInfo.build().matches(java.util.regex.Pattern.quote(BuildInfo.version()) + "\\+\\d{8}T\\d{6}Z"),
+                BuildInfo.build());
     }
 }
