@@ -1,6 +1,7 @@
 package backstate.store;
 
 import static org.junit.jupiter.api.Assertions.assertEquals;
+import static org.junit.jupiter.api.Assertions.assertNotEquals;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
 import backstate.jobs.ClaimedJob;
@@ -136,6 +137,34 @@ class FleetTotalsTest extends StoreContractTestBase {
         assertEquals(List.of(2L * each, 1L, 2L * each, 2 * each, 1.25),
                 List.of(v.estimates(), v.units(), v.traces(), v.chiSquarePerDof().count(), v.chiSquarePerDof().median()));
         assertEquals(new FleetSummary.FlaggedUnits(2L * each, 1, List.of("unit-hot")), v.flags().get("model_mismatch"));
+        assertSameAnswers(50);
+    }
+
+    /**
+     * docs/deployment.md's repair after a rolling upgrade in which an older build wrote estimates
+     * without the running totals (PostgreSQL from schema version 2): the totals short of the rows
+     * are rebuilt, in one transaction holding writers off, to the pass over the rows.
+     */
+    @Test
+    void the_documented_rebuild_brings_totals_an_older_build_missed_back_to_the_rows() throws Exception {
+        org.junit.jupiter.api.Assumptions.assumeTrue(backend == Backend.POSTGRESQL, "the rebuild function is PostgreSQL's");
+        Random random = new Random(16);
+        for (int i = 0; i < 40; i++) {
+            complete(random, i, nasty(random));
+        }
+        try (java.sql.Connection c = fx.raw(); java.sql.Statement st = c.createStatement()) {
+            // What an older build leaves: estimates written, their totals not.
+            st.execute("DELETE FROM fleet_unit_estimates WHERE unit_id IN (SELECT unit_id FROM fleet_unit_estimates LIMIT 3)");
+            st.execute("DELETE FROM fleet_chi2_bins WHERE ctid IN (SELECT ctid FROM fleet_chi2_bins LIMIT 5)");
+        }
+        assertNotEquals(((SqlFleet) store.fleet()).fleetSummaryFromRows(query(50)), allTime(50),
+                "the damage shows before the repair");
+        try (java.sql.Connection c = fx.raw(); java.sql.Statement st = c.createStatement()) {
+            for (String sql : List.of("BEGIN", "LOCK TABLE traces, estimates IN SHARE MODE", "SELECT fleet_totals_rebuild()",
+                    "COMMIT")) {
+                st.execute(sql);
+            }
+        }
         assertSameAnswers(50);
     }
 
