@@ -120,8 +120,8 @@ public final class MatrixExponential {
         double diagonal = Math.max(Matrices.norm1(Matrices.block(m, size, 0, 0, k, k), k, k),
                 Matrices.norm1(Matrices.block(m, size, k, k, size - k, size - k), size - k, size - k)) * Math.abs(t);
         double offDiagonal = Matrices.norm1(Matrices.block(m, size, 0, k, k, size - k), k, size - k) * Math.abs(t);
-        int shift = offDiagonal > Math.max(diagonal, 1.0)
-                ? Math.getExponent(offDiagonal / Math.max(diagonal, 1.0)) + 1 : 0;
+        double ratio = offDiagonal / Math.max(diagonal, 1.0);
+        int shift = ratio > 1.0 && Double.isFinite(ratio) ? Math.getExponent(ratio) + 1 : 0;
         double[] balanced = m.clone();
         for (int i = 0; i < k; i++) {
             for (int j = k; j < size; j++) {
