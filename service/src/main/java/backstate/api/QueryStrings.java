@@ -5,7 +5,9 @@ import backstate.text.Counted;
 import io.javalin.http.Context;
 import io.javalin.http.Handler;
 import java.util.List;
+import java.util.Locale;
 import java.util.Map;
+import java.util.regex.Pattern;
 import java.util.stream.Collectors;
 
 /**
@@ -21,7 +23,7 @@ final class QueryStrings {
     /** Routes whose query parameters are the contract's alone; the console's page and probes take any. */
     private static final String API_PREFIX = "/v1/";
     /** A parameter name short and plain enough to be the refusal's field. */
-    private static final java.util.regex.Pattern PLAIN_NAME = java.util.regex.Pattern.compile("[A-Za-z0-9_.\\-]{1,64}");
+    private static final Pattern PLAIN_NAME = Pattern.compile("[A-Za-z0-9_.\\-]{1,64}");
 
     private QueryStrings() {
     }
@@ -50,6 +52,7 @@ final class QueryStrings {
         }
     }
 
+    /** The refusal's words: what was got, what the route reads, and the name it most likely meant. */
     static String unknownWords(String name, List<String> known) {
         String got = "got an unknown query parameter " + FieldValues.quoted(name);
         if (known.isEmpty()) {
@@ -63,7 +66,7 @@ final class QueryStrings {
 
     /** Case, '_' and '-' do not tell names apart for the hint: reference_time, referencetime → referenceTime. */
     private static String fold(String name) {
-        return name.replace("_", "").replace("-", "").toLowerCase(java.util.Locale.ROOT);
+        return name.replace("_", "").replace("-", "").toLowerCase(Locale.ROOT);
     }
 
     /** RFC 3986 2.1: a '%' begins an escape of exactly two hex digits. */
