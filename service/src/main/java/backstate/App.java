@@ -109,7 +109,7 @@ public final class App implements AutoCloseable {
                         PostgresSettings.DEFAULT_CONNECTION_TIMEOUT, SqliteSettings.DEFAULT_MAX_ATTEMPTS), clock, registry);
             }
             Path usable = DatabaseFile.usable(((DatabaseTarget.SqliteFile) target).file());
-            return new SqliteDatabase(usable, clock, registry);
+            return SqliteDatabase.forService(usable, clock, registry);
         } catch (StoreException e) {
             throw new IllegalStateException("database " + target.describe() + ": " + e.getMessage(), e);
         }

@@ -74,11 +74,22 @@ public final class DatabaseCopy {
      */
     public static Result copy(Path sqliteFile, PostgresSettings target, Clock clock, Consumer<String> progress) {
         DatabaseCopySource.LeftRunning left = DatabaseCopySource.inspect(sqliteFile, SqliteSettings.DEFAULT_MAX_ATTEMPTS);
-        new PostgresDatabase(target, clock).close();
-        withTarget(target, "checking the target is empty", DatabaseCopy::refuseUnlessEmpty);
-        new SqliteDatabase(sqliteFile, clock).close();
-        copyAll(sqliteFile, target, progress);
-        return new Result(left.requeued(), left.failed(), verify(sqliteFile, target));
+        try (ServiceFileLock ignored = lockAgainstAService(sqliteFile)) {
+            new PostgresDatabase(target, clock).close();
+            withTarget(target, "checking the target is empty", DatabaseCopy::refuseUnlessEmpty);
+            new SqliteDatabase(sqliteFile, clock).close();
+            copyAll(sqliteFile, target, progress);
+            return new Result(left.requeued(), left.failed(), verify(sqliteFile, target));
+        }
+    }
+
+    /** Held for the whole copy: a live service on the file is refused before anything is written, and none starts meanwhile. */
+    private static ServiceFileLock lockAgainstAService(Path sqliteFile) {
+        try {
+            return ServiceFileLock.acquire(sqliteFile, "migrate");
+        } catch (ServiceFileLock.DatabaseInUseException e) {
+            throw new DatabaseCopyRefusedException(e.getMessage());
+        }
     }
 
     /** Reads every checked table back on both sides and compares them. */

@@ -30,6 +30,8 @@ public final class SqliteDatabase implements Database {
     private final SqlApiKeys keys;
     private final SqlRegressions regressions;
     private final String damage;
+    /** The service's lock on the file ({@link #forService}), released at close; null otherwise. */
+    private ServiceFileLock serviceLock;
 
     public SqliteDatabase(Path file, Clock clock) {
         this(file, clock, SqliteSettings.defaults());
@@ -37,6 +39,24 @@ public final class SqliteDatabase implements Database {
 
     public SqliteDatabase(Path file, Clock clock, SqliteSettings settings) {
         this(file, clock, settings, UnaryOperator.identity(), SqliteMeters.unpublished());
+    }
+
+    /**
+     * The service's store: the file locked for this process ({@link ServiceFileLock}) before it is
+     * opened, so no second service or {@code migrate} runs on it meanwhile, and meters published.
+     *
+     * @throws ServiceFileLock.DatabaseInUseException when another process holds the file
+     */
+    public static SqliteDatabase forService(Path file, Clock clock, MeterRegistry registry) {
+        ServiceFileLock lock = ServiceFileLock.acquire(file, "a service");
+        try {
+            SqliteDatabase database = new SqliteDatabase(file, clock, registry);
+            database.serviceLock = lock;
+            return database;
+        } catch (RuntimeException e) {
+            lock.close();
+            throw e;
+        }
     }
 
     /** With the writer's and checkpointer's meters ({@link SqliteMeters}) published in {@code registry}. */
@@ -138,6 +158,12 @@ public final class SqliteDatabase implements Database {
 
     @Override
     public void close() {
-        db.close();
+        try {
+            db.close();
+        } finally {
+            if (serviceLock != null) {
+                serviceLock.close();
+            }
+        }
     }
 }

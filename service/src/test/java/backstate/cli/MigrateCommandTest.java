@@ -149,6 +149,31 @@ class MigrateCommandTest {
         assertEquals("backstate migrate: the SQLite file " + dir + " is a folder, expected a file", folder.err().strip());
     }
 
+    /**
+     * Beside a live service, the copy would re-queue the service's running jobs as a crash's and miss
+     * what it writes afterwards: refused before it opens the file; and a second service on the same
+     * file is refused the same way. Once the service stops, the file is free again.
+     */
+    @Test
+    void a_file_a_service_is_using_is_refused_and_so_is_a_second_service_on_it(@TempDir Path live) throws Exception {
+        String emptyTarget = PostgresServer.newEmptyDatabase();
+        Path database;
+        try (backstate.api.TestServer server = new backstate.api.TestServer(live)) {
+            server.publishDemoModels();
+            database = live.resolve("test.db");
+            CommandRun refused = migrate(Map.of(), "--from", database.toString(), "--to", PostgresServer.serviceUrl(emptyTarget));
+            assertEquals(MigrateCommand.REFUSED, refused.exit(), refused.err());
+            assertEquals("backstate migrate: " + database + " is in use by another backstate process (" + database
+                    + ".service-lock is locked): stop the service using it first", refused.err().strip());
+            IllegalStateException second = org.junit.jupiter.api.Assertions.assertThrows(IllegalStateException.class,
+                    () -> new backstate.api.TestServer(live));
+            assertTrue(second.getMessage().contains("is in use by another backstate process"), second.getMessage());
+        }
+        // The service stopped: its lock went with it, and the copy runs.
+        CommandRun copied = migrate(Map.of(), "--from", database.toString(), "--to", PostgresServer.serviceUrl(emptyTarget));
+        assertEquals(0, copied.exit(), copied.err());
+    }
+
     @Test
     void a_file_that_is_not_a_sqlite_database_is_refused() throws Exception {
         Path text = Files.writeString(dir.resolve("notes.db"), "these are notes, not a database\n".repeat(40));
