@@ -115,12 +115,12 @@ final class EntityTags {
         return c == 0x21 || (c >= 0x23 && c <= 0x7E) || (c >= 0x80 && c <= 0xFF);
     }
 
-    /** {@code part} with every character outside %x21 / %x23-7E, and ';' (the separator), as '_'. */
+    /** {@code part} with every character outside %x21 / %x23-7E (etagc but obs-text), and ';' (the separator), as '_'. */
     private static String opaque(String part) {
         StringBuilder out = new StringBuilder(part.length());
         for (int i = 0; i < part.length(); i++) {
             char c = part.charAt(i);
-            out.append(c != ';' && (c == 0x21 || (c >= 0x23 && c <= 0x7E)) ? c : '_');
+            out.append(c != ';' && c < 0x80 && isEtagChar(c) ? c : '_');
         }
         return out.toString();
     }

@@ -57,10 +57,12 @@ final class Params {
         if (v == null) {
             return fallback;
         }
-        if (!v.matches("-?\\d{1,9}") || Integer.parseInt(v) < min || Integer.parseInt(v) > max) {
+        boolean whole = v.matches("-?\\d{1,9}");
+        int n = whole ? Integer.parseInt(v) : 0;
+        if (!whole || n < min || n > max) {
             throw ApiProblem.invalid(name, "got " + quoted(v) + ", expected a whole number from " + min + " to " + max + why);
         }
-        return Integer.parseInt(v);
+        return n;
     }
 
     static int intOrDefault(Context ctx, String name, int fallback, int max) {

@@ -115,9 +115,8 @@ public final class InitialStateEstimator {
     static void requireFinite(double[] r, double[] z, double residualSquares, Trace trace) {
         if (!Matrices.allFinite(r) || !Matrices.allFinite(z) || !Double.isFinite(residualSquares)) {
             // Times are kept to the microsecond: the span in whole microseconds, plain ("0.000001 s", not "9.5E-7 s").
-            long micros = Math.round((trace.time(trace.samples() - 1) - trace.time(0)) * 1e6);
-            String window = java.math.BigDecimal.valueOf(micros, 6).stripTrailingZeros().toPlainString();
-            throw new ModelException("a", "the model's response over this trace's " + window + " s leaves the"
+            double window = Math.round((trace.time(trace.samples() - 1) - trace.time(0)) * 1e6) / 1e6;
+            throw new ModelException("a", "the model's response over this trace's " + ModelException.seconds(window) + " leaves the"
                     + " floating-point range (beyond 1e308): a mode grows too fast (an unstable or mis-scaled a)"
                     + " for a window this long; check a and its time unit, or send a shorter trace");
         }

@@ -1,6 +1,6 @@
 package backstate.estimation;
 
-import java.math.BigDecimal;
+import backstate.text.Figure;
 import java.util.function.DoubleFunction;
 
 /**
@@ -77,6 +77,6 @@ public final class ModelException extends IllegalArgumentException {
 
     /** Seconds as written by people: "1796083350 s", "0.5 s", not 1.79608335E9. */
     static String seconds(double t) {
-        return Double.isFinite(t) ? BigDecimal.valueOf(t).stripTrailingZeros().toPlainString() + " s" : Double.toString(t);
+        return Double.isFinite(t) ? Figure.plain(t) + " s" : Double.toString(t);
     }
 }

@@ -115,17 +115,26 @@ public final class TraceReader {
             throw new InputException("time", "got nothing, expected a list of sample times, each a number of seconds or "
                     + RecordingTime.EXAMPLE);
         }
-        options = options.overriddenBy(override.withReferenceTime(null));
-        if (referenceTime != null) {
-            options = options.withReferenceTime(null);
-            referenceMicros = null;
-            if (DECIMAL.matcher(referenceTime).matches()) {
-                options = options.withReferenceTime(csvNumber(referenceTime, "referenceTime", false));
-            } else {
-                referenceMicros = stampMicros(referenceTime, "referenceTime", SECONDS_OR);
+        Reference reference = Reference.of(options.overriddenBy(override.withReferenceTime(null)), referenceMicros,
+                referenceTime);
+        return finish(columns, reference.options(), reference.micros());
+    }
+
+    /**
+     * Options with the reference time they will carry: a number of seconds on the trace's clock in
+     * the options (normalised by {@link #finish}), or an RFC 3339 time's microseconds beside them.
+     */
+    private record Reference(TraceOptions options, Long micros) {
+        /** {@code options} and {@code micros} as they are, or with {@code text} (a query's or flag's) in their place. */
+        static Reference of(TraceOptions options, Long micros, String text) {
+            if (text == null) {
+                return new Reference(options, micros);
             }
+            if (DECIMAL.matcher(text).matches()) {
+                return new Reference(options.withReferenceTime(csvNumber(text, "referenceTime", false)), null);
+            }
+            return new Reference(options.withReferenceTime(null), stampMicros(text, "referenceTime", SECONDS_OR));
         }
-        return finish(columns, options, referenceMicros);
     }
 
     /** Reads the CSV form; options come from elsewhere (query parameters), a reference time on the trace's clock. */
@@ -145,12 +154,7 @@ public final class TraceReader {
     /** {@link #readCsv(InputStream, ModelDocument, TraceOptions, String)}, column by column: the trace not yet assembled. */
     public ParsedColumns readCsvColumns(InputStream body, ModelDocument model, TraceOptions options, String referenceTime)
             throws IOException {
-        Long referenceMicros = null;
-        if (referenceTime != null && DECIMAL.matcher(referenceTime).matches()) {
-            options = options.withReferenceTime(csvNumber(referenceTime, "referenceTime", false));
-        } else if (referenceTime != null) {
-            referenceMicros = stampMicros(referenceTime, "referenceTime", SECONDS_OR);
-        }
+        Reference reference = Reference.of(options, null, referenceTime);
         TraceColumns columns = new TraceColumns(model, limits);
         int maxFields = 1 + model.outputs().size() + model.inputsOrEmpty().size();
         body = withoutByteOrderMark(body);
@@ -164,7 +168,7 @@ public final class TraceReader {
         } else {
             CsvLanes.readRest(records, body, layout.rows(), columns.times(), layout.channels(), limits.maxSamples());
         }
-        return finish(columns, options, referenceMicros);
+        return finish(columns, reference.options(), reference.micros());
     }
 
     /**

@@ -1,6 +1,7 @@
 package backstate.formats;
 
 import backstate.estimation.ModelException;
+import backstate.text.Figure;
 import java.util.concurrent.Future;
 
 /**
@@ -209,6 +210,6 @@ final class TraceTimes {
     /** A time as the trace wrote it: RFC 3339, or its number of seconds in plain digits (not "1.79E9"). */
     private String show(double seconds) {
         return kind == Kind.TIMESTAMPS ? RecordingTime.format(seconds)
-                : java.math.BigDecimal.valueOf(seconds).stripTrailingZeros().toPlainString() + " s";
+                : Figure.plain(seconds) + " s";
     }
 }

@@ -35,8 +35,7 @@ public record TraceWarning(String field, String detail) {
 
     /**
      * Each output j of the model with no value in the window, and under the continuous formulation
-     * each with a single value, which its trapezoid weights leave out; {@code values} counts an
-     * output's values up to two. Named as the body names the output.
+     * each with a single value, which its trapezoid weights leave out. Named as the body names the output.
      */
     public static List<TraceWarning> ofOutputs(ModelDocument model, ParsedColumns columns, Formulation formulation,
                                                boolean json) {

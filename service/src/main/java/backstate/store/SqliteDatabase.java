@@ -31,14 +31,14 @@ public final class SqliteDatabase implements Database {
     private final SqlRegressions regressions;
     private final String damage;
     /** The service's lock on the file ({@link #forService}), released at close; null otherwise. */
-    private ServiceFileLock serviceLock;
+    private final ServiceFileLock serviceLock;
 
     public SqliteDatabase(Path file, Clock clock) {
         this(file, clock, SqliteSettings.defaults());
     }
 
     public SqliteDatabase(Path file, Clock clock, SqliteSettings settings) {
-        this(file, clock, settings, UnaryOperator.identity(), SqliteMeters.unpublished());
+        this(file, clock, settings, UnaryOperator.identity(), SqliteMeters.unpublished(), null);
     }
 
     /**
@@ -50,9 +50,8 @@ public final class SqliteDatabase implements Database {
     public static SqliteDatabase forService(Path file, Clock clock, MeterRegistry registry) {
         ServiceFileLock lock = ServiceFileLock.acquire(file, "a service");
         try {
-            SqliteDatabase database = new SqliteDatabase(file, clock, registry);
-            database.serviceLock = lock;
-            return database;
+            return new SqliteDatabase(file, clock, SqliteSettings.defaults(), UnaryOperator.identity(),
+                    new SqliteMeters(Objects.requireNonNull(registry, "registry")), lock);
         } catch (RuntimeException e) {
             lock.close();
             throw e;
@@ -62,17 +61,18 @@ public final class SqliteDatabase implements Database {
     /** With the writer's and checkpointer's meters ({@link SqliteMeters}) published in {@code registry}. */
     public SqliteDatabase(Path file, Clock clock, MeterRegistry registry) {
         this(file, clock, SqliteSettings.defaults(), UnaryOperator.identity(),
-                new SqliteMeters(Objects.requireNonNull(registry, "registry")));
+                new SqliteMeters(Objects.requireNonNull(registry, "registry")), null);
     }
 
     /** For fault tests: {@code writerDecorator} wraps the write connection once it is open. */
     SqliteDatabase(Path file, Clock clock, SqliteSettings settings, UnaryOperator<Connection> writerDecorator) {
-        this(file, clock, settings, writerDecorator, SqliteMeters.unpublished());
+        this(file, clock, settings, writerDecorator, SqliteMeters.unpublished(), null);
     }
 
     private SqliteDatabase(Path file, Clock clock, SqliteSettings settings, UnaryOperator<Connection> writerDecorator,
-                           SqliteMeters meters) {
+                           SqliteMeters meters, ServiceFileLock serviceLockOrNull) {
         Expect.notNull("file", file);
+        this.serviceLock = serviceLockOrNull;
         Expect.notNull("clock", clock);
         Expect.notNull("settings", settings);
         this.db = new SqliteConnections(file, settings, writerDecorator, meters);

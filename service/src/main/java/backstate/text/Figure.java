@@ -28,6 +28,14 @@ public final class Figure {
         return mantissa + "e" + Integer.parseInt(parts[1]);
     }
 
+    /**
+     * The shortest decimal that reads back as the value, in plain digits, never in powers of ten:
+     * "1796205660.25", "0.0000001", "60"; a value not finite as Java writes it.
+     */
+    public static String plain(double value) {
+        return Double.isFinite(value) ? BigDecimal.valueOf(value).stripTrailingZeros().toPlainString() : Double.toString(value);
+    }
+
     /** Every digit of the value, without a trailing ".0" on whole numbers: "3600", "0.25". */
     public static String exact(double value) {
         if (value == Math.rint(value) && Math.abs(value) < 1e15) {

@@ -28,6 +28,17 @@ class FigureTest {
         assertEquals("Infinity", Figure.of(Double.POSITIVE_INFINITY));
     }
 
+    /** The shortest round-trip decimal (Java's Double.toString digits), written without an exponent. */
+    @Test
+    void plain_writes_the_shortest_decimal_without_powers_of_ten() {
+        assertEquals("1796205660.25", Figure.plain(1.79620566025e9));
+        assertEquals("0.0000001", Figure.plain(1e-7));
+        assertEquals("60", Figure.plain(60.0));
+        assertEquals("-0.5", Figure.plain(-0.5));
+        assertEquals("100000000000000000000", Figure.plain(1e20));
+        assertEquals("NaN", Figure.plain(Double.NaN));
+    }
+
     @Test
     void exact_keeps_every_digit_and_drops_a_whole_number_s_point_zero() {
         assertEquals("3600", Figure.exact(3600.0));
