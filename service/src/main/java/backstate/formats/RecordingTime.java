@@ -18,12 +18,17 @@ import java.time.temporal.ChronoField;
  * <p>Written by users as RFC 3339 date-times (RFC 3339 §5.6: {@code full-date "T" full-time},
  * seconds required, offset {@code Z} or {@code ±hh:mm}, "T" and "Z" in either case) or as numbers
  * of seconds. {@link #RFC_3339} is java.time's ISO formatter narrowed to that grammar: four-digit
- * years only, seconds required, an offset required and without seconds. Leap second 60 is refused
- * (POSIX time has no place for it), and at most nine fraction digits are read.
+ * years only, seconds required, an offset required and without seconds, its hours at most 18
+ * (java.time's range; RFC 3339's grammar allows 23, no zone uses more than 14). Leap second 60 is
+ * refused (POSIX time has no place for it), and at most nine fraction digits are read.
  *
- * <p>Precision: a time is rounded to the nearest microsecond, ties to the later one. A double
- * holds every microsecond exactly only below 2^53 µs (year 2255); near the present its spacing is
- * 2^-22 s ≈ 0.24 µs, so a stored time is within 0.12 µs of its microsecond.
+ * <p>Precision: a time is rounded to the nearest microsecond, ties to the later one, once, from
+ * what was written (an RFC 3339 time's digits; a number's double; a declared start's digits plus
+ * the number after it). A double is on a grid of 2^-20 s ≈ 0.95 µs or finer only below 2^33 s
+ * from 1970 (1697-10-17 to 2242-03-16), so only there does every microsecond keep a double of its
+ * own: a trace is kept from {@link #FIRST_KEPT} (year 1700) to before {@link #KEPT_END} (year 2200),
+ * and refused outside. Near the present the spacing is 2^-22 s ≈ 0.24 µs, so a stored time is
+ * within 0.12 µs of its microsecond.
  */
 public final class RecordingTime {
     /** RFC 3339 §5.6 date-time, parsed by java.time. */
@@ -51,6 +56,14 @@ public final class RecordingTime {
     static final double EARLIEST = -62_167_219_200.0;
     /** 10000-01-01T00:00:00Z, the first time RFC 3339 cannot write. */
     static final double END = 253_402_300_800.0;
+    /** 1700-01-01T00:00:00Z, the earliest time a trace may hold: within 2^33 s of 1970 (see the class note). */
+    static final long FIRST_KEPT = -8_520_336_000L;
+    /** 2200-01-01T00:00:00Z, the first time a trace may not hold: within 2^33 s of 1970 (see the class note). */
+    static final long KEPT_END = 7_258_118_400L;
+    /** What a refusal of a time outside [{@link #FIRST_KEPT}, {@link #KEPT_END}) expects. */
+    static final String KEPT_YEARS = "a time in the years 1700 to 2199 (where every microsecond is kept)";
+    /** Beyond this many seconds from 1970 or from a start, a number is far outside the kept years and is not rounded. */
+    private static final double FAR = 1e12;
 
     /**
      * 2000-01-01T00:00:00Z. A window starting before it almost always holds times that count from the
@@ -98,8 +111,21 @@ public final class RecordingTime {
      * @throws DateTimeParseException if the text is not an RFC 3339 date-time with offset
      */
     public static long parseMicros(String text) {
-        Instant t = OffsetDateTime.parse(text, RFC_3339).toInstant();
+        return micros(parseInstant(text));
+    }
+
+    /** Epoch microseconds of an instant, its nanoseconds rounded to the nearest microsecond (ties to the later). */
+    static long micros(Instant t) {
         return t.getEpochSecond() * MICROS_PER_SECOND + (t.getNano() + NANOS_PER_MICRO / 2) / NANOS_PER_MICRO;
+    }
+
+    /**
+     * The instant an RFC 3339 time names, to its nanosecond.
+     *
+     * @throws DateTimeParseException if the text is not an RFC 3339 date-time with offset
+     */
+    public static Instant parseInstant(String text) {
+        return OffsetDateTime.parse(text, RFC_3339).toInstant();
     }
 
     /** Seconds of a whole number of epoch microseconds. */
@@ -109,17 +135,39 @@ public final class RecordingTime {
 
     /** The nearest whole microsecond; whole seconds (most traces' times) are returned at once. */
     static double toMicrosecond(double seconds) {
-        return seconds == Math.rint(seconds) ? seconds : Math.round(seconds * MICROS) / MICROS;
+        return seconds == Math.rint(seconds) ? seconds : toMicrosecond(0, 0, seconds);
     }
 
-    /** Seconds + offset micros on the microsecond grid, exactly: the sum is formed in whole microseconds. */
-    static double toMicrosecond(long originMicros, double seconds) {
-        return (originMicros + Math.round(seconds * MICROS)) / MICROS;
+    /**
+     * {@code seconds} after the origin (whole epoch seconds plus nanoseconds) on the microsecond grid,
+     * rounded once: the whole seconds are added exactly in a long, and the rest (the origin's
+     * nanoseconds and the number's fraction, which {@code seconds - floor(seconds)} gives exactly)
+     * is rounded to its microsecond. A number beyond {@link #FAR} is added as a double, far outside
+     * the kept years, instead of overflowing a long.
+     */
+    static double toMicrosecond(long originSecond, int originNanos, double seconds) {
+        if (!(Math.abs(seconds) < FAR)) {
+            return originSecond + seconds;
+        }
+        double whole = Math.floor(seconds);
+        double fractionMicros = originNanos / (double) NANOS_PER_MICRO + (seconds - whole) * MICROS;
+        long micros = (originSecond + (long) whole) * MICROS_PER_SECOND + (long) Math.floor(fractionMicros + 0.5);
+        return micros / MICROS;
     }
 
     /** True when RFC 3339 can write the time (years 0000 to 9999). */
     static boolean writable(double seconds) {
         return seconds >= EARLIEST && seconds < END;
+    }
+
+    /** True when a trace may hold the time: years 1700 to 2199, where every microsecond has a double of its own. */
+    static boolean kept(double seconds) {
+        return seconds >= FIRST_KEPT && seconds < KEPT_END;
+    }
+
+    /** {@link #kept(double)} for epoch microseconds. */
+    static boolean kept(long micros) {
+        return micros >= FIRST_KEPT * MICROS_PER_SECOND && micros < KEPT_END * MICROS_PER_SECOND;
     }
 
     /**

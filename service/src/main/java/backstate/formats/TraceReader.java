@@ -10,6 +10,7 @@ import com.fasterxml.jackson.databind.ObjectMapper;
 import java.io.IOException;
 import java.io.InputStream;
 import java.io.PushbackInputStream;
+import java.time.Instant;
 import java.util.Arrays;
 import java.util.List;
 import java.util.regex.Pattern;
@@ -92,7 +93,7 @@ public final class TraceReader {
                         readTimes(parser, columns.times());
                         timed = true;
                     }
-                    case "start" -> columns.times().declareStart(startMicros(parser), "start");
+                    case "start" -> columns.times().declareStart(startInstant(parser), "start");
                     case "outputs" -> readChannels(parser, columns, true);
                     case "inputs" -> readChannels(parser, columns, false);
                     case "noiseSigma" -> readSigma(parser, columns);
@@ -204,7 +205,7 @@ public final class TraceReader {
                 }
                 time = i;
                 if (!name.equals("time")) {
-                    columns.times().declareStart(stampMicros(name.substring(TIME_SINCE.length()).trim(), field,
+                    columns.times().declareStart(stampInstant(name.substring(TIME_SINCE.length()).trim(), field,
                             "\"time\", or \"time since\" and "), field);
                 }
             } else if (columns.isInput(name)) {
@@ -236,8 +237,7 @@ public final class TraceReader {
     static void csvTime(String text, String field, TraceTimes times) {
         String s = text.trim();
         boolean timestamp = !s.isEmpty() && !DECIMAL.matcher(s).matches();
-        double v = timestamp ? RecordingTime.seconds(stampMicros(s, field, "a decimal number of seconds or "))
-                : csvNumber(s, field, false);
+        double v = timestamp ? sampleStamp(s, field, "a decimal number of seconds or ") : csvNumber(s, field, false);
         if (!times.add(v, timestamp)) {
             throw times.refusal(field, v, timestamp);
         }
@@ -324,8 +324,7 @@ public final class TraceReader {
             boolean timestamp = token == JsonToken.VALUE_STRING;
             double v;
             if (timestamp) {
-                v = RecordingTime.seconds(stampMicros(parser.getText(), "time[" + times.size() + "]",
-                        "a number of seconds or "));
+                v = sampleStamp(parser.getText(), "time[" + times.size() + "]", "a number of seconds or ");
             } else if (token == JsonToken.VALUE_NUMBER_INT || token == JsonToken.VALUE_NUMBER_FLOAT) {
                 v = parser.getDoubleValue();
                 if (!Double.isFinite(v)) {
@@ -341,17 +340,32 @@ public final class TraceReader {
         }
     }
 
-    private static long startMicros(JsonParser parser) throws IOException {
+    private static Instant startInstant(JsonParser parser) throws IOException {
         if (parser.currentToken() != JsonToken.VALUE_STRING) {
             throw new InputException("start", "got " + JsonPaths.describe(parser.currentToken()) + ", expected " + RecordingTime.EXAMPLE);
         }
-        return stampMicros(parser.getText(), "start", "");
+        return stampInstant(parser.getText(), "start", "");
+    }
+
+    /** Epoch seconds of a sample's RFC 3339 time; refused naming the field outside the kept years, as written. */
+    private static double sampleStamp(String text, String field, String orElse) {
+        long micros = stampMicros(text, field, orElse);
+        if (!RecordingTime.kept(micros)) {
+            throw new InputException(field, "got \"" + text + "\", expected " + RecordingTime.KEPT_YEARS);
+        }
+        return RecordingTime.seconds(micros);
     }
 
     /** Epoch microseconds of an RFC 3339 time; refused naming the field, saying what else it could have been. */
     private static long stampMicros(String text, String field, String orElse) {
+        Instant t = stampInstant(text, field, orElse);
+        return RecordingTime.micros(t);
+    }
+
+    /** The instant an RFC 3339 time names; refused naming the field, saying what else it could have been. */
+    private static Instant stampInstant(String text, String field, String orElse) {
         try {
-            return RecordingTime.parseMicros(text);
+            return RecordingTime.parseInstant(text);
         } catch (java.time.format.DateTimeParseException e) {
             String got = "got \"" + (text.length() > 40 ? text.substring(0, 40) + "…" : text) + "\"";
             throw new InputException(field, got + ", expected " + orElse + RecordingTime.EXAMPLE);

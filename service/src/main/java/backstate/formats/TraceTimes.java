@@ -2,6 +2,7 @@ package backstate.formats;
 
 import backstate.estimation.ModelException;
 import backstate.text.Figure;
+import java.time.Instant;
 import java.util.concurrent.Future;
 
 /**
@@ -31,7 +32,8 @@ final class TraceTimes {
     private Kind kind = Kind.UNDECIDED;
     /** The last time added, while {@code values} is not empty. */
     private double last;
-    private Long startMicros;
+    /** The declared start, to its nanosecond (rounded only with each number after it), or null. */
+    private Instant start;
     private String startField;
 
     TraceTimes(int limit) {
@@ -111,16 +113,20 @@ final class TraceTimes {
                     + ", expected every time of a trace in one form");
         }
         double before = values.get(values.size() - 1);
+        if (timestamp && seconds == before) {
+            return new ModelException(field, "got " + show(seconds) + " again (times are kept to the microsecond),"
+                    + " expected times at least 1 µs apart");
+        }
         return new ModelException(field, "got " + show(seconds) + " after " + show(before)
                 + ", expected strictly increasing times");
     }
 
     /** Declares the start that numeric times count from. */
-    void declareStart(long micros, String field) {
-        if (startMicros != null) {
+    void declareStart(Instant declared, String field) {
+        if (start != null) {
             throw new InputException(field, "got a second start, expected at most one");
         }
-        startMicros = micros;
+        start = declared;
         startField = field;
     }
 
@@ -129,18 +135,19 @@ final class TraceTimes {
      * epoch seconds on the microsecond grid, as the times themselves become.
      */
     double normalise(double seconds) {
-        return startMicros == null ? RecordingTime.toMicrosecond(seconds) : RecordingTime.toMicrosecond(startMicros, seconds);
+        return start == null ? RecordingTime.toMicrosecond(seconds)
+                : RecordingTime.toMicrosecond(start.getEpochSecond(), start.getNano(), seconds);
     }
 
     /**
-     * The times as epoch seconds on the microsecond grid, checked to be writable and increasing
+     * The times as epoch seconds on the microsecond grid, checked to be in the kept years and increasing
      * there; the times as read are handed over, so call it once, when the trace is complete. From
      * {@value #TWO_HALVES_FROM} times the later half is normalised on a helper thread
      * ({@link ParseHelpers}) while this one does the first; the refusal is the first time's either
      * way.
      */
     double[] normalised() {
-        if (kind == Kind.TIMESTAMPS && startMicros != null) {
+        if (kind == Kind.TIMESTAMPS && start != null) {
             throw new InputException(startField, "got a start with RFC 3339 times, expected a start only with times"
                     + " in seconds since it");
         }
@@ -166,11 +173,11 @@ final class TraceTimes {
     }
 
     /** The first time that may not be kept, as read, and what is wrong with it. */
-    private record Unfit(int index, double asRead, boolean unwritable, TraceTimes times) {
+    private record Unfit(int index, double asRead, boolean outsideKept, TraceTimes times) {
         RuntimeException refusal() {
-            if (unwritable) {
-                return new InputException("time[" + index + "]", "got " + asRead + (times.startMicros == null ? " s since 1970"
-                        : " s after the start") + ", expected a time in the years 0000 to 9999");
+            if (outsideKept) {
+                return new InputException("time[" + index + "]", "got " + times.shownAsRead(asRead) + ", expected "
+                        + RecordingTime.KEPT_YEARS);
             }
             return new ModelException("time[" + index + "]", "got " + times.show(asRead) + ", within 1 µs of the time before it,"
                     + " expected times at least 1 µs apart");
@@ -179,7 +186,7 @@ final class TraceTimes {
 
     /**
      * Normalises the times of segments [from, to) into {@code out}, letting go of each segment once
-     * read; the first that is not writable, or (past the range's first) not after the one before.
+     * read; the first outside the kept years, or (past the range's first) not after the one before.
      */
     private Unfit normalise(double[][] segments, int from, int to, int n, double[] out) {
         Unfit unfit = null;
@@ -192,7 +199,7 @@ final class TraceTimes {
                 int k = base + i;
                 double v = segment[i];
                 out[k] = kind == Kind.TIMESTAMPS ? v : normalise(v);
-                if (unfit == null && !RecordingTime.writable(out[k])) {
+                if (unfit == null && !RecordingTime.kept(out[k])) {
                     unfit = new Unfit(k, v, true, this);
                 } else if (unfit == null && k > from << DoubleColumn.SEGMENT_BITS && !(out[k] > out[k - 1])) {
                     unfit = unfitAfter(out, k, v);
@@ -205,6 +212,19 @@ final class TraceTimes {
     /** Time k, read as {@code asRead}, when it is not after the time before it; null when it is. */
     private Unfit unfitAfter(double[] out, int k, double asRead) {
         return out[k] > out[k - 1] ? null : new Unfit(k, asRead, false, this);
+    }
+
+    /**
+     * A time outside the kept years as the trace wrote it: RFC 3339, or its number of seconds and
+     * what they count from, in plain digits where they are few ("-9000000000 s since 1970", "1e20 s
+     * after the start").
+     */
+    private String shownAsRead(double asRead) {
+        if (kind == Kind.TIMESTAMPS) {
+            return RecordingTime.format(asRead);
+        }
+        return (Math.abs(asRead) < 1e15 ? Figure.plain(asRead) : Figure.of(asRead))
+                + (start == null ? " s since 1970-01-01T00:00:00Z" : " s after the start");
     }
 
     /** A time as the trace wrote it: RFC 3339, or its number of seconds in plain digits (not "1.79E9"). */

@@ -14,6 +14,7 @@ import java.util.UUID;
 final class Sql {
     private static final long MICROS_PER_SECOND = 1_000_000L;
     private static final long NANOS_PER_MICRO = 1000L;
+    private static final long NANOS_PER_MILLI = 1_000_000L;
     /** RFC 9562 §4.2: version 7 in bits 48-51. */
     private static final long UUID_VERSION_7 = 0x7000L;
     /** RFC 9562 §4.1: variant bits 10 at the top of the low half. */
@@ -80,6 +81,19 @@ final class Sql {
 
     static Long millisOrNull(Instant instant) {
         return instant == null ? null : instant.toEpochMilli();
+    }
+
+    /**
+     * An instant as a bound on stored milliseconds ({@link #millis}), rounded up to its millisecond,
+     * so that it compares with every stored time (≥ and <) as the instant itself does.
+     */
+    static long millisBound(Instant instant) {
+        long floor = instant.toEpochMilli();
+        return instant.getNano() % NANOS_PER_MILLI == 0 ? floor : floor + 1;
+    }
+
+    static Long millisBoundOrNull(Instant instant) {
+        return instant == null ? null : millisBound(instant);
     }
 
     /**

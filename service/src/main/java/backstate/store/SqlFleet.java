@@ -233,8 +233,8 @@ final class SqlFleet implements FleetStore {
         TimeFilter t = q.times();
         double from = t.recordedFromOrNull() == null ? OPEN_START_SECONDS : Sql.recordingSeconds(t.recordedFromOrNull());
         double to = t.recordedToOrNull() == null ? OPEN_END_SECONDS : Sql.recordingSeconds(t.recordedToOrNull());
-        long receivedFrom = t.receivedFromOrNull() == null ? OPEN_START : Sql.millis(t.receivedFromOrNull());
-        long receivedTo = t.receivedToOrNull() == null ? OPEN_END : Sql.millis(t.receivedToOrNull());
+        long receivedFrom = t.receivedFromOrNull() == null ? OPEN_START : Sql.millisBound(t.receivedFromOrNull());
+        long receivedTo = t.receivedToOrNull() == null ? OPEN_END : Sql.millisBound(t.receivedToOrNull());
         Object[] window = {q.family(), version, from, to, receivedFrom, receivedTo};
         long[] counts = Sql.firstOrNull(Sql.bind(c.prepare(COUNT_ESTIMATES), window),
                 rs -> new long[] {rs.getLong(1), rs.getLong(2)});

@@ -21,8 +21,8 @@ final class TimeConditions {
     static void bind(List<Object> values, TimeFilter t) {
         Double recordedFrom = Sql.recordingSecondsOrNull(t.recordedFromOrNull());
         Double recordedTo = Sql.recordingSecondsOrNull(t.recordedToOrNull());
-        Long receivedFrom = Sql.millisOrNull(t.receivedFromOrNull());
-        Long receivedTo = Sql.millisOrNull(t.receivedToOrNull());
+        Long receivedFrom = Sql.millisBoundOrNull(t.receivedFromOrNull());
+        Long receivedTo = Sql.millisBoundOrNull(t.receivedToOrNull());
         Collections.addAll(values, recordedFrom, recordedFrom, recordedTo, recordedTo, receivedFrom, receivedFrom,
                 receivedTo, receivedTo);
     }

@@ -108,6 +108,23 @@ class RecordingTimeTest {
     }
 
     @Test
+    void received_filters_compare_with_the_millisecond_answered() {
+        // receivedAt is answered to the millisecond; a bound half a millisecond after it is after it.
+        JsonNode late = get("/v1/units/" + UNIT + "/estimates?from=" + day(0) + "&to=" + day(1)).get("items").get(0);
+        Instant received = Instant.parse(late.get("receivedAt").asText());
+        assertEquals(0, received.getNano() % 1_000_000, "answered in whole milliseconds");
+        Instant halfAfter = received.plusNanos(500_000);
+        String history = "/v1/units/" + UNIT + "/estimates?from=" + day(0) + "&to=" + day(1);
+        assertEquals(List.of(traces[0]), field(get(history + "&receivedFrom=" + received).get("items"), "traceId"));
+        assertEquals(List.of(), field(get(history + "&receivedFrom=" + halfAfter).get("items"), "traceId"));
+        assertEquals(List.of(), field(get(history + "&receivedTo=" + received).get("items"), "traceId"));
+        assertEquals(List.of(traces[0]), field(get(history + "&receivedTo=" + halfAfter).get("items"), "traceId"));
+        String summary = "/v1/fleet/reefer-40/summary?version=1&from=" + day(0) + "&to=" + day(1);
+        assertEquals(1, get(summary + "&receivedTo=" + halfAfter).get("versions").get(0).get("estimates").asInt());
+        assertEquals(0, get(summary + "&receivedFrom=" + halfAfter).get("versions").get(0).get("estimates").asInt());
+    }
+
+    @Test
     void a_regression_selects_and_runs_by_recording_time() throws Exception {
         JsonNode latest = run(Map.of("units", List.of(UNIT), "latestPerUnit", 1));
         assertEquals(List.of(traces[3]), comparedTraces(latest, "traceId"));

@@ -5,6 +5,7 @@ import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertThrows;
 
 import backstate.estimation.ModelException;
+import backstate.text.Figure;
 import java.io.ByteArrayInputStream;
 import java.io.IOException;
 import java.io.UncheckedIOException;
@@ -186,10 +187,63 @@ class TraceTimeFormsTest {
     }
 
     @Test
-    void times_rfc_3339_cannot_write_are_refused() {
-        assertEquals("time[0]", refused(InputException.class, "[1e12]"));
-        assertEquals("time[0]", refused(InputException.class, "[-62167219201]"));
-        assertEquals(-62167219200.0, json("[-62167219200]")[0], "0000-01-01T00:00:00Z is the earliest");
+    void times_are_kept_from_1700_to_before_2200_and_refused_outside_as_written() {
+        // 1700-01-01T00:00:00Z and 2200-01-01T00:00:00Z: -98 615 and 84 006 days from 1970 × 86 400 s
+        // (Python: datetime(1700, 1, 1, tzinfo=timezone.utc).timestamp() and the same for 2200).
+        assertArrayEquals(new double[] {-8_520_336_000.0, Double.parseDouble("7258118399.999999")},
+                json("[-8520336000,7258118399.999999]"));
+        assertArrayEquals(new double[] {-8_520_336_000.0, Double.parseDouble("7258118399.999999")},
+                json("[\"1700-01-01T00:00:00Z\",\"2199-12-31T23:59:59.999999Z\"]"));
+        assertEquals("time[0]: got 7258118400 s since 1970-01-01T00:00:00Z, expected " + RecordingTime.KEPT_YEARS,
+                assertThrows(InputException.class, () -> json("[7258118400]")).getMessage());
+        assertEquals("time[0]: got -8520336000.000001 s since 1970-01-01T00:00:00Z, expected " + RecordingTime.KEPT_YEARS,
+                assertThrows(InputException.class, () -> json("[-8520336000.000001]")).getMessage());
+        assertEquals("time[1]: got \"9999-12-31T23:59:59.999999Z\", expected a time in the years 1700 to 2199"
+                + " (where every microsecond is kept)", assertThrows(InputException.class,
+                () -> json("[\"2026-12-01T00:00:00Z\",\"9999-12-31T23:59:59.999999Z\"]")).getMessage());
+        assertEquals("time[0]", refused(InputException.class, "[\"1699-12-31T23:59:59.999999Z\"]"));
+        assertEquals("line 2, column time", assertThrows(InputException.class, () -> csv("time," + HEADER
+                + "2300-01-01T00:00:00.000001Z,1,1,1,20\n")).field());
+        assertEquals("time[0]: got 1e20 s after the start, expected " + RecordingTime.KEPT_YEARS, assertThrows(
+                InputException.class, () -> read("{\"start\":\"2026-12-01T00:00:00Z\",\"time\":[1e20],"
+                + "\"inputs\":{\"cooling_power\":[1],\"ambient\":[20]}}")).getMessage());
+    }
+
+    @Test
+    void every_microsecond_of_the_kept_years_keeps_a_double_of_its_own() {
+        // Near both ends a microsecond step is a step of the double (spacing 2^-20 s there, below 1 µs),
+        // and formatting gives the microsecond back; past 2^33 s (year 2242) it would not.
+        for (String text : new String[] {"1700-01-01T00:00:00.000001Z", "2199-12-31T23:59:59.999998Z"}) {
+            double t = json("[\"" + text + "\"]")[0];
+            assertEquals(text, RecordingTime.format(t));
+            assertEquals(text.replace("00.000001Z", "00.000002Z").replace("59.999998Z", "59.999999Z"),
+                    RecordingTime.format(json("[" + Figure.plain(t + 1e-6) + "]")[0]));
+        }
+        assertEquals(0x1p-20, Math.ulp(7_258_118_400.0), "the spacing at the end of 2199");
+        assertEquals(0x1p-20, Math.ulp(-8_520_336_000.0), "the spacing at the start of 1700");
+    }
+
+    @Test
+    void a_number_is_rounded_once_from_its_double_and_a_start_from_its_digits_with_it() {
+        // The double nearest 1796090000.0000004 is 1796090000.000000476837158203125 (Python:
+        // decimal.Decimal(1796090000.0000004)): 0.48 µs past the second, so it rounds down to it;
+        // multiplying by 1e6 first rounds it to a tie and up.
+        assertEquals(1_796_090_000.0, json("[1796090000.0000004]")[0]);
+        // A declared start's sub-microsecond digits are added to the number's before the one rounding:
+        // .0000005 + 0.0000005 s is 1 µs, .0000004 + 0.0000004 s is 0.8 µs, both 1 µs (not 2 and 0).
+        String inputs = ",\"inputs\":{\"cooling_power\":[1],\"ambient\":[20]}}";
+        assertEquals("2026-12-01T06:00:00.000001Z", RecordingTime.format(times(read(
+                "{\"start\":\"2026-12-01T06:00:00.0000005Z\",\"time\":[0.0000005]" + inputs))[0]));
+        assertEquals("2026-12-01T06:00:00.000001Z", RecordingTime.format(times(csv("time since 2026-12-01T06:00:00.0000004Z,"
+                + HEADER + "0.0000004,1,1,1,20\n"))[0]));
+    }
+
+    @Test
+    void an_rfc_3339_time_rounding_onto_the_time_before_it_is_said_so() {
+        ModelException e = assertThrows(ModelException.class,
+                () -> json("[\"2026-12-01T00:00:00.0000001Z\",\"2026-12-01T00:00:00.0000004Z\"]"));
+        assertEquals("time[1]: got 2026-12-01T00:00:00Z again (times are kept to the microsecond), expected times at"
+                + " least 1 µs apart", e.getMessage());
     }
 
     // ---- helpers

@@ -72,14 +72,16 @@ class TraceTimesHalvesTest {
         assertEquals(expected, got);
     }
 
-    /** The rule in one pass: the first time not writable, or not after the one before once rounded. */
+    /** The rule in one pass: the first time outside the kept years, or not after the one before once rounded. */
     private static String onePass(IntToDoubleFunction time) {
         double before = Double.NaN;
         for (int k = 0; k < N; k++) {
             double v = time.applyAsDouble(k);
             double rounded = RecordingTime.toMicrosecond(v);
-            if (!RecordingTime.writable(rounded)) {
-                return "InputException: time[" + k + "]: got " + v + " s since 1970, expected a time in the years 0000 to 9999";
+            if (!RecordingTime.kept(rounded)) {
+                String written = java.math.BigDecimal.valueOf(v).stripTrailingZeros().toPlainString();
+                return "InputException: time[" + k + "]: got " + written + " s since 1970-01-01T00:00:00Z, expected "
+                        + RecordingTime.KEPT_YEARS;
             }
             if (k > 0 && !(rounded > before)) {
                 // The number as the trace wrote it, in plain digits (0.0000001, not 1.0E-7).
