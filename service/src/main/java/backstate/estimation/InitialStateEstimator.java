@@ -4,6 +4,7 @@ import backstate.text.Counted;
 import java.util.EnumSet;
 import java.util.List;
 import java.util.Set;
+import java.util.function.IntToDoubleFunction;
 import org.apache.commons.math3.distribution.NormalDistribution;
 import org.apache.commons.math3.distribution.TDistribution;
 
@@ -50,7 +51,7 @@ public final class InitialStateEstimator {
 
     /** Checks that a model, trace and options fit together, throwing {@link ModelException} before any work. */
     public static void validate(StateSpaceModel model, Trace trace, EstimationOptions options) {
-        validatedStep(model, trace.timesView(), trace.outputCount(), trace.inputCount(), options);
+        validatedStep(model, trace, options);
     }
 
     /**
@@ -58,8 +59,9 @@ public final class InitialStateEstimator {
      * channel counts before its samples are assembled (the intake checks a large upload this way and
      * stores it column by column); its samples must pass {@link Trace}'s own checks.
      */
-    public static void validate(StateSpaceModel model, double[] times, int outputs, int inputs, EstimationOptions options) {
-        validatedStep(model, times, outputs, inputs, options);
+    public static void validate(StateSpaceModel model, double[] times, int outputs, int inputs,
+                                IntToDoubleFunction traceSigma, EstimationOptions options) {
+        validatedStep(model, times, outputs, inputs, traceSigma, options);
     }
 
     /**
@@ -67,13 +69,14 @@ public final class InitialStateEstimator {
      * samples, or {@link SolveContext#UNEVEN} when steps differ or there is a single sample.
      */
     static long validatedStep(StateSpaceModel model, Trace trace, EstimationOptions options) {
-        return validatedStep(model, trace.timesView(), trace.outputCount(), trace.inputCount(), options);
+        return validatedStep(model, trace.timesView(), trace.outputCount(), trace.inputCount(), trace::noiseSigma, options);
     }
 
     private static long validatedStep(StateSpaceModel model, double[] times, int outputs, int inputs,
-                                      EstimationOptions options) {
+                                      IntToDoubleFunction traceSigma, EstimationOptions options) {
         Trace.requireSamples(times.length);
         requireCompatible(model, times, outputs, inputs, options);
+        NoiseLevels.requireGivenWithStatedCovariance(model, traceSigma, options);
         SampleSteps steps = new SampleSteps(model, times[0]);
         requireReferenceOnGrid(steps, options);
         long reference = smoothedReference(model, steps, options);

@@ -78,7 +78,8 @@ public final class ParsedColumns {
         return inputs[i];
     }
 
-    double noiseSigma(int j) {
+    /** The trace's own σ of output j, NaN where it gives none. */
+    public double noiseSigma(int j) {
         return noiseSigmaOrNull == null ? Double.NaN : noiseSigmaOrNull[j];
     }
 

@@ -109,16 +109,26 @@ public final class TraceIntake {
         EstimationOptions options;
         try {
             options = parsed.options().toEstimationOptions(engine.states(), false);
-            InitialStateEstimator.validate(engine, times, parsed.outputCount(), parsed.inputCount(), options);
+            InitialStateEstimator.validate(engine, times, parsed.outputCount(), parsed.inputCount(), parsed::noiseSigma,
+                    options);
         } catch (ModelException e) {
             ModelException worded = e.withTimeWords(RecordingTime::words);
-            throw OPTION_FIELDS.contains(e.field().split("[.\\[]", 2)[0]) ? worded.renamed(optionsAt + e.field()) : worded;
+            String first = e.field().split("[.\\[]", 2)[0];
+            if (first.equals("noiseSigma")) {
+                throw worded.renamed("noiseSigma." + model.document().outputs().get(channelOf(e.field())).name());
+            }
+            throw OPTION_FIELDS.contains(first) ? worded.renamed(optionsAt + e.field()) : worded;
         }
         requireSomeValue(parsed, isJson(post));
         List<TraceWarning> warnings = new ArrayList<>(TraceWarning.ofWindow(times[0], times[times.length - 1], clock.instant()));
         warnings.addAll(TraceWarning.ofOutputs(model.document(), parsed, options.formulation(), isJson(post))); // before the encoding takes the columns
         return new Checked(new NewTrace(post.unitId(), version.family(), version.version(), times.length, times[0],
                 times[times.length - 1], codec.encode(parsed)), warnings);
+    }
+
+    /** j of the engine's field "noiseSigma[j]". */
+    private static int channelOf(String field) {
+        return Integer.parseInt(field.substring(field.indexOf('[') + 1, field.indexOf(']')));
     }
 
     /** A trace whose outputs are all missing cannot be solved: refused now rather than taken and failed later. */

@@ -43,11 +43,12 @@ class TimeRefusalTest {
                 new double[][] {{1, 0}}, null, 60.0, new double[] {0.1});
         double[] times = {1000, 1060, 1120};
         ModelException refused = assertThrows(ModelException.class, () -> InitialStateEstimator.validate(model, times, 1, 0,
-                EstimationOptions.defaults().withReferenceTime(1090.0)));
+                j -> Double.NaN, EstimationOptions.defaults().withReferenceTime(1090.0)));
         assertEquals("referenceTime", refused.field());
         // (1090 − 1000) / 60 = 1.5 periods.
         assertEquals("got 1090 s, expected a whole number of sample periods (60 s) after the first sample;"
                 + " it is 1.5 periods after it", refused.problem());
-        InitialStateEstimator.validate(model, times, 1, 0, EstimationOptions.defaults().withReferenceTime(1060.0));
+        InitialStateEstimator.validate(model, times, 1, 0, j -> Double.NaN,
+                EstimationOptions.defaults().withReferenceTime(1060.0));
     }
 }

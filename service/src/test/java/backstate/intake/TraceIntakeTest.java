@@ -247,6 +247,28 @@ class TraceIntakeTest {
     }
 
     @Test
+    void a_prior_under_a_version_without_sigma_needs_the_traces_sigma_for_every_output() throws Exception {
+        com.fasterxml.jackson.databind.node.ObjectNode doc = (com.fasterxml.jackson.databind.node.ObjectNode)
+                mapper.readTree(Files.readString(ReeferTraces.modelFile(TEST_DATA)));
+        doc.get("outputs").forEach(o -> ((com.fasterxml.jackson.databind.node.ObjectNode) o).remove("noiseSigma"));
+        store.models().publishVersion(new NewModelVersion(FAMILY, "continuous", 4, 2, 2, doc.toString(), "{}"), NOW);
+        String trace = new String(new ReeferTraces(TEST_DATA).json(SAMPLES, 3), StandardCharsets.UTF_8);
+        String prior = "\"options\":{\"prior\":{\"mean\":[0,0,0,0],\"covariance\":[[1,0,0,0],[0,1,0,0],[0,0,1,0],[0,0,0,1]]}}";
+        String withPrior = trace.substring(0, trace.lastIndexOf('}')) + "," + prior + "}";
+        ModelException refused = assertThrows(ModelException.class, () -> intake(10).submit(jsonPost(2, withPrior)));
+        assertEquals("noiseSigma.return_air", refused.field());
+        String withSigma = withPrior.substring(0, withPrior.lastIndexOf('}'))
+                + ",\"noiseSigma\":{\"return_air\":0.15,\"supply_air\":0.15}}";
+        intake(10).submit(jsonPost(2, withSigma));
+        assertEquals(1, store.queue().queuedCount());
+    }
+
+    private static TracePost jsonPost(int version, String body) {
+        return new TracePost("RCX-5", FAMILY, version, "application/json", null, TracePost.CsvQuery.NONE,
+                () -> new ByteArrayInputStream(body.getBytes(StandardCharsets.UTF_8)));
+    }
+
+    @Test
     void a_json_post_is_stored_like_the_same_trace_in_csv() throws Exception {
         TraceIntake intake = intake(10);
         TraceRow fromCsv = store.traces().findTrace(intake.submit(csvPost("RCX-5", 1, null, csv)).submission().traceId()).orElseThrow();
