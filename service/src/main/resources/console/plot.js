@@ -322,7 +322,7 @@ export function intervalChart({ title, note, labels, sets, unit }) {
     parts.push(`<line class="grid" x1="${at(t)}" x2="${at(t)}" y1="${top}" y2="${height - 30}"/>`,
       `<text class="tick" x="${at(t)}" y="${height - 16}" text-anchor="middle">${t}</text>`);
   }
-  parts.push(`<text class="axis-label" x="${(left + right) / 2}" y="${height - 2}" text-anchor="middle">${unit ?? ''}</text>`);
+  parts.push(`<text class="axis-label" x="${(left + right) / 2}" y="${height - 2}" text-anchor="middle">${escapeSvgText(unit ?? '')}</text>`);
   labels.forEach((label, row) => {
     const middle = top + row * rowHeight + rowHeight / 2;
     parts.push(`<text class="row-label" x="${left - 10}" y="${middle + 4}" text-anchor="end">${escapeSvgText(label)}</text>`);
