@@ -5,6 +5,7 @@ import backstate.estimation.StateSpaceModel;
 import backstate.formats.InputException;
 import backstate.formats.ModelDocument;
 import backstate.formats.Quantity;
+import backstate.text.Figure;
 import java.util.Arrays;
 import java.util.List;
 import java.util.Map;
@@ -20,11 +21,13 @@ record PlanRequest(Double samplePeriod, List<Double> horizons, List<List<String>
     static final int MAX_HORIZONS = 100;
     /** Output subsets per request: one per output and then some combinations. */
     static final int MAX_SUBSETS = 64;
+    /** How far from a whole number of microseconds a period may be, relative: decimal seconds such as 0.1 are not exact doubles. */
+    static final double WHOLE_MICROS_SLACK = 1e-9;
 
     SamplingPlanner.Plan toPlan(ModelDocument document, StateSpaceModel model) {
         List<String> outputs = document.outputs().stream().map(Quantity::name).toList();
         List<String> states = document.states().stream().map(Quantity::name).toList();
-        double period = positive("samplePeriod", samplePeriod);
+        double period = wholeMicroseconds("samplePeriod", positive("samplePeriod", samplePeriod));
         if (horizons == null || horizons.isEmpty()) {
             throw new InputException("horizons", "got nothing, expected a list of window lengths in seconds");
         }
@@ -43,6 +46,19 @@ record PlanRequest(Double samplePeriod, List<Double> horizons, List<List<String>
         double[] sigma = sigma(outputs, model, subsets);
         double[] targets = targets(states);
         return new SamplingPlanner.Plan(period, h, subsets, sigma, targets);
+    }
+
+    /**
+     * A period of whole microseconds, as the planned sample times are kept (to the microsecond, as a
+     * trace's): a shorter or fractional one would be planned on other times than asked for.
+     */
+    private static double wholeMicroseconds(String field, double seconds) {
+        double micros = seconds * 1e6;
+        if (!(micros >= 1 - WHOLE_MICROS_SLACK) || Math.abs(micros - Math.rint(micros)) > WHOLE_MICROS_SLACK * micros) {
+            throw new InputException(field, "got " + Figure.plain(seconds) + " s, expected a whole number of microseconds"
+                    + " (sample times are kept to the microsecond)");
+        }
+        return seconds;
     }
 
     /** All outputs together when no subsets are given. */

@@ -86,14 +86,28 @@ final class PlanViews {
                     + Figure.exact(longest.horizon()) + " s, " + Counted.of(longest.samples(), "sample")
                     + ") leaves x0 along " + directionsInWords(states, longest.unobservableDirections())
                     + " undetermined; take more samples, or a sample period that does not alias a mode";
-            case TARGETS_NOT_MET -> "no candidate horizon meets the targets; at the longest ("
-                    + Figure.exact(longest.horizon()) + " s) the standard errors miss them: "
-                    + missed(states, plan.targetStdErrors(), longest.standardErrors());
+            case TARGETS_NOT_MET -> "no candidate horizon meets the targets; at the longest"
+                    + (longestDetermined(p) == longest ? "" : " that determines x0") + " ("
+                    + Figure.exact(longestDetermined(p).horizon()) + " s) the standard errors miss them: "
+                    + missed(states, plan.targetStdErrors(), longestDetermined(p).standardErrors());
         };
+    }
+
+    /** The longest horizon with standard errors (a longer one may leave a direction numerically undetermined). */
+    private static SamplingPlanner.Prediction longestDetermined(List<SamplingPlanner.Prediction> p) {
+        for (int k = p.size() - 1; k > 0; k--) {
+            if (p.get(k).standardErrors() != null) {
+                return p.get(k);
+            }
+        }
+        return p.get(0);
     }
 
     /** "cargo_core 10.9 (target 0.5), wall 4 (target 1)": the states whose standard error exceeds its target. */
     private static String missed(List<String> states, double[] targets, double[] se) {
+        if (se == null) {
+            return "x0 is not determined";
+        }
         List<String> out = new ArrayList<>();
         for (int i = 0; i < states.size(); i++) {
             if (!Double.isNaN(targets[i]) && !(se[i] <= targets[i])) {

@@ -120,6 +120,26 @@ class PlanRoutesTest {
     }
 
     @Test
+    void targets_missed_where_the_longest_horizon_is_numerically_undetermined_name_the_longest_determined() {
+        // A level drifting at an unknown rate plus a 60 s transient on one gauge: over 3·10⁷ s the transient's
+        // columns are lost beside the drift's (rank 2, numpy's matrix_rank of the same Gramian agrees), over 1 h not.
+        String drift = """
+                {"timeDomain":"continuous","states":[{"name":"level","unit":"m"},{"name":"rate","unit":"m/s"},
+                 {"name":"transient","unit":"m"}],"outputs":[{"name":"gauge","unit":"m","noiseSigma":0.01}],
+                 "a":[[0,1,0],[0,0,0],[0,0,-0.01666666666666667]],"c":[[1,0,1]]}""";
+        assertEquals(201, server.postJson("/v1/models", Map.of("name", "drift", "description", "planning test")).status());
+        assertEquals(201, server.post("/v1/models/drift/versions", "application/json",
+                drift.getBytes(StandardCharsets.UTF_8)).status());
+        JsonNode subset = post("/v1/models/drift/versions/1/plans", """
+                { "samplePeriod": 60, "horizons": [3600, 30000000], "targetStdErrors": {"transient": 0.001} }""")
+                .get("subsets").get(0);
+        assertEquals("targets_not_met", subset.get("verdict").asText());
+        assertEquals(2, subset.get("horizons").get(1).get("rank").asInt());
+        assertTrue(subset.get("reason").asText().startsWith("no candidate horizon meets the targets; at the longest that"
+                + " determines x0 (3600 s) the standard errors miss them: transient "), subset.get("reason").asText());
+    }
+
+    @Test
     void a_trace_of_the_plan_gets_exactly_the_predicted_standard_errors_from_the_estimator() throws Exception {
         JsonNode plan = post(PLANS, """
                 { "samplePeriod": 60, "horizons": [3600], "outputSubsets": [["return_air"]] }""");
@@ -187,6 +207,10 @@ class PlanRoutesTest {
         assertProblem(postRaw(PLANS, "{\"samplePeriod\": 60, \"horizons\": [60], \"noiseSigma\": {\"door\": 1}}"),
                 400, "noiseSigma.door");
         assertProblem(postRaw(PLANS, "{\"samplePeriod\": -60, \"horizons\": [60]}"), 400, "samplePeriod");
+        // Sample times are kept to the microsecond: a shorter or fractional period would be planned on other times.
+        assertProblem(postRaw(PLANS, "{\"samplePeriod\": 4e-7, \"horizons\": [1e-5]}"), 400, "samplePeriod");
+        assertProblem(postRaw(PLANS, "{\"samplePeriod\": 1e-300, \"horizons\": [1e-295]}"), 400, "samplePeriod");
+        assertProblem(postRaw(PLANS, "{\"samplePeriod\": 1.5e-6, \"horizons\": [1e-3]}"), 400, "samplePeriod");
         assertProblem(postRaw(PLANS, "{\"horizons\": [60]}"), 400, "samplePeriod");
         assertProblem(postRaw(PLANS, "{\"samplePeriod\": 60}"), 400, "horizons");
         assertProblem(postRaw(PLANS, "{\"samplePeriod\": 60, \"horizons\": [3600, 1800]}"), 400, "horizons[1]");
