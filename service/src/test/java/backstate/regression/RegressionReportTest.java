@@ -134,6 +134,20 @@ class RegressionReportTest {
     }
 
     @Test
+    void a_delta_of_rounding_is_unchanged_and_within_a_zero_tolerance() {
+        // One model with its states listed in another order gives χ² equal to about 1e-15 relative.
+        RegressionReport r = report(0.0, 0.0, 0.0, 3);
+        r.add("U", "t1", "2025-12-31T00:00:00Z", "2026-01-01T00:00:00Z", 1, fit(100, 100), fit(100 * (1 + 3e-15), 100));
+        r.add("V", "t2", "2025-12-31T00:00:00Z", "2026-01-01T00:00:00Z", 1, fit(100, 100), fit(100 * (1 - 3e-15), 100));
+        r.add("W", "t3", "2025-12-31T00:00:00Z", "2026-01-01T00:00:00Z", 1, fit(100, 100), fit(100 * (1 + 1e-8), 100));
+        RegressionResult result = r.build(true);
+        assertEquals(List.of("unchanged", "unchanged", "worse"), result.units().stream().map(RegressionResult.UnitResult::change)
+                .toList());
+        assertEquals(List.of(false, false, true), result.units().stream().map(RegressionResult.UnitResult::beyondTolerance)
+                .toList());
+    }
+
+    @Test
     void an_incomplete_report_has_no_verdict() {
         RegressionReport r = report(null, null, null, 3);
         r.add("U", "t1", "2025-12-31T00:00:00Z", "2026-01-01T00:00:00Z", 1, fit(100, 100), fit(100, 100));
