@@ -21,6 +21,19 @@ export function say(text, kind = 'error') {
   message.dataset.kind = kind;
 }
 
+/** A message for the line once the next page is routed to (routing clears the line first). */
+let nextMessage = null;
+
+/** Goes to {@code hash} (again, if it is the page shown) and shows {@code text} on the new page. */
+export function goWithMessage(hash, text, kind = 'info') {
+  nextMessage = { text, kind };
+  if (location.hash === hash) {
+    route();
+  } else {
+    location.hash = hash;
+  }
+}
+
 /** What a page shows when its data cannot be read. */
 export function explain(error) {
   say(error instanceof ApiError ? error.message : 'Unexpected: ' + error.message);
@@ -30,7 +43,8 @@ async function route() {
   const hash = location.hash || '#/fleet';
   const match = routes.map(r => ({ r, m: hash.match(r.pattern) })).find(x => x.m);
   const ticket = ++rendering;
-  say(null);
+  say(nextMessage?.text ?? null, nextMessage?.kind);
+  nextMessage = null;
   document.querySelectorAll('nav a').forEach(a =>
     a.setAttribute('aria-current', match && a.dataset.section === match.r.section ? 'page' : 'false'));
   if (!match) {

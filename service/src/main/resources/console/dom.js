@@ -47,7 +47,7 @@ export function number(value) {
 
 /** Flags in words, each with a symbol, so colour is never the only signal. */
 export const FLAG_WORDS = {
-  model_mismatch: 'the model does not fit this trace (residuals too large for the stated noise)',
+  model_mismatch: 'the model does not fit this trace (residuals too large for the stated noise, or correlated in time)',
   ill_conditioned: 'some state direction is barely observable; its estimate is unreliable',
   unobservable: 'some state direction cannot be seen from these outputs at all',
   few_samples: 'too few samples for a trustworthy fit',

@@ -11,6 +11,11 @@ function colour(index) {
   return getComputedStyle(document.documentElement).getPropertyValue(PALETTE[index % PALETTE.length]).trim() || '#333';
 }
 
+/** The plots' panel colour: the inside of a ring. */
+function background() {
+  return getComputedStyle(document.documentElement).getPropertyValue('--panel').trim() || '#fff';
+}
+
 /**
  * A line plot. lines: [{label, values, band: {lower, upper}?}]; x: numbers (seconds or epoch
  * seconds when time is true). Lines differ in dash pattern as well as colour; a band is drawn as a
@@ -206,6 +211,7 @@ function legendList(entries) {
       : kind === 'band'
       ? `<rect x="1" y="3" width="22" height="10" fill="${ink}" opacity="0.22"/>`
       : kind === 'points' ? `<circle cx="12" cy="8" r="3" fill="${ink}"/>`
+      : kind === 'rings' ? `<circle cx="12" cy="8" r="3" fill="none" stroke="${ink}" stroke-width="1.5"/>`
         : `<line x1="1" y1="8" x2="23" y2="8" stroke="${ink}" stroke-width="2" stroke-dasharray="${dash}"/>`;
     const symbol = h('span', { class: 'swatch', 'aria-hidden': 'true' });
     symbol.innerHTML = `<svg width="24" height="16" viewBox="0 0 24 16">${mark}</svg>`;
@@ -216,7 +222,7 @@ function legendList(entries) {
 /**
  * A plot over recording time (x in epoch seconds, axis in UTC) that fits its container's width.
  * lines: [{label, values, style: 'line' | 'points', band: {lower, upper, label}?, ink?, dash?,
- * whiskers?}] (whiskers: the band drawn as an interval bar at each point instead of an area). data-plot
+ * whiskers?, hollow?}] (hollow: points drawn as rings) (whiskers: the band drawn as an interval bar at each point instead of an area). data-plot
  * holds x and every drawn series by label (a band as "label lower" / "label upper"), as linePlot's.
  */
 export function timePlot({ title, note, x, lines, yLabel, height = 220, padX = false }) {
@@ -242,8 +248,9 @@ export function timePlot({ title, note, x, lines, yLabel, height = 220, padX = f
     const dots = line.style === 'points';
     const dash = dots ? [] : line.dash ?? DASHES[index % DASHES.length];
     series.push({ label: line.label, stroke, width: dots ? 0 : 1.5, dash,
-      paths: dots ? () => null : undefined, points: { show: dots, size: line.whiskers ? 7 : 3.5, width: 0, fill: stroke } });
-    entries.push({ label: line.label, kind: dots ? 'points' : 'line', index, dash });
+      paths: dots ? () => null : undefined, points: { show: dots, size: line.whiskers ? 7 : 3.5, width: line.hollow ? 1.5 : 0,
+        fill: line.hollow ? background() : stroke } });
+    entries.push({ label: line.label, kind: dots ? (line.hollow ? 'rings' : 'points') : 'line', index, dash });
   });
   const holder = h('figure', { class: 'plot time-plot', 'data-plot': JSON.stringify(record(x, lines)) },
     h('figcaption', {}, h('span', { class: 'plot-title' }, title), note ? h('span', { class: 'plot-note' }, note) : null),

@@ -80,14 +80,17 @@ final class FleetViews {
                  List<Point> points, String caution) {
     }
 
-    /** One estimate of the state at its window start; lower and upper bound its 95 % confidence interval. */
+    /**
+     * One estimate of the state at its window start; lower and upper bound its 95 % confidence interval;
+     * flags are the estimate's (a flagged point is unreliable).
+     */
     @JsonInclude(JsonInclude.Include.NON_NULL)
     record Point(String estimateId, String windowStart, String windowEnd, String receivedAt, String createdAt,
-                 int version, Double estimate, Double standardError, Double lower, Double upper) {
+                 int version, List<String> flags, Double estimate, Double standardError, Double lower, Double upper) {
         static Point of(StatePoint p) {
             return new Point(p.estimateId(), RecordingTime.format(p.windowStart()), RecordingTime.format(p.windowEnd()),
-                    p.receivedAt().toString(), p.createdAt().toString(), p.version(), p.value(), p.standardError(),
-                    p.lower(), p.upper());
+                    p.receivedAt().toString(), p.createdAt().toString(), p.version(), p.flags(), p.value(),
+                    p.standardError(), p.lower(), p.upper());
         }
     }
 

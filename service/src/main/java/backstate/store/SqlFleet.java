@@ -106,7 +106,7 @@ final class SqlFleet implements FleetStore {
 
     // A unit's trend walks estimates_by_unit_recorded and looks each estimate's state up by key.
     private static final String LIST_STATE_TREND = "SELECT e.id, e.created_at, e.received_at, e.version,"
-            + " e.window_start, e.window_end, s.value, s.standard_error, s.lower, s.upper"
+            + " e.window_start, e.window_end, e.flags, s.value, s.standard_error, s.lower, s.upper"
             + " FROM estimates e JOIN estimate_states s ON s.estimate_id = e.id AND s.state = ?"
             + " WHERE e.unit_id = ? AND e.family = ? AND (CAST(? AS TEXT) IS NULL OR e.version = ?)"
             + TimeConditions.RECORDED_AND_RECEIVED
@@ -313,7 +313,8 @@ final class SqlFleet implements FleetStore {
     private static StatePoint statePoint(ResultSet rs) throws SQLException {
         return new StatePoint(rs.getString("id"), Sql.instant(rs, "created_at"), Sql.instant(rs, "received_at"),
                 rs.getInt("version"),
-                rs.getDouble("window_start"), rs.getDouble("window_end"), Sql.doubleOrNull(rs, "value"),
-                Sql.doubleOrNull(rs, "standard_error"), Sql.doubleOrNull(rs, "lower"), Sql.doubleOrNull(rs, "upper"));
+                rs.getDouble("window_start"), rs.getDouble("window_end"), Sql.splitFlags(rs.getString("flags")),
+                Sql.doubleOrNull(rs, "value"), Sql.doubleOrNull(rs, "standard_error"), Sql.doubleOrNull(rs, "lower"),
+                Sql.doubleOrNull(rs, "upper"));
     }
 }

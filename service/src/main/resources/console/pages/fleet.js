@@ -1,6 +1,6 @@
 // Fleet: per family and model version, how well the units' newest estimates fit (a χ²/dof
-// histogram on log-spaced bins), how many units carry each flag, the worst-fit units and the
-// stale ones. Everything comes from GET /v1/fleet/{family}/summary and /units.
+// histogram on log-spaced bins), how many estimates in the window carry each flag and in how many
+// units, the worst-fit units and the stale ones. Everything comes from GET /v1/fleet/{family}/summary and /units.
 import { api } from '../api.js';
 import { explain } from '../app.js';
 import { counted, FLAG_WORDS, format, h, link, number, table } from '../dom.js';
@@ -57,7 +57,8 @@ function familyNav(families, current) {
 /** One row per version: its counts and the spread of χ²/dof. */
 function overview(summary) {
   const t = table(`Model versions of ${summary.family}: recordings, estimates and fit, as of ${when(summary.asOf)}`,
-    ['version', 'status', 'units', 'traces', 'estimates', 'χ²/dof median', 'χ²/dof p95', 'χ²/dof max', 'flagged units'],
+    ['version', 'status', 'units', 'traces', 'estimates', 'χ²/dof median', 'χ²/dof p95', 'χ²/dof max',
+      'units with a flagged estimate'],
     summary.versions.map(v => [
       String(v.version),
       v.status === 'active' ? '● active' : '○ retired',
@@ -73,7 +74,7 @@ function overview(summary) {
   return h('div', { class: 'panel' }, t);
 }
 
-/** Flags with units, in words with a symbol: "⚠ model mismatch: 3". */
+/** Flags with the units that have an estimate carrying them, in words with a symbol: "⚠ model mismatch: 3". */
 function flagTally(flags) {
   const raised = FLAG_ORDER.filter(f => flags[f].units > 0);
   if (raised.length === 0) {
@@ -176,8 +177,9 @@ function fitHistogram(units) {
 }
 
 function flagTable(flags) {
-  const t = table('Flags on the units’ newest estimates',
-    ['flag', 'what it means', 'units', 'estimates', 'which units'],
+  const t = table('Flags on this version’s estimates in the window: every estimate of a unit counts, not only its newest'
+    + ' (a unit’s page shows its newest)',
+    ['flag', 'what it means', 'units with one', 'estimates', 'which units'],
     FLAG_ORDER.map(f => {
       const flagged = flags[f];
       return [

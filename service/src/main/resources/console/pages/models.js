@@ -1,7 +1,7 @@
 // Models: each family's versions with their observability report; publish a version from a model
 // document file (admin key).
 import { api } from '../api.js';
-import { explain, say } from '../app.js';
+import { explain, goWithMessage, say } from '../app.js';
 import { h, link, number, table } from '../dom.js';
 
 export async function render(root, { family }) {
@@ -50,9 +50,7 @@ function publishForm(family) {
     }
     try {
       const published = await api.publish(family, await file.files[0].text());
-      say(`Published ${family} version ${published.version}.`, 'info');
-      location.hash = `#/models/${encodeURIComponent(family)}`;
-      window.dispatchEvent(new HashChangeEvent('hashchange'));
+      goWithMessage(`#/models/${encodeURIComponent(family)}`, `Published ${family} version ${published.version}.`);
     } catch (error) {
       explain(error);
     }

@@ -26,7 +26,15 @@ export async function render(root, { family, version }) {
     h('p', { class: 'lede' }, 'How long must a recording be? The standard error of a state for each window length and ',
       'set of sensors, predicted from the model alone, before any data exist.'),
     h('div', { class: 'plan-layout' }, form, results));
-  await fillResults(results, family, version, spec, requestFrom(form, spec));
+  let first;
+  try {
+    first = requestFrom(form, spec);
+  } catch (error) {
+    // A model with no noise σ on an output: the form asks for it before anything can be predicted.
+    results.append(h('p', { class: 'lede', 'data-field': 'formNeeded' }, `Complete the form, then predict: ${error.message}.`));
+    return;
+  }
+  await fillResults(results, family, version, spec, first);
 }
 
 export function mounted(main) {

@@ -26,7 +26,7 @@ export async function render(root, params) {
     heading(unitId, estimate, chosen),
     summary(estimate),
     section('Estimated state', 'states',
-      h('div', { class: 'unit-states' }, stateTable(estimate), stateChart(estimate))),
+      h('div', { class: 'unit-states' }, stateTable(estimate), stateChart(estimate)), mismatchNote(estimate)),
     section('Fit per output channel', 'fit',
       h('p', { class: 'lede' }, sampling(series)),
       h('div', { class: 'unit-channels' }, series.outputs.map(name => channelPanel(name, series, estimate, model))),
@@ -71,15 +71,37 @@ function heading(unitId, estimate, chosen) {
       chosen ? [' · ', link(`#/units/${encodeURIComponent(estimate.unitId)}`, 'back to the latest')] : null));
 }
 
+/** The level of the service's χ² and whiteness tests behind model_mismatch (Bonferroni over channels for the latter). */
+const MISMATCH_LEVEL = 0.001;
+
+/** Outputs whose σ neither the trace nor the model gave: the service assumed 1 and scaled by σ̂. */
+function assumedSigma(estimate) {
+  return estimate.result.residuals.channels.filter(c => c.sigmaSource === 'assumed_one').map(c => c.output);
+}
+
 function fitWords(estimate) {
-  const scale = estimate.result.sigmaScale;
+  const r = estimate.result;
+  const scale = r.sigmaScale;
   if (scale === undefined) {
     return 'No degrees of freedom: the fit cannot be judged.';
   }
-  if (estimate.flags.includes('model_mismatch')) {
-    return `The residuals are about ${format(scale)} × the stated sensor noise: the model does not explain this trace.`;
+  const assumed = assumedSigma(estimate);
+  const size = assumed.length
+    ? `No noise σ was given for ${assumed.join(', ')}: it was estimated from the residuals (σ scale ${format(scale)}), so their size cannot be judged, only their pattern.`
+    : `The residuals are about ${format(scale)} × the stated sensor noise (near 1 when model and noise fit).`;
+  if (!estimate.flags.includes('model_mismatch')) {
+    return size;
   }
-  return `The residuals are about ${format(scale)} × the stated sensor noise (near 1 when model and noise fit).`;
+  const channels = r.residuals.channels;
+  const correlated = channels.filter(c => c.ljungBoxP < MISMATCH_LEVEL / channels.length).map(c => c.output);
+  const why = [];
+  if (!assumed.length && r.residuals.pValue < MISMATCH_LEVEL) {
+    why.push('too large for the stated noise');
+  }
+  if (correlated.length) {
+    why.push(`correlated in time on ${correlated.join(', ')} (Ljung–Box test)`);
+  }
+  return `${size} The model does not explain this trace: its residuals are ${why.length ? why.join(', and ') : 'off'}.`;
 }
 
 function summary(estimate) {
@@ -118,22 +140,46 @@ function interval(lower, upper, prefix = '') {
   return h('span', { class: 'interval' }, '[', field(prefix + 'lower', lower), ', ', field(prefix + 'upper', upper), ']');
 }
 
+/** The standard error the intervals use: scaled by σ̂ when some σ was not given, else from the stated σ. */
+function intervalError(estimate, s) {
+  return assumedSigma(estimate).length ? s.standardErrorScaled : s.standardError;
+}
+
 function stateTable(estimate) {
   const end = new Map(estimate.result.windowEnd.states.map(s => [s.name, s]));
   const rows = estimate.result.states.map(s => {
     const e = end.get(s.name);
     return [h('th', { scope: 'row' }, s.name, s.unit ? h('span', { class: 'unit' }, ` ${s.unit}`) : null),
-      field('estimate', s.estimate), field('standardError', s.standardError),
+      field('estimate', s.estimate), field('standardError', intervalError(estimate, s)),
       interval(s.lower, s.upper), field('end.estimate', e?.estimate), interval(e?.lower, e?.upper, 'end.')];
   });
-  const t = table('At window start and at window end, with 95 % intervals',
+  const flagged = estimate.flags.length > 0;
+  const caption = (flagged ? '⚠ Flagged: treat these as unreliable. ' : '')
+    + 'At window start and at window end, with 95 % intervals'
+    + (assumedSigma(estimate).length ? ' (standard errors scaled by the σ scale: some σ was not given)' : '');
+  const t = table(caption,
     ['state', 'at start', 'std. error', '95 % interval', 'at end', '95 % interval at end'], rows,
     { class: 'state-table' });
   t.querySelectorAll('tbody tr').forEach((tr, i) => {
     tr.dataset.state = rows[i][0].firstChild.textContent;
     tr.firstChild.replaceWith(rows[i][0]);
   });
+  t.dataset.flagged = flagged ? 'true' : 'false';
   return scrolling(t);
+}
+
+/**
+ * A model_mismatch estimate whose σ was given: its intervals rest on that σ, which the residuals say
+ * is too small for this trace; the standard errors scaled by σ̂ say how much wider they could be.
+ */
+function mismatchNote(estimate) {
+  if (!estimate.flags.includes('model_mismatch') || assumedSigma(estimate).length) {
+    return null;
+  }
+  const scaled = estimate.result.states.map(s => [s.name, ' ', field('standardErrorScaled', s.standardErrorScaled)]);
+  return h('p', { class: 'mismatch-note', 'data-field': 'mismatchNote' },
+    '⚠ The intervals assume the stated noise, which this trace exceeds (σ scale ', number(estimate.result.sigmaScale),
+    '). Scaled by it, the standard errors would be: ', scaled.flatMap((x, i) => (i ? [', ', ...x] : x)), '.');
 }
 
 function stateChart(estimate) {
@@ -171,12 +217,15 @@ export function ordinal(n) {
 
 function channelPanel(name, series, estimate, model) {
   const diagnostics = estimate.result.residuals.channels.find(c => c.output === name);
-  const sigma = diagnostics?.sigma;
+  const assumed = diagnostics?.sigmaSource === 'assumed_one';
+  // With σ not given the service weighs by 1 and scales by σ̂: the band is σ̂'s, in the channel's units.
+  const sigma = assumed ? diagnostics.sigma * estimate.result.sigmaScale : diagnostics?.sigma;
   const unit = model.document?.outputs?.find(o => o.name === name)?.unit ?? '';
   const fitted = series.fitted[name];
+  const source = assumed ? 'estimated from the residuals (no σ given)' : `from the ${diagnostics?.sigmaSource}`;
   const band = Number.isFinite(sigma)
     ? { lower: fitted.map(v => (v === null ? null : v - 2 * sigma)), upper: fitted.map(v => (v === null ? null : v + 2 * sigma)),
-      label: `fit ± 2σ (σ = ${format(sigma)} ${unit}, the noise σ used for this channel, from the ${diagnostics.sigmaSource})` }
+      label: `fit ± 2σ (σ = ${format(sigma)} ${unit}, ${source})` }
     : undefined;
   const zero = fitted.map(() => 0);
   return h('div', { class: 'panel channel', 'data-output': name },
@@ -210,11 +259,21 @@ function trajectoryPlot(name, series, estimate) {
 function trendPlot(trend) {
   const points = trend.points.filter(p => p.estimate !== undefined);
   const x = points.map(p => Date.parse(p.windowStart) / 1000);
-  const figure = timePlot({ title: `${trend.state} at each window start`, x, yLabel: trend.unit ?? '', height: 200, padX: true,
-    note: `${points.length} estimate${points.length === 1 ? '' : 's'}, oldest recording first; bars: 95 % intervals`,
-    lines: [{ label: trend.state, values: points.map(p => p.estimate), style: 'points', whiskers: true,
-      band: { lower: points.map(p => p.lower ?? null), upper: points.map(p => p.upper ?? null), label: '95 % interval' } }] });
-  return figure;
+  const flagged = points.filter(p => p.flags.length > 0).length;
+  const only = (keep, values) => points.map((p, k) => (keep(p) ? values[k] : null));
+  const clean = p => p.flags.length === 0;
+  const dirty = p => p.flags.length > 0;
+  const [estimate, lower, upper] = ['estimate', 'lower', 'upper'].map(key => points.map(p => p[key] ?? null));
+  const lines = [{ label: trend.state, values: only(clean, estimate), style: 'points', whiskers: true,
+    band: { lower: only(clean, lower), upper: only(clean, upper), label: '95 % interval' } }];
+  if (flagged) {
+    lines.push({ label: `${trend.state}, flagged: unreliable`, values: only(dirty, estimate), style: 'points', hollow: true,
+      whiskers: true, ink: 3, band: { lower: only(dirty, lower), upper: only(dirty, upper), label: '95 % interval, flagged' } });
+  }
+  return timePlot({ title: `${trend.state} at each window start`, x, yLabel: trend.unit ?? '', height: 200, padX: true,
+    note: `${points.length} estimate${points.length === 1 ? '' : 's'}, oldest recording first; bars: 95 % intervals`
+      + (flagged ? `; ⚠ ${flagged} flagged, drawn as rings: unreliable, not a change of the state` : ''),
+    lines });
 }
 
 function trendSection(unitId, estimate, states, trend) {

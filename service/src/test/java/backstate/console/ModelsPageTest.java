@@ -54,6 +54,8 @@ class ModelsPageTest {
                     .ignoring(org.openqa.selenium.StaleElementReferenceException.class).until(d ->
                     "1,2,3".equals(d.findElement(org.openqa.selenium.By.cssSelector(
                             "section[data-family='reefer-40'] table")).getAttribute("data-versions")));
+            browser.awaitRendered();
+            assertEquals("Published reefer-40 version 3.", browser.message(), "the success is said on the page it leads to");
             JsonNode third = server.get("/v1/models/reefer-40/versions/3").json();
             assertEquals(3, third.get("version").asInt());
             assertEquals(server.get("/v1/models/reefer-40/versions/2").json().get("document"), third.get("document"));

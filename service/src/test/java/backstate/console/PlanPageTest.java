@@ -47,6 +47,25 @@ class PlanPageTest {
         return new JsonNode[] {request, reply.json()};
     }
 
+    @Test
+    void a_model_without_noise_sigma_shows_the_form_and_plans_once_sigma_is_typed() throws Exception {
+        UnitPageTest.publishWithoutSigma(server);
+        try (ConsoleBrowser browser = ConsoleBrowser.open()) {
+            browser.visit(server.base() + "/#/plan/" + UnitPageTest.NO_SIGMA_FAMILY + "/1");
+            assertEquals("", browser.message(), "no problem shown for a form not yet filled in");
+            assertTrue(browser.find("[data-field='formNeeded']").getText().startsWith("Complete the form, then predict:"
+                    + " σ of return_air: got \"\""), browser.find("[data-field='formNeeded']").getText());
+            browser.find("#plan-sigma-0").sendKeys("0.15");
+            browser.find("#plan-sigma-1").sendKeys("0.15");
+            browser.find("form.plan-form button[type=submit]").click();
+            new org.openqa.selenium.support.ui.WebDriverWait(browser.driver, ConsoleBrowser.PAGE_WAIT)
+                    .until(d -> !d.findElements(org.openqa.selenium.By.cssSelector("section.plan-results figure.plot")).isEmpty());
+            JsonNode request = JSON.readTree(browser.find("section.plan-results").getAttribute("data-request"));
+            assertEquals(0.15, request.get("noiseSigma").get("supply_air").asDouble());
+            browser.assertNoConsoleErrors();
+        }
+    }
+
     /** The plot's x and every sensor set's line, and the table's shortest windows, equal the plan's. */
     static void assertPageShows(ConsoleBrowser browser, JsonNode request, JsonNode plan) throws Exception {
         String state = request.get("targetStdErrors").fieldNames().next();

@@ -31,6 +31,9 @@ import org.openqa.selenium.support.ui.WebDriverWait;
 class UnitPageTest {
     static final String FLAGGED = "RCX-80742";
     static final String HEALTHY = "RCX-85159";
+    /** A unit solved under a version whose outputs have no noise σ: σ is estimated from its residuals. */
+    static final String NO_SIGMA = "NS-1";
+    static final String NO_SIGMA_FAMILY = "reefer-no-sigma";
     private static final ObjectMapper JSON = new ObjectMapper();
 
     @TempDir
@@ -46,6 +49,22 @@ class UnitPageTest {
         ReeferTraces traces = new ReeferTraces(TestServer.TEST_DATA);
         postTrace(server, HEALTHY, traces.csv(360, 11), Instant.parse("2026-11-28T06:00:00Z"));
         postTrace(server, HEALTHY, traces.csv(360, 12), Instant.parse("2026-11-29T06:00:00Z"));
+        publishWithoutSigma(server);
+        TestServer.Reply posted = server.post("/v1/units/" + NO_SIGMA + "/traces?model=" + NO_SIGMA_FAMILY + "&version=1",
+                "text/csv", ("time since 2026-11-29T06:00:00Z" + new String(traces.csv(360, 13), StandardCharsets.UTF_8)
+                        .substring("time".length())).getBytes(StandardCharsets.UTF_8));
+        assertEquals(202, posted.status(), posted.body());
+        assertEquals("succeeded", server.awaitJob(posted.json().get("jobId").asText()).get("state").asText());
+    }
+
+    /** The demo's v1 with no noise σ on its outputs, as family {@value #NO_SIGMA_FAMILY}. */
+    static void publishWithoutSigma(TestServer server) throws Exception {
+        com.fasterxml.jackson.databind.node.ObjectNode doc = (com.fasterxml.jackson.databind.node.ObjectNode) JSON.readTree(
+                java.nio.file.Files.readString(TestServer.TEST_DATA.resolve("demo/models/reefer-40.v1.json")));
+        doc.get("outputs").forEach(o -> ((com.fasterxml.jackson.databind.node.ObjectNode) o).remove("noiseSigma"));
+        assertEquals(201, server.postJson("/v1/models", java.util.Map.of("name", NO_SIGMA_FAMILY, "description", "no σ")).status());
+        assertEquals(201, server.post("/v1/models/" + NO_SIGMA_FAMILY + "/versions", "application/json",
+                JSON.writeValueAsBytes(doc)).status());
     }
 
     @AfterAll
@@ -241,6 +260,54 @@ class UnitPageTest {
         JsonNode oldest = server.get("/v1/estimates/" + expected.get(2)).json();
         assertEquals(oldest.get("result").get("states").get(3).get("estimate").asDouble(),
                 value(browser.find(".state-table tr[data-state='cargo_core']"), "estimate"));
+        browser.assertNoConsoleErrors();
+    }
+
+    @Test
+    void a_flagged_estimate_is_marked_unreliable_in_its_table_its_note_its_words_and_its_trend() throws Exception {
+        JsonNode estimate = latest(FLAGGED);
+        open(FLAGGED);
+        assertEquals("true", browser.find(".state-table").getAttribute("data-flagged"));
+        assertTrue(browser.find(".state-table caption").getText().startsWith("⚠ Flagged: treat these as unreliable."));
+        assertTrue(browser.find("p.caution").getText().contains("treat any estimate with a flag (⚠) as unreliable"));
+        // σ is the model's: the note gives the σ̂-scaled standard errors, as the API's standardErrorScaled.
+        List<Double> scaled = new ArrayList<>();
+        estimate.get("result").get("states").forEach(st -> scaled.add(st.get("standardErrorScaled").asDouble()));
+        List<Double> shown = browser.findAll("[data-field='mismatchNote'] .num[data-field='standardErrorScaled']").stream()
+                .map(e -> Double.parseDouble(e.getAttribute("data-value"))).toList();
+        assertEquals(scaled, shown);
+        // Both tests fire on this trace (χ² p and Ljung–Box p are 0 in the API's answer).
+        assertTrue(browser.find(".verdict").getText().contains("The model does not explain this trace: its residuals are too"
+                + " large for the stated noise, and correlated in time on return_air, supply_air (Ljung–Box test)."),
+                browser.find(".verdict").getText());
+        JsonNode trend = server.get("/v1/units/" + FLAGGED + "/trend?state=cargo_core&model=reefer-40").json();
+        JsonNode drawn = plot(browser.find("section[data-section='trend'] figure.plot"));
+        assertEquals(List.of(trend.get("points").get(0).get("estimate").asDouble()),
+                numbers(drawn.get("series").get("cargo_core, flagged: unreliable")));
+        assertEquals(java.util.Collections.singletonList(null), numbers(drawn.get("series").get("cargo_core")));
+        assertTrue(browser.find("section[data-section='trend'] .plot-note").getText().contains("⚠ 1 flagged, drawn as rings"));
+        browser.assertNoConsoleErrors();
+    }
+
+    @Test
+    void with_no_sigma_given_the_errors_and_the_band_are_the_residuals_sigma() throws Exception {
+        JsonNode estimate = latest(NO_SIGMA);
+        open(NO_SIGMA);
+        double scale = estimate.get("result").get("sigmaScale").asDouble();
+        for (JsonNode state : estimate.get("result").get("states")) {
+            WebElement row = browser.find(".state-table tr[data-state='" + state.get("name").asText() + "']");
+            // The interval is t × σ̂ × SE: the column shows the σ̂-scaled error it is built on.
+            assertEquals(state.get("standardErrorScaled").asDouble(), value(row, "standardError"), state.toString());
+        }
+        WebElement panel = browser.find(".channel[data-output='return_air']");
+        JsonNode drawn = plot(panel.findElement(org.openqa.selenium.By.cssSelector("figure.plot")));
+        List<Double> fitted = numbers(drawn.get("series").get("fitted"));
+        List<Double> upper = numbers(drawn.get("series").get("fitted upper"));
+        int k = fitted.indexOf(fitted.stream().filter(java.util.Objects::nonNull).findFirst().orElseThrow());
+        assertEquals(2 * 1.0 * scale, upper.get(k) - fitted.get(k), 1e-9 * Math.abs(upper.get(k)), "±2σ̂ with σ = 1 × σ scale");
+        assertTrue(panel.getText().contains("estimated from the residuals (no σ given)"), panel.getText());
+        assertTrue(browser.find(".verdict").getText().contains("No noise σ was given for return_air, supply_air: it was"
+                + " estimated from the residuals"), browser.find(".verdict").getText());
         browser.assertNoConsoleErrors();
     }
 

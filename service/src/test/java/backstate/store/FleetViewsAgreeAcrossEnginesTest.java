@@ -176,7 +176,7 @@ class FleetViewsAgreeAcrossEnginesTest {
         List<StatePoint> trend(String unit, String state, Integer version, TimeFilter times) {
             return fx.store.fleet().stateTrend(unit, state, StoreFixture.FAMILY, version, times, 5).stream()
                     .map(p -> new StatePoint(names.get(p.estimateId()), p.createdAt(), p.receivedAt(), p.version(),
-                            p.windowStart(), p.windowEnd(), p.value(), p.standardError(), p.lower(), p.upper()))
+                            p.windowStart(), p.windowEnd(), p.flags(), p.value(), p.standardError(), p.lower(), p.upper()))
                     .toList();
         }
 
