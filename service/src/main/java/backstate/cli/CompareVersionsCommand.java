@@ -36,6 +36,10 @@ public final class CompareVersionsCommand {
     /** How often the run's state is read; a progress line is printed when it has changed. */
     static final Duration POLL = Duration.ofSeconds(1);
     static final Duration REQUEST_TIMEOUT = Duration.ofSeconds(30);
+    /** How long busy answers (503 or 429 with Retry-After) are waited out before giving up. */
+    static final Duration BUSY_LIMIT = Duration.ofMinutes(2);
+    /** The longest single wait a Retry-After gets. */
+    static final Duration LONGEST_WAIT = Duration.ofSeconds(10);
     /** The key is taken from here when --api-key is not given, so it need not appear in a process list. */
     static final String KEY_VARIABLE = "BACKSTATE_API_KEY";
 
@@ -90,9 +94,13 @@ public final class CompareVersionsCommand {
     }
 
     private int startAndFollow(Map<String, Object> request) throws IOException, InterruptedException {
-        HttpResponse<String> started = send(HttpRequest.newBuilder(uri("/v1/regressions"))
-                .header("Content-Type", "application/json")
-                .POST(HttpRequest.BodyPublishers.ofString(mapper.writeValueAsString(request))));
+        String body = mapper.writeValueAsString(request);
+        HttpResponse<String> started = sendPatiently(() -> HttpRequest.newBuilder(uri("/v1/regressions"))
+                .header("Content-Type", "application/json").POST(HttpRequest.BodyPublishers.ofString(body)));
+        if (busyFor(started) != null) {
+            printProblem("the server stayed busy for " + BUSY_LIMIT.toSeconds() + " s; no run was started", started);
+            return NO_VERDICT;
+        }
         if (started.statusCode() != 202) {
             printProblem("the server refused the run", started);
             return BAD_INPUT;
@@ -107,7 +115,7 @@ public final class CompareVersionsCommand {
             Thread.sleep(POLL.toMillis());
             HttpResponse<String> polled;
             try {
-                polled = send(HttpRequest.newBuilder(uri("/v1/regressions/" + id)).GET());
+                polled = sendPatiently(() -> HttpRequest.newBuilder(uri("/v1/regressions/" + id)).GET());
             } catch (IOException e) {
                 err.println("backstate " + NAME + ": lost " + server + " while following the run: " + unreachable(e));
                 return runGoesOn(id);
@@ -185,6 +193,36 @@ public final class CompareVersionsCommand {
             }
         } catch (IOException notJson) {
             err.println("  " + response.body());
+        }
+    }
+
+    /**
+     * Sends the request again after each busy answer (503 or 429 with Retry-After: the server asks to
+     * be called back, RFC 9110 §10.2.3), waiting as it asks (at most {@link #LONGEST_WAIT} at a time),
+     * until it answers otherwise or {@link #BUSY_LIMIT} has passed; returns the last answer.
+     */
+    private HttpResponse<String> sendPatiently(java.util.function.Supplier<HttpRequest.Builder> request)
+            throws IOException, InterruptedException {
+        long deadline = System.nanoTime() + BUSY_LIMIT.toNanos();
+        HttpResponse<String> response = send(request.get());
+        for (Duration wait = busyFor(response); wait != null && System.nanoTime() + wait.toNanos() < deadline;
+                wait = busyFor(response)) {
+            Thread.sleep(wait.toMillis());
+            response = send(request.get());
+        }
+        return response;
+    }
+
+    /** How long a busy answer asks to wait (its Retry-After in seconds, at most {@link #LONGEST_WAIT}); null for any other. */
+    static Duration busyFor(HttpResponse<?> response) {
+        if (response.statusCode() != 503 && response.statusCode() != 429) {
+            return null;
+        }
+        try {
+            long seconds = Long.parseLong(response.headers().firstValue("Retry-After").orElse("").trim());
+            return seconds < 0 ? null : Duration.ofSeconds(Math.min(seconds, LONGEST_WAIT.toSeconds()));
+        } catch (NumberFormatException none) {
+            return null; // no delay asked (or an HTTP date, which this service never sends): not a call-back
         }
     }
 

@@ -138,6 +138,42 @@ class CompareVersionsCommandTest {
         }
     }
 
+    /** A busy server (503 with Retry-After, as the service's read admission and full queue answer) is waited out. */
+    @Test
+    void busy_answers_with_retry_after_are_waited_out_when_starting_and_following() throws Exception {
+        java.util.concurrent.atomic.AtomicInteger posts = new java.util.concurrent.atomic.AtomicInteger();
+        java.util.concurrent.atomic.AtomicInteger gets = new java.util.concurrent.atomic.AtomicInteger();
+        com.sun.net.httpserver.HttpServer fake = com.sun.net.httpserver.HttpServer.create(
+                new java.net.InetSocketAddress("127.0.0.1", 0), 0);
+        fake.createContext("/v1/regressions", exchange -> {
+            boolean start = exchange.getRequestMethod().equals("POST");
+            boolean busy = (start ? posts : gets).incrementAndGet() == 1;
+            String json = busy ? "{\"type\":\"/problems/busy\",\"detail\":\"busy\"}"
+                    : start ? "{\"id\":\"r-1\",\"family\":\"reefer-40\",\"baseline\":1,\"candidate\":2,"
+                    + "\"state\":\"queued\",\"progress\":{\"done\":0,\"total\":1}}"
+                    : "{\"id\":\"r-1\",\"state\":\"succeeded\",\"progress\":{\"done\":1,\"total\":1},\"result\":{"
+                    + "\"verdict\":{\"pass\":true,\"rule\":\"worse-share\",\"detail\":\"0 of 1 worse\"},\"summary\":{"
+                    + "\"compared\":1,\"better\":0,\"worse\":0,\"unchanged\":1,\"notCompared\":0},"
+                    + "\"statesComparable\":true,\"worseBeyondTolerance\":[]}}";
+            byte[] body = json.getBytes(StandardCharsets.UTF_8);
+            if (busy) {
+                exchange.getResponseHeaders().add("Retry-After", "1");
+            }
+            exchange.sendResponseHeaders(busy ? 503 : start ? 202 : 200, body.length);
+            exchange.getResponseBody().write(body);
+            exchange.close();
+        });
+        fake.start();
+        try {
+            String base = "http://127.0.0.1:" + fake.getAddress().getPort();
+            CommandRun run = compareVersions("--server", base, "--family", "reefer-40", "--baseline", "1", "--candidate", "2");
+            assertEquals(CompareVersionsCommand.PASS, run.exit(), run.err());
+            assertEquals(List.of(2, 2), List.of(posts.get(), gets.get()), "each busy answer asked once more");
+        } finally {
+            fake.stop(0);
+        }
+    }
+
     @Test
     void a_host_that_does_not_resolve_is_named_as_unknown() {
         // RFC 6761: names under .invalid never resolve.
