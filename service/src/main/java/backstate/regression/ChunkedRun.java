@@ -150,6 +150,16 @@ final class ChunkedRun {
         return done;
     }
 
+    /** Traces compared by the other chunks, their rows read again ({@code here}'s is not: it counts nothing in {@link #done}). */
+    private int doneElsewhere(Tracked here, Instant now) throws Exception {
+        for (Tracked t : chunks) {
+            if (t != here && t.result == null) {
+                read(t, now);
+            }
+        }
+        return done();
+    }
+
     /** The first open chunk this run may do itself, now taken from the queue; null when every one is under way. */
     private Tracked takeOne(List<Tracked> open) {
         Instant now = tools.clock().instant();
@@ -174,13 +184,23 @@ final class ChunkedRun {
         };
     }
 
-    /** Compares a taken chunk's traces here, polling the run's cancel request between traces. */
+    /**
+     * Compares a taken chunk's traces here, polling the run's cancel request between traces; the run's
+     * progress counts the other chunks too, read again every poll interval, so it rises while they
+     * finish elsewhere instead of jumping when this chunk is done.
+     */
     private ComparedVersions.Halt compareHere(Tracked t) throws Exception {
-        int before = done();
+        int[] elsewhere = {done()};
+        Instant[] read = {tools.clock().instant()};
         int total = t.traceIds.size();
         RegressionReport part = versions.report(params.tolerances(), total);
         ComparedVersions.Halt halt = versions.walk(t.traceIds, part, k -> {
-            if (!progress.report(before + k)) {
+            Instant now = tools.clock().instant();
+            if (!now.isBefore(read[0].plus(tools.chunking().poll()))) {
+                elsewhere[0] = doneElsewhere(t, now);
+                read[0] = now;
+            }
+            if (!progress.report(elsewhere[0] + k)) {
                 return ComparedVersions.Halt.LOST;
             }
             return k < total && tools.regressions().regressionCancelRequested(job.id())

@@ -107,6 +107,36 @@ class ChunkedRunTest {
         }), PER_CHUNK);
     }
 
+    /** While the run does its own chunk, chunks finished elsewhere count in its progress at the next read (a poll later). */
+    @Test
+    void a_run_doing_its_own_chunk_counts_the_chunks_finished_elsewhere_as_they_finish() throws Exception {
+        String id = demo.startRun();
+        ClaimedJob job = demo.claim(id);
+        List<String> byWorker = new ArrayList<>();
+        List<Integer> progress = new ArrayList<>();
+        RegressionJobHandler run = demo.handler(demo.watching((jobId, done) -> {
+            if (!jobId.equals(id)) {
+                return;
+            }
+            progress.add(done);
+            if (byWorker.isEmpty() && done > 0) {
+                for (ClaimedJob chunk : demo.store.queue().claimNext(CHUNKS, clock.instant())) {
+                    byWorker.add(chunk.id());
+                    assertInstanceOf(JobOutcome.Succeeded.class, demo.work(demo.handler(demo.store.queue(), PER_CHUNK), chunk));
+                }
+                clock.advance(java.time.Duration.ofSeconds(1)); // past the run's poll interval (20 ms here)
+            }
+        }), PER_CHUNK);
+
+        assertInstanceOf(JobOutcome.Succeeded.class, run.handle(job));
+        assertEquals(CHUNKS - 1, byWorker.size());
+        // The write after the other chunks finished (its own chunk's next trace) already holds their traces:
+        // more than its own chunk's at most 3 (before, it was 2, and the rest came at the chunk's end).
+        assertEquals(List.of(0, 1), progress.subList(0, 2));
+        assertTrue(progress.get(2) > PER_CHUNK, "progress " + progress);
+        assertEquals(DemoRuns.TRACES, progress.get(progress.size() - 1));
+    }
+
     @Test
     void progress_rises_to_the_total_and_never_falls() throws Exception {
         String id = demo.startRun();
