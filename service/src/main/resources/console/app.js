@@ -34,6 +34,23 @@ export function goWithMessage(hash, text, kind = 'info') {
   }
 }
 
+/**
+ * After a link followed from the keyboard, focus goes to the new page's heading (as a screen reader
+ * user expects a page change to be announced), not back to the top of the document.
+ */
+function focusHeading(fromKeyboard) {
+  const heading = main.querySelector('h1');
+  if (fromKeyboard && heading) {
+    heading.setAttribute('tabindex', '-1');
+    heading.focus();
+  }
+}
+
+/** True while a route was started by a key press (Enter on a link), read by the route it starts. */
+let navigatedByKeyboard = false;
+document.addEventListener('keydown', event => { navigatedByKeyboard = event.key === 'Enter'; }, true);
+document.addEventListener('pointerdown', () => { navigatedByKeyboard = false; }, true);
+
 /** What a page shows when its data cannot be read. */
 export function explain(error) {
   say(error instanceof ApiError ? error.message : 'Unexpected: ' + error.message);
@@ -61,6 +78,7 @@ async function route() {
     if (ticket === rendering) {
       main.replaceChildren(...fresh.childNodes);
       page.mounted?.(main, params);
+      focusHeading(navigatedByKeyboard);
     }
   } catch (error) {
     if (ticket === rendering) {

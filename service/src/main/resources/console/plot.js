@@ -89,6 +89,24 @@ export function drawPlots(root) {
   }
 }
 
+/** A plot sizes itself when drawn, so after the window's width changes each is drawn again at its container's. */
+let lastWidth = window.innerWidth;
+let redraw = null;
+window.addEventListener('resize', () => {
+  clearTimeout(redraw);
+  redraw = setTimeout(() => {
+    if (window.innerWidth === lastWidth) {
+      return;
+    }
+    lastWidth = window.innerWidth;
+    for (const figure of document.querySelectorAll('figure.plot[data-drawn]')) {
+      figure.querySelector('.uplot')?.remove();
+      delete figure.dataset.drawn;
+    }
+    drawPlots(document);
+  }, 200);
+});
+
 
 // Log-scaled plots (fleet and planning pages): χ²/dof and standard errors span decades, so their
 // axes are logarithmic. Both keep the drawn numbers in data-plot like the plots above, size
@@ -169,13 +187,19 @@ export function logLinePlot({ title, x, lines, xLabel, yLabel, rule, xValues = v
       width: 1.5, dash: [14, 4, 2, 4], points: { show: false } });
   }
   const plotted = { ...record(x, lines), ...(rule ? { rule } : {}) };
-  const holder = h('figure', { class: 'plot', 'data-plot': JSON.stringify(plotted) }, h('figcaption', {}, title));
+  // The legend draws each line's own dash, so sets differ by pattern as well as colour.
+  const entries = lines.map((line, i) => ({ label: line.label, kind: 'line', index: i, dash: DASHES[i % DASHES.length] }));
+  if (rule) {
+    entries.push({ label: rule.label, kind: 'line', index: 0, dash: [14, 4, 2, 4], ink: 'var(--text)' });
+  }
+  const holder = h('figure', { class: 'plot', 'data-plot': JSON.stringify(plotted) }, h('figcaption', {}, title),
+    legendList(entries));
   holder.plot = () => new uPlot({
     width: fittedWidth(holder), height, series,
     scales: { x: { time: false }, y: { distr: 3 } },
     axes: [{ label: xLabel, incrs: xSteps, values: (u, splits) => splits.map(xValues) },
       { label: yLabel, size: 60, values: (u, splits) => splits.map(v => (v === null ? '' : format(v))) }],
-    legend: { live: false },
+    legend: { show: false },
     hooks: { draw: [u => drawMarks(u, marks)] },
   }, data, holder);
   return holder;
@@ -203,8 +227,8 @@ function recordingTimeTicks(u, splits, axis, space, step) {
 
 /** A small legend in HTML: a symbol per entry (dash pattern, dot or shaded swatch) and its words. */
 function legendList(entries) {
-  return h('ul', { class: 'plot-legend' }, entries.map(({ label, kind, index, dash: pattern }) => {
-    const ink = `var(${PALETTE[index % PALETTE.length]})`;
+  return h('ul', { class: 'plot-legend' }, entries.map(({ label, kind, index, dash: pattern, ink: own }) => {
+    const ink = own ?? `var(${PALETTE[index % PALETTE.length]})`;
     const dash = pattern.join(' ');
     const mark = kind === 'whisker'
       ? `<path d="M12 2V14M9 2H15M9 14H15" stroke="${ink}" stroke-width="1.5"/><circle cx="12" cy="8" r="3" fill="${ink}"/>`
@@ -261,7 +285,9 @@ export function timePlot({ title, note, x, lines, yLabel, height = 220, padX = f
       // room on the right for half of a date label ("2026-11-30") centred on the last tick
       padding: [null, RIGHT_ROOM_FOR_A_DATE, null, null],
       scales: { x: { time: true } },
-      axes: [{ label: 'recording time (UTC)', labelSize: 22, values: recordingTimeTicks, size: 48 }, { label: yLabel, size: 56, labelSize: 22 }],
+      // space: pixels a tick needs, room for "18:29:10" when seconds are shown (a window of minutes)
+      axes: [{ label: 'recording time (UTC)', labelSize: 22, values: recordingTimeTicks, size: 48, space: 72 },
+        { label: yLabel, size: 56, labelSize: 22 }],
       legend: { show: false }, cursor: { drag: { x: true, y: false } },
       hooks: { draw: [u => whiskers.forEach(w => drawWhiskers(u, w))] },
     }, data, holder);

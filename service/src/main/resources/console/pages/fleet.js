@@ -25,7 +25,10 @@ export async function render(root, { family }) {
   root.append(...[
     h('h1', {}, 'Fleet ', h('span', { class: 'subject' }, name), about ? h('small', {}, about) : null),
     familyNav(families, name),
-    overview(summary),
+    summary.versions.length === 0
+      ? h('p', { class: 'lede' }, `No version of ${name} is published yet; publish one on the `,
+        link(`#/models/${encodeURIComponent(name)}`, 'Models'), ' page.')
+      : overview(summary),
     chosen === null ? null : versionBar(summary.versions, chosen, v => showVersion(detail, name, v)),
     detail].filter(Boolean));
   if (chosen !== null) {
@@ -228,9 +231,10 @@ function staleTable(summary) {
     return h('p', { class: 'flag-none' }, `✓ No stale unit: every unit recorded since ${when(stale.before)}.`);
   }
   const listed = stale.oldestFirst;
-  const t = table(`Stale: ${counted(stale.count, 'unit')} with no recording started since ${when(stale.before)} (${summary.staleAfter})`,
-    ['unit', 'newest recording', 'silent for', 'flags'],
-    listed.map(u => [unitLink(u.unitId), when(u.windowStart), age(u.windowStart, summary.asOf), shortFlags(u.flags)]),
+  const t = table(`Stale: ${counted(stale.count, 'unit')} with no recording started since ${when(stale.before)}`
+    + ` (${durationWords(summary.staleAfter)} before now)`,
+    ['unit', 'newest recording', 'silent for (since it ended)', 'flags'],
+    listed.map(u => [unitLink(u.unitId), when(u.windowStart), age(u.windowEnd, summary.asOf), shortFlags(u.flags)]),
     { class: 'stale', 'data-count': stale.count });
   t.querySelectorAll('tbody tr').forEach((tr, i) => { tr.dataset.unit = listed[i].unitId; });
   return h('div', { class: 'scroll', tabindex: '0', role: 'region', 'aria-label': 'Stale units' }, t,
@@ -249,9 +253,29 @@ function words(flag) {
   return flag.replaceAll('_', ' ');
 }
 
-/** "2026-11-30 11:08 UTC" from an RFC 3339 time. */
+/** "2026-11-30 11:08 UTC" from an RFC 3339 time; seconds kept when they are not 00 ("11:08:30 UTC"). */
 function when(instant) {
-  return instant ? instant.replace('T', ' ').replace(/:\d\d(\.\d+)?Z$/, ' UTC') : '—';
+  return instant ? instant.replace('T', ' ').replace(/(:00)?(\.\d+)?Z$/, ' UTC') : '—';
+}
+
+/** "24 h", "7 d", "2 d 12 h", "90 min" from an ISO 8601 duration such as PT24H or P7D; the text itself otherwise. */
+export function durationWords(iso) {
+  const m = /^P(?:(\d+)D)?(?:T(?:(\d+)H)?(?:(\d+)M)?(?:(\d+(?:\.\d+)?)S)?)?$/.exec(iso ?? '');
+  if (!m) {
+    return iso;
+  }
+  const seconds = (Number(m[1] ?? 0) * 24 + Number(m[2] ?? 0)) * 3600 + Number(m[3] ?? 0) * 60 + Number(m[4] ?? 0);
+  const twoDays = seconds < 172800; // up to two days in hours ("24 h", "36 h"), then in days and hours
+  const [days, hours, minutes] = [twoDays ? 0 : Math.floor(seconds / 86400),
+    Math.floor((twoDays ? seconds : seconds % 86400) / 3600), Math.floor(seconds % 3600 / 60)];
+  if (seconds < 120) {
+    return `${seconds} s`;
+  }
+  if (seconds < 7200) {
+    return `${Math.round(seconds / 60)} min`;
+  }
+  const parts = [days ? `${days} d` : '', hours ? `${hours} h` : '', days === 0 && minutes ? `${minutes} min` : ''];
+  return parts.filter(Boolean).join(' ');
 }
 
 /** "2 d 10 h" between two RFC 3339 times. */

@@ -8,10 +8,12 @@ export async function render(root, { family }) {
   const families = (await api.families()).items;
   root.append(h('h1', {}, 'Models'));
   if (families.length === 0) {
-    root.append(h('p', {}, 'No model family is published yet.'));
-    return;
+    root.append(h('p', {}, 'No model family is published yet: create one below, then publish its first version.'));
   }
   const shown = family ? families.filter(f => f.name === family) : families;
+  if (family && shown.length === 0) {
+    root.append(h('p', { 'data-field': 'noSuchFamily' }, `No model family is named ${family}. `, link('#/models', 'All families')));
+  }
   for (const f of shown) {
     const versions = (await api.versions(f.name)).items;
     root.append(h('section', { class: 'panel', 'data-family': f.name },
@@ -20,6 +22,31 @@ export async function render(root, { family }) {
       h('p', {}, link(`#/fleet/${encodeURIComponent(f.name)}`, `Fleet view of ${f.name}`)),
       publishForm(f.name)));
   }
+  if (!family) {
+    root.append(familyForm());
+  }
+}
+
+/** Creates a family (admin key); its versions are then published from its own section. */
+function familyForm() {
+  const name = h('input', { id: 'family-name', name: 'name', required: true, maxlength: 64, spellcheck: 'false' });
+  const description = h('input', { id: 'family-description', name: 'description', maxlength: 2000 });
+  const form = h('form', { class: 'panel create-family' },
+    h('h2', {}, 'New model family'),
+    h('div', { class: 'field' }, h('label', { for: 'family-name' }, 'name'), name),
+    h('div', { class: 'field' }, h('label', { for: 'family-description' }, 'description'), description),
+    h('button', { type: 'submit' }, 'Create (admin key)'));
+  form.addEventListener('submit', async event => {
+    event.preventDefault();
+    try {
+      await api.createFamily(name.value.trim(), description.value.trim());
+      goWithMessage(`#/models/${encodeURIComponent(name.value.trim())}`,
+        `Created ${name.value.trim()}: publish its first version from a model document below.`);
+    } catch (error) {
+      explain(error);
+    }
+  });
+  return form;
 }
 
 function versionTable(versions) {

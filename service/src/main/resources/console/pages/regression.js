@@ -293,7 +293,8 @@ function unitTable(units) {
     row.dataset.unit = sorted[i].unitId;
     row.classList.toggle('row-beyond', Boolean(sorted[i].beyondTolerance));
   });
-  return h('div', { class: 'panel' }, t);
+  return h('div', { class: 'panel' }, h('div', { class: 'table-scroll', tabindex: '0', role: 'region',
+    'aria-label': 'Per-unit changes' }, t));
 }
 
 function deltaCell(delta, largest) {

@@ -234,13 +234,25 @@ function channelPanel(name, series, estimate, model) {
       note: band ? 'shaded: fitted ± 2σ, where about 95 % of measurements fall when the model fits' : 'no noise σ: no band',
       lines: [{ label: 'measured', values: series.measured[name], style: 'points' }, { label: 'fitted', values: fitted, band, ink: 1, dash: [] }] }),
     timePlot({ title: `${name}: residual (measured − fitted)`, x: series.time, yLabel: unit, height: 150,
-      note: band ? 'shaded: ± 2σ around zero' : '',
+      note: [band ? 'shaded: ± 2σ around zero' : '', thinnedNote(series, diagnostics, unit)].filter(Boolean).join('; '),
       lines: [{ label: 'residual', values: series.residual[name], style: 'points', ink: 2,
         band: band && { lower: zero.map(() => -2 * sigma), upper: zero.map(() => 2 * sigma), label: '± 2σ' } }] }));
 }
 
+/** Where a channel's σ came from, in words. */
+const SIGMA_FROM = { trace: 'the trace', model: 'the model', assumed_one: 'none given (1, scaled by σ̂)' };
+
+/** On a thinned series, what the plot cannot show: a spike between plotted samples; the table has the largest. */
+function thinnedNote(series, diagnostics, unit) {
+  if (series.stride <= 1 || !diagnostics) {
+    return '';
+  }
+  return `⚠ thinned: samples between those plotted are not drawn, and a short spike may fall between them; the`
+    + ` largest |residual| of all ${counted(diagnostics.samples, 'sample')} is ${format(diagnostics.maxAbs)} ${unit}`;
+}
+
 function channelTable(estimate) {
-  const rows = estimate.result.residuals.channels.map(c => [c.output, field('sigma', c.sigma), c.sigmaSource, field('rms', c.rms),
+  const rows = estimate.result.residuals.channels.map(c => [c.output, field('sigma', c.sigma), SIGMA_FROM[c.sigmaSource] ?? c.sigmaSource, field('rms', c.rms),
     field('maxAbs', c.maxAbs), field('rSquared', c.rSquared), field('ljungBoxP', c.ljungBoxP), field('outliers', c.outliers)]);
   const t = table('Residual diagnostics per channel (Ljung–Box p small: residuals correlated; outliers: beyond 4σ)',
     ['output', 'noise σ', 'σ from', 'rms', 'max |residual|', 'R²', 'Ljung–Box p', 'outliers'], rows, { class: 'channel-table' });

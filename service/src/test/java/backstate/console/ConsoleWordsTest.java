@@ -28,4 +28,40 @@ class ConsoleWordsTest {
             browser.assertNoConsoleErrors();
         }
     }
+
+    /** ISO 8601 durations (the fleet summary's staleAfter) in words; the text itself when it is not one read here. */
+    @Test
+    void durations_read_in_hours_and_days(@TempDir Path dir) throws Exception {
+        try (TestServer server = new TestServer(dir); ConsoleBrowser browser = ConsoleBrowser.open()) {
+            browser.visit(server.base() + "/#/models");
+            Object words = browser.driver.executeAsyncScript("""
+                    const done = arguments[arguments.length - 1];
+                    import('/console/pages/fleet.js').then(fleet => done(
+                      ['PT24H', 'P7D', 'P2DT12H', 'PT90M', 'PT30S', 'PT36H', 'P1Y'].map(fleet.durationWords)));
+                    """);
+            assertEquals(List.of("24 h", "7 d", "2 d 12 h", "90 min", "30 s", "36 h", "P1Y"), words);
+            browser.assertNoConsoleErrors();
+        }
+    }
+
+    /** An empty installation leads somewhere: the models page creates a family, and says so on the family's page. */
+    @Test
+    void a_family_is_created_from_the_models_page_of_an_empty_installation(@TempDir Path dir) throws Exception {
+        try (TestServer server = new TestServer(dir); ConsoleBrowser browser = ConsoleBrowser.open()) {
+            browser.visit(server.base() + "/#/models");
+            browser.find("#family-name").sendKeys("pumps");
+            browser.find("#family-description").sendKeys("cooling pumps");
+            browser.find("form.create-family button[type=submit]").click();
+            new org.openqa.selenium.support.ui.WebDriverWait(browser.driver, ConsoleBrowser.PAGE_WAIT)
+                    .ignoring(org.openqa.selenium.StaleElementReferenceException.class)
+                    .until(d -> !d.findElements(org.openqa.selenium.By.cssSelector("section[data-family='pumps']")).isEmpty());
+            assertEquals("Created pumps: publish its first version from a model document below.", browser.message());
+            assertEquals("cooling pumps", server.get("/v1/models/pumps").json().get("description").asText());
+            browser.visit(server.base() + "/#/fleet/pumps");
+            assertEquals(true, browser.find("main").getText().contains("No version of pumps is published yet"));
+            browser.visit(server.base() + "/#/models/nosuch");
+            assertEquals("No model family is named nosuch. All families", browser.find("[data-field='noSuchFamily']").getText());
+            browser.assertNoConsoleErrors();
+        }
+    }
 }
