@@ -15,32 +15,30 @@ import org.junit.jupiter.api.io.TempDir;
 class ConsoleWordsTest {
     @Test
     void ordinals_and_counts_read_as_english(@TempDir Path dir) throws Exception {
-        try (TestServer server = new TestServer(dir); ConsoleBrowser browser = ConsoleBrowser.open()) {
-            browser.visit(server.base() + "/#/models");
-            Object words = browser.driver.executeAsyncScript("""
-                    const done = arguments[arguments.length - 1];
-                    Promise.all([import('/console/pages/unit.js'), import('/console/dom.js')]).then(([unit, dom]) => done(
-                      [2, 3, 4, 11, 12, 13, 21, 22, 23, 101, 111, 112, 1001].map(unit.ordinal)
-                        .concat([dom.counted(0, 'unit'), dom.counted(1, 'unit'), dom.counted(2, 'trace')])));
-                    """);
-            assertEquals(List.of("2nd", "3rd", "4th", "11th", "12th", "13th", "21st", "22nd", "23rd", "101st", "111th",
-                    "112th", "1001st", "0 units", "1 unit", "2 traces"), words);
-            browser.assertNoConsoleErrors();
-        }
+        assertEquals(List.of("2nd", "3rd", "4th", "11th", "12th", "13th", "21st", "22nd", "23rd", "101st", "111th",
+                "112th", "1001st", "0 units", "1 unit", "2 traces"), inBrowser(dir, """
+                Promise.all([import('/console/pages/unit.js'), import('/console/dom.js')]).then(([unit, dom]) => done(
+                  [2, 3, 4, 11, 12, 13, 21, 22, 23, 101, 111, 112, 1001].map(unit.ordinal)
+                    .concat([dom.counted(0, 'unit'), dom.counted(1, 'unit'), dom.counted(2, 'trace')])));
+                """));
     }
 
     /** ISO 8601 durations (the fleet summary's staleAfter) in words; the text itself when it is not one read here. */
     @Test
     void durations_read_in_hours_and_days(@TempDir Path dir) throws Exception {
+        assertEquals(List.of("24 h", "7 d", "2 d 12 h", "90 min", "30 s", "36 h", "P1Y"), inBrowser(dir, """
+                import('/console/pages/fleet.js').then(fleet => done(
+                  ['PT24H', 'P7D', 'P2DT12H', 'PT90M', 'PT30S', 'PT36H', 'P1Y'].map(fleet.durationWords)));
+                """));
+    }
+
+    /** What {@code script} hands to done(...), run in a console page of a fresh server, with no console error. */
+    private static Object inBrowser(Path dir, String script) throws Exception {
         try (TestServer server = new TestServer(dir); ConsoleBrowser browser = ConsoleBrowser.open()) {
             browser.visit(server.base() + "/#/models");
-            Object words = browser.driver.executeAsyncScript("""
-                    const done = arguments[arguments.length - 1];
-                    import('/console/pages/fleet.js').then(fleet => done(
-                      ['PT24H', 'P7D', 'P2DT12H', 'PT90M', 'PT30S', 'PT36H', 'P1Y'].map(fleet.durationWords)));
-                    """);
-            assertEquals(List.of("24 h", "7 d", "2 d 12 h", "90 min", "30 s", "36 h", "P1Y"), words);
+            Object out = browser.driver.executeAsyncScript("const done = arguments[arguments.length - 1];\n" + script);
             browser.assertNoConsoleErrors();
+            return out;
         }
     }
 
