@@ -54,6 +54,7 @@ final class NoisePlanSweep {
                 sweep.measure(k, null);
             }
             double[] r = ProcessNoiseSmoother.factorOf(sweep.info(), ctx.q);
+            SamplingPlanner.requireFinite(r, i, plan.horizons()[i]);
             out.add(SamplingPlanner.predict(r, ctx.q, sweep.equations(), plan.horizons()[i], count,
                     plan.targetStdErrors()));
         }

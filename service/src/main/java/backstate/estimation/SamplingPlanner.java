@@ -195,12 +195,26 @@ public final class SamplingPlanner {
                 info.add(row, 0.0);
             }
             while (next < samples.length && samples[next] == k + 1) {
+                requireFinite(info.factorR(), next, plan.horizons()[next]);
                 out.add(predict(info.factorR(), n, info.equations(), plan.horizons()[next], k + 1,
                         plan.targetStdErrors()));
                 next++;
             }
         }
         return out;
+    }
+
+    /**
+     * Refuses horizon {@code index} when the model's response over it left the floating-point range:
+     * an unstable (or mis-scaled) mode overflows the information, and no rank or error read off it
+     * would mean anything.
+     */
+    static void requireFinite(double[] r, int index, double horizon) {
+        if (!Matrices.allFinite(r)) {
+            throw new ModelException("horizons[" + index + "]", "the model's response over " + ModelException.seconds(horizon)
+                    + " leaves the floating-point range (beyond 1e308): a mode grows too fast (an unstable or mis-scaled a)"
+                    + " for a window this long; plan shorter horizons, or check a and its time unit");
+        }
     }
 
     /** The prediction from the square-root information factor R (n×n) of {@code equations} rows. */

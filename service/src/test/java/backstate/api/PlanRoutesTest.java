@@ -140,6 +140,22 @@ class PlanRoutesTest {
     }
 
     @Test
+    void a_horizon_over_which_an_unstable_mode_overflows_is_refused_naming_it() {
+        // dx/dt = 0.1 x: the row of a sample at t is e^{0.1 t}/σ, past 1e308 from t ≈ 7 092 s (ln(1e308)/0.1).
+        String growing = """
+                {"timeDomain":"continuous","states":[{"name":"x","unit":"m"}],
+                 "outputs":[{"name":"y","unit":"m","noiseSigma":0.1}],"a":[[0.1]],"c":[[1]]}""";
+        assertEquals(201, server.postJson("/v1/models", Map.of("name", "growing", "description", "planning test")).status());
+        assertEquals(201, server.post("/v1/models/growing/versions", "application/json",
+                growing.getBytes(StandardCharsets.UTF_8)).status());
+        JsonNode fine = post("/v1/models/growing/versions/1/plans", "{ \"samplePeriod\": 60, \"horizons\": [600] }");
+        assertEquals(1, fine.get("subsets").get(0).get("horizons").get(0).get("rank").asInt());
+        TestServer.Reply refused = postRaw("/v1/models/growing/versions/1/plans", "{ \"samplePeriod\": 60, \"horizons\": [600, 7200] }");
+        assertProblem(refused, 422, "horizons[1]");
+        assertTrue(refused.body().contains("leaves the floating-point range"), refused.body());
+    }
+
+    @Test
     void a_trace_of_the_plan_gets_exactly_the_predicted_standard_errors_from_the_estimator() throws Exception {
         JsonNode plan = post(PLANS, """
                 { "samplePeriod": 60, "horizons": [3600], "outputSubsets": [["return_air"]] }""");
