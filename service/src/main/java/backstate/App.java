@@ -133,6 +133,14 @@ public final class App implements AutoCloseable {
         processMeters.close();
     }
 
+    /** A stop on a signal (SIGTERM, Ctrl-C), said in the log before and after, so an operator sees it was clean. */
+    private static void stop(App app) {
+        org.slf4j.Logger log = org.slf4j.LoggerFactory.getLogger(App.class);
+        log.info("stopping: new requests refused, those in flight and the running jobs given time to finish");
+        app.close();
+        log.info("stopped");
+    }
+
     /**
      * The command line: serve (default), demo, solve, compare-versions, help; see {@link Launcher}.
      * Standard output and error are UTF-8 whatever the locale: solve writes JSON (RFC 8259: UTF-8)
@@ -144,7 +152,7 @@ public final class App implements AutoCloseable {
         System.setErr(new PrintStream(new FileOutputStream(FileDescriptor.err), true, StandardCharsets.UTF_8));
         Launcher.Outcome outcome = new Launcher(System.out, System.err, System.getenv()).run(args);
         if (outcome instanceof Launcher.Outcome.Serving serving) {
-            Runtime.getRuntime().addShutdownHook(new Thread(serving.app()::close, "backstate-shutdown"));
+            Runtime.getRuntime().addShutdownHook(new Thread(() -> stop(serving.app()), "backstate-shutdown"));
         } else {
             System.exit(((Launcher.Outcome.Exited) outcome).code());
         }

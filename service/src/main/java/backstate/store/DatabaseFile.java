@@ -1,5 +1,6 @@
 package backstate.store;
 
+import java.io.IOException;
 import java.nio.file.Files;
 import java.nio.file.Path;
 import java.util.function.Predicate;
@@ -36,6 +37,11 @@ public final class DatabaseFile {
         if (!Files.isDirectory(folder)) {
             throw refused(path, folder + " is not a folder");
         }
+        if (hardLinks(path) > 1) {
+            throw refused(path, "the file has " + hardLinks(path) + " names (hard links): SQLite names its -wal and"
+                    + " -shm files after the name it was opened by, so two names can write one file through two"
+                    + " journals and damage it; keep one name (a symbolic link is fine)");
+        }
         if (Files.exists(path) && !writable.test(path)) {
             throw refused(path, "the file is not writable (read-only file system or file permissions)");
         }
@@ -44,6 +50,15 @@ public final class DatabaseFile {
                     + " permissions); SQLite writes its -wal and -shm files there");
         }
         return path;
+    }
+
+    /** The file's number of names on a file system that counts them (POSIX); 1 where it does not, or no file. */
+    static int hardLinks(Path path) {
+        try {
+            return Files.exists(path) ? ((Number) Files.getAttribute(path, "unix:nlink")).intValue() : 1;
+        } catch (IOException | UnsupportedOperationException | IllegalArgumentException e) {
+            return 1;
+        }
     }
 
     private static IllegalArgumentException refused(Path path, String why) {

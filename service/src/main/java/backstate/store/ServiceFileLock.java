@@ -4,6 +4,7 @@ import java.io.IOException;
 import java.nio.channels.FileChannel;
 import java.nio.channels.FileLock;
 import java.nio.channels.OverlappingFileLockException;
+import java.nio.file.Files;
 import java.nio.file.Path;
 import java.nio.file.StandardOpenOption;
 
@@ -32,7 +33,8 @@ public final class ServiceFileLock implements AutoCloseable {
      * @throws DatabaseInUseException when another process, or another holder in this one, has it
      */
     public static ServiceFileLock acquire(Path databaseFile, String holder) {
-        Path file = databaseFile.resolveSibling(databaseFile.getFileName() + SUFFIX);
+        Path real = realPath(databaseFile);
+        Path file = real.resolveSibling(real.getFileName() + SUFFIX);
         FileChannel channel;
         try {
             channel = FileChannel.open(file, StandardOpenOption.CREATE, StandardOpenOption.WRITE);
@@ -51,6 +53,21 @@ public final class ServiceFileLock implements AutoCloseable {
                     + " is locked): stop the service using it first");
         }
         return new ServiceFileLock(channel, lock);
+    }
+
+    /**
+     * The file's path with every symbolic link resolved (of its folder when it does not exist yet), so
+     * two names of one file through links share one lock; a hard link is refused at start instead
+     * ({@link DatabaseFile#usable}).
+     */
+    static Path realPath(Path databaseFile) {
+        Path absolute = databaseFile.toAbsolutePath().normalize();
+        try {
+            return Files.exists(absolute) ? absolute.toRealPath()
+                    : absolute.getParent().toRealPath().resolve(absolute.getFileName());
+        } catch (IOException e) {
+            return absolute; // the open that follows reports what is wrong with the path
+        }
     }
 
     @Override

@@ -34,6 +34,8 @@ import org.sqlite.SQLiteDataSource;
  */
 final class SqliteConnections implements Connections {
 
+    /** The WAL file's size kept after a checkpoint restarts it: 4 MiB (SQLite keeps the largest without a limit). */
+    static final int JOURNAL_SIZE_LIMIT_BYTES = 4 << 20;
     /** How long close() waits for a borrowed read connection to come back before closing anyway. */
     private static final long CLOSE_WAIT_SECONDS = 5;
 
@@ -44,6 +46,8 @@ final class SqliteConnections implements Connections {
     /** Idle read connections, each with its statements, kept compiled across reads as the writer's are. */
     private final BlockingQueue<Statements> idleReaders;
     private final DamageLatch damage = new DamageLatch();
+    /** The file opened, checked after every write ({@link SqliteFileIdentity}); null where it cannot be told. */
+    private final SqliteFileIdentity opened;
     private volatile boolean closed;
 
     SqliteConnections(Path file, SqliteSettings settings, UnaryOperator<Connection> writerDecorator,
@@ -71,6 +75,7 @@ final class SqliteConnections implements Connections {
         }
         this.checkpoints = checkpointer;
         this.writer = new SqliteWriter(writerConnection, meters);
+        this.opened = SqliteFileIdentity.of(file.toAbsolutePath());
     }
 
     /** Where Flyway and tests open their own connections, with the same pragmas. */
@@ -124,11 +129,14 @@ final class SqliteConnections implements Connections {
      */
     @Override
     public <T> T write(SqlWork<T> work) {
+        T result;
         try {
-            return writer.write(work);
+            result = writer.write(work);
         } catch (StoreException e) {
             throw damage.noted(e);
         }
+        requireSameFile();
+        return result;
     }
 
     /**
@@ -137,11 +145,26 @@ final class SqliteConnections implements Connections {
      */
     @Override
     public <T> T writeForWorker(SqlWork<T> work) {
+        T result;
         try {
-            return writer.writeForWorker(work);
+            result = writer.writeForWorker(work);
         } catch (StoreException e) {
             throw damage.noted(e);
         }
+        requireSameFile();
+        return result;
+    }
+
+    /** A write committed to a file no longer at the path is lost at the next start: not acknowledged. */
+    private void requireSameFile() {
+        if (opened != null) {
+            opened.requireSame();
+        }
+    }
+
+    /** True while the path still names the file opened (or where that cannot be told). */
+    boolean fileInPlace() {
+        return opened == null || opened.same();
     }
 
     /** The first damage to the file SQLite reported since it was opened; null while none was. */
@@ -167,6 +190,9 @@ final class SqliteConnections implements Connections {
         config.setSynchronous(SQLiteConfig.SynchronousMode.FULL);
         config.enforceForeignKeys(true);
         config.setBusyTimeout((int) settings.busyTimeout().toMillis());
+        // A WAL that grew (a long write burst, or retries after a full disk) is cut back to this size at
+        // the next checkpoint that restarts it, instead of keeping its largest size on the disk.
+        config.setJournalSizeLimit(JOURNAL_SIZE_LIMIT_BYTES);
         // No key is read back (IDs are made in Java): without this sqlite-jdbc compiles and runs
         // "SELECT last_insert_rowid()" after every INSERT and UPDATE.
         config.setGetGeneratedKeys(false);

@@ -149,6 +149,9 @@ public final class SqliteDatabase implements Database {
 
     @Override
     public boolean isReachable() {
+        if (!db.fileInPlace()) {
+            return false; // deleted or replaced under the service: what it writes now is lost at the next start
+        }
         try {
             return db.read(c -> Sql.firstOrNull(c.prepare("SELECT 1"), rs -> true) != null);
         } catch (RuntimeException e) {

@@ -54,4 +54,19 @@ class DatabaseFileTest {
         Path relative = Path.of("backstate-test-relative.db");
         assertEquals(relative.toAbsolutePath(), DatabaseFile.usable(relative));
     }
+
+    @Test
+    void a_file_with_two_names_is_refused_and_two_names_through_a_symbolic_link_share_one_lock() throws Exception {
+        Path file = Files.createFile(dir.resolve("one.db"));
+        Path second = Files.createLink(dir.resolve("two.db"), file);
+        assertEquals("database " + file + ": the file has 2 names (hard links): SQLite names its -wal and -shm files"
+                + " after the name it was opened by, so two names can write one file through two journals and damage it;"
+                + " keep one name (a symbolic link is fine)", refusal(file, p -> true));
+        Files.delete(second);
+        assertEquals(file, DatabaseFile.usable(file));
+        Path link = Files.createSymbolicLink(dir.resolve("link.db"), file);
+        try (ServiceFileLock held = ServiceFileLock.acquire(file, "a service")) {
+            assertThrows(ServiceFileLock.DatabaseInUseException.class, () -> ServiceFileLock.acquire(link, "a service"));
+        }
+    }
 }
