@@ -54,6 +54,9 @@ document.addEventListener('pointerdown', () => { navigatedByKeyboard = false; },
 /** What a page shows when its data cannot be read. */
 export function explain(error) {
   say(error instanceof ApiError ? error.message : 'Unexpected: ' + error.message);
+  if (error instanceof ApiError && error.status === 401 && key.get()) {
+    document.getElementById('key-state').textContent = 'key refused (this tab)';
+  }
 }
 
 async function route() {

@@ -159,7 +159,9 @@ export function logHistogram({ title, edges, counts, xLabel, yLabel = 'units', m
       paths: uPlot.paths.bars({ size: [0.92, 80], align: 0 }), points: { show: false } }],
     scales: { x: { time: false, distr: 3, range: [edges[0], edges[edges.length - 1]] },
       y: { range: [0, Math.ceil(highest * 1.15)] } },
-    axes: [{ label: xLabel, values: (u, splits) => splits.map(v => (v === null ? '' : format(v))) },
+    axes: [{ label: xLabel, values: (u, splits) => splits.map(v => (v === null ? '' : format(v))),
+      // a log axis ticks at powers of ten only: within one decade (one bin, say) the outer edges are the ticks
+      ...(edges[edges.length - 1] / edges[0] < 10 ? { splits: () => [edges[0], edges[edges.length - 1]] } : {}) },
       { label: yLabel, incrs: COUNT_STEPS, values: (u, splits) => splits.map(String) }],
     legend: { show: false },
     cursor: { show: false },

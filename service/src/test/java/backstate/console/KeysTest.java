@@ -43,6 +43,7 @@ class KeysTest {
 
             typeKey(browser, WRONG_KEY);
             assertEquals("Problem: " + REFUSED, browser.message(), "a wrong key is refused in the same words");
+            assertEquals("key refused (this tab)", browser.find("#key-state").getText(), "the box says its key was refused");
             assertTrue(browser.findAll("section[data-family]").isEmpty());
 
             typeKey(browser, ADMIN_KEY);
