@@ -12,18 +12,26 @@ import backstate.estimation.Trace;
  */
 public final class ParsedColumns {
     private final double[] times;
+    /** The times were written as numbers of seconds (not RFC 3339 times). */
+    private final boolean timesAsNumbers;
     private final DoubleColumn[] outputs;
     private final DoubleColumn[] inputs;
     private final double[] noiseSigmaOrNull;
     private final TraceOptions options;
 
-    ParsedColumns(double[] times, DoubleColumn[] outputs, DoubleColumn[] inputs, double[] noiseSigmaOrNull,
-                  TraceOptions options) {
+    ParsedColumns(double[] times, boolean timesAsNumbers, DoubleColumn[] outputs, DoubleColumn[] inputs,
+                  double[] noiseSigmaOrNull, TraceOptions options) {
         this.times = times;
+        this.timesAsNumbers = timesAsNumbers;
         this.outputs = outputs;
         this.inputs = inputs;
         this.noiseSigmaOrNull = noiseSigmaOrNull;
         this.options = options;
+    }
+
+    /** True when the trace wrote its times as numbers of seconds, false for RFC 3339 times. */
+    public boolean timesAsNumbers() {
+        return timesAsNumbers;
     }
 
     public int samples() {
@@ -49,7 +57,7 @@ public final class ParsedColumns {
 
     /** The same columns with other options. */
     ParsedColumns withOptions(TraceOptions other) {
-        return new ParsedColumns(times, outputs, inputs, noiseSigmaOrNull, other);
+        return new ParsedColumns(times, timesAsNumbers, outputs, inputs, noiseSigmaOrNull, other);
     }
 
     /** Output j's column, or null when the body gave none (every value missing). */

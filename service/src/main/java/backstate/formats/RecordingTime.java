@@ -95,10 +95,19 @@ public final class RecordingTime {
                 + " the latest until a later recording arrives";
     }
 
-    /** Why a window starting before {@link #PLAUSIBLE_FROM} is likely misread and how to say so; null from then on. */
-    public static String earlyWindowNote(double windowStart) {
+    /**
+     * Why a window starting before {@link #PLAUSIBLE_FROM} is likely misread and how to say so; null from
+     * then on. Numbers of seconds most likely count from the recording's start; RFC 3339 times carry their
+     * date, so a sender's clock or year is to be checked.
+     */
+    public static String earlyWindowNote(double windowStart, boolean timesAsNumbers) {
         if (windowStart >= PLAUSIBLE_FROM) {
             return null;
+        }
+        if (!timesAsNumbers) {
+            return "the window starts at " + format(windowStart) + ", before 2000: check the sender's clock and the year"
+                    + " of its times; a unit's estimates are dated by them, and a unit whose newest recording is old shows"
+                    + " as stale";
         }
         return "the window starts at " + format(windowStart) + ", before 2000: plain-number times are seconds since "
                 + "1970-01-01T00:00:00Z; if these count from the recording's start, declare that start (JSON \"start\", "

@@ -98,7 +98,7 @@ final class TraceColumns {
             }
             requireLength(u[i], n);
         }
-        return new ParsedColumns(t, y, u, sigmaArray(outs), options);
+        return new ParsedColumns(t, times.numbers(), y, u, sigmaArray(outs), options);
     }
 
     private double[] sigmaArray(List<Quantity> outs) {

@@ -44,6 +44,11 @@ final class TraceTimes {
         return values.size();
     }
 
+    /** True when the trace writes its times as numbers of seconds, false for RFC 3339 times. */
+    boolean numbers() {
+        return kind != Kind.TIMESTAMPS;
+    }
+
     /**
      * Adds the next time: a number of seconds, or an RFC 3339 time in epoch seconds. False, adding
      * nothing, when it is of the other kind than the first time or not after the time before it;

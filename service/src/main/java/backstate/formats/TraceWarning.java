@@ -23,9 +23,10 @@ public record TraceWarning(String field, String detail) {
      * The window's dates: what the service's fleet views and a unit's latest estimate go by, so
      * the service warns of them ({@code backstate solve}, which dates nothing, does not).
      */
-    public static List<TraceWarning> ofWindow(double windowStart, double windowEnd, Instant now) {
+    public static List<TraceWarning> ofWindow(double windowStart, double windowEnd, boolean timesAsNumbers, Instant now) {
         List<TraceWarning> out = new ArrayList<>();
-        for (String note : new String[] {RecordingTime.earlyWindowNote(windowStart), RecordingTime.lateWindowNote(windowEnd, now)}) {
+        for (String note : new String[] {RecordingTime.earlyWindowNote(windowStart, timesAsNumbers),
+            RecordingTime.lateWindowNote(windowEnd, now)}) {
             if (note != null) {
                 out.add(new TraceWarning("time", note));
             }

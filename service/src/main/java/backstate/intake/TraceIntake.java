@@ -120,7 +120,8 @@ public final class TraceIntake {
             throw OPTION_FIELDS.contains(first) ? worded.renamed(optionsAt + e.field()) : worded;
         }
         requireSomeValue(parsed, isJson(post));
-        List<TraceWarning> warnings = new ArrayList<>(TraceWarning.ofWindow(times[0], times[times.length - 1], clock.instant()));
+        List<TraceWarning> warnings = new ArrayList<>(TraceWarning.ofWindow(times[0], times[times.length - 1],
+                parsed.timesAsNumbers(), clock.instant()));
         warnings.addAll(TraceWarning.ofOutputs(model.document(), parsed, options.formulation(), isJson(post))); // before the encoding takes the columns
         return new Checked(new NewTrace(post.unitId(), version.family(), version.version(), times.length, times[0],
                 times[times.length - 1], codec.encode(parsed)), warnings);
