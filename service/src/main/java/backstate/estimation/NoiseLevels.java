@@ -41,7 +41,7 @@ final class NoiseLevels {
      * trace or the model): both state a covariance in the states' own units, which the data are
      * weighed against by σ. With σ estimated from the residuals instead (σ = 1, then σ̂²), the stated
      * covariance would be scaled by σ̂² too, and the intervals under-cover (Monte-Carlo in
-     * {@code SigmaRequiredTest}'s note: 52-66 % of x0's 95 % intervals held the truth).
+     * test-data/reference/prior_without_sigma_coverage.py: 67 % of x0's 95 % intervals held the truth).
      *
      * @param traceSigma the trace's σ of output j, NaN where the trace gives none
      */

@@ -9,9 +9,10 @@ import org.junit.jupiter.api.Test;
 /**
  * A prior and the process-noise formulation state covariances in the states' units, so every
  * output's σ must be given (trace or model) with them: estimated from the residuals, σ̂² would
- * scale the stated covariance too. Found by Monte-Carlo against numpy (an audit's scripts, 300 and
- * 600 draws of a 2-state model with σ = 0.1 given nowhere): x0's 95 % intervals held the truth in
- * 66 % (prior) and 52 % (process noise) of the draws, against 94-97 % with σ given.
+ * scale the stated covariance too. Monte-Carlo of that rule with a prior, in numpy:
+ * test-data/reference/prior_without_sigma_coverage.py (2 000 draws, 2-state model, σ = 0.1 given
+ * nowhere): x0's 95 % intervals held the truth in 67 % of draws, 94 % with σ given. Under process
+ * noise an audit's 600 draws through the service gave 52 % (its script not kept).
  */
 class SigmaRequiredTest {
     /** A 2-state lag pair seen by one output, 1 s samples. */
