@@ -62,6 +62,10 @@ final class AccessGuard {
     }
 
     private void admit(Route route, Context ctx) {
+        if (java.util.Collections.list(ctx.req().getHeaders("Authorization")).size() > 1) {
+            // RFC 9110 §11.6.2 allows one credential; a proxy may read another of two than this service would.
+            throw AccessDenied.unauthenticated(true);
+        }
         String authorization = ctx.header("Authorization");
         Caller caller = keys.authenticate(authorization)
                 .orElseThrow(() -> AccessDenied.unauthenticated(authorization != null));

@@ -143,7 +143,10 @@ public final class ApiServer implements AutoCloseable {
         return new io.javalin.router.Endpoint(r.method(), r.path(), guard.wrap(admitted), java.util.Set.of());
     }
 
-    /** The route template that served a request, or "unmatched" (Javalin 7's ctx.endpoint() throws when none matched). */
+    /**
+     * The route template that served a request: Javalin's catch-all "*" for unknown paths, 405s and
+     * static files, "unmatched" if no endpoint was visited at all (Javalin 7's ctx.endpoint() throws then).
+     */
     private static String matchedPath(io.javalin.http.Context ctx) {
         List<io.javalin.router.Endpoint> visited = ctx.endpoints().list();
         return visited.isEmpty() ? "unmatched" : visited.get(visited.size() - 1).path;

@@ -130,7 +130,7 @@ final class EstimateRoutes {
         }
         return new Views.Series(outputs, states, points, s.stride(), time,
                 byName(s.measured(), outputs, s.outputCount()), byName(s.fitted(), outputs, s.outputCount()),
-                byName(s.residuals(), outputs, s.outputCount()), bands);
+                byName(s.residuals(), outputs, s.outputCount()), bands, Views.CAUTION);
     }
 
     private static Map<String, List<Double>> byName(double[] rowMajor, List<String> names, int width) {

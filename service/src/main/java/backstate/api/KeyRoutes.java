@@ -2,9 +2,11 @@ package backstate.api;
 
 import backstate.auth.ApiKeys;
 import backstate.auth.Caller;
+import backstate.auth.LogText;
 import backstate.auth.Role;
 import backstate.auth.UnitPattern;
 import backstate.store.ApiKeyRow;
+import backstate.text.Counted;
 import backstate.store.KeyRevocation;
 import com.fasterxml.jackson.annotation.JsonInclude;
 import com.fasterxml.jackson.databind.ObjectMapper;
@@ -21,8 +23,6 @@ final class KeyRoutes {
     static final long MAX_BODY = 4096;
     /** Key IDs as issued: 16 lowercase hex digits. */
     static final Pattern KEY_ID = Pattern.compile("[0-9a-f]{16}");
-    /** Labels are printable text on one line, so they cannot forge log lines. */
-    private static final Pattern LABEL = Pattern.compile("[^\\p{Cntrl}]{1," + MAX_LABEL + "}");
 
     private final ApiKeys keys;
     private final ObjectMapper mapper;
@@ -56,7 +56,10 @@ final class KeyRoutes {
         Role role = Role.parse(body.role()).orElseThrow(() ->
                 ApiProblem.invalid("role", "got " + Params.quoted(body.role()) + ", expected " + Role.choices()));
         UnitPattern scope = scope(role, body.unitPattern());
-        if (body.label() == null || !LABEL.matcher(body.label()).matches() || body.label().isBlank()) {
+        // Printable text on one line: no control, format (bidirectional overrides), line or paragraph
+        // separator, or lone surrogate, so a label can neither forge a log line nor reorder what a list shows.
+        if (body.label() == null || body.label().isBlank() || body.label().length() > MAX_LABEL
+                || LogText.hasHidingOrBreaking(body.label())) {
             throw ApiProblem.invalid("label", "got " + refusedLabel(body.label()) + ", expected 1-" + MAX_LABEL
                     + " printable characters naming who holds the key");
         }
@@ -76,7 +79,7 @@ final class KeyRoutes {
         if (label.length() > MAX_LABEL) {
             return label.length() + " characters";
         }
-        return label.isBlank() ? "a blank label" : "a label with a control character";
+        return label.isBlank() ? "a blank label" : "a label with a control, format or line-separator character";
     }
 
     void list(Context ctx) {
@@ -86,7 +89,10 @@ final class KeyRoutes {
     void revoke(Context ctx) {
         String id = ctx.pathParam("keyId");
         if (!KEY_ID.matcher(id).matches()) {
-            throw ApiProblem.invalid("keyId", "got " + Params.quoted(id) + ", expected 16 lowercase hex digits (the part after bsk_)");
+            // Never echoed: a whole key pasted here would put its secret in the answer (and in logs of 4xx bodies).
+            String got = id.startsWith("bsk_") ? "a whole key" : id.length() == 16
+                    ? "16 characters, not all lowercase hex digits" : Counted.of(id.length(), "character");
+            throw ApiProblem.invalid("keyId", "got " + got + ", expected 16 lowercase hex digits (the part after bsk_)");
         }
         String by = AccessGuard.caller(ctx).map(Caller::keyId).orElse(null);
         KeyRevocation outcome = keys.revoke(id, by);

@@ -1,6 +1,7 @@
 package backstate.api;
 
 import backstate.estimation.SamplingPlanner;
+import backstate.formats.EstimateCaution;
 import backstate.formats.EstimateDocument;
 import backstate.text.Counted;
 import backstate.text.Figure;
@@ -40,7 +41,8 @@ final class PlanViews {
 
     /** What the numbers are and are not. */
     static final String NOTE = "Predicted from the model alone: standard errors a trace of this plan would get if the "
-            + "model were exact and the noise white with the given sigma. Real traces with model error do worse.";
+            + "model were exact and the noise white with the given sigma. Real traces with model error do worse. "
+            + EstimateCaution.TEXT;
 
     static Plan of(String family, int version, List<String> states, List<String> outputs, SamplingPlanner.Plan plan,
                    List<SamplingPlanner.SubsetPlan> result) {

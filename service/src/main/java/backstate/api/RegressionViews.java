@@ -29,14 +29,16 @@ final class RegressionViews {
     @JsonInclude(JsonInclude.Include.NON_NULL)
     record Regression(String id, String family, int baseline, int candidate, String state, Views.Progress progress,
                       boolean cancelRequested, String createdAt, String startedAt, String finishedAt, Boolean pass,
-                      List<String> errors, Request request, @JsonRawValue String result, Map<String, String> links) {
+                      List<String> errors, Request request, @JsonRawValue String result, Map<String, String> links,
+                      String caution) {
         static Regression of(RegressionRow run, JobRow job, RegressionParams params) {
             return new Regression(run.id(), run.family(), run.baseline(), run.candidate(), job.state(),
                     new Views.Progress(job.progressDone(), params.traceIds().size()),
                     run.cancelRequestedAtOrNull() != null, text(job.createdAt()), text(job.startedAt()),
                     text(job.finishedAt()), run.passOrNull(), job.errors(), Request.of(params),
                     StoredJson.checked(job.resultJson(), "the result of regression run " + run.id()),
-                    Map.of("self", "/v1/regressions/" + run.id(), "cancel", "/v1/regressions/" + run.id() + "/cancel"));
+                    Map.of("self", "/v1/regressions/" + run.id(), "cancel", "/v1/regressions/" + run.id() + "/cancel"),
+                    Views.CAUTION);
         }
     }
 

@@ -109,7 +109,7 @@ final class Views {
      */
     record Series(List<String> outputs, List<String> states, int points, int stride, List<Double> time,
                   Map<String, List<Double>> measured, Map<String, List<Double>> fitted,
-                  Map<String, List<Double>> residual, Map<String, StateBand> state) {
+                  Map<String, List<Double>> residual, Map<String, StateBand> state, String caution) {
     }
 
     /** One state along the window: estimate, standard error and 95 % interval per kept sample. */

@@ -29,6 +29,16 @@ public final class LogText {
         return out.toString();
     }
 
+    /** True when the text holds a character {@link #escaped} would escape (not counting the backslash). */
+    public static boolean hasHidingOrBreaking(String text) {
+        for (int i = 0; i < text.length(); i++) {
+            if (hidesOrBreaks(text, i)) {
+                return true;
+            }
+        }
+        return false;
+    }
+
     private static boolean hidesOrBreaks(String text, int i) {
         char c = text.charAt(i);
         if (Character.isHighSurrogate(c)) {

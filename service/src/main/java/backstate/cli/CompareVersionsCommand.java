@@ -1,5 +1,6 @@
 package backstate.cli;
 
+import backstate.formats.EstimateCaution;
 import backstate.text.Counted;
 import com.fasterxml.jackson.databind.JsonNode;
 import com.fasterxml.jackson.databind.ObjectMapper;
@@ -178,6 +179,7 @@ public final class CompareVersionsCommand {
             }
         }
         out.println("full result: " + link);
+        out.println(EstimateCaution.TEXT);
         return pass ? PASS : FAIL;
     }
 

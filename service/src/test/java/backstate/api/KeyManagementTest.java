@@ -194,14 +194,36 @@ class KeyManagementTest {
         String expected = ", expected 1-100 printable characters naming who holds the key";
         assertEquals("got nothing" + expected, detail(admin.postJson("/v1/keys", "{\"role\":\"reader\"}")));
         assertEquals("got a blank label" + expected, detail(admin.postJson("/v1/keys", "{\"role\":\"reader\",\"label\":\"  \"}")));
-        assertEquals("got a label with a control character" + expected,
-                detail(admin.postJson("/v1/keys", "{\"role\":\"reader\",\"label\":\"a\\nINFO forged\"}")));
+        String unprintable = "got a label with a control, format or line-separator character" + expected;
+        assertEquals(unprintable, detail(admin.postJson("/v1/keys", "{\"role\":\"reader\",\"label\":\"a\\nINFO forged\"}")));
+        // Beyond ASCII's controls: a line separator, a C1 next-line and a right-to-left override (Unicode Zl, Cc, Cf).
+        for (String escape : new String[] {"\\u2028", "\\u0085", "\\u202e"}) {
+            assertEquals(unprintable, detail(admin.postJson("/v1/keys", "{\"role\":\"reader\",\"label\":\"a" + escape + "b\"}")));
+        }
         assertEquals("got 101 characters" + expected,
                 detail(admin.postJson("/v1/keys", "{\"role\":\"reader\",\"label\":\"" + "x".repeat(101) + "\"}")));
-        assertEquals("got \"NOT-AN-ID\", expected 16 lowercase hex digits (the part after bsk_)",
+        assertEquals("got 9 characters, expected 16 lowercase hex digits (the part after bsk_)",
                 detail(admin.post("/v1/keys/NOT-AN-ID/revoke", null, new byte[0])));
+        // A whole key pasted for its ID is described, never echoed: its secret would be in the answer.
+        String whole = "bsk_0123456789abcdef_" + "a".repeat(64);
+        TestServer.Reply pasted = admin.post("/v1/keys/" + whole + "/revoke", null, new byte[0]);
+        assertEquals("got a whole key, expected 16 lowercase hex digits (the part after bsk_)", detail(pasted));
+        assertEquals(false, pasted.body().contains("aaaaaaaa"), pasted.body());
         assertEquals("got \"RCX-*\", expected none: only gateway keys have a unit pattern (this key's role is reader)",
                 detail(admin.postJson("/v1/keys", "{\"role\":\"reader\",\"unitPattern\":\"RCX-*\",\"label\":\"x\"}")));
+    }
+
+    /** Two credentials are none: a proxy reading the other header would disagree about who called. */
+    @Test
+    void two_authorization_headers_are_refused_whichever_comes_first() {
+        AuthFixture.Key reader = AuthFixture.issue(server, "reader", null, "reader");
+        String adminHeader = "Bearer " + AuthFixture.ADMIN_KEY;
+        for (String[] order : new String[][] {{adminHeader, "Bearer " + reader.text()}, {"Bearer " + reader.text(), adminHeader}}) {
+            TestServer.Reply r = server.post("/v1/keys", "application/json",
+                    "{\"role\":\"reader\",\"label\":\"x\"}".getBytes(java.nio.charset.StandardCharsets.UTF_8),
+                    "Authorization", order[0], "Authorization", order[1]);
+            assertEquals(401, r.status(), r.body());
+        }
     }
 
     /** The one field error's detail of a 400. */
