@@ -43,9 +43,9 @@ final class Launcher {
                                       (BACKSTATE_DATABASE, default backstate.db; the PostgreSQL password
                                       from BACKSTATE_DATABASE_PASSWORD or BACKSTATE_DATABASE_PASSWORD_FILE)
               --workers N             jobs solved at once (BACKSTATE_WORKERS, default: number of cores)
-              --max-body-bytes N      request body limit after decompression (BACKSTATE_MAX_BODY_BYTES)
-              --max-queued N          queued jobs before trace posts get 503 (BACKSTATE_MAX_QUEUED)
-              --max-samples N         samples per trace (BACKSTATE_MAX_SAMPLES)
+              --max-body-bytes N      request body limit after decompression (BACKSTATE_MAX_BODY_BYTES, default 268435456)
+              --max-queued N          queued jobs before trace posts get 503 (BACKSTATE_MAX_QUEUED, default 10000)
+              --max-samples N         samples per trace (BACKSTATE_MAX_SAMPLES, default 2000000)
               --auth on|off           API keys on or off (BACKSTATE_AUTH, default on; demo: always off)
               --series-threads N      series re-solves at once (BACKSTATE_SERIES_THREADS, default 2)
               --series-queue N        series requests waiting before more get 503 (BACKSTATE_SERIES_QUEUE, default 8)
