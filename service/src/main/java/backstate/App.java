@@ -48,6 +48,8 @@ public final class App implements AutoCloseable {
     private final WorkerPool workers;
     private final ApiServer api;
     private final ProcessMeters processMeters;
+    /** Makes the first admin key at start when keys are on; null with access control off. */
+    private final FirstAdminKey firstAdminKey;
 
     public App(Settings settings, Clock clock) {
         Limits limits = new Limits(settings.maxSamples(), Limits.DEFAULTS.maxNameLength(), Limits.DEFAULTS.maxJsonDepth());
@@ -67,15 +69,7 @@ public final class App implements AutoCloseable {
                 WorkerPool.DEFAULT_SHUTDOWN_GRACE, WorkerPool.DEFAULT_STUCK_AFTER, claims);
         database.onJobsQueued(workers::wake);
         ApiKeys keys = new ApiKeys(database.keys(), clock, new SecureRandom());
-        if (settings.auth()) {
-            try {
-                new FirstAdminKey(database.keys(), keys).ensure(settings.adminKey());
-            } catch (RuntimeException e) {
-                database.close(); // a refused BACKSTATE_ADMIN_KEY stops the start; leave the file closed
-                processMeters.close();
-                throw e;
-            }
-        }
+        this.firstAdminKey = settings.auth() ? new FirstAdminKey(database.keys(), keys) : null;
         TraceIntake intake = new TraceIntake(database.traces(), database.models(), models, limits, mapper, clock,
                 settings.maxQueued(), workers::wake);
         this.api = new ApiServer(new ApiServer.Wiring(database, mapper, clock, registry, limits, settings.maxBodyBytes(),
@@ -84,11 +78,18 @@ public final class App implements AutoCloseable {
                 settings.readConcurrency());
     }
 
-    /** Starts the workers and the HTTP edge; if either fails (the port is taken, say), everything is closed again. */
+    /**
+     * Starts the workers and the HTTP edge, then makes sure an admin key exists; if any of it fails (the
+     * port is taken, a refused BACKSTATE_ADMIN_KEY), everything is closed again. The key comes last: a
+     * key generated and printed by a start that then failed would never be printed again.
+     */
     public App start(Settings settings) {
         try {
             workers.start();
             api.start(settings.host(), settings.port());
+            if (firstAdminKey != null) {
+                firstAdminKey.ensure(settings.adminKey());
+            }
         } catch (RuntimeException e) {
             close();
             throw e;

@@ -234,4 +234,21 @@ class StartErrorsTest {
                     line);
         }
     }
+
+    /** A key generated and printed by a start that then failed would never be printed again: none is made. */
+    @Test
+    void a_start_that_cannot_listen_makes_no_admin_key() throws Exception {
+        Path database = dir.resolve("keys.db");
+        try (ServerSocket taken = new ServerSocket(0, 1, InetAddress.getLoopbackAddress())) {
+            Run run = backstate("serve", "--auth", "on", "--host", "127.0.0.1", "--port",
+                    Integer.toString(taken.getLocalPort()), "--database", database.toString());
+            assertEquals(1, run.exit(), run.err());
+            assertFalse((run.out() + run.err()).contains("bsk_"), "no key printed: " + run.out() + run.err());
+        }
+        try (Connection c = DriverManager.getConnection("jdbc:sqlite:" + database);
+             Statement s = c.createStatement(); ResultSet rs = s.executeQuery("SELECT count(*) FROM api_keys")) {
+            assertTrue(rs.next());
+            assertEquals(0, rs.getInt(1), "no admin key stored by the failed start");
+        }
+    }
 }
