@@ -34,8 +34,10 @@ class SecretsNotLoggedTest {
     /** Bounds how long a broken child can hang the test; not a timing assertion. */
     static final long START_LIMIT_SECONDS = 120;
 
-    /** A label as JSON text: ASCII on the wire, a U+202E, U+2066 and U+0085 once read, ending in a backslash. */
+    /** A label as JSON text: ASCII on the wire, a U+202E, U+2066 and U+0085 once read: refused at issue. */
     static final String HOSTILE_LABEL_JSON = "night\\u202eshift\\u2066 \\u0085ops\\\\";
+    /** A printable label ending in a backslash, which the log writes doubled so no escape can be forged. */
+    static final String BACKSLASH_LABEL_JSON = "night shift ops\\\\";
 
     final HttpClient http = HttpClient.newHttpClient();
     final ObjectMapper json = new ObjectMapper();
@@ -71,9 +73,11 @@ class SecretsNotLoggedTest {
             assertEquals(201, issued.statusCode(), issued.body());
             gatewayKey = json.readTree(issued.body()).get("key").asText();
             gatewayId = json.readTree(issued.body()).get("id").asText();
-            // A label is printable but may hold a right-to-left override, an isolate and NEL (U+0085)
-            assertEquals(201, send(b, "POST", "/v1/keys", ADMIN_KEY, "application/json",
+            // A right-to-left override, an isolate and NEL (U+0085) in a label are refused; a backslash is kept
+            assertEquals(400, send(b, "POST", "/v1/keys", ADMIN_KEY, "application/json",
                     "{\"role\":\"reader\",\"label\":\"" + HOSTILE_LABEL_JSON + "\"}").statusCode());
+            assertEquals(201, send(b, "POST", "/v1/keys", ADMIN_KEY, "application/json",
+                    "{\"role\":\"reader\",\"label\":\"" + BACKSLASH_LABEL_JSON + "\"}").statusCode());
             assertEquals(403, send(b, "POST", "/v1/units/RCX-20123/traces?model=reefer-40&version=1", gatewayKey,
                     "text/csv", new String(AuthFixture.file(AuthFixture.TRACE_FILE), StandardCharsets.UTF_8)).statusCode());
             assertEquals(401, send(b, "GET", "/v1/models", "bsk_" + ADMIN_ID + "_" + wrongSecret, null, null).statusCode());
@@ -91,7 +95,7 @@ class SecretsNotLoggedTest {
         assertTrue(logged.contains("issued gateway key " + gatewayId), logged);
         assertTrue(logged.contains("denied POST /v1/units/RCX-20123/traces to gateway key " + gatewayId), logged);
         assertTrue(logged.contains("refused API key " + ADMIN_ID + ": wrong secret"), logged);
-        assertTrue(logged.contains("(label \"night\\u202eshift\\u2066 \\u0085ops\\\\\")"), logged);
+        assertTrue(logged.contains("(label \"night shift ops\\\\\")"), logged);
         for (char raw : new char[] {'\u202e', '\u2066', '\u0085'}) {
             assertEquals(-1, logged.indexOf(raw), "U+" + Integer.toHexString(raw) + " was printed raw");
         }
