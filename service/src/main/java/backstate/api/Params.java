@@ -1,6 +1,7 @@
 package backstate.api;
 
 import backstate.formats.FieldValues;
+import backstate.formats.RecordingTime;
 import backstate.store.TimeFilter;
 import io.javalin.http.Context;
 import java.time.Instant;
@@ -8,8 +9,8 @@ import java.time.format.DateTimeParseException;
 
 /** Reads and checks path and query parameters; a bad one is a 400 naming it. */
 final class Params {
-    /** Times outside these years cannot be stored as epoch milliseconds or are surely typos. */
-    static final Instant EARLIEST = Instant.parse("1970-01-01T00:00:00Z");
+    /** A filter's earliest time: the first a trace may hold (formats.RecordingTime), so every stored trace can be selected. */
+    static final Instant EARLIEST = Instant.parse("1700-01-01T00:00:00Z");
     static final Instant LATEST = Instant.parse("9999-12-31T23:59:59Z");
 
     private Params() {
@@ -79,7 +80,8 @@ final class Params {
             return null;
         }
         try {
-            Instant t = Instant.parse(v);
+            // The traces' own grammar: RFC 3339 with an offset, leap second 60 refused as in a trace.
+            Instant t = RecordingTime.parseInstant(v);
             if (t.isBefore(EARLIEST) || t.isAfter(LATEST)) {
                 throw ApiProblem.invalid(name, "got " + quoted(v) + ", expected a time between " + EARLIEST + " and " + LATEST);
             }

@@ -125,6 +125,26 @@ class RecordingTimeTest {
     }
 
     @Test
+    void filters_reach_every_year_a_trace_may_hold_and_read_times_as_traces_do() throws Exception {
+        // A recording dated 1950 (a trace may hold 1700 to 2199) is found by a filter around it.
+        String csv = new String(demoCsv(), StandardCharsets.UTF_8);
+        TestServer.Reply old = server.post("/v1/units/OLD-1/traces?model=reefer-40&version=1", "text/csv",
+                ("time since 1950-06-01T00:00:00Z" + csv.substring("time".length())).getBytes(StandardCharsets.UTF_8));
+        assertEquals(202, old.status(), old.body());
+        assertEquals("succeeded", server.awaitJob(old.json().get("jobId").asText()).get("state").asText());
+        assertEquals(List.of("1950-06-01T12:00:00Z"), field(get("/v1/units/OLD-1/estimates?from=1950-01-01T00:00:00Z"
+                + "&to=1951-01-01T00:00:00Z").get("items"), "windowStart"));
+        assertEquals(List.of("1950-06-01T12:00:00Z"), field(get("/v1/units/OLD-1/estimates?from=1950-06-01T14:00:00%2B02:00")
+                .get("items"), "windowStart"));
+        // Before 1700, a leap second, no offset: refused as they are in a trace.
+        for (String bad : new String[] {"1699-12-31T23:59:59Z", "1990-12-31T23:59:60Z", "2026-12-01T00:00:00"}) {
+            TestServer.Reply r = server.get("/v1/units/OLD-1/estimates?from=" + bad);
+            assertEquals(400, r.status(), bad + ": " + r.body());
+            assertEquals("from", r.json().get("errors").get(0).get("field").asText(), r.body());
+        }
+    }
+
+    @Test
     void a_regression_selects_and_runs_by_recording_time() throws Exception {
         JsonNode latest = run(Map.of("units", List.of(UNIT), "latestPerUnit", 1));
         assertEquals(List.of(traces[3]), comparedTraces(latest, "traceId"));
