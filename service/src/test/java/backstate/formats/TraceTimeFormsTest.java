@@ -115,6 +115,9 @@ class TraceTimeFormsTest {
     void a_reference_time_is_rfc_3339_or_a_number_on_the_traces_clock() {
         String body = "{\"start\":\"2026-12-01T00:00:00Z\",\"time\":[0,60]," + INPUTS + ",\"options\":{\"referenceTime\":%s}}";
         assertEquals(DEC_1_2026 + 30, read(String.format(body, "30")).options().referenceTime());
+        // Far beyond any window, added as a double (a long of microseconds would overflow and turn negative);
+        // the solver then refuses it as outside the window, in the right direction.
+        assertEquals(DEC_1_2026 + 1e20, read(String.format(body, "1e20")).options().referenceTime());
         assertEquals(DEC_1_2026 + 45, read(String.format(body, "\"2026-12-01T01:00:45+01:00\"")).options().referenceTime());
         ParsedTrace epoch = read("{\"time\":[1796083200,1796083260]," + INPUTS + ",\"options\":{\"referenceTime\":1796083230}}");
         assertEquals(DEC_1_2026 + 30, epoch.options().referenceTime());
