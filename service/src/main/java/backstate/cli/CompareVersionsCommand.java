@@ -215,14 +215,17 @@ public final class CompareVersionsCommand {
         return response;
     }
 
-    /** How long a busy answer asks to wait (its Retry-After in seconds, at most {@link #LONGEST_WAIT}); null for any other. */
+    /**
+     * How long a busy answer asks to wait: its Retry-After in seconds, at least 1 (a "0" would have the
+     * command ask again at once, over and over) and at most {@link #LONGEST_WAIT}; null for any other answer.
+     */
     static Duration busyFor(HttpResponse<?> response) {
         if (response.statusCode() != 503 && response.statusCode() != 429) {
             return null;
         }
         try {
             long seconds = Long.parseLong(response.headers().firstValue("Retry-After").orElse("").trim());
-            return seconds < 0 ? null : Duration.ofSeconds(Math.min(seconds, LONGEST_WAIT.toSeconds()));
+            return seconds < 0 ? null : Duration.ofSeconds(Math.max(1, Math.min(seconds, LONGEST_WAIT.toSeconds())));
         } catch (NumberFormatException none) {
             return null; // no delay asked (or an HTTP date, which this service never sends): not a call-back
         }

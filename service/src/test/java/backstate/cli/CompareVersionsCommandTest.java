@@ -174,6 +174,32 @@ class CompareVersionsCommandTest {
         }
     }
 
+    /** Retry-After read as asked, at least 1 s (0 would have the command ask again at once) and at most 10 s. */
+    @Test
+    void a_busy_answer_is_waited_out_between_1_and_10_seconds() {
+        assertEquals(java.time.Duration.ofSeconds(1), CompareVersionsCommand.busyFor(answer(503, "0")));
+        assertEquals(java.time.Duration.ofSeconds(5), CompareVersionsCommand.busyFor(answer(429, "5")));
+        assertEquals(java.time.Duration.ofSeconds(10), CompareVersionsCommand.busyFor(answer(503, "3600")));
+        assertEquals(null, CompareVersionsCommand.busyFor(answer(503, null)), "no Retry-After: not a call-back");
+        assertEquals(null, CompareVersionsCommand.busyFor(answer(500, "5")), "only 503 and 429 are busy answers");
+    }
+
+    /** An answer with only a status and, unless null, a Retry-After header. */
+    private static java.net.http.HttpResponse<String> answer(int status, String retryAfter) {
+        java.net.http.HttpHeaders headers = java.net.http.HttpHeaders.of(retryAfter == null ? java.util.Map.of()
+                : java.util.Map.of("Retry-After", List.of(retryAfter)), (name, value) -> true);
+        return new java.net.http.HttpResponse<>() {
+            public int statusCode() { return status; }
+            public java.net.http.HttpRequest request() { return null; }
+            public java.util.Optional<java.net.http.HttpResponse<String>> previousResponse() { return java.util.Optional.empty(); }
+            public java.net.http.HttpHeaders headers() { return headers; }
+            public String body() { return ""; }
+            public java.util.Optional<javax.net.ssl.SSLSession> sslSession() { return java.util.Optional.empty(); }
+            public java.net.URI uri() { return null; }
+            public java.net.http.HttpClient.Version version() { return java.net.http.HttpClient.Version.HTTP_1_1; }
+        };
+    }
+
     @Test
     void a_host_that_does_not_resolve_is_named_as_unknown() {
         // RFC 6761: names under .invalid never resolve.
