@@ -37,8 +37,9 @@ public final class DatabaseFile {
         if (!Files.isDirectory(folder)) {
             throw refused(path, folder + " is not a folder");
         }
-        if (hardLinks(path) > 1) {
-            throw refused(path, "the file has " + hardLinks(path) + " names (hard links): SQLite names its -wal and"
+        int names = hardLinks(path);
+        if (names > 1) {
+            throw refused(path, "the file has " + names + " names (hard links): SQLite names its -wal and"
                     + " -shm files after the name it was opened by, so two names can write one file through two"
                     + " journals and damage it; keep one name (a symbolic link is fine)");
         }

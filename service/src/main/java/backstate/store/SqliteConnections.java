@@ -9,6 +9,7 @@ import java.util.List;
 import java.util.concurrent.ArrayBlockingQueue;
 import java.util.concurrent.BlockingQueue;
 import java.util.concurrent.TimeUnit;
+import java.util.function.Supplier;
 import java.util.function.UnaryOperator;
 import org.sqlite.SQLiteConfig;
 import org.sqlite.SQLiteDataSource;
@@ -129,14 +130,7 @@ final class SqliteConnections implements Connections {
      */
     @Override
     public <T> T write(SqlWork<T> work) {
-        T result;
-        try {
-            result = writer.write(work);
-        } catch (StoreException e) {
-            throw damage.noted(e);
-        }
-        requireSameFile();
-        return result;
+        return committed(() -> writer.write(work));
     }
 
     /**
@@ -145,21 +139,25 @@ final class SqliteConnections implements Connections {
      */
     @Override
     public <T> T writeForWorker(SqlWork<T> work) {
+        return committed(() -> writer.writeForWorker(work));
+    }
+
+    /**
+     * A write through the writer, its damage noted, and checked once committed to have gone to the
+     * file the path still names: one committed to a file deleted or replaced is lost at the next
+     * start, so it is not acknowledged.
+     */
+    private <T> T committed(Supplier<T> write) {
         T result;
         try {
-            result = writer.writeForWorker(work);
+            result = write.get();
         } catch (StoreException e) {
             throw damage.noted(e);
         }
-        requireSameFile();
-        return result;
-    }
-
-    /** A write committed to a file no longer at the path is lost at the next start: not acknowledged. */
-    private void requireSameFile() {
         if (opened != null) {
             opened.requireSame();
         }
+        return result;
     }
 
     /** True while the path still names the file opened (or where that cannot be told). */

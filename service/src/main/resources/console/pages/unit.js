@@ -271,10 +271,10 @@ function trajectoryPlot(name, series, estimate) {
 function trendPlot(trend) {
   const points = trend.points.filter(p => p.estimate !== undefined);
   const x = points.map(p => Date.parse(p.windowStart) / 1000);
-  const flagged = points.filter(p => p.flags.length > 0).length;
-  const only = (keep, values) => points.map((p, k) => (keep(p) ? values[k] : null));
-  const clean = p => p.flags.length === 0;
   const dirty = p => p.flags.length > 0;
+  const clean = p => !dirty(p);
+  const flagged = points.filter(dirty).length;
+  const only = (keep, values) => points.map((p, k) => (keep(p) ? values[k] : null));
   const [estimate, lower, upper] = ['estimate', 'lower', 'upper'].map(key => points.map(p => p[key] ?? null));
   const lines = [{ label: trend.state, values: only(clean, estimate), style: 'points', whiskers: true,
     band: { lower: only(clean, lower), upper: only(clean, upper), label: '95 % interval' } }];

@@ -115,27 +115,13 @@ class CompareVersionsCommandTest {
     /** The run was started, so a server lost while following it leaves no verdict (3), not bad input (2). */
     @Test
     void a_server_lost_after_the_run_started_exits_3_with_the_runs_address() throws Exception {
-        com.sun.net.httpserver.HttpServer fake = com.sun.net.httpserver.HttpServer.create(
-                new java.net.InetSocketAddress("127.0.0.1", 0), 0);
-        fake.createContext("/v1/regressions", exchange -> {
-            boolean start = exchange.getRequestMethod().equals("POST");
-            byte[] body = (start ? "{\"id\":\"r-1\",\"family\":\"reefer-40\",\"baseline\":1,\"candidate\":2,"
-                    + "\"state\":\"queued\",\"progress\":{\"done\":0,\"total\":3}}"
-                    : "{\"type\":\"/problems/service-unavailable\",\"detail\":\"restarting\"}").getBytes(StandardCharsets.UTF_8);
-            exchange.sendResponseHeaders(start ? 202 : 503, body.length);
-            exchange.getResponseBody().write(body);
-            exchange.close();
-        });
-        fake.start();
-        try {
-            String base = "http://127.0.0.1:" + fake.getAddress().getPort();
-            CommandRun run = compareVersions("--server", base, "--family", "reefer-40", "--baseline", "1", "--candidate", "2");
-            assertEquals(CompareVersionsCommand.NO_VERDICT, run.exit(), run.err());
-            assertTrue(run.err().contains("the run goes on on the server; its verdict will be at " + base + "/v1/regressions/r-1"),
-                    run.err());
-        } finally {
-            fake.stop(0);
-        }
+        FakeRun fake = againstFake(post -> post
+                ? new Answer(202, "{\"id\":\"r-1\",\"family\":\"reefer-40\",\"baseline\":1,\"candidate\":2,"
+                        + "\"state\":\"queued\",\"progress\":{\"done\":0,\"total\":3}}", null)
+                : new Answer(503, "{\"type\":\"/problems/service-unavailable\",\"detail\":\"restarting\"}", null));
+        assertEquals(CompareVersionsCommand.NO_VERDICT, fake.run().exit(), fake.run().err());
+        assertTrue(fake.run().err().contains("the run goes on on the server; its verdict will be at " + fake.base()
+                + "/v1/regressions/r-1"), fake.run().err());
     }
 
     /** A busy server (503 with Retry-After, as the service's read admission and full queue answer) is waited out. */
@@ -143,32 +129,48 @@ class CompareVersionsCommandTest {
     void busy_answers_with_retry_after_are_waited_out_when_starting_and_following() throws Exception {
         java.util.concurrent.atomic.AtomicInteger posts = new java.util.concurrent.atomic.AtomicInteger();
         java.util.concurrent.atomic.AtomicInteger gets = new java.util.concurrent.atomic.AtomicInteger();
+        FakeRun fake = againstFake(post -> {
+            if ((post ? posts : gets).incrementAndGet() == 1) {
+                return new Answer(503, "{\"type\":\"/problems/busy\",\"detail\":\"busy\"}", "1");
+            }
+            return post ? new Answer(202, "{\"id\":\"r-1\",\"family\":\"reefer-40\",\"baseline\":1,\"candidate\":2,"
+                    + "\"state\":\"queued\",\"progress\":{\"done\":0,\"total\":1}}", null)
+                    : new Answer(200, "{\"id\":\"r-1\",\"state\":\"succeeded\",\"progress\":{\"done\":1,\"total\":1},"
+                    + "\"result\":{\"verdict\":{\"pass\":true,\"rule\":\"worse-share\",\"detail\":\"0 of 1 worse\"},"
+                    + "\"summary\":{\"compared\":1,\"better\":0,\"worse\":0,\"unchanged\":1,\"notCompared\":0},"
+                    + "\"statesComparable\":true,\"worseBeyondTolerance\":[]}}", null);
+        });
+        assertEquals(CompareVersionsCommand.PASS, fake.run().exit(), fake.run().err());
+        assertEquals(List.of(2, 2), List.of(posts.get(), gets.get()), "each busy answer asked once more");
+    }
+
+    /** What a fake server answers: its status, JSON body and, unless null, Retry-After. */
+    record Answer(int status, String json, String retryAfter) {
+    }
+
+    /** The command's run against a fake /v1/regressions, and the fake's address. */
+    record FakeRun(CommandRun run, String base) {
+    }
+
+    /** Runs compare-versions v1 against v2 on a loopback server answering as {@code answer} says (POST: true). */
+    private FakeRun againstFake(java.util.function.Function<Boolean, Answer> answer) throws java.io.IOException {
         com.sun.net.httpserver.HttpServer fake = com.sun.net.httpserver.HttpServer.create(
                 new java.net.InetSocketAddress("127.0.0.1", 0), 0);
         fake.createContext("/v1/regressions", exchange -> {
-            boolean start = exchange.getRequestMethod().equals("POST");
-            boolean busy = (start ? posts : gets).incrementAndGet() == 1;
-            String json = busy ? "{\"type\":\"/problems/busy\",\"detail\":\"busy\"}"
-                    : start ? "{\"id\":\"r-1\",\"family\":\"reefer-40\",\"baseline\":1,\"candidate\":2,"
-                    + "\"state\":\"queued\",\"progress\":{\"done\":0,\"total\":1}}"
-                    : "{\"id\":\"r-1\",\"state\":\"succeeded\",\"progress\":{\"done\":1,\"total\":1},\"result\":{"
-                    + "\"verdict\":{\"pass\":true,\"rule\":\"worse-share\",\"detail\":\"0 of 1 worse\"},\"summary\":{"
-                    + "\"compared\":1,\"better\":0,\"worse\":0,\"unchanged\":1,\"notCompared\":0},"
-                    + "\"statesComparable\":true,\"worseBeyondTolerance\":[]}}";
-            byte[] body = json.getBytes(StandardCharsets.UTF_8);
-            if (busy) {
-                exchange.getResponseHeaders().add("Retry-After", "1");
+            Answer a = answer.apply(exchange.getRequestMethod().equals("POST"));
+            byte[] body = a.json().getBytes(StandardCharsets.UTF_8);
+            if (a.retryAfter() != null) {
+                exchange.getResponseHeaders().add("Retry-After", a.retryAfter());
             }
-            exchange.sendResponseHeaders(busy ? 503 : start ? 202 : 200, body.length);
+            exchange.sendResponseHeaders(a.status(), body.length);
             exchange.getResponseBody().write(body);
             exchange.close();
         });
         fake.start();
         try {
             String base = "http://127.0.0.1:" + fake.getAddress().getPort();
-            CommandRun run = compareVersions("--server", base, "--family", "reefer-40", "--baseline", "1", "--candidate", "2");
-            assertEquals(CompareVersionsCommand.PASS, run.exit(), run.err());
-            assertEquals(List.of(2, 2), List.of(posts.get(), gets.get()), "each busy answer asked once more");
+            return new FakeRun(compareVersions("--server", base, "--family", "reefer-40", "--baseline", "1", "--candidate", "2"),
+                    base);
         } finally {
             fake.stop(0);
         }

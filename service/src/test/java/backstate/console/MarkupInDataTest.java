@@ -41,12 +41,8 @@ class MarkupInDataTest {
         server.postJson("/v1/models", Map.of("name", "odd", "description", "markup in a unit"));
         TestServer.Reply published = server.post("/v1/models/odd/versions", "application/json", json.writeValueAsBytes(model));
         assertEquals(201, published.status(), published.body());
-        byte[] csv = new ReeferTraces(TestServer.TEST_DATA).csv(360, 11);
-        String body = "time since " + Instant.parse("2026-11-28T06:00:00Z") + new String(csv).substring("time".length());
-        TestServer.Reply posted = server.post("/v1/units/" + UNIT_ID + "/traces?model=odd&version=1", "text/csv",
-                body.getBytes(java.nio.charset.StandardCharsets.UTF_8));
-        assertEquals(202, posted.status(), posted.body());
-        assertEquals("succeeded", server.awaitJob(posted.json().get("jobId").asText()).get("state").asText());
+        UnitPageTest.postTrace(server, UNIT_ID, "odd", new ReeferTraces(TestServer.TEST_DATA).csv(360, 11),
+                Instant.parse("2026-11-28T06:00:00Z"));
     }
 
     @AfterAll

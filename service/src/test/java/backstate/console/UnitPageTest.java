@@ -50,11 +50,7 @@ class UnitPageTest {
         postTrace(server, HEALTHY, traces.csv(360, 11), Instant.parse("2026-11-28T06:00:00Z"));
         postTrace(server, HEALTHY, traces.csv(360, 12), Instant.parse("2026-11-29T06:00:00Z"));
         publishWithoutSigma(server);
-        TestServer.Reply posted = server.post("/v1/units/" + NO_SIGMA + "/traces?model=" + NO_SIGMA_FAMILY + "&version=1",
-                "text/csv", ("time since 2026-11-29T06:00:00Z" + new String(traces.csv(360, 13), StandardCharsets.UTF_8)
-                        .substring("time".length())).getBytes(StandardCharsets.UTF_8));
-        assertEquals(202, posted.status(), posted.body());
-        assertEquals("succeeded", server.awaitJob(posted.json().get("jobId").asText()).get("state").asText());
+        postTrace(server, NO_SIGMA, NO_SIGMA_FAMILY, traces.csv(360, 13), Instant.parse("2026-11-29T06:00:00Z"));
     }
 
     /** The demo's v1 with no noise σ on its outputs, as family {@value #NO_SIGMA_FAMILY}. */
@@ -91,8 +87,13 @@ class UnitPageTest {
 
     /** Posts a reefer CSV trace whose clock starts at {@code start} under reefer-40 v1 and waits for its estimate. */
     static void postTrace(TestServer server, String unitId, byte[] csv, Instant start) throws Exception {
+        postTrace(server, unitId, "reefer-40", csv, start);
+    }
+
+    /** The same under version 1 of {@code family}. */
+    static void postTrace(TestServer server, String unitId, String family, byte[] csv, Instant start) throws Exception {
         String body = "time since " + start + new String(csv, StandardCharsets.UTF_8).substring("time".length());
-        TestServer.Reply posted = server.post("/v1/units/" + unitId + "/traces?model=reefer-40&version=1", "text/csv",
+        TestServer.Reply posted = server.post("/v1/units/" + unitId + "/traces?model=" + family + "&version=1", "text/csv",
                 body.getBytes(StandardCharsets.UTF_8));
         assertEquals(202, posted.status(), posted.body());
         assertEquals("succeeded", server.awaitJob(posted.json().get("jobId").asText()).get("state").asText());
